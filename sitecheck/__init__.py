@@ -1,0 +1,1 @@
+"""sitecheck: re-check masonry bearings as built."""

@@ -1,0 +1,812 @@
+"""The checks of one bearing. Each returns a :class:`Check` with its steps and clause."""
+
+from __future__ import annotations
+
+import math
+
+from .basis import CodeBasis
+from .geometry import Layout, Pressure, end_distances, spread_length
+from .inputs import ACROSS, IN_LINE, BearingInput
+from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check
+
+TAN60 = math.tan(math.radians(60.0))
+
+
+# ---------------------------------------------------------------- rules of the trade
+
+
+def min_bearing(inp: BearingInput, basis: CodeBasis) -> Check:
+    lintel = inp.beam.member == "lintel"
+    need = basis.min_bearing_lintel if lintel else basis.min_bearing_beam
+    have = inp.beam.bearing_length
+    what = "lintel end bearing" if lintel else "steel bearing"
+    step = Step(
+        f"Minimum {what}",
+        "l_b,min",
+        "rule of the trade",
+        (("l_b", have, "mm"),),
+        need,
+        "mm",
+        "common practice" if lintel else "NHBC Standards 6.5.5",
+        "CP" if lintel else "S",
+    )
+    return make_check(
+        "min-bearing",
+        f"Minimum {what}",
+        RULE,
+        need,
+        have,
+        "mm",
+        step.clause,
+        step.source,
+        [step],
+    )
+
+
+def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check]:
+    """A beam in line with the wall: flange no wider than t + 50, padstone at least 200
+    long, web over the wall's centre (NHBC Standards 6.5.5 [S]; the centring tolerance is
+    ours)."""
+    t = inp.wall.thickness
+    b = inp.beam.flange_width
+    limit = t + basis.inline_flange_allowance
+    out = [
+        make_check(
+            "inline-flange",
+            "Flange width of a beam in line with the wall",
+            RULE,
+            b,
+            limit,
+            "mm",
+            "NHBC Standards 6.5.5",
+            "S",
+            [
+                Step(
+                    "Widest flange on the wall",
+                    "b_max",
+                    "t + 50",
+                    (("t", t, "mm"), ("b_f", b, "mm")),
+                    limit,
+                    "mm",
+                    "NHBC Standards 6.5.5",
+                    "S",
+                )
+            ],
+        )
+    ]
+    if inp.padstone is not None:
+        need = basis.inline_padstone_min_length
+        out.append(
+            make_check(
+                "inline-padstone-length",
+                "Padstone length under a beam in line with the wall",
+                RULE,
+                need,
+                inp.padstone.length,
+                "mm",
+                "NHBC Standards 6.5.5",
+                "S",
+                [
+                    Step(
+                        "Shortest padstone",
+                        "L_min",
+                        "rule of the trade",
+                        (("L_p", inp.padstone.length, "mm"),),
+                        need,
+                        "mm",
+                        "NHBC Standards 6.5.5",
+                        "S",
+                    )
+                ],
+            )
+        )
+    off = abs(lay.eccentricity_across)
+    tol = basis.inline_web_tolerance
+    out.append(
+        make_check(
+            "inline-web-centre",
+            "Web over the wall's centre line",
+            RULE,
+            off,
+            tol,
+            "mm",
+            "NHBC Standards 6.5.5",
+            "S",
+            [
+                Step(
+                    "Web off the wall's centre line",
+                    "e_y",
+                    "|y_reaction − t/2|",
+                    (("tolerance", tol, "mm"),),
+                    off,
+                    "mm",
+                    "NHBC Standards 6.5.5 (tolerance ours)",
+                    "ours",
+                )
+            ],
+        )
+    )
+    return out
+
+
+# ---------------------------------------------------------------- concrete padstone
+
+
+def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeBasis) -> Check:
+    """Flange on the padstone: partially loaded area, EN 1992-1-1 6.7 eqn 6.63 [S].
+
+    F_Rdu = A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0, with A_c1 the largest area
+    similar to A_c0 and concentric with it that fits in the padstone, its sides no more
+    than 3 × and no more than the depth beyond A_c0's. A beam bearing from one face leaves
+    no room for a concentric enlargement, so F_Rdu = A_c0 · f_cd: we keep that honest
+    answer rather than relax the similarity rule.
+    """
+    b1 = lay.x1 - lay.x0
+    d1 = lay.y1 - lay.y0
+    a_c0 = b1 * d1
+    cx, cy = lay.reaction_x, lay.reaction_y
+    h = lay.depth
+    k_limits = (
+        basis.plb_limit_factor,
+        1 + h / b1,
+        1 + h / d1,
+        2 * min(cx, lay.length - cx) / b1,
+        2 * min(cy, lay.width - cy) / d1,
+    )
+    k = max(1.0, min(k_limits))
+    a_c1 = k * k * a_c0
+    fcd = st.f_cd
+    f_rdu = min(a_c0 * fcd * math.sqrt(a_c1 / a_c0), basis.plb_limit_factor * fcd * a_c0)
+    n = inp.load.reaction
+    steps = [
+        Step(
+            "Loaded area under the flange",
+            "A_c0",
+            "b_1 · d_1",
+            (("b_1", b1, "mm"), ("d_1", d1, "mm")),
+            a_c0,
+            "mm²",
+            "EN 1992-1-1 6.7(2)",
+            "S",
+        ),
+        Step(
+            "Scale of the largest similar, concentric area in the padstone",
+            "k",
+            "min(3, 1 + h/b_1, 1 + h/d_1, room along, room across), ≥ 1",
+            (("h", h, "mm"), ("room along", k_limits[3], ""), ("room across", k_limits[4], "")),
+            k,
+            "",
+            "EN 1992-1-1 6.7(3), Figure 6.29",
+            "S",
+        ),
+        Step(
+            "Largest distribution area",
+            "A_c1",
+            "k² · A_c0",
+            (("k", k, ""),),
+            a_c1,
+            "mm²",
+            "EN 1992-1-1 6.7(3)",
+            "S",
+        ),
+        Step(
+            "Resistance of the padstone under the flange",
+            "F_Rdu",
+            "A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0",
+            (("A_c0", a_c0, "mm²"), ("f_cd", fcd, "N/mm²"), ("A_c1", a_c1, "mm²")),
+            f_rdu,
+            "N",
+            "EN 1992-1-1 6.7 eqn 6.63",
+            "S",
+        ),
+    ]
+    notes = []
+    if k <= 1.0 + 1e-12:
+        notes.append(
+            "No concentric enlargement fits in the padstone (the flange bears from its edge), "
+            "so no enhancement is taken: F_Rdu = A_c0 · f_cd."
+        )
+    return make_check(
+        "padstone-bearing",
+        "Flange bearing on the concrete padstone",
+        STRENGTH,
+        n,
+        f_rdu,
+        "N",
+        "EN 1992-1-1 6.7",
+        "S",
+        steps,
+        notes,
+    )
+
+
+# ---------------------------------------------------------------- EC6
+
+
+def ec6_masonry_bearing(
+    inp: BearingInput,
+    lay: Layout,
+    pres: Pressure,
+    st: Strengths,
+    basis: CodeBasis,
+    steps: list[Step],
+    code: str = "masonry-bearing",
+    title: str = "Masonry under the concentrated load",
+    kind: str = STRENGTH,
+) -> tuple[Check, float, float | None, float | None]:
+    """EN 1996-1-1 6.1.3: σ under the load ≤ β · f_d (eqns 6.9–6.10) [P; details M].
+
+    β = (1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef), 1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5), with
+    A_b/A_ef not above 0.45 and A_ef = l_efm · t, l_efm spreading at 60° down to h_c/2.
+    β = 1.0 for Group 2–4 units or shell bedding. Through a stiff spreader (width t, depth
+    > 200 mm, length > 3 × the bearing length) σ ≤ 1.5 f_d instead. The peak of the linear
+    pressure is compared, so an end bearing is not averaged away.
+
+    Returns the check, l_efm and the effective end distances.
+    """
+    mas, wall = inp.masonry, inp.wall
+    t, h_c = wall.thickness, wall.height_to_bearing
+    e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
+    s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
+    l_efm = spread_length(pres.contact_length, e1, e2, s60)
+    a_b = pres.area
+    a_ef = l_efm * t
+    steps.append(
+        Step(
+            "Loaded area on the masonry",
+            "A_b",
+            "W · contact length",
+            (("W", pres.width, "mm"), ("contact", pres.contact_length, "mm")),
+            a_b,
+            "mm²",
+            "EN 1996-1-1 6.1.3",
+            "P",
+        )
+    )
+    steps.append(
+        Step(
+            "Effective length at mid-height of the wall below",
+            "l_efm",
+            "contact + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+            (("h_c", h_c, "mm"), ("a1", e1, "mm"), ("a2", e2, "mm")),
+            l_efm,
+            "mm",
+            "EN 1996-1-1 6.1.3, Figure 6.2",
+            "P",
+        )
+    )
+    notes: list[str] = []
+    near = min(x for x in (e1, e2) if x is not None) if (e1 is not None or e2 is not None) else None
+    enhanced = mas.group == 1 and not mas.shell_bedded
+    if enhanced:
+        ratio_raw = a_b / a_ef
+        ratio = min(ratio_raw, basis.beta_area_ratio_cap)
+        a1 = near if near is not None else h_c  # a wall running on both ways: a1/h_c ≥ 0.5
+        beta_raw = (1 + 0.3 * a1 / h_c) * (1.5 - 1.1 * ratio)
+        beta_max = min(1.25 + a1 / (2 * h_c), 1.5)
+        beta = min(max(beta_raw, 1.0), beta_max)
+        steps.append(
+            Step(
+                "Area ratio, capped",
+                "A_b/A_ef",
+                "min(A_b / (l_efm · t), 0.45)",
+                (("A_b", a_b, "mm²"), ("A_ef", a_ef, "mm²"), ("uncapped", ratio_raw, "")),
+                ratio,
+                "",
+                "EN 1996-1-1 6.1.3(3)",
+                "M",
+            )
+        )
+        steps.append(
+            Step(
+                "Enhancement factor for concentrated loads",
+                "β",
+                "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+                (("a1", a1, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+                beta_raw,
+                "",
+                "EN 1996-1-1 6.1.3 eqn 6.10",
+                "P",
+            )
+        )
+        steps.append(
+            Step(
+                "β within its limits",
+                "β",
+                "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+                (("upper", beta_max, ""),),
+                beta,
+                "",
+                "EN 1996-1-1 6.1.3(3)",
+                "M",
+            )
+        )
+        if near is None:
+            notes.append(
+                "The wall runs on both ways: a1 is taken large, so β reaches its upper limit when the area ratio allows."
+            )
+    else:
+        beta = 1.0
+        why = "shell-bedded" if mas.shell_bedded else f"Group {mas.group} units"
+        steps.append(
+            Step(f"No enhancement for {why}", "β", "1.0", (), 1.0, "", "EN 1996-1-1 6.1.3(2)", "M")
+        )
+    factor, route = beta, "β"
+    spreader = spreader_conditions(inp, basis)
+    if spreader is not None and (enhanced or basis.spreader_route_for_groups_2_to_4):
+        if basis.spreader_stress_factor > factor:
+            factor, route = basis.spreader_stress_factor, "spreader"
+            notes.append(f"The padstone is a spreader ({spreader}): σ ≤ 1.5 f_d applies.")
+    elif inp.padstone is not None:
+        notes.append(
+            "The padstone is not a spreader in the sense of EN 1996-1-1 6.1.3 (width t, depth > 200 mm, length > 3 × bearing), so the 1.5 f_d route does not apply."
+        )
+    cap = factor * st.f_d
+    steps.append(
+        Step(
+            "Design strength under the load",
+            "β · f_d" if route == "β" else "1.5 · f_d",
+            "β · f_d" if route == "β" else "1.5 f_d beneath a spreader",
+            (("factor", factor, ""), ("f_d", st.f_d, "N/mm²")),
+            cap,
+            "N/mm²",
+            "EN 1996-1-1 6.1.3",
+            "P",
+        )
+    )
+    steps.append(
+        Step(
+            "Resistance to the concentrated load if uniform",
+            "N_Rdc",
+            "factor · A_b · f_d",
+            (("A_b", a_b, "mm²"),),
+            cap * a_b,
+            "N",
+            "EN 1996-1-1 6.1.3 eqn 6.9",
+            "P",
+        )
+    )
+    check = make_check(
+        code, title, kind, pres.sigma_max, cap, "N/mm²", "EN 1996-1-1 6.1.3", "P", steps, notes
+    )
+    return check, l_efm, e1, e2
+
+
+def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
+    """The description of a padstone that counts as a spreader, or None."""
+    pad = inp.padstone
+    if pad is None:
+        return None
+    bearing_along = (
+        inp.beam.flange_width if inp.beam.orientation == ACROSS else inp.beam.bearing_length
+    )
+    if (
+        pad.width >= inp.wall.thickness - 0.5
+        and pad.depth > basis.spreader_min_depth
+        and pad.length > basis.spreader_length_factor * bearing_along
+    ):
+        return f"width t, depth {pad.depth:g} > {basis.spreader_min_depth:g} mm, length {pad.length:g} > {basis.spreader_length_factor:g} × {bearing_along:g} mm"
+    return None
+
+
+def ec6_eccentricity(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Check:
+    """Eccentricity of the load from the wall's centre line ≤ t/4, EN 1996-1-1 6.1.3 [M]."""
+    t = inp.wall.thickness
+    e = abs(lay.eccentricity_across)
+    limit = basis.max_eccentricity_ratio * t
+    step = Step(
+        "Eccentricity of the reaction from the wall's centre line",
+        "e",
+        "|y_reaction − t/2|",
+        (("t", t, "mm"), ("limit t/4", limit, "mm")),
+        e,
+        "mm",
+        "EN 1996-1-1 6.1.3(5)",
+        "M",
+    )
+    return make_check(
+        "eccentricity",
+        "Eccentricity across the wall",
+        STRENGTH,
+        e,
+        limit,
+        "mm",
+        "EN 1996-1-1 6.1.3",
+        "M",
+        [step],
+    )
+
+
+def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Check:
+    """On Group 2–4 units the load must bear on solid material (the padstone) as long as
+    the bearing plus a 60° spread to its base on each side; one side only at an end
+    bearing, EN 1996-1-1 6.1.3 [M]. Utilisation per side is (l/2 + needed)/(l/2 + room)."""
+    pad = inp.padstone
+    bearing = lay.x1 - lay.x0
+    if pad is None:
+        step = Step(
+            "Solid material under the bearing",
+            "L_solid",
+            "none: the beam sits on hollow units",
+            (),
+            0.0,
+            "mm",
+            "EN 1996-1-1 6.1.3",
+            "M",
+        )
+        return make_check(
+            "solid-material",
+            "Solid material under the load",
+            STRENGTH,
+            bearing,
+            0.0,
+            "mm",
+            "EN 1996-1-1 6.1.3",
+            "M",
+            [step],
+            ["Group 2–4 units: the load needs a padstone or other solid material to bear on."],
+        )
+    need = pad.depth / math.tan(math.radians(basis.masonry_spread_deg))
+    room_1, room_2 = lay.x0, lay.length - lay.x1
+    wall = inp.wall
+    sides = []
+    if not (wall.a1 is not None and wall.a1 <= 0.5):
+        sides.append(room_1)
+    if not (wall.a2 is not None and wall.a2 <= 0.5):
+        sides.append(room_2)
+    worst = min(sides) if sides else need
+    demand = bearing / 2 + need
+    capacity = bearing / 2 + worst
+    steps = [
+        Step(
+            "Spread needed on each side within the padstone",
+            "s_60",
+            "h_p / tan 60°",
+            (("h_p", pad.depth, "mm"),),
+            need,
+            "mm",
+            "EN 1996-1-1 6.1.3",
+            "M",
+        ),
+        Step(
+            "Least room beside the bearing (end-bearing side exempt)",
+            "s",
+            "min(x_0, L_p − x_1)",
+            (("x_0", room_1, "mm"), ("L_p − x_1", room_2, "mm")),
+            worst,
+            "mm",
+            "EN 1996-1-1 6.1.3",
+            "M",
+        ),
+    ]
+    return make_check(
+        "solid-material",
+        "Solid material under the load",
+        STRENGTH,
+        demand,
+        capacity,
+        "mm",
+        "EN 1996-1-1 6.1.3",
+        "M",
+        steps,
+    )
+
+
+def ec6_mid_height(
+    inp: BearingInput, lay: Layout, st: Strengths, l_efm: float, basis: CodeBasis
+) -> Check:
+    """At mid-height below the bearing: N_Ed/l_efm + other load ≤ Φ_m · t · f_d, EN 1996-1-1
+    6.1.2 with Φ_m from Annex G [M]: Φ_m = A1 e^(−u²/2), A1 = 1 − 2 e_mk/t,
+    u = (λ − 0.063)/(0.73 − 1.17 e_mk/t), λ = (h_ef/t_ef)·√(f_k/E), E = 1000 f_k.
+    e_mk defaults to max(0.05 t, |e|/2 + h_ef/450): half the top eccentricity at mid-height
+    of a pinned wall [CP] plus the initial eccentricity."""
+    wall = inp.wall
+    t = wall.thickness
+    h = wall.clear_height or wall.height_to_bearing
+    h_ef = wall.effective_height or h
+    t_ef = wall.effective_thickness or t
+    steps: list[Step] = []
+    if inp.e_mk is not None:
+        e_mk = float(inp.e_mk)
+        steps.append(
+            Step(
+                "Eccentricity at mid-height, as given",
+                "e_mk",
+                "declared",
+                (),
+                e_mk,
+                "mm",
+                "EN 1996-1-1 6.1.2.2",
+                "ours",
+            )
+        )
+    else:
+        e_init = h_ef / basis.e_init_divisor
+        e_mk = max(basis.e_mk_min_ratio * t, abs(lay.eccentricity_across) / 2 + e_init)
+        steps.append(
+            Step(
+                "Eccentricity at mid-height",
+                "e_mk",
+                "max(0.05 t, |e|/2 + h_ef/450)",
+                (("t", t, "mm"), ("e", lay.eccentricity_across, "mm"), ("h_ef", h_ef, "mm")),
+                e_mk,
+                "mm",
+                "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+                "M",
+            )
+        )
+    if inp.phi_m is not None:
+        phi = float(inp.phi_m)
+        steps.append(
+            Step(
+                "Capacity reduction factor, as given",
+                "Φ_m",
+                "declared",
+                (),
+                phi,
+                "",
+                "EN 1996-1-1 6.1.2.2",
+                "ours",
+            )
+        )
+    else:
+        lam = (h_ef / t_ef) * math.sqrt(1.0 / basis.k_E)
+        a1 = 1 - 2 * e_mk / t
+        u = max(0.0, (lam - 0.063) / (0.73 - 1.17 * e_mk / t))
+        phi = max(0.0, a1 * math.exp(-u * u / 2))
+        steps.append(
+            Step(
+                "Slenderness parameter",
+                "λ",
+                "(h_ef/t_ef) · √(f_k/E), E = 1000 f_k",
+                (("h_ef", h_ef, "mm"), ("t_ef", t_ef, "mm")),
+                lam,
+                "",
+                "EN 1996-1-1 Annex G",
+                "M",
+            )
+        )
+        steps.append(
+            Step(
+                "Capacity reduction factor at mid-height",
+                "Φ_m",
+                "A1 · e^(−u²/2)",
+                (("A1", a1, ""), ("u", u, "")),
+                phi,
+                "",
+                "EN 1996-1-1 Annex G eqn G.1",
+                "M",
+            )
+        )
+    n = inp.load.reaction
+    q = inp.load.wall_load
+    demand = n / l_efm + q
+    capacity = phi * t * st.f_d
+    steps.append(
+        Step(
+            "Load per length at mid-height",
+            "n_Ed",
+            "N_Ed / l_efm + other load",
+            (("N_Ed", n, "N"), ("l_efm", l_efm, "mm"), ("q", q, "N/mm")),
+            demand,
+            "N/mm",
+            "EN 1996-1-1 6.1.3(4)",
+            "P",
+        )
+    )
+    steps.append(
+        Step(
+            "Resistance per length at mid-height",
+            "n_Rd",
+            "Φ_m · t · f_d",
+            (("Φ_m", phi, ""), ("t", t, "mm"), ("f_d", st.f_d, "N/mm²")),
+            capacity,
+            "N/mm",
+            "EN 1996-1-1 6.1.2 eqn 6.2",
+            "P",
+        )
+    )
+    return make_check(
+        "mid-height",
+        "Wall at mid-height below the bearing",
+        STRENGTH,
+        demand,
+        capacity,
+        "N/mm",
+        "EN 1996-1-1 6.1.2",
+        "M",
+        steps,
+    )
+
+
+def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
+    wall = inp.wall
+    h = wall.clear_height or wall.height_to_bearing
+    h_ef = wall.effective_height or h
+    t_ef = wall.effective_thickness or wall.thickness
+    sr = h_ef / t_ef
+    clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1 clause 28"
+    step = Step(
+        "Slenderness ratio",
+        "h_ef/t_ef",
+        "h_ef / t_ef",
+        (("h_ef", h_ef, "mm"), ("t_ef", t_ef, "mm")),
+        sr,
+        "",
+        clause,
+        "M",
+    )
+    return make_check(
+        "slenderness",
+        "Slenderness of the wall",
+        RULE,
+        sr,
+        basis.slenderness_limit,
+        "",
+        clause,
+        "M",
+        [step],
+    )
+
+
+# ---------------------------------------------------------------- BS 5628-1
+
+
+def bs_masonry_bearing(
+    inp: BearingInput,
+    pres: Pressure,
+    st: Strengths,
+    basis: CodeBasis,
+    steps: list[Step],
+    code: str = "masonry-bearing",
+    title: str = "Local bearing on the masonry",
+    kind: str = STRENGTH,
+) -> Check:
+    """BS 5628-1 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing
+    types 1, 2 and 3 [P]. The type is the engineer's choice; the peak of the linear
+    pressure is compared (for type 3 that is the elastic distribution the clause asks for;
+    for types 1 and 2 it is the cautious reading where the load is off-centre [ours])."""
+    bt = inp.bearing_type
+    k = basis.bearing_type_factors[bt - 1]
+    cap = k * st.f_k / st.gamma_M
+    steps.append(
+        Step(
+            f"Local design bearing strength, type {bt}",
+            "k · f_k/γ_m",
+            "k · f_k / γ_m",
+            (("k", k, ""), ("f_k", st.f_k, "N/mm²"), ("γ_m", st.gamma_M, "")),
+            cap,
+            "N/mm²",
+            "BS 5628-1 clause 34",
+            "P",
+        )
+    )
+    return make_check(
+        code, title, kind, pres.sigma_max, cap, "N/mm²", "BS 5628-1 clause 34", "P", steps
+    )
+
+
+def bs_dispersion(
+    inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
+) -> tuple[Check, float]:
+    """At 0.4 h below the bearing, the load dispersed at 45° from the bearing's edges plus
+    the other load ≤ β · f_k/γ_m per length of wall, BS 5628-1 clause 34 [P]; β from
+    Annex B, β = 1.1(1 − 2 e_m/t), e_m = max(e_x, 0.6 e_x + e_a),
+    e_a = t[(1/2400)(h_ef/t_ef)² − 0.015] [M]."""
+    wall = inp.wall
+    t = wall.thickness
+    h = wall.clear_height or wall.height_to_bearing
+    h_ef = wall.effective_height or h
+    t_ef = wall.effective_thickness or t
+    depth = basis.dispersion_depth_ratio * h
+    e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
+    each = depth * math.tan(math.radians(basis.masonry_spread_deg))
+    l_d = spread_length(pres.contact_length, e1, e2, each)
+    steps = [
+        Step(
+            "Depth of the check below the bearing",
+            "0.4 h",
+            "0.4 · h",
+            (("h", h, "mm"),),
+            depth,
+            "mm",
+            "BS 5628-1 clause 34",
+            "P",
+        ),
+        Step(
+            "Length the load has spread over at that depth",
+            "l_d",
+            "contact + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
+            (("a1", e1, "mm"), ("a2", e2, "mm")),
+            l_d,
+            "mm",
+            "BS 5628-1 clause 34",
+            "P",
+        ),
+    ]
+    if inp.beta_s is not None:
+        beta = float(inp.beta_s)
+        steps.append(
+            Step(
+                "Capacity reduction factor, as given",
+                "β",
+                "declared",
+                (),
+                beta,
+                "",
+                "BS 5628-1 Table 7",
+                "ours",
+            )
+        )
+    else:
+        e_x = max(basis.bs_min_eccentricity_ratio * t, abs(lay.eccentricity_across))
+        sr = h_ef / t_ef
+        e_a = t * (sr * sr / 2400 - 0.015)
+        e_m = max(e_x, 0.6 * e_x + e_a)
+        beta = max(0.0, min(1.0, 1.1 * (1 - 2 * e_m / t)))
+        steps.append(
+            Step(
+                "Eccentricity at the top of the wall",
+                "e_x",
+                "max(0.05 t, |e|)",
+                (("t", t, "mm"), ("e", lay.eccentricity_across, "mm")),
+                e_x,
+                "mm",
+                "BS 5628-1 Annex B",
+                "M",
+            )
+        )
+        steps.append(
+            Step(
+                "Capacity reduction factor",
+                "β",
+                "1.1 (1 − 2 e_m/t) ≤ 1.0",
+                (("e_m", e_m, "mm"), ("e_a", e_a, "mm"), ("h_ef/t_ef", sr, "")),
+                beta,
+                "",
+                "BS 5628-1 Annex B",
+                "M",
+            )
+        )
+    n, q = inp.load.reaction, inp.load.wall_load
+    demand = n / l_d + q
+    capacity = beta * t * st.f_k / st.gamma_M
+    steps.append(
+        Step(
+            "Load per length at 0.4 h",
+            "n",
+            "N / l_d + other load",
+            (("N", n, "N"), ("l_d", l_d, "mm"), ("q", q, "N/mm")),
+            demand,
+            "N/mm",
+            "BS 5628-1 clause 34",
+            "P",
+        )
+    )
+    steps.append(
+        Step(
+            "Resistance per length",
+            "β t f_k/γ_m",
+            "β · t · f_k / γ_m",
+            (("β", beta, ""), ("t", t, "mm"), ("f_k", st.f_k, "N/mm²"), ("γ_m", st.gamma_M, "")),
+            capacity,
+            "N/mm",
+            "BS 5628-1 clause 32",
+            "P",
+        )
+    )
+    check = make_check(
+        "dispersion",
+        "Wall at 0.4 h below the bearing",
+        STRENGTH,
+        demand,
+        capacity,
+        "N/mm",
+        "BS 5628-1 clause 34",
+        "P",
+        steps,
+    )
+    return check, l_d
+
+
+ORIENTATION_TITLES = {ACROSS: "across the wall", IN_LINE: "in line with the wall"}

@@ -1,0 +1,140 @@
+"""For a bearing that fails: the smallest standard padstone that passes, and the shortest
+bearing length that passes. A hint for the engineer, never an instruction."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from itertools import permutations
+
+from .basis import CodeBasis
+from .errors import InputError
+from .geometry import layout
+from .inputs import ACROSS, BearingInput, Padstone
+from .recheck import check_bearing
+
+# Common precast padstone sizes, L × B × h in mm (merchant listings [P], [CP]).
+STANDARD_PADSTONES: tuple[tuple[float, float, float], ...] = (
+    (215.0, 140.0, 100.0),
+    (440.0, 215.0, 100.0),
+    (440.0, 215.0, 140.0),
+    (440.0, 215.0, 215.0),
+)
+STANDARD_CLASSES: tuple[str, ...] = ("C20/25", "C25/30", "C30/37", "C40/50")
+
+
+@dataclass(frozen=True, slots=True)
+class Remedy:
+    padstone: Padstone | None
+    padstone_utilisation: float | None
+    bearing_length: float | None
+    bearing_utilisation: float | None
+
+    def as_dict(self) -> dict:
+        pad = self.padstone
+        return {
+            "padstone": None
+            if pad is None
+            else {
+                "length": pad.length,
+                "width": pad.width,
+                "depth": pad.depth,
+                "concrete": pad.concrete,
+            },
+            "padstone_utilisation": self.padstone_utilisation,
+            "bearing_length": self.bearing_length,
+            "bearing_utilisation": self.bearing_utilisation,
+        }
+
+
+def remedy(
+    inp: BearingInput,
+    basis: CodeBasis,
+    sizes: tuple[tuple[float, float, float], ...] = STANDARD_PADSTONES,
+    classes: tuple[str, ...] = STANDARD_CLASSES,
+    step: float = 5.0,
+) -> Remedy:
+    pad, pad_u = smallest_padstone(inp, basis, sizes, classes)
+    length, length_u = shortest_bearing(inp, basis, step)
+    return Remedy(pad, pad_u, length, length_u)
+
+
+def _placements(inp: BearingInput, sizes) -> list[tuple[float, float, float]]:
+    """Each standard size in every way it can be laid whose width fits the wall and that
+    holds the beam's footprint; smallest volume first, then shallowest."""
+    t = inp.wall.thickness
+    beam = inp.beam
+    across = beam.orientation == ACROSS
+    foot_along = beam.flange_width if across else beam.bearing_length
+    foot_across = beam.bearing_length if across else beam.flange_width
+    seen = set()
+    for size in sizes:
+        for L, B, h in permutations(size):
+            if B > t or L < foot_along or B < foot_across or (L, B, h) in seen:
+                continue
+            seen.add((L, B, h))
+    return sorted(seen, key=lambda d: (d[0] * d[1] * d[2], d[2], d[0]))
+
+
+def _with_padstone(
+    inp: BearingInput, L: float, B: float, h: float, concrete: str
+) -> BearingInput | None:
+    """The bearing with a new padstone placed as the old one was: centred under a beam
+    across the wall, against the span end for a beam in line with it. None if it will not
+    fit between the wall's ends."""
+    wall = inp.wall
+    old = layout(inp)
+    if inp.beam.orientation == ACROSS:
+        grow = (L - old.length) / 2 + (old.length / 2 - (old.x0 + old.x1) / 2)
+        shrink_far = (L - old.length) - grow
+        a1 = None if wall.a1 is None else wall.a1 - grow
+        a2 = None if wall.a2 is None else wall.a2 - shrink_far
+        beam = replace(inp.beam, offset_along=None)
+    else:
+        a1 = (
+            wall.a1 if inp.padstone is not None else (None if wall.a1 is None else wall.a1 + old.x0)
+        )
+        a2 = None if wall.a2 is None else wall.a2 - (L - old.length)
+        beam = replace(inp.beam, offset_along=None)
+    if (a1 is not None and a1 < 0) or (a2 is not None and a2 < 0):
+        return None
+    pad = Padstone(length=L, width=B, depth=h, concrete=concrete)
+    return replace(inp, padstone=pad, beam=beam, wall=replace(wall, a1=a1, a2=a2))
+
+
+def smallest_padstone(inp, basis, sizes=STANDARD_PADSTONES, classes=STANDARD_CLASSES):
+    for L, B, h in _placements(inp, sizes):
+        for concrete in classes:
+            candidate = _with_padstone(inp, L, B, h, concrete)
+            if candidate is None:
+                continue
+            try:
+                result = check_bearing(candidate, basis)
+            except InputError:
+                continue
+            if result.passed:
+                return candidate.padstone, result.utilisation
+    return None, None
+
+
+def shortest_bearing(inp: BearingInput, basis: CodeBasis, step: float = 5.0):
+    """The shortest bearing, from the present one up in ``step`` mm, that passes."""
+    beam, pad = inp.beam, inp.padstone
+    if pad is not None:
+        room = pad.width if beam.orientation == ACROSS else pad.length
+    else:
+        room = inp.wall.thickness if beam.orientation == ACROSS else 1000.0
+    # A remedy lengthens the bearing: start from what is there (or the trade's minimum).
+    # Shorter bearings can pass only through a step in the rules (a padstone becoming a
+    # spreader once it is over 3 × the bearing long), which is no advice to give on site.
+    least = basis.min_bearing_lintel if beam.member == "lintel" else basis.min_bearing_beam
+    length = max(least, beam.bearing_length)
+    while length <= room + 1e-9:
+        candidate = replace(inp, beam=replace(beam, bearing_length=length))
+        try:
+            result = check_bearing(candidate, basis)
+        except InputError:
+            result = None
+        if result is not None and result.passed:
+            return length, result.utilisation
+        length += step
+    return None, None

@@ -1,0 +1,552 @@
+"""Compare what was built with what was designed, and say why the engineer must look.
+
+An inspector measures some values; the rest stay as designed. :func:`as_built_input`
+merges them, the re-check runs on the result, and :func:`review` lists the review
+reasons. Each reason has a stable code of ours, a severity (``blocks``: the bearing may not
+be closed up until the engineer decides; ``advisory``: shown, decides nothing), a plain
+sentence and the values that tripped it.
+
+Thresholds and tolerances are site settings with defaults of ours, not code values.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields, replace
+
+from .basis import BS5628, CodeBasis
+from .checks import spreader_conditions
+from .inputs import BearingInput, Masonry, Padstone
+from .trace import INFORMATIVE, BearingResult
+
+BLOCKS = "blocks"
+ADVISORY = "advisory"
+
+
+@dataclass(frozen=True, slots=True)
+class Measurements:
+    """What the inspector measured on site; ``None`` means not measured (design kept).
+
+    Lengths in mm, strengths in N/mm². ``padstone_present`` False records that there is
+    no padstone at all.
+    """
+
+    bearing_length: float | None = None
+    flange_width: float | None = None
+    offset_along: float | None = None
+    offset_across: float | None = None
+    padstone_present: bool | None = None
+    padstone_length: float | None = None
+    padstone_width: float | None = None
+    padstone_depth: float | None = None
+    padstone_concrete: str | None = None
+    wall_thickness: float | None = None
+    a1: float | None = None
+    a2: float | None = None
+    masonry_material: str | None = None
+    masonry_group: int | None = None
+    unit_strength: float | None = None
+    mortar: str | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Checklist:
+    """How the bearing was built. ``None`` means not looked at."""
+
+    bedded: bool | None = None  # padstone fully bedded on mortar
+    packing: float | None = None  # thickness of packing under the beam, mm (0 = none)
+    cracks: bool | None = None  # cracks in the masonry near the bearing
+    cut_units: bool | None = None  # cut or hollow units under the padstone
+    level: bool | None = None  # padstone level
+
+
+@dataclass(frozen=True, slots=True)
+class ReviewSettings:
+    """A site's review thresholds and tolerances (defaults ours unless labelled)."""
+
+    threshold: float = 0.90  # utilisation above which the engineer looks
+    rise_margin: float = 0.10  # allowed rise of utilisation over the design's
+    tol_bearing_length: float = 10.0
+    tol_flange_width: float = 5.0
+    tol_padstone: float = 10.0
+    tol_wall_thickness: float = 5.0  # ±5 mm or ±5 %, EN 1996-2 [M]
+    tol_wall_thickness_ratio: float = 0.05
+    tol_end_distance: float = 25.0
+    tol_position: float = 15.0
+    max_packing: float = 10.0
+    required: tuple[str, ...] = (
+        "bearing_length",
+        "padstone_present",
+        "wall_thickness",
+        "masonry_group",
+    )
+    required_with_padstone: tuple[str, ...] = (
+        "padstone_length",
+        "padstone_width",
+        "padstone_depth",
+    )
+
+    def as_dict(self) -> dict:
+        out = {f.name: getattr(self, f.name) for f in fields(self)}
+        out["required"] = list(self.required)
+        out["required_with_padstone"] = list(self.required_with_padstone)
+        return out
+
+
+def settings_from_dict(data: dict) -> ReviewSettings:
+    known = {f.name for f in fields(ReviewSettings)}
+    clean = {}
+    for key, value in data.items():
+        if key not in known:
+            from .errors import InputError
+
+            raise InputError(f"review.{key}", value, "a known review setting", "unknown-field")
+        clean[key] = tuple(value) if key.startswith("required") else float(value)
+    return ReviewSettings(**clean)
+
+
+@dataclass(frozen=True, slots=True)
+class ReviewReason:
+    code: str
+    severity: str
+    sentence: str
+    values: tuple[tuple[str, object], ...] = ()
+
+    def as_dict(self) -> dict:
+        return {
+            "code": self.code,
+            "severity": self.severity,
+            "sentence": self.sentence,
+            "values": {k: v for k, v in self.values},
+        }
+
+
+def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
+    """The design with every measured value put in its place."""
+    beam = design.beam
+    beam_changes = {}
+    for name in ("bearing_length", "flange_width", "offset_along", "offset_across"):
+        value = getattr(m, name)
+        if value is not None:
+            beam_changes[name] = value
+    if beam_changes:
+        beam = replace(beam, **beam_changes)
+
+    pad = design.padstone
+    if m.padstone_present is False:
+        pad = None
+    elif m.padstone_present or any(
+        v is not None for v in (m.padstone_length, m.padstone_width, m.padstone_depth)
+    ):
+        base = pad or Padstone(length=0.0, width=0.0, depth=0.0)
+        pad = Padstone(
+            length=_pick(m.padstone_length, base.length),
+            width=_pick(m.padstone_width, base.width),
+            depth=_pick(m.padstone_depth, base.depth),
+            concrete=m.padstone_concrete or base.concrete,
+            f_ck=None if m.padstone_concrete else base.f_ck,
+            precast=base.precast,
+        )
+    elif m.padstone_concrete and pad is not None:
+        pad = replace(pad, concrete=m.padstone_concrete, f_ck=None)
+
+    wall = design.wall
+    wall_changes = {}
+    if m.wall_thickness is not None:
+        wall_changes["thickness"] = m.wall_thickness
+        if wall.effective_thickness is not None:
+            # A measured leaf replaces the designed one; t_ef follows it in proportion.
+            wall_changes["effective_thickness"] = (
+                wall.effective_thickness * m.wall_thickness / wall.thickness
+            )
+    if m.a1 is not None:
+        wall_changes["a1"] = m.a1
+    if m.a2 is not None:
+        wall_changes["a2"] = m.a2
+    if wall_changes:
+        wall = replace(wall, **wall_changes)
+
+    mas = design.masonry
+    mas_changes = {}
+    if m.masonry_material is not None:
+        mas_changes["material"] = m.masonry_material
+    if m.masonry_group is not None:
+        mas_changes["group"] = m.masonry_group
+    if m.mortar is not None:
+        mas_changes["mortar"] = m.mortar
+    if m.unit_strength is not None:
+        mas_changes["unit_strength"] = m.unit_strength
+    if mas_changes:
+        # A declared f_k stays: it cannot be worked out again from what is seen on site.
+        # The review says so when the units differ (masonry-unverified).
+        mas = replace(mas, **mas_changes)
+    return replace(design, beam=beam, padstone=pad, wall=wall, masonry=mas)
+
+
+def _pick(measured: float | None, designed: float) -> float:
+    return designed if measured is None else measured
+
+
+def missing_measurements(design: BearingInput, m: Measurements, s: ReviewSettings) -> list[str]:
+    names = list(s.required)
+    has_pad = m.padstone_present if m.padstone_present is not None else design.padstone is not None
+    if has_pad:
+        names += list(s.required_with_padstone)
+    if design.wall.a1 is not None:
+        names.append("a1")
+    return [n for n in names if getattr(m, n) is None]
+
+
+# Measured field → (label, slug, +1 if a larger value is kinder to the bearing).
+_DIMENSIONS = (
+    ("bearing_length", "Bearing length", "bearing-length", 1),
+    ("flange_width", "Flange width", "flange-width", 1),
+    ("padstone_length", "Padstone length", "padstone-length", 1),
+    ("padstone_width", "Padstone width", "padstone-width", 1),
+    ("padstone_depth", "Padstone depth", "padstone-depth", 1),
+    ("wall_thickness", "Wall thickness", "wall-thickness", 1),
+    ("a1", "Distance to the wall's end (a1)", "end-distance", 1),
+    ("a2", "Distance to the wall's other end (a2)", "far-end-distance", 1),
+)
+
+FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
+    "padstone_present": "Padstone present",
+    "masonry_group": "Unit group",
+    "masonry_material": "Unit material",
+    "mortar": "Mortar class",
+    "unit_strength": "Unit strength",
+}
+
+
+def review(
+    design: BearingInput,
+    design_result: BearingResult,
+    m: Measurements,
+    checklist: Checklist,
+    as_built: BearingInput,
+    result: BearingResult,
+    basis: CodeBasis,
+    s: ReviewSettings = ReviewSettings(),
+) -> tuple[ReviewReason, ...]:
+    """Every reason the engineer should see this as-built record, most serious first."""
+    out: list[ReviewReason] = []
+
+    missing = missing_measurements(design, m, s)
+    if missing:
+        labels = ", ".join(FIELD_LABELS.get(n, n).lower() for n in missing)
+        out.append(
+            ReviewReason(
+                "not-measured", BLOCKS, f"Not measured: {labels}.", (("fields", tuple(missing)),)
+            )
+        )
+
+    for c in result.checks:
+        if c.kind != INFORMATIVE and not c.passed:
+            out.append(
+                ReviewReason(
+                    "check-fails",
+                    BLOCKS,
+                    f"{c.title} fails as built (utilisation {_fmt_util(c.utilisation)}).",
+                    (("check", c.code), ("utilisation", c.utilisation)),
+                )
+            )
+    if result.passed and result.utilisation > s.threshold:
+        out.append(
+            ReviewReason(
+                "above-threshold",
+                BLOCKS,
+                f"Utilisation {result.utilisation:.2f} is above the site's review threshold {s.threshold:.2f}.",
+                (("utilisation", result.utilisation), ("threshold", s.threshold)),
+            )
+        )
+    rise = result.utilisation - design_result.utilisation
+    if rise > s.rise_margin:
+        out.append(
+            ReviewReason(
+                "utilisation-rise",
+                BLOCKS,
+                f"Utilisation rose from {design_result.utilisation:.2f} as designed to "
+                f"{_fmt_util(result.utilisation)} as built, more than the allowed {s.rise_margin:.2f}.",
+                (
+                    ("design", design_result.utilisation),
+                    ("as_built", result.utilisation),
+                    ("margin", s.rise_margin),
+                ),
+            )
+        )
+
+    if design.padstone is not None and as_built.padstone is None:
+        out.append(
+            ReviewReason(
+                "padstone-missing",
+                BLOCKS,
+                "The designed padstone is not there: the beam bears directly on the masonry.",
+                (),
+            )
+        )
+    elif design.padstone is None and as_built.padstone is not None:
+        out.append(
+            ReviewReason(
+                "padstone-added", ADVISORY, "A padstone was built where none was designed.", ()
+            )
+        )
+
+    if design.masonry.group == 1 and as_built.masonry.group > 1:
+        out.append(
+            ReviewReason(
+                "hollow-units",
+                BLOCKS,
+                f"Group {as_built.masonry.group} units were built where Group 1 was designed: "
+                "the enhancement β no longer applies and the load needs solid material to bear on.",
+                (("design_group", 1), ("as_built_group", as_built.masonry.group)),
+            )
+        )
+    out.extend(_spreader_lost(design, as_built, basis))
+    out.extend(_dimension_reasons(design, as_built, s))
+    out.extend(_position_reasons(design_result, result, s))
+    out.extend(_material_reasons(design, design_result, as_built, result))
+    out.extend(_checklist_reasons(checklist, s))
+    out.extend(_bearing_type_reasons(design, as_built, design_result, s))
+    out.sort(key=lambda r: 0 if r.severity == BLOCKS else 1)
+    return tuple(out)
+
+
+def _fmt_util(u: float) -> str:
+    return "unbounded" if u == float("inf") else f"{u:.2f}"
+
+
+def _spreader_lost(
+    design: BearingInput, as_built: BearingInput, basis: CodeBasis
+) -> list[ReviewReason]:
+    if spreader_conditions(design, basis) and not spreader_conditions(as_built, basis):
+        return [
+            ReviewReason(
+                "spreader-lost",
+                BLOCKS,
+                "The design's padstone counted as a spreader (1.5 f_d); as built it is too "
+                "shallow, too short or narrower than the wall to count as one.",
+                (),
+            )
+        ]
+    return []
+
+
+def _dimension_reasons(
+    design: BearingInput, as_built: BearingInput, s: ReviewSettings
+) -> list[ReviewReason]:
+    out = []
+    pairs = _dimension_pairs(design, as_built)
+    for name, label, slug, kinder in _DIMENSIONS:
+        if name not in pairs:
+            continue
+        d, a = pairs[name]
+        if d is None or a is None:
+            continue
+        tol = _tolerance(name, d, s)
+        diff = a - d
+        if abs(diff) <= tol + 1e-9:
+            continue
+        worse = diff * kinder < 0
+        word = "shorter" if diff < 0 else "longer"
+        if name in ("wall_thickness", "padstone_width", "flange_width"):
+            word = "narrower" if diff < 0 else "wider"
+        if name == "padstone_depth":
+            word = "shallower" if diff < 0 else "deeper"
+        out.append(
+            ReviewReason(
+                f"{slug}-off",
+                BLOCKS if worse else ADVISORY,
+                f"{label} is {a:g} mm as built against {d:g} mm designed ({abs(diff):g} mm {word}; tolerance {tol:g} mm).",
+                (("design", d), ("as_built", a), ("tolerance", tol)),
+            )
+        )
+    return out
+
+
+def _dimension_pairs(design: BearingInput, as_built: BearingInput) -> dict:
+    dp, ap = design.padstone, as_built.padstone
+    pairs = {
+        "bearing_length": (design.beam.bearing_length, as_built.beam.bearing_length),
+        "flange_width": (design.beam.flange_width, as_built.beam.flange_width),
+        "wall_thickness": (design.wall.thickness, as_built.wall.thickness),
+        "a1": (design.wall.a1, as_built.wall.a1),
+        "a2": (design.wall.a2, as_built.wall.a2),
+    }
+    if dp is not None and ap is not None:
+        pairs["padstone_length"] = (dp.length, ap.length)
+        pairs["padstone_width"] = (dp.width, ap.width)
+        pairs["padstone_depth"] = (dp.depth, ap.depth)
+    return pairs
+
+
+def _tolerance(name: str, designed: float, s: ReviewSettings) -> float:
+    if name == "bearing_length":
+        return s.tol_bearing_length
+    if name == "flange_width":
+        return s.tol_flange_width
+    if name.startswith("padstone"):
+        return s.tol_padstone
+    if name == "wall_thickness":
+        return max(s.tol_wall_thickness, s.tol_wall_thickness_ratio * designed)
+    return s.tol_end_distance
+
+
+def _position_reasons(
+    design_result: BearingResult, result: BearingResult, s: ReviewSettings
+) -> list[ReviewReason]:
+    """The reaction's position: along the support from its centre, across from the wall's
+    centre line. Moving away from the centre beyond tolerance blocks; towards it advises."""
+    out = []
+    d, a = design_result.spread, result.spread
+    along_d = d.reaction_x - d.support_length / 2
+    along_a = a.reaction_x - a.support_length / 2
+    for slug, label, dv, av in (
+        ("position-along", "The beam's position along the padstone", along_d, along_a),
+        (
+            "position-across",
+            "The beam's position across the wall",
+            d.eccentricity_across,
+            a.eccentricity_across,
+        ),
+    ):
+        if abs(av - dv) <= s.tol_position + 1e-9:
+            continue
+        worse = abs(av) > abs(dv)
+        out.append(
+            ReviewReason(
+                f"{slug}-off",
+                BLOCKS if worse else ADVISORY,
+                f"{label} is {av:+.0f} mm from the centre as built against {dv:+.0f} mm designed "
+                f"(tolerance {s.tol_position:g} mm).",
+                (("design", dv), ("as_built", av), ("tolerance", s.tol_position)),
+            )
+        )
+    return out
+
+
+def _describe(m: Masonry) -> str:
+    strength = f" {m.unit_strength:g} N/mm²" if m.unit_strength is not None else ""
+    return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar"
+
+
+def _material_reasons(design, design_result, as_built, result) -> list[ReviewReason]:
+    out = []
+    dm, am = design.masonry, as_built.masonry
+    changed = (dm.material, dm.group, dm.unit_strength, dm.mortar) != (
+        am.material,
+        am.group,
+        am.unit_strength,
+        am.mortar,
+    )
+    dfk, afk = design_result.strengths.f_k, result.strengths.f_k
+    dfd, afd = design_result.strengths.f_d, result.strengths.f_d
+    if afd < dfd * (1 - 1e-9):
+        out.append(
+            ReviewReason(
+                "masonry-weaker",
+                BLOCKS,
+                f"The masonry is weaker than designed: {_describe(am)} (f_k {afk:.2f} N/mm²) "
+                f"against {_describe(dm)} (f_k {dfk:.2f} N/mm²).",
+                (("design_f_k", dfk), ("as_built_f_k", afk)),
+            )
+        )
+    elif changed and dm.f_k is not None:
+        out.append(
+            ReviewReason(
+                "masonry-unverified",
+                BLOCKS,
+                f"The masonry differs from the design ({_describe(am)} against {_describe(dm)}), "
+                f"whose f_k of {dfk:.2f} N/mm² was declared: the re-check keeps it, so confirm it holds.",
+                (("design_f_k", dfk),),
+            )
+        )
+    elif changed:
+        out.append(
+            ReviewReason(
+                "masonry-changed",
+                ADVISORY,
+                f"The masonry differs from the design but is no weaker: {_describe(am)} against {_describe(dm)}.",
+                (("design_f_k", dfk), ("as_built_f_k", afk)),
+            )
+        )
+    dc, ac = design_result.strengths.f_cd, result.strengths.f_cd
+    if dc is not None and ac is not None and ac < dc * (1 - 1e-9):
+        out.append(
+            ReviewReason(
+                "concrete-weaker",
+                BLOCKS,
+                f"The padstone concrete is weaker than designed (f_cd {ac:.1f} against {dc:.1f} N/mm²).",
+                (("design_f_cd", dc), ("as_built_f_cd", ac)),
+            )
+        )
+    return out
+
+
+def _checklist_reasons(c: Checklist, s: ReviewSettings) -> list[ReviewReason]:
+    out = []
+    if c.bedded is False:
+        out.append(
+            ReviewReason("not-bedded", BLOCKS, "The padstone is not fully bedded on mortar.", ())
+        )
+    if c.packing is not None and c.packing > s.max_packing:
+        out.append(
+            ReviewReason(
+                "packing-thick",
+                BLOCKS,
+                f"Packing under the beam is {c.packing:g} mm thick; more than {s.max_packing:g} mm needs the engineer.",
+                (("packing", c.packing), ("limit", s.max_packing)),
+            )
+        )
+    if c.cracks is True:
+        out.append(
+            ReviewReason("cracks", BLOCKS, "There are cracks in the masonry near the bearing.", ())
+        )
+    if c.cut_units is True:
+        out.append(
+            ReviewReason(
+                "cut-units", BLOCKS, "There are cut or hollow units under the padstone.", ()
+            )
+        )
+    if c.level is False:
+        out.append(ReviewReason("not-level", BLOCKS, "The padstone is not level.", ()))
+    return out
+
+
+def _bearing_type_reasons(design, as_built, design_result, s) -> list[ReviewReason]:
+    """BS 5628-1 bearing types 2 and 3 rest on the geometry of the bearing (its end
+    distance, length and spreader). When that geometry changes beyond tolerance the type
+    chosen at design may no longer hold; the engineer must confirm it."""
+    if design_result.basis != BS5628 or design.bearing_type == 1:
+        return []
+    changed = []
+    if (design.padstone is None) != (as_built.padstone is None):
+        changed.append("padstone")
+    if abs(design.beam.bearing_length - as_built.beam.bearing_length) > s.tol_bearing_length:
+        changed.append("bearing length")
+    if (design.wall.a1 is None) != (as_built.wall.a1 is None) or (
+        design.wall.a1 is not None and abs(design.wall.a1 - as_built.wall.a1) > s.tol_end_distance
+    ):
+        changed.append("end distance")
+    if (
+        design.padstone is not None
+        and as_built.padstone is not None
+        and (
+            abs(design.padstone.length - as_built.padstone.length) > s.tol_padstone
+            or abs(design.padstone.depth - as_built.padstone.depth) > s.tol_padstone
+        )
+    ):
+        changed.append("padstone size")
+    if not changed:
+        return []
+    return [
+        ReviewReason(
+            "bearing-type-basis",
+            BLOCKS,
+            f"Bearing type {design.bearing_type} was chosen for the designed geometry; the "
+            f"{', '.join(changed)} changed, so confirm the type still applies.",
+            (("bearing_type", design.bearing_type), ("changed", tuple(changed))),
+        )
+    ]
+
+
+def blocking(reasons: tuple[ReviewReason, ...]) -> int:
+    return sum(1 for r in reasons if r.severity == BLOCKS)

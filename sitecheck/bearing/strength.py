@@ -1,0 +1,359 @@
+"""Material strengths: masonry f_k, f_d and the concrete padstone's f_cd.
+
+One function per equation, named after its symbol. Units: N/mm² and mm.
+"""
+
+from __future__ import annotations
+
+from .basis import BS_FK_TABLE, BS_UNIT_STRENGTHS, MORTAR_DESIGNATION, MORTAR_STRENGTH, CodeBasis
+from .errors import InputError
+from .inputs import Masonry, Padstone
+from .trace import Step, Strengths
+from .validate import concrete_class_fck
+
+# EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
+# (columns), for normalising a declared mean strength [M]; None where the table is blank.
+# The methods note confirms δ = 0.85 for a 65 mm high unit about 100 mm wide [S].
+DELTA_WIDTHS = (50.0, 100.0, 150.0, 200.0, 250.0)
+DELTA_TABLE = (
+    (40.0, (0.80, 0.70, None, None, None)),
+    (50.0, (0.85, 0.75, 0.70, None, None)),
+    (65.0, (0.95, 0.85, 0.75, 0.70, 0.65)),
+    (100.0, (1.15, 1.00, 0.90, 0.80, 0.75)),
+    (150.0, (1.30, 1.20, 1.10, 1.00, 0.95)),
+    (200.0, (1.45, 1.35, 1.25, 1.15, 1.10)),
+    (250.0, (1.55, 1.45, 1.35, 1.25, 1.15)),
+)
+CONDITIONING_FACTOR = {"air-dried": 1.0, "water-soaked": 1.2}
+
+
+def delta(unit_height: float, unit_width: float) -> float:
+    """Shape factor δ, EN 772-1 Annex A Table A.1, interpolated linearly in both
+    directions [M]. Beyond the last row or column the last value holds (the table's
+    '≥ 250' edges); below the first, or into a blank cell, there is no value and we refuse.
+    """
+    h = min(unit_height, DELTA_TABLE[-1][0])
+    w = min(unit_width, DELTA_WIDTHS[-1])
+    if h < DELTA_TABLE[0][0] or w < DELTA_WIDTHS[0]:
+        raise InputError(
+            "masonry.unit_height",
+            unit_height,
+            "a unit at least 40 mm high and 50 mm wide for EN 772-1 Table A.1; "
+            "otherwise give the normalised strength f_b",
+            "not-covered",
+        )
+    i = _bracket([r[0] for r in DELTA_TABLE], h)
+    j = _bracket(list(DELTA_WIDTHS), w)
+    h0, row0 = DELTA_TABLE[i]
+    h1, row1 = DELTA_TABLE[i + 1]
+    w0, w1 = DELTA_WIDTHS[j], DELTA_WIDTHS[j + 1]
+    cells = (row0[j], row0[j + 1], row1[j], row1[j + 1])
+    if any(c is None for c in cells):
+        raise InputError(
+            "masonry.unit_width",
+            unit_width,
+            f"a unit size inside EN 772-1 Table A.1 (a {unit_height:g} mm high unit that is "
+            f"{unit_width:g} mm wide falls in a blank cell); give the normalised strength f_b",
+            "not-covered",
+        )
+    fh = (h - h0) / (h1 - h0)
+    fw = (w - w0) / (w1 - w0)
+    low = cells[0] + (cells[1] - cells[0]) * fw
+    high = cells[2] + (cells[3] - cells[2]) * fw
+    return low + (high - low) * fh
+
+
+def _bracket(points: list[float], x: float) -> int:
+    for i in range(len(points) - 2, -1, -1):
+        if x >= points[i]:
+            return i
+    return 0
+
+
+def f_b(f_u: float, delta_value: float, conditioning: float) -> float:
+    """Normalised mean compressive strength f_b = δ · c · f_u (EN 772-1 Annex A) [S]."""
+    return delta_value * conditioning * f_u
+
+
+def f_k_ec6(K: float, f_b_value: float, f_m: float) -> float:
+    """f_k = K · f_b^0.7 · f_m^0.3, general-purpose mortar, EN 1996-1-1 eqn 3.1 [S]."""
+    return K * f_b_value**0.7 * f_m**0.3
+
+
+def f_k_thin_layer(K: float, f_b_value: float, exponent: float) -> float:
+    """f_k = K · f_b^0.85 (or ^0.70 for clay Groups 2–4), thin-layer mortar,
+    EN 1996-1-1 eqns 3.2–3.3 [M]."""
+    return K * f_b_value**exponent
+
+
+def f_k_bs5628(unit_strength: float, designation: str) -> float:
+    """f_k of standard-format brick masonry, BS 5628-1:1992 Table 2(a), linear between
+    unit strengths [S for the table's shape; cells other than 20/(iii) from memory, M]."""
+    row = dict(BS_FK_TABLE)[designation]
+    xs = BS_UNIT_STRENGTHS
+    if unit_strength <= xs[0]:
+        return row[0]
+    for i in range(len(xs) - 1):
+        if unit_strength <= xs[i + 1]:
+            frac = (unit_strength - xs[i]) / (xs[i + 1] - xs[i])
+            return row[i] + (row[i + 1] - row[i]) * frac
+    return row[-1]
+
+
+def f_d(f_k: float, gamma_M: float) -> float:
+    """Design compressive strength f_d = f_k / γ_M (EN 1996-1-1 2.4.1) [S]."""
+    return f_k / gamma_M
+
+
+def f_cd(f_ck: float, alpha_cc: float, gamma_c: float) -> float:
+    """Concrete design strength f_cd = α_cc · f_ck / γ_c, EN 1992-1-1 eqn 3.15 [S]."""
+    return alpha_cc * f_ck / gamma_c
+
+
+def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> Strengths:
+    """f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace."""
+    steps: list[Step] = []
+    ec6 = basis.is_ec6
+    if mas.f_k is not None:
+        fk = float(mas.f_k)
+        steps.append(
+            Step(
+                "Characteristic compressive strength, as given",
+                "f_k",
+                "declared",
+                (),
+                fk,
+                "N/mm²",
+                "declared by the engineer",
+                "ours",
+            )
+        )
+    elif ec6:
+        fk = _f_k_from_units_ec6(mas, basis, steps)
+    else:
+        designation = MORTAR_DESIGNATION[mas.mortar]
+        fk = f_k_bs5628(float(mas.unit_strength), designation)
+        steps.append(
+            Step(
+                "Characteristic compressive strength of brick masonry",
+                "f_k",
+                f"Table 2(a), unit strength with mortar designation ({designation})",
+                (("unit strength", mas.unit_strength, "N/mm²"), ("mortar", mas.mortar, "")),
+                fk,
+                "N/mm²",
+                "BS 5628-1:1992 Table 2(a)",
+                "S" if (mas.unit_strength == 20 and designation == "iii") else "M",
+            )
+        )
+
+    if mas.gamma_M is not None:
+        gm = float(mas.gamma_M)
+        steps.append(
+            Step(
+                "Partial factor for masonry, as given",
+                "γ_M",
+                "declared",
+                (),
+                gm,
+                "",
+                "declared by the engineer",
+                "ours",
+            )
+        )
+    elif ec6:
+        gm = basis.gamma_M_for(mas.execution_class, mas.unit_category)
+        if gm is None:
+            raise InputError(
+                "masonry.execution_class",
+                mas.execution_class,
+                "an execution class with a partial factor in this code basis",
+                "not-covered",
+            )
+        steps.append(
+            Step(
+                "Partial factor for masonry in compression",
+                "γ_M",
+                f"category {mas.unit_category} units, execution class {mas.execution_class}",
+                (),
+                gm,
+                "",
+                "UK NA to EN 1996-1-1 Table NA.1",
+                "M",
+            )
+        )
+    else:
+        gm = basis.gamma_m_for(mas.manufacturing_control, mas.construction_control)
+        if gm is None:
+            raise InputError(
+                "masonry.manufacturing_control",
+                mas.manufacturing_control,
+                "a control level with a partial factor in this code basis",
+                "not-covered",
+            )
+        steps.append(
+            Step(
+                "Partial safety factor for material",
+                "γ_m",
+                f"manufacturing control {mas.manufacturing_control}, "
+                f"construction control {mas.construction_control}",
+                (),
+                gm,
+                "",
+                "BS 5628-1:1992 Table 4",
+                "S",
+            )
+        )
+
+    fd = f_d(fk, gm)
+    steps.append(
+        Step(
+            "Design compressive strength of the masonry",
+            "f_d",
+            "f_k / γ_M",
+            (("f_k", fk, "N/mm²"), ("γ_M", gm, "")),
+            fd,
+            "N/mm²",
+            "EN 1996-1-1 2.4.1" if ec6 else "BS 5628-1 clause 27",
+            "S",
+        )
+    )
+
+    fcd = None
+    if pad is not None:
+        fck = float(pad.f_ck) if pad.f_ck is not None else concrete_class_fck(pad.concrete)
+        fcd = f_cd(fck, basis.alpha_cc, basis.gamma_c)
+        steps.append(
+            Step(
+                "Design compressive strength of the padstone concrete",
+                "f_cd",
+                "α_cc · f_ck / γ_c",
+                (("α_cc", basis.alpha_cc, ""), ("f_ck", fck, "N/mm²"), ("γ_c", basis.gamma_c, "")),
+                fcd,
+                "N/mm²",
+                "EN 1992-1-1 3.1.6 eqn 3.15",
+                "S",
+            )
+        )
+    return Strengths(fk, gm, fd, fcd, tuple(steps))
+
+
+def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> float:
+    fu = float(mas.unit_strength)
+    if mas.unit_strength_is_normalised:
+        fb = fu
+        steps.append(
+            Step(
+                "Normalised unit strength, as given",
+                "f_b",
+                "declared",
+                (),
+                fb,
+                "N/mm²",
+                "EN 772-1 Annex A",
+                "S",
+            )
+        )
+    else:
+        d = delta(float(mas.unit_height), float(mas.unit_width))
+        c = CONDITIONING_FACTOR[mas.conditioning]
+        fb = f_b(fu, d, c)
+        steps.append(
+            Step(
+                "Shape factor of the unit",
+                "δ",
+                "Table A.1 by height and least horizontal dimension",
+                (("height", mas.unit_height, "mm"), ("width", mas.unit_width, "mm")),
+                d,
+                "",
+                "EN 772-1 Table A.1",
+                "M",
+            )
+        )
+        steps.append(
+            Step(
+                "Normalised mean compressive strength",
+                "f_b",
+                "δ · c · f_u",
+                (("δ", d, ""), ("c", c, ""), ("f_u", fu, "N/mm²")),
+                fb,
+                "N/mm²",
+                "EN 772-1 Annex A",
+                "S",
+            )
+        )
+    if fb > basis.f_b_max:
+        raise InputError(
+            "masonry.unit_strength",
+            mas.unit_strength,
+            f"a normalised strength f_b of at most {basis.f_b_max:g} N/mm² for EN 1996-1-1 "
+            f"eqn 3.1 (this unit gives {fb:.1f}); give f_k directly",
+            "not-covered",
+        )
+    thin = mas.mortar == "thin-layer"
+    kind = "thin-layer" if thin else "general"
+    K = basis.k_value(mas.material, mas.group, kind)
+    if K is None:
+        raise InputError(
+            "masonry.group",
+            mas.group,
+            f"a unit for which this code basis has a K value ({mas.material}, Group "
+            f"{mas.group}, {kind} mortar has none); give f_k directly",
+            "not-covered",
+        )
+    steps.append(
+        Step(
+            "Constant for the unit and mortar",
+            "K",
+            f"{mas.material}, Group {mas.group}, {kind} mortar",
+            (),
+            K,
+            "",
+            "EN 1996-1-1 Table 3.3 / UK NA",
+            "M",
+        )
+    )
+    if thin:
+        exponent = 0.70 if (mas.material == "clay" and mas.group > 1) else 0.85
+        fk = f_k_thin_layer(K, fb, exponent)
+        steps.append(
+            Step(
+                "Characteristic compressive strength, thin-layer mortar",
+                "f_k",
+                f"K · f_b^{exponent:g}",
+                (("K", K, ""), ("f_b", fb, "N/mm²")),
+                fk,
+                "N/mm²",
+                "EN 1996-1-1 3.6.1.2 eqns 3.2–3.3",
+                "M",
+            )
+        )
+        return fk
+    fm_class = MORTAR_STRENGTH[mas.mortar]
+    fm = min(fm_class, basis.f_m_max, 2 * fb)
+    if fm < fm_class:
+        steps.append(
+            Step(
+                "Mortar strength used, capped",
+                "f_m",
+                "min(f_m, 20, 2 f_b)",
+                (("f_m", fm_class, "N/mm²"), ("f_b", fb, "N/mm²")),
+                fm,
+                "N/mm²",
+                "EN 1996-1-1 3.6.1.2",
+                "M",
+            )
+        )
+    fk = f_k_ec6(K, fb, fm)
+    steps.append(
+        Step(
+            "Characteristic compressive strength, general-purpose mortar",
+            "f_k",
+            "K · f_b^0.7 · f_m^0.3",
+            (("K", K, ""), ("f_b", fb, "N/mm²"), ("f_m", fm, "N/mm²")),
+            fk,
+            "N/mm²",
+            "EN 1996-1-1 3.6.1.2 eqn 3.1",
+            "S",
+        )
+    )
+    return fk

@@ -1,0 +1,365 @@
+"""Refuse inputs that make no physical sense before any formula sees them.
+
+Each problem names the field, the value and what was expected. Ranges are generous
+plausibility bounds of ours, wide enough for any real bearing and narrow enough to catch a
+slip of units; they are not code limits.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from .basis import BS5628, MORTAR_DESIGNATION, CodeBasis
+from .errors import InputError
+from .inputs import (
+    ACROSS,
+    CONDITIONING,
+    CONTROL_LEVELS,
+    MATERIALS,
+    MEMBERS,
+    MORTARS,
+    ORIENTATIONS,
+    REACTION_POSITIONS,
+    BearingInput,
+)
+
+# Lengths in mm: (least, greatest). A value below a tenth of the least, but positive, is
+# probably metres.
+_LENGTHS = {
+    "beam.flange_width": (30.0, 1000.0),
+    "beam.bearing_length": (20.0, 1000.0),
+    "padstone.length": (50.0, 3000.0),
+    "padstone.width": (50.0, 1000.0),
+    "padstone.depth": (40.0, 1000.0),
+    "wall.thickness": (50.0, 1000.0),
+    "wall.height_to_bearing": (100.0, 30000.0),
+    "wall.clear_height": (100.0, 30000.0),
+    "wall.effective_height": (100.0, 60000.0),
+    "wall.effective_thickness": (50.0, 1000.0),
+}
+_GEOMETRY_TOLERANCE = 0.5  # mm: measurement rounding at the edges of the support
+
+
+def validate(inp: BearingInput, basis: CodeBasis) -> None:
+    """Raise the first :class:`InputError` found, or return."""
+    for problem in input_errors(inp, basis):
+        raise problem
+
+
+def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
+    """Every problem with an input, in the order the form shows the fields."""
+    load, beam, pad, wall = inp.load, inp.beam, inp.padstone, inp.wall
+
+    if not _is_number(load.reaction) or load.reaction <= 0:
+        yield InputError("load.reaction", load.reaction, "a positive end reaction", "not-positive")
+    elif load.reaction > 5e6:
+        yield InputError(
+            "load.reaction", load.reaction, "at most 5000 kN for one bearing", "out-of-range"
+        )
+    if not _is_number(load.wall_load) or not 0 <= load.wall_load <= 2000:
+        yield InputError(
+            "load.wall_load", load.wall_load, "0 to 2000 kN/m of other load", "out-of-range"
+        )
+
+    lengths = {
+        "beam.flange_width": beam.flange_width,
+        "beam.bearing_length": beam.bearing_length,
+        "wall.thickness": wall.thickness,
+        "wall.height_to_bearing": wall.height_to_bearing,
+        "wall.clear_height": wall.clear_height,
+        "wall.effective_height": wall.effective_height,
+        "wall.effective_thickness": wall.effective_thickness,
+    }
+    if pad is not None:
+        lengths["padstone.length"] = pad.length
+        lengths["padstone.width"] = pad.width
+        lengths["padstone.depth"] = pad.depth
+    bad_lengths = False
+    for name, value in lengths.items():
+        if value is None and name in ("wall.clear_height", "wall.effective_height"):
+            continue
+        if value is None and name == "wall.effective_thickness":
+            continue
+        problem = _length_problem(name, value)
+        if problem:
+            bad_lengths = True
+            yield problem
+
+    if beam.orientation not in ORIENTATIONS:
+        yield _choice("beam.orientation", beam.orientation, ORIENTATIONS)
+    if beam.member not in MEMBERS:
+        yield _choice("beam.member", beam.member, MEMBERS)
+    if beam.reaction_at not in REACTION_POSITIONS:
+        yield _choice("beam.reaction_at", beam.reaction_at, REACTION_POSITIONS)
+
+    for name, value in (("wall.a1", wall.a1), ("wall.a2", wall.a2)):
+        if value is None:
+            continue
+        if not _is_number(value):
+            yield InputError(name, value, "a distance in mm", "not-a-number")
+        elif value < 0:
+            yield InputError(
+                name,
+                value,
+                "0 or more: a negative distance puts the bearing beyond the wall's end",
+                "beyond-wall",
+            )
+        elif value > 100_000:
+            yield InputError(
+                name, value, "at most 100 m; leave it empty for a wall that runs on", "out-of-range"
+            )
+    for name, value in (
+        ("beam.offset_along", beam.offset_along),
+        ("beam.offset_across", beam.offset_across),
+    ):
+        if value is not None and (not _is_number(value) or abs(value) > 2000):
+            yield InputError(name, value, "an offset within ±2000 mm", "out-of-range")
+
+    yield from _masonry_errors(inp, basis)
+
+    if pad is not None:
+        if pad.f_ck is not None:
+            if not _is_number(pad.f_ck) or not 8 <= pad.f_ck <= 90:
+                yield InputError("padstone.f_ck", pad.f_ck, "8 to 90 N/mm²", "out-of-range")
+        elif concrete_class_fck(pad.concrete) is None:
+            yield InputError(
+                "padstone.concrete",
+                pad.concrete,
+                "a concrete class such as C25/30, or a declared f_ck",
+                "bad-choice",
+            )
+
+    if inp.bearing_type not in (1, 2, 3):
+        yield InputError(
+            "bearing_type", inp.bearing_type, "BS 5628-1 bearing type 1, 2 or 3", "bad-choice"
+        )
+    if inp.e_mk is not None and (not _is_number(inp.e_mk) or inp.e_mk < 0):
+        yield InputError("e_mk", inp.e_mk, "an eccentricity of 0 mm or more", "out-of-range")
+    for name, value in (("phi_m", inp.phi_m), ("beta_s", inp.beta_s)):
+        if value is not None and (not _is_number(value) or not 0 < value <= 1):
+            yield InputError(name, value, "a factor above 0 and at most 1", "out-of-range")
+
+    if bad_lengths or beam.orientation not in ORIENTATIONS:
+        return
+    yield from _geometry_errors(inp)
+
+
+def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
+    beam, pad, wall = inp.beam, inp.padstone, inp.wall
+    across = beam.orientation == ACROSS
+    foot_along = beam.flange_width if across else beam.bearing_length
+    foot_across = beam.bearing_length if across else beam.flange_width
+    t = wall.thickness
+    tol = _GEOMETRY_TOLERANCE
+
+    if pad is not None:
+        if pad.width > t + tol:
+            yield InputError(
+                "padstone.width",
+                pad.width,
+                f"no wider than the wall ({t:g} mm); a padstone overhanging the wall is not covered",
+                "wider-than-wall",
+            )
+            return
+        span_room = pad.width if across else pad.length
+        if beam.bearing_length > span_room + tol:
+            yield InputError(
+                "beam.bearing_length",
+                beam.bearing_length,
+                f"no longer than the padstone it sits on ({span_room:g} mm)",
+                "longer-than-padstone",
+            )
+            return
+        # Across the wall the flange must sit wholly on the padstone. In line with the
+        # wall it may overhang the padstone's sides (the trade allows a flange up to
+        # t + 50 mm, checked as a rule); only the part over the padstone bears.
+        if across and beam.flange_width > pad.length + tol:
+            yield InputError(
+                "beam.flange_width",
+                beam.flange_width,
+                f"no wider than the padstone under it ({pad.length:g} mm)",
+                "off-padstone",
+            )
+            return
+        if not across:
+            foot_across = min(foot_across, pad.width)
+        sup_len, sup_wid = pad.length, pad.width
+    else:
+        if not across and beam.flange_width > t + tol:
+            yield InputError(
+                "beam.flange_width",
+                beam.flange_width,
+                f"no wider than the wall ({t:g} mm) for a beam in line with it and no padstone",
+                "wider-than-wall",
+            )
+            return
+        if across and beam.bearing_length > t + tol:
+            yield InputError(
+                "beam.bearing_length",
+                beam.bearing_length,
+                f"no longer than the wall is thick ({t:g} mm)",
+                "longer-than-wall",
+            )
+            return
+        sup_len, sup_wid = foot_along, t
+
+    if beam.offset_along is not None and pad is not None:
+        room = (sup_len - foot_along) / 2
+        if abs(beam.offset_along) > room + tol:
+            yield InputError(
+                "beam.offset_along",
+                beam.offset_along,
+                f"within ±{room:g} mm so the flange stays wholly on the padstone",
+                "off-padstone",
+            )
+    if beam.offset_across is not None:
+        room = (sup_wid - foot_across) / 2
+        if abs(beam.offset_across) > room + tol:
+            what = "padstone" if pad is not None else "wall"
+            yield InputError(
+                "beam.offset_across",
+                beam.offset_across,
+                f"within ±{room:g} mm so the flange stays wholly on the {what}",
+                "off-padstone" if pad is not None else "off-wall",
+            )
+
+
+def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
+    mas = inp.masonry
+    if mas.material not in MATERIALS:
+        yield _choice("masonry.material", mas.material, MATERIALS)
+    if mas.group not in (1, 2, 3, 4):
+        yield InputError("masonry.group", mas.group, "unit Group 1, 2, 3 or 4", "bad-choice")
+    if mas.mortar not in MORTARS:
+        yield _choice("masonry.mortar", mas.mortar, MORTARS)
+    if mas.conditioning not in CONDITIONING:
+        yield _choice("masonry.conditioning", mas.conditioning, CONDITIONING)
+    if mas.unit_category not in ("I", "II"):
+        yield InputError(
+            "masonry.unit_category", mas.unit_category, "category I or II", "bad-choice"
+        )
+    if mas.execution_class not in (1, 2):
+        yield InputError(
+            "masonry.execution_class", mas.execution_class, "execution class 1 or 2", "bad-choice"
+        )
+    for name, value in (
+        ("masonry.manufacturing_control", mas.manufacturing_control),
+        ("masonry.construction_control", mas.construction_control),
+    ):
+        if value not in CONTROL_LEVELS:
+            yield _choice(name, value, CONTROL_LEVELS)
+    if mas.gamma_M is not None and (not _is_number(mas.gamma_M) or not 1.0 <= mas.gamma_M <= 5.0):
+        yield InputError(
+            "masonry.gamma_M", mas.gamma_M, "a partial factor from 1.0 to 5.0", "out-of-range"
+        )
+
+    if mas.f_k is not None:
+        if not _is_number(mas.f_k) or not 0.5 <= mas.f_k <= 40:
+            yield InputError("masonry.f_k", mas.f_k, "0.5 to 40 N/mm²", "out-of-range")
+        return
+    if mas.unit_strength is None:
+        yield InputError(
+            "masonry.unit_strength",
+            None,
+            "the unit's compressive strength, or f_k given directly",
+            "missing",
+        )
+        return
+    if not _is_number(mas.unit_strength) or not 1.0 <= mas.unit_strength <= 150:
+        yield InputError(
+            "masonry.unit_strength", mas.unit_strength, "1 to 150 N/mm²", "out-of-range"
+        )
+        return
+    if basis.name == BS5628:
+        if mas.mortar not in MORTAR_DESIGNATION:
+            yield InputError(
+                "masonry.mortar",
+                mas.mortar,
+                "M2, M4, M6 or M12 for BS 5628-1 Table 2(a); give f_k for thin-layer mortar",
+                "not-covered",
+            )
+        if mas.unit_strength_is_normalised:
+            yield InputError(
+                "masonry.unit_strength_is_normalised",
+                True,
+                "the unit's mean strength for BS 5628-1 Table 2(a), not a normalised one",
+                "not-covered",
+            )
+        if mas.unit_height is not None and mas.unit_height > 112.5:
+            yield InputError(
+                "masonry.unit_height",
+                mas.unit_height,
+                "a brick (at most 112.5 mm high) for BS 5628-1 Table 2(a); for blocks give f_k",
+                "not-covered",
+            )
+        if not 5.0 <= mas.unit_strength <= 100.0:
+            yield InputError(
+                "masonry.unit_strength",
+                mas.unit_strength,
+                "5 to 100 N/mm², the range of BS 5628-1 Table 2(a)",
+                "not-covered",
+            )
+        return
+    if not mas.unit_strength_is_normalised:
+        for name, value in (
+            ("masonry.unit_height", mas.unit_height),
+            ("masonry.unit_width", mas.unit_width),
+        ):
+            if value is None:
+                yield InputError(
+                    name,
+                    None,
+                    "the unit's size, to normalise its strength (or give f_b or f_k)",
+                    "missing",
+                )
+            else:
+                problem = _length_problem(name, value, (30.0, 1000.0))
+                if problem:
+                    yield problem
+
+
+def concrete_class_fck(concrete: str) -> float | None:
+    """f_ck of a class written as ``C25/30`` (EN 206 notation), else None."""
+    if not isinstance(concrete, str) or not concrete.upper().startswith("C") or "/" not in concrete:
+        return None
+    head, _, tail = concrete[1:].partition("/")
+    try:
+        f_ck, f_cube = float(head), float(tail)
+    except ValueError:
+        return None
+    if not 8 <= f_ck <= 90 or f_cube < f_ck:
+        return None
+    return f_ck
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool) and value == value
+
+
+def _length_problem(
+    name: str, value: object, bounds: tuple[float, float] | None = None
+) -> InputError | None:
+    least, greatest = bounds or _LENGTHS[name]
+    if value is None:
+        return InputError(name, None, f"a length of {least:g} to {greatest:g} mm", "missing")
+    if not _is_number(value):
+        return InputError(name, value, f"a length in mm, {least:g} to {greatest:g}", "not-a-number")
+    if value <= 0:
+        return InputError(
+            name, value, f"a positive length, {least:g} to {greatest:g} mm", "not-positive"
+        )
+    if value < least / 10 or (value < least and value < 10):
+        return InputError(
+            name,
+            value,
+            f"millimetres ({least:g} to {greatest:g} mm); {value:g} looks like metres: "
+            f"did you mean {value * 1000:g} mm?",
+            "looks-like-metres",
+        )
+    if not least <= value <= greatest:
+        return InputError(name, value, f"{least:g} to {greatest:g} mm", "out-of-range")
+    return None
+
+
+def _choice(name: str, value: object, choices: tuple) -> InputError:
+    return InputError(name, value, "one of: " + ", ".join(map(str, choices)), "bad-choice")

@@ -1,0 +1,126 @@
+"""The ``sitecheck`` command: a thin shell over the library."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from .bearing import BASES, EC6_UK, basis_named
+from .bearing.remedy import remedy
+from .bearing.review import BLOCKS
+from .schedule import COLUMNS, RowOutcome, parse_schedule, recheck_rows
+
+CAUTION = (
+    "Caution: these results support, and never replace, the judgement of a competent "
+    "engineer. Local codes, national annexes and licensed practice govern."
+)
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(prog="sitecheck", description="Re-check masonry bearings as built.")
+    sub = parser.add_subparsers(dest="command", required=True)
+
+    check = sub.add_parser("check", help="re-check every bearing of a schedule (CSV)")
+    check.add_argument("schedule", type=Path, help="the bearing schedule, CSV (columns: sitecheck columns)")
+    check.add_argument("--basis", choices=BASES, default=EC6_UK, help="code basis for rows that name none")
+    check.add_argument("--json", action="store_true", help="print everything as JSON, traces included")
+    check.add_argument("--no-hints", action="store_true", help="skip the remedy hints for failing bearings")
+
+    sub.add_parser("columns", help="list the schedule's columns")
+
+    args = parser.parse_args(argv)
+    if args.command == "columns":
+        for name, (meaning, unit) in COLUMNS.items():
+            print(f"{name:28} {unit:7} {meaning}")
+        return 0
+    return _check(args)
+
+
+def verdict(outcome: RowOutcome) -> str:
+    """One of our state words for a schedule row."""
+    if outcome.result is None:
+        return "awaiting survey" if outcome.design_result.passed else "fails at design"
+    if any(r.severity == BLOCKS for r in outcome.reasons):
+        return "engineer to decide"
+    return "within design"
+
+
+def _check(args) -> int:
+    try:
+        text = args.schedule.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as e:
+        print(f"sitecheck: cannot read {args.schedule}: {e}", file=sys.stderr)
+        return 2
+    parsed = parse_schedule(text, args.basis)
+    outcomes, errors = recheck_rows(parsed, basis_named(args.basis))
+    hints = {}
+    if not args.no_hints:
+        for o in outcomes:
+            if not o.current.passed:
+                built = o.as_built or o.row.design
+                hints[o.row.reference] = remedy(built, o.basis)
+    if args.json:
+        print(json.dumps(_as_json(outcomes, errors, hints, parsed.unknown_columns), indent=1, ensure_ascii=False))
+    else:
+        _print_table(outcomes, hints)
+        if parsed.unknown_columns:
+            print(f"\nIgnored unknown column(s): {', '.join(parsed.unknown_columns)}")
+        print(f"\n{CAUTION}")
+    for e in errors:
+        print(f"sitecheck: {args.schedule}: {e}", file=sys.stderr)
+    return 1 if errors else 0
+
+
+def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
+    head = f"{'reference':22} {'basis':12} {'governing check':24} {'util.':>6}  {'verdict':19} review reasons"
+    print(head)
+    print("-" * len(head))
+    for o in outcomes:
+        r = o.current
+        g = r.governing_check
+        util = "  n/a " if r.utilisation == float("inf") else f"{r.utilisation:6.2f}"
+        codes = ", ".join(reason.code for reason in o.reasons) or "-"
+        print(f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}")
+        hint = hints.get(o.row.reference)
+        if hint is not None:
+            print(f"{'':22} hint: {_hint_text(hint)}")
+
+
+def _hint_text(h) -> str:
+    parts = []
+    if h.padstone is not None:
+        p = h.padstone
+        parts.append(f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes (util. {h.padstone_utilisation:.2f})")
+    if h.bearing_length is not None:
+        parts.append(f"a bearing of {h.bearing_length:g} mm passes (util. {h.bearing_utilisation:.2f})")
+    return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
+
+
+def _as_json(outcomes, errors, hints, unknown) -> dict:
+    rows = []
+    for o in outcomes:
+        entry = {
+            "row": o.row.row,
+            "reference": o.row.reference,
+            "location": o.row.location,
+            "basis": o.basis.name,
+            "verdict": verdict(o),
+            "design": o.design_result.as_dict(),
+            "as_built": None if o.result is None else o.result.as_dict(),
+            "review_reasons": [r.as_dict() for r in o.reasons],
+        }
+        if o.row.reference in hints:
+            entry["hint"] = hints[o.row.reference].as_dict()
+        rows.append(entry)
+    return {
+        "caution": CAUTION,
+        "bearings": rows,
+        "errors": [e.as_dict() for e in errors],
+        "ignored_columns": list(unknown),
+    }
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
