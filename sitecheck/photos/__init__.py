@@ -1,0 +1,34 @@
+"""Bearing photos: check an upload, stand it upright, strip it, size it, store it by content.
+
+A pure library (Pillow and the standard library only): the web layer hands it bytes and
+stores the facts it returns; it knows nothing of Flask or the database.
+"""
+
+from .encode import encode_jpeg
+from .exif import read_capture_time, read_gps
+from .ingest import (
+    ALLOWED_FORMATS,
+    DecodedPhoto,
+    IngestedPhoto,
+    PhotoLimits,
+    PhotoRejected,
+    decode_photo,
+    ingest_photo,
+)
+from .stamp import stamp_caption
+from .store import PhotoStore
+
+__all__ = [
+    "ALLOWED_FORMATS",
+    "DecodedPhoto",
+    "IngestedPhoto",
+    "PhotoLimits",
+    "PhotoRejected",
+    "PhotoStore",
+    "decode_photo",
+    "encode_jpeg",
+    "ingest_photo",
+    "read_capture_time",
+    "read_gps",
+    "stamp_caption",
+]

@@ -1,0 +1,655 @@
+"""The photo package: what it accepts, what it refuses and why, what it keeps, how it stores.
+
+All pictures are generated in code (tests/photo_samples.py); positions and times are invented.
+"""
+
+from __future__ import annotations
+
+import ast
+import dataclasses
+import hashlib
+import io
+import os
+import random
+import sys
+import warnings
+from concurrent.futures import ThreadPoolExecutor
+from datetime import datetime
+from pathlib import Path
+
+import pytest
+from photo_samples import (
+    DATETIME,
+    DATETIME_ORIGINAL,
+    EXIF_IFD,
+    GPS_IFD,
+    METADATA_MARKERS,
+    OFFSET_TIME_ORIGINAL,
+    encode,
+    exif_with_text_coordinates,
+    flood_png,
+    jpeg_markers,
+    jpeg_with_exif,
+    make_camera_like_jpeg,
+    make_test_jpeg,
+    with_declared_size,
+)
+from PIL import Image, ImageCms, ImageFile, TiffImagePlugin
+
+import sitecheck.photos as photos
+from sitecheck.photos import (
+    IngestedPhoto,
+    PhotoLimits,
+    PhotoRejected,
+    PhotoStore,
+    ingest_photo,
+    stamp_caption,
+)
+
+PACKAGE_DIR = Path(photos.__file__).parent
+TAKEN = datetime(2026, 3, 4, 10, 11, 12)
+SOMEWHERE_NW = (51.5007, -0.1246)  # invented, northern and western hemispheres
+SOMEWHERE_SE = (-33.8568, 151.2153)  # invented, southern and eastern hemispheres
+RED = (200, 30, 30)
+BLUE = (30, 30, 200)
+
+
+def refusal(data: bytes, **kwargs) -> PhotoRejected:
+    with pytest.raises(PhotoRejected) as caught:
+        ingest_photo(data, **kwargs)
+    return caught.value
+
+
+def close_to(pixel, expected, tolerance=24) -> bool:
+    return all(abs(a - b) <= tolerance for a, b in zip(pixel, expected, strict=True))
+
+
+def assert_no_metadata(jpeg: bytes) -> None:
+    markers, trailing = jpeg_markers(jpeg)
+    assert not [METADATA_MARKERS[m] for m in markers if m in METADATA_MARKERS]
+    assert trailing == 0
+    with Image.open(io.BytesIO(jpeg)) as image:
+        assert image.format == "JPEG"
+        exif = image.getexif()
+        assert len(exif) == 0
+        assert exif.get_ifd(GPS_IFD) == {}
+        assert not {"exif", "icc_profile", "comment", "xmp"} & set(image.info)
+
+
+@pytest.fixture(scope="module")
+def big_upload() -> bytes:
+    return make_test_jpeg(4000, 3000, capture_time=TAKEN, gps=SOMEWHERE_NW)
+
+
+@pytest.fixture(scope="module")
+def big(big_upload) -> IngestedPhoto:
+    return ingest_photo(big_upload)
+
+
+# --- accepted photos ----------------------------------------------------------------------
+
+
+def test_camera_sized_jpeg_is_shrunk_to_display_and_thumbnail(big, big_upload):
+    assert (big.display_width, big.display_height) == (1600, 1200)
+    assert (big.thumbnail_width, big.thumbnail_height) == (320, 240)
+    assert (big.original_width, big.original_height) == (4000, 3000)
+    assert big.original_format == "JPEG"
+    assert big.original_bytes == len(big_upload)
+    for data, size in ((big.display_jpeg, (1600, 1200)), (big.thumbnail_jpeg, (320, 240))):
+        with Image.open(io.BytesIO(data)) as image:
+            assert image.size == size
+            assert image.mode == "RGB"
+
+
+def test_hashes_and_sizes_describe_the_output_bytes(big):
+    assert big.display_sha256 == hashlib.sha256(big.display_jpeg).hexdigest()
+    assert big.thumbnail_sha256 == hashlib.sha256(big.thumbnail_jpeg).hexdigest()
+    assert big.display_bytes == len(big.display_jpeg)
+    assert big.thumbnail_bytes == len(big.thumbnail_jpeg)
+    assert big.display_sha256 != big.thumbnail_sha256
+
+
+def test_output_carries_no_exif_gps_or_other_metadata(big, big_upload):
+    assert Image.open(io.BytesIO(big_upload)).getexif().get_ifd(GPS_IFD)  # the input had GPS
+    assert_no_metadata(big.display_jpeg)
+    assert_no_metadata(big.thumbnail_jpeg)
+
+
+def test_output_is_progressive_jpeg_at_our_quality(big):
+    with Image.open(io.BytesIO(big.display_jpeg)) as image:
+        assert image.info.get("progressive") == 1
+    markers, _ = jpeg_markers(big.display_jpeg)
+    assert 0xC2 in markers  # progressive frame header
+
+
+def test_capture_time_and_position_are_read(big):
+    assert big.capture_time == "2026-03-04T10:11:12"
+    assert big.gps == pytest.approx(SOMEWHERE_NW, abs=1e-6)
+    record = big.as_record()
+    assert record["latitude"] == pytest.approx(51.5007, abs=1e-6)
+    assert record["longitude"] == pytest.approx(-0.1246, abs=1e-6)
+    assert "display_jpeg" not in record
+
+
+def test_southern_and_eastern_positions_are_signed():
+    result = ingest_photo(make_test_jpeg(64, 48, gps=SOMEWHERE_SE))
+    assert result.gps == pytest.approx(SOMEWHERE_SE, abs=1e-6)
+
+
+def test_capture_time_falls_back_to_datetime_and_keeps_an_offset():
+    exif = Image.Exif()
+    exif[DATETIME] = "2026:03:05 08:00:00"
+    assert ingest_photo(jpeg_with_exif(32, 32, exif)).capture_time == "2026-03-05T08:00:00"
+
+    exif = Image.Exif()
+    exif.get_ifd(EXIF_IFD)[DATETIME_ORIGINAL] = "2026:03:05 09:30:00"
+    exif.get_ifd(EXIF_IFD)[OFFSET_TIME_ORIGINAL] = "+01:00"
+    assert ingest_photo(jpeg_with_exif(32, 32, exif)).capture_time == "2026-03-05T09:30:00+01:00"
+
+
+def test_no_exif_gives_no_time_and_no_position():
+    result = ingest_photo(make_test_jpeg(64, 48))
+    assert result.capture_time is None
+    assert result.gps is None
+
+
+def _odd_exif(kind: str) -> Image.Exif | bytes:
+    if kind == "garbage-blob":
+        return b"Exif\x00\x00" + bytes(range(256)) * 4
+    if kind == "coordinates-as-text":
+        return exif_with_text_coordinates()
+    exif = Image.Exif()
+    exif.get_ifd(EXIF_IFD)[DATETIME_ORIGINAL] = "0000:00:00 00:00:00"
+    gps = exif.get_ifd(GPS_IFD)
+    gps.update({1: "N", 2: (51.0, 30.0, 0.0), 3: "W", 4: (0.0, 7.0, 0.0)})
+    if kind == "latitude-beyond-pole":
+        gps[2] = (95.0, 0.0, 0.0)
+    elif kind == "zero-denominator":
+        gps[2] = (TiffImagePlugin.IFDRational(51, 0), 0.0, 0.0)
+    elif kind == "missing-hemisphere":
+        del gps[3]
+    elif kind == "four-part-latitude":
+        gps[2] = (51.0, 30.0, 0.0, 1.0)
+    elif kind == "null-island":
+        gps.update({2: (0.0, 0.0, 0.0), 4: (0.0, 0.0, 0.0)})
+    elif kind == "minutes-over-60":
+        gps[4] = (0.0, 75.0, 0.0)
+    return exif
+
+
+@pytest.mark.parametrize(
+    "kind",
+    [
+        "garbage-blob",
+        "coordinates-as-text",
+        "four-part-latitude",
+        "latitude-beyond-pole",
+        "zero-denominator",
+        "missing-hemisphere",
+        "null-island",
+        "minutes-over-60",
+    ],
+)
+def test_odd_exif_never_refuses_the_photo(kind):
+    result = ingest_photo(jpeg_with_exif(48, 32, _odd_exif(kind)))
+    assert (result.display_width, result.display_height) == (48, 32)
+    assert result.capture_time is None
+    assert result.gps is None
+    assert_no_metadata(result.display_jpeg)
+
+
+def test_the_odd_exif_cases_start_from_a_readable_position():
+    result = ingest_photo(jpeg_with_exif(48, 32, _odd_exif("control")))
+    assert result.gps == pytest.approx((51.5, -7 / 60), abs=1e-6)
+
+
+def test_orientation_6_stands_the_picture_up():
+    result = ingest_photo(make_test_jpeg(400, 200, orientation=6))
+    assert (result.display_width, result.display_height) == (200, 400)
+    with Image.open(io.BytesIO(result.display_jpeg)) as image:
+        # Orientation 6: the camera was turned clockwise; the left (red) half ends on top.
+        assert close_to(image.getpixel((100, 50)), RED)
+        assert close_to(image.getpixel((100, 350)), BLUE)
+    assert (result.original_width, result.original_height) == (400, 200)
+
+
+@pytest.mark.parametrize("orientation", range(1, 9))
+def test_every_orientation_gives_the_right_shape(orientation):
+    result = ingest_photo(make_test_jpeg(80, 40, orientation=orientation))
+    expected = (40, 80) if orientation >= 5 else (80, 40)
+    assert (result.display_width, result.display_height) == expected
+    assert (result.thumbnail_width, result.thumbnail_height) == expected
+
+
+@pytest.mark.parametrize(
+    ("size", "display", "thumbnail"),
+    [((300, 200), (300, 200), (300, 200)), ((1000, 500), (1000, 500), (320, 160))],
+)
+def test_small_pictures_are_never_enlarged(size, display, thumbnail):
+    result = ingest_photo(make_test_jpeg(*size))
+    assert (result.display_width, result.display_height) == display
+    assert (result.thumbnail_width, result.thumbnail_height) == thumbnail
+
+
+def _half_transparent(mode: str) -> Image.Image:
+    image = Image.new("RGBA", (64, 32), (0, 0, 0, 0))
+    image.paste((20, 160, 20, 255), (32, 0, 64, 32))
+    if mode == "RGBA":
+        return image
+    if mode == "LA":
+        return image.convert("LA")
+    palette = image.convert("RGB").quantize(colors=4)
+    palette.info["transparency"] = palette.getpixel((0, 0))
+    return palette
+
+
+@pytest.mark.parametrize("mode", ["RGBA", "LA", "P"])
+def test_png_transparency_is_laid_on_white(mode):
+    result = ingest_photo(encode(_half_transparent(mode), "PNG"))
+    assert result.original_format == "PNG"
+    with Image.open(io.BytesIO(result.display_jpeg)) as image:
+        assert image.mode == "RGB"
+        assert close_to(image.getpixel((8, 16)), (255, 255, 255), tolerance=6)
+        assert not close_to(image.getpixel((56, 16)), (255, 255, 255), tolerance=60)
+
+
+def test_webp_is_accepted():
+    image = Image.new("RGB", (640, 480), (90, 140, 200))
+    result = ingest_photo(encode(image, "WEBP", quality=80))
+    assert result.original_format == "WEBP"
+    assert (result.display_width, result.display_height) == (640, 480)
+    assert_no_metadata(result.display_jpeg)
+
+
+def test_multi_picture_jpeg_from_phones_is_accepted_as_jpeg():
+    first = Image.new("RGB", (120, 90), RED)
+    second = Image.new("RGB", (120, 90), BLUE)
+    result = ingest_photo(encode(first, "MPO", save_all=True, append_images=[second]))
+    assert result.original_format == "JPEG"
+    with Image.open(io.BytesIO(result.display_jpeg)) as image:
+        assert close_to(image.getpixel((60, 45)), RED)
+
+
+def test_embedded_colour_profile_is_applied_and_dropped():
+    srgb = ImageCms.ImageCmsProfile(ImageCms.createProfile("sRGB")).tobytes()
+    upload = encode(Image.new("RGB", (64, 64), (180, 120, 60)), "JPEG", icc_profile=srgb)
+    result = ingest_photo(upload)
+    assert_no_metadata(result.display_jpeg)
+    with Image.open(io.BytesIO(result.display_jpeg)) as image:
+        assert close_to(image.getpixel((32, 32)), (180, 120, 60), tolerance=6)
+
+
+def test_unusable_colour_profile_is_ignored():
+    upload = encode(Image.new("RGB", (64, 64), (180, 120, 60)), "JPEG", icc_profile=b"nonsense")
+    assert ingest_photo(upload).display_width == 64
+
+
+def test_sixteen_bit_grey_png_keeps_its_greys():
+    image = Image.new("I;16", (32, 32), 32768)
+    result = ingest_photo(encode(image, "PNG"))
+    with Image.open(io.BytesIO(result.display_jpeg)) as out:
+        assert close_to(out.getpixel((16, 16)), (128, 128, 128), tolerance=3)
+
+
+def test_same_upload_gives_the_same_stored_bytes():
+    upload = make_test_jpeg(900, 600, capture_time=TAKEN)
+    first, second = ingest_photo(upload), ingest_photo(upload)
+    assert first == second
+    assert first.display_sha256 == second.display_sha256
+
+
+def test_hidden_payloads_do_not_survive_the_re_encode():
+    upload = make_test_jpeg(200, 100, comment=b"<script>alert(1)</script>")
+    upload += b"<html><script>alert(2)</script></html>"
+    result = ingest_photo(upload)
+    for data in (result.display_jpeg, result.thumbnail_jpeg):
+        assert b"<script" not in data
+        assert b"alert" not in data
+        assert_no_metadata(data)
+
+
+def test_result_cannot_be_changed():
+    result = ingest_photo(make_test_jpeg(32, 32))
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        result.display_sha256 = "0" * 64  # type: ignore[misc]
+
+
+# --- refused uploads ----------------------------------------------------------------------
+
+
+def test_file_over_the_byte_limit_is_refused_before_decoding(monkeypatch):
+    def must_not_decode(*args, **kwargs):
+        raise AssertionError("decoded an oversized upload")
+
+    monkeypatch.setattr(Image, "open", must_not_decode)
+    rejected = refusal(b"\xff\xd8\xff" + bytes(50_000), limits=PhotoLimits(max_bytes=50_000))
+    assert rejected.code == "too-large"
+    assert rejected.message.startswith("The file is 50.1 kB; the limit is 50 kB.")
+
+
+def test_default_byte_limit_is_15_mb():
+    assert PhotoLimits().max_bytes == 15_000_000
+    rejected = refusal(bytes(15_000_001))
+    assert rejected.code == "too-large"
+    assert "the limit is 15 MB" in rejected.message
+
+
+def test_pixel_flood_png_is_refused_naming_the_megapixels():
+    flood = flood_png(20_000, 20_000)
+    assert len(flood) < 100_000
+    rejected = refusal(flood)
+    assert rejected.code == "too-many-pixels"
+    assert rejected.message.startswith("The photo is 400.0 megapixels; the limit is 50 megapixels.")
+
+
+def test_our_pixel_limit_applies_below_pillows():
+    rejected = refusal(flood_png(9_000, 7_020))
+    assert rejected.code == "too-many-pixels"
+    assert rejected.message.startswith("The photo is 63.2 megapixels; the limit is 50 megapixels.")
+
+
+def test_pixel_limit_is_configurable():
+    rejected = refusal(make_test_jpeg(1200, 1000), limits=PhotoLimits(max_pixels=1_000_000))
+    assert rejected.code == "too-many-pixels"
+    assert "1.2 megapixels; the limit is 1 megapixels" in rejected.message
+
+
+def test_bomb_warning_becomes_a_refusal_without_leaking_a_warning_filter():
+    huge = with_declared_size(make_test_jpeg(64, 64), 10_000, 9_000)  # 90 MP > Pillow's 89.5 MP
+    filters_before = list(warnings.filters)
+    rejected = refusal(huge)
+    assert rejected.code == "too-many-pixels"
+    assert rejected.message.startswith("The photo is 90.0 megapixels")
+    assert isinstance(rejected.__cause__, Image.DecompressionBombWarning)
+    assert warnings.filters == filters_before
+
+
+def test_concurrent_ingests_leave_warning_filters_alone():
+    huge = with_declared_size(make_test_jpeg(64, 64), 10_000, 9_000)
+    fine = make_test_jpeg(64, 64)
+    filters_before = list(warnings.filters)
+
+    def attempt(data: bytes) -> str:
+        try:
+            return ingest_photo(data).original_format
+        except PhotoRejected as exc:
+            return exc.code
+
+    with ThreadPoolExecutor(max_workers=4) as pool:
+        outcomes = list(pool.map(attempt, [huge, fine] * 8))
+    assert outcomes == ["too-many-pixels", "JPEG"] * 8
+    assert warnings.filters == filters_before
+
+
+@pytest.mark.parametrize(
+    ("format", "options", "named"),
+    [("GIF", {}, "GIF"), ("BMP", {}, "BMP"), ("TIFF", {}, "TIFF"), ("PDF", {}, "PDF")],
+)
+def test_other_picture_formats_are_refused_by_name(format, options, named):
+    rejected = refusal(encode(Image.new("RGB", (32, 32), RED), format, **options))
+    assert rejected.code == "format-not-allowed"
+    assert rejected.message.startswith(f"The file is a {named}")
+    assert "only JPEG, PNG or WebP photos are accepted" in rejected.message
+
+
+@pytest.mark.parametrize(
+    ("head", "named"),
+    [
+        (b"\x00\x00\x00\x18ftypheic\x00\x00\x00\x00mif1heic", "HEIC/HEIF"),
+        (b"\x00\x00\x00\x1cftypavif\x00\x00\x00\x00avifmif1", "AVIF"),
+        (b'<svg xmlns="http://www.w3.org/2000/svg"><script>alert(1)</script></svg>', "SVG"),
+    ],
+)
+def test_formats_we_never_decode_are_named(head, named):
+    rejected = refusal(head + bytes(200))
+    assert rejected.code == "format-not-allowed"
+    assert f"a {named} image" in rejected.message
+
+
+@pytest.mark.parametrize(
+    "data",
+    [
+        random.Random(7).randbytes(5_000),
+        b"<html><body>not a photo</body></html>",
+        b"\x00",
+    ],
+    ids=["random", "html", "one-byte"],
+)
+def test_non_images_are_refused(data):
+    rejected = refusal(data)
+    assert rejected.code == "not-an-image"
+    assert rejected.message == "The file is not a JPEG, PNG or WebP image."
+
+
+def test_empty_file_is_refused():
+    rejected = refusal(b"")
+    assert rejected.code == "not-an-image"
+    assert "empty" in rejected.message
+
+
+def _broken_png() -> bytes:
+    data = bytearray(encode(Image.new("RGB", (64, 64), RED), "PNG"))
+    idat = data.index(b"IDAT")
+    data[idat + 10] ^= 0xFF  # the chunk's CRC no longer matches
+    return bytes(data)
+
+
+@pytest.mark.parametrize(
+    "damaged",
+    [
+        make_camera_like_jpeg(640, 480)[:9_000],
+        _broken_png(),
+        b"\x89PNG\r\n\x1a\n" + bytes(40),
+        encode(Image.new("RGB", (64, 64), RED), "WEBP")[:60],
+    ],
+    ids=["truncated-jpeg", "bad-png-crc", "png-header-only", "truncated-webp"],
+)
+def test_damaged_files_are_refused(damaged):
+    rejected = refusal(damaged)
+    assert rejected.code == "damaged"
+    assert "truncated or damaged" in rejected.message
+    assert ImageFile.LOAD_TRUNCATED_IMAGES is False
+
+
+def test_rejection_has_code_message_and_readable_repr():
+    rejected = refusal(b"\x00")
+    assert str(rejected) == rejected.message
+    assert repr(rejected).startswith("PhotoRejected('not-an-image', ")
+
+
+@pytest.mark.parametrize(
+    ("field", "value"),
+    [
+        ("max_bytes", 0),
+        ("max_pixels", -1),
+        ("display_long_edge", 1.5),
+        ("thumbnail_long_edge", True),
+        ("jpeg_quality", 100),
+    ],
+)
+def test_limits_refuse_nonsense_and_name_the_field(field, value):
+    with pytest.raises(ValueError, match=f"PhotoLimits.{field}"):
+        PhotoLimits(**{field: value})
+
+
+def test_thumbnail_may_not_exceed_display():
+    with pytest.raises(ValueError, match="thumbnail_long_edge must not exceed"):
+        PhotoLimits(display_long_edge=300, thumbnail_long_edge=320)
+
+
+# --- storage ------------------------------------------------------------------------------
+
+
+def test_store_puts_once_under_the_content_hash(tmp_path, big):
+    store = PhotoStore(tmp_path)
+    sha = store.put(big.display_jpeg)
+    assert sha == big.display_sha256
+    path = store.path_for(sha)
+    assert path == tmp_path / sha[:2] / f"{sha}.jpg"
+    first = path.stat()
+
+    assert store.put(big.display_jpeg) == sha
+    second = path.stat()
+    assert (second.st_ino, second.st_mtime_ns) == (first.st_ino, first.st_mtime_ns)
+    assert [p.name for p in tmp_path.rglob("*") if p.is_file()] == [f"{sha}.jpg"]
+    assert store.open(sha) == big.display_jpeg
+    assert store.exists(sha)
+    assert store.verify(sha)
+
+
+@pytest.mark.parametrize(
+    "bad",
+    [
+        "../etc/passwd",
+        "../" + "a" * 61,
+        "A" * 64,
+        "ab",
+        "a" * 65,
+        "a" * 63 + "g",
+        "a" * 64 + "\n",
+        "/" + "a" * 63,
+        b"a" * 64,
+        None,
+    ],
+)
+def test_store_refuses_anything_but_a_sha256(tmp_path, bad):
+    store = PhotoStore(tmp_path)
+    with pytest.raises(ValueError, match="64 lowercase hex digits"):
+        store.path_for(bad)
+    with pytest.raises(ValueError):
+        store.open(bad)
+    with pytest.raises(ValueError):
+        store.delete(bad)
+
+
+def test_failed_write_leaves_neither_photo_nor_temporary_file(tmp_path, monkeypatch):
+    store = PhotoStore(tmp_path)
+
+    def disk_full(src, dst):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(os, "replace", disk_full)
+    with pytest.raises(OSError, match="No space"):
+        store.put(b"photo bytes")
+    assert [p for p in tmp_path.rglob("*") if p.is_file()] == []
+    assert list(store.iter_shas()) == []
+
+
+def test_damaged_file_is_detected_and_replaced_by_put(tmp_path):
+    store = PhotoStore(tmp_path)
+    sha = store.put(b"the real photo")
+    store.path_for(sha).write_bytes(b"the real phot")
+    assert not store.verify(sha)
+    assert store.put(b"the real photo") == sha
+    assert store.verify(sha)
+
+
+def test_store_lists_deletes_and_ignores_strays(tmp_path):
+    store = PhotoStore(tmp_path / "photos")
+    assert list(store.iter_shas()) == []
+    shas = [store.put(f"photo {n}".encode()) for n in range(5)]
+    (store.root / "stray.txt").write_text("x")
+    (store.root / shas[0][:2] / "notes.jpg").write_text("x")
+    (store.root / "zz").mkdir()
+    assert list(store.iter_shas()) == sorted(shas)
+
+    assert store.delete(shas[0]) is True
+    assert store.delete(shas[0]) is False
+    assert not store.exists(shas[0])
+    assert not store.verify(shas[0])
+    with pytest.raises(FileNotFoundError):
+        store.open(shas[0])
+    assert list(store.iter_shas()) == sorted(shas[1:])
+
+
+def test_stale_temporary_files_are_cleaned_but_fresh_ones_kept(tmp_path):
+    store = PhotoStore(tmp_path)
+    sha = store.put(b"kept photo")
+    directory = store.path_for(sha).parent
+    stale = directory / ".incoming-crashed.part"
+    fresh = directory / ".incoming-writing.part"
+    stale.write_bytes(b"half")
+    fresh.write_bytes(b"half")
+    os.utime(stale, (0, 0))
+    assert store.remove_stale_temp_files(older_than_seconds=600) == 1
+    assert not stale.exists()
+    assert fresh.exists()
+    assert store.exists(sha)
+
+
+def test_store_refuses_empty_data(tmp_path):
+    with pytest.raises(ValueError, match="empty"):
+        PhotoStore(tmp_path).put(b"")
+
+
+# --- caption ------------------------------------------------------------------------------
+
+
+def test_caption_strip_is_added_under_the_picture(big):
+    stamped = stamp_caption(big.display_jpeg, "B-12  level 2  2026-03-04 10:11")
+    assert_no_metadata(stamped)
+    with Image.open(io.BytesIO(stamped)) as image:
+        assert image.width == 1600
+        assert image.height > 1200
+        strip = image.crop((0, 1200, 1600, image.height)).convert("L")
+        darkest, lightest = strip.getextrema()
+        assert darkest < 80  # text was drawn
+        assert lightest > 240  # on white
+        assert close_to(image.getpixel((100, 600)), RED)
+
+
+def test_caption_too_long_is_cut_and_control_characters_removed():
+    photo = make_test_jpeg(200, 100)
+    stamped = stamp_caption(photo, "B-12\u202e evil\n" + "very long caption " * 40)
+    with Image.open(io.BytesIO(stamped)) as image:
+        assert image.width == 200
+
+
+def test_empty_caption_is_refused():
+    with pytest.raises(ValueError, match="caption is empty"):
+        stamp_caption(make_test_jpeg(32, 32), " \n\t ")
+
+
+def test_caption_on_damaged_bytes_is_a_rejection():
+    with pytest.raises(PhotoRejected):
+        stamp_caption(b"not a jpeg", "B-12")
+
+
+# --- boundaries of the package ------------------------------------------------------------
+
+FORBIDDEN_IMPORTS = {"flask", "werkzeug", "sqlite3", "sqlite_utils", "logging"}
+
+
+def _imported_roots(tree: ast.AST) -> set[str]:
+    roots = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            roots.update(alias.name.split(".")[0] for alias in node.names)
+        elif isinstance(node, ast.ImportFrom) and node.level == 0 and node.module:
+            roots.add(node.module.split(".")[0])
+    return roots
+
+
+def test_package_imports_no_web_database_or_logging():
+    sources = sorted(PACKAGE_DIR.glob("*.py"))
+    assert len(sources) >= 4
+    for source in sources:
+        tree = ast.parse(source.read_text(), filename=str(source))
+        roots = _imported_roots(tree)
+        assert not roots & FORBIDDEN_IMPORTS, source.name
+        assert roots <= set(sys.stdlib_module_names) | {"PIL", "__future__"}, source.name
+        calls = {
+            node.func.id
+            for node in ast.walk(tree)
+            if isinstance(node, ast.Call) and isinstance(node.func, ast.Name)
+        }
+        assert "print" not in calls, source.name
+        relative = [
+            node for node in ast.walk(tree) if isinstance(node, ast.ImportFrom) and node.level > 1
+        ]
+        assert relative == [], f"{source.name} reaches outside the photos package"
+
+
+def test_public_names_are_exported():
+    for name in photos.__all__:
+        assert hasattr(photos, name), name
