@@ -1,0 +1,260 @@
+"""Users, server-side sessions and login attempts."""
+
+import re
+import sqlite3
+from datetime import datetime, timedelta
+
+import sqlite_utils
+
+from sitecheck.store.base import many, one, timestamp, transaction, utc_now
+from sitecheck.store.errors import DuplicateEmail, NotFound
+from sitecheck.store.events import add_event
+
+SESSION_IDLE_S = 12 * 3600
+SESSION_ABSOLUTE_S = 7 * 24 * 3600
+# Writing last_seen_at on every request would turn every page view into a write.
+TOUCH_INTERVAL_S = 60
+
+_USER_COLUMNS = "id, email, name, disabled, created_at"
+_SESSION_ID = re.compile(r"[0-9a-f]{64}")
+
+
+def normalise_email(email: str) -> str:
+    return (email or "").strip().lower()
+
+
+def _session_id(session_id: str) -> str:
+    # The store keeps only the sha256 of the cookie's token; refusing anything else stops a raw
+    # token from being stored by mistake.
+    if not isinstance(session_id, str) or not _SESSION_ID.fullmatch(session_id):
+        raise ValueError(
+            "session_id must be the sha256 hex of the session token "
+            "(use sitecheck.auth.new_session_token()), not the token itself"
+        )
+    return session_id
+
+
+def create_user(db: sqlite_utils.Database, *, email: str, name: str, password_hash: str) -> dict:
+    email = normalise_email(email)
+    if "@" not in email:
+        raise ValueError(f"email {email!r} has no '@'; give a full e-mail address")
+    if not password_hash:
+        raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
+    with transaction(db):
+        try:
+            cursor = db.execute(
+                "INSERT INTO users (email, name, password_hash, created_at) VALUES (?, ?, ?, ?)",
+                [email, (name or "").strip(), password_hash, timestamp()],
+            )
+        except sqlite3.IntegrityError as error:
+            if "users.email" in str(error):
+                raise DuplicateEmail(
+                    f"An account for {email} already exists; sign in or reset its password"
+                ) from None
+            raise
+        user_id = cursor.lastrowid
+        add_event(db, kind="user created", user_id=user_id, after={"email": email})
+    return get_user_by_id(db, user_id)
+
+
+def get_user_by_id(db: sqlite_utils.Database, user_id: int) -> dict | None:
+    """The user without the password hash, which must never reach a page."""
+    return one(db, f"SELECT {_USER_COLUMNS} FROM users WHERE id = ?", [user_id])
+
+
+def get_user_by_email(db: sqlite_utils.Database, email: str) -> dict | None:
+    return one(db, f"SELECT {_USER_COLUMNS} FROM users WHERE email = ?", [normalise_email(email)])
+
+
+def login_credentials(db: sqlite_utils.Database, email: str) -> dict | None:
+    """id, password_hash and disabled for signing in; the only read that returns the hash."""
+    return one(
+        db,
+        "SELECT id, password_hash, disabled FROM users WHERE email = ?",
+        [normalise_email(email)],
+    )
+
+
+def set_password_hash(
+    db: sqlite_utils.Database, *, user_id: int, password_hash: str, by_user_id: int | None
+) -> None:
+    """Replace the hash and end every session of the user (a new password must lock others out)."""
+    if not password_hash:
+        raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
+    with transaction(db):
+        cursor = db.execute(
+            "UPDATE users SET password_hash = ? WHERE id = ?", [password_hash, user_id]
+        )
+        if cursor.rowcount != 1:
+            raise NotFound(f"No user with id {user_id}")
+        revoke_all_sessions_for_user(db, user_id)
+        add_event(db, kind="password changed", user_id=by_user_id, detail={"user": user_id})
+
+
+def set_disabled(
+    db: sqlite_utils.Database, *, user_id: int, disabled: bool, by_user_id: int | None
+) -> None:
+    """Disable or enable an account; disabling also revokes its sessions at once."""
+    with transaction(db):
+        before = one(db, "SELECT disabled FROM users WHERE id = ?", [user_id])
+        if before is None:
+            raise NotFound(f"No user with id {user_id}")
+        db.execute("UPDATE users SET disabled = ? WHERE id = ?", [int(bool(disabled)), user_id])
+        if disabled:
+            revoke_all_sessions_for_user(db, user_id)
+        add_event(
+            db,
+            kind="user disabled" if disabled else "user enabled",
+            user_id=by_user_id,
+            before={"user": user_id, "disabled": before["disabled"]},
+            after={"user": user_id, "disabled": bool(disabled)},
+        )
+
+
+def create_session(
+    db: sqlite_utils.Database, *, session_id: str, user_id: int, now: datetime | None = None
+) -> None:
+    at = timestamp(now or utc_now())
+    db.execute(
+        "INSERT INTO sessions (id, user_id, created_at, last_seen_at) VALUES (?, ?, ?, ?)",
+        [_session_id(session_id), user_id, at, at],
+    )
+
+
+def get_session_user(
+    db: sqlite_utils.Database,
+    session_id: str,
+    *,
+    idle_s: int = SESSION_IDLE_S,
+    absolute_s: int = SESSION_ABSOLUTE_S,
+    now: datetime | None = None,
+) -> dict | None:
+    """The signed-in user, or None if the session is unknown, revoked, expired or disabled."""
+    try:
+        session_id = _session_id(session_id)
+    except ValueError:
+        return None
+    now = now or utc_now()
+    return one(
+        db,
+        """
+        SELECT u.id, u.email, u.name, u.disabled, u.created_at
+        FROM sessions s JOIN users u ON u.id = s.user_id
+        WHERE s.id = ? AND s.revoked_at IS NULL AND u.disabled = 0
+          AND s.last_seen_at > ? AND s.created_at > ?
+        """,
+        [
+            session_id,
+            timestamp(now - timedelta(seconds=idle_s)),
+            timestamp(now - timedelta(seconds=absolute_s)),
+        ],
+    )
+
+
+def touch_session(
+    db: sqlite_utils.Database,
+    session_id: str,
+    *,
+    now: datetime | None = None,
+    min_interval_s: int = TOUCH_INTERVAL_S,
+) -> bool:
+    """Move last_seen_at forward (at most once a minute); True if it was written."""
+    now = now or utc_now()
+    cursor = db.execute(
+        """
+        UPDATE sessions SET last_seen_at = ?
+        WHERE id = ? AND revoked_at IS NULL AND last_seen_at <= ?
+        """,
+        [
+            timestamp(now),
+            _session_id(session_id),
+            timestamp(now - timedelta(seconds=min_interval_s)),
+        ],
+    )
+    return cursor.rowcount == 1
+
+
+def revoke_session(
+    db: sqlite_utils.Database, session_id: str, *, now: datetime | None = None
+) -> bool:
+    cursor = db.execute(
+        "UPDATE sessions SET revoked_at = ? WHERE id = ? AND revoked_at IS NULL",
+        [timestamp(now or utc_now()), _session_id(session_id)],
+    )
+    return cursor.rowcount == 1
+
+
+def revoke_all_sessions_for_user(
+    db: sqlite_utils.Database, user_id: int, *, now: datetime | None = None
+) -> int:
+    cursor = db.execute(
+        "UPDATE sessions SET revoked_at = ? WHERE user_id = ? AND revoked_at IS NULL",
+        [timestamp(now or utc_now()), user_id],
+    )
+    return cursor.rowcount
+
+
+def record_login_attempt(
+    db: sqlite_utils.Database,
+    *,
+    email: str,
+    remote_addr: str,
+    ok: bool,
+    now: datetime | None = None,
+) -> None:
+    db.execute(
+        "INSERT INTO login_attempts (email, remote_addr, at, ok) VALUES (?, ?, ?, ?)",
+        [normalise_email(email), remote_addr or "", timestamp(now or utc_now()), int(bool(ok))],
+    )
+
+
+def recent_failures(
+    db: sqlite_utils.Database,
+    *,
+    email: str,
+    remote_addr: str,
+    window_s: int,
+    now: datetime | None = None,
+) -> int:
+    """Failed sign-ins in the window: the larger of the count for this e-mail and for this address.
+
+    Counting per e-mail slows guessing one account from many addresses; counting per address
+    slows trying many accounts from one. Taking the larger, not the sum, keeps one person's
+    typos on a shared site connection from adding up with another's.
+    """
+    since = timestamp((now or utc_now()) - timedelta(seconds=window_s))
+    row = one(
+        db,
+        """
+        SELECT
+          (SELECT count(*) FROM login_attempts WHERE email = :email AND at > :since AND ok = 0)
+            AS by_email,
+          (SELECT count(*) FROM login_attempts WHERE remote_addr = :addr AND at > :since AND ok = 0)
+            AS by_addr
+        """,
+        {"email": normalise_email(email), "addr": remote_addr or "", "since": since},
+    )
+    return max(row["by_email"], row["by_addr"])
+
+
+def prune_login_attempts(
+    db: sqlite_utils.Database, *, older_than_s: int, now: datetime | None = None
+) -> int:
+    """Delete attempts older than the window; they only ever served throttling."""
+    cursor = db.execute(
+        "DELETE FROM login_attempts WHERE at < ?",
+        [timestamp((now or utc_now()) - timedelta(seconds=older_than_s))],
+    )
+    return cursor.rowcount
+
+
+def sessions_for_user(db: sqlite_utils.Database, user_id: int) -> list[dict]:
+    """Live and ended sessions of a user, newest first (for a 'where am I signed in' page)."""
+    return many(
+        db,
+        """
+        SELECT id, created_at, last_seen_at, revoked_at FROM sessions
+        WHERE user_id = ? ORDER BY created_at DESC
+        """,
+        [user_id],
+    )

@@ -1,0 +1,137 @@
+"""Connections, transactions, timestamps and row decoding shared by the store modules."""
+
+import contextlib
+import json
+import uuid as uuid_module
+from collections.abc import Generator, Iterable, Sequence
+from datetime import UTC, datetime
+from typing import Any
+
+import sqlite_utils
+
+# Columns holding JSON text; decoded on the way out so callers only ever see Python values.
+JSON_COLUMNS = frozenset(
+    {
+        "code_basis",
+        "review_settings",
+        "design_input",
+        "design_result",
+        "measurements",
+        "checklist",
+        "result",
+        "reasons",
+        "detail",
+    }
+)
+BOOL_COLUMNS = frozenset({"disabled", "design_passed", "passed", "late", "ok", "older_revision"})
+
+
+@contextlib.contextmanager
+def transaction(db: sqlite_utils.Database) -> Generator[sqlite_utils.Database, None, None]:
+    """Run a block as one write transaction; nested use becomes a savepoint.
+
+    BEGIN IMMEDIATE takes the write lock at the start. A deferred BEGIN that reads and then
+    writes can fail at once with SQLITE_BUSY when another connection wrote in between, without
+    waiting for busy_timeout; taking the lock first makes concurrent writers queue instead.
+    """
+    if db.conn.in_transaction:
+        with db.atomic():
+            yield db
+        return
+    db.conn.execute("BEGIN IMMEDIATE")
+    try:
+        yield db
+    except BaseException:
+        if db.conn.in_transaction:
+            db.conn.execute("ROLLBACK")
+        raise
+    try:
+        db.conn.execute("COMMIT")
+    except BaseException:
+        if db.conn.in_transaction:
+            db.conn.execute("ROLLBACK")
+        raise
+
+
+def utc_now() -> datetime:
+    return datetime.now(UTC)
+
+
+def timestamp(moment: datetime | None = None) -> str:
+    """The one format every stored time uses: UTC, fixed width, so text order is time order."""
+    if moment is None:
+        moment = utc_now()
+    if moment.tzinfo is None or moment.utcoffset() is None:
+        raise ValueError(
+            f"time {moment!r} has no time zone; give an aware datetime so it can be stored as UTC"
+        )
+    return moment.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
+
+
+def parse_timestamp(value: str | datetime, *, field: str = "time") -> str:
+    """Normalise an ISO 8601 time with an offset (e.g. from a phone) to the stored format."""
+    if isinstance(value, datetime):
+        return timestamp(value)
+    try:
+        moment = datetime.fromisoformat(str(value).strip())
+    except ValueError:
+        raise ValueError(
+            f"{field} {value!r} is not an ISO 8601 time; send e.g. '2026-03-01T09:30:00Z'"
+        ) from None
+    if moment.tzinfo is None:
+        raise ValueError(
+            f"{field} {value!r} has no time zone; send it with 'Z' or an offset such as '+01:00'"
+        )
+    return timestamp(moment)
+
+
+def canonical_uuid(value: str, *, field: str = "uuid") -> str:
+    """Lower-case hyphenated form, so the same UUID sent in another spelling is still one key."""
+    try:
+        return str(uuid_module.UUID(str(value)))
+    except ValueError:
+        raise ValueError(
+            f"{field} {value!r} is not a UUID; the phone must send one it made, e.g. "
+            "'3f2b6c1e-8a4d-4b7e-9c1a-2d5e6f7a8b9c'"
+        ) from None
+
+
+def new_id() -> str:
+    # Random ids, not counters: ids in URLs then reveal nothing about other sites.
+    return str(uuid_module.uuid4())
+
+
+def to_json(value: Any) -> str:
+    # allow_nan=False: NaN and infinity are not JSON and would not survive an export.
+    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+
+
+def decode_row(row: dict[str, Any] | None) -> dict[str, Any] | None:
+    if row is None:
+        return None
+    out = dict(row)
+    for key, value in out.items():
+        if key in JSON_COLUMNS and isinstance(value, str):
+            out[key] = json.loads(value)
+        elif key in BOOL_COLUMNS and value is not None:
+            out[key] = bool(value)
+    return out
+
+
+def one(db: sqlite_utils.Database, sql: str, params: Sequence | dict = ()) -> dict | None:
+    return decode_row(next(db.query(sql, params), None))
+
+
+def many(db: sqlite_utils.Database, sql: str, params: Sequence | dict = ()) -> list[dict]:
+    return [decode_row(row) for row in db.query(sql, params)]
+
+
+def placeholders(values: Iterable[Any]) -> str:
+    return ", ".join("?" for _ in values)
+
+
+def required_text(value: str, field: str) -> str:
+    text = (value or "").strip()
+    if not text:
+        raise ValueError(f"{field} is empty; write a few words")
+    return text

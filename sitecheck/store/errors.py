@@ -1,0 +1,33 @@
+"""Errors the store raises. Each message says what went wrong and how to put it right."""
+
+
+class StoreError(Exception):
+    """Base class: anything the store refuses to do."""
+
+
+class NotFound(StoreError):
+    """The object does not exist on this site (or at all: callers must not tell the two apart)."""
+
+
+class Conflict(StoreError):
+    """The change clashes with what is already stored."""
+
+
+class DuplicateEmail(Conflict):
+    pass
+
+
+class DuplicateReference(Conflict):
+    pass
+
+
+class AlreadyMember(Conflict):
+    pass
+
+
+class UuidInUse(Conflict):
+    """A client-made UUID is already stored for a different bearing, record or person."""
+
+
+class StaleState(Conflict):
+    """The bearing changed since the caller read it; reload and try again."""

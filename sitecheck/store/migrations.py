@@ -1,0 +1,301 @@
+"""Schema changes, as named migrations applied in order, each once.
+
+Add a change as a new function at the end of this file; never edit one that has shipped.
+"""
+
+import sqlite_utils
+from sqlite_utils import Migrations
+
+from sitecheck.store.base import transaction
+
+MIGRATIONS = Migrations("sitecheck")
+
+STATES = (
+    "awaiting survey",
+    "within design",
+    "engineer to decide",
+    "accepted",
+    "remedial",
+    "released",
+)
+ROLES = ("engineer", "inspector", "contractor", "viewer")
+DECISION_KINDS = ("accept", "remedial", "measure-again")
+
+
+def _in(values: tuple[str, ...]) -> str:
+    return "(" + ", ".join("'" + v.replace("'", "''") + "'" for v in values) + ")"
+
+
+def _append_only(table: str, message: str) -> list[str]:
+    return [
+        f"CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table} "
+        f"BEGIN SELECT RAISE(ABORT, '{message}'); END",
+        f"CREATE TRIGGER {table}_no_delete BEFORE DELETE ON {table} "
+        f"BEGIN SELECT RAISE(ABORT, '{message}'); END",
+    ]
+
+
+_INITIAL_SCHEMA = [
+    """
+    CREATE TABLE users (
+        id INTEGER PRIMARY KEY,
+        email TEXT NOT NULL UNIQUE CHECK (email = lower(email) AND email LIKE '%_@_%'),
+        name TEXT NOT NULL,
+        password_hash TEXT NOT NULL,
+        disabled INTEGER NOT NULL DEFAULT 0 CHECK (disabled IN (0, 1)),
+        created_at TEXT NOT NULL
+    ) STRICT
+    """,
+    """
+    CREATE TABLE sessions (
+        id TEXT PRIMARY KEY CHECK (length(id) = 64),
+        user_id INTEGER NOT NULL REFERENCES users(id),
+        created_at TEXT NOT NULL,
+        last_seen_at TEXT NOT NULL,
+        revoked_at TEXT
+    ) STRICT
+    """,
+    "CREATE INDEX sessions_user ON sessions(user_id)",
+    """
+    CREATE TABLE login_attempts (
+        id INTEGER PRIMARY KEY,
+        email TEXT NOT NULL,
+        remote_addr TEXT NOT NULL,
+        at TEXT NOT NULL,
+        ok INTEGER NOT NULL CHECK (ok IN (0, 1))
+    ) STRICT
+    """,
+    "CREATE INDEX login_attempts_email_at ON login_attempts(email, at)",
+    "CREATE INDEX login_attempts_addr_at ON login_attempts(remote_addr, at)",
+    """
+    CREATE TABLE sites (
+        id TEXT PRIMARY KEY,
+        name TEXT NOT NULL CHECK (length(trim(name)) > 0),
+        address TEXT NOT NULL DEFAULT '',
+        code_basis TEXT NOT NULL CHECK (json_valid(code_basis)),
+        review_settings TEXT NOT NULL CHECK (json_valid(review_settings)),
+        created_by INTEGER NOT NULL REFERENCES users(id),
+        created_at TEXT NOT NULL
+    ) STRICT
+    """,
+    f"""
+    CREATE TABLE memberships (
+        user_id INTEGER NOT NULL REFERENCES users(id),
+        site_id TEXT NOT NULL REFERENCES sites(id),
+        role TEXT NOT NULL CHECK (role IN {_in(ROLES)}),
+        invited_by INTEGER REFERENCES users(id),
+        created_at TEXT NOT NULL,
+        PRIMARY KEY (user_id, site_id)
+    ) STRICT
+    """,
+    "CREATE INDEX memberships_site ON memberships(site_id)",
+    # latest_record_uuid points forward to as_built_records: SQLite resolves foreign keys when
+    # rows change, not when tables are created, so the order of the CREATEs does not matter.
+    f"""
+    CREATE TABLE bearings (
+        id TEXT PRIMARY KEY,
+        site_id TEXT NOT NULL REFERENCES sites(id),
+        reference TEXT NOT NULL COLLATE NOCASE CHECK (length(trim(reference)) > 0),
+        location TEXT NOT NULL DEFAULT '',
+        revision INTEGER NOT NULL CHECK (revision >= 1),
+        design_input TEXT NOT NULL CHECK (json_valid(design_input)),
+        design_result TEXT NOT NULL CHECK (json_valid(design_result)),
+        design_utilisation REAL,
+        design_passed INTEGER NOT NULL CHECK (design_passed IN (0, 1)),
+        state TEXT NOT NULL CHECK (state IN {_in(STATES)}),
+        state_changed_at TEXT NOT NULL,
+        latest_record_uuid TEXT REFERENCES as_built_records(uuid),
+        created_by INTEGER NOT NULL REFERENCES users(id),
+        created_at TEXT NOT NULL,
+        UNIQUE (site_id, reference)
+    ) STRICT
+    """,
+    "CREATE INDEX bearings_state ON bearings(state, site_id)",
+    """
+    CREATE TABLE bearing_revisions (
+        bearing_id TEXT NOT NULL REFERENCES bearings(id),
+        revision INTEGER NOT NULL CHECK (revision >= 1),
+        location TEXT NOT NULL,
+        design_input TEXT NOT NULL CHECK (json_valid(design_input)),
+        design_result TEXT NOT NULL CHECK (json_valid(design_result)),
+        design_utilisation REAL,
+        design_passed INTEGER NOT NULL CHECK (design_passed IN (0, 1)),
+        created_by INTEGER NOT NULL REFERENCES users(id),
+        created_at TEXT NOT NULL,
+        PRIMARY KEY (bearing_id, revision)
+    ) STRICT
+    """,
+    # A failed re-check must carry a blocking review reason, so it can never land a bearing in
+    # 'within design' through a caller's slip.
+    """
+    CREATE TABLE as_built_records (
+        uuid TEXT PRIMARY KEY CHECK (length(uuid) = 36),
+        bearing_id TEXT NOT NULL REFERENCES bearings(id),
+        design_revision INTEGER NOT NULL,
+        inspector_id INTEGER NOT NULL REFERENCES users(id),
+        measured_at TEXT NOT NULL,
+        received_at TEXT NOT NULL,
+        measurements TEXT NOT NULL CHECK (json_valid(measurements)),
+        checklist TEXT NOT NULL DEFAULT '{}' CHECK (json_valid(checklist)),
+        notes TEXT NOT NULL DEFAULT '',
+        result TEXT NOT NULL CHECK (json_valid(result)),
+        reasons TEXT NOT NULL DEFAULT '[]' CHECK (json_valid(reasons)),
+        utilisation REAL,
+        passed INTEGER NOT NULL CHECK (passed IN (0, 1)),
+        blocking INTEGER NOT NULL CHECK (blocking >= 0),
+        late INTEGER NOT NULL DEFAULT 0 CHECK (late IN (0, 1)),
+        FOREIGN KEY (bearing_id, design_revision)
+            REFERENCES bearing_revisions(bearing_id, revision),
+        CHECK (passed = 1 OR blocking > 0)
+    ) STRICT
+    """,
+    "CREATE INDEX as_built_records_bearing ON as_built_records(bearing_id, measured_at)",
+    """
+    CREATE TABLE photos (
+        uuid TEXT PRIMARY KEY CHECK (length(uuid) = 36),
+        record_uuid TEXT NOT NULL REFERENCES as_built_records(uuid),
+        sha256 TEXT NOT NULL CHECK (length(sha256) = 64),
+        thumb_sha256 TEXT CHECK (thumb_sha256 IS NULL OR length(thumb_sha256) = 64),
+        width INTEGER NOT NULL CHECK (width > 0),
+        height INTEGER NOT NULL CHECK (height > 0),
+        size_bytes INTEGER NOT NULL CHECK (size_bytes > 0),
+        captured_at TEXT,
+        gps_lat REAL CHECK (gps_lat IS NULL OR gps_lat BETWEEN -90 AND 90),
+        gps_lon REAL CHECK (gps_lon IS NULL OR gps_lon BETWEEN -180 AND 180),
+        created_at TEXT NOT NULL
+    ) STRICT
+    """,
+    "CREATE INDEX photos_record ON photos(record_uuid)",
+    f"""
+    CREATE TABLE decisions (
+        id INTEGER PRIMARY KEY,
+        bearing_id TEXT NOT NULL REFERENCES bearings(id),
+        record_uuid TEXT NOT NULL REFERENCES as_built_records(uuid),
+        engineer_id INTEGER NOT NULL REFERENCES users(id),
+        kind TEXT NOT NULL CHECK (kind IN {_in(DECISION_KINDS)}),
+        reason TEXT NOT NULL CHECK (length(trim(reason)) > 0),
+        created_at TEXT NOT NULL
+    ) STRICT
+    """,
+    "CREATE INDEX decisions_bearing ON decisions(bearing_id)",
+    """
+    CREATE TABLE releases (
+        id INTEGER PRIMARY KEY,
+        bearing_id TEXT NOT NULL REFERENCES bearings(id),
+        record_uuid TEXT REFERENCES as_built_records(uuid),
+        contractor_id INTEGER NOT NULL REFERENCES users(id),
+        contractor_name TEXT NOT NULL CHECK (length(trim(contractor_name)) > 0),
+        statement TEXT NOT NULL CHECK (length(trim(statement)) > 0),
+        created_at TEXT NOT NULL
+    ) STRICT
+    """,
+    "CREATE INDEX releases_bearing ON releases(bearing_id, created_at)",
+    """
+    CREATE TABLE reopenings (
+        id INTEGER PRIMARY KEY,
+        bearing_id TEXT NOT NULL REFERENCES bearings(id),
+        engineer_id INTEGER NOT NULL REFERENCES users(id),
+        reason TEXT NOT NULL CHECK (length(trim(reason)) > 0),
+        created_at TEXT NOT NULL
+    ) STRICT
+    """,
+    "CREATE INDEX reopenings_bearing ON reopenings(bearing_id, created_at)",
+    # No foreign keys here on purpose: the audit trail must also record attempts on ids that
+    # do not exist (a probe for another site's bearing), and must outlive anything it names.
+    """
+    CREATE TABLE events (
+        id INTEGER PRIMARY KEY,
+        at TEXT NOT NULL,
+        user_id INTEGER,
+        site_id TEXT,
+        bearing_id TEXT,
+        kind TEXT NOT NULL,
+        detail TEXT NOT NULL DEFAULT '{}' CHECK (json_valid(detail))
+    ) STRICT
+    """,
+    "CREATE INDEX events_site ON events(site_id, id)",
+    "CREATE INDEX events_bearing ON events(bearing_id, id)",
+    *_append_only("events", "events are append-only"),
+    *_append_only("as_built_records", "as-built records are append-only"),
+    *_append_only("photos", "photos are append-only"),
+    *_append_only("decisions", "decisions are append-only"),
+    *_append_only("releases", "releases are append-only"),
+    *_append_only("reopenings", "reopenings are append-only"),
+    *_append_only("bearing_revisions", "bearing revisions are append-only"),
+    # A released bearing is locked. The one way out is a reopening: a reopenings row made since
+    # the release, a state other than 'released', and nothing else about the bearing changed.
+    """
+    CREATE TRIGGER bearings_released_locked BEFORE UPDATE ON bearings
+    WHEN OLD.state = 'released' AND NOT (
+        NEW.state <> 'released'
+        AND NEW.id IS OLD.id
+        AND NEW.site_id IS OLD.site_id
+        AND NEW.reference IS OLD.reference COLLATE BINARY
+        AND NEW.location IS OLD.location
+        AND NEW.revision IS OLD.revision
+        AND NEW.design_input IS OLD.design_input
+        AND NEW.design_result IS OLD.design_result
+        AND NEW.design_utilisation IS OLD.design_utilisation
+        AND NEW.design_passed IS OLD.design_passed
+        AND NEW.created_by IS OLD.created_by
+        AND NEW.created_at IS OLD.created_at
+        AND EXISTS (
+            SELECT 1 FROM reopenings r
+            WHERE r.bearing_id = OLD.id AND r.created_at >= OLD.state_changed_at
+        )
+    )
+    BEGIN SELECT RAISE(ABORT, 'bearing is released and locked'); END
+    """,
+    """
+    CREATE TRIGGER bearings_released_no_delete BEFORE DELETE ON bearings
+    WHEN OLD.state = 'released'
+    BEGIN SELECT RAISE(ABORT, 'bearing is released and locked'); END
+    """,
+    # The hold point itself, kept in the database too: a bearing becomes released only from
+    # 'within design' or 'accepted', and only with a release row written since its last change.
+    """
+    CREATE TRIGGER bearings_release_guard BEFORE UPDATE OF state ON bearings
+    WHEN NEW.state = 'released' AND OLD.state <> 'released' AND (
+        OLD.state NOT IN ('within design', 'accepted')
+        OR NOT EXISTS (
+            SELECT 1 FROM releases r
+            WHERE r.bearing_id = OLD.id AND r.created_at >= OLD.state_changed_at
+        )
+    )
+    BEGIN SELECT RAISE(ABORT, 'only a release for closing up of a bearing within design or accepted can release it'); END
+    """,
+    """
+    CREATE TRIGGER bearings_insert_not_released BEFORE INSERT ON bearings
+    WHEN NEW.state = 'released'
+    BEGIN SELECT RAISE(ABORT, 'a new bearing cannot start released'); END
+    """,
+]
+
+
+@MIGRATIONS()
+def m001_initial_schema(db: sqlite_utils.Database) -> None:
+    for statement in _INITIAL_SCHEMA:
+        db.execute(statement)
+
+
+def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
+    """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
+
+    The write lock is taken before looking again at what is pending, so two processes starting
+    on a fresh file do not both try to create the schema. A migration that cannot run inside a
+    transaction (``transactional=False``, e.g. VACUUM) is refused here: run it as a maintenance
+    step with no other connection open.
+    """
+    pending = migrations.pending(db)
+    if not pending:
+        return []
+    outside = [m.name for m in pending if not m.transactional]
+    if outside:
+        raise ValueError(
+            f"migrations {', '.join(outside)} need to run outside a transaction; apply them with "
+            "Migrations.apply() while the app is stopped, then open the database again"
+        )
+    with transaction(db):
+        names = [migration.name for migration in migrations.pending(db)]
+        migrations.apply(db)
+    return names

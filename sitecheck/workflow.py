@@ -1,0 +1,208 @@
+"""Bearing states, how a bearing moves between them, and who may do what on a site.
+
+Pure rules: no SQL, no Flask, standard library only. The store applies these rules inside its
+transactions; the web layer asks them before offering a button.
+
+States (the words shown on screen, always with a symbol, never colour alone)::
+
+    any but released --newest record, no blocking reason-->  within design
+    any but released --newest record, blocking reason(s)-->  engineer to decide
+    any but released --older record (by measured time)-->    unchanged
+    released         --any record-->                         released (record marked late)
+    decidable        --decision accept-->                    accepted
+    decidable        --decision remedial-->                  remedial
+    decidable        --decision measure again-->             awaiting survey
+    within design / accepted --release for closing up-->     released (locked)
+    released         --reopen (engineer, with reason)-->     engineer to decide
+    any but released --design revised-->                     engineer to decide if measured,
+                                                             else awaiting survey
+
+"decidable" is every state with a record to decide on that is not released: within design,
+engineer to decide, accepted, remedial (an engineer may still order remedial work on a bearing
+that passes, e.g. after seeing a photo).
+
+Permissions (``allowed(role, action)``)::
+
+    action          engineer  inspector  contractor  viewer
+    view               yes       yes        yes       yes
+    export             yes       yes        yes       yes
+    record             yes       yes        no        no
+    edit-site          yes       no         no        no
+    edit-schedule      yes       no         no        no
+    decide             yes       no         no        no
+    reopen             yes       no         no        no
+    invite             yes       no         no        no
+    release            no        no         yes       no
+
+Engineers may record (they often measure on a site visit) but may not release: the release
+for closing up is the contractor's signed act, and keeping it apart from the engineer's
+decision means no one person both judges and closes up a bearing. Inspectors record and read.
+Viewers (e.g. building control) read and export, nothing else.
+"""
+
+from typing import NamedTuple
+
+AWAITING_SURVEY = "awaiting survey"
+WITHIN_DESIGN = "within design"
+ENGINEER_TO_DECIDE = "engineer to decide"
+ACCEPTED = "accepted"
+REMEDIAL = "remedial"
+RELEASED = "released"
+
+STATES = (AWAITING_SURVEY, WITHIN_DESIGN, ENGINEER_TO_DECIDE, ACCEPTED, REMEDIAL, RELEASED)
+
+ENGINEER = "engineer"
+INSPECTOR = "inspector"
+CONTRACTOR = "contractor"
+VIEWER = "viewer"
+
+ROLES = (ENGINEER, INSPECTOR, CONTRACTOR, VIEWER)
+
+DECISION_KINDS = ("accept", "remedial", "measure-again")
+
+ACTIONS = (
+    "view",
+    "edit-site",
+    "edit-schedule",
+    "record",
+    "decide",
+    "release",
+    "reopen",
+    "invite",
+    "export",
+)
+
+PERMISSIONS: dict[str, frozenset[str]] = {
+    "view": frozenset(ROLES),
+    "export": frozenset(ROLES),
+    "record": frozenset({ENGINEER, INSPECTOR}),
+    "edit-site": frozenset({ENGINEER}),
+    "edit-schedule": frozenset({ENGINEER}),
+    "decide": frozenset({ENGINEER}),
+    "reopen": frozenset({ENGINEER}),
+    "invite": frozenset({ENGINEER}),
+    "release": frozenset({CONTRACTOR}),
+}
+
+RELEASABLE_STATES = (WITHIN_DESIGN, ACCEPTED)
+# A decision needs a record to be about, and a released bearing must be reopened first.
+DECIDABLE_STATES = (WITHIN_DESIGN, ENGINEER_TO_DECIDE, ACCEPTED, REMEDIAL)
+
+_AFTER_DECISION = {"accept": ACCEPTED, "remedial": REMEDIAL, "measure-again": AWAITING_SURVEY}
+
+_NOT_RELEASABLE_BECAUSE = {
+    AWAITING_SURVEY: "no as-built record has been made yet.",
+    ENGINEER_TO_DECIDE: "the engineer has not decided yet.",
+    REMEDIAL: "remedial work was instructed; a new as-built record is needed first.",
+    RELEASED: "it is already released.",
+}
+
+
+class WorkflowError(ValueError):
+    """A move the rules do not allow; the message is a plain sentence for the screen."""
+
+
+class Badge(NamedTuple):
+    """How a state is shown: a text symbol, the state's words, a CSS class for styling."""
+
+    symbol: str
+    label: str
+    css_class: str
+
+
+# Plain text symbols that read without colour; each differs in shape from the others.
+STATE_BADGES: dict[str, Badge] = {
+    AWAITING_SURVEY: Badge("○", AWAITING_SURVEY, "state-awaiting-survey"),
+    WITHIN_DESIGN: Badge("✓", WITHIN_DESIGN, "state-within-design"),
+    ENGINEER_TO_DECIDE: Badge("?", ENGINEER_TO_DECIDE, "state-engineer-to-decide"),
+    ACCEPTED: Badge("☑", ACCEPTED, "state-accepted"),
+    REMEDIAL: Badge("✗", REMEDIAL, "state-remedial"),
+    RELEASED: Badge("■", RELEASED, "state-released"),
+}
+
+
+def _check_state(state: str) -> str:
+    if state not in STATES:
+        raise ValueError(f"state {state!r} is not one of: {', '.join(STATES)}")
+    return state
+
+
+def state_after_record(
+    current_state: str, blocking_reason_count: int, record_is_newest: bool
+) -> str:
+    """The state after an as-built record arrives.
+
+    A released bearing stays released (the record is kept and marked late). A record older, by
+    measured time, than the newest does not drive the state. The newest record gives 'within
+    design' with no blocking review reason and 'engineer to decide' with one or more.
+    """
+    _check_state(current_state)
+    if blocking_reason_count < 0:
+        raise ValueError(
+            f"blocking_reason_count {blocking_reason_count} is negative; count the reasons"
+        )
+    if current_state == RELEASED or not record_is_newest:
+        return current_state
+    return WITHIN_DESIGN if blocking_reason_count == 0 else ENGINEER_TO_DECIDE
+
+
+def record_is_late(current_state: str) -> bool:
+    """A record that arrives after release is late: kept, shown, but it moves nothing."""
+    return _check_state(current_state) == RELEASED
+
+
+def can_decide(state: str) -> bool:
+    return _check_state(state) in DECIDABLE_STATES
+
+
+def state_after_decision(kind: str) -> str:
+    """accept -> 'accepted'; remedial -> 'remedial'; measure-again -> 'awaiting survey'."""
+    try:
+        return _AFTER_DECISION[kind]
+    except KeyError:
+        raise ValueError(f"decision {kind!r} is not one of: {', '.join(DECISION_KINDS)}") from None
+
+
+def can_release(state: str) -> bool:
+    return _check_state(state) in RELEASABLE_STATES
+
+
+def release_refusal(state: str, *, reference: str | None = None) -> str | None:
+    """Why a bearing in ``state`` may not be released, as one sentence; None if it may."""
+    if can_release(state):
+        return None
+    subject = f"Bearing {reference}" if reference else "This bearing"
+    return f"{subject} is '{state}': {_NOT_RELEASABLE_BECAUSE[state]}"
+
+
+def reopen(*, state: str, role: str | None, reason: str) -> str:
+    """The state a released bearing reopens to; raises WorkflowError if reopening is not allowed."""
+    _check_state(state)
+    if not allowed(role, "reopen"):
+        raise WorkflowError("Only the site's engineer can reopen a released bearing.")
+    if state != RELEASED:
+        raise WorkflowError(f"Only a released bearing can be reopened; this one is '{state}'.")
+    if not (reason or "").strip():
+        raise WorkflowError("Write the reason for reopening; it stays on the record.")
+    return ENGINEER_TO_DECIDE
+
+
+def state_after_revision(current_state: str, has_records: bool) -> str:
+    """The state after the engineer revises a bearing's design.
+
+    Existing records were measured against the old design, so the engineer must look at them
+    again; with no record yet, or a new one already asked for, it stays awaiting survey.
+    """
+    if _check_state(current_state) == RELEASED:
+        raise WorkflowError("A released bearing is locked; reopen it before revising its design.")
+    if current_state == AWAITING_SURVEY or not has_records:
+        return AWAITING_SURVEY
+    return ENGINEER_TO_DECIDE
+
+
+def allowed(role: str | None, action: str) -> bool:
+    """May someone with ``role`` on a site (None: not on it) do ``action`` there?"""
+    if action not in PERMISSIONS:
+        # A misspelt action would otherwise deny silently and hide the bug.
+        raise ValueError(f"action {action!r} is not one of: {', '.join(ACTIONS)}")
+    return role in PERMISSIONS[action]
