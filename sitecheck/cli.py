@@ -19,14 +19,24 @@ CAUTION = (
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = argparse.ArgumentParser(prog="sitecheck", description="Re-check masonry bearings as built.")
+    parser = argparse.ArgumentParser(
+        prog="sitecheck", description="Re-check masonry bearings as built."
+    )
     sub = parser.add_subparsers(dest="command", required=True)
 
     check = sub.add_parser("check", help="re-check every bearing of a schedule (CSV)")
-    check.add_argument("schedule", type=Path, help="the bearing schedule, CSV (columns: sitecheck columns)")
-    check.add_argument("--basis", choices=BASES, default=EC6_UK, help="code basis for rows that name none")
-    check.add_argument("--json", action="store_true", help="print everything as JSON, traces included")
-    check.add_argument("--no-hints", action="store_true", help="skip the remedy hints for failing bearings")
+    check.add_argument(
+        "schedule", type=Path, help="the bearing schedule, CSV (columns: sitecheck columns)"
+    )
+    check.add_argument(
+        "--basis", choices=BASES, default=EC6_UK, help="code basis for rows that name none"
+    )
+    check.add_argument(
+        "--json", action="store_true", help="print everything as JSON, traces included"
+    )
+    check.add_argument(
+        "--no-hints", action="store_true", help="skip the remedy hints for failing bearings"
+    )
 
     sub.add_parser("columns", help="list the schedule's columns")
 
@@ -62,7 +72,13 @@ def _check(args) -> int:
                 built = o.as_built or o.row.design
                 hints[o.row.reference] = remedy(built, o.basis)
     if args.json:
-        print(json.dumps(_as_json(outcomes, errors, hints, parsed.unknown_columns), indent=1, ensure_ascii=False))
+        print(
+            json.dumps(
+                _as_json(outcomes, errors, hints, parsed.unknown_columns),
+                indent=1,
+                ensure_ascii=False,
+            )
+        )
     else:
         _print_table(outcomes, hints)
         if parsed.unknown_columns:
@@ -82,7 +98,9 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
         g = r.governing_check
         util = "  n/a " if r.utilisation == float("inf") else f"{r.utilisation:6.2f}"
         codes = ", ".join(reason.code for reason in o.reasons) or "-"
-        print(f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}")
+        print(
+            f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}"
+        )
         hint = hints.get(o.row.reference)
         if hint is not None:
             print(f"{'':22} hint: {_hint_text(hint)}")
@@ -92,9 +110,13 @@ def _hint_text(h) -> str:
     parts = []
     if h.padstone is not None:
         p = h.padstone
-        parts.append(f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes (util. {h.padstone_utilisation:.2f})")
+        parts.append(
+            f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes (util. {h.padstone_utilisation:.2f})"
+        )
     if h.bearing_length is not None:
-        parts.append(f"a bearing of {h.bearing_length:g} mm passes (util. {h.bearing_utilisation:.2f})")
+        parts.append(
+            f"a bearing of {h.bearing_length:g} mm passes (util. {h.bearing_utilisation:.2f})"
+        )
     return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
 
 

@@ -37,8 +37,19 @@ _BRICK = {
     "unit_width": "102.5",
     "mortar": "M4",
 }
-_PAD_440_215_140 = {"padstone_length": "440", "padstone_width": "215", "padstone_depth": "140", "padstone_concrete": "C25/30"}
-_AS_DESIGNED_CHECKS = {"asbuilt_bedded": "yes", "asbuilt_packing": "0", "asbuilt_cracks": "no", "asbuilt_cut_units": "no", "asbuilt_level": "yes"}
+_PAD_440_215_140 = {
+    "padstone_length": "440",
+    "padstone_width": "215",
+    "padstone_depth": "140",
+    "padstone_concrete": "C25/30",
+}
+_AS_DESIGNED_CHECKS = {
+    "asbuilt_bedded": "yes",
+    "asbuilt_packing": "0",
+    "asbuilt_cracks": "no",
+    "asbuilt_cut_units": "no",
+    "asbuilt_level": "yes",
+}
 
 BEARINGS: list[dict[str, str]] = [
     # Ground floor: the new beam B1 across the spine wall, both ends.
@@ -360,7 +371,9 @@ def schedule_csv() -> str:
     for row in BEARINGS:
         unknown = set(row) - set(COLUMNS)
         if unknown:
-            raise ValueError(f"demo bearing {row['reference']} has unknown columns {sorted(unknown)}")
+            raise ValueError(
+                f"demo bearing {row['reference']} has unknown columns {sorted(unknown)}"
+            )
         writer.writerow(row)
     return out.getvalue()
 

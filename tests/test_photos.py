@@ -18,6 +18,9 @@ from datetime import datetime
 from pathlib import Path
 
 import pytest
+from PIL import Image, ImageCms, ImageFile, TiffImagePlugin
+
+import sitecheck.photos as photos
 from photo_samples import (
     DATETIME,
     DATETIME_ORIGINAL,
@@ -34,9 +37,6 @@ from photo_samples import (
     make_test_jpeg,
     with_declared_size,
 )
-from PIL import Image, ImageCms, ImageFile, TiffImagePlugin
-
-import sitecheck.photos as photos
 from sitecheck.photos import (
     IngestedPhoto,
     PhotoLimits,

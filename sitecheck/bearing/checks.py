@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 from .basis import CodeBasis
+from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
 from .geometry import Layout, Pressure, end_distances, spread_length
 from .inputs import ACROSS, IN_LINE, BearingInput
 from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check
@@ -156,7 +157,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
     k = max(1.0, min(k_limits))
     a_c1 = k * k * a_c0
     fcd = st.f_cd
-    f_rdu = min(a_c0 * fcd * math.sqrt(a_c1 / a_c0), basis.plb_limit_factor * fcd * a_c0)
+    f_rdu = F_Rdu(a_c0, a_c1, fcd, basis.plb_limit_factor)
     n = inp.load.reaction
     steps = [
         Step(
@@ -283,8 +284,8 @@ def ec6_masonry_bearing(
         ratio = min(ratio_raw, basis.beta_area_ratio_cap)
         a1 = near if near is not None else h_c  # a wall running on both ways: a1/h_c ≥ 0.5
         beta_raw = (1 + 0.3 * a1 / h_c) * (1.5 - 1.1 * ratio)
-        beta_max = min(1.25 + a1 / (2 * h_c), 1.5)
-        beta = min(max(beta_raw, 1.0), beta_max)
+        beta_max = beta_ec6_upper(a1, h_c)
+        beta = beta_ec6(a1, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
         steps.append(
             Step(
                 "Area ratio, capped",
@@ -550,10 +551,10 @@ def ec6_mid_height(
             )
         )
     else:
-        lam = (h_ef / t_ef) * math.sqrt(1.0 / basis.k_E)
+        lam = (h_ef / t_ef) / math.sqrt(basis.k_E)
         a1 = 1 - 2 * e_mk / t
         u = max(0.0, (lam - 0.063) / (0.73 - 1.17 * e_mk / t))
-        phi = max(0.0, a1 * math.exp(-u * u / 2))
+        phi = phi_m(h_ef, t_ef, e_mk, t, basis.k_E)
         steps.append(
             Step(
                 "Slenderness parameter",
@@ -743,7 +744,7 @@ def bs_dispersion(
         sr = h_ef / t_ef
         e_a = t * (sr * sr / 2400 - 0.015)
         e_m = max(e_x, 0.6 * e_x + e_a)
-        beta = max(0.0, min(1.0, 1.1 * (1 - 2 * e_m / t)))
+        beta = beta_bs5628(h_ef, t_ef, e_x, t)
         steps.append(
             Step(
                 "Eccentricity at the top of the wall",

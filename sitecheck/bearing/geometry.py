@@ -9,6 +9,7 @@ import math
 from dataclasses import dataclass
 
 from .basis import CodeBasis
+from .formulas import linear_pressure
 from .inputs import ACROSS, BearingInput
 from .trace import Step
 
@@ -38,8 +39,12 @@ def layout(inp: BearingInput) -> Layout:
     foot_along = beam.flange_width if across else beam.bearing_length
     foot_across = beam.bearing_length if across else beam.flange_width
     if pad is not None:
-        length, width, depth = pad.length, pad.width, pad.depth
-        foot_across = min(foot_across, width)  # an in-line flange may overhang; it bears on the padstone
+        # Within the wall's tolerance a padstone may stand proud; only what is over the
+        # wall bears on it.
+        length, width, depth = pad.length, min(pad.width, t), pad.depth
+        foot_across = min(
+            foot_across, width
+        )  # an in-line flange may overhang; it bears on the padstone
         y0_in_wall = 0.0 if across else (t - width) / 2
     else:
         length, width, depth = foot_along, t, 0.0
@@ -134,20 +139,14 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
     L = wx1 - wx0
     W = wy1 - wy0
     e = lay.reaction_x - (wx0 + wx1) / 2
-    mean = reaction / (W * L)
+    kind, smax, smin, contact = linear_pressure(reaction, W, L, e)
     ae = abs(e)
-    if ae <= L * 1e-9:
-        kind, smax, smin, cx0, cx1 = "uniform", mean, mean, wx0, wx1
+    if kind == "uniform":
         e = 0.0
-    elif ae <= L / 6:
-        kind = "trapezoid"
-        smax, smin = mean * (1 + 6 * ae / L), mean * (1 - 6 * ae / L)
-        cx0, cx1 = wx0, wx1
+    if kind == "triangle":
+        cx0, cx1 = (wx0, wx0 + contact) if e < 0 else (wx1 - contact, wx1)
     else:
-        kind = "triangle"
-        c = 3 * (L / 2 - ae)
-        smax, smin = 2 * reaction / (W * c), 0.0
-        cx0, cx1 = (wx0, wx0 + c) if e < 0 else (wx1 - c, wx1)
+        cx0, cx1 = wx0, wx1
     if lay.has_padstone:
         steps.append(
             Step(

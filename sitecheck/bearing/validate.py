@@ -40,6 +40,12 @@ _LENGTHS = {
 _GEOMETRY_TOLERANCE = 0.5  # mm: measurement rounding at the edges of the support
 
 
+def wall_tolerance(t: float) -> float:
+    """How much a padstone may stand proud of a wall measured on site: ±5 mm or ±5 % of
+    the thickness (EN 1996-2 tolerance, from memory). Only the part over the wall bears."""
+    return max(5.0, 0.05 * t)
+
+
 def validate(inp: BearingInput, basis: CodeBasis) -> None:
     """Raise the first :class:`InputError` found, or return."""
     for problem in input_errors(inp, basis):
@@ -153,11 +159,12 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
     tol = _GEOMETRY_TOLERANCE
 
     if pad is not None:
-        if pad.width > t + tol:
+        if pad.width > t + wall_tolerance(t):
             yield InputError(
                 "padstone.width",
                 pad.width,
-                f"no wider than the wall ({t:g} mm); a padstone overhanging the wall is not covered",
+                f"no wider than the wall ({t:g} mm, give or take {wall_tolerance(t):g} mm); "
+                "a padstone overhanging the wall is not covered",
                 "wider-than-wall",
             )
             return

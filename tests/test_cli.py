@@ -1,0 +1,152 @@
+"""The ``sitecheck check`` command on the demo schedule and on a schedule with bad rows."""
+
+from __future__ import annotations
+
+import ast
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from sitecheck import demo
+from sitecheck.cli import main
+from sitecheck.schedule import COLUMNS, parse_schedule
+
+ROOT = Path(__file__).resolve().parent.parent
+DEMO = ROOT / "demo_site" / "schedule.csv"
+
+
+def test_demo_schedule_is_written_by_code():
+    # One fixtures set for tests and the demo, written by code, never hand-edited.
+    assert DEMO.read_text(encoding="utf-8") == demo.schedule_csv()
+
+
+def test_demo_schedule_covers_what_the_demo_must_show():
+    rows = parse_schedule(DEMO.read_text(encoding="utf-8")).rows
+    assert len(rows) >= 12
+    assert {r.design.beam.orientation for r in rows} == {"across", "in-line"}
+    assert {r.basis_name for r in rows} >= {None, "BS 5628-1"}
+    assert any(r.design.padstone is None for r in rows) and any(r.design.padstone for r in rows)
+
+
+def test_check_prints_every_demo_bearing(capsys):
+    assert main(["check", str(DEMO)]) == 0
+    out = capsys.readouterr().out
+    for row in demo.BEARINGS:
+        assert row["reference"] in out
+    assert "within design" in out and "engineer to decide" in out and "fails at design" in out
+    assert "hint:" in out
+    assert "never replace" in out  # the caution
+
+
+def test_check_json_has_traces_reasons_and_hints(capsys):
+    assert main(["check", "--json", str(DEMO)]) == 0
+    data = json.loads(capsys.readouterr().out)
+    by_ref = {b["reference"]: b for b in data["bearings"]}
+    assert len(by_ref) == len(demo.BEARINGS)
+    b1w = by_ref["GF-B1-W"]
+    assert b1w["verdict"] == "engineer to decide"
+    assert {r["code"] for r in b1w["review_reasons"]} >= {"padstone-length-off"}
+    assert b1w["as_built"]["checks"][0]["steps"]
+    failing = by_ref["FF-B5"]
+    assert failing["verdict"] == "fails at design" and failing["hint"]["padstone"]
+    assert by_ref["EX-B7"]["basis"] == "BS 5628-1" and by_ref["EX-B7"]["verdict"] == "within design"
+    assert data["errors"] == [] and "caution" in data
+
+
+def test_bad_rows_are_reported_and_good_rows_still_checked(tmp_path, capsys):
+    header = "reference,reaction_kN,flange_width,bearing_length,wall_thickness,height_to_bearing,padstone_length,padstone_width,padstone_depth,f_k,asbuilt_bearing_length,asbuilt_cracks\n"
+    rows = [
+        "OK-1,40,133,150,215,2400,440,215,140,4.0,,\n",
+        "BAD-NUMBER,forty,133,150,215,2400,440,215,140,4.0,,\n",
+        "BAD-METRES,40,133,150,0.215,2400,,,,4.0,,\n",
+        "BAD-PAD,40,133,250,215,2400,440,215,140,4.0,,\n",
+        "OK-1,40,133,150,215,2400,440,215,140,4.0,,\n",
+        "BAD-YESNO,40,133,150,215,2400,440,215,140,4.0,150,maybe\n",
+        "OK-2,40,133,150,215,2400,440,215,140,4.0,150,no\n",
+    ]
+    path = tmp_path / "schedule.csv"
+    path.write_text(header + "".join(rows), encoding="utf-8")
+    assert main(["check", str(path)]) == 1
+    captured = capsys.readouterr()
+    assert "OK-1" in captured.out and "OK-2" in captured.out
+    err = captured.err
+    assert "row 3, reaction_kN = 'forty': a number in kN" in err
+    assert "row 4, wall_thickness = '0.215'" in err and "looks like metres" in err
+    assert "row 5, bearing_length = '250': no longer than the padstone it sits on (215 mm)" in err
+    assert "row 6, reference = 'OK-1': already used on row 2" in err
+    assert "row 7, asbuilt_cracks = 'maybe': yes or no" in err
+
+
+def test_missing_required_column(tmp_path, capsys):
+    path = tmp_path / "s.csv"
+    path.write_text("reference,reaction_kN\nX,10\n", encoding="utf-8")
+    assert main(["check", str(path)]) == 1
+    assert "lacks required column(s)" in capsys.readouterr().err
+
+
+def test_unreadable_file(tmp_path, capsys):
+    assert main(["check", str(tmp_path / "nope.csv")]) == 2
+    assert "cannot read" in capsys.readouterr().err
+
+
+def test_columns_are_documented_in_the_readme():
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    for name in COLUMNS:
+        assert f"`{name}`" in readme, name
+
+
+def test_console_script_runs():
+    done = subprocess.run(
+        [sys.executable, "-m", "sitecheck.cli", "check", str(DEMO)],
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    assert done.returncode == 0, done.stderr
+    assert "GF-B1-E" in done.stdout
+
+
+@pytest.mark.parametrize("path", sorted((ROOT / "sitecheck" / "bearing").glob("*.py")))
+def test_core_is_pure(path):
+    """The engineering core imports nothing of the web, the database, files or logging,
+    and prints nothing (DESIGN: the core is pure)."""
+    forbidden = {
+        "flask",
+        "werkzeug",
+        "sqlite3",
+        "sqlite_utils",
+        "os",
+        "io",
+        "logging",
+        "pathlib",
+        "shutil",
+        "PIL",
+        "warnings",
+    }
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            names = [a.name for a in node.names]
+        elif isinstance(node, ast.ImportFrom):
+            names = [node.module or ""] if node.level == 0 else []
+            if (
+                node.level
+                and node.module
+                and node.module.split(".")[0] in ("web", "store", "photos")
+            ):
+                names = [node.module]
+        else:
+            if isinstance(node, ast.Call) and isinstance(node.func, ast.Name):
+                assert node.func.id not in ("print", "open", "input"), (
+                    f"{path.name} calls {node.func.id}"
+                )
+            continue
+        for name in names:
+            top = name.split(".")[0]
+            assert top not in forbidden, f"{path.name} imports {name}"
+            assert not name.startswith(("sitecheck.web", "sitecheck.store", "sitecheck.photos")), (
+                name
+            )

@@ -1,0 +1,195 @@
+"""Review reasons: each code is raised by what it names, and only by that.
+
+Thresholds and tolerances are the project's own documented defaults (ours); the wall
+thickness tolerance is ±5 mm or ±5 % (EN 1996-2, from memory).
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import pytest
+
+from bearings import across_on_padstone, brick_in_line_end
+from sitecheck.bearing import Masonry, Padstone, bs5628, check_bearing, ec6_uk_na
+from sitecheck.bearing.remedy import remedy
+from sitecheck.bearing.review import (
+    ADVISORY,
+    BLOCKS,
+    Checklist,
+    Measurements,
+    ReviewSettings,
+    as_built_input,
+    review,
+    settings_from_dict,
+)
+
+FULL = dict(
+    bearing_length=150.0,
+    padstone_present=True,
+    padstone_length=440.0,
+    padstone_width=215.0,
+    padstone_depth=140.0,
+    wall_thickness=215.0,
+    masonry_group=1,
+    a1=300.0,
+)
+GOOD_CHECKLIST = Checklist(bedded=True, packing=0.0, cracks=False, cut_units=False, level=True)
+
+
+def _review(
+    design=None, basis=None, checklist=GOOD_CHECKLIST, settings=ReviewSettings(), **measured
+):
+    design = design or across_on_padstone()
+    basis = basis or ec6_uk_na()
+    m = Measurements(**(FULL | measured))
+    built = as_built_input(design, m)
+    reasons = review(
+        design,
+        check_bearing(design, basis),
+        m,
+        checklist,
+        built,
+        check_bearing(built, basis),
+        basis,
+        settings,
+    )
+    return {r.code: r for r in reasons}, reasons
+
+
+def test_as_designed_has_no_reasons():
+    codes, _ = _review()
+    assert codes == {}
+
+
+def test_within_tolerance_has_no_reasons():
+    codes, _ = _review(bearing_length=142.0, padstone_length=432.0, wall_thickness=210.0, a1=320.0)
+    assert codes == {}
+
+
+def test_short_padstone_blocks_and_names_the_values():
+    codes, _ = _review(padstone_length=330.0)
+    r = codes["padstone-length-off"]
+    assert r.severity == BLOCKS
+    assert dict(r.values) == {"design": 440.0, "as_built": 330.0, "tolerance": 10.0}
+    assert "330 mm as built against 440 mm designed" in r.sentence
+
+
+def test_longer_padstone_is_only_advisory():
+    codes, _ = _review(padstone_length=600.0, a1=220.0)
+    assert codes["padstone-length-off"].severity == ADVISORY
+
+
+def test_thin_wall_tolerance_is_five_percent_of_a_thick_wall():
+    # ±5 mm or ±5 %, whichever is larger (EN 1996-2, from memory): 300 mm wall → 15 mm.
+    design = across_on_padstone(wall=replace(across_on_padstone().wall, thickness=300.0))
+    codes, _ = _review(design=design, wall_thickness=288.0)
+    assert "wall-thickness-off" not in codes
+    codes, _ = _review(design=design, wall_thickness=280.0)
+    assert codes["wall-thickness-off"].severity == BLOCKS
+
+
+def test_failing_check_above_threshold_and_rise():
+    codes, reasons = _review(bearing_length=90.0)
+    assert {"check-fails", "utilisation-rise", "bearing-length-off"} <= set(codes)
+    assert reasons[0].severity == BLOCKS
+    failing = [r for r in reasons if r.code == "check-fails"]
+    assert {dict(r.values)["check"] for r in failing} == {"min-bearing", "eccentricity"}
+
+
+def test_above_threshold_without_failing():
+    codes, _ = _review(settings=ReviewSettings(threshold=0.5))
+    assert "above-threshold" in codes and "check-fails" not in codes
+
+
+def test_missing_padstone_and_added_padstone():
+    codes, _ = _review(
+        padstone_present=False, padstone_length=None, padstone_width=None, padstone_depth=None
+    )
+    assert codes["padstone-missing"].severity == BLOCKS
+    design = across_on_padstone(padstone=None)
+    codes, _ = _review(design=design, padstone_present=True)
+    assert codes["padstone-added"].severity == ADVISORY
+
+
+def test_hollow_units_where_solid_were_designed():
+    codes, _ = _review(masonry_group=2)
+    assert codes["hollow-units"].severity == BLOCKS
+    assert dict(codes["hollow-units"].values) == {"design_group": 1, "as_built_group": 2}
+
+
+def test_spreader_lost_when_the_padstone_is_shallower():
+    design = across_on_padstone(padstone=Padstone(length=440.0, width=215.0, depth=215.0))
+    codes, _ = _review(design=design, padstone_depth=140.0)
+    assert codes["spreader-lost"].severity == BLOCKS
+    assert codes["padstone-depth-off"].severity == BLOCKS
+
+
+def test_not_measured():
+    codes, _ = _review(wall_thickness=None, padstone_depth=None)
+    r = codes["not-measured"]
+    assert r.severity == BLOCKS and set(dict(r.values)["fields"]) == {
+        "wall_thickness",
+        "padstone_depth",
+    }
+    assert "wall thickness" in r.sentence
+
+
+def test_checklist_reasons():
+    codes, _ = _review(
+        checklist=Checklist(bedded=False, packing=15.0, cracks=True, cut_units=True, level=False)
+    )
+    assert {"not-bedded", "packing-thick", "cracks", "cut-units", "not-level"} <= set(codes)
+    codes, _ = _review(checklist=Checklist(packing=8.0))
+    assert "packing-thick" not in codes
+
+
+def test_weaker_and_unverified_masonry():
+    codes, _ = _review(masonry_group=1, mortar="M2")
+    assert codes["masonry-weaker"].severity == BLOCKS
+    declared = across_on_padstone(masonry=Masonry(f_k=4.0))
+    codes, _ = _review(design=declared, masonry_material="clay")
+    assert codes["masonry-unverified"].severity == BLOCKS
+
+
+def test_position_moved_towards_an_edge():
+    codes, _ = _review(offset_along=60.0)
+    assert codes["position-along-off"].severity == BLOCKS
+
+
+def test_bs5628_bearing_type_basis():
+    design = brick_in_line_end()
+    m = dict(FULL, a1=75.0, bearing_length=150.0, padstone_depth=215.0, padstone_width=215.0)
+    codes, _ = _review(design=design, basis=bs5628(), **m)
+    assert codes["bearing-type-basis"].severity == BLOCKS
+    assert "end distance" in codes["bearing-type-basis"].sentence
+
+
+def test_settings_round_trip_and_refuse_unknown_keys():
+    s = ReviewSettings(threshold=0.8)
+    assert settings_from_dict(s.as_dict()) == s
+    with pytest.raises(ValueError):
+        settings_from_dict({"thresold": 0.8})
+
+
+def test_remedy_finds_the_smallest_passing_padstone():
+    # A bare 100 mm flange bearing that fails: the smallest standard padstone that passes.
+    inp = across_on_padstone(padstone=None)
+    basis = ec6_uk_na()
+    assert not check_bearing(inp, basis).passed
+    hint = remedy(inp, basis)
+    assert hint.padstone is not None and hint.padstone_utilisation <= 1.0
+    fixed = replace(inp, padstone=hint.padstone)
+    assert check_bearing(fixed, basis).passed
+    # No smaller standard placement passes in any class (smallest volume first).
+    volume = hint.padstone.length * hint.padstone.width * hint.padstone.depth
+    assert volume <= 440 * 215 * 140
+
+
+def test_remedy_finds_the_shortest_bearing():
+    inp = across_on_padstone()
+    short = replace(inp, beam=replace(inp.beam, bearing_length=90.0))
+    hint = remedy(short, ec6_uk_na())
+    # e ≤ t/4 needs the reaction within 53.75 of the centre: l_b/2 ≥ 107.5 − 53.75 → l_b ≥ 107.5,
+    # so in 5 mm steps from 100 (the trade minimum): 110 mm.
+    assert hint.bearing_length == 110.0
