@@ -40,12 +40,87 @@ def main(argv: list[str] | None = None) -> int:
 
     sub.add_parser("columns", help="list the schedule's columns")
 
+    serve = sub.add_parser("serve", help="serve the web app (waitress) on one SQLite file")
+    serve.add_argument(
+        "--db", default=None, help="SQLite file (default $SITECHECK_DB or var/sitecheck.db)"
+    )
+    serve.add_argument("--host", default="127.0.0.1")
+    serve.add_argument("--port", type=int, default=8000)
+    serve.add_argument("--threads", type=int, default=8)
+
+    first = sub.add_parser(
+        "create-engineer", help="create an engineer's account (there are no default accounts)"
+    )
+    first.add_argument("email")
+    first.add_argument("name")
+    first.add_argument("--db", default=None)
+
+    demo = sub.add_parser("demo", help="build a fresh demo database (invented site) and serve it")
+    demo.add_argument("--db", default="var/demo.db")
+    demo.add_argument("--host", default="127.0.0.1")
+    demo.add_argument("--port", type=int, default=8000)
+    demo.add_argument("--build-only", action="store_true", help="build the database and stop")
+
     args = parser.parse_args(argv)
     if args.command == "columns":
         for name, (meaning, unit) in COLUMNS.items():
             print(f"{name:28} {unit:7} {meaning}")
         return 0
+    if args.command == "serve":
+        return _serve(args.db, args.host, args.port, args.threads)
+    if args.command == "create-engineer":
+        return _create_engineer(args)
+    if args.command == "demo":
+        from .demo import build_demo
+
+        logins = build_demo(args.db)
+        print(f"Demo site built in {args.db}. Log in as:")
+        for role, (email, password) in logins.items():
+            print(f"  {role:11} {email:28} password: {password}")
+        if args.build_only:
+            return 0
+        return _serve(args.db, args.host, args.port, 8)
     return _check(args)
+
+
+def _serve(db: str | None, host: str, port: int, threads: int) -> int:
+    from waitress import serve
+
+    from .web import create_app
+
+    app = create_app(db)
+    print(
+        f"sitecheck on http://{host}:{port}/  (database {app.config['DB_PATH']}); Ctrl-C stops it"
+    )
+    print(CAUTION)
+    serve(app, host=host, port=port, threads=threads, ident="sitecheck")
+    return 0
+
+
+def _create_engineer(args) -> int:
+    import getpass
+
+    from . import auth, store
+    from .web import create_app
+
+    app = create_app(args.db)
+    password = getpass.getpass("Password (10 characters or more): ")
+    problem = auth.password_problem(password, email=args.email)
+    if problem:
+        print(f"sitecheck: {problem}", file=sys.stderr)
+        return 2
+    db = store.open_db(app.config["DB_PATH"])
+    try:
+        user = store.create_user(
+            db, email=args.email, name=args.name, password_hash=auth.hash_password(password)
+        )
+    except store.Conflict as e:
+        print(f"sitecheck: {e}", file=sys.stderr)
+        return 2
+    finally:
+        db.conn.close()
+    print(f"Created {user['email']}: log in and make a site; you will be its engineer.")
+    return 0
 
 
 def verdict(outcome: RowOutcome) -> str:

@@ -1,0 +1,121 @@
+"""Inputs to plain dicts and back, for storage and the JSON API (still N, mm, N/mm²).
+
+``from_dict`` functions refuse unknown keys and wrong types with an :class:`InputError`
+naming the field, so a stored or sent input can never quietly change shape.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, fields
+
+from .errors import InputError
+from .inputs import Beam, BearingInput, Load, Masonry, Padstone, Wall
+from .review import Checklist, Measurements
+
+_PARTS = {"load": Load, "beam": Beam, "wall": Wall, "masonry": Masonry, "padstone": Padstone}
+_TOP_LEVEL = ("bearing_type", "e_mk", "phi_m", "beta_s")
+
+
+def input_to_dict(inp: BearingInput) -> dict:
+    return asdict(inp)
+
+
+def input_from_dict(data: dict) -> BearingInput:
+    if not isinstance(data, dict):
+        raise InputError("design", data, "an object with load, beam, wall and masonry", "bad-shape")
+    unknown = set(data) - set(_PARTS) - set(_TOP_LEVEL)
+    if unknown:
+        name = sorted(unknown)[0]
+        raise InputError(name, data[name], "a known part of a bearing input", "unknown-field")
+    parts = {}
+    for name, cls in _PARTS.items():
+        value = data.get(name)
+        if value is None:
+            if name == "padstone":
+                parts[name] = None
+                continue
+            raise InputError(name, None, f"the {name} of the bearing", "missing")
+        parts[name] = _build(cls, value, name)
+    top = {}
+    for name in _TOP_LEVEL:
+        if data.get(name) is not None:
+            top[name] = _typed(name, data[name], int if name == "bearing_type" else float)
+    return BearingInput(**parts, **top)
+
+
+def measurements_from_dict(data: dict) -> Measurements:
+    return _build(Measurements, data or {}, "measurements")
+
+
+def checklist_from_dict(data: dict) -> Checklist:
+    return _build(Checklist, data or {}, "checklist")
+
+
+def _build(cls, data: dict, prefix: str):
+    if not isinstance(data, dict):
+        raise InputError(prefix, data, "an object of named values", "bad-shape")
+    known = {f.name: f for f in fields(cls)}
+    unknown = set(data) - set(known)
+    if unknown:
+        name = sorted(unknown)[0]
+        raise InputError(f"{prefix}.{name}", data[name], f"a known {prefix} value", "unknown-field")
+    values = {}
+    for name, value in data.items():
+        if value is None:
+            values[name] = None
+            continue
+        kind = _KINDS.get(name, float)
+        values[name] = _typed(f"{prefix}.{name}", value, kind)
+    try:
+        return cls(**values)
+    except TypeError as e:  # a required value left out
+        raise InputError(
+            prefix, data, f"every required value of the {prefix}: {e}", "missing"
+        ) from None
+
+
+# Field → type, where not a float.
+_KINDS = {
+    "orientation": str,
+    "member": str,
+    "reaction_at": str,
+    "concrete": str,
+    "material": str,
+    "conditioning": str,
+    "mortar": str,
+    "unit_category": str,
+    "manufacturing_control": str,
+    "construction_control": str,
+    "padstone_concrete": str,
+    "masonry_material": str,
+    "group": int,
+    "execution_class": int,
+    "masonry_group": int,
+    "bearing_type": int,
+    "precast": bool,
+    "unit_strength_is_normalised": bool,
+    "shell_bedded": bool,
+    "padstone_present": bool,
+    "bedded": bool,
+    "cracks": bool,
+    "cut_units": bool,
+    "level": bool,
+}
+
+
+def _typed(field: str, value, kind):
+    if kind is bool:
+        if isinstance(value, bool):
+            return value
+        raise InputError(field, value, "true or false", "not-a-choice")
+    if kind is str:
+        if isinstance(value, str):
+            return value
+        raise InputError(field, value, "text", "not-text")
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise InputError(field, value, "a number", "not-a-number")
+    if kind is int:
+        if value != int(value):
+            raise InputError(field, value, "a whole number", "not-whole")
+        return int(value)
+    return float(value)

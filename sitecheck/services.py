@@ -1,0 +1,299 @@
+"""What happens when someone acts: the engineering core, the workflow rules and the store,
+put together once so the web pages, the sync API, the demo builder and the CLI share it.
+
+No SQL here (the store owns it) and no engineering arithmetic (the core owns it): this
+module decides what to call, in what order, and what to keep.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+
+from sitecheck import store, workflow
+from sitecheck.bearing import (
+    BearingInput,
+    BearingResult,
+    CodeBasis,
+    basis_from_dict,
+    check_bearing,
+    ec6_uk_na,
+)
+from sitecheck.bearing.review import (
+    BLOCKS,
+    ReviewReason,
+    ReviewSettings,
+    as_built_input,
+    review,
+    settings_from_dict,
+)
+from sitecheck.bearing.serial import (
+    checklist_from_dict,
+    input_from_dict,
+    input_to_dict,
+    measurements_from_dict,
+)
+from sitecheck.schedule import RowError, parse_schedule, recheck_rows
+
+# A device clock this far ahead of the server makes its record look newest for ever.
+CLOCK_AHEAD_LIMIT = timedelta(minutes=10)
+
+
+def default_site_settings(basis_name: str | None = None) -> tuple[dict, dict]:
+    from sitecheck.bearing import basis_named
+
+    basis = basis_named(basis_name) if basis_name else ec6_uk_na()
+    return basis.to_dict(), ReviewSettings().as_dict()
+
+
+def basis_for(site: dict) -> CodeBasis:
+    return basis_from_dict(site["code_basis"]) if site.get("code_basis") else ec6_uk_na()
+
+
+def settings_for(site: dict) -> ReviewSettings:
+    return (
+        settings_from_dict(site["review_settings"])
+        if site.get("review_settings")
+        else ReviewSettings()
+    )
+
+
+def design_of(bearing: dict) -> BearingInput:
+    return input_from_dict(bearing["design_input"])
+
+
+def add_bearing(
+    db, *, site: dict, reference: str, location: str, design: BearingInput, user_id: int
+) -> dict:
+    """Check the design at once and keep it with its full trace (revision 1)."""
+    result = check_bearing(design, basis_for(site))
+    return store.add_bearing(
+        db,
+        site_id=site["id"],
+        reference=reference,
+        location=location,
+        design_input=input_to_dict(design),
+        design_result=result.as_dict(),
+        utilisation=_finite(result.utilisation),
+        passed=result.passed,
+        user_id=user_id,
+    )
+
+
+def revise_bearing(
+    db, *, site: dict, bearing: dict, design: BearingInput, location: str | None, user_id: int
+) -> dict:
+    """A new design revision; records keep the revision they were measured against."""
+    result = check_bearing(design, basis_for(site))
+    has_records = bearing.get("latest_record_uuid") is not None
+    return store.revise_bearing(
+        db,
+        site_id=site["id"],
+        bearing_id=bearing["id"],
+        expected_revision=bearing["revision"],
+        expected_state=bearing["state"],
+        new_state=workflow.state_after_revision(bearing["state"], has_records),
+        design_input=input_to_dict(design),
+        design_result=result.as_dict(),
+        utilisation=_finite(result.utilisation),
+        passed=result.passed,
+        user_id=user_id,
+        location=location,
+    )
+
+
+@dataclass(frozen=True)
+class ImportReport:
+    added: list[dict]
+    errors: list[RowError]
+    checked: int
+
+    @property
+    def ok(self) -> bool:
+        return not self.errors
+
+
+def import_schedule(
+    db, *, site: dict, text: str, user_id: int, keep_good_rows: bool = False
+) -> ImportReport:
+    """Import a bearing schedule. Any refused row refuses the whole file unless the engineer
+    asked to keep the good rows; either way no row is ever half stored."""
+    basis = basis_for(site)
+    parsed = parse_schedule(text, basis.name)
+    outcomes, errors = recheck_rows(parsed, basis)
+    for o in outcomes:
+        if o.basis.name != basis.name:
+            errors.append(
+                RowError(o.row.row, "basis", o.basis.name, f"this site is checked to {basis.name}")
+            )
+        elif store.bearing_by_reference(db, site_id=site["id"], reference=o.row.reference):
+            errors.append(RowError(o.row.row, "reference", o.row.reference, "already on this site"))
+    errors.sort(key=lambda e: e.row)
+    bad_rows = {e.row for e in errors}
+    if errors and not keep_good_rows:
+        return ImportReport([], errors, len(outcomes))
+    added = []
+    with store.transaction(db):
+        for o in outcomes:
+            if o.row.row in bad_rows:
+                continue
+            added.append(
+                store.add_bearing(
+                    db,
+                    site_id=site["id"],
+                    reference=o.row.reference,
+                    location=o.row.location,
+                    design_input=input_to_dict(o.row.design),
+                    design_result=o.design_result.as_dict(),
+                    utilisation=_finite(o.design_result.utilisation),
+                    passed=o.design_result.passed,
+                    user_id=user_id,
+                )
+            )
+    return ImportReport(added, errors, len(outcomes))
+
+
+@dataclass(frozen=True)
+class Recheck:
+    as_built: BearingInput
+    result: BearingResult
+    reasons: tuple[ReviewReason, ...]
+
+    @property
+    def blocking(self) -> int:
+        return sum(1 for r in self.reasons if r.severity == BLOCKS)
+
+
+def recheck(site: dict, bearing: dict, measurements: dict, checklist: dict) -> Recheck:
+    """The server's authoritative re-check of one as-built record against the current design."""
+    basis = basis_for(site)
+    design = design_of(bearing)
+    m = measurements_from_dict(measurements)
+    c = checklist_from_dict(checklist)
+    built = as_built_input(design, m)
+    result = check_bearing(built, basis)
+    design_result = check_bearing(design, basis)
+    reasons = review(design, design_result, m, c, built, result, basis, settings_for(site))
+    return Recheck(built, result, reasons)
+
+
+def record_as_built(
+    db,
+    *,
+    site: dict,
+    bearing: dict,
+    uuid: str,
+    measured_at: str,
+    design_revision: int,
+    measurements: dict,
+    checklist: dict,
+    notes: str,
+    inspector_id: int,
+    now: datetime | None = None,
+) -> tuple[store.RecordStored, Recheck]:
+    """Re-check and store one as-built record, idempotently by the phone's UUID."""
+    rc = recheck(site, bearing, measurements, checklist)
+    reasons = list(rc.reasons)
+    if design_revision < bearing["revision"]:
+        reasons.insert(
+            0,
+            ReviewReason(
+                "older-design-revision",
+                BLOCKS,
+                f"Measured against design revision {design_revision}; the design is now at revision {bearing['revision']}.",
+                (("measured_against", design_revision), ("current", bearing["revision"])),
+            ),
+        )
+    server_now = now or datetime.now(UTC)
+    measured = datetime.fromisoformat(measured_at.replace("Z", "+00:00"))
+    if measured.tzinfo is None:
+        measured = measured.replace(tzinfo=UTC)
+    if measured - server_now > CLOCK_AHEAD_LIMIT:
+        reasons.append(
+            ReviewReason(
+                "clock-ahead",
+                BLOCKS,
+                "The phone's clock was ahead of the server's when this was recorded; its time cannot be trusted to order records.",
+                (("measured_at", measured_at),),
+            )
+        )
+    blocking = sum(1 for r in reasons if r.severity == BLOCKS)
+    stored = store.insert_record(
+        db,
+        site_id=site["id"],
+        uuid=uuid,
+        bearing_id=bearing["id"],
+        design_revision=design_revision,
+        inspector_id=inspector_id,
+        measured_at=measured_at,
+        measurements=measurements,
+        checklist=checklist,
+        notes=notes,
+        result=rc.result.as_dict(),
+        reasons=[r.as_dict() for r in reasons],
+        utilisation=_finite(rc.result.utilisation),
+        passed=rc.result.passed,
+        blocking=blocking,
+        state_after_record=workflow.state_after_record,
+        now=now,
+    )
+    return stored, Recheck(rc.as_built, rc.result, tuple(reasons))
+
+
+def decide(db, *, site: dict, bearing: dict, kind: str, reason: str, engineer_id: int) -> dict:
+    if not workflow.can_decide(bearing["state"]):
+        raise workflow.WorkflowError(
+            f"Bearing {bearing['reference']} is '{bearing['state']}': there is nothing to decide."
+        )
+    return store.record_decision(
+        db,
+        site_id=site["id"],
+        bearing_id=bearing["id"],
+        record_uuid=bearing["latest_record_uuid"],
+        engineer_id=engineer_id,
+        kind=kind,
+        reason=reason,
+        expected_state=bearing["state"],
+        new_state=workflow.state_after_decision(kind),
+    )
+
+
+def release(
+    db, *, site: dict, bearing: dict, contractor_id: int, contractor_name: str, statement: str
+) -> dict:
+    refusal = workflow.release_refusal(bearing["state"], reference=bearing["reference"])
+    if refusal:
+        store.add_event(
+            db,
+            kind="release refused",
+            user_id=contractor_id,
+            site_id=site["id"],
+            bearing_id=bearing["id"],
+            detail={"state": bearing["state"], "reason": refusal},
+        )
+        raise workflow.WorkflowError(refusal)
+    return store.record_release(
+        db,
+        site_id=site["id"],
+        bearing_id=bearing["id"],
+        contractor_id=contractor_id,
+        contractor_name=contractor_name,
+        statement=statement,
+        expected_state=bearing["state"],
+    )
+
+
+def reopen(db, *, site: dict, bearing: dict, role: str, reason: str, engineer_id: int) -> dict:
+    new_state = workflow.reopen(state=bearing["state"], role=role, reason=reason)
+    return store.record_reopening(
+        db,
+        site_id=site["id"],
+        bearing_id=bearing["id"],
+        engineer_id=engineer_id,
+        reason=reason,
+        new_state=new_state,
+    )
+
+
+def _finite(x: float) -> float | None:
+    return x if x != float("inf") else None

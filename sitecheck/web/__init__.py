@@ -1,0 +1,131 @@
+"""The Flask application: one factory, one blueprint per job.
+
+Views are thin: they parse and validate input, call :mod:`sitecheck.services` (which calls
+the engineering core and the store) and render. They compute no engineering and speak no
+SQL.
+"""
+
+from __future__ import annotations
+
+import os
+import secrets
+from pathlib import Path
+
+from flask import Flask, g, request
+from flask_wtf.csrf import CSRFError, CSRFProtect
+
+from sitecheck import store
+from sitecheck.photos import PhotoStore
+from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
+
+csrf = CSRFProtect()
+
+CSP = (
+    "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data: blob:; "
+    "connect-src 'self'; font-src 'self'; manifest-src 'self'; worker-src 'self'; "
+    "object-src 'none'; base-uri 'none'; frame-ancestors 'none'; form-action 'self'"
+)
+
+
+def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
+    """Build the app on one SQLite file (created and migrated if new).
+
+    ``db_path`` defaults to ``$SITECHECK_DB`` or ``var/sitecheck.db``. Photos live beside the
+    database in ``photos/`` unless ``PHOTO_DIR`` is given.
+    """
+    app = Flask(
+        "sitecheck",
+        template_folder=str(TEMPLATE_DIR),
+        static_folder=str(STATIC_DIR),
+        static_url_path="/static",
+    )
+    path = Path(db_path or os.environ.get("SITECHECK_DB") or "var/sitecheck.db").resolve()
+    path.parent.mkdir(parents=True, exist_ok=True)
+    app.config.update(
+        DB_PATH=str(path),
+        PHOTO_DIR=str(path.parent / "photos"),
+        SECRET_KEY=os.environ.get("SITECHECK_SECRET_KEY") or _secret_key_beside(path),
+        MAX_CONTENT_LENGTH=40 * 1024 * 1024,
+        MAX_FORM_MEMORY_SIZE=1024 * 1024,
+        SESSION_COOKIE_NAME="sitecheck",
+        SESSION_COOKIE_HTTPONLY=True,
+        SESSION_COOKIE_SAMESITE="Lax",
+        SESSION_COOKIE_SECURE=os.environ.get("SITECHECK_SECURE_COOKIES") == "1",
+        WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
+        LOGIN_FAILURE_LIMIT=5,
+        LOGIN_FAILURE_WINDOW_S=900,
+    )
+    app.config.update(config)
+    db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
+    db.conn.close()
+    app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    csrf.init_app(app)
+
+    from sitecheck.web import auth, pages, review, sites
+
+    app.register_blueprint(auth.bp)
+    app.register_blueprint(pages.bp)
+    app.register_blueprint(sites.bp)
+    app.register_blueprint(review.bp)
+    for name in ("inspect", "release"):
+        module = __import__(f"sitecheck.web.{name}", fromlist=["bp"])
+        app.register_blueprint(module.bp)
+
+    app.before_request(auth.load_user)
+    app.teardown_appcontext(_close_db)
+    app.after_request(_security_headers)
+    app.register_error_handler(CSRFError, pages.csrf_error)
+    for code in (400, 403, 404, 405, 413, 429, 500):
+        app.register_error_handler(code, pages.error_page)
+    pages.install_template_helpers(app)
+    return app
+
+
+def get_db():
+    """This request's connection (SQLite connections must not cross threads)."""
+    if "db" not in g:
+        from flask import current_app
+
+        g.db = store.open_db(current_app.config["DB_PATH"])
+    return g.db
+
+
+def photo_store() -> PhotoStore:
+    from flask import current_app
+
+    return current_app.extensions["photo_store"]
+
+
+def _close_db(_exc) -> None:
+    db = g.pop("db", None)
+    if db is not None:
+        db.conn.close()
+
+
+def _security_headers(response):
+    h = response.headers
+    h.setdefault("Content-Security-Policy", CSP)
+    h.setdefault("X-Content-Type-Options", "nosniff")
+    h.setdefault("Referrer-Policy", "same-origin")
+    h.setdefault("X-Frame-Options", "DENY")
+    h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
+    if request.path.startswith("/static/") or request.path in ("/sw.js", "/manifest.webmanifest"):
+        return response
+    if getattr(g, "user", None) is not None:
+        h["Cache-Control"] = "no-store"
+    return response
+
+
+def _secret_key_beside(db_path: Path) -> str:
+    """One key per deployment, kept beside the database, so every worker process signs
+    cookies alike and a restart keeps people logged in."""
+    key_file = db_path.parent / "secret_key"
+    if not key_file.exists():
+        try:
+            fd = os.open(key_file, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        except FileExistsError:
+            pass  # another worker made it first
+        else:
+            with os.fdopen(fd, "w") as f:
+                f.write(secrets.token_hex(32))
+    return key_file.read_text().strip()

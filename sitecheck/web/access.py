@@ -1,0 +1,58 @@
+"""The one place that decides who may see and do what on a site.
+
+Another site's data answers 404 (its existence is not revealed); another role's action on
+a site one belongs to answers 403 and writes a "refused" event.
+"""
+
+from __future__ import annotations
+
+from flask import abort, g
+
+from sitecheck import store, workflow
+from sitecheck.web import get_db
+
+
+def site_for(site_id: str, action: str) -> tuple[dict, str]:
+    """The site and the user's role on it, if the user may do ``action`` there."""
+    db = get_db()
+    user = g.user
+    if user is None:
+        abort(401)
+    role = store.role_of(db, user_id=user["id"], site_id=site_id)
+    site = store.get_site(db, site_id) if role else None
+    if site is None:
+        abort(404)
+    if not workflow.allowed(role, action):
+        store.add_event(
+            db,
+            kind="refused",
+            user_id=user["id"],
+            site_id=site_id,
+            detail={"action": action, "role": role},
+        )
+        abort(
+            403,
+            description=f"As {role} on this site you may not {ACTION_WORDS.get(action, action)}.",
+        )
+    g.site, g.role = site, role
+    return site, role
+
+
+def bearing_for(site: dict, bearing_id: str) -> dict:
+    bearing = store.get_bearing(get_db(), site_id=site["id"], bearing_id=bearing_id)
+    if bearing is None:
+        abort(404)
+    return bearing
+
+
+ACTION_WORDS = {
+    "view": "see this site",
+    "export": "export this site's record",
+    "record": "record as-built values",
+    "edit-site": "change the site's settings",
+    "edit-schedule": "change the bearing schedule",
+    "decide": "decide on bearings",
+    "reopen": "reopen a released bearing",
+    "invite": "invite people to the site",
+    "release": "release bearings for closing up",
+}

@@ -1,0 +1,134 @@
+"""Log-in, log-out and who is asking: server-side sessions that stop working at once."""
+
+from __future__ import annotations
+
+from functools import wraps
+
+from flask import (
+    Blueprint,
+    abort,
+    current_app,
+    flash,
+    g,
+    redirect,
+    render_template,
+    request,
+    session,
+    url_for,
+)
+from flask_wtf import FlaskForm
+from wtforms import EmailField, PasswordField
+from wtforms.validators import DataRequired, Email, Length
+
+from sitecheck import auth as accounts
+from sitecheck import store
+from sitecheck.web import get_db
+
+bp = Blueprint("auth", __name__)
+
+SESSION_KEY = "token"
+
+
+class LoginForm(FlaskForm):
+    email = EmailField("E-mail", validators=[DataRequired(), Email(), Length(max=254)])
+    password = PasswordField("Password", validators=[DataRequired(), Length(max=256)])
+
+
+def load_user() -> None:
+    """Before every request: the user behind the cookie, or None. A revoked, expired or
+    disabled session gives None straight away (the cookie alone proves nothing)."""
+    g.user = None
+    token = session.get(SESSION_KEY)
+    if not token or request.path.startswith("/static/"):
+        return
+    db = get_db()
+    sid = accounts.session_id_for(token)
+    user = store.get_session_user(db, sid)
+    if user is None:
+        session.pop(SESSION_KEY, None)
+        return
+    store.touch_session(db, sid)
+    g.user = user
+
+
+def login_required(view):
+    @wraps(view)
+    def wrapped(*args, **kwargs):
+        if g.user is None:
+            if request.path.endswith(".json") or request.path.startswith("/api/"):
+                abort(401)
+            return redirect(
+                url_for("auth.login", next=request.full_path if request.method == "GET" else None)
+            )
+        return view(*args, **kwargs)
+
+    return wrapped
+
+
+@bp.route("/login", methods=["GET", "POST"])
+def login():
+    form = LoginForm()
+    if form.validate_on_submit():
+        db = get_db()
+        email = form.email.data.strip().lower()
+        remote = request.remote_addr or "-"
+        cfg = current_app.config
+        failures = store.recent_failures(
+            db, email=email, remote_addr=remote, window_s=cfg["LOGIN_FAILURE_WINDOW_S"]
+        )
+        wait = accounts.throttle_delay(
+            failures, limit=cfg["LOGIN_FAILURE_LIMIT"], window_s=cfg["LOGIN_FAILURE_WINDOW_S"]
+        )
+        if wait:
+            store.add_event(
+                db, kind="log-in throttled", detail={"email": email, "remote_addr": remote}
+            )
+            body = render_template(
+                "login.html",
+                form=form,
+                error=f"Too many failed log-ins. Try again in {wait // 60} minutes.",
+            )
+            return body, 429, {"Retry-After": str(wait)}
+        cred = store.login_credentials(db, email)
+        ok = accounts.verify_login(cred["password_hash"] if cred else None, form.password.data)
+        if ok and cred and cred["disabled"]:
+            ok = False
+        store.record_login_attempt(db, email=email, remote_addr=remote, ok=ok)
+        if not ok:
+            store.add_event(
+                db, kind="log-in failed", detail={"email": email, "remote_addr": remote}
+            )
+            return render_template(
+                "login.html",
+                form=form,
+                error="That e-mail and password do not match an active account.",
+            ), 401
+        token = accounts.new_session_token()
+        store.create_session(db, session_id=token.session_id, user_id=cred["id"])
+        store.add_event(db, kind="log-in", user_id=cred["id"], detail={"remote_addr": remote})
+        session.clear()  # a fresh cookie at log-in: no fixation
+        session[SESSION_KEY] = token.token
+        session.permanent = True
+        target = request.args.get("next") or ""
+        if not target.startswith("/") or target.startswith("//"):
+            target = url_for("pages.home")
+        return redirect(target)
+    status = 400 if form.errors else 200
+    return render_template("login.html", form=form, error=None), status
+
+
+@bp.post("/logout")
+def logout():
+    token = session.get(SESSION_KEY)
+    if token:
+        db = get_db()
+        store.revoke_session(db, accounts.session_id_for(token))
+        if g.user is not None:
+            store.add_event(db, kind="log-out", user_id=g.user["id"])
+    session.clear()
+    flash("You are logged out.")
+    response = redirect(url_for("auth.login"))
+    # Tell the browser to drop what this user left in it (the phone's unsent records are
+    # warned about before the log-out form is sent).
+    response.headers["Clear-Site-Data"] = '"cache", "storage"'
+    return response

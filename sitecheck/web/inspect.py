@@ -1,0 +1,7 @@
+"""Blueprint 'inspect' (being built)."""
+
+from __future__ import annotations
+
+from flask import Blueprint
+
+bp = Blueprint("inspect", __name__)

@@ -1,0 +1,120 @@
+"""The home page, error pages, and how every data page answers as HTML or JSON."""
+
+from __future__ import annotations
+
+import math
+
+from flask import Blueprint, g, jsonify, render_template, request
+from flask_wtf import FlaskForm
+from markupsafe import Markup, escape
+
+from sitecheck import store, workflow
+from sitecheck.cli import CAUTION
+from sitecheck.web import get_db
+from sitecheck.web.auth import login_required
+
+bp = Blueprint("pages", __name__)
+
+
+def page_rule(blueprint: Blueprint, rule: str, **options):
+    """Register a data page at ``rule`` and at ``rule.json``: one context, two renderings."""
+
+    def register(view):
+        blueprint.add_url_rule(rule, view_func=view, **options)
+        blueprint.add_url_rule(
+            rule + ".json", view_func=view, endpoint=view.__name__ + "_json", **options
+        )
+        return view
+
+    return register
+
+
+def wants_json() -> bool:
+    return request.path.endswith(".json")
+
+
+def render_page(template: str, status: int = 200, **context):
+    if wants_json():
+        data = {
+            k: v for k, v in context.items() if not isinstance(v, FlaskForm) and not callable(v)
+        }
+        data["caution"] = CAUTION
+        return jsonify(_jsonable(data)), status
+    return render_template(template, **context), status
+
+
+def _jsonable(value):
+    if isinstance(value, dict):
+        return {str(k): _jsonable(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_jsonable(v) for v in value]
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if hasattr(value, "as_dict"):
+        return _jsonable(value.as_dict())
+    return value
+
+
+@page_rule(bp, "/")
+@login_required
+def home():
+    db = get_db()
+    sites = store.sites_for_user(db, g.user["id"])
+    queue = store.review_queue(db, user_id=g.user["id"])
+    return render_page("home.html", sites=sites, queue_count=len(queue))
+
+
+def error_page(error):
+    code = getattr(error, "code", 500) or 500
+    description = getattr(error, "description", None) or "Something went wrong on the server."
+    if code == 500:
+        description = (
+            "Something went wrong on the server. Nothing you entered has been lost; try again."
+        )
+    if wants_json() or request.path.startswith("/api/"):
+        return jsonify(error=description, status=code), code
+    return render_template("error.html", code=code, description=description), code
+
+
+def csrf_error(error):
+    message = "This form has expired or did not come from sitecheck. Reload the page and send it again; nothing was saved."
+    if wants_json() or request.path.startswith("/api/"):
+        return jsonify(error=message, status=400, reason="csrf"), 400
+    return render_template("error.html", code=400, description=message), 400
+
+
+def install_template_helpers(app) -> None:
+    @app.context_processor
+    def helpers():
+        return {
+            "badge": state_badge,
+            "caution": CAUTION,
+            "util": utilisation_text,
+            "mm": lambda x: "—" if x is None else f"{x:g}",
+            "allowed": lambda action: workflow.allowed(getattr(g, "role", None), action),
+        }
+
+
+def state_badge(state: str) -> Markup:
+    """A state always as symbol and words, never colour alone."""
+    b = workflow.STATE_BADGES[state]
+    return Markup(
+        '<span class="state {cls}"><span aria-hidden="true">{sym}</span> {label}</span>'
+    ).format(cls=b.css_class, sym=b.symbol, label=escape(b.label))
+
+
+def utilisation_text(u) -> str:
+    if u is None or (isinstance(u, float) and not math.isfinite(u)):
+        return "no capacity"
+    return f"{u:.2f}"
+
+
+@bp.get("/api/csrf")
+def api_csrf():
+    """A fresh CSRF token for the phone to send queued records with (a cached page's token
+    may be stale). Never cached."""
+    from flask_wtf.csrf import generate_csrf
+
+    response = jsonify(token=generate_csrf(), user=g.user["id"] if g.user else None)
+    response.headers["Cache-Control"] = "no-store"
+    return response
