@@ -380,6 +380,189 @@ def schedule_csv() -> str:
 
 SCHEDULE_PATH = Path(__file__).resolve().parent.parent / "demo_site" / "schedule.csv"
 
+BRICK_WING_NAME = "Tanner's Yard, brick wing"
+
+# Demo log-ins, printed when the demo is built. For the invented demo only.
+DEMO_PEOPLE = {
+    "engineer": ("engineer@tanners-yard.example", "Priya Okafor", "demo engineer pass"),
+    "inspector": ("inspector@tanners-yard.example", "Tom Brennan", "demo inspector pass"),
+    "contractor": ("contractor@tanners-yard.example", "Lena Varga", "demo contractor pass"),
+    "viewer": (
+        "building.control@tanners-yard.example",
+        "Sam Ruiz (building control)",
+        "demo viewer pass",
+    ),
+}
+
+# What happens after the site visit, so every state shows in the demo.
+_DECISIONS = {
+    "GF-B1-W": (
+        "accept",
+        "Padstone cut to 330 mm on site; re-check as built passes with the measured 175 mm to the door. Accept as built.",
+    ),
+    "GF-B2-S": (
+        "remedial",
+        "Bearing of 90 mm is under the 100 mm minimum. Extend the bearing: reposition the beam end or add a steel bearing plate, then measure again.",
+    ),
+}
+_RELEASES = {"GF-B1-E"}
+
+
+def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
+    """A fresh demo database: the invented site, one person per role, the schedule, as-built
+    records with generated photos, one decision of each kind that matters and releases.
+    Returns role → (e-mail, password) for the log-in list."""
+    import dataclasses
+    from datetime import UTC, datetime, timedelta
+
+    from . import auth, services, store
+    from .bearing import BS5628, basis_named
+    from .bearing.review import ReviewSettings
+    from .photos import PhotoStore, ingest_photo
+    from .schedule import parse_schedule
+
+    path = Path(db_path).resolve()
+    path.parent.mkdir(parents=True, exist_ok=True)
+    for suffix in ("", "-wal", "-shm"):
+        Path(str(path) + suffix).unlink(missing_ok=True)
+    photos = PhotoStore(path.parent / "photos")
+    db = store.open_db(path)
+    try:
+        people = {}
+        for role, (email, name, password) in DEMO_PEOPLE.items():
+            u = store.create_user(
+                db, email=email, name=name, password_hash=auth.hash_password(password)
+            )
+            people[role] = u["id"]
+        engineer = people["engineer"]
+        parsed = parse_schedule(schedule_csv())
+        sites = {}
+        for site_name, basis_name, address in (
+            (SITE_NAME, None, SITE_ADDRESS),
+            (BRICK_WING_NAME, BS5628, SITE_ADDRESS),
+        ):
+            basis = basis_named(basis_name) if basis_name else None
+            code_basis, review = services.default_site_settings(basis.name if basis else None)
+            site = store.create_site(
+                db,
+                name=site_name,
+                address=address,
+                code_basis=code_basis,
+                review_settings=review,
+                created_by=engineer,
+            )
+            for role in ("inspector", "contractor", "viewer"):
+                store.add_membership(
+                    db, user_id=people[role], site_id=site["id"], role=role, invited_by=engineer
+                )
+            sites[basis.name if basis else "EC6"] = site
+        ReviewSettings()  # the defaults; shown and editable on each site's settings page
+
+        visit = datetime.now(UTC).replace(microsecond=0) - timedelta(days=1, hours=3)
+        for n, row in enumerate(parsed.rows):
+            site = sites[BS5628] if row.basis_name == BS5628 else sites["EC6"]
+            bearing = services.add_bearing(
+                db,
+                site=site,
+                reference=row.reference,
+                location=row.location,
+                design=row.design,
+                user_id=engineer,
+            )
+            if row.measurements is None:
+                continue
+            measured = visit + timedelta(minutes=12 * n)
+            stamp = measured.strftime("%Y-%m-%dT%H:%M:%SZ")
+            stored, _ = services.record_as_built(
+                db,
+                site=site,
+                bearing=bearing,
+                uuid=str(_uuid_for(row.reference)),
+                measured_at=stamp,
+                design_revision=bearing["revision"],
+                measurements=_plain(dataclasses.asdict(row.measurements)),
+                checklist=_plain(dataclasses.asdict(row.checklist)) if row.checklist else {},
+                notes=f"Measured on the demo visit: {row.location.lower()}.",
+                inspector_id=people["inspector"],
+                now=measured + timedelta(minutes=1),
+            )
+            for k in range(2 if n % 3 else 1):
+                picture = ingest_photo(_demo_photo(row.reference, measured, k))
+                services.store_photo(
+                    db,
+                    site=site,
+                    record_uuid=stored.row["uuid"],
+                    photo=picture,
+                    photos=photos,
+                    user_id=people["inspector"],
+                )
+        for reference, (kind, reason) in _DECISIONS.items():
+            site = sites["EC6"]
+            bearing = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+            services.decide(
+                db, site=site, bearing=bearing, kind=kind, reason=reason, engineer_id=engineer
+            )
+        for reference in sorted(_RELEASES):
+            site = sites["EC6"]
+            bearing = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+            services.release(
+                db,
+                site=site,
+                bearing=bearing,
+                contractor_id=people["contractor"],
+                contractor_name="Lena Varga, Varga Build Ltd (invented)",
+                statement="Bearing inspected and released for closing up.",
+            )
+    finally:
+        db.conn.close()
+    return {role: (email, password) for role, (email, _name, password) in DEMO_PEOPLE.items()}
+
+
+def _plain(values: dict) -> dict:
+    return {k: v for k, v in values.items() if v is not None}
+
+
+def _uuid_for(reference: str):
+    import uuid
+
+    # Stable per bearing, so rebuilding the demo gives the same record ids.
+    return uuid.uuid5(uuid.NAMESPACE_URL, f"sitecheck-demo:{reference}")
+
+
+def _demo_photo(reference: str, when, k: int) -> bytes:
+    """A drawn stand-in for a site photo: coursed blocks, a padstone and a beam end, with the
+    bearing's reference, and the capture time in its EXIF as a phone would write it."""
+    import io
+    import random
+
+    from PIL import Image, ImageDraw
+
+    rng = random.Random(f"{reference}-{k}")
+    w, h = 1600, 1200
+    im = Image.new("RGB", (w, h), (196, 196, 190))
+    d = ImageDraw.Draw(im)
+    course = 110
+    for row in range(h // course + 1):
+        off = 0 if row % 2 == 0 else 220
+        for col in range(-1, w // 440 + 2):
+            x0, y0 = col * 440 + off, row * course
+            tone = rng.randint(150, 185)
+            d.rectangle([x0 + 6, y0 + 6, x0 + 434, y0 + course - 4], fill=(tone, tone, tone - 6))
+    pad_top = 560 + rng.randint(-30, 30)
+    d.rectangle(
+        [520, pad_top, 1080, pad_top + 150], fill=(120, 122, 118), outline=(60, 60, 60), width=4
+    )
+    d.rectangle([600, pad_top - 60, 1000, pad_top], fill=(70, 52, 40))
+    d.rectangle([600, pad_top - 260, 1000, pad_top - 220], fill=(70, 52, 40))
+    d.rectangle([780, pad_top - 220, 820, pad_top - 60], fill=(70, 52, 40))
+    d.rectangle([40, 40, 760, 130], fill=(255, 255, 255))
+    d.text((60, 60), f"{reference}  photo {k + 1}", fill=(0, 0, 0), font_size=56)
+    exif = Image.Exif()
+    exif[0x0132] = when.strftime("%Y:%m:%d %H:%M:%S")  # DateTime
+    out = io.BytesIO()
+    im.save(out, "JPEG", quality=85, exif=exif.tobytes())
+    return out.getvalue()
+
 
 def main(argv: list[str] | None = None) -> int:
     target = Path(argv[0]) if argv else SCHEDULE_PATH

@@ -297,3 +297,35 @@ def reopen(db, *, site: dict, bearing: dict, role: str, reason: str, engineer_id
 
 def _finite(x: float) -> float | None:
     return x if x != float("inf") else None
+
+
+def store_photo(
+    db, *, site: dict, record_uuid: str, photo, photos, user_id: int, uuid: str | None = None
+) -> store.Stored:
+    """Keep an ingested photo (sitecheck.photos.IngestedPhoto): both sizes on disk by their
+    hash, then its facts in the database, idempotent by the photo's UUID. The camera's
+    capture time has no zone unless the phone wrote one; it is kept as the site's clock
+    reading, marked UTC, which is how the record screens show every time."""
+    import uuid as uuidlib
+
+    photos.put(photo.display_jpeg)
+    photos.put(photo.thumbnail_jpeg)
+    captured = photo.capture_time
+    if captured and not captured.endswith("Z") and "+" not in captured[10:]:
+        captured = captured + "Z"
+    lat, lon = photo.gps if photo.gps else (None, None)
+    return store.insert_photo(
+        db,
+        site_id=site["id"],
+        uuid=uuid or str(uuidlib.uuid4()),
+        record_uuid=record_uuid,
+        sha256=photo.display_sha256,
+        thumb_sha256=photo.thumbnail_sha256,
+        width=photo.display_width,
+        height=photo.display_height,
+        size_bytes=photo.display_bytes,
+        captured_at=captured,
+        gps_lat=lat,
+        gps_lon=lon,
+        user_id=user_id,
+    )

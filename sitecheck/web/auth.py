@@ -18,7 +18,7 @@ from flask import (
 )
 from flask_wtf import FlaskForm
 from wtforms import EmailField, PasswordField
-from wtforms.validators import DataRequired, Email, Length
+from wtforms.validators import DataRequired, Length, Regexp
 
 from sitecheck import auth as accounts
 from sitecheck import store
@@ -30,7 +30,17 @@ SESSION_KEY = "token"
 
 
 class LoginForm(FlaskForm):
-    email = EmailField("E-mail", validators=[DataRequired(), Email(), Length(max=254)])
+    # A shape check only: the account lookup is the real test of an address.
+    email = EmailField(
+        "E-mail",
+        validators=[
+            DataRequired(),
+            Length(max=254),
+            Regexp(
+                r"^[^@\s]+@[^@\s]+$", message="Enter an e-mail address such as name@firm.example."
+            ),
+        ],
+    )
     password = PasswordField("Password", validators=[DataRequired(), Length(max=256)])
 
 

@@ -118,3 +118,42 @@ def api_csrf():
     response = jsonify(token=generate_csrf(), user=g.user["id"] if g.user else None)
     response.headers["Cache-Control"] = "no-store"
     return response
+
+
+@bp.get("/manifest.webmanifest")
+def manifest():
+    """The web app manifest: sitecheck installs to a phone's home screen."""
+    from flask import url_for
+
+    icons = [
+        {
+            "src": url_for("static", filename=f"icon-{n}.png"),
+            "sizes": f"{n}x{n}",
+            "type": "image/png",
+            "purpose": "any",
+        }
+        for n in (192, 512)
+    ] + [
+        {
+            "src": url_for("static", filename=f"icon-maskable-{n}.png"),
+            "sizes": f"{n}x{n}",
+            "type": "image/png",
+            "purpose": "maskable",
+        }
+        for n in (192, 512)
+    ]
+    body = {
+        "name": "sitecheck: bearings as built",
+        "short_name": "sitecheck",
+        "description": "Re-check beam bearings on masonry as built, before they are closed up.",
+        "start_url": "/",
+        "scope": "/",
+        "display": "standalone",
+        "background_color": "#f3f6f7",
+        "theme_color": "#1f4e5a",
+        "icons": icons,
+    }
+    response = jsonify(body)
+    response.mimetype = "application/manifest+json"
+    response.headers["Cache-Control"] = "no-cache"
+    return response

@@ -1,0 +1,108 @@
+"""Browser fixtures: a real server on 127.0.0.1 over a demo database, and Debian's
+chromium driven by Playwright on a phone-sized, touch viewport.
+
+Playwright's own browser download does not work here; ``executable_path`` points at
+Debian's ``chromium`` (scripts/test installs it).
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import threading
+from pathlib import Path
+
+import pytest
+from playwright.sync_api import expect
+from werkzeug.serving import make_server
+
+from sitecheck.demo import DEMO_PEOPLE, build_demo
+from sitecheck.web import create_app
+
+CHROMIUM = os.environ.get("CHROMIUM_PATH") or shutil.which("chromium")
+CHROMIUM_ARGS = [
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-dev-shm-usage",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--disable-quic",
+    "--no-first-run",
+    "--no-default-browser-check",
+]
+ARTEFACTS = Path(__file__).resolve().parents[2] / "test-results"
+expect.set_options(timeout=10_000)  # 2-core CI under load
+
+
+def pytest_collection_modifyitems(items):
+    for item in items:
+        if "tests/browser/" in str(item.fspath):
+            item.add_marker(pytest.mark.browser)
+
+
+class LiveServer:
+    def __init__(self, app):
+        self.app = app
+        self._srv = make_server("127.0.0.1", 0, app, threaded=True)
+        self.url = f"http://127.0.0.1:{self._srv.server_port}"
+        self._thread = threading.Thread(target=self._srv.serve_forever, daemon=True)
+        self._thread.start()
+
+    def stop(self):
+        self._srv.shutdown()
+        self._thread.join(5)
+
+
+@pytest.fixture(scope="session")
+def live_server(tmp_path_factory):
+    if not CHROMIUM:
+        pytest.fail("chromium not found: apt-get install -y chromium (scripts/test does this)")
+    db_path = tmp_path_factory.mktemp("live") / "demo.db"
+    build_demo(db_path)
+    server = LiveServer(create_app(db_path))
+    server.db_path = db_path
+    yield server
+    server.stop()
+
+
+@pytest.fixture(scope="session")
+def base_url(live_server):
+    return live_server.url
+
+
+@pytest.fixture(scope="session")
+def browser_type_launch_args(browser_type_launch_args):
+    return {
+        **browser_type_launch_args,
+        "executable_path": CHROMIUM,
+        "args": CHROMIUM_ARGS,
+        "timeout": 60_000,
+    }
+
+
+@pytest.fixture(scope="session")
+def browser_context_args(browser_context_args, playwright):
+    phone = dict(playwright.devices["Pixel 7"])
+    phone.pop("default_browser_type", None)
+    return {**browser_context_args, **phone}
+
+
+@pytest.fixture
+def shoot(page, request):
+    """shoot("name") saves a full-page screenshot under test-results/ to look at."""
+    ARTEFACTS.mkdir(exist_ok=True)
+
+    def take(name: str):
+        page.screenshot(path=str(ARTEFACTS / f"{request.node.name}-{name}.png"), full_page=True)
+
+    return take
+
+
+def log_in(page, role: str) -> None:
+    email, _name, password = DEMO_PEOPLE[role]
+    page.goto("/login")
+    page.fill("#email", email)
+    page.fill("#password", password)
+    page.click("button[type=submit]")
+    expect(page.locator("h1")).not_to_have_text("Log in")
