@@ -111,7 +111,9 @@ def _security_headers(response):
     h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
     if request.path.startswith("/static/") or request.path in ("/sw.js", "/manifest.webmanifest"):
         return response
-    if getattr(g, "user", None) is not None:
+    # A view that deliberately marks its response private (content-addressed photos) keeps
+    # its own caching; everything else a logged-in user sees is not stored.
+    if getattr(g, "user", None) is not None and not response.cache_control.private:
         h["Cache-Control"] = "no-store"
     return response
 

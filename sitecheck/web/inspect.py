@@ -1,7 +1,432 @@
-"""Blueprint 'inspect' (being built)."""
+"""The inspector's job: the bearings to measure, the as-built form, the server's verdict,
+and the photos.
+
+Views only parse, call the core, services, store and photos, and render. A record is stored
+once per client-made UUID: a second send of the same form shows the first result.
+"""
 
 from __future__ import annotations
 
-from flask import Blueprint
+import contextlib
+import uuid as uuid_module
+from datetime import datetime
+
+from flask import (
+    Blueprint,
+    Response,
+    abort,
+    current_app,
+    flash,
+    g,
+    redirect,
+    render_template,
+    request,
+    url_for,
+)
+from werkzeug.exceptions import RequestEntityTooLarge
+
+from sitecheck import services, store, workflow
+from sitecheck.bearing import input_errors
+from sitecheck.bearing.errors import InputError
+from sitecheck.bearing.review import Measurements, as_built_input, missing_measurements
+from sitecheck.bearing.serial import measurements_from_dict
+from sitecheck.photos import IngestedPhoto, PhotoLimits, PhotoRejected, ingest_photo
+from sitecheck.web import get_db, photo_store
+from sitecheck.web.access import bearing_for, site_for
+from sitecheck.web.auth import login_required
+from sitecheck.web.pages import page_rule, render_page, wants_json
+from sitecheck.web.record_form import (
+    GROUPS,
+    MAX_PHOTOS,
+    SPECS,
+    RecordForm,
+    checklist_rows,
+    comparison,
+    designed_text,
+    when_text,
+)
 
 bp = Blueprint("inspect", __name__)
+
+PHOTO_SIZES = ("display", "thumb")
+# Measuring first: a bearing nobody has measured, or one that needs measuring again after
+# remedial work, is what the inspector came for.
+_SURVEY_FIRST = {workflow.AWAITING_SURVEY: 0, workflow.REMEDIAL: 1}
+
+
+@page_rule(bp, "/sites/<site_id>/inspect")
+@login_required
+def bearings(site_id):
+    site, _role = site_for(site_id, "record")
+    rows = store.list_bearings(get_db(), site_id=site["id"])
+    rows.sort(key=lambda b: (_SURVEY_FIRST.get(b["state"], 2), b["reference"].lower()))
+    items = [
+        {
+            "id": b["id"],
+            "reference": b["reference"],
+            "location": b["location"],
+            "state": b["state"],
+            "revision": b["revision"],
+            "record_url": url_for("inspect.record_form", site_id=site["id"], bearing_id=b["id"]),
+            "latest_record_url": (
+                url_for("inspect.result", site_id=site["id"], record_uuid=b["latest_record_uuid"])
+                if b["latest_record_uuid"]
+                else None
+            ),
+        }
+        for b in rows
+    ]
+    to_survey = sum(1 for b in rows if b["state"] in _SURVEY_FIRST)
+    return render_page(
+        "inspect/bearings.html",
+        site=_site_summary(site),
+        bearings=items,
+        to_survey=to_survey,
+    )
+
+
+@bp.route("/sites/<site_id>/bearings/<bearing_id>/record", methods=["GET", "POST"])
+@login_required
+def record_form(site_id, bearing_id):
+    site, _role = site_for(site_id, "record")
+    bearing = bearing_for(site, bearing_id)
+    form = RecordForm()
+    if request.method == "GET":
+        form.start(bearing)
+        return _form_page(site, bearing, form)
+
+    db = get_db()
+    general: list[str] = []
+    form.validate()
+    if form.record_uuid.errors:
+        form.renew_uuid()
+    else:
+        existing = store.get_record(db, site_id=site["id"], uuid=form.record_uuid.data)
+        if existing is not None:
+            if existing["bearing_id"] == bearing["id"] and existing["inspector_id"] == g.user["id"]:
+                # The same form sent again (a double tap, a retry after a lost answer).
+                flash("This as-built record was already stored; it was not stored twice.")
+                return redirect(_result_url(site, existing["uuid"]))
+            form.renew_uuid()
+            general.append(
+                "This form's record id belongs to another record. It has been renewed: "
+                "check the values and send again."
+            )
+
+    revision = _posted_revision(form, bearing)
+    chosen = _chosen_photos(form)
+    photos = _check_photos(form, chosen)
+
+    if revision is not None:
+        # Fields that did not parse are left out (the design stands in), so the core can
+        # still point at every other field in the same answer.
+        design = services.design_of(bearing)
+        try:
+            built = as_built_input(design, measurements_from_dict(form.measurements()))
+            problems = list(input_errors(built, services.basis_for(site)))
+        except InputError as error:
+            problems = [error]
+        general += form.add_core_errors(problems, bearing["design_input"])
+
+    if general or _has_errors(form):
+        if chosen:
+            form.photos.errors = [
+                *form.photos.errors,
+                "Choose the photos again before sending: a browser cannot keep them when "
+                "the form comes back.",
+            ]
+        return _form_page(site, bearing, form, general=general, status=400)
+
+    try:
+        stored = _store(db, site, bearing, form, revision, photos)
+    except InputError as error:
+        general = form.add_core_errors([error], bearing["design_input"])
+        return _form_page(site, bearing, form, general=general, status=400)
+    except store.UuidInUse:
+        form.renew_uuid()
+        general = [
+            "This form's record id was used by another record meanwhile. It has been "
+            "renewed: choose the photos again and send."
+        ]
+        return _form_page(site, bearing, form, general=general, status=400)
+    if stored.created:
+        flash("As-built record stored and re-checked by the server.")
+    else:
+        flash("This as-built record was already stored; it was not stored twice.")
+    return redirect(_result_url(site, stored.row["uuid"]))
+
+
+@page_rule(bp, "/sites/<site_id>/records/<record_uuid>")
+@login_required
+def result(site_id, record_uuid):
+    site, _role = site_for(site_id, "view")
+    db = get_db()
+    record = store.get_record(db, site_id=site["id"], uuid=record_uuid)
+    if record is None:
+        abort(404, description="There is no such as-built record on this site.")
+    bearing = store.get_bearing(db, site_id=site["id"], bearing_id=record["bearing_id"])
+    design_input = _design_at(db, site, bearing, record["design_revision"])
+    inspector = store.get_user_by_id(db, record["inspector_id"])
+    photos = [
+        {
+            "uuid": p["uuid"],
+            "width": p["width"],
+            "height": p["height"],
+            "captured_at": p["captured_at"],
+            "display_url": url_for(
+                "inspect.photo", site_id=site["id"], photo_uuid=p["uuid"], size="display"
+            ),
+            "thumb_url": url_for(
+                "inspect.photo", site_id=site["id"], photo_uuid=p["uuid"], size="thumb"
+            ),
+        }
+        for p in store.photos_for_record(db, site_id=site["id"], record_uuid=record["uuid"])
+    ]
+    return render_page(
+        "inspect/result.html",
+        site=_site_summary(site),
+        bearing=_bearing_summary(bearing),
+        record={
+            "uuid": record["uuid"],
+            "design_revision": record["design_revision"],
+            "measured_at": record["measured_at"],
+            "received_at": record["received_at"],
+            "measured_text": when_text(record["measured_at"]),
+            "received_text": when_text(record["received_at"]),
+            "inspector": inspector["name"] if inspector else "unknown",
+            "notes": record["notes"],
+            "measurements": record["measurements"],
+            "checklist": record["checklist"],
+        },
+        result=record["result"],
+        reasons=record["reasons"],
+        blocking=record["blocking"],
+        flags={
+            "older_revision": bool(record["older_revision"]),
+            "late": bool(record["late"]),
+            "sets_state": bearing["latest_record_uuid"] == record["uuid"],
+        },
+        comparison=comparison(design_input, record["measurements"]),
+        checklist=checklist_rows(record["checklist"]),
+        photos=photos,
+        record_again_url=(
+            url_for("inspect.record_form", site_id=site["id"], bearing_id=bearing["id"])
+            if workflow.allowed(g.role, "record")
+            else None
+        ),
+    )
+
+
+@bp.get("/sites/<site_id>/photos/<photo_uuid>/<size>")
+@login_required
+def photo(site_id, photo_uuid, size):
+    site, _role = site_for(site_id, "view")
+    if size not in PHOTO_SIZES:
+        abort(404)
+    row = store.get_photo(get_db(), site_id=site["id"], uuid=photo_uuid)
+    if row is None:
+        abort(404, description="There is no such photo on this site.")
+    sha = row["sha256"] if size == "display" else (row["thumb_sha256"] or row["sha256"])
+    try:
+        data = photo_store().open(sha)
+    except FileNotFoundError:
+        abort(404, description="This photo's file is missing from the photo store.")
+    response = Response(data, mimetype="image/jpeg")
+    response.headers["Content-Disposition"] = f'inline; filename="{row["uuid"]}.jpg"'
+    response.headers["X-Content-Type-Options"] = "nosniff"
+    # Stored by content hash and never changed, so a phone may keep it for good; private
+    # because it is one site's photo behind a log-in.
+    response.headers["Cache-Control"] = "private, max-age=31536000, immutable"
+    return response
+
+
+@bp.errorhandler(RequestEntityTooLarge)
+def too_large(error):
+    limit_mb = (current_app.config.get("MAX_CONTENT_LENGTH") or 0) / (1024 * 1024)
+    description = (
+        f"What was sent is larger than {limit_mb:g} MB, the most one as-built record may carry "
+        "with its photos. Nothing was saved. Go back, choose fewer photos or lower the camera's "
+        "resolution, and send again."
+    )
+    if wants_json():
+        return {"error": description, "status": 413}, 413
+    back = None
+    args = request.view_args or {}
+    if request.endpoint == "inspect.record_form":
+        back = url_for(
+            "inspect.record_form", site_id=args["site_id"], bearing_id=args["bearing_id"]
+        )
+    return render_template("inspect/too_large.html", description=description, back=back), 413
+
+
+# --- helpers -----------------------------------------------------------------------------------
+
+
+def _form_page(site, bearing, form, *, general=(), status=200):
+    design_input = bearing["design_input"]
+    design = services.design_of(bearing)
+    # With nothing measured yet, the fields the review would call "not measured" are the
+    # ones a record needs to go straight to 'within design'.
+    needed = set(missing_measurements(design, Measurements(), services.settings_for(site)))
+    return render_page(
+        "inspect/record_form.html",
+        status=status,
+        site=_site_summary(site),
+        bearing=_bearing_summary(bearing),
+        form=form,
+        groups=GROUPS,
+        specs=SPECS,
+        designed={name: designed_text(design_input, name) for name in SPECS},
+        needed=needed,
+        released=bearing["state"] == workflow.RELEASED,
+        general=list(general),
+        max_photos=MAX_PHOTOS,
+        photo_mb=PhotoLimits().max_bytes // 1_000_000,
+        total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
+        older_form=_older_form(form, bearing),
+    )
+
+
+def _has_errors(form) -> bool:
+    return any(field.errors for field in form)
+
+
+def _posted_revision(form, bearing) -> int | None:
+    """The design revision the form was opened against; older ones are kept and flagged."""
+    try:
+        revision = int(form.design_revision.data)
+    except (TypeError, ValueError):
+        revision = None
+    if revision is None or not 1 <= revision <= bearing["revision"]:
+        form.design_revision.data = str(bearing["revision"])
+        form.design_revision.errors = [
+            "This form does not say which design revision it was opened against. It now "
+            f"shows revision {bearing['revision']}: check the designed values and send again."
+        ]
+        return None
+    return revision
+
+
+def _older_form(form, bearing) -> bool:
+    try:
+        return int(form.design_revision.data) < bearing["revision"]
+    except (TypeError, ValueError):
+        return False
+
+
+def _chosen_photos(form) -> list:
+    # An empty file input still sends one part, with no file name.
+    return [f for f in (form.photos.data or []) if getattr(f, "filename", None)]
+
+
+def _check_photos(form, chosen) -> list[IngestedPhoto]:
+    """Check every photo in memory before anything is stored; all or none are kept."""
+    if len(chosen) > MAX_PHOTOS:
+        form.photos.errors = [
+            *form.photos.errors,
+            f"Photos: at most {MAX_PHOTOS} for one as-built record; you chose {len(chosen)}.",
+        ]
+        return []
+    accepted = []
+    for number, upload in enumerate(chosen, start=1):
+        name = (upload.filename or "")[:60]
+        try:
+            accepted.append(ingest_photo(upload.read()))
+        except PhotoRejected as rejected:
+            form.photos.errors = [
+                *form.photos.errors,
+                f"Photo {number} ({name}): {rejected.message}",
+            ]
+    return accepted
+
+
+def _store(db, site, bearing, form, revision, photos):
+    """Files first (content-addressed, so a crash leaves only unreferenced files), then the
+    record and its photo rows in one transaction."""
+    ps = photo_store()
+    new_files = []
+    try:
+        for p in photos:
+            for data, sha in (
+                (p.display_jpeg, p.display_sha256),
+                (p.thumbnail_jpeg, p.thumbnail_sha256),
+            ):
+                if not ps.exists(sha):
+                    new_files.append(sha)
+                ps.put(data)
+        with store.transaction(db):
+            stored, _recheck = services.record_as_built(
+                db,
+                site=site,
+                bearing=bearing,
+                uuid=form.record_uuid.data,
+                measured_at=form.measured_at.data.strip(),
+                design_revision=revision,
+                measurements=form.measurements(),
+                checklist=form.checklist(),
+                notes=form.notes.data or "",
+                inspector_id=g.user["id"],
+            )
+            if stored.created:
+                for p in photos:
+                    store.insert_photo(
+                        db,
+                        site_id=site["id"],
+                        uuid=str(uuid_module.uuid4()),
+                        record_uuid=stored.row["uuid"],
+                        sha256=p.display_sha256,
+                        thumb_sha256=p.thumbnail_sha256,
+                        width=p.display_width,
+                        height=p.display_height,
+                        size_bytes=p.display_bytes,
+                        captured_at=_zoned(p.capture_time),
+                        gps_lat=p.gps[0] if p.gps else None,
+                        gps_lon=p.gps[1] if p.gps else None,
+                        user_id=g.user["id"],
+                    )
+    except BaseException:
+        # Only files this request brought in; a file another record shares stays.
+        for sha in new_files:
+            with contextlib.suppress(OSError, ValueError):
+                ps.delete(sha)
+        raise
+    return stored
+
+
+def _zoned(capture_time: str | None) -> str | None:
+    """The camera's time if it said its zone; a zoneless camera time cannot be stored as UTC
+    without guessing the zone, so it is left out (the record's own time stands)."""
+    if not capture_time:
+        return None
+    try:
+        moment = datetime.fromisoformat(capture_time)
+    except ValueError:
+        return None
+    return capture_time if moment.tzinfo is not None else None
+
+
+def _design_at(db, site, bearing, revision: int) -> dict:
+    if revision == bearing["revision"]:
+        return bearing["design_input"]
+    for row in store.bearing_revisions(db, site_id=site["id"], bearing_id=bearing["id"]):
+        if row["revision"] == revision:
+            return row["design_input"]
+    return bearing["design_input"]
+
+
+def _result_url(site, record_uuid):
+    return url_for("inspect.result", site_id=site["id"], record_uuid=record_uuid)
+
+
+def _site_summary(site) -> dict:
+    return {"id": site["id"], "name": site["name"]}
+
+
+def _bearing_summary(bearing) -> dict:
+    return {
+        "id": bearing["id"],
+        "reference": bearing["reference"],
+        "location": bearing["location"],
+        "state": bearing["state"],
+        "revision": bearing["revision"],
+    }

@@ -1,12 +1,413 @@
-"""Blueprint 'review' (being built)."""
+"""The engineer's review: the bearings waiting for a decision, and one bearing's design
+against what was built, with the decision form.
+
+The page shows what the store holds and what the core already worked out (both results are
+stored with their traces); nothing is re-calculated here.
+"""
 
 from __future__ import annotations
 
-from flask import Blueprint
+from flask import Blueprint, current_app, flash, g, redirect, url_for
+
+from sitecheck import services, store, workflow
+from sitecheck.bearing.review import FIELD_LABELS
+from sitecheck.web import get_db
+from sitecheck.web.access import bearing_for, site_for
+from sitecheck.web.auth import login_required
+from sitecheck.web.decision_forms import (
+    DECISION_HINTS,
+    DECISION_LABELS,
+    DecisionForm,
+    ReopenForm,
+)
+from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("review", __name__)
 
 
-@bp.get("/review")
+# --- the queue ----------------------------------------------------------------------------------
+
+
+@page_rule(bp, "/review")
+@login_required
 def queue():
-    return "to do", 501
+    db = get_db()
+    user_id = g.user["id"]
+    is_engineer = any(s["role"] == workflow.ENGINEER for s in store.sites_for_user(db, user_id))
+    rows = store.review_queue(db, user_id=user_id) if is_engineer else []
+    items = [_queue_item(r) for r in rows]
+    if not is_engineer:
+        sentence = "Only a site's engineer decides on bearings, and you are not the engineer on any site, so there is nothing here for you."
+    elif not items:
+        sentence = "Nothing to decide: no bearing on your sites is waiting for the engineer."
+    else:
+        sentence = None
+    return render_page(
+        "review/queue.html", items=items, is_engineer=is_engineer, sentence=sentence, when=when
+    )
+
+
+def _queue_item(row: dict) -> dict:
+    reasons = row.get("reasons") or []
+    blocking = [r for r in reasons if r.get("severity") == "blocks"]
+    first = (blocking or reasons or [None])[0]
+    return {
+        "site_id": row["site_id"],
+        "site_name": row["site_name"],
+        "bearing_id": row["id"],
+        "reference": row["reference"],
+        "location": row["location"],
+        "state": row["state"],
+        "utilisation": row["utilisation"],
+        "has_record": row["latest_record_uuid"] is not None,
+        "blocking": row["blocking"] or 0,
+        "first_reason": first["sentence"] if first else None,
+        "older_revision": bool(row["older_revision"]),
+        "measured_at": row["measured_at"],
+        "waiting_since": row["state_changed_at"],
+    }
+
+
+# --- one bearing --------------------------------------------------------------------------------
+
+
+@page_rule(bp, "/sites/<site_id>/bearings/<bearing_id>/review")
+@login_required
+def bearing(site_id, bearing_id):
+    site, _role = site_for(site_id, "view")
+    return bearing_page(site, bearing_for(site, bearing_id))
+
+
+@bp.post("/sites/<site_id>/bearings/<bearing_id>/decision")
+@login_required
+def decide(site_id, bearing_id):
+    site, _role = site_for(site_id, "decide")
+    found = bearing_for(site, bearing_id)
+    form = DecisionForm()
+    if not workflow.can_decide(found["state"]):
+        # The form is no longer on the page, so its field errors would be invisible.
+        return bearing_page(site, found, message=_nothing_to_decide(found), status=409)
+    if not form.validate_on_submit():
+        return bearing_page(site, found, decision_form=form, status=400)
+    # Decide on what the engineer saw: if the state or the latest record moved since, the
+    # store refuses with StaleState and nothing is kept.
+    seen = dict(found, state=form.seen_state.data, latest_record_uuid=form.record_uuid.data.lower())
+    db = get_db()
+    try:
+        services.decide(
+            db,
+            site=site,
+            bearing=seen,
+            kind=form.kind.data,
+            reason=form.reason.data,
+            engineer_id=g.user["id"],
+        )
+    except (store.StaleState, workflow.WorkflowError) as error:
+        fresh = bearing_for(site, bearing_id)
+        keep = DecisionForm(formdata=None, kind=form.kind.data, reason=form.reason.data)
+        return bearing_page(site, fresh, decision_form=keep, message=as_sentence(error), status=409)
+    now = bearing_for(site, bearing_id)
+    flash(
+        f"Decision kept: {DECISION_LABELS[form.kind.data].lower()}. "
+        f"Bearing {now['reference']} is now '{now['state']}'."
+    )
+    return redirect(url_for("review.bearing", site_id=site["id"], bearing_id=bearing_id))
+
+
+def _nothing_to_decide(b: dict) -> str:
+    if b["state"] == workflow.RELEASED:
+        return (
+            f"Bearing {b['reference']} is released and locked: there is nothing to decide. "
+            "Reopen it first, with a reason, if it must be looked at again."
+        )
+    return f"Bearing {b['reference']} is '{b['state']}': there is nothing to decide until an as-built record arrives."
+
+
+def bearing_page(
+    site: dict,
+    b: dict,
+    *,
+    decision_form: DecisionForm | None = None,
+    reopen_form: ReopenForm | None = None,
+    message: str | None = None,
+    status: int = 200,
+):
+    """The review page of one bearing; the release blueprint renders it too (reopening)."""
+    db = get_db()
+    records = store.records_for_bearing(db, site_id=site["id"], bearing_id=b["id"])
+    latest = next((r for r in records if r["uuid"] == b["latest_record_uuid"]), None)
+    names = _Names(db, site["id"])
+
+    may_decide = (
+        workflow.allowed(g.role, "decide")
+        and workflow.can_decide(b["state"])
+        and latest is not None
+    )
+    if may_decide and decision_form is None:
+        decision_form = DecisionForm(formdata=None)
+    if may_decide:
+        # Always the values now on the page, even when the engineer's words are kept.
+        decision_form.record_uuid.data = latest["uuid"]
+        decision_form.seen_state.data = b["state"]
+    may_reopen = workflow.allowed(g.role, "reopen") and b["state"] == workflow.RELEASED
+    if may_reopen and reopen_form is None:
+        reopen_form = ReopenForm(formdata=None)
+
+    photos = []
+    if latest is not None:
+        photos = [
+            _photo(site["id"], p)
+            for p in store.photos_for_record(db, site_id=site["id"], record_uuid=latest["uuid"])
+        ]
+
+    return render_page(
+        "review/bearing.html",
+        status=status,
+        site={"id": site["id"], "name": site["name"]},
+        role=g.role,
+        bearing=_bearing_summary(b),
+        design_result=b["design_result"],
+        latest=_record(latest, names, b) if latest else None,
+        comparison=_compare(b["design_input"], latest["measurements"]) if latest else [],
+        checklist=_checklist(latest["checklist"]) if latest else [],
+        photos=photos,
+        photos_viewable="inspect.photo" in current_app.view_functions,
+        records=[_record(r, names, b) for r in records],
+        history=bearing_history(db, site["id"], b["id"], names),
+        decision_kinds=[
+            {"kind": k, "label": DECISION_LABELS[k], "hint": DECISION_HINTS[k]}
+            for k in workflow.DECISION_KINDS
+        ],
+        # Booleans for JSON readers: the forms themselves are not sent as data.
+        may_decide=may_decide,
+        may_reopen=may_reopen,
+        decision_form=decision_form if may_decide else None,
+        reopen_form=reopen_form if may_reopen else None,
+        message=message,
+        when=when,
+    )
+
+
+def _bearing_summary(b: dict) -> dict:
+    return {
+        "id": b["id"],
+        "reference": b["reference"],
+        "location": b["location"],
+        "state": b["state"],
+        "state_changed_at": b["state_changed_at"],
+        "revision": b["revision"],
+        "design_utilisation": b["design_utilisation"],
+        "design_passed": b["design_passed"],
+        "latest_record_uuid": b["latest_record_uuid"],
+    }
+
+
+def _record(r: dict, names: _Names, b: dict) -> dict:
+    return {
+        "uuid": r["uuid"],
+        "measured_at": r["measured_at"],
+        "received_at": r["received_at"],
+        "inspector": names(r["inspector_id"]),
+        "design_revision": r["design_revision"],
+        "older_revision": bool(r["older_revision"]),
+        "late": bool(r["late"]),
+        "drives_state": r["uuid"] == b["latest_record_uuid"],
+        "utilisation": r["utilisation"],
+        "passed": bool(r["passed"]),
+        "blocking": r["blocking"],
+        "result": r["result"],
+        "reasons": r["reasons"],
+        "notes": r["notes"],
+    }
+
+
+def _photo(site_id: str, p: dict) -> dict:
+    out = {"uuid": p["uuid"], "captured_at": p["captured_at"], "width": p["width"]}
+    out["height"] = p["height"]
+    if "inspect.photo" in current_app.view_functions:
+        out["thumb_url"] = url_for(
+            "inspect.photo", site_id=site_id, photo_uuid=p["uuid"], size="thumb"
+        )
+        out["display_url"] = url_for(
+            "inspect.photo", site_id=site_id, photo_uuid=p["uuid"], size="display"
+        )
+    return out
+
+
+# Each measured value → where its design value sits in the stored design input, and its unit.
+# A missing padstone reads as "none" so that "padstone present" compares like the others.
+_DESIGN_PLACES: tuple[tuple[str, str, str | None, str], ...] = (
+    ("bearing_length", "beam", "bearing_length", "mm"),
+    ("flange_width", "beam", "flange_width", "mm"),
+    ("offset_along", "beam", "offset_along", "mm"),
+    ("offset_across", "beam", "offset_across", "mm"),
+    ("padstone_present", "padstone", None, ""),
+    ("padstone_length", "padstone", "length", "mm"),
+    ("padstone_width", "padstone", "width", "mm"),
+    ("padstone_depth", "padstone", "depth", "mm"),
+    ("padstone_concrete", "padstone", "concrete", ""),
+    ("wall_thickness", "wall", "thickness", "mm"),
+    ("a1", "wall", "a1", "mm"),
+    ("a2", "wall", "a2", "mm"),
+    ("masonry_material", "masonry", "material", ""),
+    ("masonry_group", "masonry", "group", ""),
+    ("unit_strength", "masonry", "unit_strength", "N/mm²"),
+    ("mortar", "masonry", "mortar", ""),
+)
+_LABELS = FIELD_LABELS | {
+    "offset_along": "Beam offset along the wall",
+    "offset_across": "Beam offset across the wall",
+    "padstone_concrete": "Padstone concrete",
+}
+
+
+def _compare(design_input: dict, measurements: dict) -> list[dict]:
+    """One row per measured value: design | as built | difference, in a fixed order."""
+    rows = []
+    for name, part, key, unit in _DESIGN_PLACES:
+        built = (measurements or {}).get(name)
+        if built is None:
+            continue  # not measured: the design value stands in the re-check
+        section = design_input.get(part)
+        if key is None:
+            designed = section is not None
+        else:
+            designed = None if section is None else section.get(key)
+        rows.append(_compare_row(name, unit, designed, built))
+    return rows
+
+
+def _compare_row(name: str, unit: str, designed, built) -> dict:
+    numeric = all(
+        isinstance(v, (int, float)) and not isinstance(v, bool) for v in (designed, built)
+    )
+    if numeric:
+        diff = built - designed
+        changed = abs(diff) > 1e-9
+        difference = f"{diff:+g} {unit}".strip() if changed else "0"
+    else:
+        diff = None
+        changed = designed != built
+        difference = "differs" if changed else "same"
+    return {
+        "field": name,
+        "label": _LABELS.get(name, name.replace("_", " ")),
+        "unit": unit,
+        "design": designed,
+        "as_built": built,
+        "design_text": _value_text(designed, unit),
+        "as_built_text": _value_text(built, unit),
+        "difference": diff,
+        "difference_text": difference,
+        "changed": changed,
+    }
+
+
+def _value_text(value, unit: str) -> str:
+    if value is None:
+        return "none"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, float):
+        return f"{value:g} {unit}".strip()
+    return f"{value} {unit}".strip()
+
+
+_CHECKLIST = (
+    ("bedded", "Padstone fully bedded on mortar", ""),
+    ("packing", "Packing under the beam", "mm"),
+    ("cracks", "Cracks in the masonry near the bearing", ""),
+    ("cut_units", "Cut or hollow units under the padstone", ""),
+    ("level", "Padstone level", ""),
+)
+
+
+def _checklist(answers: dict) -> list[dict]:
+    answers = answers or {}
+    return [
+        {
+            "item": key,
+            "question": question,
+            "answer": answers.get(key),
+            "answer_text": "not looked at"
+            if answers.get(key) is None
+            else _value_text(answers[key], unit),
+        }
+        for key, question, unit in _CHECKLIST
+    ]
+
+
+# --- shared by the release blueprint --------------------------------------------------------------
+
+
+def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[dict]:
+    """Decisions, releases and reopenings of one bearing, newest first."""
+    entries = []
+    for d in store.decisions_for(db, site_id=site_id, bearing_id=bearing_id):
+        entries.append(
+            {
+                "what": "decision",
+                "title": DECISION_LABELS.get(d["kind"], d["kind"]),
+                "at": d["created_at"],
+                "who": names(d["engineer_id"]),
+                "text": d["reason"],
+                "record_uuid": d["record_uuid"],
+            }
+        )
+    for r in store.releases_for(db, site_id=site_id, bearing_id=bearing_id):
+        entries.append(
+            {
+                "what": "release",
+                "title": "Released for closing up",
+                "at": r["created_at"],
+                "who": names(r["contractor_id"]),
+                "signed_as": r["contractor_name"],
+                "text": r["statement"],
+                "record_uuid": r["record_uuid"],
+            }
+        )
+    for o in store.reopenings_for(db, site_id=site_id, bearing_id=bearing_id):
+        entries.append(
+            {
+                "what": "reopening",
+                "title": "Reopened",
+                "at": o["created_at"],
+                "who": names(o["engineer_id"]),
+                "text": o["reason"],
+            }
+        )
+    entries.sort(key=lambda e: e["at"], reverse=True)
+    return entries
+
+
+class _Names:
+    """People's names by id, looked up once per page. Someone no longer on the site is
+    still named: what they did stays on the record."""
+
+    def __init__(self, db, site_id: str):
+        self._db = db
+        self._names = {m["id"]: m["name"] for m in store.members_of(db, site_id=site_id)}
+
+    def __call__(self, user_id: int | None) -> str:
+        if user_id is None:
+            return "sitecheck"
+        if user_id not in self._names:
+            user = store.get_user_by_id(self._db, user_id)
+            self._names[user_id] = user["name"] if user else f"person {user_id}"
+        return self._names[user_id]
+
+
+def site_names(db, site_id: str) -> _Names:
+    return _Names(db, site_id)
+
+
+def when(ts: str | None) -> str:
+    """A stored UTC time as people read it; the page says UTC so no one guesses the zone."""
+    if not ts:
+        return "—"
+    return f"{ts[:10]} {ts[11:16]} UTC"
+
+
+def as_sentence(error: Exception) -> str:
+    text = str(error).strip()
+    return text if text.endswith((".", "!", "?")) else text + "."

@@ -1,17 +1,705 @@
-"""Blueprint 'sites' (being built)."""
+"""The engineer's jobs: sites, their settings, the bearing schedule and who is on a site.
+
+Thin views: forms parse what was typed (``design_forms``), ``services`` runs the design
+check and stores, the store answers reads. Access is decided by ``site_for`` alone.
+"""
 
 from __future__ import annotations
 
-from flask import Blueprint
+import csv
+import io
+import secrets
+
+from flask import (
+    Blueprint,
+    Response,
+    current_app,
+    flash,
+    g,
+    redirect,
+    render_template,
+    request,
+    url_for,
+)
+from werkzeug.exceptions import RequestEntityTooLarge
+
+from sitecheck import auth as accounts
+from sitecheck import services, store, workflow
+from sitecheck.bearing import InputError
+from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
+from sitecheck.web import get_db
+from sitecheck.web.access import bearing_for, site_for
+from sitecheck.web.auth import login_required
+from sitecheck.web.design_forms import (
+    BASIS_GROUPS,
+    BASIS_SCALARS,
+    GAMMA_M_BS_ROWS,
+    GAMMA_M_EC6_ROWS,
+    K_MORTARS,
+    K_ROWS,
+    REVIEW_FIELDS,
+    SECTIONS,
+    SPREADER_FLAG,
+    BearingForm,
+    ImportForm,
+    InviteForm,
+    RemoveForm,
+    ReviseForm,
+    RoleForm,
+    SettingsForm,
+    SiteForm,
+    add_error,
+    basis_rows,
+    design_from_form,
+    design_summary,
+    form_data_from_design,
+    gamma_field_name,
+    k_field_name,
+    put_core_error,
+    settings_form_data,
+    settings_from_form,
+    source_tag,
+    utc_text,
+)
+from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("sites", __name__)
 
+IMPORT_LIMIT = 2 * 1024 * 1024  # bytes: a schedule of thousands of rows is far smaller
+IMPORT_LIMIT_WORDS = "2 MB"
 
-@bp.get("/sites/new")
+
+@bp.app_context_processor
+def _helpers():
+    return {"has_endpoint": has_endpoint}
+
+
+@bp.app_template_filter("utc")
+def _utc_filter(value):
+    return utc_text(value)
+
+
+def has_endpoint(name: str) -> bool:
+    """Whether another blueprint provides a page yet, so a link to it is never broken."""
+    return name in current_app.view_functions
+
+
+# --- a new site --------------------------------------------------------------------------------
+
+
+@bp.route("/sites/new", methods=["GET", "POST"])
+@login_required
 def new():
-    return "to do", 501
+    form = SiteForm()
+    if form.validate_on_submit():
+        code_basis, review_settings = services.default_site_settings(form.basis.data)
+        site = store.create_site(
+            get_db(),
+            name=form.name.data,
+            address=form.address.data or "",
+            code_basis=code_basis,
+            review_settings=review_settings,
+            created_by=g.user["id"],
+        )
+        flash(f"Site “{site['name']}” created; you are its engineer.")
+        return redirect(url_for("sites.show", site_id=site["id"]))
+    return render_template("sites/new.html", form=form), 400 if form.errors else 200
 
 
-@bp.get("/sites/<site_id>")
+# --- the site and its bearing schedule ----------------------------------------------------------
+
+
+@page_rule(bp, "/sites/<site_id>")
+@login_required
 def show(site_id):
-    return "to do", 501
+    site, role = site_for(site_id, "view")
+    db = get_db()
+    bearings = store.list_bearings(db, site_id=site_id)
+    latest = {r["uuid"]: r for r in store.records_for_site(db, site_id=site_id)}
+    rows = [_schedule_row(b, latest.get(b["latest_record_uuid"])) for b in bearings]
+    counts = {state: 0 for state in workflow.STATES}
+    for row in rows:
+        counts[row["state"]] += 1
+    return render_page(
+        "sites/show.html",
+        site=_site_summary(site),
+        role=role,
+        bearings=rows,
+        counts=counts,
+        failing_at_design=sum(1 for r in rows if not r["design_passed"]),
+    )
+
+
+def _site_summary(site: dict) -> dict:
+    return {
+        "id": site["id"],
+        "name": site["name"],
+        "address": site["address"],
+        "basis": (site.get("code_basis") or {}).get("name"),
+        "created_at": site["created_at"],
+    }
+
+
+def _schedule_row(bearing: dict, record: dict | None) -> dict:
+    result = bearing["design_result"] or {}
+    governing = result.get("governing")
+    title = next((c["title"] for c in result.get("checks", []) if c["code"] == governing), None)
+    return {
+        "id": bearing["id"],
+        "reference": bearing["reference"],
+        "location": bearing["location"],
+        "state": bearing["state"],
+        "revision": bearing["revision"],
+        "design_utilisation": bearing["design_utilisation"],
+        "design_passed": bearing["design_passed"],
+        "governing": governing,
+        "governing_title": title,
+        "latest": None
+        if record is None
+        else {
+            "uuid": record["uuid"],
+            "measured_at": record["measured_at"],
+            "utilisation": record["utilisation"],
+            "passed": record["passed"],
+            "blocking": record["blocking"],
+            "older_revision": record["older_revision"],
+        },
+    }
+
+
+# --- one bearing -------------------------------------------------------------------------------
+
+
+@page_rule(bp, "/sites/<site_id>/bearings/<bearing_id>")
+@login_required
+def bearing(site_id, bearing_id):
+    site, role = site_for(site_id, "view")
+    b = bearing_for(site, bearing_id)
+    db = get_db()
+    names = _Names(db)
+    records = [
+        {
+            "uuid": r["uuid"],
+            "measured_at": r["measured_at"],
+            "received_at": r["received_at"],
+            "inspector": names(r["inspector_id"]),
+            "design_revision": r["design_revision"],
+            "utilisation": r["utilisation"],
+            "passed": r["passed"],
+            "blocking": r["blocking"],
+            "older_revision": r["older_revision"],
+            "late": r["late"],
+            "latest": r["uuid"] == b["latest_record_uuid"],
+        }
+        for r in store.records_for_bearing(db, site_id=site_id, bearing_id=bearing_id)
+    ]
+    decisions = [
+        {**d, "engineer": names(d["engineer_id"])}
+        for d in store.decisions_for(db, site_id=site_id, bearing_id=bearing_id)
+    ]
+    releases = [
+        {**r, "contractor": names(r["contractor_id"])}
+        for r in store.releases_for(db, site_id=site_id, bearing_id=bearing_id)
+    ]
+    reopenings = [
+        {**r, "engineer": names(r["engineer_id"])}
+        for r in store.reopenings_for(db, site_id=site_id, bearing_id=bearing_id)
+    ]
+    events = [
+        {
+            "at": e["at"],
+            "kind": e["kind"],
+            "by": names(e["user_id"]),
+            "detail": e["detail"],
+            "summary": _event_summary(e["detail"] or {}),
+        }
+        for e in store.events_for(db, site_id=site_id, bearing_id=bearing_id)
+    ]
+    return render_page(
+        "sites/bearing.html",
+        site=_site_summary(site),
+        role=role,
+        bearing={k: v for k, v in b.items() if k != "site_id"},
+        design=design_summary(b["design_input"]),
+        result=b["design_result"],
+        records=records,
+        decisions=decisions,
+        releases=releases,
+        reopenings=reopenings,
+        events=events,
+    )
+
+
+class _Names:
+    """Who a user id is, looked up once per page (people removed from a site still show)."""
+
+    def __init__(self, db):
+        self.db, self.known = db, {}
+
+    def __call__(self, user_id):
+        if user_id is None:
+            return "sitecheck"
+        if user_id not in self.known:
+            user = store.get_user_by_id(self.db, user_id)
+            self.known[user_id] = (user["name"] or user["email"]) if user else f"user {user_id}"
+        return self.known[user_id]
+
+
+def _event_summary(detail: dict) -> str:
+    """What changed, in a few words, from an event's before and after."""
+    parts = []
+    before, after = detail.get("before") or {}, detail.get("after") or {}
+    if isinstance(before, dict) and isinstance(after, dict):
+        if "state" in after and before.get("state") != after.get("state"):
+            parts.append(f"{before.get('state') or '—'} → {after['state']}")
+        elif "state" in after and not before:
+            parts.append(after["state"])
+    revision = detail.get("revision")
+    if isinstance(revision, dict):
+        parts.append(f"revision {revision.get('before')} → {revision.get('after')}")
+    if detail.get("kind"):
+        parts.append(str(detail["kind"]))
+    for key in ("reason", "statement", "action"):
+        if detail.get(key):
+            parts.append(f"{key}: {detail[key]}")
+    return "; ".join(parts)
+
+
+# --- adding and revising a bearing by form -------------------------------------------------------
+
+
+@bp.route("/sites/<site_id>/bearings/new", methods=["GET", "POST"])
+@login_required
+def add_bearing(site_id):
+    site, _role = site_for(site_id, "edit-schedule")
+    form = BearingForm()
+    if form.is_submitted():
+        form.validate()
+        design = design_from_form(form, services.basis_for(site))
+        if design is not None and not form.errors:
+            db = get_db()
+            try:
+                added = services.add_bearing(
+                    db,
+                    site=site,
+                    reference=form.reference.data.strip(),
+                    location=form.location.data or "",
+                    design=design,
+                    user_id=g.user["id"],
+                )
+            except InputError as e:
+                put_core_error(form, e)
+            except store.DuplicateReference as e:
+                add_error(form.reference, str(e))
+            else:
+                flash(f"Bearing {added['reference']} added and checked.")
+                return redirect(url_for("sites.bearing", site_id=site_id, bearing_id=added["id"]))
+        return _bearing_form(site, form, None, 400)
+    return _bearing_form(site, form, None, 200)
+
+
+@bp.route("/sites/<site_id>/bearings/<bearing_id>/revise", methods=["GET", "POST"])
+@login_required
+def revise_bearing(site_id, bearing_id):
+    site, _role = site_for(site_id, "edit-schedule")
+    current = bearing_for(site, bearing_id)
+    if request.method != "POST":
+        form = ReviseForm(
+            data=form_data_from_design(
+                current["design_input"], current["location"], current["revision"]
+            )
+        )
+        return _bearing_form(site, form, current, 200)
+    form = ReviseForm()
+    form.validate()
+    design = design_from_form(form, services.basis_for(site))
+    if design is None or form.errors:
+        return _bearing_form(site, form, current, 400)
+    if form.revision.data and form.revision.data != str(current["revision"]):
+        form.form_errors.append(
+            f"Bearing {current['reference']} was revised by someone else while this form was "
+            f"open (it is now at revision {current['revision']}). Nothing was saved: reload "
+            "the form to see the new design, then make your change again."
+        )
+        return _bearing_form(site, form, current, 409)
+    try:
+        revised = services.revise_bearing(
+            get_db(),
+            site=site,
+            bearing=current,
+            design=design,
+            location=form.location.data or "",
+            user_id=g.user["id"],
+        )
+    except InputError as e:
+        put_core_error(form, e)
+        return _bearing_form(site, form, current, 400)
+    except (workflow.WorkflowError, store.StoreError) as e:
+        form.form_errors.append(f"Nothing was saved: {e}")
+        return _bearing_form(site, form, current, 409)
+    flash(f"Bearing {revised['reference']} revised (revision {revised['revision']}) and checked.")
+    return redirect(url_for("sites.bearing", site_id=site_id, bearing_id=bearing_id))
+
+
+def _bearing_form(site: dict, form, current: dict | None, status: int):
+    return (
+        render_template(
+            "sites/bearing_form.html",
+            site=site,
+            form=form,
+            current=current,
+            sections=SECTIONS,
+            locked=current is not None and current["state"] == workflow.RELEASED,
+        ),
+        status,
+    )
+
+
+# --- the schedule import -----------------------------------------------------------------------
+
+
+@bp.route("/sites/<site_id>/import", methods=["GET", "POST"])
+@login_required
+def import_schedule(site_id):
+    site, _role = site_for(site_id, "edit-schedule")
+    form = ImportForm()
+    report, status = None, 200
+    if form.is_submitted():
+        text, status = _schedule_text(form)
+        if text is not None:
+            try:
+                report = services.import_schedule(
+                    get_db(),
+                    site=site,
+                    text=text,
+                    user_id=g.user["id"],
+                    keep_good_rows=bool(form.keep_good_rows.data),
+                )
+            except csv.Error as e:
+                where = form.file if form.file.data and form.file.data.filename else form.text
+                add_error(
+                    where,
+                    f"This is not a CSV schedule sitecheck can read ({e}); save it from the "
+                    "spreadsheet as CSV, header row first.",
+                )
+                status = 400
+            else:
+                status = 400 if report.errors and not report.added else 200
+    return _import_page(site, form, report, status)
+
+
+def _schedule_text(form) -> tuple[str | None, int]:
+    """The schedule's text from the upload or the pasted box, or None with a field error."""
+    if not form.validate():
+        return None, 400
+    upload = form.file.data
+    pasted = (form.text.data or "").strip()
+    has_file = upload is not None and getattr(upload, "filename", "")
+    if has_file and pasted:
+        add_error(form.text, "Give a file or pasted text, not both: clear one of them.")
+        return None, 400
+    if not has_file:
+        if not pasted:
+            add_error(form.file, "Choose a CSV file, or paste the schedule below.")
+            return None, 400
+        if len(pasted.encode("utf-8")) > IMPORT_LIMIT:
+            add_error(form.text, _too_large_words("The pasted text"))
+            return None, 413
+        return pasted + "\n", 200
+    raw = upload.stream.read(IMPORT_LIMIT + 1)
+    if len(raw) > IMPORT_LIMIT:
+        add_error(form.file, _too_large_words("The file"))
+        return None, 413
+    if b"\x00" in raw:
+        add_error(form.file, "This file is not text: save the schedule as CSV and try again.")
+        return None, 400
+    try:
+        return raw.decode("utf-8-sig"), 200
+    except UnicodeDecodeError:
+        # Spreadsheets on Windows save "CSV" in the Windows code page by default; reading
+        # it as such keeps £, ° and accented names instead of refusing the file.
+        return raw.decode("cp1252", errors="replace"), 200
+
+
+def _too_large_words(what: str) -> str:
+    return (
+        f"{what} is larger than {IMPORT_LIMIT_WORDS}, the most one import takes. Split the "
+        "schedule into smaller files and import each; nothing was imported."
+    )
+
+
+def _import_page(site: dict, form, report, status: int):
+    return (
+        render_template(
+            "sites/import.html",
+            site=site,
+            form=form,
+            report=report,
+            columns=DESIGN_COLUMNS,
+            required=REQUIRED_COLUMNS,
+            limit=IMPORT_LIMIT_WORDS,
+        ),
+        status,
+    )
+
+
+@bp.get("/sites/<site_id>/import/template.csv")
+@login_required
+def import_template(site_id):
+    site_for(site_id, "edit-schedule")
+    out = io.StringIO()
+    # Design columns only: the import checks as-built columns but keeps no record of them,
+    # so offering them would invite values that are never stored.
+    csv.writer(out, lineterminator="\r\n").writerow(list(DESIGN_COLUMNS))
+    return Response(
+        out.getvalue(),
+        mimetype="text/csv",
+        headers={"Content-Disposition": 'attachment; filename="bearing-schedule.csv"'},
+    )
+
+
+def _too_large(error):
+    """A body over the server's limits is refused before the view runs; say which limit."""
+    if request.endpoint == "sites.import_schedule":
+        description = (
+            f"The schedule is too large to import: files may be up to {IMPORT_LIMIT_WORDS} "
+            "and pasted text up to 1 MB. Split it into smaller files and import each; "
+            "nothing was imported."
+        )
+        return render_template("error.html", code=413, description=description), 413
+    from sitecheck.web.pages import error_page
+
+    return error_page(error)
+
+
+bp.register_error_handler(RequestEntityTooLarge, _too_large)
+
+
+# --- site settings -----------------------------------------------------------------------------
+
+
+@page_rule(bp, "/sites/<site_id>/settings")
+@login_required
+def settings(site_id):
+    site, _role = site_for(site_id, "edit-site")
+    basis, review = services.basis_for(site), services.settings_for(site)
+    form = SettingsForm(data=settings_form_data(site, basis, review))
+    return _settings_page(site, form, 200)
+
+
+@bp.post("/sites/<site_id>/settings")
+@login_required
+def save_settings(site_id):
+    site, _role = site_for(site_id, "edit-site")
+    basis, review = services.basis_for(site), services.settings_for(site)
+    form = SettingsForm()
+    form.validate()
+    parsed = settings_from_form(form, basis, review)
+    if parsed is None or form.errors:
+        return _settings_page(site, form, 400)
+    code_basis, review_settings = parsed
+    try:
+        # Read back exactly as the checks will, so nothing is stored that they would refuse.
+        services.basis_for({"code_basis": code_basis})
+        services.settings_for({"review_settings": review_settings})
+    except (InputError, TypeError, ValueError) as e:
+        form.form_errors.append(f"Nothing was saved: {e}")
+        return _settings_page(site, form, 400)
+    store.update_site_settings(
+        get_db(),
+        site_id=site_id,
+        user_id=g.user["id"],
+        name=form.name.data,
+        address=form.address.data or "",
+        code_basis=code_basis,
+        review_settings=review_settings,
+    )
+    flash(
+        "Settings saved. They apply to bearings added or revised from now on and to every "
+        "re-check; design results already stored keep the values they were checked with."
+    )
+    return redirect(url_for("sites.settings", site_id=site_id))
+
+
+def _settings_page(site: dict, form, status: int):
+    basis, review = services.basis_for(site), services.settings_for(site)
+    return render_page(
+        "sites/settings.html",
+        status=status,
+        site=_site_summary(site),
+        code_basis=basis.to_dict(),
+        review_settings=review.as_dict(),
+        sources=basis_rows(basis),
+        review_sources={
+            name: {"source": spec[4], "tag": source_tag(spec[4])}
+            for name, spec in REVIEW_FIELDS.items()
+        },
+        form=form,
+        basis_groups=BASIS_GROUPS,
+        basis_scalars=BASIS_SCALARS,
+        k_rows=K_ROWS,
+        k_mortars=K_MORTARS,
+        k_field_name=k_field_name,
+        gamma_field_name=gamma_field_name,
+        gamma_M_ec6_rows=GAMMA_M_EC6_ROWS,
+        gamma_m_bs_rows=GAMMA_M_BS_ROWS,
+        spreader_flag=SPREADER_FLAG,
+        review_fields=REVIEW_FIELDS,
+    )
+
+
+# --- members -----------------------------------------------------------------------------------
+
+
+@page_rule(bp, "/sites/<site_id>/members")
+@login_required
+def members(site_id):
+    site, _role = site_for(site_id, "view")
+    return _members_page(site, InviteForm(), 200)
+
+
+@bp.post("/sites/<site_id>/members/invite")
+@login_required
+def invite(site_id):
+    site, _role = site_for(site_id, "invite")
+    form = InviteForm()
+    if not form.validate():
+        return _members_page(site, form, 400)
+    db = get_db()
+    email = store.normalise_email(form.email.data)
+    user = store.get_user_by_email(db, email)
+    role = form.role.data
+    if user is not None:
+        on_site = store.role_of(db, user_id=user["id"], site_id=site_id)
+        if on_site is not None:
+            add_error(
+                form.email,
+                f"{email} is already on this site as {on_site}; change their role in the "
+                "list instead.",
+            )
+            return _members_page(site, form, 409)
+        try:
+            store.add_membership(
+                db, user_id=user["id"], site_id=site_id, role=role, invited_by=g.user["id"]
+            )
+        except store.AlreadyMember as e:
+            add_error(form.email, str(e))
+            return _members_page(site, form, 409)
+        flash(f"{user['name'] or email} added to this site as {role}.")
+        return redirect(url_for("sites.members", site_id=site_id))
+    password = _one_time_password(email)
+    name = (form.name.data or "").strip() or email.split("@")[0]
+    try:
+        with store.transaction(db):
+            user = store.create_user(
+                db, email=email, name=name, password_hash=accounts.hash_password(password)
+            )
+            store.add_membership(
+                db, user_id=user["id"], site_id=site_id, role=role, invited_by=g.user["id"]
+            )
+    except store.DuplicateEmail:
+        add_error(form.email, f"An account for {email} was made a moment ago; send the form again.")
+        return _members_page(site, form, 409)
+    new_account = {"email": email, "name": name, "role": role, "password": password}
+    return _members_page(site, InviteForm(formdata=None), 201, new_account=new_account)
+
+
+def _one_time_password(email: str) -> str:
+    while True:
+        password = secrets.token_urlsafe(12)
+        if accounts.password_problem(password, email=email) is None:
+            return password
+
+
+@bp.post("/sites/<site_id>/members/<int:user_id>/role")
+@login_required
+def change_role(site_id, user_id):
+    site, _role = site_for(site_id, "invite")
+    form = RoleForm()
+    db = get_db()
+    current = store.role_of(db, user_id=user_id, site_id=site_id)
+    if current is None:
+        return _members_page(
+            site, InviteForm(formdata=None), 404, error="That person is not on this site."
+        )
+    if not form.validate():
+        return _members_page(
+            site,
+            InviteForm(formdata=None),
+            400,
+            error="Choose a role: " + ", ".join(workflow.ROLES) + ".",
+        )
+    new_role = form.role.data
+    if new_role == current:
+        flash("Their role is unchanged.")
+        return redirect(url_for("sites.members", site_id=site_id))
+    refusal = _last_engineer_refusal(db, site_id, user_id, current)
+    if refusal:
+        return _members_page(site, InviteForm(formdata=None), 409, error=refusal)
+    store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
+    flash(f"Role changed from {current} to {new_role}.")
+    if user_id == g.user["id"] and not workflow.allowed(new_role, "invite"):
+        return redirect(url_for("sites.show", site_id=site_id))
+    return redirect(url_for("sites.members", site_id=site_id))
+
+
+@bp.post("/sites/<site_id>/members/<int:user_id>/remove")
+@login_required
+def remove_member(site_id, user_id):
+    site, _role = site_for(site_id, "invite")
+    form = RemoveForm()
+    db = get_db()
+    current = store.role_of(db, user_id=user_id, site_id=site_id)
+    if current is None:
+        return _members_page(
+            site, InviteForm(formdata=None), 404, error="That person is not on this site."
+        )
+    if not form.validate():
+        return _members_page(site, InviteForm(formdata=None), 400, error="Send the form again.")
+    refusal = _last_engineer_refusal(db, site_id, user_id, current)
+    if refusal:
+        return _members_page(site, InviteForm(formdata=None), 409, error=refusal)
+    store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
+    flash("Removed from this site. Their records stay on the site record.")
+    if user_id == g.user["id"]:
+        return redirect(url_for("pages.home"))
+    return redirect(url_for("sites.members", site_id=site_id))
+
+
+def _last_engineer_refusal(db, site_id: str, user_id: int, current: str) -> str | None:
+    """A site must keep an engineer: someone has to decide, and to invite the next one."""
+    if current != workflow.ENGINEER:
+        return None
+    engineers = [m for m in store.members_of(db, site_id=site_id) if m["role"] == workflow.ENGINEER]
+    if len(engineers) <= 1:
+        return (
+            "This is the site's only engineer. Make someone else engineer first; a site "
+            "without an engineer has no one to decide or to invite."
+        )
+    return None
+
+
+def _members_page(site: dict, invite_form, status: int, new_account=None, error=None):
+    db = get_db()
+    people = [
+        {
+            "id": m["id"],
+            "name": m["name"],
+            "email": m["email"],
+            "role": m["role"],
+            "disabled": m["disabled"],
+            "since": m["created_at"],
+            "you": m["id"] == g.user["id"],
+        }
+        for m in store.members_of(db, site_id=site["id"])
+    ]
+    return render_page(
+        "sites/members.html",
+        status=status,
+        site=_site_summary(site),
+        members=people,
+        invite_form=invite_form,
+        roles=list(workflow.ROLES),
+        new_account=new_account,
+        error=error,
+    )

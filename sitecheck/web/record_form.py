@@ -1,0 +1,553 @@
+"""The as-built form: its fields, how typed text becomes measurements, and how the core's
+complaints about the merged input find their way back to the field that caused them.
+
+The posted field names are the names of :class:`sitecheck.bearing.review.Measurements` and
+:class:`~sitecheck.bearing.review.Checklist`, flat, plus ``notes``, ``photos``,
+``measured_at``, ``record_uuid`` and ``design_revision``. The phone's outbox will send the
+same names, so they must not change without a migration of its queued records.
+
+Typed text is only parsed here; whether a value makes physical sense is the core's call
+(:func:`sitecheck.bearing.input_errors` on the design with the measured values put in).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import uuid as uuid_module
+from dataclasses import dataclass
+from datetime import UTC, datetime
+
+from flask_wtf import FlaskForm
+from wtforms import (
+    HiddenField,
+    MultipleFileField,
+    RadioField,
+    SelectField,
+    StringField,
+    TextAreaField,
+)
+from wtforms.fields.choices import SelectChoice
+from wtforms.validators import StopValidation, ValidationError
+
+from sitecheck.bearing import InputError
+from sitecheck.bearing.inputs import MATERIALS, MORTARS
+
+MAX_PHOTOS = 8
+NOTES_MAX = 4000
+# Packing is not a design value the core checks; these bounds only catch slips of the thumb.
+PACKING_MAX_MM = 200.0
+
+YES, NO, NOT_SEEN = "yes", "no", ""
+TRI_STATE = (SelectChoice(YES, "yes"), SelectChoice(NO, "no"), SelectChoice(NOT_SEEN, "not seen"))
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    name: str
+    label: str
+    kind: str  # number, tri, select, text
+    unit: str = ""
+    hint: str = ""
+    # Where the designed value sits in the stored design input, if it has one.
+    design: tuple[str, str] | None = None
+
+
+SPECS: dict[str, FieldSpec] = {
+    s.name: s
+    for s in (
+        FieldSpec(
+            "bearing_length", "Bearing length", "number", "mm", design=("beam", "bearing_length")
+        ),
+        FieldSpec("flange_width", "Flange width", "number", "mm", design=("beam", "flange_width")),
+        FieldSpec(
+            "offset_along",
+            "Offset along the wall",
+            "number",
+            "mm",
+            "Flange centre from the centre of the padstone (or wall), along the wall. "
+            "Leave empty if the beam sits where drawn.",
+            ("beam", "offset_along"),
+        ),
+        FieldSpec(
+            "offset_across",
+            "Offset across the wall",
+            "number",
+            "mm",
+            "Flange centre from the centre of the padstone (or wall), across the wall.",
+            ("beam", "offset_across"),
+        ),
+        FieldSpec("padstone_present", "Padstone present", "tri"),
+        FieldSpec(
+            "padstone_length", "Padstone length", "number", "mm", design=("padstone", "length")
+        ),
+        FieldSpec("padstone_width", "Padstone width", "number", "mm", design=("padstone", "width")),
+        FieldSpec("padstone_depth", "Padstone depth", "number", "mm", design=("padstone", "depth")),
+        FieldSpec(
+            "padstone_concrete",
+            "Padstone concrete class",
+            "text",
+            hint="As marked or delivered, e.g. C25/30.",
+            design=("padstone", "concrete"),
+        ),
+        FieldSpec("wall_thickness", "Wall thickness", "number", "mm", design=("wall", "thickness")),
+        FieldSpec(
+            "a1",
+            "Distance to the wall's end (a1)",
+            "number",
+            "mm",
+            "From the padstone's end to the wall's end or the edge of an opening.",
+            ("wall", "a1"),
+        ),
+        FieldSpec(
+            "a2",
+            "Distance to the wall's other end (a2)",
+            "number",
+            "mm",
+            "From the padstone's other end to the wall's end or an opening, where there is one.",
+            ("wall", "a2"),
+        ),
+        FieldSpec("masonry_material", "Unit material", "select", design=("masonry", "material")),
+        FieldSpec("masonry_group", "Unit group", "select", design=("masonry", "group")),
+        FieldSpec(
+            "unit_strength",
+            "Unit strength",
+            "number",
+            "N/mm²",
+            "The declared strength marked on the units or their delivery note.",
+            ("masonry", "unit_strength"),
+        ),
+        FieldSpec("mortar", "Mortar class", "select", design=("masonry", "mortar")),
+        FieldSpec("bedded", "Padstone fully bedded on mortar", "tri"),
+        FieldSpec(
+            "packing",
+            "Packing under the beam",
+            "number",
+            "mm",
+            "Total thickness of packing between beam and padstone; 0 if none.",
+        ),
+        FieldSpec("cracks", "Cracks in the masonry near the bearing", "tri"),
+        FieldSpec("cut_units", "Cut or hollow units under the padstone", "tri"),
+        FieldSpec("level", "Padstone level", "tri"),
+    )
+}
+
+MEASUREMENT_FIELDS = (
+    "bearing_length",
+    "flange_width",
+    "offset_along",
+    "offset_across",
+    "padstone_present",
+    "padstone_length",
+    "padstone_width",
+    "padstone_depth",
+    "padstone_concrete",
+    "wall_thickness",
+    "a1",
+    "a2",
+    "masonry_material",
+    "masonry_group",
+    "unit_strength",
+    "mortar",
+)
+CHECKLIST_FIELDS = ("bedded", "packing", "cracks", "cut_units", "level")
+
+GROUPS = (
+    ("Beam", ("bearing_length", "flange_width", "offset_along", "offset_across")),
+    (
+        "Padstone",
+        (
+            "padstone_present",
+            "padstone_length",
+            "padstone_width",
+            "padstone_depth",
+            "padstone_concrete",
+        ),
+    ),
+    ("Wall", ("wall_thickness", "a1", "a2")),
+    ("Masonry", ("masonry_material", "masonry_group", "unit_strength", "mortar")),
+    ("How it was built", CHECKLIST_FIELDS),
+)
+
+# The core names fields by their place in the bearing input; the form by what was measured.
+CORE_PATHS = (
+    {
+        "beam.bearing_length": "bearing_length",
+        "beam.flange_width": "flange_width",
+        "beam.offset_along": "offset_along",
+        "beam.offset_across": "offset_across",
+        "padstone.length": "padstone_length",
+        "padstone.width": "padstone_width",
+        "padstone.depth": "padstone_depth",
+        "padstone.concrete": "padstone_concrete",
+        "padstone.f_ck": "padstone_concrete",
+        "wall.thickness": "wall_thickness",
+        # t_ef follows a measured wall thickness in proportion, so its complaint is about t.
+        "wall.effective_thickness": "wall_thickness",
+        "wall.a1": "a1",
+        "wall.a2": "a2",
+        "masonry.material": "masonry_material",
+        "masonry.group": "masonry_group",
+        "masonry.unit_strength": "unit_strength",
+        "masonry.mortar": "mortar",
+    }
+    | {f"measurements.{n}": n for n in MEASUREMENT_FIELDS}
+    | {f"checklist.{n}": n for n in CHECKLIST_FIELDS}
+)
+
+_NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)")
+_UNIT_WORDS = {"mm": "millimetres", "N/mm²": "N/mm²"}
+
+
+class NumberField(StringField):
+    """Typed text kept as typed (so a refused form shows it again), parsed into ``number``.
+
+    Empty means not measured. A decimal comma is read as a point, as phone keyboards in
+    many languages offer only the comma.
+    """
+
+    def __init__(
+        self, label=None, validators=None, *, unit: str = "mm", example: str = "150", **kw
+    ):
+        super().__init__(label, validators, **kw)
+        self.unit = unit
+        self.example = example
+        self.number: float | None = None
+
+    def process_formdata(self, valuelist):
+        self.data = valuelist[0] if valuelist else ""
+
+    def _value(self):
+        return self.data or ""
+
+    def pre_validate(self, form):
+        self.number = None
+        raw = (self.data or "").strip()
+        if not raw:
+            return
+        text = raw.replace(" ", "")
+        if "," in text and "." not in text and text.count(",") == 1:
+            text = text.replace(",", ".")
+        if len(text) > 24 or not _NUMBER.fullmatch(text) or not math.isfinite(float(text)):
+            raise StopValidation(
+                f"{self.label.text}: “{raw[:40]}” is not a number. Enter "
+                f"{_UNIT_WORDS.get(self.unit, self.unit)} as digits, e.g. {self.example}, or "
+                "leave it empty if you could not measure it."
+            )
+        self.number = float(text)
+
+
+class TriStateField(RadioField):
+    """yes, no, or the empty answer: not seen (or, for the padstone itself, not checked)."""
+
+    def __init__(self, label=None, validators=None, *, blank_label: str = "not seen", **kw):
+        choices = [*TRI_STATE[:2], SelectChoice(NOT_SEEN, blank_label)]
+        super().__init__(label, validators, choices=choices, default=NOT_SEEN, **kw)
+        self.blank_label = blank_label
+
+    def pre_validate(self, form):
+        if self.data not in (YES, NO, NOT_SEEN):
+            raise StopValidation(f"{self.label.text}: choose yes, no or {self.blank_label}.")
+
+    @property
+    def answer(self) -> bool | None:
+        return {YES: True, NO: False}.get(self.data)
+
+
+class ChoiceField(SelectField):
+    def pre_validate(self, form):
+        if self.data not in {choice.value for choice in self.choices}:
+            raise StopValidation(f"{self.label.text}: choose one of the listed values.")
+
+
+def _choices(values, label: str = "{}") -> list[SelectChoice]:
+    # Empty first: a value not looked at keeps the design's and counts as not measured.
+    return [SelectChoice("", "not checked")] + [SelectChoice(v, label.format(v)) for v in values]
+
+
+def _number(name: str, example: str = "150") -> NumberField:
+    spec = SPECS[name]
+    return NumberField(spec.label, unit=spec.unit, example=example)
+
+
+class RecordForm(FlaskForm):
+    """One as-built record. CSRF comes from FlaskForm (and is enforced app-wide as well)."""
+
+    bearing_length = _number("bearing_length", "150")
+    flange_width = _number("flange_width", "133")
+    offset_along = _number("offset_along", "0")
+    offset_across = _number("offset_across", "0")
+    padstone_present = TriStateField(SPECS["padstone_present"].label, blank_label="not checked")
+    padstone_length = _number("padstone_length", "440")
+    padstone_width = _number("padstone_width", "215")
+    padstone_depth = _number("padstone_depth", "140")
+    padstone_concrete = StringField(SPECS["padstone_concrete"].label)
+    wall_thickness = _number("wall_thickness", "215")
+    a1 = _number("a1", "900")
+    a2 = _number("a2", "900")
+    masonry_material = ChoiceField(
+        SPECS["masonry_material"].label,
+        choices=_choices(MATERIALS),
+        default="",
+    )
+    masonry_group = ChoiceField(
+        SPECS["masonry_group"].label,
+        choices=_choices(("1", "2", "3", "4"), "Group {}"),
+        default="",
+    )
+    unit_strength = _number("unit_strength", "7.3")
+    mortar = ChoiceField(
+        SPECS["mortar"].label,
+        choices=_choices(MORTARS),
+        default="",
+    )
+    bedded = TriStateField(SPECS["bedded"].label)
+    packing = _number("packing", "0")
+    cracks = TriStateField(SPECS["cracks"].label)
+    cut_units = TriStateField(SPECS["cut_units"].label)
+    level = TriStateField(SPECS["level"].label)
+    notes = TextAreaField("Notes")
+    photos = MultipleFileField("Photos")
+    measured_at = StringField("Measured at")
+    record_uuid = HiddenField()
+    design_revision = HiddenField()
+
+    def start(self, bearing: dict, now: datetime | None = None) -> None:
+        """Fill a fresh form: a new record UUID, the time now, the design it is measured against."""
+        self.record_uuid.data = str(uuid_module.uuid4())
+        self.measured_at.data = iso_now(now)
+        self.design_revision.data = str(bearing["revision"])
+
+    def renew_uuid(self) -> None:
+        self.record_uuid.data = str(uuid_module.uuid4())
+
+    # --- validators beyond parsing -------------------------------------------------------
+
+    def validate_padstone_concrete(self, field):
+        if len((field.data or "").strip()) > 20:
+            raise ValidationError(
+                f"{field.label.text}: at most 20 characters; write the class, e.g. C25/30."
+            )
+
+    def validate_packing(self, field):
+        value = field.number
+        if value is not None and not 0 <= value <= PACKING_MAX_MM:
+            raise ValidationError(
+                f"{field.label.text}: {value:g} mm is not accepted; expected 0 (none) to "
+                f"{PACKING_MAX_MM:g} mm."
+            )
+
+    def validate_notes(self, field):
+        if len(field.data or "") > NOTES_MAX:
+            raise ValidationError(
+                f"Notes: at most {NOTES_MAX} characters; these are {len(field.data)}. "
+                "Shorten them, or add a photo of a sketch instead."
+            )
+
+    def validate_measured_at(self, field):
+        text = (field.data or "").strip()
+        example = iso_now()
+        if not text:
+            raise ValidationError(f"Measured at: give the time you measured, e.g. {example} (UTC).")
+        try:
+            moment = datetime.fromisoformat(text)
+        except ValueError:
+            raise ValidationError(
+                f"Measured at: “{text[:40]}” is not a date and time; write it like {example}."
+            ) from None
+        if moment.tzinfo is None:
+            raise ValidationError(
+                f"Measured at: “{text[:40]}” has no time zone; add Z for UTC or an offset "
+                f"such as +01:00, like {example}."
+            )
+
+    def validate_record_uuid(self, field):
+        try:
+            field.data = str(uuid_module.UUID(str(field.data or "")))
+        except ValueError:
+            raise ValidationError(
+                "This form's record id is missing or damaged; it has been renewed. "
+                "Check the values and send again."
+            ) from None
+
+    # --- what was measured -----------------------------------------------------------------
+
+    def measurements(self) -> dict:
+        """Measured values by name; a field left empty is not measured and is left out."""
+        out: dict = {}
+        for name in MEASUREMENT_FIELDS:
+            field = self[name]
+            if isinstance(field, NumberField):
+                value = field.number
+            elif isinstance(field, TriStateField):
+                value = field.answer
+            elif name == "masonry_group":
+                value = int(field.data) if field.data else None
+            else:
+                value = (field.data or "").strip() or None
+            if value is not None:
+                out[name] = value
+        return out
+
+    def checklist(self) -> dict:
+        out: dict = {}
+        for name in CHECKLIST_FIELDS:
+            field = self[name]
+            value = field.number if isinstance(field, NumberField) else field.answer
+            if value is not None:
+                out[name] = value
+        return out
+
+    def add_core_errors(self, errors: list[InputError], design_input: dict) -> list[str]:
+        """Put each core complaint on its field; return those that belong to no field."""
+        general = []
+        # A field that did not parse was left out, so the core judged the design's value in
+        # its place; its own parse error is the one worth reading.
+        unparsed = {name for name in SPECS if self[name].errors}
+        for error in errors:
+            name = CORE_PATHS.get(error.field)
+            if name is None:
+                general.append(
+                    f"The design itself cannot be re-checked ({error.field} = {error.value!r}: "
+                    f"{error.expected}). Nothing was saved; tell the site's engineer."
+                )
+                continue
+            field = self[name]
+            if name in unparsed:
+                continue
+            message = core_message(SPECS[name], field, error, design_input)
+            if message not in field.errors:
+                field.errors = [*field.errors, message]
+        return general
+
+
+def core_message(spec: FieldSpec, field, error: InputError, design_input: dict) -> str:
+    typed = field.data.strip() if isinstance(field.data, str) else ""
+    if typed:
+        value = error.value
+        shown = (
+            f"{value:g} {spec.unit}".strip()
+            if isinstance(value, int | float) and not isinstance(value, bool)
+            else f"“{typed[:40]}”"
+        )
+        return f"{spec.label}: {shown} is not accepted; expected {error.expected}."
+    designed = designed_value(design_input, spec.name)
+    if designed is None or (
+        spec.design and spec.design[0] == "padstone" and not design_input.get("padstone")
+    ):
+        return (
+            f"{spec.label}: needed here, and the design has no value to keep; measure it. "
+            f"Expected {error.expected}."
+        )
+    # Left empty, the designed value was kept; it is the other measured values that clash.
+    return (
+        f"{spec.label}: the designed {value_text(spec.name, designed)} (kept, as nothing was "
+        f"typed) does not fit the other measured values; expected {error.expected}."
+    )
+
+
+# --- design values beside the fields, and as-built against designed on the result -------------
+
+
+def designed_value(design_input: dict, name: str):
+    """The designed value of a measured field (raw), or None where the design has none."""
+    if name == "padstone_present":
+        return design_input.get("padstone") is not None
+    spec = SPECS[name]
+    if spec.design is None:
+        return None
+    part, key = spec.design
+    return (design_input.get(part) or {}).get(key)
+
+
+def designed_text(design_input: dict, name: str) -> str:
+    value = designed_value(design_input, name)
+    spec = SPECS[name]
+    if name == "padstone_present":
+        return "yes" if value else "no padstone"
+    if spec.design and spec.design[0] == "padstone" and design_input.get("padstone") is None:
+        return "no padstone"
+    if value is None:
+        if name in ("offset_along", "offset_across"):
+            return "where drawn (no offset)"
+        if name == "a2":
+            return "wall runs on"
+        if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
+            return f"f_k {design_input['masonry']['f_k']:g} N/mm² declared"
+        if spec.kind == "tri" or name == "packing":
+            return ""
+        return "not given"
+    return value_text(name, value)
+
+
+def value_text(name: str, value) -> str:
+    if value is None:
+        return "not measured"
+    spec = SPECS[name]
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if name == "masonry_group":
+        return f"Group {value}"
+    if isinstance(value, int | float):
+        return f"{value:g} {spec.unit}".strip()
+    return str(value)
+
+
+def _differs(designed, measured) -> bool:
+    if measured is None:
+        return False
+    if designed is None:
+        return True
+    if isinstance(measured, bool) or isinstance(designed, bool):
+        return bool(measured) != bool(designed)
+    if isinstance(measured, int | float) and isinstance(designed, int | float):
+        return abs(measured - designed) > 1e-9
+    return str(measured).strip().upper() != str(designed).strip().upper()
+
+
+def comparison(design_input: dict, measurements: dict) -> list[dict]:
+    """Each measured field beside its designed value, marking those that differ."""
+    rows = []
+    for name in MEASUREMENT_FIELDS:
+        designed = designed_value(design_input, name)
+        measured = measurements.get(name)
+        rows.append(
+            {
+                "field": name,
+                "label": SPECS[name].label,
+                "unit": SPECS[name].unit,
+                "designed": designed,
+                "measured": measured,
+                "designed_text": designed_text(design_input, name),
+                "measured_text": value_text(name, measured),
+                "measured_flag": measured is not None,
+                "changed": _differs(designed, measured),
+            }
+        )
+    return rows
+
+
+def checklist_rows(checklist: dict) -> list[dict]:
+    rows = []
+    for name in CHECKLIST_FIELDS:
+        value = checklist.get(name)
+        text = "not seen" if value is None else value_text(name, value)
+        rows.append({"field": name, "label": SPECS[name].label, "value": value, "text": text})
+    return rows
+
+
+def iso_now(now: datetime | None = None) -> str:
+    return (now or datetime.now(UTC)).astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def when_text(stamp: str | None) -> str:
+    """A stored UTC time as people read it."""
+    if not stamp:
+        return "—"
+    try:
+        moment = datetime.fromisoformat(stamp)
+    except ValueError:
+        return stamp
+    if moment.tzinfo is None:
+        return moment.strftime("%d %b %Y %H:%M") + " (camera time)"
+    return moment.astimezone(UTC).strftime("%d %b %Y %H:%M UTC")

@@ -1,0 +1,492 @@
+"""The engineer's review pages: the queue, one bearing's design against as-built, decisions.
+
+Real SQLite, the real app, a test client per person. Records are made through
+services.record_as_built, as the sync API makes them.
+"""
+
+from __future__ import annotations
+
+import re
+import uuid
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+
+import pytest
+
+from sitecheck import auth, services, store
+from sitecheck.demo import schedule_csv
+
+# Not imported from conftest: tests/browser has a conftest module of the same name, and which
+# one "import conftest" finds depends on what else pytest collected.
+SECOND_PASSWORD = "another long test password"  # a test account only
+
+
+@dataclass
+class Engineer:
+    id: int
+    email: str
+
+
+def csrf_token(client) -> str:
+    return client.get("/api/csrf").get_json()["token"]
+
+
+def login(client, email: str, password: str) -> None:
+    page = client.get("/login")
+    token = hidden(page.data, "csrf_token")
+    r = client.post("/login", data={"email": email, "password": password, "csrf_token": token})
+    assert r.status_code == 302, r.data[:400]
+
+
+# Ticked as built to the design: no checklist reason of its own.
+CHECKLIST_OK = {"bedded": True, "packing": 0.0, "cracks": False, "cut_units": False, "level": True}
+
+
+@pytest.fixture(autouse=True)
+def quick_password_hashes(monkeypatch):
+    # scrypt is slow on purpose; these tests are about review and release, not passwords.
+    monkeypatch.setattr(auth, "HASH_METHOD", "pbkdf2:sha256:1000")
+
+
+def hours_ago(hours: float) -> str:
+    return (datetime.now(UTC) - timedelta(hours=hours)).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def as_designed(bearing: dict) -> dict:
+    """Measurements equal to the design: every value the review requires, nothing changed."""
+    d = bearing["design_input"]
+    pad = d["padstone"]
+    m = {
+        "bearing_length": d["beam"]["bearing_length"],
+        "flange_width": d["beam"]["flange_width"],
+        "wall_thickness": d["wall"]["thickness"],
+        "masonry_group": d["masonry"]["group"],
+        "padstone_present": pad is not None,
+    }
+    if pad is not None:
+        m |= {
+            "padstone_length": pad["length"],
+            "padstone_width": pad["width"],
+            "padstone_depth": pad["depth"],
+        }
+    if d["wall"]["a1"] is not None:
+        m["a1"] = d["wall"]["a1"]
+    return m
+
+
+def bearing_named(db, site: dict, reference: str) -> dict:
+    b = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+    assert b is not None, reference
+    return b
+
+
+def record(
+    db,
+    site: dict,
+    reference: str,
+    inspector,
+    *,
+    hours: float = 1.0,
+    notes: str = "",
+    design_revision: int | None = None,
+    **changes,
+) -> str:
+    """Store one as-built record, measured ``hours`` ago; the design except ``changes``."""
+    b = bearing_named(db, site, reference)
+    record_uuid = str(uuid.uuid4())
+    services.record_as_built(
+        db,
+        site=site,
+        bearing=b,
+        uuid=record_uuid,
+        measured_at=hours_ago(hours),
+        design_revision=design_revision or b["revision"],
+        measurements=as_designed(b) | changes,
+        checklist=CHECKLIST_OK,
+        notes=notes,
+        inspector_id=inspector.id,
+    )
+    return record_uuid
+
+
+def state_of(db, site: dict, reference: str) -> str:
+    return bearing_named(db, site, reference)["state"]
+
+
+def review_url(site: dict, bearing: dict, json: bool = False) -> str:
+    return f"/sites/{site['id']}/bearings/{bearing['id']}/review" + (".json" if json else "")
+
+
+def decision_url(site: dict, bearing: dict) -> str:
+    return f"/sites/{site['id']}/bearings/{bearing['id']}/decision"
+
+
+def hidden(html: bytes, name: str) -> str:
+    found = re.search(rf'name="{name}" type="hidden" value="([^"]*)"'.encode(), html)
+    assert found, f"no hidden {name} on the page"
+    return found.group(1).decode()
+
+
+def decide_form(client, site, bearing, *, kind="accept", reason="Checked the photos; fine."):
+    """What the decision form sends, with the record and state now on the page."""
+    page = client.get(review_url(site, bearing))
+    assert page.status_code == 200
+    return {
+        "csrf_token": hidden(page.data, "csrf_token"),
+        "record_uuid": hidden(page.data, "record_uuid"),
+        "seen_state": hidden(page.data, "seen_state"),
+        "kind": kind,
+        "reason": reason,
+    }
+
+
+def other_site_with_engineer(db, name="Second invented site") -> tuple[dict, Engineer]:
+    """A second site whose engineer is on no other site, with one bearing to decide."""
+    u = store.create_user(
+        db,
+        email="second@example.test",
+        name="Sam Second",
+        password_hash=auth.hash_password(SECOND_PASSWORD),
+    )
+    engineer = Engineer(u["id"], "second@example.test")
+    basis, review = services.default_site_settings()
+    other = store.create_site(
+        db,
+        name=name,
+        address="Nowhere Lane (invented)",
+        code_basis=basis,
+        review_settings=review,
+        created_by=engineer.id,
+    )
+    text = "\n".join(row for row in schedule_csv().splitlines() if "BS 5628-1" not in row) + "\n"
+    assert services.import_schedule(db, site=other, text=text, user_id=engineer.id).ok
+    record(db, other, "FF-B5", engineer)
+    return store.get_site(db, other["id"]), engineer
+
+
+# --- the queue ----------------------------------------------------------------------------------
+
+
+def test_queue_lists_only_bearings_to_decide_on_the_engineers_sites_most_serious_first(
+    app, db, people, site, client_as
+):
+    ins = people["inspector"]
+    record(db, site, "GF-B1-E", ins)  # within design: not in the queue
+    record(db, site, "GF-B1-W", ins, bearing_length=100.0)  # shorter than designed
+    record(db, site, "FF-B5", ins)  # fails as designed and as built
+    assert state_of(db, site, "GF-B1-E") == "within design"
+    assert state_of(db, site, "GF-B1-W") == state_of(db, site, "FF-B5") == "engineer to decide"
+
+    other, second = other_site_with_engineer(db)
+
+    data = client_as("engineer").get("/review.json").get_json()
+    refs = [i["reference"] for i in data["items"]]
+    assert refs == ["FF-B5", "GF-B1-W"]
+    utils = [i["utilisation"] for i in data["items"]]
+    assert utils == sorted(utils, reverse=True)
+    first = data["items"][0]
+    assert first["site_name"] == site["name"]
+    assert first["blocking"] >= 1
+    assert "fails as built" in first["first_reason"]
+    assert first["waiting_since"].endswith("Z")
+
+    html = client_as("engineer").get("/review").data.decode()
+    assert html.index("FF-B5") < html.index("GF-B1-W")
+    assert "GF-B1-E" not in html
+    assert '<span aria-hidden="true">?</span> engineer to decide' in html
+    assert first["first_reason"].split("(")[0].strip() in html
+
+    # Each engineer sees only their own sites' bearings.
+    assert {i["site_id"] for i in data["items"]} == {site["id"]}
+    c = app.test_client()
+    login(c, second.email, SECOND_PASSWORD)
+    theirs = c.get("/review.json").get_json()["items"]
+    assert [(i["site_id"], i["reference"]) for i in theirs] == [(other["id"], "FF-B5")]
+
+
+@pytest.mark.parametrize("role", ["inspector", "contractor", "viewer", "outsider"])
+def test_queue_for_someone_who_is_not_an_engineer_is_empty_and_says_why(
+    db, people, site, client_as, role
+):
+    record(db, site, "FF-B5", people["inspector"])
+    client = client_as(role)
+    data = client.get("/review.json").get_json()
+    assert data["items"] == []
+    assert "Only a site's engineer decides" in data["sentence"]
+    page = client.get("/review")
+    assert page.status_code == 200
+    assert b"Only a site&#39;s engineer decides" in page.data
+    assert b"FF-B5" not in page.data
+
+
+# --- one bearing --------------------------------------------------------------------------------
+
+
+def test_review_page_sets_design_against_as_built_with_both_traces(db, people, site, client_as):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0, notes="Beam cut short.")
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("engineer")
+
+    data = client.get(review_url(site, b, json=True)).get_json()
+    rows = {r["field"]: r for r in data["comparison"]}
+    assert rows["bearing_length"]["design"] == 150.0
+    assert rows["bearing_length"]["as_built"] == 100.0
+    assert rows["bearing_length"]["difference"] == -50.0
+    assert rows["bearing_length"]["changed"] is True
+    assert rows["wall_thickness"]["changed"] is False
+    assert data["design_result"]["checks"] and data["latest"]["result"]["checks"]
+    assert data["latest"]["result"]["utilisation"] > data["design_result"]["utilisation"]
+    assert "bearing-length-off" in {r["code"] for r in data["latest"]["reasons"]}
+    assert {c["item"]: c["answer_text"] for c in data["checklist"]}["bedded"] == "yes"
+    assert data["latest"]["notes"] == "Beam cut short."
+
+    html = client.get(review_url(site, b)).data.decode()
+    row = re.search(r'<tr data-field="bearing_length" class="is-changed">(.*?)</tr>', html, re.S)
+    assert row, "the changed bearing length is marked"
+    assert "150 mm" in row.group(1) and "100 mm" in row.group(1)
+    assert '<td class="num changed">-50 mm</td>' in row.group(1)
+    unchanged = re.search(r'<tr data-field="wall_thickness">(.*?)</tr>', html, re.S)
+    assert unchanged and "changed" not in unchanged.group(1)
+    assert html.count('<details class="trace"') == 2
+    assert "Design (revision 1)" in html and "As built" in html
+    assert 'data-code="bearing-length-off"' in html
+    assert "Beam cut short." in html
+    assert "Keep this decision" in html and data["may_decide"] is True
+    assert 'style="' not in html and "<script>" not in html
+
+
+@pytest.mark.parametrize("role", ["inspector", "contractor", "viewer"])
+def test_people_who_do_not_decide_see_the_review_without_the_form(
+    db, people, site, client_as, role
+):
+    record(db, site, "FF-B5", people["inspector"])
+    b = bearing_named(db, site, "FF-B5")
+    page = client_as(role).get(review_url(site, b))
+    assert page.status_code == 200
+    assert b"FF-B5" in page.data and b"Full calculation" in page.data
+    assert b"Keep this decision" not in page.data
+    assert client_as(role).get(review_url(site, b, json=True)).get_json()["may_decide"] is False
+
+
+def test_every_record_is_shown_and_the_newest_by_measured_time_drives_the_state(
+    db, people, site, client_as
+):
+    # Two people measured offline; the later measurement arrives first.
+    newer = record(db, site, "GF-B1-W", people["inspector"], hours=2, bearing_length=100.0)
+    older = record(db, site, "GF-B1-W", people["engineer"], hours=5)
+    b = bearing_named(db, site, "GF-B1-W")
+    assert b["state"] == "engineer to decide" and b["latest_record_uuid"] == newer
+
+    data = client_as("engineer").get(review_url(site, b, json=True)).get_json()
+    assert [r["uuid"] for r in data["records"]] == [newer, older]
+    assert [r["drives_state"] for r in data["records"]] == [True, False]
+    assert [r["inspector"] for r in data["records"]] == ["Ivo Inspector", "Esme Engineer"]
+    assert data["latest"]["uuid"] == newer
+    html = client_as("engineer").get(review_url(site, b)).data.decode()
+    assert html.count("data-record=") == 2
+    assert "● drives the state" in html
+
+
+def test_a_record_against_an_older_design_revision_is_flagged(db, people, site, client_as):
+    b = bearing_named(db, site, "GF-B1-E")
+    services.revise_bearing(
+        db,
+        site=site,
+        bearing=b,
+        design=services.design_of(b),
+        location="Ground floor, spine wall grid C-4 (moved)",
+        user_id=people["engineer"].id,
+    )
+    assert bearing_named(db, site, "GF-B1-E")["revision"] == 2
+    record(db, site, "GF-B1-E", people["inspector"], design_revision=1)
+    b = bearing_named(db, site, "GF-B1-E")
+    data = client_as("engineer").get(review_url(site, b, json=True)).get_json()
+    assert data["records"][0]["older_revision"] is True
+    assert "older-design-revision" in {r["code"] for r in data["latest"]["reasons"]}
+    html = client_as("engineer").get(review_url(site, b)).data.decode()
+    assert "older design revision (1)" in html
+    assert "measured against design revision 1" in html
+
+
+def test_photos_of_the_latest_record_are_listed(app, db, people, site, client_as):
+    record_uuid = record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    photo_uuid = str(uuid.uuid4())
+    store.insert_photo(
+        db,
+        site_id=site["id"],
+        uuid=photo_uuid,
+        record_uuid=record_uuid,
+        sha256="a" * 64,
+        thumb_sha256="b" * 64,
+        width=1600,
+        height=1200,
+        size_bytes=123_456,
+        captured_at=hours_ago(1),
+        gps_lat=None,
+        gps_lon=None,
+        user_id=people["inspector"].id,
+    )
+    b = bearing_named(db, site, "GF-B1-W")
+    data = client_as("engineer").get(review_url(site, b, json=True)).get_json()
+    assert [p["uuid"] for p in data["photos"]] == [photo_uuid]
+    html = client_as("engineer").get(review_url(site, b)).data.decode()
+    if "inspect.photo" in app.view_functions:
+        assert data["photos"][0]["thumb_url"] in html and data["photos"][0]["display_url"] in html
+    else:
+        assert "1 photo kept with this record" in html
+
+
+# --- decisions ----------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("kind", "state"),
+    [("accept", "accepted"), ("remedial", "remedial"), ("measure-again", "awaiting survey")],
+)
+def test_a_decision_moves_the_state_and_writes_its_event(db, people, site, client_as, kind, state):
+    record_uuid = record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("engineer")
+    form = decide_form(client, site, b, kind=kind, reason="Looked at the photos and the trace.")
+    assert form["record_uuid"] == record_uuid and form["seen_state"] == "engineer to decide"
+
+    r = client.post(decision_url(site, b), data=form)
+    assert r.status_code == 302
+    assert r.headers["Location"].endswith(review_url(site, b))
+    assert state_of(db, site, "GF-B1-W") == state
+
+    decisions = store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])
+    assert [(d["kind"], d["reason"], d["record_uuid"]) for d in decisions] == [
+        (kind, "Looked at the photos and the trace.", record_uuid)
+    ]
+    event = store.events_for(db, site_id=site["id"], bearing_id=b["id"], limit=1)[0]
+    assert event["kind"] == "decision" and event["user_id"] == people["engineer"].id
+    assert event["detail"]["before"]["state"] == "engineer to decide"
+    assert event["detail"]["after"]["state"] == state
+
+    page = client.get(review_url(site, b)).data.decode()
+    assert f"Bearing GF-B1-W is now &#39;{state}&#39;." in page
+    assert "Looked at the photos and the trace." in page
+    history = client.get(review_url(site, b, json=True)).get_json()["history"]
+    assert [(h["what"], h["who"]) for h in history] == [("decision", "Esme Engineer")]
+
+
+@pytest.mark.parametrize(
+    ("change", "field_error"),
+    [
+        ({"reason": ""}, "Write the reason for your decision"),
+        ({"reason": "   fine   "}, "Write at least 10 characters"),
+        ({"kind": ""}, "Choose a decision"),
+        ({"kind": "close-up"}, "Choose a decision"),
+    ],
+)
+def test_a_decision_without_a_proper_reason_or_kind_is_refused_and_nothing_is_kept(
+    db, people, site, client_as, change, field_error
+):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("engineer")
+    events_before = len(store.events_for(db, site_id=site["id"]))
+    r = client.post(decision_url(site, b), data=decide_form(client, site, b) | change)
+    assert r.status_code == 400
+    assert field_error in r.data.decode()
+    assert b'class="field-error"' in r.data
+    assert store.decisions_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+    assert state_of(db, site, "GF-B1-W") == "engineer to decide"
+    assert len(store.events_for(db, site_id=site["id"])) == events_before
+
+
+def test_a_decision_on_a_record_that_is_no_longer_the_latest_is_refused(
+    db, people, site, client_as
+):
+    first = record(db, site, "GF-B1-W", people["inspector"], hours=3, bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("engineer")
+    form = decide_form(client, site, b, reason="The short bearing is acceptable here.")
+    assert form["record_uuid"] == first
+
+    # Meanwhile a newer measurement arrives, still for the engineer.
+    newer = record(db, site, "GF-B1-W", people["inspector"], hours=1, bearing_length=90.0)
+    r = client.post(decision_url(site, b), data=form)
+    assert r.status_code == 409
+    html = r.data.decode()
+    assert "newer as-built record" in html
+    assert store.decisions_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+    assert state_of(db, site, "GF-B1-W") == "engineer to decide"
+    # The fresh page is about the new record, and the engineer's words are kept.
+    assert hidden(r.data, "record_uuid") == newer
+    assert "The short bearing is acceptable here." in html
+    assert "90 mm" in html
+
+
+def test_a_decision_after_the_state_moved_is_refused(db, people, site, client_as):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("engineer")
+    form = decide_form(client, site, b, kind="remedial", reason="Needs a longer bearing.")
+    services.decide(
+        db,
+        site=site,
+        bearing=b,
+        kind="accept",
+        reason="Accepted by phone call with the site.",
+        engineer_id=people["engineer"].id,
+    )
+    r = client.post(decision_url(site, b), data=form)
+    assert r.status_code == 409
+    assert b"is now &#39;accepted&#39;" in r.data
+    kinds = [d["kind"] for d in store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])]
+    assert kinds == ["accept"]
+
+
+@pytest.mark.parametrize("role", ["inspector", "contractor", "viewer"])
+def test_only_the_engineer_may_decide(db, people, site, client_as, role):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    engineer_form = decide_form(client_as("engineer"), site, b)
+    client = client_as(role)
+    data = engineer_form | {"csrf_token": csrf_token(client)}
+    r = client.post(decision_url(site, b), data=data)
+    assert r.status_code == 403
+    assert store.decisions_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+    refused = store.events_for(db, site_id=site["id"], limit=1)[0]
+    assert refused["kind"] == "refused" and refused["detail"]["action"] == "decide"
+
+
+def test_a_decision_without_csrf_is_refused_and_changes_nothing(db, people, site, client_as):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("engineer")
+    form = decide_form(client, site, b)
+    del form["csrf_token"]
+    r = client.post(decision_url(site, b), data=form)
+    assert r.status_code == 400
+    assert b"nothing was saved" in r.data
+    assert store.decisions_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+    assert state_of(db, site, "GF-B1-W") == "engineer to decide"
+
+
+def test_an_outsider_gets_404_on_every_review_route(db, people, site, client_as):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    client = client_as("outsider")
+    assert client.get(review_url(site, b)).status_code == 404
+    assert client.get(review_url(site, b, json=True)).status_code == 404
+    r = client.post(
+        decision_url(site, b),
+        data={"csrf_token": csrf_token(client), "kind": "accept", "reason": "x" * 20},
+    )
+    assert r.status_code == 404
+    assert state_of(db, site, "GF-B1-W") == "engineer to decide"
+    # Nor does a member reach a bearing through another site's address.
+    other, _ = other_site_with_engineer(db)
+    wrong = f"/sites/{other['id']}/bearings/{b['id']}/review"
+    assert client_as("engineer").get(wrong).status_code == 404
+
+
+def test_review_pages_ask_for_a_log_in(app, db, people, site):
+    b = bearing_named(db, site, "GF-B1-W")
+    anonymous = app.test_client()
+    assert anonymous.get("/review").status_code == 302
+    assert anonymous.get("/review.json").status_code == 401
+    assert anonymous.get(review_url(site, b, json=True)).status_code == 401
