@@ -16,7 +16,7 @@ import pytest
 from playwright.sync_api import expect
 from werkzeug.serving import make_server
 
-from sitecheck.demo import DEMO_PEOPLE, build_demo
+from sitecheck.demo import build_demo
 from sitecheck.web import create_app
 
 CHROMIUM = os.environ.get("CHROMIUM_PATH") or shutil.which("chromium")
@@ -97,12 +97,3 @@ def shoot(page, request):
         page.screenshot(path=str(ARTEFACTS / f"{request.node.name}-{name}.png"), full_page=True)
 
     return take
-
-
-def log_in(page, role: str) -> None:
-    email, _name, password = DEMO_PEOPLE[role]
-    page.goto("/login")
-    page.fill("#email", email)
-    page.fill("#password", password)
-    page.click("button[type=submit]")
-    expect(page.locator("h1")).not_to_have_text("Log in")

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from conftest import log_in
+from phone import log_in
 from playwright.sync_api import expect
 
 
