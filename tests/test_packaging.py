@@ -16,7 +16,9 @@ def test_every_template_and_static_file_is_packaged():
         for path in (ROOT / folder).rglob("*"):
             if path.is_file():
                 rel = path.relative_to(ROOT).as_posix()
-                assert any(fnmatch.fnmatchcase(rel, p) and rel.count("/") == p.count("/") for p in patterns), (
+                assert any(
+                    fnmatch.fnmatchcase(rel, p) and rel.count("/") == p.count("/") for p in patterns
+                ), (
                     f"{rel} would be missing from an installed sitecheck: add it to [tool.setuptools.data-files]"
                 )
 
