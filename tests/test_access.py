@@ -184,10 +184,7 @@ def test_access_matrix(app, client_as, world, role):
     for key, rule, method in requests:
         need = ROUTES[key]
         url = rule.build(world, append_unknown=False)[1]
-        if method == "GET":
-            r = client.get(url)
-        else:
-            r = client.post(url, data={"csrf_token": token})
+        r = client.get(url) if method == "GET" else client.post(url, data={"csrf_token": token})
         r.close()
         expected = _expected(need, role, url.endswith(".json"))
         if r.status_code not in expected:
