@@ -26,6 +26,15 @@ class Person:
     role: str | None
 
 
+@pytest.fixture(autouse=True)
+def _cheap_password_hashing(request, monkeypatch):
+    """scrypt at its production cost takes a good part of a second per account; the web tests
+    make several accounts each. They get a cheap scrypt; tests/test_auth.py checks the real
+    one."""
+    if request.module.__name__.rsplit(".", 1)[-1] != "test_auth":
+        monkeypatch.setattr(auth, "HASH_METHOD", "scrypt:1024:8:1")
+
+
 @pytest.fixture
 def app(tmp_path):
     app = create_app(tmp_path / "site.db", TESTING=True)
@@ -82,10 +91,6 @@ def site(db, people) -> dict:
     report = services.import_schedule(db, site=s, text=text, user_id=people["engineer"].id)
     assert report.ok, report.errors
     return store.get_site(db, s["id"])
-
-
-def csrf_token(client) -> str:
-    return client.get("/api/csrf").get_json()["token"]
 
 
 def login(client, person: Person) -> None:

@@ -14,7 +14,7 @@ from datetime import UTC, datetime
 import pytest
 
 from photo_samples import make_test_jpeg
-from sitecheck import auth, services, store
+from sitecheck import services, store
 from sitecheck.photos import ingest_photo
 from sitecheck.web import photo_store
 
@@ -85,12 +85,6 @@ MAY = {
 }
 
 ROLES = ("engineer", "inspector", "contractor", "viewer", "outsider")
-
-
-@pytest.fixture(autouse=True)
-def cheap_password_hashing(monkeypatch):
-    # These tests are about who may do what; test_auth checks the production hashing.
-    monkeypatch.setattr(auth, "HASH_METHOD", "scrypt:1024:8:1")
 
 
 @pytest.fixture

@@ -15,24 +15,13 @@ import pytest
 from PIL import Image
 
 from photo_samples import encode, flood_png, jpeg_markers, make_test_jpeg
-from sitecheck import auth, services, store
+from sitecheck import services, store
+from webkit import csrf_token
 
 REFERENCE = "GF-B1-E"  # designed with a 440 × 215 × 140 padstone, utilisation 0.60
 
 
-@pytest.fixture(autouse=True)
-def cheap_password_hashing(monkeypatch):
-    # Five accounts per test at the production scrypt cost would take most of this module's
-    # time; how strongly passwords are hashed is test_auth's business, not this module's.
-    monkeypatch.setattr(auth, "HASH_METHOD", "scrypt:1024:8:1")
-
-
 # --- helpers -------------------------------------------------------------------------------------
-
-
-def csrf_token(client) -> str:
-    # Not imported from conftest: with tests/browser collected too, that name is ambiguous.
-    return client.get("/api/csrf").get_json()["token"]
 
 
 def bearing_named(db, site, reference=REFERENCE) -> dict:

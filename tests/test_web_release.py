@@ -11,7 +11,6 @@ from test_web_review import (
     decide_form,
     decision_url,
     other_site_with_engineer,
-    quick_password_hashes,  # noqa: F401  (autouse: fast password hashes here too)
     record,
     review_url,
     state_of,

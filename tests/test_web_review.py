@@ -15,9 +15,8 @@ import pytest
 
 from sitecheck import auth, services, store
 from sitecheck.demo import schedule_csv
+from webkit import csrf_token
 
-# Not imported from conftest: tests/browser has a conftest module of the same name, and which
-# one "import conftest" finds depends on what else pytest collected.
 SECOND_PASSWORD = "another long test password"  # a test account only
 
 
@@ -25,10 +24,6 @@ SECOND_PASSWORD = "another long test password"  # a test account only
 class Engineer:
     id: int
     email: str
-
-
-def csrf_token(client) -> str:
-    return client.get("/api/csrf").get_json()["token"]
 
 
 def login(client, email: str, password: str) -> None:
@@ -40,12 +35,6 @@ def login(client, email: str, password: str) -> None:
 
 # Ticked as built to the design: no checklist reason of its own.
 CHECKLIST_OK = {"bedded": True, "packing": 0.0, "cracks": False, "cut_units": False, "level": True}
-
-
-@pytest.fixture(autouse=True)
-def quick_password_hashes(monkeypatch):
-    # scrypt is slow on purpose; these tests are about review and release, not passwords.
-    monkeypatch.setattr(auth, "HASH_METHOD", "pbkdf2:sha256:1000")
 
 
 def hours_ago(hours: float) -> str:

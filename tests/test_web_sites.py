@@ -73,13 +73,6 @@ GOOD = {
 # --- helpers ------------------------------------------------------------------------------------
 
 
-@pytest.fixture(autouse=True)
-def quick_password_hashes(monkeypatch):
-    """Password hashing is made slow on purpose; these tests are about the screens, so the
-    accounts they make use a cheap hash (test accounts only, never the app's default)."""
-    monkeypatch.setattr(auth, "HASH_METHOD", "pbkdf2:sha256:1000")
-
-
 def post(client, url, data=None, **kw):
     return client.post(url, data={**(data or {}), "csrf_token": csrf_token(client)}, **kw)
 

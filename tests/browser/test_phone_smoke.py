@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
-from phone import log_in
 from playwright.sync_api import expect
+
+from phone import log_in
 
 
 def test_log_in_on_a_phone_shows_the_sites(page, shoot):

@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import sqlite3
 
-from phone import log_in, log_out, open_site
 from playwright.sync_api import expect
 
+from phone import log_in, log_out, open_site
 from photo_samples import make_test_jpeg
 from sitecheck.demo import SITE_NAME
 
