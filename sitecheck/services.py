@@ -303,16 +303,20 @@ def store_photo(
     db, *, site: dict, record_uuid: str, photo, photos, user_id: int, uuid: str | None = None
 ) -> store.Stored:
     """Keep an ingested photo (sitecheck.photos.IngestedPhoto): both sizes on disk by their
-    hash, then its facts in the database, idempotent by the photo's UUID. The camera's
-    capture time has no zone unless the phone wrote one; it is kept as the site's clock
-    reading, marked UTC, which is how the record screens show every time."""
-    import uuid as uuidlib
-
+    hash, then its facts in the database, idempotent by the photo's UUID."""
     photos.put(photo.display_jpeg)
     photos.put(photo.thumbnail_jpeg)
-    captured = photo.capture_time
-    if captured and not captured.endswith("Z") and "+" not in captured[10:]:
-        captured = captured + "Z"
+    return add_photo_row(
+        db, site=site, record_uuid=record_uuid, photo=photo, user_id=user_id, uuid=uuid
+    )
+
+
+def add_photo_row(
+    db, *, site: dict, record_uuid: str, photo, user_id: int, uuid: str | None = None
+) -> store.Stored:
+    """The database row of a photo whose files are already stored."""
+    import uuid as uuidlib
+
     lat, lon = photo.gps if photo.gps else (None, None)
     return store.insert_photo(
         db,
@@ -324,8 +328,20 @@ def store_photo(
         width=photo.display_width,
         height=photo.display_height,
         size_bytes=photo.display_bytes,
-        captured_at=captured,
+        captured_at=camera_time(photo.capture_time),
         gps_lat=lat,
         gps_lon=lon,
         user_id=user_id,
     )
+
+
+def camera_time(capture_time: str | None) -> str | None:
+    """The camera's time if it said its zone. A zoneless camera time cannot be stored as UTC
+    without guessing the zone, so it is left out and the record's own time stands."""
+    if not capture_time:
+        return None
+    try:
+        moment = datetime.fromisoformat(capture_time)
+    except ValueError:
+        return None
+    return capture_time if moment.tzinfo is not None else None

@@ -8,8 +8,6 @@ once per client-made UUID: a second send of the same form shows the first result
 from __future__ import annotations
 
 import contextlib
-import uuid as uuid_module
-from datetime import datetime
 
 from flask import (
     Blueprint,
@@ -369,20 +367,8 @@ def _store(db, site, bearing, form, revision, photos):
             )
             if stored.created:
                 for p in photos:
-                    store.insert_photo(
-                        db,
-                        site_id=site["id"],
-                        uuid=str(uuid_module.uuid4()),
-                        record_uuid=stored.row["uuid"],
-                        sha256=p.display_sha256,
-                        thumb_sha256=p.thumbnail_sha256,
-                        width=p.display_width,
-                        height=p.display_height,
-                        size_bytes=p.display_bytes,
-                        captured_at=_zoned(p.capture_time),
-                        gps_lat=p.gps[0] if p.gps else None,
-                        gps_lon=p.gps[1] if p.gps else None,
-                        user_id=g.user["id"],
+                    services.add_photo_row(
+                        db, site=site, record_uuid=stored.row["uuid"], photo=p, user_id=g.user["id"]
                     )
     except BaseException:
         # Only files this request brought in; a file another record shares stays.
@@ -391,18 +377,6 @@ def _store(db, site, bearing, form, revision, photos):
                 ps.delete(sha)
         raise
     return stored
-
-
-def _zoned(capture_time: str | None) -> str | None:
-    """The camera's time if it said its zone; a zoneless camera time cannot be stored as UTC
-    without guessing the zone, so it is left out (the record's own time stands)."""
-    if not capture_time:
-        return None
-    try:
-        moment = datetime.fromisoformat(capture_time)
-    except ValueError:
-        return None
-    return capture_time if moment.tzinfo is not None else None
 
 
 def _design_at(db, site, bearing, revision: int) -> dict:
