@@ -48,6 +48,7 @@ from sitecheck.bearing.inputs import (
     MORTARS,
 )
 from sitecheck.bearing.review import ReviewSettings
+from sitecheck.schedule import FIELD_TO_COLUMN
 
 # --- small parts -------------------------------------------------------------------------------
 
@@ -364,46 +365,17 @@ SECTIONS = (
     ("Less often needed", ("bearing_type", "e_mk", "phi_m", "beta_s")),
 )
 
-# Core field path → the form field that shows its error.
-FIELD_FOR = {
-    "load.reaction": "reaction_kN",
-    "load.wall_load": "wall_load_kN_per_m",
-    "beam.flange_width": "flange_width",
-    "beam.bearing_length": "bearing_length",
-    "beam.orientation": "orientation",
-    "beam.member": "member",
-    "beam.offset_along": "offset_along",
-    "beam.offset_across": "offset_across",
-    "beam.reaction_at": "reaction_at",
-    "padstone.length": "padstone_length",
-    "padstone.width": "padstone_width",
-    "padstone.depth": "padstone_depth",
-    "padstone.concrete": "padstone_concrete",
+# Core field path → the form field that shows its error: the schedule's CSV columns (the
+# form uses the same names), plus the fields only the form offers.
+FIELD_FOR = FIELD_TO_COLUMN | {
     "padstone.f_ck": "padstone_f_ck",
     "padstone.precast": "padstone_precast",
-    "wall.thickness": "wall_thickness",
-    "wall.height_to_bearing": "height_to_bearing",
-    "wall.clear_height": "clear_height",
-    "wall.effective_height": "effective_height",
     "wall.effective_thickness": "effective_thickness",
-    "wall.a1": "a1",
-    "wall.a2": "a2",
-    "masonry.material": "unit_material",
-    "masonry.group": "unit_group",
-    "masonry.unit_strength": "unit_strength",
     "masonry.unit_strength_is_normalised": "unit_strength_is_normalised",
-    "masonry.unit_height": "unit_height",
-    "masonry.unit_width": "unit_width",
     "masonry.conditioning": "conditioning",
-    "masonry.mortar": "mortar",
-    "masonry.f_k": "f_k",
     "masonry.shell_bedded": "shell_bedded",
-    "masonry.unit_category": "unit_category",
-    "masonry.execution_class": "execution_class",
     "masonry.manufacturing_control": "manufacturing_control",
     "masonry.construction_control": "construction_control",
-    "masonry.gamma_M": "gamma_M",
-    "bearing_type": "bearing_type",
     "e_mk": "e_mk",
     "phi_m": "phi_m",
     "beta_s": "beta_s",
