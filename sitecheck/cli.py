@@ -61,6 +61,13 @@ def main(argv: list[str] | None = None) -> int:
     demo.add_argument("--port", type=int, default=8000)
     demo.add_argument("--build-only", action="store_true", help="build the database and stop")
 
+    record = sub.add_parser(
+        "record", help="write a site's record (PDF) for the quality file, with a progress bar"
+    )
+    record.add_argument("site", help="the site's id, or its exact name")
+    record.add_argument("--db", default=None, help="SQLite file (default $SITECHECK_DB)")
+    record.add_argument("--out", type=Path, required=True, help="the PDF file to write")
+
     args = parser.parse_args(argv)
     if args.command == "columns":
         for name, (meaning, unit) in COLUMNS.items():
@@ -70,6 +77,8 @@ def main(argv: list[str] | None = None) -> int:
         return _serve(args.db, args.host, args.port, args.threads)
     if args.command == "create-engineer":
         return _create_engineer(args)
+    if args.command == "record":
+        return _record(args)
     if args.command == "demo":
         from .demo import build_demo
 
@@ -95,6 +104,53 @@ def _serve(db: str | None, host: str, port: int, threads: int) -> int:
     print(CAUTION)
     serve(app, host=host, port=port, threads=threads, ident="sitecheck")
     return 0
+
+
+def _record(args) -> int:
+    import os
+
+    from . import store
+    from .photos import PhotoStore
+    from .report.collect import collect
+    from .report.pdf import write_pdf
+
+    path = Path(args.db or os.environ.get("SITECHECK_DB") or "var/sitecheck.db")
+    if not path.is_file():
+        print(f"sitecheck: no database at {path}; give it with --db", file=sys.stderr)
+        return 2
+    db = store.open_db(path)
+    try:
+        site = store.get_site(db, args.site) or _site_named(db, args.site)
+        if site is None:
+            print(
+                f"sitecheck: no site with the id or exact name {args.site!r}; "
+                "the site page's address holds its id",
+                file=sys.stderr,
+            )
+            return 2
+        rec = collect(db, site["id"])
+    finally:
+        db.conn.close()
+    write_pdf(rec, args.out, photo_store=PhotoStore(path.parent / "photos"), progress=_progress_bar)
+    print(file=sys.stderr)
+    print(f"Site record of {site['name']} ({len(rec.bearings)} bearings) written to {args.out}")
+    print(CAUTION)
+    return 0
+
+
+def _site_named(db, name: str) -> dict | None:
+    from . import store
+
+    # Names are not unique: only an exact, unambiguous name stands in for an id.
+    matches = store.sites_named(db, name)
+    return matches[0] if len(matches) == 1 else None
+
+
+def _progress_bar(done: int, total: int, what: str) -> None:
+    width = 30
+    filled = int(width * done / max(total, 1))
+    bar = "#" * filled + "-" * (width - filled)
+    print(f"\r[{bar}] {done}/{total} {what[:30]:30}", end="", file=sys.stderr, flush=True)
 
 
 def _create_engineer(args) -> int:

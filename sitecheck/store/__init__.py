@@ -83,6 +83,7 @@ from sitecheck.store.sites import (
     role_of,
     set_role,
     sites_for_user,
+    sites_named,
     update_site_settings,
 )
 
@@ -155,6 +156,7 @@ __all__ = [
     "set_role",
     "set_state",
     "sites_for_user",
+    "sites_named",
     "timestamp",
     "touch_session",
     "transaction",

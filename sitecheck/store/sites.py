@@ -209,6 +209,11 @@ def sites_for_user(db: sqlite_utils.Database, user_id: int) -> list[dict]:
     )
 
 
+def sites_named(db: sqlite_utils.Database, name: str) -> list[dict]:
+    """Sites whose name is exactly ``name`` (names are not unique; the CLI refuses two)."""
+    return many(db, "SELECT * FROM sites WHERE name = ? ORDER BY created_at", [name])
+
+
 def members_of(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
     """People on a site with their role (no password hashes)."""
     return many(

@@ -67,7 +67,7 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     app.register_blueprint(pages.bp)
     app.register_blueprint(sites.bp)
     app.register_blueprint(review.bp)
-    for name in ("inspect", "release"):
+    for name in ("inspect", "release", "sync", "record"):
         module = __import__(f"sitecheck.web.{name}", fromlist=["bp"])
         app.register_blueprint(module.bp)
 

@@ -1,0 +1,414 @@
+"""The data export of a site: CSV files (one per kind of row, in a zip) and one JSON file.
+
+``schedule.csv`` is the bearing schedule in the import's own columns (kN at the edge, as
+the import reads them), so it can be imported into another site. The design inputs the
+schedule has no column for are listed by :func:`schedule_gaps`; the JSON export and the
+``design_input`` column of ``bearings.csv`` carry every input whole.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import zipfile
+from dataclasses import fields
+
+from sitecheck.bearing import Masonry
+from sitecheck.bearing.review import Checklist, Measurements
+from sitecheck.cli import CAUTION
+from sitecheck.report.collect import SiteRecord
+from sitecheck.schedule import DESIGN_COLUMNS
+
+FORMAT_VERSION = 1
+
+# Inputs with a default that the schedule cannot carry: (part, field, default).
+_NOT_IN_SCHEDULE = (
+    [("padstone", "f_ck", None), ("padstone", "precast", True)]
+    + [("wall", "effective_thickness", None)]
+    + [
+        ("masonry", f.name, f.default)
+        for f in fields(Masonry)
+        if f.name
+        in (
+            "unit_strength_is_normalised",
+            "conditioning",
+            "shell_bedded",
+            "manufacturing_control",
+            "construction_control",
+        )
+    ]
+    + [("", "e_mk", None), ("", "phi_m", None), ("", "beta_s", None)]
+)
+
+
+def _num(x) -> str:
+    if x is None:
+        return ""
+    if isinstance(x, bool):
+        return "yes" if x else "no"
+    if isinstance(x, float):
+        # Enough digits that reading back gives the same number.
+        return f"{x:.12g}"
+    return str(x)
+
+
+def schedule_row(reference: str, location: str, basis: str, design: dict) -> dict[str, str]:
+    """One bearing's design input in the schedule's columns (reaction in kN, lengths mm)."""
+    load, beam, wall = design["load"], design["beam"], design["wall"]
+    mas, pad = design["masonry"], design.get("padstone") or {}
+    values = {
+        "reference": reference,
+        "location": location,
+        "basis": basis,
+        "reaction_kN": load["reaction"] / 1000.0,
+        # N/mm is kN/m: the same number.
+        "wall_load_kN_per_m": load.get("wall_load") or None,
+        "orientation": beam.get("orientation"),
+        "member": beam.get("member"),
+        "flange_width": beam["flange_width"],
+        "bearing_length": beam["bearing_length"],
+        "offset_along": beam.get("offset_along"),
+        "offset_across": beam.get("offset_across"),
+        "reaction_at": beam.get("reaction_at"),
+        "padstone_length": pad.get("length"),
+        "padstone_width": pad.get("width"),
+        "padstone_depth": pad.get("depth"),
+        "padstone_concrete": pad.get("concrete"),
+        "wall_thickness": wall["thickness"],
+        "height_to_bearing": wall["height_to_bearing"],
+        "clear_height": wall.get("clear_height"),
+        "effective_height": wall.get("effective_height"),
+        "a1": wall.get("a1"),
+        "a2": wall.get("a2"),
+        "unit_material": mas.get("material"),
+        "unit_group": mas.get("group"),
+        "unit_strength": mas.get("unit_strength"),
+        "unit_height": mas.get("unit_height"),
+        "unit_width": mas.get("unit_width"),
+        "mortar": mas.get("mortar"),
+        "f_k": mas.get("f_k"),
+        "gamma_M": mas.get("gamma_M"),
+        "execution_class": mas.get("execution_class"),
+        "unit_category": mas.get("unit_category"),
+        "bearing_type": design.get("bearing_type"),
+    }
+    assert set(values) == set(DESIGN_COLUMNS), "the schedule's columns changed"
+    return {k: _num(values[k]) for k in DESIGN_COLUMNS}
+
+
+def schedule_gaps(design: dict) -> list[str]:
+    """Design inputs, away from their defaults, that the schedule has no column for."""
+    gaps = []
+    for part, name, default in _NOT_IN_SCHEDULE:
+        holder = design if not part else (design.get(part) or {})
+        if part == "padstone" and not design.get("padstone"):
+            continue
+        if holder.get(name, default) != default:
+            gaps.append(f"{part}.{name}" if part else name)
+    return gaps
+
+
+def schedule_csv(rec: SiteRecord) -> str:
+    out = io.StringIO()
+    w = csv.DictWriter(out, fieldnames=list(DESIGN_COLUMNS), lineterminator="\n")
+    w.writeheader()
+    basis = (rec.site.get("code_basis") or {}).get("name", "")
+    for br in rec.bearings:
+        b = br.bearing
+        w.writerow(schedule_row(b["reference"], b["location"], basis, b["design_input"]))
+    return out.getvalue()
+
+
+def _safe(text) -> str:
+    """Free text for a spreadsheet: a leading = + - @ would be run as a formula."""
+    text = "" if text is None else str(text)
+    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
+
+
+def _table(header: list[str], rows: list[list]) -> str:
+    out = io.StringIO()
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(header)
+    w.writerows(rows)
+    return out.getvalue()
+
+
+def _json(value) -> str:
+    return json.dumps(value, ensure_ascii=False, sort_keys=True, separators=(",", ":"))
+
+
+def bearings_csv(rec: SiteRecord) -> str:
+    rows = []
+    for br in rec.bearings:
+        b, latest = br.bearing, br.latest
+        release = br.releases[-1] if br.releases and b["state"] == "released" else None
+        rows.append(
+            [
+                b["id"],
+                _safe(b["reference"]),
+                _safe(b["location"]),
+                b["state"],
+                b["revision"],
+                _num(b["design_utilisation"]),
+                _num(bool(b["design_passed"])),
+                latest["uuid"] if latest else "",
+                _num(latest["utilisation"]) if latest else "",
+                _num(bool(latest["passed"])) if latest else "",
+                br.decisions[-1]["kind"] if br.decisions else "",
+                _safe(release["contractor_name"]) if release else "",
+                release["created_at"] if release else "",
+                _json(b["design_input"]),
+            ]
+        )
+    header = [
+        "bearing_id",
+        "reference",
+        "location",
+        "state",
+        "design_revision",
+        "design_utilisation",
+        "design_passed",
+        "latest_record_uuid",
+        "as_built_utilisation",
+        "as_built_passed",
+        "last_decision",
+        "released_by",
+        "released_at",
+        "design_input",
+    ]
+    return _table(header, rows)
+
+
+_MEASURED = [f.name for f in fields(Measurements)]
+_CHECKED = [f.name for f in fields(Checklist)]
+
+
+def records_csv(rec: SiteRecord) -> str:
+    rows = []
+    for br in rec.bearings:
+        for r in br.records:
+            m, c = r["measurements"] or {}, r["checklist"] or {}
+            rows.append(
+                [
+                    r["uuid"],
+                    br.bearing["id"],
+                    _safe(br.bearing["reference"]),
+                    r["design_revision"],
+                    _safe(rec.name(r["inspector_id"])),
+                    r["measured_at"],
+                    r["received_at"],
+                    *[_num(m.get(k)) for k in _MEASURED],
+                    *[_num(c.get(k)) for k in _CHECKED],
+                    _num(r["utilisation"]),
+                    _num(bool(r["passed"])),
+                    r["blocking"],
+                    _num(bool(r["older_revision"])),
+                    _num(bool(r["late"])),
+                    " ".join(x.get("code", "") for x in r["reasons"] or []),
+                    len(br.photos.get(r["uuid"], [])),
+                    _safe(r["notes"]),
+                ]
+            )
+    header = [
+        "record_uuid",
+        "bearing_id",
+        "reference",
+        "design_revision",
+        "inspector",
+        "measured_at",
+        "received_at",
+        *[f"measured_{k}" for k in _MEASURED],
+        *[f"checklist_{k}" for k in _CHECKED],
+        "utilisation",
+        "passed",
+        "blocking_reasons",
+        "older_design_revision",
+        "late",
+        "review_reason_codes",
+        "photos",
+        "notes",
+    ]
+    return _table(header, rows)
+
+
+def decisions_csv(rec: SiteRecord) -> str:
+    rows = [
+        [
+            d["id"],
+            br.bearing["id"],
+            _safe(br.bearing["reference"]),
+            d["record_uuid"],
+            d["kind"],
+            _safe(rec.name(d["engineer_id"])),
+            d["created_at"],
+            _safe(d["reason"]),
+        ]
+        for br in rec.bearings
+        for d in br.decisions
+    ]
+    header = ["decision_id", "bearing_id", "reference", "record_uuid", "kind", "engineer"]
+    return _table(header + ["at", "reason"], rows)
+
+
+def releases_csv(rec: SiteRecord) -> str:
+    rows = [
+        [
+            r["id"],
+            br.bearing["id"],
+            _safe(br.bearing["reference"]),
+            r["record_uuid"] or "",
+            _safe(r["contractor_name"]),
+            _safe(rec.name(r["contractor_id"])),
+            r["created_at"],
+            _safe(r["statement"]),
+        ]
+        for br in rec.bearings
+        for r in br.releases
+    ]
+    header = ["release_id", "bearing_id", "reference", "record_uuid", "signed_as", "account"]
+    return _table(header + ["at", "statement"], rows)
+
+
+def reopenings_csv(rec: SiteRecord) -> str:
+    rows = [
+        [
+            r["id"],
+            br.bearing["id"],
+            _safe(br.bearing["reference"]),
+            _safe(rec.name(r["engineer_id"])),
+            r["created_at"],
+            _safe(r["reason"]),
+        ]
+        for br in rec.bearings
+        for r in br.reopenings
+    ]
+    return _table(["reopening_id", "bearing_id", "reference", "engineer", "at", "reason"], rows)
+
+
+def events_csv(rec: SiteRecord) -> str:
+    refs = {br.bearing["id"]: br.bearing["reference"] for br in rec.bearings}
+    rows = [
+        [
+            e["id"],
+            e["at"],
+            _safe(rec.name(e["user_id"])),
+            e["kind"],
+            e["bearing_id"] or "",
+            _safe(refs.get(e["bearing_id"], "")),
+            _safe(_json(e["detail"] or {})),
+        ]
+        for e in rec.events
+    ]
+    return _table(["event_id", "at", "who", "kind", "bearing_id", "reference", "detail"], rows)
+
+
+CSV_FILES = {
+    "schedule.csv": schedule_csv,
+    "bearings.csv": bearings_csv,
+    "records.csv": records_csv,
+    "decisions.csv": decisions_csv,
+    "releases.csv": releases_csv,
+    "reopenings.csv": reopenings_csv,
+    "events.csv": events_csv,
+}
+
+
+def readme(rec: SiteRecord) -> str:
+    gaps = {
+        br.bearing["reference"]: schedule_gaps(br.bearing["design_input"]) for br in rec.bearings
+    }
+    lines = [
+        f"Data export of site {rec.site['name']}, made {rec.made_at} (UTC).",
+        "",
+        CAUTION,
+        "",
+        "schedule.csv   the bearing schedule (design values, kN and mm); it imports into a site",
+        "bearings.csv   each bearing: state, utilisation at design and as built, decision, release",
+        "records.csv    every as-built record, newest first per bearing (values in mm, N/mm²)",
+        "decisions.csv  the engineer's decisions with their reasons",
+        "releases.csv   releases for closing up, signed and timed",
+        "reopenings.csv reopened bearings with their reasons",
+        "events.csv     the audit trail, oldest first",
+        "",
+        "Times are UTC. Free text that begins with = + - or @ has a ' put in front so that a",
+        "spreadsheet shows it rather than running it.",
+    ]
+    missing = {k: v for k, v in gaps.items() if v}
+    if missing:
+        lines += ["", "Design inputs schedule.csv cannot hold (they are in bearings.csv):"]
+        lines += [f"  {ref}: {', '.join(v)}" for ref, v in missing.items()]
+    return "\n".join(lines) + "\n"
+
+
+def csv_zip(rec: SiteRecord) -> bytes:
+    buffer = io.BytesIO()
+    with zipfile.ZipFile(buffer, "w", zipfile.ZIP_DEFLATED) as z:
+        z.writestr("README.txt", readme(rec))
+        for name, make in CSV_FILES.items():
+            # A BOM lets spreadsheet programs read the file as UTF-8 (mm², ≤, names).
+            z.writestr(name, "\ufeff" + make(rec))
+    return buffer.getvalue()
+
+
+def site_json(rec: SiteRecord) -> dict:
+    site = rec.site
+    bearings = []
+    for br in rec.bearings:
+        b = br.bearing
+        bearings.append(
+            {
+                "id": b["id"],
+                "reference": b["reference"],
+                "location": b["location"],
+                "state": b["state"],
+                "state_changed_at": b["state_changed_at"],
+                "revision": b["revision"],
+                "design_input": b["design_input"],
+                "design_result": b["design_result"],
+                "design_utilisation": b["design_utilisation"],
+                "design_passed": bool(b["design_passed"]),
+                "latest_record_uuid": b["latest_record_uuid"],
+                "records": [
+                    {
+                        **{k: r[k] for k in r if k not in ("site_id",)},
+                        "inspector": rec.name(r["inspector_id"]),
+                        "passed": bool(r["passed"]),
+                        "late": bool(r["late"]),
+                        "older_revision": bool(r["older_revision"]),
+                        "photos": [
+                            {k: p[k] for k in p if k != "bearing_id"}
+                            for p in br.photos.get(r["uuid"], [])
+                        ],
+                    }
+                    for r in br.records
+                ],
+                "decisions": [{**d, "engineer": rec.name(d["engineer_id"])} for d in br.decisions],
+                "releases": [{**r, "account": rec.name(r["contractor_id"])} for r in br.releases],
+                "reopenings": [
+                    {**r, "engineer": rec.name(r["engineer_id"])} for r in br.reopenings
+                ],
+                "schedule_gaps": schedule_gaps(b["design_input"]),
+            }
+        )
+    return {
+        "format": "sitecheck data export",
+        "format_version": FORMAT_VERSION,
+        "made_at": rec.made_at,
+        "caution": CAUTION,
+        "site": {
+            "id": site["id"],
+            "name": site["name"],
+            "address": site["address"],
+            "code_basis": site["code_basis"],
+            "review_settings": site["review_settings"],
+            "created_at": site["created_at"],
+        },
+        "members": [{"id": m["id"], "name": m["name"], "role": m["role"]} for m in rec.members],
+        "bearings": bearings,
+        "events": [{**e, "who": rec.name(e["user_id"])} for e in rec.events],
+    }
+
+
+def json_bytes(rec: SiteRecord) -> bytes:
+    return json.dumps(site_json(rec), ensure_ascii=False, indent=1, allow_nan=False).encode()

@@ -1,0 +1,411 @@
+"""The phone's side door: the site pack it keeps for offline use, the as-built records and
+photos it sends from its unsent outbox, and the offline shell (service worker, offline pages).
+
+Every answer is JSON with a status the phone acts on without reading the words:
+
+- 200/201: stored (201 the first time, 200 for the same UUID again, with the first answer);
+  the phone deletes its copy only now.
+- 400: the request itself is malformed (not JSON, no file part, a stale CSRF token); the phone
+  fetches a new token and tries again, or keeps the item.
+- 401: logged out; the phone keeps the item until its person logs in again.
+- 403/404/409/422: refused for good; the phone moves the item to its visible refused list
+  with ``error`` (a sentence) and ``code`` / ``field``.
+- 5xx or no answer: the phone keeps the item and tries again later.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import uuid as uuid_module
+from datetime import UTC, datetime
+
+from flask import (
+    Blueprint,
+    abort,
+    g,
+    jsonify,
+    render_template,
+    request,
+    send_from_directory,
+    url_for,
+)
+
+from sitecheck import services, store
+from sitecheck.bearing import input_errors
+from sitecheck.bearing.errors import InputError
+from sitecheck.bearing.review import as_built_input
+from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
+from sitecheck.photos import PhotoRejected, ingest_photo
+from sitecheck.web import get_db, photo_store
+from sitecheck.web.access import bearing_for, site_for
+from sitecheck.web.assets import STATIC_DIR
+from sitecheck.web.auth import login_required
+from sitecheck.web.record_form import (
+    CHECKLIST_FIELDS,
+    GROUPS,
+    MAX_PHOTOS,
+    MEASUREMENT_FIELDS,
+    NOTES_MAX,
+    PACKING_MAX_MM,
+    SPECS,
+    designed_text,
+)
+
+bp = Blueprint("sync", __name__)
+
+RECORD_KEYS = frozenset(
+    {
+        "uuid",
+        "site_id",
+        "bearing_id",
+        "design_revision",
+        "measured_at",
+        "measurements",
+        "checklist",
+        "notes",
+    }
+)
+
+
+class Refused(Exception):
+    """Input the phone must not send again as it is: 422 with the field it is about."""
+
+    def __init__(self, field: str, code: str, error: str, status: int = 422):
+        super().__init__(error)
+        self.field, self.code, self.error, self.status = field, code, error, status
+
+    def response(self):
+        return jsonify(error=self.error, field=self.field, code=self.code), self.status
+
+
+# --- the offline shell ------------------------------------------------------------------------
+
+
+@bp.get("/sw.js")
+def service_worker():
+    """Served from the root so that its scope is the whole app, not only /static/."""
+    response = send_from_directory(STATIC_DIR, "sw.js", mimetype="text/javascript", max_age=0)
+    # A phone must see a new version at once; the worker itself decides what else is cached.
+    response.headers["Cache-Control"] = "no-cache"
+    return response
+
+
+@bp.get("/offline")
+def offline():
+    """Shown by the service worker for a page it has not kept; lists the kept site packs."""
+    return render_template("offline/shell.html")
+
+
+@bp.get("/sites/<site_id>/offline")
+@login_required
+def site_offline(site_id):
+    """The as-built form driven by the site pack, for basements with no signal."""
+    site, _role = site_for(site_id, "record")
+    return render_template(
+        "offline/site.html",
+        site={"id": site["id"], "name": site["name"]},
+        groups=GROUPS,
+        specs=SPECS,
+        choices=_choices(),
+        max_photos=MAX_PHOTOS,
+    )
+
+
+def _choices() -> dict[str, list[tuple[str, str]]]:
+    from sitecheck.web.record_form import RecordForm
+
+    form_class = RecordForm
+    out = {}
+    for name in ("masonry_material", "masonry_group", "mortar"):
+        field = getattr(form_class, name)
+        out[name] = [(c.value, c.label) for c in field.kwargs["choices"]]
+    return out
+
+
+# --- the site pack ----------------------------------------------------------------------------
+
+
+@bp.get("/api/sites/<site_id>/pack")
+@login_required
+def pack(site_id):
+    site, role = site_for(site_id, "record")
+    basis = services.basis_for(site)
+    bearings = []
+    for b in store.list_bearings(get_db(), site_id=site["id"]):
+        design_result = b["design_result"] or {}
+        bearings.append(
+            {
+                "id": b["id"],
+                "reference": b["reference"],
+                "location": b["location"],
+                "state": b["state"],
+                "revision": b["revision"],
+                "design_input": b["design_input"],
+                "design": {
+                    "utilisation": _finite(b["design_utilisation"]),
+                    "passed": bool(b["design_passed"]),
+                    "governing": design_result.get("governing"),
+                },
+                # Ready-made words beside each field, so the phone shows what the online form shows.
+                "designed": {name: designed_text(b["design_input"], name) for name in SPECS},
+            }
+        )
+    response = jsonify(
+        site={
+            "id": site["id"],
+            "name": site["name"],
+            "basis": basis.name,
+            "code_basis": site["code_basis"],
+            "review_settings": site["review_settings"],
+        },
+        role=role,
+        user=g.user["id"],
+        generated_at=datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        bearings=bearings,
+    )
+    response.headers["Cache-Control"] = "no-store"
+    return response
+
+
+# --- as-built records -------------------------------------------------------------------------
+
+
+@bp.post("/api/records")
+@login_required
+def post_record():
+    data = request.get_json(silent=True)
+    if not isinstance(data, dict):
+        return jsonify(error="Send the as-built record as a JSON object.", code="not-json"), 400
+    try:
+        fields = _record_fields(data)
+    except Refused as refused:
+        return refused.response()
+    site, _role = site_for(fields["site_id"], "record")
+    bearing = bearing_for(site, fields["bearing_id"])
+    db = get_db()
+    try:
+        _check_against_core(site, bearing, fields)
+        stored, _recheck = services.record_as_built(
+            db,
+            site=site,
+            bearing=bearing,
+            uuid=fields["uuid"],
+            measured_at=fields["measured_at"],
+            design_revision=fields["design_revision"],
+            measurements=fields["measurements"],
+            checklist=fields["checklist"],
+            notes=fields["notes"],
+            inspector_id=g.user["id"],
+        )
+    except Refused as refused:
+        return refused.response()
+    except InputError as error:
+        return _input_error(error)
+    except store.UuidInUse as error:
+        return jsonify(error=str(error), field="uuid", code="uuid-in-use"), 409
+    except ValueError as error:  # the store's own refusals, e.g. a design revision it never had
+        return jsonify(error=str(error), field=_field_of(str(error)), code="refused"), 422
+    return jsonify(_answer(site, stored)), (201 if stored.created else 200)
+
+
+def _answer(site, stored) -> dict:
+    """Built from the stored row, so a resend gets the first answer, not a new re-check."""
+    row = stored.row
+    return {
+        "uuid": row["uuid"],
+        "created": stored.created,
+        "state": stored.state,
+        "passed": bool(row["passed"]),
+        "utilisation": _finite(row["utilisation"]),
+        "governing": (row["result"] or {}).get("governing"),
+        "reasons": [
+            {"code": r["code"], "severity": r["severity"], "sentence": r["sentence"]}
+            for r in row["reasons"]
+        ],
+        "url": url_for("inspect.result", site_id=site["id"], record_uuid=row["uuid"]),
+    }
+
+
+def _record_fields(data: dict) -> dict:
+    unknown = sorted(set(data) - RECORD_KEYS)
+    if unknown:
+        raise Refused(unknown[0], "unknown-field", f"“{unknown[0][:40]}” is not part of a record.")
+    out: dict = {}
+    out["uuid"] = _uuid(data.get("uuid"), "uuid")
+    for name in ("site_id", "bearing_id"):
+        value = data.get(name)
+        if not isinstance(value, str) or not value or len(value) > 64:
+            raise Refused(name, "missing", f"{name} is missing.")
+        out[name] = value
+    revision = data.get("design_revision")
+    if isinstance(revision, bool) or not isinstance(revision, int):
+        raise Refused(
+            "design_revision",
+            "not-whole",
+            "design_revision must be the whole number of the design revision.",
+        )
+    out["design_revision"] = revision
+    out["measured_at"] = _moment(data.get("measured_at"), "measured_at")
+    for name, allowed in (("measurements", MEASUREMENT_FIELDS), ("checklist", CHECKLIST_FIELDS)):
+        values = data.get(name) or {}
+        if not isinstance(values, dict):
+            raise Refused(name, "bad-shape", f"{name} must be an object of named values.")
+        for key, value in values.items():
+            if key not in allowed:
+                raise Refused(
+                    f"{name}.{key}", "unknown-field", f"{key} is not a known {name} value."
+                )
+            if isinstance(value, float) and not math.isfinite(value):
+                raise Refused(f"{name}.{key}", "not-a-number", f"{key} must be a finite number.")
+        # Nothing empty: a field not measured is left out, as the online form leaves it out.
+        out[name] = {k: v for k, v in values.items() if v is not None}
+    packing = out["checklist"].get("packing")
+    is_number = isinstance(packing, int | float) and not isinstance(packing, bool)
+    if is_number and not 0 <= packing <= PACKING_MAX_MM:
+        raise Refused(
+            "checklist.packing",
+            "out-of-range",
+            f"Packing of {packing:g} mm is not accepted; expected 0 to {PACKING_MAX_MM:g} mm.",
+        )
+    concrete = out["measurements"].get("padstone_concrete")
+    if isinstance(concrete, str):
+        concrete = concrete.strip()
+        if len(concrete) > 20:
+            raise Refused(
+                "measurements.padstone_concrete",
+                "too-long",
+                "Padstone concrete class: at most 20 characters.",
+            )
+        if concrete:
+            out["measurements"]["padstone_concrete"] = concrete
+        else:
+            del out["measurements"]["padstone_concrete"]
+    notes = data.get("notes") or ""
+    if not isinstance(notes, str):
+        raise Refused("notes", "not-text", "notes must be text.")
+    if len(notes) > NOTES_MAX:
+        raise Refused("notes", "too-long", f"Notes: at most {NOTES_MAX} characters.")
+    out["notes"] = notes
+    return out
+
+
+def _check_against_core(site, bearing, fields) -> None:
+    """Typed JSON first, then the core's physical sense, before anything is stored."""
+    measurements = measurements_from_dict(fields["measurements"])
+    checklist_from_dict(fields["checklist"])
+    built = as_built_input(services.design_of(bearing), measurements)
+    for error in input_errors(built, services.basis_for(site)):
+        raise error
+
+
+def _input_error(error: InputError):
+    return (
+        jsonify(
+            error=f"{error.field}: {error.expected}",
+            field=error.field,
+            code=error.code,
+            expected=error.expected,
+        ),
+        422,
+    )
+
+
+def _field_of(message: str) -> str:
+    return message.split(" ", 1)[0] if message else "record"
+
+
+def _uuid(value, field: str) -> str:
+    try:
+        return str(uuid_module.UUID(str(value)))
+    except (ValueError, TypeError, AttributeError):
+        raise Refused(field, "bad-uuid", f"{field} must be a UUID made on the phone.") from None
+
+
+def _moment(value, field: str) -> str:
+    if not isinstance(value, str) or len(value) > 40:
+        raise Refused(
+            field, "missing", f"{field} must be a date and time such as 2026-05-04T10:30:00Z."
+        )
+    try:
+        moment = datetime.fromisoformat(value.replace("Z", "+00:00"))
+    except ValueError:
+        raise Refused(field, "not-a-time", f"{field}: “{value}” is not a date and time.") from None
+    if moment.tzinfo is None:
+        raise Refused(field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00.")
+    return value
+
+
+def _finite(x):
+    return x if isinstance(x, int | float) and math.isfinite(x) else None
+
+
+# --- photos -----------------------------------------------------------------------------------
+
+
+@bp.post("/api/records/<record_uuid>/photos")
+@login_required
+def post_photo(record_uuid):
+    db = get_db()
+    site_id, record = _find_record(db, record_uuid)
+    site, _role = site_for(site_id, "record")
+    upload = request.files.get("photo")
+    if upload is None or not request.form.get("photo_uuid"):
+        return (
+            jsonify(
+                error="Send the photo as the multipart part “photo” with its photo_uuid.",
+                code="no-photo",
+            ),
+            400,
+        )
+    if record["inspector_id"] != g.user["id"]:
+        abort(403, description="Only the person who made an as-built record may add its photos.")
+    try:
+        photo_uuid = _uuid(request.form["photo_uuid"], "photo_uuid")
+        captured = request.form.get("captured_at")
+        captured = _moment(captured, "captured_at") if captured else None
+    except Refused as refused:
+        return refused.response()
+    if store.get_photo(db, site_id=site["id"], uuid=photo_uuid) is None:
+        already = store.photos_for_record(db, site_id=site["id"], record_uuid=record["uuid"])
+        if len(already) >= MAX_PHOTOS:
+            return (
+                jsonify(
+                    error=f"At most {MAX_PHOTOS} photos for one as-built record.",
+                    code="too-many-photos",
+                ),
+                422,
+            )
+    try:
+        photo = ingest_photo(upload.read())
+    except PhotoRejected as rejected:
+        return jsonify(error=rejected.message, code=rejected.code), 422
+    if photo.capture_time is None and captured:
+        # The phone re-encodes the picture to save space, which drops the camera's own time;
+        # it sends the time the file was made instead, always with its zone.
+        photo = dataclasses.replace(photo, capture_time=captured.replace("Z", "+00:00"))
+    try:
+        stored = services.store_photo(
+            db,
+            site=site,
+            record_uuid=record["uuid"],
+            photo=photo,
+            photos=photo_store(),
+            user_id=g.user["id"],
+            uuid=photo_uuid,
+        )
+    except store.UuidInUse as error:
+        return jsonify(error=str(error), field="photo_uuid", code="uuid-in-use"), 409
+    status = 201 if stored.created else 200
+    return jsonify(
+        uuid=stored.row["uuid"], created=stored.created, record_uuid=record["uuid"]
+    ), status
+
+
+def _find_record(db, record_uuid: str) -> tuple[str, dict]:
+    """The record among the user's own sites only, so another site's record reads as absent."""
+    for s in store.sites_for_user(db, g.user["id"]):
+        row = store.get_record(db, site_id=s["id"], uuid=record_uuid)
+        if row is not None:
+            return s["id"], row
+    abort(404, description="There is no such as-built record; send the record before its photos.")

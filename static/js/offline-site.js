@@ -1,0 +1,215 @@
+// The offline page of one site: its bearings from the kept site pack, the as-built form with
+// the online form's field names, and the unsent and refused lists.
+
+import { get } from "./db.js";
+import { keep, refusedItems, unsentItems } from "./outbox.js";
+import { shrink } from "./photos.js";
+import { age } from "./unsent.js";
+
+const root = document.querySelector("[data-offline-site]");
+const siteId = root.dataset.offlineSite;
+const form = root.querySelector("[data-offline-form]");
+const listSection = root.querySelector("[data-pack-list]");
+const MEASUREMENTS = [
+  "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
+  "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete", "wall_thickness",
+  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar",
+];
+const CHECKLIST = ["bedded", "packing", "cracks", "cut_units", "level"];
+const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
+
+let pack = null;
+let bearing = null;
+
+function el(tag, attrs = {}, ...children) {
+  const node = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs)) {
+    if (k === "class") node.className = v;
+    else node.setAttribute(k, v);
+  }
+  node.append(...children);
+  return node;
+}
+
+function isoSeconds(date = new Date()) {
+  return date.toISOString().replace(/\.\d+Z$/, "Z");
+}
+
+async function load() {
+  pack = await get("packs", siteId);
+  const status = root.querySelector("[data-pack-age]");
+  const list = root.querySelector("[data-pack-bearings]");
+  list.replaceChildren();
+  if (!pack) {
+    status.textContent = "This site is not kept on this phone. With signal, open the survey list and tap “Keep for offline”.";
+    return;
+  }
+  status.textContent = `Site pack downloaded ${age(pack.generated_at)} (${pack.bearings.length} bearings). Design values as of then.`;
+  for (const b of pack.bearings) {
+    const button = el("button", { type: "button", class: "primary big", "data-record-bearing": b.id },
+      "Record as built", el("span", { class: "visually-hidden" }, ` for ${b.reference}`));
+    button.addEventListener("click", () => openForm(b));
+    list.append(el("li", { class: "card bearing-card", "data-bearing": b.id },
+      el("div", { class: "bearing-head" }, el("strong", { class: "reference" }, b.reference),
+        el("span", { class: "state" }, b.state)),
+      el("p", { class: "location" }, b.location || ""),
+      el("div", { class: "bearing-actions" }, button)));
+  }
+  document.body.dataset.packReady = "1";
+}
+
+function openForm(b) {
+  bearing = b;
+  form.reset();
+  clearErrors();
+  form.querySelector("[data-form-title]").textContent = `As-built record: ${b.reference}`;
+  form.querySelector("[data-form-location]").textContent = b.location || "";
+  for (const p of form.querySelectorAll("[data-designed-for]")) {
+    const text = b.designed[p.dataset.designedFor];
+    p.textContent = text ? `designed: ${text}` : "";
+  }
+  form.elements.measured_at.value = isoSeconds();
+  listSection.hidden = true;
+  form.hidden = false;
+  form.querySelector("h2").scrollIntoView();
+}
+
+function closeForm() {
+  form.hidden = true;
+  listSection.hidden = false;
+  bearing = null;
+}
+
+function clearErrors() {
+  for (const p of form.querySelectorAll("[data-error-for]")) {
+    p.hidden = true;
+    p.textContent = "";
+  }
+  const summary = form.querySelector("[data-form-errors]");
+  summary.hidden = true;
+  summary.replaceChildren();
+}
+
+// The same reading of typed text as the online form: empty is "not measured", a lone decimal
+// comma is a point.
+function readNumber(name, errors) {
+  const input = form.elements[name];
+  const raw = input.value.trim();
+  if (!raw) return undefined;
+  let text = raw.replaceAll(" ", "");
+  if (text.includes(",") && !text.includes(".") && text.split(",").length === 2) text = text.replace(",", ".");
+  if (text.length > 24 || !NUMBER.test(text) || !Number.isFinite(Number(text))) {
+    errors.push([name, `${input.dataset.label}: “${raw.slice(0, 40)}” is not a number.`]);
+    return undefined;
+  }
+  return Number(text);
+}
+
+function readField(name, errors) {
+  const field = form.elements[name];
+  if (field instanceof RadioNodeList) {
+    return { yes: true, no: false }[field.value];
+  }
+  if (field.dataset && field.dataset.kind === "number") return readNumber(name, errors);
+  const value = field.value.trim();
+  if (!value) return undefined;
+  return name === "masonry_group" ? Number(value) : value;
+}
+
+function collect(names, errors) {
+  const out = {};
+  for (const name of names) {
+    const value = readField(name, errors);
+    if (value !== undefined) out[name] = value;
+  }
+  return out;
+}
+
+async function save(event) {
+  event.preventDefault();
+  clearErrors();
+  const errors = [];
+  const measurements = collect(MEASUREMENTS, errors);
+  const checklist = collect(CHECKLIST, errors);
+  const measuredAt = form.elements.measured_at.value.trim();
+  if (Number.isNaN(Date.parse(measuredAt)) || !/(Z|[+-]\d\d:\d\d)$/.test(measuredAt)) {
+    errors.push(["measured_at", "Measured at: write it like 2026-05-04T10:30:00Z (with Z or an offset)."]);
+  }
+  if (errors.length) {
+    const summary = form.querySelector("[data-form-errors]");
+    summary.append(el("p", {}, el("strong", {}, "Nothing was kept."), " Put right what is marked and keep it again."));
+    for (const [name, message] of errors) {
+      const p = form.querySelector(`[data-error-for="${name}"]`);
+      if (p) { p.textContent = `✗ ${message}`; p.hidden = false; }
+      summary.append(el("p", {}, message));
+    }
+    summary.hidden = false;
+    summary.focus();
+    return;
+  }
+  const submit = form.querySelector("button[type=submit]");
+  submit.disabled = true;
+  try {
+    const photos = [];
+    for (const file of form.elements.photos.files) photos.push(await shrink(file));
+    const uuid = crypto.randomUUID();
+    await keep({
+      uuid,
+      user: document.body.dataset.user,
+      site_id: siteId,
+      site_name: pack.site.name,
+      bearing_id: bearing.id,
+      reference: bearing.reference,
+      record: {
+        uuid,
+        site_id: siteId,
+        bearing_id: bearing.id,
+        design_revision: bearing.revision,
+        measured_at: measuredAt,
+        measurements,
+        checklist,
+        notes: form.elements.notes.value,
+      },
+      photos,
+    });
+    const reference = bearing.reference;
+    closeForm();
+    root.querySelector("[data-pack-age]").textContent = `${reference} kept in unsent.`;
+  } catch (error) {
+    const summary = form.querySelector("[data-form-errors]");
+    summary.replaceChildren(el("p", {}, el("strong", {}, "Nothing was kept: "),
+      error && error.name === "QuotaExceededError"
+        ? "this phone's storage for sitecheck is full. Send the unsent records with signal, then try again."
+        : `the phone could not store it (${error && error.message}).`));
+    summary.hidden = false;
+    summary.focus();
+  } finally {
+    submit.disabled = false;
+  }
+}
+
+function describeItem(item) {
+  const photos = item.photos.length ? ` · ${item.photos.length} photo(s) waiting` : "";
+  return `${item.reference} · measured ${item.record.measured_at}${photos}`;
+}
+
+async function showLists() {
+  const unsent = (await unsentItems()).filter((i) => i.site_id === siteId);
+  const ul = root.querySelector("[data-unsent-list]");
+  ul.replaceChildren(...unsent.map((item) =>
+    el("li", { class: "card", "data-unsent-item": item.uuid }, describeItem(item),
+      item.attempts ? el("span", { class: "muted" }, ` · tried ${item.attempts} time(s)`) : "")));
+  if (!unsent.length) ul.append(el("li", { class: "card muted" }, "Nothing unsent for this site."));
+  const refused = (await refusedItems()).filter((i) => i.site_id === siteId);
+  const rl = root.querySelector("[data-refused-list]");
+  rl.replaceChildren(...refused.map((item) =>
+    el("li", { class: "card refused-item", "data-refused-item": item.uuid },
+      el("strong", {}, `${item.reference}${item.kind === "photo" ? " (a photo)" : ""}`),
+      el("span", {}, `${item.status}: ${item.reason}`))));
+  if (!refused.length) rl.append(el("li", { class: "card muted" }, "Nothing refused."));
+}
+
+form.addEventListener("submit", save);
+form.querySelector("[data-form-cancel]").addEventListener("click", closeForm);
+window.addEventListener("sitecheck:outbox", () => showLists());
+load().then(showLists);

@@ -1,0 +1,146 @@
+// On every page: the unsent count in the header, sending when the signal returns, the
+// log-out warning, "Keep for offline" on the survey list and the list of kept sites.
+
+import { getAll, put } from "./db.js";
+import { counts, sync } from "./outbox.js";
+
+const PAGES_CACHE = "sitecheck-pages"; // shared with sw.js
+
+async function showCounts() {
+  let n;
+  try {
+    n = await counts();
+  } catch (error) {
+    return; // no IndexedDB (private mode on some browsers): the online pages still work
+  }
+  const bar = document.querySelector("[data-unsent-bar]");
+  if (!bar) return;
+  bar.hidden = false;
+  bar.querySelector("[data-unsent-count]").textContent = String(n.unsent);
+  bar.dataset.unsent = String(n.unsent);
+  const refused = bar.querySelector("[data-refused]");
+  refused.hidden = n.refused === 0;
+  refused.querySelector("[data-refused-count]").textContent = String(n.refused);
+}
+
+function showProgress(text) {
+  for (const el of document.querySelectorAll("[data-sync-progress]")) el.textContent = text;
+}
+
+export function age(iso) {
+  const minutes = Math.round((Date.now() - Date.parse(iso)) / 60000);
+  if (minutes < 1) return "just now";
+  if (minutes < 90) return `${minutes} minute${minutes === 1 ? "" : "s"} ago`;
+  const hours = Math.round(minutes / 60);
+  if (hours < 36) return `${hours} hours ago`;
+  return `${Math.round(hours / 24)} days ago`;
+}
+
+export async function askToKeep() {
+  if (!navigator.storage || !navigator.storage.persist) return "unknown";
+  const kept = (await navigator.storage.persisted()) || (await navigator.storage.persist());
+  const text = kept
+    ? "Storage on this phone: kept until you delete it."
+    : "Storage on this phone: the browser may clear it when space runs short. Send unsent records as soon as you have signal.";
+  for (const el of document.querySelectorAll("[data-persist]")) {
+    el.textContent = text;
+    el.dataset.persist = kept ? "yes" : "no";
+  }
+  return kept;
+}
+
+async function keepSite(button) {
+  const siteId = button.dataset.keepSite;
+  const status = document.querySelector(`[data-pack-age="${siteId}"]`);
+  button.disabled = true;
+  status.textContent = "Downloading the site pack…";
+  try {
+    const response = await fetch(`/api/sites/${siteId}/pack`, { cache: "no-store", credentials: "same-origin" });
+    if (!response.ok) throw new Error(`the server answered ${response.status}`);
+    const pack = await response.json();
+    const cache = await caches.open(PAGES_CACHE);
+    await cache.add(button.dataset.offlineUrl);
+    await put("packs", pack);
+    status.textContent = `Kept for offline use: ${pack.bearings.length} bearings, downloaded ${age(pack.generated_at)}.`;
+    status.dataset.generatedAt = pack.generated_at;
+    document.body.dataset.packKept = siteId;
+    await askToKeep();
+  } catch (error) {
+    status.textContent = `The site pack could not be kept (${error.message}). Try again with signal.`;
+  } finally {
+    button.disabled = false;
+  }
+}
+
+async function showPackAges() {
+  const packs = await getAll("packs");
+  for (const status of document.querySelectorAll("[data-pack-age]")) {
+    const id = status.dataset.packAge;
+    const pack = packs.find((p) => p.site.id === id);
+    if (pack) status.textContent = `Kept for offline use: ${pack.bearings.length} bearings, downloaded ${age(pack.generated_at)}.`;
+  }
+  const list = document.querySelector("[data-kept-sites]");
+  if (list) {
+    list.replaceChildren();
+    for (const pack of packs) {
+      const li = document.createElement("li");
+      li.className = "card";
+      const a = document.createElement("a");
+      a.href = `/sites/${pack.site.id}/offline`;
+      a.textContent = pack.site.name;
+      li.append(a, ` · downloaded ${age(pack.generated_at)}`);
+      list.append(li);
+    }
+    if (!packs.length) {
+      const li = document.createElement("li");
+      li.className = "card muted";
+      li.textContent = "No site is kept on this phone yet.";
+      list.append(li);
+    }
+  }
+}
+
+function guardLogOut() {
+  for (const form of document.querySelectorAll("form[data-logout]")) {
+    form.addEventListener("submit", async (event) => {
+      if (form.dataset.confirmed) return;
+      event.preventDefault();
+      let n = { unsent: 0, refused: 0 };
+      try {
+        n = await counts();
+      } catch (error) {
+        /* no IndexedDB: nothing to lose */
+      }
+      const waiting = n.unsent + n.refused;
+      if (
+        waiting === 0 ||
+        window.confirm(
+          `${n.unsent} unsent and ${n.refused} refused record(s) are on this phone only. ` +
+            "Logging out deletes them from this phone for good. Log out anyway?",
+        )
+      ) {
+        form.dataset.confirmed = "1";
+        form.requestSubmit();
+      }
+    });
+  }
+}
+
+window.addEventListener("sitecheck:outbox", (event) => {
+  if (event.detail.kind === "progress") showProgress(event.detail.text);
+  showCounts();
+});
+window.addEventListener("online", () => sync("online"));
+
+for (const button of document.querySelectorAll("[data-keep-site]")) {
+  button.hidden = false;
+  button.addEventListener("click", () => keepSite(button));
+}
+for (const button of document.querySelectorAll("[data-send-now]")) {
+  button.addEventListener("click", () => sync("button"));
+}
+guardLogOut();
+showCounts();
+showPackAges().catch(() => {});
+if (document.querySelector("[data-persist]")) askToKeep().catch(() => {});
+sync("start");

@@ -1,0 +1,89 @@
+// sitecheck's service worker: the app's shell and the pages a person kept, for no signal.
+//
+// Bump VERSION whenever a file in SHELL changes: phones then fetch the new shell and drop
+// the old one. The shell list must name real files (cache.addAll is all or nothing, and a
+// failed install leaves the phone without offline use); tests/test_sync_api.py fetches each.
+
+const VERSION = "v1";
+const SHELL_CACHE = `sitecheck-shell-${VERSION}`;
+const PAGES_CACHE = "sitecheck-pages"; // kept across versions: it holds what people chose to keep
+const SHELL = [
+  "/offline",
+  "/manifest.webmanifest",
+  "/static/app.css",
+  "/static/app.js",
+  "/static/js/db.js",
+  "/static/js/outbox.js",
+  "/static/js/photos.js",
+  "/static/js/unsent.js",
+  "/static/js/offline-site.js",
+  "/static/icon-192.png",
+  "/static/icon-512.png",
+];
+// Pages never kept: they belong to a moment (log-in) or change the session.
+const NEVER_KEPT = new Set(["/login", "/logout"]);
+
+self.addEventListener("install", (event) => {
+  event.waitUntil(
+    caches.open(SHELL_CACHE).then((cache) => cache.addAll(SHELL)).then(() => self.skipWaiting()),
+  );
+});
+
+self.addEventListener("activate", (event) => {
+  event.waitUntil((async () => {
+    for (const name of await caches.keys()) {
+      if (name.startsWith("sitecheck-shell-") && name !== SHELL_CACHE) await caches.delete(name);
+    }
+    await self.clients.claim(); // control the page that registered us without a reload
+  })());
+});
+
+function keepable(response) {
+  return response.ok && !response.redirected && response.type === "basic";
+}
+
+async function pageFirstFromNetwork(request, url) {
+  try {
+    const response = await fetch(request);
+    if (keepable(response) && !NEVER_KEPT.has(url.pathname)) {
+      const copy = response.clone();
+      caches.open(PAGES_CACHE).then((cache) => cache.put(request, copy));
+    }
+    return response;
+  } catch (error) {
+    const kept = await caches.match(request, { ignoreVary: true });
+    if (kept) return kept;
+    // Any page of a kept site falls back to that site's offline page.
+    const site = url.pathname.match(/^\/sites\/([^/]+)\//);
+    if (site) {
+      const offline = await caches.match(`/sites/${site[1]}/offline`, { ignoreVary: true });
+      if (offline) return offline;
+    }
+    return (await caches.match("/offline", { ignoreVary: true })) || Response.error();
+  }
+}
+
+async function assetFirstFromCache(request) {
+  const hit = await caches.match(request);
+  if (hit) return hit;
+  const response = await fetch(request);
+  if (keepable(response)) {
+    const copy = response.clone();
+    caches.open(SHELL_CACHE).then((cache) => cache.put(request, copy));
+  }
+  return response;
+}
+
+self.addEventListener("fetch", (event) => {
+  const request = event.request;
+  const url = new URL(request.url);
+  // Sending is the page's job, with its own retry rules: the worker never answers a POST,
+  // an API call or another origin, so nothing is ever replayed or answered from a cache.
+  if (request.method !== "GET" || url.origin !== self.location.origin) return;
+  if (url.pathname.startsWith("/api/")) return;
+  if (request.mode === "navigate") {
+    event.respondWith(pageFirstFromNetwork(request, url));
+  } else if (url.pathname.startsWith("/static/")) {
+    event.respondWith(assetFirstFromCache(request));
+  }
+});

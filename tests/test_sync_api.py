@@ -1,0 +1,335 @@
+"""The phone's sync API on the real app and a real SQLite file: the site pack, as-built
+records sent from the unsent outbox (idempotent by the phone's UUID), their photos, and the
+offline shell the service worker keeps."""
+
+from __future__ import annotations
+
+import io
+import json
+import re
+import threading
+import uuid
+from datetime import UTC, datetime
+from pathlib import Path
+
+import pytest
+
+from photo_samples import make_test_jpeg
+from sitecheck import store
+from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
+from webkit import csrf_token
+
+SW = Path(__file__).resolve().parent.parent / "static" / "sw.js"
+
+
+def _now() -> str:
+    return datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+@pytest.fixture
+def bearing(db, site):
+    return store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+
+
+def _record(site, bearing, **changes) -> dict:
+    """An as-built record as the phone sends it: invented values close to the design."""
+    d = bearing["design_input"]
+    body = {
+        "uuid": str(uuid.uuid4()),
+        "site_id": site["id"],
+        "bearing_id": bearing["id"],
+        "design_revision": bearing["revision"],
+        "measured_at": _now(),
+        "measurements": {
+            "bearing_length": d["beam"]["bearing_length"],
+            "padstone_present": True,
+            "padstone_length": 440,
+            "padstone_width": 215,
+            "padstone_depth": 140,
+            "wall_thickness": 215,
+            "masonry_group": 1,
+            "a1": d["wall"]["a1"],
+        },
+        "checklist": {"bedded": True, "packing": 0, "cracks": False},
+        "notes": "Sent from the unsent outbox.",
+    }
+    body.update(changes)
+    return body
+
+
+def _send(client, body, token=None):
+    return client.post(
+        "/api/records", json=body, headers={"X-CSRFToken": token or csrf_token(client)}
+    )
+
+
+def _count(db, record_uuid) -> int:
+    return db.execute(
+        "SELECT count(*) FROM as_built_records WHERE uuid = ?", [record_uuid]
+    ).fetchone()[0]
+
+
+# --- the site pack ----------------------------------------------------------------------------
+
+
+def test_site_pack_holds_every_bearing_with_its_design(client_as, db, site):
+    r = client_as("inspector").get(f"/api/sites/{site['id']}/pack")
+    assert r.status_code == 200
+    assert r.headers["Cache-Control"] == "no-store"
+    pack = r.get_json()
+    assert pack["site"]["id"] == site["id"] and pack["site"]["name"] == site["name"]
+    assert pack["site"]["basis"] and pack["site"]["code_basis"] == site["code_basis"]
+    assert pack["site"]["review_settings"] == site["review_settings"]
+    assert pack["role"] == "inspector"
+    assert datetime.fromisoformat(pack["generated_at"]).tzinfo is not None
+    assert pack["generated_at"].endswith("Z")
+    expected = store.list_bearings(db, site_id=site["id"])
+    assert [b["id"] for b in pack["bearings"]] == [b["id"] for b in expected]
+    first, row = pack["bearings"][0], expected[0]
+    assert first["reference"] == row["reference"] and first["revision"] == row["revision"]
+    assert first["state"] == row["state"] and first["location"] == row["location"]
+    assert first["design_input"] == row["design_input"]
+    assert first["design"]["passed"] == bool(row["design_passed"])
+    assert first["design"]["utilisation"] == pytest.approx(row["design_utilisation"])
+    assert first["design"]["governing"] == row["design_result"]["governing"]
+    assert set(first["designed"]) >= set(MEASUREMENT_FIELDS)
+
+
+@pytest.mark.parametrize(
+    ("role", "status"), [("contractor", 403), ("viewer", 403), ("outsider", 404)]
+)
+def test_site_pack_is_only_for_those_who_record(client_as, site, role, status):
+    r = client_as(role).get(f"/api/sites/{site['id']}/pack")
+    assert r.status_code == status
+    assert r.is_json and r.get_json()["error"]
+
+
+def test_site_pack_needs_a_log_in(app, site):
+    r = app.test_client().get(f"/api/sites/{site['id']}/pack")
+    assert r.status_code == 401  # the phone keeps its items and asks for a log-in
+
+
+# --- records ----------------------------------------------------------------------------------
+
+
+def test_record_is_stored_once_and_a_resend_gets_the_first_answer(client_as, db, site, bearing):
+    client = client_as("inspector")
+    body = _record(site, bearing)
+    first = _send(client, body)
+    assert first.status_code == 201, first.get_json()
+    answer = first.get_json()
+    assert answer["uuid"] == body["uuid"] and answer["created"] is True
+    assert answer["state"] in ("within design", "engineer to decide")
+    assert isinstance(answer["passed"], bool) and answer["governing"]
+    assert answer["url"] == f"/sites/{site['id']}/records/{body['uuid']}"
+    assert all({"code", "severity", "sentence"} == set(r) for r in answer["reasons"])
+
+    again = _send(client, body)
+    assert again.status_code == 200
+    assert again.get_json() == {**answer, "created": False}
+    assert _count(db, body["uuid"]) == 1
+    assert client.get(answer["url"]).status_code == 200
+
+
+def test_two_sends_of_one_uuid_at_the_same_moment_store_one_row(client_as, db, site, bearing):
+    body = _record(site, bearing)
+    clients = []
+    for _ in range(2):  # two sessions, as the page and a second tab would have
+        c = client_as("inspector")
+        clients.append((c, csrf_token(c)))
+    start = threading.Barrier(2)
+    answers: list = [None, None]
+
+    def send(i):
+        client, token = clients[i]
+        start.wait()
+        r = _send(client, body, token)
+        answers[i] = (r.status_code, r.get_json())
+
+    threads = [threading.Thread(target=send, args=(i,)) for i in range(2)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(30)
+    assert sorted(a[0] for a in answers) == [200, 201]
+    assert _count(db, body["uuid"]) == 1
+    assert answers[0][1]["reasons"] == answers[1][1]["reasons"]
+
+
+@pytest.mark.parametrize(
+    ("change", "field", "code"),
+    [
+        (
+            {"measurements": {"bearing_length": "150mm"}},
+            "measurements.bearing_length",
+            "not-a-number",
+        ),
+        ({"measurements": {"bearing_length": -20}}, "beam.bearing_length", None),
+        ({"measurements": {"padstone_size": 4}}, "measurements.padstone_size", "unknown-field"),
+        ({"checklist": {"packing": 900}}, "checklist.packing", "out-of-range"),
+        ({"measured_at": "2026-05-04 10:30"}, "measured_at", "no-zone"),
+        ({"uuid": "not-a-uuid"}, "uuid", "bad-uuid"),
+        ({"design_revision": 99}, "design_revision", "refused"),
+        ({"role": "engineer"}, "role", "unknown-field"),
+    ],
+)
+def test_bad_input_is_422_naming_the_field(client_as, db, site, bearing, change, field, code):
+    before = db.execute("SELECT count(*) FROM as_built_records").fetchone()[0]
+    r = _send(client_as("inspector"), _record(site, bearing, **change))
+    assert r.status_code == 422, r.get_json()
+    body = r.get_json()
+    assert body["field"] == field and body["error"]
+    if code:
+        assert body["code"] == code
+    assert db.execute("SELECT count(*) FROM as_built_records").fetchone()[0] == before
+
+
+def test_not_a_number_in_the_json_is_refused_not_a_500(client_as, site, bearing):
+    client = client_as("inspector")
+    # json.dumps writes NaN for a float nan, as a careless client would.
+    text = json.dumps(
+        _record(site, bearing, measurements={"bearing_length": float("nan")}), allow_nan=True
+    )
+    r = client.post(
+        "/api/records",
+        data=text,
+        content_type="application/json",
+        headers={"X-CSRFToken": csrf_token(client)},
+    )
+    assert r.status_code == 422 and r.get_json()["field"] == "measurements.bearing_length"
+
+
+def test_a_body_that_is_not_json_is_400(client_as):
+    client = client_as("inspector")
+    r = client.post("/api/records", data="x", headers={"X-CSRFToken": csrf_token(client)})
+    assert r.status_code == 400 and r.get_json()["code"] == "not-json"
+
+
+def test_one_uuid_for_two_bearings_is_409(client_as, db, site, bearing):
+    client = client_as("inspector")
+    body = _record(site, bearing)
+    assert _send(client, body).status_code == 201
+    other = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-W")
+    r = _send(client, {**body, "bearing_id": other["id"]})
+    assert r.status_code == 409 and r.get_json()["code"] == "uuid-in-use"
+
+
+def test_a_contractor_may_not_send_a_record(client_as, db, site, bearing):
+    body = _record(site, bearing)
+    r = _send(client_as("contractor"), body)
+    assert r.status_code == 403 and r.get_json()["error"]
+    assert _count(db, body["uuid"]) == 0
+
+
+def test_a_person_taken_off_the_site_is_refused(client_as, db, site, bearing, people):
+    client = client_as("inspector")
+    token = csrf_token(client)
+    store.remove_membership(
+        db, user_id=people["inspector"].id, site_id=site["id"], by_user_id=people["engineer"].id
+    )
+    body = _record(site, bearing)
+    r = _send(client, body, token)
+    # access.site_for answers a non-member 404 (the site's existence is not revealed); the
+    # phone treats it like 403: moved to the refused list, never retried, never deleted.
+    assert r.status_code in (403, 404) and r.get_json()["error"]
+    assert _count(db, body["uuid"]) == 0
+
+
+def test_a_send_without_the_csrf_header_is_400(client_as, db, site, bearing):
+    body = _record(site, bearing)
+    r = client_as("inspector").post("/api/records", json=body)
+    assert r.status_code == 400 and r.get_json()["reason"] == "csrf"
+    assert _count(db, body["uuid"]) == 0
+
+
+# --- photos -----------------------------------------------------------------------------------
+
+
+def _photo(client, record_uuid, photo_uuid, data, **fields):
+    return client.post(
+        f"/api/records/{record_uuid}/photos",
+        data={"photo_uuid": photo_uuid, "photo": (io.BytesIO(data), "p.jpg"), **fields},
+        headers={"X-CSRFToken": csrf_token(client)},
+        content_type="multipart/form-data",
+    )
+
+
+def test_a_photo_is_stored_once_by_its_uuid(client_as, db, site, bearing):
+    client = client_as("inspector")
+    body = _record(site, bearing)
+    assert _send(client, body).status_code == 201
+    photo_uuid = str(uuid.uuid4())
+    data = make_test_jpeg(800, 600)
+    first = _photo(client, body["uuid"], photo_uuid, data, captured_at="2026-05-04T09:15:00Z")
+    assert first.status_code == 201, first.get_json()
+    assert first.get_json() == {"uuid": photo_uuid, "created": True, "record_uuid": body["uuid"]}
+    again = _photo(client, body["uuid"], photo_uuid, data, captured_at="2026-05-04T09:15:00Z")
+    assert again.status_code == 200 and again.get_json()["created"] is False
+    rows = store.photos_for_record(db, site_id=site["id"], record_uuid=body["uuid"])
+    assert [p["uuid"] for p in rows] == [photo_uuid]
+    assert rows[0]["captured_at"].startswith("2026-05-04T09:15:00")
+
+
+def test_a_file_that_is_not_a_photo_is_422(client_as, site, bearing):
+    client = client_as("inspector")
+    body = _record(site, bearing)
+    _send(client, body)
+    r = _photo(client, body["uuid"], str(uuid.uuid4()), b"<html>not a photo</html>")
+    assert r.status_code == 422
+    assert r.get_json()["code"] in ("not-an-image", "format-not-allowed", "damaged")
+
+
+def test_a_photo_for_a_record_never_sent_is_404(client_as):
+    client = client_as("inspector")
+    r = _photo(client, str(uuid.uuid4()), str(uuid.uuid4()), make_test_jpeg(40, 30))
+    assert r.status_code == 404 and r.is_json
+
+
+def test_only_the_records_own_inspector_adds_its_photos(client_as, site, bearing):
+    inspector = client_as("inspector")
+    body = _record(site, bearing)
+    _send(inspector, body)
+    r = _photo(client_as("engineer"), body["uuid"], str(uuid.uuid4()), make_test_jpeg(40, 30))
+    assert r.status_code == 403
+
+
+# --- the offline shell ------------------------------------------------------------------------
+
+
+def _shell_urls() -> list[str]:
+    block = re.search(r"const SHELL = \[(.*?)\];", SW.read_text(encoding="utf-8"), re.S).group(1)
+    return re.findall(r'"([^"]+)"', block)
+
+
+def test_the_service_worker_is_served_from_the_root(app):
+    r = app.test_client().get("/sw.js")
+    assert r.status_code == 200
+    assert r.mimetype == "text/javascript"
+    assert r.headers["Cache-Control"] == "no-cache"
+    assert "const SHELL" in r.get_data(as_text=True)
+    r.close()
+
+
+@pytest.mark.parametrize("role", ["inspector", None])
+def test_every_url_of_the_shell_is_served(app, client_as, role):
+    """cache.addAll is all or nothing: one missing file and the phone has no offline use."""
+    client = client_as(role) if role else app.test_client()
+    urls = _shell_urls()
+    assert "/offline" in urls and "/static/js/outbox.js" in urls
+    for url in urls:
+        r = client.get(url)
+        assert r.status_code == 200, url
+        r.close()
+
+
+def test_every_js_module_is_in_the_shell():
+    static = SW.parent
+    modules = {f"/static/js/{p.name}" for p in (static / "js").glob("*.js")}
+    assert modules <= set(_shell_urls())
+
+
+def test_the_offline_form_sends_the_online_forms_field_names(client_as, site):
+    page = client_as("inspector").get(f"/sites/{site['id']}/offline").get_data(as_text=True)
+    for name in (*MEASUREMENT_FIELDS, *CHECKLIST_FIELDS, "notes", "photos", "measured_at"):
+        assert f'name="{name}"' in page, name
+    assert client_as("contractor").get(f"/sites/{site['id']}/offline").status_code == 403
