@@ -7,8 +7,8 @@ import math
 from .basis import CodeBasis
 from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
 from .geometry import Layout, Pressure, end_distances, spread_length
-from .inputs import ACROSS, IN_LINE, BearingInput
-from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check
+from .inputs import ACROSS, IN_LINE, BearingInput, Masonry, Wall
+from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check, make_step
 
 TAN60 = math.tan(math.radians(60.0))
 
@@ -20,9 +20,9 @@ def min_bearing(inp: BearingInput, basis: CodeBasis) -> Check:
     lintel = inp.beam.member == "lintel"
     need = basis.min_bearing_lintel if lintel else basis.min_bearing_beam
     have = inp.beam.bearing_length
-    what = "lintel end bearing" if lintel else "steel bearing"
-    step = Step(
-        f"Minimum {what}",
+    title = "Minimum lintel end bearing" if lintel else "Minimum steel bearing"
+    step = make_step(
+        title,
         "l_b,min",
         "rule of the trade",
         (("l_b", have, "mm"),),
@@ -33,7 +33,7 @@ def min_bearing(inp: BearingInput, basis: CodeBasis) -> Check:
     )
     return make_check(
         "min-bearing",
-        f"Minimum {what}",
+        title,
         RULE,
         need,
         have,
@@ -62,7 +62,7 @@ def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check
             "NHBC Standards 6.5.5",
             "S",
             [
-                Step(
+                make_step(
                     "Widest flange on the wall",
                     "b_max",
                     "t + 50",
@@ -88,7 +88,7 @@ def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check
                 "NHBC Standards 6.5.5",
                 "S",
                 [
-                    Step(
+                    make_step(
                         "Shortest padstone",
                         "L_min",
                         "rule of the trade",
@@ -114,7 +114,7 @@ def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check
             "NHBC Standards 6.5.5",
             "S",
             [
-                Step(
+                make_step(
                     "Web off the wall's centre line",
                     "e_y",
                     "|y_reaction − t/2|",
@@ -160,7 +160,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
     f_rdu = F_Rdu(a_c0, a_c1, fcd, basis.plb_limit_factor)
     n = inp.load.reaction
     steps = [
-        Step(
+        make_step(
             "Loaded area under the flange",
             "A_c0",
             "b_1 · d_1",
@@ -170,7 +170,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "EN 1992-1-1 6.7(2)",
             "S",
         ),
-        Step(
+        make_step(
             "Scale of the largest similar, concentric area in the padstone",
             "k",
             "min(3, 1 + h/b_1, 1 + h/d_1, room along, room across), ≥ 1",
@@ -180,7 +180,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "EN 1992-1-1 6.7(3), Figure 6.29",
             "S",
         ),
-        Step(
+        make_step(
             "Largest distribution area",
             "A_c1",
             "k² · A_c0",
@@ -190,7 +190,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "EN 1992-1-1 6.7(3)",
             "S",
         ),
-        Step(
+        make_step(
             "Resistance of the padstone under the flange",
             "F_Rdu",
             "A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0",
@@ -245,15 +245,54 @@ def ec6_masonry_bearing(
 
     Returns the check, l_efm and the effective end distances.
     """
-    mas, wall = inp.masonry, inp.wall
-    t, h_c = wall.thickness, wall.height_to_bearing
+    wall = inp.wall
     e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
+    check, l_efm = ec6_bearing_with_ends(
+        inp.masonry,
+        wall,
+        e1,
+        e2,
+        pres,
+        st,
+        basis,
+        steps,
+        spreader=spreader_conditions(inp, basis),
+        on_padstone=inp.padstone is not None,
+        code=code,
+        title=title,
+        kind=kind,
+    )
+    return check, l_efm, e1, e2
+
+
+def ec6_bearing_with_ends(
+    mas: Masonry,
+    wall: Wall,
+    e1: float | None,
+    e2: float | None,
+    pres: Pressure,
+    st: Strengths,
+    basis: CodeBasis,
+    steps: list[Step],
+    *,
+    spreader: str | None,
+    on_padstone: bool,
+    code: str,
+    title: str,
+    kind: str,
+) -> tuple[Check, float]:
+    """:func:`ec6_masonry_bearing` once the loaded area's end distances ``e1``, ``e2`` and
+    the spreader (its description, or None) are known; ``on_padstone`` says whether a
+    padstone carries the load. The direct-bearing check places the beam straight on the
+    masonry this way without building an input for it. Returns the check and l_efm.
+    """
+    t, h_c = wall.thickness, wall.height_to_bearing
     s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
     l_efm = spread_length(pres.contact_length, e1, e2, s60)
     a_b = pres.area
     a_ef = l_efm * t
     steps.append(
-        Step(
+        make_step(
             "Loaded area on the masonry",
             "A_b",
             "W · contact length",
@@ -265,7 +304,7 @@ def ec6_masonry_bearing(
         )
     )
     steps.append(
-        Step(
+        make_step(
             "Effective length at mid-height of the wall below",
             "l_efm",
             "contact + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
@@ -277,7 +316,13 @@ def ec6_masonry_bearing(
         )
     )
     notes: list[str] = []
-    near = min(x for x in (e1, e2) if x is not None) if (e1 is not None or e2 is not None) else None
+    # The nearer end of the wall, if any.
+    if e1 is None:
+        near = e2
+    elif e2 is None:
+        near = e1
+    else:
+        near = min(e1, e2)
     enhanced = mas.group == 1 and not mas.shell_bedded
     if enhanced:
         ratio_raw = a_b / a_ef
@@ -287,7 +332,7 @@ def ec6_masonry_bearing(
         beta_max = beta_ec6_upper(a1, h_c)
         beta = beta_ec6(a1, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
         steps.append(
-            Step(
+            make_step(
                 "Area ratio, capped",
                 "A_b/A_ef",
                 "min(A_b / (l_efm · t), 0.45)",
@@ -299,7 +344,7 @@ def ec6_masonry_bearing(
             )
         )
         steps.append(
-            Step(
+            make_step(
                 "Enhancement factor for concentrated loads",
                 "β",
                 "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
@@ -311,7 +356,7 @@ def ec6_masonry_bearing(
             )
         )
         steps.append(
-            Step(
+            make_step(
                 "β within its limits",
                 "β",
                 "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
@@ -330,21 +375,22 @@ def ec6_masonry_bearing(
         beta = 1.0
         why = "shell-bedded" if mas.shell_bedded else f"Group {mas.group} units"
         steps.append(
-            Step(f"No enhancement for {why}", "β", "1.0", (), 1.0, "", "EN 1996-1-1 6.1.3(2)", "M")
+            make_step(
+                f"No enhancement for {why}", "β", "1.0", (), 1.0, "", "EN 1996-1-1 6.1.3(2)", "M"
+            )
         )
     factor, route = beta, "β"
-    spreader = spreader_conditions(inp, basis)
     if spreader is not None and (enhanced or basis.spreader_route_for_groups_2_to_4):
         if basis.spreader_stress_factor > factor:
             factor, route = basis.spreader_stress_factor, "spreader"
             notes.append(f"The padstone is a spreader ({spreader}): σ ≤ 1.5 f_d applies.")
-    elif inp.padstone is not None:
+    elif on_padstone:
         notes.append(
             "The padstone is not a spreader in the sense of EN 1996-1-1 6.1.3 (width t, depth > 200 mm, length > 3 × bearing), so the 1.5 f_d route does not apply."
         )
     cap = factor * st.f_d
     steps.append(
-        Step(
+        make_step(
             "Design strength under the load",
             "β · f_d" if route == "β" else "1.5 · f_d",
             "β · f_d" if route == "β" else "1.5 f_d beneath a spreader",
@@ -356,7 +402,7 @@ def ec6_masonry_bearing(
         )
     )
     steps.append(
-        Step(
+        make_step(
             "Resistance to the concentrated load if uniform",
             "N_Rdc",
             "factor · A_b · f_d",
@@ -370,24 +416,33 @@ def ec6_masonry_bearing(
     check = make_check(
         code, title, kind, pres.sigma_max, cap, "N/mm²", "EN 1996-1-1 6.1.3", "P", steps, notes
     )
-    return check, l_efm, e1, e2
+    return check, l_efm
 
 
 def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
     """The description of a padstone that counts as a spreader, or None."""
-    pad = inp.padstone
-    if pad is None:
+    if not is_spreader(inp, basis):
         return None
-    bearing_along = (
-        inp.beam.flange_width if inp.beam.orientation == ACROSS else inp.beam.bearing_length
-    )
-    if (
-        pad.width >= inp.wall.thickness - 0.5
+    pad = inp.padstone
+    bearing_along = _bearing_along(inp)
+    return f"width t, depth {pad.depth:g} > {basis.spreader_min_depth:g} mm, length {pad.length:g} > {basis.spreader_length_factor:g} × {bearing_along:g} mm"
+
+
+def is_spreader(inp: BearingInput, basis: CodeBasis) -> bool:
+    """Whether the padstone counts as a spreader in the sense of EN 1996-1-1 6.1.3: width
+    t, depth > 200 mm, length > 3 × the bearing length (see :func:`spreader_conditions`)."""
+    pad = inp.padstone
+    return (
+        pad is not None
+        and pad.width >= inp.wall.thickness - 0.5
         and pad.depth > basis.spreader_min_depth
-        and pad.length > basis.spreader_length_factor * bearing_along
-    ):
-        return f"width t, depth {pad.depth:g} > {basis.spreader_min_depth:g} mm, length {pad.length:g} > {basis.spreader_length_factor:g} × {bearing_along:g} mm"
-    return None
+        and pad.length > basis.spreader_length_factor * _bearing_along(inp)
+    )
+
+
+def _bearing_along(inp: BearingInput) -> float:
+    beam = inp.beam
+    return beam.flange_width if beam.orientation == ACROSS else beam.bearing_length
 
 
 def ec6_eccentricity(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Check:
@@ -395,7 +450,7 @@ def ec6_eccentricity(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Check:
     t = inp.wall.thickness
     e = abs(lay.eccentricity_across)
     limit = basis.max_eccentricity_ratio * t
-    step = Step(
+    step = make_step(
         "Eccentricity of the reaction from the wall's centre line",
         "e",
         "|y_reaction − t/2|",
@@ -425,7 +480,7 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
     pad = inp.padstone
     bearing = lay.x1 - lay.x0
     if pad is None:
-        step = Step(
+        step = make_step(
             "Solid material under the bearing",
             "L_solid",
             "none: the beam sits on hollow units",
@@ -459,7 +514,7 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
     demand = bearing / 2 + need
     capacity = bearing / 2 + worst
     steps = [
-        Step(
+        make_step(
             "Spread needed on each side within the padstone",
             "s_60",
             "h_p / tan 60°",
@@ -469,7 +524,7 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
             "EN 1996-1-1 6.1.3",
             "M",
         ),
-        Step(
+        make_step(
             "Least room beside the bearing (end-bearing side exempt)",
             "s",
             "min(x_0, L_p − x_1)",
@@ -510,7 +565,7 @@ def ec6_mid_height(
     if inp.e_mk is not None:
         e_mk = float(inp.e_mk)
         steps.append(
-            Step(
+            make_step(
                 "Eccentricity at mid-height, as given",
                 "e_mk",
                 "declared",
@@ -525,7 +580,7 @@ def ec6_mid_height(
         e_init = h_ef / basis.e_init_divisor
         e_mk = max(basis.e_mk_min_ratio * t, abs(lay.eccentricity_across) / 2 + e_init)
         steps.append(
-            Step(
+            make_step(
                 "Eccentricity at mid-height",
                 "e_mk",
                 "max(0.05 t, |e|/2 + h_ef/450)",
@@ -539,7 +594,7 @@ def ec6_mid_height(
     if inp.phi_m is not None:
         phi = float(inp.phi_m)
         steps.append(
-            Step(
+            make_step(
                 "Capacity reduction factor, as given",
                 "Φ_m",
                 "declared",
@@ -556,7 +611,7 @@ def ec6_mid_height(
         u = max(0.0, (lam - 0.063) / (0.73 - 1.17 * e_mk / t))
         phi = phi_m(h_ef, t_ef, e_mk, t, basis.k_E)
         steps.append(
-            Step(
+            make_step(
                 "Slenderness parameter",
                 "λ",
                 "(h_ef/t_ef) · √(f_k/E), E = 1000 f_k",
@@ -568,7 +623,7 @@ def ec6_mid_height(
             )
         )
         steps.append(
-            Step(
+            make_step(
                 "Capacity reduction factor at mid-height",
                 "Φ_m",
                 "A1 · e^(−u²/2)",
@@ -584,7 +639,7 @@ def ec6_mid_height(
     demand = n / l_efm + q
     capacity = phi * t * st.f_d
     steps.append(
-        Step(
+        make_step(
             "Load per length at mid-height",
             "n_Ed",
             "N_Ed / l_efm + other load",
@@ -596,7 +651,7 @@ def ec6_mid_height(
         )
     )
     steps.append(
-        Step(
+        make_step(
             "Resistance per length at mid-height",
             "n_Rd",
             "Φ_m · t · f_d",
@@ -627,7 +682,7 @@ def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
     t_ef = wall.effective_thickness or wall.thickness
     sr = h_ef / t_ef
     clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1 clause 28"
-    step = Step(
+    step = make_step(
         "Slenderness ratio",
         "h_ef/t_ef",
         "h_ef / t_ef",
@@ -671,7 +726,7 @@ def bs_masonry_bearing(
     k = basis.bearing_type_factors[bt - 1]
     cap = k * st.f_k / st.gamma_M
     steps.append(
-        Step(
+        make_step(
             f"Local design bearing strength, type {bt}",
             "k · f_k/γ_m",
             "k · f_k / γ_m",
@@ -704,7 +759,7 @@ def bs_dispersion(
     each = depth * math.tan(math.radians(basis.masonry_spread_deg))
     l_d = spread_length(pres.contact_length, e1, e2, each)
     steps = [
-        Step(
+        make_step(
             "Depth of the check below the bearing",
             "0.4 h",
             "0.4 · h",
@@ -714,7 +769,7 @@ def bs_dispersion(
             "BS 5628-1 clause 34",
             "P",
         ),
-        Step(
+        make_step(
             "Length the load has spread over at that depth",
             "l_d",
             "contact + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
@@ -728,7 +783,7 @@ def bs_dispersion(
     if inp.beta_s is not None:
         beta = float(inp.beta_s)
         steps.append(
-            Step(
+            make_step(
                 "Capacity reduction factor, as given",
                 "β",
                 "declared",
@@ -746,7 +801,7 @@ def bs_dispersion(
         e_m = max(e_x, 0.6 * e_x + e_a)
         beta = beta_bs5628(h_ef, t_ef, e_x, t)
         steps.append(
-            Step(
+            make_step(
                 "Eccentricity at the top of the wall",
                 "e_x",
                 "max(0.05 t, |e|)",
@@ -758,7 +813,7 @@ def bs_dispersion(
             )
         )
         steps.append(
-            Step(
+            make_step(
                 "Capacity reduction factor",
                 "β",
                 "1.1 (1 − 2 e_m/t) ≤ 1.0",
@@ -773,7 +828,7 @@ def bs_dispersion(
     demand = n / l_d + q
     capacity = beta * t * st.f_k / st.gamma_M
     steps.append(
-        Step(
+        make_step(
             "Load per length at 0.4 h",
             "n",
             "N / l_d + other load",
@@ -785,7 +840,7 @@ def bs_dispersion(
         )
     )
     steps.append(
-        Step(
+        make_step(
             "Resistance per length",
             "β t f_k/γ_m",
             "β · t · f_k / γ_m",

@@ -1,21 +1,22 @@
 """Where the load sits and how it spreads through the padstone to the masonry.
 
-All the geometry of one bearing, worked out once and shared by every check.
+All the geometry of one bearing, worked out once and shared by every check. Layouts and
+pressures are named tuples, as steps are: a bearing makes several of each, and they never
+leave the core (the result carries their values in its :class:`~.trace.Spread`).
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from typing import NamedTuple
 
 from .basis import CodeBasis
 from .formulas import linear_pressure
-from .inputs import ACROSS, BearingInput
-from .trace import Step
+from .inputs import ACROSS, Beam, BearingInput, Padstone
+from .trace import Step, make_step
 
 
-@dataclass(frozen=True, slots=True)
-class Layout:
+class Layout(NamedTuple):
     """The support and the footprint in the support's frame (x along from the a1 end,
     y across from the support's near edge), and the reaction's position."""
 
@@ -34,7 +35,28 @@ class Layout:
 
 
 def layout(inp: BearingInput) -> Layout:
-    beam, pad, t = inp.beam, inp.padstone, inp.wall.thickness
+    beam = inp.beam
+    return footprint_layout(
+        beam,
+        inp.padstone,
+        inp.wall.thickness,
+        beam.offset_along,
+        beam.offset_across,
+        beam.reaction_at,
+    )
+
+
+def footprint_layout(
+    beam: Beam,
+    pad: Padstone | None,
+    t: float,
+    offset_along: float | None,
+    offset_across: float | None,
+    reaction_at: str,
+) -> Layout:
+    """The layout of ``beam`` on ``pad`` (or on the bare wall of thickness ``t``) with the
+    position and reaction given here rather than the beam's own, so a check can place the
+    same beam another way (say, without its padstone) without building a new input."""
     across = beam.orientation == ACROSS
     foot_along = beam.flange_width if across else beam.bearing_length
     foot_across = beam.bearing_length if across else beam.flange_width
@@ -49,14 +71,14 @@ def layout(inp: BearingInput) -> Layout:
     else:
         length, width, depth = foot_along, t, 0.0
         y0_in_wall = 0.0
-    if beam.offset_along is not None and pad is not None:
-        cx = length / 2 + beam.offset_along
+    if offset_along is not None and pad is not None:
+        cx = length / 2 + offset_along
     elif across or pad is None:
         cx = length / 2
     else:
         cx = foot_along / 2  # in line: flush with the padstone's end facing the span
-    if beam.offset_across is not None:
-        cy = width / 2 + beam.offset_across
+    if offset_across is not None:
+        cy = width / 2 + offset_across
     elif across:
         cy = foot_across / 2  # across: flush with the near face
     else:
@@ -66,7 +88,7 @@ def layout(inp: BearingInput) -> Layout:
     # Measurement rounding may put an edge a fraction outside; validation allowed 0.5 mm.
     x0, x1 = max(x0, 0.0), min(x1, length)
     y0, y1 = max(y0, 0.0), min(y1, width)
-    if beam.reaction_at == "near-third":
+    if reaction_at == "near-third":
         # A flexible end bears hardest on its near edge: take the reaction uniform over the
         # near two thirds of the bearing length, i.e. at l_b/3 from that edge.
         if across:
@@ -90,8 +112,7 @@ def layout(inp: BearingInput) -> Layout:
     )
 
 
-@dataclass(frozen=True, slots=True)
-class Pressure:
+class Pressure(NamedTuple):
     """Pressure under the support on the masonry, linear along the wall."""
 
     window_x0: float
@@ -149,7 +170,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
         cx0, cx1 = wx0, wx1
     if lay.has_padstone:
         steps.append(
-            Step(
+            make_step(
                 "Load spread through the padstone, each side",
                 "s",
                 "h_p · tan(45°)",
@@ -161,7 +182,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
             )
         )
     steps.append(
-        Step(
+        make_step(
             "Loaded length on the masonry" + (" (padstone acts as rigid)" if rigid else ""),
             "L_w",
             "min(support end, footprint + s) − max(support end, footprint − s)",
@@ -173,7 +194,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
         )
     )
     steps.append(
-        Step(
+        make_step(
             "Loaded width on the masonry",
             "W",
             "dispersed width, cut at the support's edges",
@@ -185,7 +206,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
         )
     )
     steps.append(
-        Step(
+        make_step(
             "Eccentricity of the reaction along the loaded length",
             "e",
             "x_reaction − centre of L_w",
@@ -198,7 +219,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
     )
     if kind == "triangle":
         steps.append(
-            Step(
+            make_step(
                 "Peak pressure, triangular (e > L_w/6)",
                 "σ_max",
                 "2 N / (W · 3 (L_w/2 − e))",
@@ -211,7 +232,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
         )
     else:
         steps.append(
-            Step(
+            make_step(
                 "Peak pressure, " + ("uniform" if kind == "uniform" else "trapezoidal (e ≤ L_w/6)"),
                 "σ_max",
                 "N / (W · L_w) · (1 + 6 e / L_w)",

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-from dataclasses import replace
+from operator import attrgetter
 
 from . import checks as C
 from .basis import CodeBasis
-from .geometry import Layout, layout, pressure_under
-from .inputs import ACROSS, IN_LINE, BearingInput, Wall
-from .strength import masonry_strengths
+from .geometry import Layout, end_distances, footprint_layout, layout, pressure_under
+from .inputs import ACROSS, IN_LINE, BearingInput
+from .strength import masonry_strengths_cached
 from .trace import INFORMATIVE, STRENGTH, BearingResult, Check, Spread, Step, Strengths
 from .validate import validate
 
@@ -17,7 +17,8 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     """Re-check one bearing. Raises :class:`~sitecheck.bearing.errors.InputError` for
     input that makes no physical sense or that no coded formula covers."""
     validate(inp, basis)
-    strengths = masonry_strengths(inp.masonry, inp.padstone, basis)
+    # Validated above, so the remembered strengths of equal, same-typed input will do.
+    strengths = masonry_strengths_cached(inp.masonry, inp.padstone, basis)
     lay = layout(inp)
     checks: list[Check] = [C.min_bearing(inp, basis)]
     if inp.beam.orientation == IN_LINE:
@@ -46,19 +47,16 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     checks.append(C.slenderness(inp, basis))
     notes = _assumption_notes(inp)
     if inp.padstone is not None:
-        direct, note = _direct_bearing(inp, strengths, basis)
+        direct, note = _direct_bearing(inp, lay, strengths, basis)
         if direct is not None:
             checks.append(direct)
         if note:
             notes.append(note)
 
-    governing = _governing(checks)
-    passed = all(c.passed for c in checks if c.kind != INFORMATIVE)
+    governing, passed = _governing(checks)
     if basis.is_ec6:
         a1_eff, a2_eff = e1, e2
     else:
-        from .geometry import end_distances
-
         a1_eff, a2_eff = end_distances(lay, pres, wall.a1, wall.a2)
     spread = Spread(
         lay.length,
@@ -101,13 +99,17 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     )
 
 
-def _governing(checks: list[Check]) -> Check:
-    """The check that decides: the worst failing one, else the most utilised strength
-    check. A rule of the trade met with room to spare (say 150 mm of bearing where 100 is
-    asked) is not a utilisation an engineer would quote."""
+def _governing(checks: list[Check]) -> tuple[Check, bool]:
+    """The check that decides, and whether the bearing passes (no check fails but the
+    informative ones). The check that decides is the worst failing one, else the most
+    utilised strength check. A rule of the trade met with room to spare (say 150 mm of
+    bearing where 100 is asked) is not a utilisation an engineer would quote."""
     failing = [c for c in checks if c.kind != INFORMATIVE and not c.passed]
     pool = failing or [c for c in checks if c.kind == STRENGTH]
-    return max(pool, key=lambda c: c.utilisation)
+    return max(pool, key=_utilisation), not failing
+
+
+_utilisation = attrgetter("utilisation")
 
 
 def _assumption_notes(inp: BearingInput) -> list[str]:
@@ -127,43 +129,57 @@ def _assumption_notes(inp: BearingInput) -> list[str]:
 
 
 def _direct_bearing(
-    inp: BearingInput, strengths: Strengths, basis: CodeBasis
+    inp: BearingInput, lay: Layout, strengths: Strengths, basis: CodeBasis
 ) -> tuple[Check | None, str | None]:
     """The masonry check as if the beam sat on the masonry with no padstone: does the
-    bearing need its padstone at all? Informative only; it never governs."""
+    bearing need its padstone at all? Informative only; it never governs.
+
+    ``lay`` is the bearing's own layout on its padstone."""
     beam, wall = inp.beam, inp.wall
     if beam.orientation == IN_LINE and beam.flange_width > wall.thickness:
         return None, "Without the padstone the flange would overhang the wall."
-    nominal = layout(replace(inp, beam=replace(beam, reaction_at="centroid")))
+    # Where the flange sits, with the reaction at its centroid.
+    if beam.reaction_at == "centroid":
+        nominal = lay
+    else:
+        nominal = footprint_layout(
+            beam, inp.padstone, wall.thickness, beam.offset_along, beam.offset_across, "centroid"
+        )
     a1 = None if wall.a1 is None else wall.a1 + nominal.x0
     a2 = None if wall.a2 is None else wall.a2 + (nominal.length - nominal.x1)
     across_offset = nominal.y0_in_wall + (nominal.y0 + nominal.y1) / 2 - wall.thickness / 2
-    bare = replace(
-        inp,
-        padstone=None,
-        wall=_with_ends(wall, a1, a2),
-        beam=replace(beam, offset_along=None, offset_across=across_offset),
-    )
-    lay: Layout = layout(bare)
+    # The same flange in the same place straight on the masonry, with the wall's ends
+    # measured from that footprint.
+    bare_lay = footprint_layout(beam, None, wall.thickness, None, across_offset, beam.reaction_at)
     steps: list[Step] = []
-    pres = pressure_under(lay, inp.load.reaction, basis, steps)
+    pres = pressure_under(bare_lay, inp.load.reaction, basis, steps)
     title = "Masonry directly under the beam, without the padstone"
     if basis.is_ec6:
-        check, *_ = C.ec6_masonry_bearing(
-            bare, lay, pres, strengths, basis, steps, "direct-bearing", title, INFORMATIVE
+        e1, e2 = end_distances(bare_lay, pres, a1, a2)
+        check, _ = C.ec6_bearing_with_ends(
+            inp.masonry,
+            wall,
+            e1,
+            e2,
+            pres,
+            strengths,
+            basis,
+            steps,
+            spreader=None,
+            on_padstone=False,
+            code="direct-bearing",
+            title=title,
+            kind=INFORMATIVE,
         )
     else:
+        # The local bearing check reads only the bearing type from the input.
         check = C.bs_masonry_bearing(
-            bare, pres, strengths, basis, steps, "direct-bearing", title, INFORMATIVE
+            inp, pres, strengths, basis, steps, "direct-bearing", title, INFORMATIVE
         )
     note = None
     if inp.masonry.group != 1:
         note = "On Group 2–4 units a padstone (solid material) is needed whatever the stress."
     return check, note
-
-
-def _with_ends(wall: Wall, a1: float | None, a2: float | None) -> Wall:
-    return replace(wall, a1=a1, a2=a2)
 
 
 __all__ = ["check_bearing", "ACROSS", "IN_LINE"]

@@ -11,10 +11,11 @@ Thresholds and tolerances are site settings with defaults of ours, not code valu
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, fields, replace
 
 from .basis import BS5628, CodeBasis
-from .checks import spreader_conditions
+from .checks import is_spreader
 from .inputs import BearingInput, Masonry, Padstone
 from .trace import INFORMATIVE, BearingResult
 
@@ -128,8 +129,7 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
         value = getattr(m, name)
         if value is not None:
             beam_changes[name] = value
-    if beam_changes:
-        beam = replace(beam, **beam_changes)
+    beam = _with_changes(beam, beam_changes)
 
     pad = design.padstone
     if m.padstone_present is False:
@@ -138,13 +138,15 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
         v is not None for v in (m.padstone_length, m.padstone_width, m.padstone_depth)
     ):
         base = pad or Padstone(length=0.0, width=0.0, depth=0.0)
-        pad = Padstone(
-            length=_pick(m.padstone_length, base.length),
-            width=_pick(m.padstone_width, base.width),
-            depth=_pick(m.padstone_depth, base.depth),
-            concrete=m.padstone_concrete or base.concrete,
-            f_ck=None if m.padstone_concrete else base.f_ck,
-            precast=base.precast,
+        pad = _with_changes(
+            base,
+            {
+                "length": _pick(m.padstone_length, base.length),
+                "width": _pick(m.padstone_width, base.width),
+                "depth": _pick(m.padstone_depth, base.depth),
+                "concrete": m.padstone_concrete or base.concrete,
+                "f_ck": None if m.padstone_concrete else base.f_ck,
+            },
         )
     elif m.padstone_concrete and pad is not None:
         pad = replace(pad, concrete=m.padstone_concrete, f_ck=None)
@@ -162,8 +164,7 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
         wall_changes["a1"] = m.a1
     if m.a2 is not None:
         wall_changes["a2"] = m.a2
-    if wall_changes:
-        wall = replace(wall, **wall_changes)
+    wall = _with_changes(wall, wall_changes)
 
     mas = design.masonry
     mas_changes = {}
@@ -175,11 +176,36 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
         mas_changes["mortar"] = m.mortar
     if m.unit_strength is not None:
         mas_changes["unit_strength"] = m.unit_strength
-    if mas_changes:
-        # A declared f_k stays: it cannot be worked out again from what is seen on site.
-        # The review says so when the units differ (masonry-unverified).
-        mas = replace(mas, **mas_changes)
+    # A declared f_k stays: it cannot be worked out again from what is seen on site.
+    # The review says so when the units differ (masonry-unverified).
+    mas = _with_changes(mas, mas_changes)
+    if (
+        beam is design.beam
+        and pad is design.padstone
+        and wall is design.wall
+        and mas is design.masonry
+    ):
+        return design
     return replace(design, beam=beam, padstone=pad, wall=wall, masonry=mas)
+
+
+def _with_changes(obj, changes: dict):
+    """``obj`` with the changed values, or ``obj`` itself when every measured value is the
+    designed one: most measurements confirm the design, and building an equal object for
+    each costs more than the re-check's arithmetic."""
+    changed = {name: v for name, v in changes.items() if _differs(v, getattr(obj, name))}
+    return replace(obj, **changed) if changed else obj
+
+
+def _differs(new: object, old: object) -> bool:
+    """Whether ``new`` would show as anything but ``old``. Equality is not enough:
+    20 == 20.0 and 0.0 == -0.0, yet each is written differently in the trace. Equal values
+    of one type are written alike but for those zeros, so only they are written out."""
+    if new is old:
+        return False
+    if type(new) is not type(old) or new != old:
+        return True
+    return new == 0 and repr(new) != repr(old)
 
 
 def _pick(measured: float | None, designed: float) -> float:
@@ -306,18 +332,20 @@ def review(
     out.extend(_material_reasons(design, design_result, as_built, result))
     out.extend(_checklist_reasons(checklist, s))
     out.extend(_bearing_type_reasons(design, as_built, design_result, s))
-    out.sort(key=lambda r: 0 if r.severity == BLOCKS else 1)
-    return tuple(out)
+    # Blocking reasons first, each kind in the order found.
+    return tuple(
+        [r for r in out if r.severity == BLOCKS] + [r for r in out if r.severity != BLOCKS]
+    )
 
 
 def _fmt_util(u: float) -> str:
-    return "unbounded" if u == float("inf") else f"{u:.2f}"
+    return "unbounded" if u == math.inf else f"{u:.2f}"
 
 
 def _spreader_lost(
     design: BearingInput, as_built: BearingInput, basis: CodeBasis
 ) -> list[ReviewReason]:
-    if spreader_conditions(design, basis) and not spreader_conditions(as_built, basis):
+    if is_spreader(design, basis) and not is_spreader(as_built, basis):
         return [
             ReviewReason(
                 "spreader-lost",
@@ -336,9 +364,7 @@ def _dimension_reasons(
     out = []
     pairs = _dimension_pairs(design, as_built)
     for name, label, slug, kinder in _DIMENSIONS:
-        if name not in pairs:
-            continue
-        d, a = pairs[name]
+        d, a = pairs.get(name, _NOT_COMPARED)
         if d is None or a is None:
             continue
         tol = _tolerance(name, d, s)
@@ -378,16 +404,25 @@ def _dimension_pairs(design: BearingInput, as_built: BearingInput) -> dict:
     return pairs
 
 
+_NOT_COMPARED = (None, None)
+
+
 def _tolerance(name: str, designed: float, s: ReviewSettings) -> float:
-    if name == "bearing_length":
-        return s.tol_bearing_length
-    if name == "flange_width":
-        return s.tol_flange_width
-    if name.startswith("padstone"):
-        return s.tol_padstone
     if name == "wall_thickness":
         return max(s.tol_wall_thickness, s.tol_wall_thickness_ratio * designed)
-    return s.tol_end_distance
+    return getattr(s, _TOLERANCE_SETTING[name])
+
+
+# Measured dimension → the review setting that is its tolerance (the wall's is above).
+_TOLERANCE_SETTING = {
+    "bearing_length": "tol_bearing_length",
+    "flange_width": "tol_flange_width",
+    "padstone_length": "tol_padstone",
+    "padstone_width": "tol_padstone",
+    "padstone_depth": "tol_padstone",
+    "a1": "tol_end_distance",
+    "a2": "tol_end_distance",
+}
 
 
 def _position_reasons(

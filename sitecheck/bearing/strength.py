@@ -5,6 +5,9 @@ One function per equation, named after its symbol. Units: N/mm² and mm.
 
 from __future__ import annotations
 
+from dataclasses import fields
+from operator import attrgetter
+
 from .basis import BS_FK_TABLE, BS_UNIT_STRENGTHS, MORTAR_DESIGNATION, MORTAR_STRENGTH, CodeBasis
 from .errors import InputError
 from .inputs import Masonry, Padstone
@@ -235,6 +238,47 @@ def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> S
             )
         )
     return Strengths(fk, gm, fd, fcd, tuple(steps))
+
+
+# Strengths already worked out; see masonry_strengths_cached. Bounded, and emptied when
+# full: the masonries and concretes of one site are few.
+_STRENGTHS: dict[tuple, tuple[CodeBasis, Strengths]] = {}
+_STRENGTHS_LIMIT = 1024
+_MASONRY_VALUES = attrgetter(*(f.name for f in fields(Masonry)))
+
+
+def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> Strengths:
+    """:func:`masonry_strengths` for validated input, remembered: a site re-checks many
+    bearings on the same masonry and concrete, and the result is immutable.
+
+    The key holds each value with its type, because Python counts 20 == 20.0 and 1 == True
+    while the trace prints them differently (and a basis table has no key for True). The
+    basis is keyed by identity: hashing its tables costs more than the rest of the look-up,
+    and the bases in use are a few long-lived objects. Each entry holds its basis, so its
+    identity cannot pass to another object while the entry lives.
+    """
+    concrete, f_ck = (None, None) if pad is None else (pad.concrete, pad.f_ck)
+    values = _MASONRY_VALUES(mas)
+    key = (
+        id(basis),
+        values,
+        tuple(map(type, values)),
+        concrete,
+        type(concrete),
+        f_ck,
+        type(f_ck),
+    )
+    try:
+        found = _STRENGTHS.get(key)
+    except TypeError:  # an unhashable value: work it out, and let that say what is wrong
+        return masonry_strengths(mas, pad, basis)
+    if found is not None and found[0] is basis:
+        return found[1]
+    result = masonry_strengths(mas, pad, basis)
+    if len(_STRENGTHS) >= _STRENGTHS_LIMIT:
+        _STRENGTHS.clear()
+    _STRENGTHS[key] = (basis, result)
+    return result
 
 
 def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> float:

@@ -78,6 +78,25 @@ class Check:
         }
 
 
+_new_tuple = tuple.__new__
+
+
+def make_step(
+    label: str,
+    symbol: str,
+    formula: str,
+    inputs: tuple,
+    value: float,
+    unit: str,
+    clause: str,
+    source: str,
+) -> Step:
+    """A :class:`Step`, the same as ``Step(...)`` but built directly: calling a named tuple
+    class goes through its Python-level ``__new__``, which costs half as much again, and
+    the checks make dozens of steps per bearing."""
+    return _new_tuple(Step, (label, symbol, formula, inputs, value, unit, clause, source))
+
+
 def finite_or_none(x: float) -> float | None:
     """JSON has no infinity: an unbounded utilisation travels as null."""
     return x if math.isfinite(x) else None

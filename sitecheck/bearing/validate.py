@@ -8,6 +8,7 @@ slip of units; they are not code limits.
 from __future__ import annotations
 
 from collections.abc import Iterator
+from functools import lru_cache
 
 from .basis import BS5628, MORTAR_DESIGNATION, CodeBasis
 from .errors import InputError
@@ -48,8 +49,131 @@ def wall_tolerance(t: float) -> float:
 
 def validate(inp: BearingInput, basis: CodeBasis) -> None:
     """Raise the first :class:`InputError` found, or return."""
+    # Nearly all input is plainly fine: say so cheaply, and leave the full walk through
+    # the fields (and its messages) to input that may have something wrong with it.
+    if _plainly_valid(inp, basis):
+        return
     for problem in input_errors(inp, basis):
         raise problem
+
+
+def _plainly_valid(inp: BearingInput, basis: CodeBasis) -> bool:
+    """True only if :func:`input_errors` would find nothing. It may say False of good
+    input (an int where a float is usual, say): the full check then runs. It must never
+    say True of input that check refuses, so a rule added there is added here too.
+    """
+    try:
+        return _plain_values(inp, basis) and next(_geometry_errors(inp), None) is None
+    except Exception:  # anything odd is for the full check to describe
+        return False
+
+
+def _plain(value: object, least: float, greatest: float) -> bool:
+    """A float (not a bool, int or NaN) from least to greatest."""
+    return type(value) is float and least <= value <= greatest
+
+
+# _LENGTHS unpacked once for the fast path, which checks them inline.
+_FLANGE = _LENGTHS["beam.flange_width"]
+_BEARING = _LENGTHS["beam.bearing_length"]
+_THICKNESS = _LENGTHS["wall.thickness"]
+_HEIGHT = _LENGTHS["wall.height_to_bearing"]
+_CLEAR = _LENGTHS["wall.clear_height"]
+_EFFECTIVE_HEIGHT = _LENGTHS["wall.effective_height"]
+_EFFECTIVE_THICKNESS = _LENGTHS["wall.effective_thickness"]
+_PAD_LENGTH = _LENGTHS["padstone.length"]
+_PAD_WIDTH = _LENGTHS["padstone.width"]
+_PAD_DEPTH = _LENGTHS["padstone.depth"]
+
+
+def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
+    """Every value that :func:`input_errors` looks at before the geometry: each number a
+    float in its range (optional ones may be None), each choice one of its options."""
+    load, beam, pad, wall = inp.load, inp.beam, inp.padstone, inp.wall
+    reaction, wall_load = load.reaction, load.wall_load
+    flange, bearing = beam.flange_width, beam.bearing_length
+    t, h_c = wall.thickness, wall.height_to_bearing
+    if not (
+        (type(reaction) is float and 0 < reaction <= 5e6)
+        and (type(wall_load) is float and 0.0 <= wall_load <= 2000.0)
+        and (type(flange) is float and _FLANGE[0] <= flange <= _FLANGE[1])
+        and (type(bearing) is float and _BEARING[0] <= bearing <= _BEARING[1])
+        and (type(t) is float and _THICKNESS[0] <= t <= _THICKNESS[1])
+        and (type(h_c) is float and _HEIGHT[0] <= h_c <= _HEIGHT[1])
+        and (wall.clear_height is None or _plain(wall.clear_height, *_CLEAR))
+        and (wall.effective_height is None or _plain(wall.effective_height, *_EFFECTIVE_HEIGHT))
+        and (
+            wall.effective_thickness is None
+            or _plain(wall.effective_thickness, *_EFFECTIVE_THICKNESS)
+        )
+        and (wall.a1 is None or _plain(wall.a1, 0.0, 100_000.0))
+        and (wall.a2 is None or _plain(wall.a2, 0.0, 100_000.0))
+        and (beam.offset_along is None or _plain(beam.offset_along, -2000.0, 2000.0))
+        and (beam.offset_across is None or _plain(beam.offset_across, -2000.0, 2000.0))
+    ):
+        return False
+    if pad is not None and not (
+        (type(pad.length) is float and _PAD_LENGTH[0] <= pad.length <= _PAD_LENGTH[1])
+        and (type(pad.width) is float and _PAD_WIDTH[0] <= pad.width <= _PAD_WIDTH[1])
+        and (type(pad.depth) is float and _PAD_DEPTH[0] <= pad.depth <= _PAD_DEPTH[1])
+        and (
+            concrete_class_fck(pad.concrete) is not None
+            if pad.f_ck is None
+            else _plain(pad.f_ck, 8.0, 90.0)
+        )
+    ):
+        return False
+    return (
+        beam.orientation in ORIENTATIONS
+        and beam.member in MEMBERS
+        and beam.reaction_at in REACTION_POSITIONS
+        and _plain_masonry(inp, basis)
+        and inp.bearing_type in (1, 2, 3)
+        and (inp.e_mk is None or (type(inp.e_mk) is float and inp.e_mk >= 0))
+        and (inp.phi_m is None or (type(inp.phi_m) is float and 0 < inp.phi_m <= 1))
+        and (inp.beta_s is None or (type(inp.beta_s) is float and 0 < inp.beta_s <= 1))
+    )
+
+
+def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
+    """What :func:`_masonry_errors` asks, in the same order."""
+    mas = inp.masonry
+    if not (
+        mas.material in MATERIALS
+        and mas.group in (1, 2, 3, 4)
+        and mas.mortar in MORTARS
+        and mas.conditioning in CONDITIONING
+        and mas.unit_category in ("I", "II")
+        and mas.execution_class in (1, 2)
+        and mas.manufacturing_control in CONTROL_LEVELS
+        and mas.construction_control in CONTROL_LEVELS
+    ):
+        return False
+    if mas.gamma_M is not None and not _plain(mas.gamma_M, 1.0, 5.0):
+        return False
+    if mas.f_k is not None:
+        return _plain(mas.f_k, 0.5, 40.0)
+    f_u = mas.unit_strength
+    if not (type(f_u) is float and 1.0 <= f_u <= 150.0):
+        return False
+    if basis.name == BS5628:
+        return (
+            mas.mortar in MORTAR_DESIGNATION
+            and mas.unit_strength_is_normalised is False
+            and (
+                mas.unit_height is None
+                or (type(mas.unit_height) is float and mas.unit_height <= 112.5)
+            )
+            and 5.0 <= f_u <= 100.0
+        )
+    if mas.unit_strength_is_normalised is True:
+        return True
+    height, width = mas.unit_height, mas.unit_width
+    return (
+        mas.unit_strength_is_normalised is False
+        and (type(height) is float and 30.0 <= height <= 1000.0)
+        and (type(width) is float and 30.0 <= width <= 1000.0)
+    )
 
 
 def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
@@ -327,7 +451,14 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
 
 def concrete_class_fck(concrete: str) -> float | None:
     """f_ck of a class written as ``C25/30`` (EN 206 notation), else None."""
-    if not isinstance(concrete, str) or not concrete.upper().startswith("C") or "/" not in concrete:
+    if not isinstance(concrete, str):
+        return None
+    return _class_fck(concrete)
+
+
+@lru_cache(maxsize=256)  # a site uses a handful of classes; parsing one is slow
+def _class_fck(concrete: str) -> float | None:
+    if not concrete.upper().startswith("C") or "/" not in concrete:
         return None
     head, _, tail = concrete[1:].partition("/")
     try:
