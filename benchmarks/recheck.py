@@ -156,7 +156,7 @@ def main() -> int:
     print(f"as-built re-check + review:    {n / t_recheck:,.0f} bearings/s ({t_recheck:.2f} s)")
     print(f"mean trace steps per bearing:  {steps:.0f}")
     print(f"review reasons raised:         {reasons_total} ({failing} bearings failing as built)")
-    print(f"peak traced memory, 2000 re-checks kept transiently: {peak / 1e6:.1f} MB")
+    print(f"peak traced memory during 2000 re-checks (results let go): {peak / 1e3:.0f} kB")
     print(f"peak process RSS (all {n} design results held): {rss_mb:.0f} MB")
     return 0
 
