@@ -21,6 +21,7 @@ from sitecheck.web.decision_forms import (
     ReopenForm,
 )
 from sitecheck.web.pages import page_rule, render_page
+from sitecheck.web.record_form import MEASUREMENT_FIELDS, SPECS, designed_value
 
 bp = Blueprint("review", __name__)
 
@@ -236,24 +237,6 @@ def _photo(site_id: str, p: dict) -> dict:
 
 # Each measured value → where its design value sits in the stored design input, and its unit.
 # A missing padstone reads as "none" so that "padstone present" compares like the others.
-_DESIGN_PLACES: tuple[tuple[str, str, str | None, str], ...] = (
-    ("bearing_length", "beam", "bearing_length", "mm"),
-    ("flange_width", "beam", "flange_width", "mm"),
-    ("offset_along", "beam", "offset_along", "mm"),
-    ("offset_across", "beam", "offset_across", "mm"),
-    ("padstone_present", "padstone", None, ""),
-    ("padstone_length", "padstone", "length", "mm"),
-    ("padstone_width", "padstone", "width", "mm"),
-    ("padstone_depth", "padstone", "depth", "mm"),
-    ("padstone_concrete", "padstone", "concrete", ""),
-    ("wall_thickness", "wall", "thickness", "mm"),
-    ("a1", "wall", "a1", "mm"),
-    ("a2", "wall", "a2", "mm"),
-    ("masonry_material", "masonry", "material", ""),
-    ("masonry_group", "masonry", "group", ""),
-    ("unit_strength", "masonry", "unit_strength", "N/mm²"),
-    ("mortar", "masonry", "mortar", ""),
-)
 _LABELS = FIELD_LABELS | {
     "offset_along": "Beam offset along the wall",
     "offset_across": "Beam offset across the wall",
@@ -262,18 +245,14 @@ _LABELS = FIELD_LABELS | {
 
 
 def _compare(design_input: dict, measurements: dict) -> list[dict]:
-    """One row per measured value: design | as built | difference, in a fixed order."""
+    """One row per measured value: design | as built | difference, in the form's order
+    (the as-built form owns which design value each measured field stands against)."""
     rows = []
-    for name, part, key, unit in _DESIGN_PLACES:
+    for name in MEASUREMENT_FIELDS:
         built = (measurements or {}).get(name)
         if built is None:
             continue  # not measured: the design value stands in the re-check
-        section = design_input.get(part)
-        if key is None:
-            designed = section is not None
-        else:
-            designed = None if section is None else section.get(key)
-        rows.append(_compare_row(name, unit, designed, built))
+        rows.append(_compare_row(name, SPECS[name].unit, designed_value(design_input, name), built))
     return rows
 
 
