@@ -1,0 +1,92 @@
+"""What happens when someone acts, below the screens: services on a real SQLite file."""
+
+from __future__ import annotations
+
+import uuid
+from datetime import UTC, datetime, timedelta
+
+import pytest
+
+from sitecheck import services, store, workflow
+
+
+def _as_designed(bearing: dict) -> dict:
+    d = bearing["design_input"]
+    m = {
+        "bearing_length": d["beam"]["bearing_length"],
+        "padstone_present": d["padstone"] is not None,
+        "wall_thickness": d["wall"]["thickness"],
+        "masonry_group": d["masonry"]["group"],
+    }
+    if d["padstone"]:
+        m |= {
+            "padstone_length": d["padstone"]["length"],
+            "padstone_width": d["padstone"]["width"],
+            "padstone_depth": d["padstone"]["depth"],
+        }
+    if d["wall"]["a1"] is not None:
+        m["a1"] = d["wall"]["a1"]
+    return m
+
+
+def _record(db, site, people, reference, measured_at, **changes):
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+    stored, rc = services.record_as_built(
+        db,
+        site=site,
+        bearing=bearing,
+        uuid=str(uuid.uuid4()),
+        measured_at=measured_at.strftime("%Y-%m-%dT%H:%M:%SZ"),
+        design_revision=bearing["revision"],
+        measurements=_as_designed(bearing) | changes,
+        checklist={
+            "bedded": True,
+            "packing": 0.0,
+            "cracks": False,
+            "cut_units": False,
+            "level": True,
+        },
+        notes="",
+        inspector_id=people["inspector"].id,
+    )
+    return stored, rc
+
+
+def test_a_record_as_designed_is_within_design(db, site, people):
+    stored, rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    assert rc.reasons == () and stored.state == "within design"
+
+
+def test_a_phone_clock_far_ahead_sends_the_record_to_the_engineer(db, site, people):
+    # A clock two hours fast would make this record "newest" until long after it is not.
+    stored, rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC) + timedelta(hours=2))
+    assert "clock-ahead" in {r.code for r in rc.reasons}
+    assert stored.state == "engineer to decide"
+
+
+def test_the_newest_record_by_measured_time_drives_the_state(db, site, people):
+    # Two inspectors offline: the later measurement (short padstone) arrives first, the
+    # earlier one (as designed) second; the state follows the later measurement.
+    now = datetime.now(UTC)
+    _record(db, site, people, "GF-B1-E", now - timedelta(minutes=5), padstone_length=300.0)
+    stored, _ = _record(db, site, people, "GF-B1-E", now - timedelta(minutes=30))
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    assert bearing["state"] == "engineer to decide"
+    assert len(store.records_for_bearing(db, site_id=site["id"], bearing_id=bearing["id"])) == 2
+    assert stored.created
+
+
+def test_a_refused_release_is_written_down(db, site, people):
+    _record(db, site, people, "GF-B1-E", datetime.now(UTC), padstone_length=300.0)
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    with pytest.raises(workflow.WorkflowError, match="engineer"):
+        services.release(
+            db,
+            site=site,
+            bearing=bearing,
+            contractor_id=people["contractor"].id,
+            contractor_name="C",
+            statement="S",
+        )
+    kinds = [e["kind"] for e in store.events_for(db, site_id=site["id"], bearing_id=bearing["id"])]
+    assert "release refused" in kinds
