@@ -287,16 +287,17 @@ def ec6_bearing_with_ends(
     masonry this way without building an input for it. Returns the check and l_efm.
     """
     t, h_c = wall.thickness, wall.height_to_bearing
+    width, contact = pres.width, pres.contact_length
     s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
-    l_efm = spread_length(pres.contact_length, e1, e2, s60)
-    a_b = pres.area
+    l_efm = spread_length(contact, e1, e2, s60)
+    a_b = width * contact  # pres.area
     a_ef = l_efm * t
     steps.append(
         make_step(
             "Loaded area on the masonry",
             "A_b",
             "W · contact length",
-            (("W", pres.width, "mm"), ("contact", pres.contact_length, "mm")),
+            (("W", width, "mm"), ("contact", contact, "mm")),
             a_b,
             "mm²",
             "EN 1996-1-1 6.1.3",

@@ -15,6 +15,10 @@ from .formulas import linear_pressure
 from .inputs import ACROSS, Beam, BearingInput, Padstone
 from .trace import Step, make_step
 
+# Builds a Layout or Pressure from the tuple of its fields, as make_step builds a step:
+# calling a named tuple class goes through its Python-level __new__.
+_new_tuple = tuple.__new__
+
 
 class Layout(NamedTuple):
     """The support and the footprint in the support's frame (x along from the a1 end,
@@ -96,19 +100,22 @@ def footprint_layout(
         else:
             x1 = x0 + (x1 - x0) * 2 / 3
     rx, ry = (x0 + x1) / 2, (y0 + y1) / 2
-    return Layout(
-        pad is not None,
-        length,
-        width,
-        depth,
-        y0_in_wall,
-        x0,
-        x1,
-        y0,
-        y1,
-        rx,
-        ry,
-        y0_in_wall + ry - t / 2,
+    return _new_tuple(
+        Layout,
+        (
+            pad is not None,
+            length,
+            width,
+            depth,
+            y0_in_wall,
+            x0,
+            x1,
+            y0,
+            y1,
+            rx,
+            ry,
+            y0_in_wall + ry - t / 2,
+        ),
     )
 
 
@@ -243,7 +250,7 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
                 "S",
             )
         )
-    return Pressure(wx0, wx1, wy0, wy1, rigid, kind, e, smax, smin, cx0, cx1)
+    return _new_tuple(Pressure, (wx0, wx1, wy0, wy1, rigid, kind, e, smax, smin, cx0, cx1))
 
 
 def end_distances(

@@ -29,7 +29,8 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     steps: list[Step] = []
     pres = pressure_under(lay, inp.load.reaction, basis, steps)
     wall = inp.wall
-    if basis.is_ec6:
+    ec6 = basis.is_ec6
+    if ec6:
         bearing, spread_len, e1, e2 = C.ec6_masonry_bearing(inp, lay, pres, strengths, basis, steps)
         checks.append(bearing)
         checks.append(C.ec6_eccentricity(inp, lay, basis))
@@ -54,7 +55,7 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
             notes.append(note)
 
     governing, passed = _governing(checks)
-    if basis.is_ec6:
+    if ec6:
         a1_eff, a2_eff = e1, e2
     else:
         a1_eff, a2_eff = end_distances(lay, pres, wall.a1, wall.a2)

@@ -12,11 +12,12 @@ Thresholds and tolerances are site settings with defaults of ours, not code valu
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, fields, replace
+from dataclasses import dataclass, fields
+from operator import attrgetter
 
 from .basis import BS5628, CodeBasis
 from .checks import is_spreader
-from .inputs import BearingInput, Masonry, Padstone
+from .inputs import Beam, BearingInput, Masonry, Padstone, Wall
 from .trace import INFORMATIVE, BearingResult
 
 BLOCKS = "blocks"
@@ -123,62 +124,66 @@ class ReviewReason:
 
 def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
     """The design with every measured value put in its place."""
-    beam = design.beam
-    beam_changes = {}
-    for name in ("bearing_length", "flange_width", "offset_along", "offset_across"):
-        value = getattr(m, name)
-        if value is not None:
-            beam_changes[name] = value
-    beam = _with_changes(beam, beam_changes)
+    beam = _measured(
+        design.beam,
+        (
+            ("bearing_length", m.bearing_length),
+            ("flange_width", m.flange_width),
+            ("offset_along", m.offset_along),
+            ("offset_across", m.offset_across),
+        ),
+    )
 
     pad = design.padstone
     if m.padstone_present is False:
         pad = None
-    elif m.padstone_present or any(
-        v is not None for v in (m.padstone_length, m.padstone_width, m.padstone_depth)
+    elif (
+        m.padstone_present
+        or m.padstone_length is not None
+        or m.padstone_width is not None
+        or m.padstone_depth is not None
     ):
-        base = pad or Padstone(length=0.0, width=0.0, depth=0.0)
-        pad = _with_changes(
-            base,
-            {
-                "length": _pick(m.padstone_length, base.length),
-                "width": _pick(m.padstone_width, base.width),
-                "depth": _pick(m.padstone_depth, base.depth),
-                "concrete": m.padstone_concrete or base.concrete,
-                "f_ck": None if m.padstone_concrete else base.f_ck,
-            },
+        pad = _measured(
+            pad or Padstone(length=0.0, width=0.0, depth=0.0),
+            (
+                ("length", m.padstone_length),
+                ("width", m.padstone_width),
+                ("depth", m.padstone_depth),
+                ("concrete", m.padstone_concrete or None),
+            ),
         )
+        if m.padstone_concrete and pad.f_ck is not None:
+            # The class seen on site replaces a declared f_ck.
+            pad = _rebuilt(pad, (("f_ck", None),))
     elif m.padstone_concrete and pad is not None:
-        pad = replace(pad, concrete=m.padstone_concrete, f_ck=None)
+        pad = _rebuilt(pad, (("concrete", m.padstone_concrete), ("f_ck", None)))
 
     wall = design.wall
-    wall_changes = {}
-    if m.wall_thickness is not None:
-        wall_changes["thickness"] = m.wall_thickness
-        if wall.effective_thickness is not None:
-            # A measured leaf replaces the designed one; t_ef follows it in proportion.
-            wall_changes["effective_thickness"] = (
-                wall.effective_thickness * m.wall_thickness / wall.thickness
-            )
-    if m.a1 is not None:
-        wall_changes["a1"] = m.a1
-    if m.a2 is not None:
-        wall_changes["a2"] = m.a2
-    wall = _with_changes(wall, wall_changes)
+    t_ef = wall.effective_thickness
+    if m.wall_thickness is not None and t_ef is not None:
+        # A measured leaf replaces the designed one; t_ef follows it in proportion.
+        t_ef = t_ef * m.wall_thickness / wall.thickness
+    wall = _measured(
+        wall,
+        (
+            ("thickness", m.wall_thickness),
+            ("effective_thickness", t_ef),
+            ("a1", m.a1),
+            ("a2", m.a2),
+        ),
+    )
 
-    mas = design.masonry
-    mas_changes = {}
-    if m.masonry_material is not None:
-        mas_changes["material"] = m.masonry_material
-    if m.masonry_group is not None:
-        mas_changes["group"] = m.masonry_group
-    if m.mortar is not None:
-        mas_changes["mortar"] = m.mortar
-    if m.unit_strength is not None:
-        mas_changes["unit_strength"] = m.unit_strength
     # A declared f_k stays: it cannot be worked out again from what is seen on site.
     # The review says so when the units differ (masonry-unverified).
-    mas = _with_changes(mas, mas_changes)
+    mas = _measured(
+        design.masonry,
+        (
+            ("material", m.masonry_material),
+            ("group", m.masonry_group),
+            ("mortar", m.mortar),
+            ("unit_strength", m.unit_strength),
+        ),
+    )
     if (
         beam is design.beam
         and pad is design.padstone
@@ -186,15 +191,39 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
         and mas is design.masonry
     ):
         return design
-    return replace(design, beam=beam, padstone=pad, wall=wall, masonry=mas)
+    return _rebuilt(design, (("beam", beam), ("padstone", pad), ("wall", wall), ("masonry", mas)))
 
 
-def _with_changes(obj, changes: dict):
-    """``obj`` with the changed values, or ``obj`` itself when every measured value is the
-    designed one: most measurements confirm the design, and building an equal object for
-    each costs more than the re-check's arithmetic."""
-    changed = {name: v for name, v in changes.items() if _differs(v, getattr(obj, name))}
-    return replace(obj, **changed) if changed else obj
+def _measured(obj, measured: tuple):
+    """``obj`` with each measured (name, value) in its place, None being not measured; or
+    ``obj`` itself when every measured value is its own: most measurements confirm the
+    design, and building an equal object for each costs more than the arithmetic."""
+    changed = []
+    for name, value in measured:
+        if value is not None and _differs(value, getattr(obj, name)):
+            changed.append((name, value))
+    return _rebuilt(obj, changed) if changed else obj
+
+
+def _rebuilt(obj, changes):
+    """``obj`` with the (name, value) changes, as :func:`dataclasses.replace` makes it but
+    with the fields passed by position: replace looks through every field's options and
+    passes them all by keyword, which costs as much again as building the object. The
+    input classes have plain fields only, so nothing else of replace's is needed."""
+    names, values_of = _FIELDS[type(obj)]
+    values = list(values_of(obj))
+    for name, value in changes:
+        values[names.index(name)] = value
+    return type(obj)(*values)
+
+
+def _field_access(cls: type) -> tuple[tuple[str, ...], attrgetter]:
+    names = tuple(f.name for f in fields(cls))
+    return names, attrgetter(*names)
+
+
+# Each input class's field names in order, and a getter of all their values at once.
+_FIELDS = {cls: _field_access(cls) for cls in (Beam, Padstone, Wall, Masonry, BearingInput)}
 
 
 def _differs(new: object, old: object) -> bool:
@@ -206,10 +235,6 @@ def _differs(new: object, old: object) -> bool:
     if type(new) is not type(old) or new != old:
         return True
     return new == 0 and repr(new) != repr(old)
-
-
-def _pick(measured: float | None, designed: float) -> float:
-    return designed if measured is None else measured
 
 
 def missing_measurements(design: BearingInput, m: Measurements, s: ReviewSettings) -> list[str]:
@@ -333,9 +358,10 @@ def review(
     out.extend(_checklist_reasons(checklist, s))
     out.extend(_bearing_type_reasons(design, as_built, design_result, s))
     # Blocking reasons first, each kind in the order found.
-    return tuple(
-        [r for r in out if r.severity == BLOCKS] + [r for r in out if r.severity != BLOCKS]
-    )
+    advisory = [r for r in out if r.severity != BLOCKS]
+    if advisory:
+        out = [r for r in out if r.severity == BLOCKS] + advisory
+    return tuple(out)
 
 
 def _fmt_util(u: float) -> str:
@@ -367,7 +393,10 @@ def _dimension_reasons(
         d, a = pairs.get(name, _NOT_COMPARED)
         if d is None or a is None:
             continue
-        tol = _tolerance(name, d, s)
+        if name == "wall_thickness":
+            tol = max(s.tol_wall_thickness, s.tol_wall_thickness_ratio * d)
+        else:
+            tol = getattr(s, _TOLERANCE_SETTING[name])
         diff = a - d
         if abs(diff) <= tol + 1e-9:
             continue
@@ -407,13 +436,8 @@ def _dimension_pairs(design: BearingInput, as_built: BearingInput) -> dict:
 _NOT_COMPARED = (None, None)
 
 
-def _tolerance(name: str, designed: float, s: ReviewSettings) -> float:
-    if name == "wall_thickness":
-        return max(s.tol_wall_thickness, s.tol_wall_thickness_ratio * designed)
-    return getattr(s, _TOLERANCE_SETTING[name])
-
-
-# Measured dimension → the review setting that is its tolerance (the wall's is above).
+# Measured dimension → the review setting that is its tolerance (the wall's tolerance
+# is the greater of a length and a share of its thickness).
 _TOLERANCE_SETTING = {
     "bearing_length": "tol_bearing_length",
     "flange_width": "tol_flange_width",
