@@ -141,3 +141,11 @@ def test_error_carries_its_parts():
         "code": "not-positive",
     }
     assert str(e).startswith("padstone.depth = 0.0:")
+
+
+def test_an_offset_that_is_not_a_number_is_reported_not_raised():
+    inp = across_on_padstone(
+        beam=Beam(flange_width=133.0, bearing_length=150.0, offset_across="ten")
+    )
+    problems = list(input_errors(inp, ec6_uk_na()))
+    assert [p.field for p in problems] == ["beam.offset_across"]

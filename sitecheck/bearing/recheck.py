@@ -101,10 +101,10 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
 
 
 def _governing(checks: list[Check]) -> tuple[Check, bool]:
-    """The check that decides, and whether the bearing passes (no check fails but the
-    informative ones). The check that decides is the worst failing one, else the most
-    utilised strength check. A rule of the trade met with room to spare (say 150 mm of
-    bearing where 100 is asked) is not a utilisation an engineer would quote."""
+    """The check that decides, and whether the bearing passes (no check fails, leaving
+    aside the informative ones). The check that decides is the worst failing one, else the
+    most utilised strength check. A rule of the trade met with room to spare (say 150 mm
+    of bearing where 100 is asked) is not a utilisation an engineer would quote."""
     failing = [c for c in checks if c.kind != INFORMATIVE and not c.passed]
     pool = failing or [c for c in checks if c.kind == STRENGTH]
     return max(pool, key=_utilisation), not failing

@@ -200,7 +200,11 @@ def _measured(obj, measured: tuple):
     design, and building an equal object for each costs more than the arithmetic."""
     changed = []
     for name, value in measured:
-        if value is not None and _differs(value, getattr(obj, name)):
+        if value is None:
+            continue
+        current = getattr(obj, name)
+        # Often the very value the design holds: say so without a call.
+        if value is not current and _differs(value, current):
             changed.append((name, value))
     return _rebuilt(obj, changed) if changed else obj
 

@@ -136,7 +136,7 @@ def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
 
 
 def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
-    """What :func:`_masonry_errors` asks, in the same order."""
+    """Whether :func:`_masonry_errors` would find nothing (see :func:`_plainly_valid`)."""
     mas = inp.masonry
     if not (
         mas.material in MATERIALS
@@ -177,7 +177,10 @@ def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
 
 
 def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
-    """Every problem with an input, in the order the form shows the fields."""
+    """Every problem with an input, in the order the form shows the fields.
+
+    :func:`validate` first asks :func:`_plainly_valid`, which must refuse whatever this
+    refuses: a rule added here is added there too."""
     load, beam, pad, wall = inp.load, inp.beam, inp.padstone, inp.wall
 
     if not _is_number(load.reaction) or load.reaction <= 0:
@@ -269,7 +272,12 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
         if value is not None and (not _is_number(value) or not 0 < value <= 1):
             yield InputError(name, value, "a factor above 0 and at most 1", "out-of-range")
 
-    if bad_lengths or beam.orientation not in ORIENTATIONS:
+    # The geometry rules do arithmetic on the offsets: one that is not a number has been
+    # reported above and would only raise here.
+    bad_offsets = any(
+        v is not None and not _is_number(v) for v in (beam.offset_along, beam.offset_across)
+    )
+    if bad_lengths or bad_offsets or beam.orientation not in ORIENTATIONS:
         return
     yield from _geometry_errors(inp)
 
