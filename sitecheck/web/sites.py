@@ -611,6 +611,11 @@ def _one_time_password(email: str) -> str:
             return password
 
 
+def _member_refusal(site: dict, status: int, message: str):
+    """The members page again, with why the change to a membership was refused."""
+    return _members_page(site, InviteForm(formdata=None), status, error=message)
+
+
 @bp.post("/sites/<site_id>/members/<int:user_id>/role")
 @login_required
 def change_role(site_id, user_id):
@@ -619,15 +624,12 @@ def change_role(site_id, user_id):
     db = get_db()
     current = store.role_of(db, user_id=user_id, site_id=site_id)
     if current is None:
-        return _members_page(
-            site, InviteForm(formdata=None), 404, error="That person is not on this site."
-        )
+        return _member_refusal(site, 404, "That person is not on this site.")
     if not form.validate():
-        return _members_page(
+        return _member_refusal(
             site,
-            InviteForm(formdata=None),
             400,
-            error="Choose a role: " + ", ".join(workflow.ROLES) + ".",
+            "Choose a role: " + ", ".join(workflow.ROLES) + ".",
         )
     new_role = form.role.data
     if new_role == current:
@@ -635,7 +637,7 @@ def change_role(site_id, user_id):
         return redirect(url_for("sites.members", site_id=site_id))
     refusal = _last_engineer_refusal(db, site_id, user_id, current)
     if refusal:
-        return _members_page(site, InviteForm(formdata=None), 409, error=refusal)
+        return _member_refusal(site, 409, refusal)
     store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
     flash(f"Role changed from {current} to {new_role}.")
     if user_id == g.user["id"] and not workflow.allowed(new_role, "invite"):
@@ -651,14 +653,12 @@ def remove_member(site_id, user_id):
     db = get_db()
     current = store.role_of(db, user_id=user_id, site_id=site_id)
     if current is None:
-        return _members_page(
-            site, InviteForm(formdata=None), 404, error="That person is not on this site."
-        )
+        return _member_refusal(site, 404, "That person is not on this site.")
     if not form.validate():
-        return _members_page(site, InviteForm(formdata=None), 400, error="Send the form again.")
+        return _member_refusal(site, 400, "Send the form again.")
     refusal = _last_engineer_refusal(db, site_id, user_id, current)
     if refusal:
-        return _members_page(site, InviteForm(formdata=None), 409, error=refusal)
+        return _member_refusal(site, 409, refusal)
     store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
     flash("Removed from this site. Their records stay on the site record.")
     if user_id == g.user["id"]:
