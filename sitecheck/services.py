@@ -58,6 +58,17 @@ def settings_for(site: dict) -> ReviewSettings:
     )
 
 
+def mirror_context(site: dict, design_input: dict) -> dict:
+    """What the phone's mirror of the core needs to re-check one bearing as values are
+    typed: the design input, and the site's code basis and review settings in full (the
+    phone has no defaults of its own to fall back on, so nothing may be left implicit)."""
+    return {
+        "design": design_input,
+        "basis": basis_for(site).to_dict(),
+        "settings": settings_for(site).as_dict(),
+    }
+
+
 def design_of(bearing: dict) -> BearingInput:
     return input_from_dict(bearing["design_input"])
 
@@ -190,8 +201,13 @@ def record_as_built(
     notes: str,
     inspector_id: int,
     now: datetime | None = None,
+    provisional: object = None,
 ) -> tuple[store.RecordStored, Recheck]:
-    """Re-check and store one as-built record, idempotently by the phone's UUID."""
+    """Re-check and store one as-built record, idempotently by the phone's UUID.
+
+    ``provisional`` is the verdict the phone's mirror of the core showed while the values
+    were typed, if it sent one; the server's answer is stored and wins, and a difference is
+    written as an event so that a drifting mirror is found."""
     rc = recheck(site, bearing, measurements, checklist)
     reasons = list(rc.reasons)
     if design_revision < bearing["revision"]:
@@ -237,7 +253,57 @@ def record_as_built(
         state_after_record=workflow.state_after_record,
         now=now,
     )
+    if stored.created and provisional is not None:
+        difference = phone_verdict_difference(provisional, rc.result, rc.reasons)
+        if difference:
+            store.add_event(
+                db,
+                kind=PHONE_VERDICT_DIFFERED,
+                user_id=inspector_id,
+                site_id=site["id"],
+                bearing_id=bearing["id"],
+                detail={"record": uuid, **difference},
+                now=now,
+            )
     return stored, Recheck(rc.as_built, rc.result, tuple(reasons))
+
+
+PHONE_VERDICT_DIFFERED = "phone verdict differed"
+# The mirror is held to 1e-9 by the shared vectors; anything beyond this is a real drift,
+# not the last digit of a power function.
+_UTILISATION_AGREES = 1e-6
+
+
+def phone_verdict_difference(
+    provisional: object, result: BearingResult, reasons: tuple[ReviewReason, ...]
+) -> dict | None:
+    """What the phone showed against what the server found, or None when they agree.
+
+    Only the core's own verdict is compared: the reasons the server adds from what only it
+    knows (a newer design revision, a clock ahead) are not the mirror's to find."""
+    server = {
+        "passed": result.passed,
+        "governing": result.governing,
+        "utilisation": _finite(result.utilisation),
+        "reasons": [r.code for r in reasons],
+    }
+    if not isinstance(provisional, dict):
+        return {"phone": None, "server": server, "differs": ["unreadable"]}
+    phone = {key: provisional.get(key) for key in server}
+    differs = [key for key in ("passed", "governing", "reasons") if phone[key] != server[key]]
+    if not _utilisations_agree(phone["utilisation"], server["utilisation"]):
+        differs.append("utilisation")
+    if not differs:
+        return None
+    return {"phone": phone, "server": server, "differs": sorted(differs)}
+
+
+def _utilisations_agree(phone: object, server: float | None) -> bool:
+    if server is None or phone is None:
+        return phone is None and server is None
+    if isinstance(phone, bool) or not isinstance(phone, int | float):
+        return False
+    return abs(phone - server) <= _UTILISATION_AGREES * max(1.0, abs(server))
 
 
 def decide(db, *, site: dict, bearing: dict, kind: str, reason: str, engineer_id: int) -> dict:
@@ -303,9 +369,11 @@ def store_photo(
     db, *, site: dict, record_uuid: str, photo, photos, user_id: int, uuid: str | None = None
 ) -> store.Stored:
     """Keep an ingested photo (sitecheck.photos.IngestedPhoto): both sizes on disk by their
-    hash, then its facts in the database, idempotent by the photo's UUID."""
+    hash and the print copy under the display picture's, then its facts in the database,
+    idempotent by the photo's UUID."""
     photos.put(photo.display_jpeg)
     photos.put(photo.thumbnail_jpeg)
+    photos.put_print(photo.display_sha256, photo.print_jpeg)
     return add_photo_row(
         db, site=site, record_uuid=record_uuid, photo=photo, user_id=user_id, uuid=uuid
     )

@@ -178,7 +178,16 @@ def test_the_form_shows_design_values_and_phone_friendly_inputs(client_as, db, s
     assert datetime.fromisoformat(hidden["measured_at"]).tzinfo is not None
     assert hidden["design_revision"] == "1"
     assert "style=" not in html and "onclick" not in html
-    assert re.findall(r"<script[^>]*>", html) == ['<script src="/static/app.js" defer>']
+    # Scripts only from our own server (the CSP allows no inline script): the page script,
+    # the phone's re-check module and its data, which is JSON and never executed.
+    assert re.findall(r"<script[^>]*>", html) == [
+        '<script src="/static/app.js" defer>',
+        '<script type="application/json" id="verdict-context">',
+        '<script type="module" src="/static/js/verdict.js">',
+    ]
+    context = json.loads(html.split('id="verdict-context">')[1].split("</script>")[0])
+    assert set(context) == {"design", "basis", "settings"}
+    assert context["design"]["padstone"]["length"] == 440.0
 
 
 # --- recording -----------------------------------------------------------------------------------
@@ -193,7 +202,8 @@ def test_a_bearing_built_as_designed_with_two_photos(client_as, db, app, site):
         inspector, site, bearing, [("east.jpg", photo_a()), ("side.jpg", photo_b())]
     )
 
-    assert counts(db, app) == (before[0] + 1, before[1] + 2, before[2] + 4)
+    # Each photo: display, thumbnail and the print copy the site record embeds.
+    assert counts(db, app) == (before[0] + 1, before[1] + 2, before[2] + 6)
     assert bearing_named(db, site)["state"] == "within design"
     records = store.records_for_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
     assert len(records) == 1 and location.endswith(f"/records/{records[0]['uuid']}")
@@ -266,7 +276,7 @@ def test_the_same_uuid_sent_twice_is_stored_once(client_as, db, app, site):
     )
     assert first.status_code == second.status_code == 302
     assert first.headers["Location"] == second.headers["Location"]
-    assert counts(db, app) == (before[0] + 1, before[1] + 1, before[2] + 2)
+    assert counts(db, app) == (before[0] + 1, before[1] + 1, before[2] + 3)
     page = inspector.get(second.headers["Location"]).get_data(as_text=True)
     assert "already stored; it was not stored twice" in page
     assert 'data-verdict="pass"' in page
@@ -667,3 +677,77 @@ def test_the_result_as_json_has_the_result_reasons_and_photo_urls(client_as, db,
     padstone = next(c for c in data["comparison"] if c["field"] == "padstone_length")
     assert padstone == padstone | {"designed": 440.0, "measured": 440.0, "changed": False}
     assert "password" not in json.dumps(data)
+
+
+# --- the phone's provisional verdict ------------------------------------------------------------
+
+
+def _events(db, site, kind):
+    return [e for e in store.events_for(db, site_id=site["id"]) if e["kind"] == kind]
+
+
+def _server_verdict(site, bearing, values) -> dict:
+    """The verdict the server reaches for these form values, as the phone would send it."""
+    rc = services.recheck(
+        site,
+        bearing,
+        {"padstone_length": float(values["padstone_length"])},
+        {},
+    )
+    return {
+        "engine": "phone mirror",
+        "passed": rc.result.passed,
+        "governing": rc.result.governing,
+        "utilisation": rc.result.utilisation,
+        "reasons": [r.code for r in rc.reasons],
+    }
+
+
+def test_a_phone_verdict_that_agrees_writes_no_event(client_as, db, site):
+    inspector = client_as("inspector")
+    bearing = bearing_named(db, site)
+    values = {"padstone_length": "300"}
+    phone = _server_verdict(site, bearing, values)
+    # The figure as a phone's float arithmetic may leave it: the last digits differ.
+    phone["utilisation"] *= 1 + 1e-12
+    r = post_record(inspector, site, bearing, values | {"provisional": json.dumps(phone)})
+    assert r.status_code == 302
+    assert _events(db, site, services.PHONE_VERDICT_DIFFERED) == []
+
+
+def test_a_phone_verdict_that_differs_is_reported_and_the_server_wins(client_as, db, site):
+    inspector = client_as("inspector")
+    bearing = bearing_named(db, site)
+    values = {"padstone_length": "300"}
+    phone = _server_verdict(site, bearing, values)
+    phone.update(passed=not phone["passed"], utilisation=phone["utilisation"] + 0.05)
+    phone["reasons"] = phone["reasons"][1:]
+    r = post_record(inspector, site, bearing, values | {"provisional": json.dumps(phone)})
+    assert r.status_code == 302
+    # The state comes from the server's own re-check, whatever the phone showed.
+    assert bearing_named(db, site)["state"] == "engineer to decide"
+    (event,) = _events(db, site, services.PHONE_VERDICT_DIFFERED)
+    detail = json.loads(event["detail"]) if isinstance(event["detail"], str) else event["detail"]
+    assert detail["differs"] == ["passed", "reasons", "utilisation"]
+    assert detail["phone"]["passed"] is phone["passed"]
+    assert detail["server"]["passed"] is not phone["passed"]
+    assert detail["record"] == r.headers["Location"].rsplit("/", 1)[1]
+    assert event["bearing_id"] == bearing["id"]
+
+
+def test_an_unreadable_phone_verdict_still_stores_the_record(client_as, db, site):
+    inspector = client_as("inspector")
+    bearing = bearing_named(db, site)
+    r = post_record(inspector, site, bearing, {"provisional": "{not json"})
+    assert r.status_code == 302
+    (event,) = _events(db, site, services.PHONE_VERDICT_DIFFERED)
+    detail = json.loads(event["detail"]) if isinstance(event["detail"], str) else event["detail"]
+    assert detail["differs"] == ["unreadable"]
+
+
+def test_a_form_sent_without_javascript_has_no_phone_verdict_to_compare(client_as, db, site):
+    inspector = client_as("inspector")
+    bearing = bearing_named(db, site)
+    r = post_record(inspector, site, bearing, {"padstone_length": "300"})
+    assert r.status_code == 302
+    assert _events(db, site, services.PHONE_VERDICT_DIFFERED) == []

@@ -282,6 +282,7 @@ def _form_page(site, bearing, form, *, general=(), status=200):
         photo_mb=PhotoLimits().max_bytes // 1_000_000,
         total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
         older_form=_older_form(form, bearing),
+        verdict_context=services.mirror_context(site, design_input),
     )
 
 
@@ -352,6 +353,7 @@ def _store(db, site, bearing, form, revision, photos):
                 if not ps.exists(sha):
                     new_files.append(sha)
                 ps.put(data)
+            ps.put_print(p.display_sha256, p.print_jpeg)  # deleted with the display file
         with store.transaction(db):
             stored, _recheck = services.record_as_built(
                 db,
@@ -364,6 +366,7 @@ def _store(db, site, bearing, form, revision, photos):
                 checklist=form.checklist(),
                 notes=form.notes.data or "",
                 inspector_id=g.user["id"],
+                provisional=form.provisional_verdict(),
             )
             if stored.created:
                 for p in photos:

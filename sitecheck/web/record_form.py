@@ -12,6 +12,7 @@ Typed text is only parsed here; whether a value makes physical sense is the core
 
 from __future__ import annotations
 
+import json
 import math
 import re
 import uuid as uuid_module
@@ -35,6 +36,7 @@ from sitecheck.bearing.inputs import MATERIALS, MORTARS
 
 MAX_PHOTOS = 8
 NOTES_MAX = 4000
+PROVISIONAL_MAX = 8000  # a verdict with every review reason code fits easily
 # Packing is not a design value the core checks; these bounds only catch slips of the thumb.
 PACKING_MAX_MM = 200.0
 
@@ -311,6 +313,9 @@ class RecordForm(FlaskForm):
     measured_at = StringField("Measured at")
     record_uuid = HiddenField()
     design_revision = HiddenField()
+    # What the phone's mirror of the core showed as the values were typed (JSON), sent so
+    # the server can report a difference; empty when the page ran without JavaScript.
+    provisional = HiddenField()
 
     def start(self, bearing: dict, now: datetime | None = None) -> None:
         """Fill a fresh form: a new record UUID, the time now, the design it is measured against."""
@@ -369,6 +374,19 @@ class RecordForm(FlaskForm):
                 "This form's record id is missing or damaged; it has been renewed. "
                 "Check the values and send again."
             ) from None
+
+    def provisional_verdict(self) -> object:
+        """The phone's verdict as sent: a dict, None when none was sent, or the raw text
+        when it was not readable JSON (the record is still stored; the event says so)."""
+        text = (self.provisional.data or "").strip()
+        if not text:
+            return None
+        if len(text) > PROVISIONAL_MAX:
+            return text[:200]
+        try:
+            return json.loads(text)
+        except ValueError:
+            return text[:200]
 
     # --- what was measured -----------------------------------------------------------------
 

@@ -1,0 +1,212 @@
+// Mirrors sitecheck/bearing/basis.py: code bases, every national value and partial factor.
+//
+// A basis here is a plain object of exactly the shape CodeBasis.to_dict() writes (tables as
+// {key: value}, bearing_type_factors as a list). No global "current code": the basis is
+// passed to every call. Source labels as in basis.py: [S] seen, [P] partly seen, [M] from
+// memory, [CP] common practice, [ours].
+
+import { InputError } from "./errors.js";
+
+export const EC6_UK = "EC6 + UK NA";
+export const BS5628 = "BS 5628-1";
+export const BASES = [EC6_UK, BS5628];
+
+export function kKey(material, group, mortarKind) {
+  return `${material}|${group}|${mortarKind}`;
+}
+
+// EN 1996-1-1 Table 3.3, recommended K for general-purpose mortar [M]; "material|group".
+export const K_EN_GENERAL = {
+  "clay|1": 0.55,
+  "clay|2": 0.45,
+  "clay|3": 0.35,
+  "clay|4": 0.35,
+  "calcium silicate|1": 0.55,
+  "calcium silicate|2": 0.45,
+  "aggregate concrete|1": 0.55,
+  "aggregate concrete|2": 0.52,
+  "aggregate concrete|3": 0.4,
+  "aggregate concrete|4": 0.4,
+  "autoclaved aerated concrete|1": 0.55,
+  "manufactured stone|1": 0.45,
+};
+// EN 1996-1-1 Table 3.3, recommended K for thin-layer mortar [M].
+export const K_EN_THIN = {
+  "clay|1": 0.75,
+  "clay|2": 0.7,
+  "clay|3": 0.5,
+  "calcium silicate|1": 0.8,
+  "calcium silicate|2": 0.65,
+  "aggregate concrete|1": 0.8,
+  "aggregate concrete|2": 0.65,
+  "aggregate concrete|3": 0.5,
+  "autoclaved aerated concrete|1": 0.8,
+  "manufactured stone|1": 0.75,
+};
+// The UK National Annex replaces Table 3.3; values recalled without the NA at hand [M]
+// (see basis.py). The rest fall back to the EN recommendation.
+export const K_UK_GENERAL = {
+  ...K_EN_GENERAL,
+  "clay|1": 0.5,
+  "clay|2": 0.4,
+  "calcium silicate|1": 0.5,
+  "calcium silicate|2": 0.4,
+};
+
+function kTable(general, thin) {
+  const rows = [];
+  for (const [key, k] of Object.entries(general)) rows.push([`${key}|general`, k]);
+  for (const [key, k] of Object.entries(thin)) rows.push([`${key}|thin-layer`, k]);
+  rows.sort((a, b) => (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : a[1] - b[1]));
+  return Object.fromEntries(rows);
+}
+
+// BS 5628-1:1992 Table 2(a): f_k (N/mm²) of standard-format brick masonry by unit strength
+// and mortar designation [S for shape and 20/(iii) = 5.8; other cells M].
+export const BS_UNIT_STRENGTHS = [5.0, 10.0, 15.0, 20.0, 27.5, 35.0, 50.0, 70.0, 100.0];
+export const BS_FK_TABLE = [
+  ["i", [2.5, 4.4, 6.0, 7.4, 9.2, 11.4, 15.0, 19.2, 24.0]],
+  ["ii", [2.5, 4.2, 5.3, 6.4, 7.9, 9.4, 12.2, 15.1, 18.2]],
+  ["iii", [2.5, 4.1, 5.0, 5.8, 7.1, 8.5, 10.6, 13.1, 15.5]],
+  ["iv", [2.2, 3.5, 4.4, 5.2, 6.2, 7.3, 9.0, 10.8, 12.7]],
+];
+// Mortar classes and the old designations they replace [CP].
+export const MORTAR_DESIGNATION = { M12: "i", M6: "ii", M4: "iii", M2: "iv" };
+export const MORTAR_STRENGTH = { M2: 2.0, M4: 4.0, M6: 6.0, M12: 12.0 };
+
+const TABLE_FIELDS = ["k_values", "gamma_M_ec6", "gamma_m_bs"];
+
+// CodeBasis's fields and defaults, in its order (to_dict writes them so).
+function defaults(name) {
+  return {
+    name,
+    gamma_c: 1.5,
+    alpha_cc: 0.85,
+    plb_limit_factor: 3.0,
+    padstone_spread_deg: 45.0,
+    k_values: kTable(K_UK_GENERAL, K_EN_THIN),
+    f_b_max: 75.0,
+    f_m_max: 20.0,
+    gamma_M_ec6: { "1|I": 2.3, "1|II": 2.6, "2|I": 2.7, "2|II": 3.0 },
+    masonry_spread_deg: 60.0,
+    beta_area_ratio_cap: 0.45,
+    spreader_min_depth: 200.0,
+    spreader_length_factor: 3.0,
+    spreader_stress_factor: 1.5,
+    spreader_route_for_groups_2_to_4: false,
+    max_eccentricity_ratio: 0.25,
+    k_E: 1000.0,
+    e_mk_min_ratio: 0.05,
+    e_init_divisor: 450.0,
+    gamma_m_bs: {
+      "normal|normal": 3.5,
+      "normal|special": 2.8,
+      "special|normal": 3.1,
+      "special|special": 2.5,
+    },
+    bearing_type_factors: [1.25, 1.5, 2.0],
+    dispersion_depth_ratio: 0.4,
+    bs_min_eccentricity_ratio: 0.05,
+    slenderness_limit: 27.0,
+    min_bearing_beam: 100.0,
+    min_bearing_lintel: 150.0,
+    inline_flange_allowance: 50.0,
+    inline_padstone_min_length: 200.0,
+    inline_web_tolerance: 10.0,
+  };
+}
+
+const KNOWN = new Set(Object.keys(defaults(EC6_UK)));
+
+export function isEc6(basis) {
+  return basis.name === EC6_UK;
+}
+
+export function kValue(basis, material, group, mortarKind) {
+  const key = kKey(material, group, mortarKind);
+  return Object.hasOwn(basis.k_values, key) ? basis.k_values[key] : null;
+}
+
+// CodeBasis.gamma_M_for: EC6 γ_M by execution class and unit category.
+export function gammaMFor(basis, executionClass, category) {
+  const key = `${executionClass}|${category}`;
+  return Object.hasOwn(basis.gamma_M_ec6, key) ? basis.gamma_M_ec6[key] : null;
+}
+
+// CodeBasis.gamma_m_for (lower-case m, BS 5628-1 γ_m): by manufacturing and construction control.
+export function gammaMBsFor(basis, manufacturing, construction) {
+  const key = `${manufacturing}|${construction}`;
+  return Object.hasOwn(basis.gamma_m_bs, key) ? basis.gamma_m_bs[key] : null;
+}
+
+// EN 1996-1-1 and EN 1992-1-1 with the UK National Annexes' values (as labelled).
+export function ec6UkNa(overrides = {}) {
+  return { ...defaults(EC6_UK), ...coerce(overrides) };
+}
+
+// BS 5628-1 permissible local bearing with 45° dispersion, for existing buildings.
+export function bs5628(overrides = {}) {
+  return { ...defaults(BS5628), masonry_spread_deg: 45.0, ...coerce(overrides) };
+}
+
+export function basisNamed(name, overrides = {}) {
+  if (name === EC6_UK) return ec6UkNa(overrides);
+  if (name === BS5628) return bs5628(overrides);
+  throw new InputError("basis", name, `one of ${BASES.join(", ")}`, "bad-choice");
+}
+
+// Rebuild a basis saved with CodeBasis.to_dict (unknown keys are refused).
+export function basisFromDict(data) {
+  const { name = EC6_UK, ...rest } = data;
+  return basisNamed(name, rest);
+}
+
+function coerce(overrides) {
+  const out = {};
+  for (const [key, value] of Object.entries(overrides)) {
+    if (!KNOWN.has(key) || key === "name") {
+      throw new InputError(`basis.${key}`, value, "a known code-basis value", "unknown-field");
+    }
+    if (TABLE_FIELDS.includes(key) && value !== null && typeof value === "object") {
+      const rows = Array.isArray(value) ? value : Object.entries(value);
+      out[key] = Object.fromEntries(rows.map(([k, v]) => [String(k), Number(v)]));
+    } else if (key === "bearing_type_factors") {
+      out[key] = Array.from(value, Number);
+    } else {
+      out[key] = value;
+    }
+  }
+  return out;
+}
+
+// Where each default comes from, for the screens and the site record.
+export const SOURCES = {
+  gamma_c: "1.5, EN 1992-1-1 Table 2.1N, persistent situations [S]",
+  alpha_cc: "0.85, UK NA to EN 1992-1-1 (EN recommends 1.0) [S]",
+  plb_limit_factor: "3.0, EN 1992-1-1 6.7 eqn 6.63 [S]",
+  padstone_spread_deg: "45° dispersion through the padstone [CP]",
+  k_values: "EN 1996-1-1 Table 3.3 / UK NA Table NA.4 [M]: confirm against the NA",
+  f_b_max: "75 N/mm², EN 1996-1-1 3.6.1.2 [M]",
+  f_m_max: "min(20, 2 f_b) N/mm², EN 1996-1-1 3.6.1.2 [M]",
+  gamma_M_ec6: "UK NA to EN 1996-1-1 Table NA.1 [M]",
+  masonry_spread_deg: "60° (EC6 6.1.3) [P] or 45° (BS 5628-1) [P]",
+  beta_area_ratio_cap: "A_b/A_ef ≤ 0.45, EN 1996-1-1 6.1.3 [M]",
+  spreader_min_depth: "> 200 mm, EN 1996-1-1 6.1.3 [M]",
+  spreader_length_factor: "> 3 × bearing length, EN 1996-1-1 6.1.3 [M]",
+  spreader_stress_factor: "1.5 f_d, EN 1996-1-1 6.1.3 [M]",
+  spreader_route_for_groups_2_to_4: "off: spreader route for Group 1 only [ours, cautious]",
+  max_eccentricity_ratio: "t/4, EN 1996-1-1 6.1.3 [M]",
+  k_E: "E = 1000 f_k, EN 1996-1-1 3.7.2 [M]",
+  e_mk_min_ratio: "e_mk ≥ 0.05 t, EN 1996-1-1 6.1.2.2 [M]",
+  e_init_divisor: "e_init = h_ef/450, EN 1996-1-1 5.5.1.1 [M]",
+  gamma_m_bs: "BS 5628-1:1992 Table 4 [S]",
+  bearing_type_factors: "1.25 / 1.5 / 2.0, BS 5628-1 clause 34 [P]",
+  dispersion_depth_ratio: "0.4 h below the bearing, BS 5628-1 clause 34 [P]",
+  bs_min_eccentricity_ratio: "e_x ≥ 0.05 t, BS 5628-1 Annex B [M]",
+  slenderness_limit: "h_ef/t_ef ≤ 27, EN 1996-1-1 5.5.1.4 and BS 5628-1 [M]",
+  min_bearing_beam: "100 mm steel bearing, NHBC Standards 6.5.5 [S]",
+  min_bearing_lintel: "150 mm lintel end bearing [CP]",
+  inline_flange_allowance: "flange ≤ t + 50 mm, NHBC Standards 6.5.5 [S]",
+  inline_padstone_min_length: "padstone ≥ 200 mm long, NHBC Standards 6.5.5 [S]",
+  inline_web_tolerance: "web within 10 mm of the wall's centre line [ours]",
+};

@@ -1,0 +1,156 @@
+// Mirrors sitecheck/bearing/remedy.py: for a bearing that fails, the smallest standard
+// padstone that passes, and the shortest bearing length that passes. A hint for the
+// engineer, never an instruction.
+//
+// remedy() returns the plain object Remedy.as_dict() writes; smallestPadstone and
+// shortestBearing return [value, utilisation] pairs as Python's tuples, [null, null] when
+// nothing passes.
+
+import { InputError } from "./errors.js";
+import { layout } from "./geometry.js";
+import { ACROSS } from "./inputs.js";
+import { checkBearing } from "./recheck.js";
+
+// Common precast padstone sizes, L × B × h in mm (merchant listings [P], [CP]).
+export const STANDARD_PADSTONES = [
+  [215.0, 140.0, 100.0],
+  [440.0, 215.0, 100.0],
+  [440.0, 215.0, 140.0],
+  [440.0, 215.0, 215.0],
+];
+export const STANDARD_CLASSES = ["C20/25", "C25/30", "C30/37", "C40/50"];
+
+export function remedy(
+  inp,
+  basis,
+  sizes = STANDARD_PADSTONES,
+  classes = STANDARD_CLASSES,
+  step = 5.0,
+) {
+  const [pad, padU] = smallestPadstone(inp, basis, sizes, classes);
+  const [length, lengthU] = shortestBearing(inp, basis, step);
+  return {
+    padstone:
+      pad === null
+        ? null
+        : { length: pad.length, width: pad.width, depth: pad.depth, concrete: pad.concrete },
+    padstone_utilisation: padU,
+    bearing_length: length,
+    bearing_utilisation: lengthU,
+  };
+}
+
+// itertools.permutations of three, in its order.
+function permutations([a, b, c]) {
+  return [
+    [a, b, c],
+    [a, c, b],
+    [b, a, c],
+    [b, c, a],
+    [c, a, b],
+    [c, b, a],
+  ];
+}
+
+// Each standard size in every way it can be laid whose width fits the wall and that holds
+// the beam's footprint; smallest volume first, then shallowest.
+function placements(inp, sizes) {
+  const t = inp.wall.thickness;
+  const beam = inp.beam;
+  const across = beam.orientation === ACROSS;
+  const footAlong = across ? beam.flange_width : beam.bearing_length;
+  const footAcross = across ? beam.bearing_length : beam.flange_width;
+  const seen = new Map();
+  for (const size of sizes) {
+    for (const [L, B, h] of permutations(size)) {
+      const key = `${L}|${B}|${h}`;
+      if (B > t || L < footAlong || B < footAcross || seen.has(key)) continue;
+      seen.set(key, [L, B, h]);
+    }
+  }
+  const order = (d) => [d[0] * d[1] * d[2], d[2], d[0]];
+  return [...seen.values()].sort((p, q) => {
+    const [x, y] = [order(p), order(q)];
+    for (let i = 0; i < x.length; i += 1) if (x[i] !== y[i]) return x[i] < y[i] ? -1 : 1;
+    return 0;
+  });
+}
+
+// The bearing with a new padstone placed as the old one was: centred under a beam across the
+// wall, against the span end for a beam in line with it. null if it will not fit between the
+// wall's ends.
+function withPadstone(inp, L, B, h, concrete) {
+  const wall = inp.wall;
+  const old = layout(inp);
+  const a1Old = wall.a1 ?? null;
+  const a2Old = wall.a2 ?? null;
+  let a1;
+  let a2;
+  if (inp.beam.orientation === ACROSS) {
+    const grow = (L - old.length) / 2 + (old.length / 2 - (old.x0 + old.x1) / 2);
+    const shrinkFar = L - old.length - grow;
+    a1 = a1Old === null ? null : a1Old - grow;
+    a2 = a2Old === null ? null : a2Old - shrinkFar;
+  } else {
+    a1 = inp.padstone != null ? a1Old : a1Old === null ? null : a1Old + old.x0;
+    a2 = a2Old === null ? null : a2Old - (L - old.length);
+  }
+  if ((a1 !== null && a1 < 0) || (a2 !== null && a2 < 0)) return null;
+  const pad = { length: L, width: B, depth: h, concrete, f_ck: null, precast: true };
+  return {
+    ...inp,
+    padstone: pad,
+    beam: { ...inp.beam, offset_along: null },
+    wall: { ...wall, a1, a2 },
+  };
+}
+
+// A re-check, or null where the core refuses the candidate (as Python skips an InputError).
+function passingUtilisation(candidate, basis) {
+  let result;
+  try {
+    result = checkBearing(candidate, basis);
+  } catch (error) {
+    if (error instanceof InputError) return null;
+    throw error;
+  }
+  return result.passed ? result.utilisation : null;
+}
+
+export function smallestPadstone(
+  inp,
+  basis,
+  sizes = STANDARD_PADSTONES,
+  classes = STANDARD_CLASSES,
+) {
+  for (const [L, B, h] of placements(inp, sizes)) {
+    for (const concrete of classes) {
+      const candidate = withPadstone(inp, L, B, h, concrete);
+      if (candidate === null) continue;
+      const u = passingUtilisation(candidate, basis);
+      if (u !== null) return [candidate.padstone, u];
+    }
+  }
+  return [null, null];
+}
+
+// The shortest bearing, from the present one up in `step` mm, that passes.
+export function shortestBearing(inp, basis, step = 5.0) {
+  const beam = inp.beam;
+  const pad = inp.padstone ?? null;
+  let room;
+  if (pad !== null) room = beam.orientation === ACROSS ? pad.width : pad.length;
+  else room = beam.orientation === ACROSS ? inp.wall.thickness : 1000.0;
+  // A remedy lengthens the bearing: start from what is there (or the trade's minimum).
+  // Shorter bearings can pass only through a step in the rules (a padstone becoming a
+  // spreader once it is over 3 × the bearing long), which is no advice to give on site.
+  const least = beam.member === "lintel" ? basis.min_bearing_lintel : basis.min_bearing_beam;
+  let length = beam.bearing_length > least ? beam.bearing_length : least; // Python's max()
+  while (length <= room + 1e-9) {
+    const candidate = { ...inp, beam: { ...beam, bearing_length: length } };
+    const u = passingUtilisation(candidate, basis);
+    if (u !== null) return [length, u];
+    length += step;
+  }
+  return [null, null];
+}

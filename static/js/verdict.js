@@ -1,0 +1,256 @@
+// The provisional verdict beside the as-built form: the phone's mirror of the core re-checks
+// the bearing as each value is typed, with or without signal. The server's re-check stays
+// the authority: what is shown here is marked provisional, and the verdict it showed is
+// sent with the record so the server can report any difference as an event.
+//
+// attachVerdict(form, panel, context) works on any form whose fields carry the as-built
+// record's names (the online form and the offline site page both do); context holds the
+// bearing's design input, the site's code basis and review settings.
+
+import { recheckRecord } from "./bearing/record.js";
+
+export const MEASUREMENT_FIELDS = [
+  "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
+  "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete", "wall_thickness",
+  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar",
+];
+export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
+const TRI_STATE = new Set(["padstone_present", "bedded", "cracks", "cut_units", "level"]);
+const TEXT = new Set(["padstone_concrete", "masonry_material", "mortar"]);
+// The server's rule for typed numbers (sitecheck/web/record_form.py NumberField): spaces
+// dropped, a lone decimal comma read as a point, plain decimal digits only.
+const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
+
+export function parseNumber(raw) {
+  let text = String(raw ?? "").trim();
+  if (!text) return { value: null };
+  text = text.replaceAll(" ", "");
+  if (text.includes(",") && !text.includes(".") && text.split(",").length === 2) {
+    text = text.replace(",", ".");
+  }
+  const value = Number(text);
+  if (text.length > 24 || !NUMBER.test(text) || !Number.isFinite(value)) {
+    return { value: null, error: `“${String(raw).trim().slice(0, 40)}” is not a number` };
+  }
+  return { value };
+}
+
+function valueOf(form, name) {
+  const field = form.elements.namedItem(name);
+  if (!field) return "";
+  // A RadioNodeList's value is the checked radio's, "" when none is.
+  return field.value ?? "";
+}
+
+/** The measurements and checklist the form holds now, as the server would read them, and
+ * the fields whose text is not a number (left out, as the server leaves them out). */
+export function readForm(form) {
+  const measurements = {};
+  const checklist = {};
+  const unreadable = [];
+  const put = (target, name) => {
+    const raw = valueOf(form, name);
+    if (TRI_STATE.has(name)) {
+      if (raw === "yes") target[name] = true;
+      else if (raw === "no") target[name] = false;
+    } else if (name === "masonry_group") {
+      if (raw) target[name] = Number.parseInt(raw, 10);
+    } else if (TEXT.has(name)) {
+      const text = String(raw).trim();
+      if (text) target[name] = text;
+    } else {
+      const parsed = parseNumber(raw);
+      if (parsed.error) unreadable.push({ name, message: parsed.error });
+      else if (parsed.value !== null) target[name] = parsed.value;
+    }
+  };
+  for (const name of MEASUREMENT_FIELDS) put(measurements, name);
+  for (const name of CHECKLIST_FIELDS) put(checklist, name);
+  return { measurements, checklist, unreadable };
+}
+
+function el(tag, attrs = {}, ...children) {
+  const node = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs)) {
+    if (k === "class") node.className = v;
+    else node.setAttribute(k, v);
+  }
+  node.append(...children.filter((c) => c !== null && c !== undefined));
+  return node;
+}
+
+// Python's "%.4g" (the server's trace tables use it), so both screens show the same digits.
+export function g4(x) {
+  if (x === null || x === undefined) return "—";
+  if (typeof x !== "number") return String(x);
+  if (!Number.isFinite(x)) return x > 0 ? "inf" : x < 0 ? "-inf" : "nan";
+  if (x === 0) return Object.is(x, -0) ? "-0" : "0";
+  const exponent = Number(x.toExponential(3).split("e")[1]);
+  if (exponent < -4 || exponent >= 4) {
+    const [mantissa, exp] = x.toExponential(3).split("e");
+    const trimmed = mantissa.includes(".") ? mantissa.replace(/\.?0+$/, "") : mantissa;
+    const sign = exp.startsWith("-") ? "-" : "+";
+    const digits = exp.replace(/^[+-]/, "").padStart(2, "0");
+    return `${trimmed}e${sign}${digits}`;
+  }
+  const fixed = x.toFixed(Math.max(0, 3 - exponent));
+  return fixed.includes(".") ? fixed.replace(/\.?0+$/, "") : fixed;
+}
+
+export function utilisationText(u) {
+  return u === null || u === undefined || !Number.isFinite(u) ? "no capacity" : u.toFixed(2);
+}
+
+function checkTitle(result, code) {
+  const found = result.checks.find((c) => c.code === code);
+  return found ? found.title : code;
+}
+
+function stepsTable(steps) {
+  const body = el("tbody");
+  for (const s of steps) {
+    const inputs = s.inputs.length
+      ? el("span", { class: "muted" }, s.inputs
+        .map(([sym, v, unit]) => `${sym} = ${typeof v === "string" ? v : g4(v)} ${unit}`)
+        .join("; "))
+      : null;
+    body.append(el("tr", {},
+      el("td", {}, s.label),
+      el("td", {}, el("code", {}, `${s.symbol} = ${s.formula}`), inputs ? el("br") : null, inputs),
+      el("td", { class: "num" }, el("strong", {}, g4(s.value)), ` ${s.unit}`),
+      el("td", { class: "clause" }, `${s.clause} [${s.source}]`)));
+  }
+  return el("div", { class: "scroll" }, el("table", {}, body));
+}
+
+/** The full calculation, as the server's pages show it, for showing the contractor why. */
+export function traceDetails(result) {
+  const details = el("details", { class: "trace", "data-phone-trace": "" },
+    el("summary", {}, `Full calculation (${result.basis})`));
+  for (const note of result.notes) details.append(el("p", { class: "muted" }, note));
+  details.append(el("h3", {}, "Materials"), stepsTable(result.strengths.steps));
+  for (const c of result.checks) {
+    details.append(el("h3", {}, `${c.title} — ${utilisationText(c.utilisation)} ${c.passed ? "✓" : "✗"}`));
+    for (const note of c.notes) details.append(el("p", { class: "muted" }, note));
+    details.append(stepsTable(c.steps));
+  }
+  details.append(el("p", { class: "muted" },
+    "Source labels: S seen in a published source · P partly seen · M from memory, confirm " +
+    "against the standard · CP common practice · ours: a choice of this tool."));
+  return details;
+}
+
+function reasonList(reasons) {
+  if (!reasons.length) return el("p", { class: "muted" }, "No review reasons.");
+  return el("ul", { class: "reasons" }, ...reasons.map((r) => el("li",
+    { class: r.severity, "data-code": r.code },
+    el("strong", {}, r.severity === "blocks" ? "Blocks release:" : "Note:"),
+    ` ${r.sentence} `, el("span", { class: "muted" }, `(${r.code})`))));
+}
+
+/** What the mirror says about the form's values now: the outcome object the panel shows
+ * and the verdict sent with the record. Pure apart from the clock. */
+export function provisionalOutcome(context, measurements, checklist) {
+  const started = performance.now();
+  const outcome = recheckRecord(
+    context.design, measurements, checklist, context.basis, context.settings,
+  );
+  return { outcome, ms: performance.now() - started };
+}
+
+export function verdictOf(outcome) {
+  if (!outcome.result) return null;
+  const result = outcome.result;
+  return {
+    engine: "phone mirror",
+    passed: result.passed,
+    governing: result.governing,
+    utilisation: result.utilisation,
+    reasons: outcome.reasons.map((r) => r.code),
+    blocking: outcome.blocking,
+  };
+}
+
+function renderBar(bar, outcome) {
+  if (!bar) return;
+  if (outcome.error) {
+    bar.textContent = "Provisional: ✗ cannot re-check yet (see below)";
+    bar.dataset.verdict = "cannot";
+    return;
+  }
+  const result = outcome.result;
+  const ok = result.passed && !outcome.blocking;
+  const word = ok ? "✓ within design" : !result.passed ? "✗ fails as built" : "? needs the engineer";
+  bar.textContent = `Provisional: ${word} · utilisation ${utilisationText(result.utilisation)}`;
+  bar.dataset.verdict = ok ? "pass" : "review";
+  bar.hidden = false;
+}
+
+function render(panel, outcome, unreadable, ms) {
+  const parts = [el("p", { class: "provisional-label" },
+    el("strong", {}, "Provisional"),
+    " — worked out on this phone from the values above; the server's re-check confirms it when the record is sent.")];
+  if (outcome.error) {
+    const e = outcome.error;
+    parts.push(el("p", { class: "verdict fail", role: "status", "data-verdict": "cannot" },
+      `✗ Cannot re-check yet: ${e.message || `${e.field}: expected ${e.expected}`}`));
+  } else {
+    const result = outcome.result;
+    const ok = result.passed && !outcome.blocking;
+    const word = ok ? "✓ Within design" : !result.passed ? "✗ Fails as built" : "? Needs the engineer";
+    parts.push(el("p", { class: `verdict ${ok ? "pass" : "fail"}`, role: "status", "data-verdict": ok ? "pass" : "review" },
+      `${word} — governing: ${checkTitle(result, result.governing)}, utilisation ${utilisationText(result.utilisation)}`));
+    parts.push(el("h3", {}, "Review reasons"), reasonList(outcome.reasons));
+    parts.push(traceDetails(result));
+  }
+  for (const u of unreadable) {
+    parts.push(el("p", { class: "field-error" }, `✗ ${u.label}: ${u.message}; left out until it is a number.`));
+  }
+  panel.replaceChildren(...parts);
+  panel.dataset.ms = ms.toFixed(2);
+}
+
+/** Re-check on every change of the form and keep the panel and the hidden verdict field
+ * up to date. Returns a function that runs it now (for tests and for a form filled by code). */
+export function attachVerdict(form, panel, context, bar = null) {
+  const hidden = form.elements.namedItem("provisional");
+  const labels = {};
+  for (const label of form.querySelectorAll("label[for], legend")) {
+    const name = label.getAttribute("for") || label.closest("fieldset")?.id?.replace(/^field-/, "");
+    if (name && !labels[name]) labels[name] = label.textContent.replace(/\s+/g, " ").replace(/ needed$/, "").trim();
+  }
+  const update = () => {
+    const { measurements, checklist, unreadable } = readForm(form);
+    let outcome;
+    let ms = 0;
+    try {
+      ({ outcome, ms } = provisionalOutcome(context, measurements, checklist));
+    } catch (error) {
+      // A fault in the mirror must never stop the inspector recording: say so and carry on.
+      console.error("sitecheck: the phone's re-check failed:", error);
+      panel.replaceChildren(el("p", { class: "muted" },
+        "The phone could not work out a verdict for these values; the server will when the record is sent."));
+      if (hidden) hidden.value = JSON.stringify({ engine: "phone mirror", failed: String(error).slice(0, 200) });
+      return null;
+    }
+    render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || u.name })), ms);
+    renderBar(bar, outcome);
+    const verdict = verdictOf(outcome);
+    if (hidden) hidden.value = verdict ? JSON.stringify(verdict) : "";
+    panel.dataset.verdictReady = "1";
+    return { outcome, verdict, ms };
+  };
+  form.addEventListener("input", update);
+  form.addEventListener("change", update);
+  update();
+  return update;
+}
+
+// On the online as-built form the context is in the page; the offline page attaches itself.
+const contextNode = document.getElementById("verdict-context");
+if (contextNode) {
+  const form = document.querySelector("form.record-form");
+  const panel = document.querySelector("[data-provisional-verdict]");
+  const bar = document.querySelector("[data-verdict-bar]");
+  if (form && panel) attachVerdict(form, panel, JSON.parse(contextNode.textContent), bar);
+}

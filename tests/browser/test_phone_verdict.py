@@ -1,0 +1,98 @@
+"""The verdict as the inspector types: the phone's mirror of the core re-checks the bearing
+on the as-built form, marked provisional, and the server's re-check confirms it.
+
+The demo bearing GF-B1-E is designed with a 440 x 215 x 140 mm padstone (invented demo
+data); a 300 mm padstone as built is outside the site's tolerance and goes to the engineer.
+"""
+
+from __future__ import annotations
+
+import json
+
+from playwright.sync_api import Page, expect
+
+from phone import log_in, open_site
+from sitecheck import services, store
+from sitecheck.demo import SITE_NAME
+
+REFERENCE = "GF-B1-E"
+
+
+def _open_form(page: Page, live_server) -> dict:
+    db = store.open_db(live_server.db_path)
+    site = store.sites_named(db, SITE_NAME)[0]
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference=REFERENCE)
+    page.goto(f"/sites/{site['id']}/bearings/{bearing['id']}/record")
+    expect(page.locator("[data-provisional-verdict]")).to_have_attribute("data-verdict-ready", "1")
+    return {"db": db, "site": site, "bearing": bearing}
+
+
+def _fill_as_designed(page: Page, bearing: dict) -> None:
+    d = bearing["design_input"]
+    page.fill("#bearing_length", f"{d['beam']['bearing_length']:g}")
+    page.check("input[name=padstone_present][value=yes]")
+    page.fill("#padstone_length", f"{d['padstone']['length']:g}")
+    page.fill("#padstone_width", f"{d['padstone']['width']:g}")
+    page.fill("#padstone_depth", f"{d['padstone']['depth']:g}")
+    page.fill("#wall_thickness", f"{d['wall']['thickness']:g}")
+    if d["wall"]["a1"] is not None:
+        page.fill("#a1", f"{d['wall']['a1']:g}")
+    page.select_option("#masonry_group", str(d["masonry"]["group"]))
+    page.fill("#unit_strength", f"{d['masonry']['unit_strength']:g}")
+    for name in ("bedded", "level"):
+        page.check(f"input[name={name}][value=yes]")
+    for name in ("cracks", "cut_units"):
+        page.check(f"input[name={name}][value=no]")
+    page.fill("#packing", "0")
+
+
+def test_the_verdict_follows_the_typed_values_and_the_server_agrees(page: Page, live_server, shoot):
+    log_in(page, "inspector")
+    open_site(page, SITE_NAME)
+    ctx = _open_form(page, live_server)
+    panel = page.locator("[data-provisional-verdict]")
+    expect(panel).to_contain_text("Provisional")
+
+    _fill_as_designed(page, ctx["bearing"])
+    expect(panel.locator(".verdict")).to_have_attribute("data-verdict", "pass")
+    expect(panel.locator(".verdict")).to_contain_text("Within design")
+    expect(page.locator("[data-verdict-bar]")).to_contain_text("within design")
+
+    page.fill("#padstone_length", "300")
+    expect(panel.locator(".verdict")).to_have_attribute("data-verdict", "review")
+    expect(panel.locator("[data-code=padstone-length-off]")).to_contain_text(
+        "Padstone length is 300 mm as built against 440 mm designed"
+    )
+    # The trace is there to show the contractor why: every check with its clause.
+    panel.locator("[data-phone-trace] summary").tap()
+    expect(panel.locator("[data-phone-trace]")).to_contain_text("6.1.3")
+    shoot("provisional-verdict")
+
+    sent = json.loads(page.input_value("input[name=provisional]"))
+    assert "padstone-length-off" in sent["reasons"]
+    record_uuid = page.input_value("input[name=record_uuid]")
+    page.locator("form.record-form button[type=submit]").tap()
+    expect(page.locator("h2", has_text="Server's re-check")).to_be_visible()
+    expect(page.locator("[data-code=padstone-length-off]")).to_be_visible()
+
+    # The server stored what it found itself, and found what the phone showed.
+    record = store.get_record(ctx["db"], site_id=ctx["site"]["id"], uuid=record_uuid)
+    assert [r["code"] for r in record["reasons"]] == sent["reasons"]
+    assert record["passed"] == sent["passed"]
+    differed = [
+        e
+        for e in store.events_for(ctx["db"], site_id=ctx["site"]["id"])
+        if e["kind"] == services.PHONE_VERDICT_DIFFERED and record_uuid in str(e["detail"])
+    ]
+    assert differed == []
+
+
+def test_a_value_that_is_not_a_number_is_named_and_left_out(page: Page, live_server):
+    log_in(page, "inspector")
+    _open_form(page, live_server)
+    page.fill("#wall_thickness", "21o")
+    panel = page.locator("[data-provisional-verdict]")
+    expect(panel.locator(".field-error")).to_contain_text("Wall thickness")
+    expect(panel.locator(".field-error")).to_contain_text("not a number")
+    # The rest is still re-checked, with the design's value standing in.
+    expect(panel.locator(".verdict")).to_be_visible()
