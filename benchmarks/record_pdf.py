@@ -2,11 +2,17 @@
 
     .venv/bin/python benchmarks/record_pdf.py [--bearings 200] [--photos 3] [--keep DIR]
 
+    .venv/bin/python benchmarks/record_pdf.py --keep DIR --without-print-copies
+
 Builds, in a temporary folder, a site of N bearings (the demo schedule's design rows under
 new references), each with an as-built record and P generated 1600 × 1200 photos, some
 decided and released; then makes the site record in a child process and prints its wall
 time and the child's peak resident memory (the whole process: Python, fpdf2, Pillow).
-Invented data; figures are for this machine only.
+
+Uploads keep a print copy of each photo, which the PDF embeds as it is.
+``--without-print-copies`` removes them first, as for photos stored before print copies
+existed: that run makes them (and keeps them), so a second run with ``--keep`` shows the
+usual case again. Invented data; figures are for this machine only.
 """
 
 from __future__ import annotations
@@ -16,6 +22,7 @@ import dataclasses
 import io
 import random
 import resource
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -156,6 +163,11 @@ def main() -> int:
     parser.add_argument("--bearings", type=int, default=200)
     parser.add_argument("--photos", type=int, default=3)
     parser.add_argument("--keep", type=Path, default=None, help="build here and keep it")
+    parser.add_argument(
+        "--without-print-copies",
+        action="store_true",
+        help="remove the photos' print copies first (photos stored before they existed)",
+    )
     parser.add_argument("--child", nargs=3, metavar=("DB", "SITE", "OUT"), help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.child:
@@ -175,10 +187,23 @@ def main() -> int:
             site_id = build(folder, args.bearings, args.photos)
             took = time.perf_counter() - t
             print(f"built {args.bearings} bearings × {args.photos} photos in {took:.1f} s")
-        sizes = [p.stat().st_size for p in (folder / "photos").rglob("*.jpg")]
-        big = [n for n in sizes if n > 60_000]  # display pictures, not thumbnails
-        if big:
-            print(f"display photos: {len(big)}, mean {sum(big) / len(big) / 1e3:.0f} kB each")
+        photo_dir = folder / "photos"
+        if args.without_print_copies:
+            shutil.rmtree(photo_dir / "print", ignore_errors=True)
+        display = [
+            p.stat().st_size
+            for p in photo_dir.glob("??/*.jpg")
+            if p.stat().st_size > 60_000  # display pictures, not thumbnails
+        ]
+        printed = [p.stat().st_size for p in photo_dir.glob("print/??/*.jpg")]
+        if display:
+            print(
+                f"display photos: {len(display)}, mean {sum(display) / len(display) / 1e3:.0f} kB"
+            )
+        print(
+            f"print copies kept before this run: {len(printed)}"
+            + (f", mean {sum(printed) / len(printed) / 1e3:.0f} kB" if printed else "")
+        )
         out = folder / "record.pdf"
         t = time.perf_counter()
         child = subprocess.run(

@@ -10,6 +10,7 @@ from __future__ import annotations
 import csv
 import io
 from dataclasses import dataclass, field
+from decimal import Decimal, InvalidOperation
 
 from .bearing import (
     BASES,
@@ -58,10 +59,13 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     "padstone_width": ("padstone width across the wall", "mm"),
     "padstone_depth": ("padstone depth", "mm"),
     "padstone_concrete": ("concrete class, e.g. C25/30", ""),
+    "padstone_f_ck": ("declared concrete strength f_ck, if it is to override the class", "N/mm²"),
+    "padstone_precast": ("yes (precast) or no (cast in place) (empty: yes)", ""),
     "wall_thickness": ("wall (leaf) thickness t", "mm"),
     "height_to_bearing": ("height from the wall's base to the bearing h_c", "mm"),
     "clear_height": ("clear height h (empty: h_c)", "mm"),
     "effective_height": ("effective height h_ef (empty: h)", "mm"),
+    "effective_thickness": ("effective thickness t_ef (empty: t)", "mm"),
     "a1": ("from the padstone's end to the wall's end or an opening (empty: wall runs on)", "mm"),
     "a2": ("from the other end (empty: wall runs on)", "mm"),
     "unit_material": (
@@ -70,14 +74,28 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     ),
     "unit_group": ("unit group 1 to 4", ""),
     "unit_strength": ("declared mean unit strength", "N/mm²"),
+    "unit_strength_normalised": (
+        "yes if unit_strength is already the normalised f_b (empty: no)",
+        "",
+    ),
     "unit_height": ("unit height", "mm"),
     "unit_width": ("unit's least horizontal dimension", "mm"),
+    "unit_conditioning": (
+        "air-dried or water-soaked, as the units were tested (empty: air-dried)",
+        "",
+    ),
     "mortar": ("M2, M4, M6, M12 or thin-layer", ""),
+    "shell_bedded": ("yes if the units are shell bedded (empty: no)", ""),
     "f_k": ("characteristic strength, if declared (overrides the unit route)", "N/mm²"),
     "gamma_M": ("partial factor, if it is to override the basis's", ""),
     "execution_class": ("EC6 execution class 1 or 2", ""),
     "unit_category": ("EC6 unit category I or II", ""),
+    "manufacturing_control": ("BS 5628-1 manufacturing control: normal or special", ""),
+    "construction_control": ("BS 5628-1 construction control: normal or special", ""),
     "bearing_type": ("BS 5628-1 bearing type 1, 2 or 3", ""),
+    "e_mk": ("EC6 mid-height eccentricity e_mk, if given (empty: worked out)", "mm"),
+    "phi_m": ("EC6 mid-height reduction factor Φ_m, if given (empty: worked out)", ""),
+    "beta_s": ("BS 5628-1 capacity reduction factor β, if given (empty: worked out)", ""),
 }
 ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_bearing_length": ("bearing length as built", "mm"),
@@ -127,25 +145,34 @@ FIELD_TO_COLUMN = {
     "padstone.width": "padstone_width",
     "padstone.depth": "padstone_depth",
     "padstone.concrete": "padstone_concrete",
-    "padstone.f_ck": "padstone_concrete",
+    "padstone.f_ck": "padstone_f_ck",
+    "padstone.precast": "padstone_precast",
     "wall.thickness": "wall_thickness",
     "wall.height_to_bearing": "height_to_bearing",
     "wall.clear_height": "clear_height",
     "wall.effective_height": "effective_height",
-    "wall.effective_thickness": "wall_thickness",
+    "wall.effective_thickness": "effective_thickness",
     "wall.a1": "a1",
     "wall.a2": "a2",
     "masonry.material": "unit_material",
     "masonry.group": "unit_group",
     "masonry.unit_strength": "unit_strength",
+    "masonry.unit_strength_is_normalised": "unit_strength_normalised",
     "masonry.unit_height": "unit_height",
     "masonry.unit_width": "unit_width",
+    "masonry.conditioning": "unit_conditioning",
     "masonry.mortar": "mortar",
+    "masonry.shell_bedded": "shell_bedded",
     "masonry.f_k": "f_k",
     "masonry.gamma_M": "gamma_M",
     "masonry.execution_class": "execution_class",
     "masonry.unit_category": "unit_category",
+    "masonry.manufacturing_control": "manufacturing_control",
+    "masonry.construction_control": "construction_control",
     "bearing_type": "bearing_type",
+    "e_mk": "e_mk",
+    "phi_m": "phi_m",
+    "beta_s": "beta_s",
 }
 _ASBUILT_FIELD_TO_COLUMN = {
     "beam.flange_width": "asbuilt_flange_width",
@@ -261,21 +288,37 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             length=_num(c, "padstone_length", required=True),
             width=_num(c, "padstone_width", required=True),
             depth=_num(c, "padstone_depth", required=True),
-            concrete=c.get("padstone_concrete") or "C25/30",
+            **_given(
+                concrete=c.get("padstone_concrete") or None,
+                f_ck=_num(c, "padstone_f_ck"),
+                precast=_yes_no(c, "padstone_precast"),
+            ),
         )
+    else:
+        for column in ("padstone_f_ck", "padstone_precast"):
+            if c.get(column):
+                raise _RowProblem(
+                    column,
+                    c[column],
+                    "empty, as the row has no padstone (padstone_length, padstone_width and "
+                    "padstone_depth are empty); or give the padstone's size",
+                )
+    # An empty cell leaves the core's own default, so the defaults live in one place.
     design = BearingInput(
         load=Load(
-            reaction=_num(c, "reaction_kN", required=True) * 1000.0,
-            wall_load=_num(c, "wall_load_kN_per_m") or 0.0,
+            reaction=_kilo(c, "reaction_kN", required=True),
+            **_given(wall_load=_num(c, "wall_load_kN_per_m")),
         ),
         beam=Beam(
             flange_width=_num(c, "flange_width", required=True),
             bearing_length=_num(c, "bearing_length", required=True),
-            orientation=c.get("orientation") or "across",
-            member=c.get("member") or "beam",
-            offset_along=_num(c, "offset_along"),
-            offset_across=_num(c, "offset_across"),
-            reaction_at=c.get("reaction_at") or "centroid",
+            **_given(
+                orientation=c.get("orientation") or None,
+                member=c.get("member") or None,
+                offset_along=_num(c, "offset_along"),
+                offset_across=_num(c, "offset_across"),
+                reaction_at=c.get("reaction_at") or None,
+            ),
         ),
         wall=Wall(
             thickness=_num(c, "wall_thickness", required=True),
@@ -284,21 +327,34 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             a2=_num(c, "a2"),
             clear_height=_num(c, "clear_height"),
             effective_height=_num(c, "effective_height"),
+            effective_thickness=_num(c, "effective_thickness"),
         ),
         masonry=Masonry(
-            material=c.get("unit_material") or "aggregate concrete",
-            group=_int(c, "unit_group") or 1,
-            unit_strength=_num(c, "unit_strength"),
-            unit_height=_num(c, "unit_height"),
-            unit_width=_num(c, "unit_width"),
-            mortar=c.get("mortar") or "M4",
-            f_k=_num(c, "f_k"),
-            gamma_M=_num(c, "gamma_M"),
-            execution_class=_int(c, "execution_class") or 2,
-            unit_category=c.get("unit_category") or "I",
+            **_given(
+                material=c.get("unit_material") or None,
+                group=_int(c, "unit_group"),
+                unit_strength=_num(c, "unit_strength"),
+                unit_strength_is_normalised=_yes_no(c, "unit_strength_normalised"),
+                unit_height=_num(c, "unit_height"),
+                unit_width=_num(c, "unit_width"),
+                conditioning=c.get("unit_conditioning") or None,
+                mortar=c.get("mortar") or None,
+                f_k=_num(c, "f_k"),
+                shell_bedded=_yes_no(c, "shell_bedded"),
+                unit_category=c.get("unit_category") or None,
+                execution_class=_int(c, "execution_class"),
+                manufacturing_control=c.get("manufacturing_control") or None,
+                construction_control=c.get("construction_control") or None,
+                gamma_M=_num(c, "gamma_M"),
+            )
         ),
         padstone=pad,
-        bearing_type=_int(c, "bearing_type") or 1,
+        **_given(
+            bearing_type=_int(c, "bearing_type"),
+            e_mk=_num(c, "e_mk"),
+            phi_m=_num(c, "phi_m"),
+            beta_s=_num(c, "beta_s"),
+        ),
     )
     measurements = checklist = None
     if any(c.get(k) for k in ASBUILT_COLUMNS):
@@ -333,6 +389,16 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
     )
 
 
+def _given(**values):
+    """The values a row gives; an empty cell (None) is left out for the default to apply."""
+    return {k: v for k, v in values.items() if v is not None}
+
+
+def _number_text(text: str) -> str:
+    # "1,234.5": a thousands separator. A lone comma is not taken for a decimal point.
+    return text.replace(",", "") if text.count(",") and "." in text else text
+
+
 def _num(c: dict[str, str], column: str, required: bool = False) -> float | None:
     text = c.get(column, "")
     if text == "":
@@ -340,7 +406,7 @@ def _num(c: dict[str, str], column: str, required: bool = False) -> float | None
             raise _RowProblem(column, "", "a value is required")
         return None
     try:
-        value = float(text.replace(",", "") if text.count(",") and "." in text else text)
+        value = float(_number_text(text))
     except ValueError:
         raise _RowProblem(
             column, text, "a number" + (f" in {COLUMNS[column][1]}" if COLUMNS[column][1] else "")
@@ -348,6 +414,18 @@ def _num(c: dict[str, str], column: str, required: bool = False) -> float | None
     if value != value or value in (float("inf"), float("-inf")):
         raise _RowProblem(column, text, "a finite number")
     return value
+
+
+def _kilo(c: dict[str, str], column: str, required: bool = False) -> float | None:
+    """A kN cell in N. The decimal point is moved, not the float multiplied by 1000, so a
+    value the export wrote with every digit reads back as exactly the N it came from."""
+    value = _num(c, column, required)
+    if value is None:
+        return None
+    try:
+        return float(Decimal(_number_text(c[column])).scaleb(3))
+    except (InvalidOperation, ValueError):
+        return value * 1000.0
 
 
 def _int(c: dict[str, str], column: str) -> int | None:

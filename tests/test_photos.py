@@ -43,6 +43,8 @@ from sitecheck.photos import (
     PhotoRejected,
     PhotoStore,
     ingest_photo,
+    make_print_copy,
+    print_copy,
     stamp_caption,
 )
 
@@ -477,6 +479,118 @@ def test_thumbnail_may_not_exceed_display():
         PhotoLimits(display_long_edge=300, thumbnail_long_edge=320)
 
 
+@pytest.mark.parametrize("value", [0, -5, 2.5, True, "448"])
+def test_print_size_must_be_a_positive_whole_number(value):
+    with pytest.raises(ValueError, match="PhotoLimits.print_long_edge"):
+        PhotoLimits(print_long_edge=value)
+
+
+def test_print_copy_may_not_exceed_display():
+    with pytest.raises(ValueError, match="print_long_edge must not exceed display_long_edge"):
+        PhotoLimits(display_long_edge=400, thumbnail_long_edge=200, print_long_edge=448)
+
+
+# --- the print copy -----------------------------------------------------------------------
+
+
+def test_upload_makes_a_print_copy_for_the_record(big):
+    assert (big.print_width, big.print_height) == (448, 336)  # 4000 x 3000 at the long edge
+    with Image.open(io.BytesIO(big.print_jpeg)) as image:
+        assert image.format == "JPEG" and image.mode == "RGB"
+        assert image.size == (448, 336)
+        assert close_to(image.getpixel((50, 168)), RED)  # still upright and in its colours
+        assert close_to(image.getpixel((400, 168)), BLUE)
+    assert_no_metadata(big.print_jpeg)
+    assert len(big.print_jpeg) < big.display_bytes / 4
+
+
+def test_upright_photo_print_copy_is_wide_enough_for_the_pdf_at_150_dpi():
+    from sitecheck.report.pdf import PHOTO_WIDTH_MM
+
+    upright = ingest_photo(make_test_jpeg(3000, 4000))
+    assert (upright.print_width, upright.print_height) == (336, 448)
+    dpi = upright.print_width / (PHOTO_WIDTH_MM / 25.4)
+    assert dpi >= 150  # 150 dpi: a usual target for photos in a printed report (common practice)
+
+
+def test_a_small_photo_prints_as_its_display_file():
+    small = ingest_photo(make_test_jpeg(400, 300))
+    assert small.print_jpeg == small.display_jpeg
+    assert (small.print_width, small.print_height) == (400, 300)
+
+
+def test_print_copy_is_kept_under_the_photos_hash_and_deleted_with_it(tmp_path, big):
+    store = PhotoStore(tmp_path)
+    sha = store.put(big.display_jpeg)
+    store.put_print(sha, big.print_jpeg)
+    assert store.print_path_for(sha) == tmp_path / "print" / sha[:2] / f"{sha}.jpg"
+    assert store.open_print(sha) == big.print_jpeg
+    first = store.print_path_for(sha).stat()
+    store.put_print(sha, big.print_jpeg)  # the same again writes nothing
+    assert store.print_path_for(sha).stat().st_mtime_ns == first.st_mtime_ns
+    assert list(store.iter_shas()) == [sha]  # print copies are not photos of their own
+    assert store.delete(sha) is True
+    with pytest.raises(FileNotFoundError):
+        store.open_print(sha)
+
+
+@pytest.mark.parametrize("bad", ["../" + "a" * 61, "A" * 64, "print", None])
+def test_print_copy_paths_refuse_anything_but_a_sha256(tmp_path, bad):
+    store = PhotoStore(tmp_path)
+    with pytest.raises(ValueError, match="64 lowercase hex digits"):
+        store.print_path_for(bad)
+    with pytest.raises(ValueError):
+        store.put_print(bad, b"\xff\xd8 picture \xff\xd9")
+
+
+def test_a_photo_stored_before_print_copies_gets_one_when_needed_and_keeps_it(
+    tmp_path, big, monkeypatch
+):
+    store = PhotoStore(tmp_path)
+    sha = store.put(big.display_jpeg)  # as stored before print copies existed
+    made = print_copy(store, sha)
+    with Image.open(io.BytesIO(made)) as image:
+        assert image.format == "JPEG" and image.size == (448, 336)
+    assert store.open_print(sha) == made
+
+    def must_not_decode(*args, **kwargs):
+        raise AssertionError("a kept print copy must not be made again")
+
+    monkeypatch.setattr(photos.printcopy, "decode_photo", must_not_decode)
+    assert print_copy(store, sha) == made
+
+
+def test_a_print_copy_cut_short_is_made_again(tmp_path, big):
+    store = PhotoStore(tmp_path)
+    sha = store.put(big.display_jpeg)
+    store.put_print(sha, big.print_jpeg[: len(big.print_jpeg) // 2])
+    again = print_copy(store, sha)
+    assert again.endswith(b"\xff\xd9")
+    with Image.open(io.BytesIO(again)) as image:
+        image.load()
+        assert image.size == (448, 336)
+    assert store.open_print(sha) == again
+
+
+def test_print_copy_of_a_missing_or_damaged_photo_is_refused(tmp_path, big):
+    store = PhotoStore(tmp_path)
+    with pytest.raises(FileNotFoundError):
+        print_copy(store, "a" * 64)
+    sha = store.put(big.display_jpeg[:2000])
+    with pytest.raises(PhotoRejected):
+        print_copy(store, sha)
+
+
+def test_print_copy_of_a_picture_already_small_is_the_picture(big):
+    assert make_print_copy(big.thumbnail_jpeg) == big.thumbnail_jpeg
+    # 896 px: a JPEG draft decode halves it to exactly 448 px, yet it must still be resized.
+    middling = ingest_photo(make_test_jpeg(896, 672))
+    copy = make_print_copy(middling.display_jpeg)
+    assert copy != middling.display_jpeg
+    with Image.open(io.BytesIO(copy)) as image:
+        assert image.size == (448, 336)
+
+
 # --- storage ------------------------------------------------------------------------------
 
 
@@ -565,14 +679,18 @@ def test_store_lists_deletes_and_ignores_strays(tmp_path):
 def test_stale_temporary_files_are_cleaned_but_fresh_ones_kept(tmp_path):
     store = PhotoStore(tmp_path)
     sha = store.put(b"kept photo")
+    store.put_print(sha, b"kept print copy")
     directory = store.path_for(sha).parent
     stale = directory / ".incoming-crashed.part"
+    stale_print = store.print_path_for(sha).parent / ".incoming-crashed.part"
     fresh = directory / ".incoming-writing.part"
     stale.write_bytes(b"half")
+    stale_print.write_bytes(b"half")
     fresh.write_bytes(b"half")
     os.utime(stale, (0, 0))
-    assert store.remove_stale_temp_files(older_than_seconds=600) == 1
-    assert not stale.exists()
+    os.utime(stale_print, (0, 0))
+    assert store.remove_stale_temp_files(older_than_seconds=600) == 2
+    assert not stale.exists() and not stale_print.exists()
     assert fresh.exists()
     assert store.exists(sha)
 

@@ -11,10 +11,13 @@ import csv
 import io
 import json
 import math
+import threading
 import uuid
 import xml.etree.ElementTree as ET
 import zipfile
-from datetime import UTC, datetime
+from dataclasses import MISSING, fields, replace
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
 
 import pytest
 from pypdf import PdfReader
@@ -22,13 +25,28 @@ from pypdf import PdfReader
 from bearings import across_on_padstone, brick_in_line_end
 from photo_samples import make_test_jpeg
 from sitecheck import cli, services, store
-from sitecheck.bearing import bs5628, check_bearing, ec6_uk_na
+from sitecheck.bearing import (
+    IN_LINE,
+    Beam,
+    BearingInput,
+    Load,
+    Masonry,
+    Padstone,
+    Wall,
+    bs5628,
+    check_bearing,
+    ec6_uk_na,
+)
 from sitecheck.bearing.serial import input_to_dict
+from sitecheck.demo import BRICK_WING_NAME, SITE_NAME, build_demo
+from sitecheck.demo import schedule_csv as demo_schedule_csv
 from sitecheck.photos import ingest_photo
-from sitecheck.report import export, pdf
+from sitecheck.report import export, jobs, pdf
 from sitecheck.report.collect import collect
 from sitecheck.report.drawing import FONT, PHONE_MIN_PX, bearing_svg, side_by_side_svg
+from sitecheck.schedule import parse_schedule, recheck_rows
 from sitecheck.web import photo_store
+from sitecheck.web import record as record_web
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -270,9 +288,15 @@ def _same(a, b) -> bool:
     return a == b
 
 
-def test_the_schedule_says_which_inputs_it_cannot_carry():
-    d = input_to_dict(across_on_padstone())  # normalised unit strength: no column for it
-    assert export.schedule_gaps(d) == ["masonry.unit_strength_is_normalised"]
+def test_the_schedule_says_which_inputs_would_not_come_back(monkeypatch):
+    d = input_to_dict(every_field())
+    assert export.schedule_gaps(d) == []
+    written = export.schedule_row
+    # As if the schedule had no column for shell bedding: the gap is found by reading back.
+    monkeypatch.setattr(
+        export, "schedule_row", lambda *a: written(*a) | {"shell_bedded": "", "e_mk": ""}
+    )
+    assert export.schedule_gaps(d) == ["e_mk", "masonry.shell_bedded"]
 
 
 def test_the_zip_holds_every_kind_of_row_with_the_caution(db, site, recorded):
@@ -431,3 +455,566 @@ def test_the_record_command_writes_the_pdf_with_a_progress_bar(app, db, site, tm
     assert (
         cli.main(["record", site["id"], "--db", str(tmp_path / "none.db"), "--out", str(out)]) == 2
     )
+
+
+# --- every design input through the schedule ----------------------------------------------------
+
+# The columns added so that the schedule carries every design input; a schedule written
+# before them leaves them out.
+NEWER_COLUMNS = (
+    "padstone_f_ck",
+    "padstone_precast",
+    "effective_thickness",
+    "unit_strength_normalised",
+    "unit_conditioning",
+    "shell_bedded",
+    "manufacturing_control",
+    "construction_control",
+    "e_mk",
+    "phi_m",
+    "beta_s",
+)
+
+
+def every_field(**changes) -> BearingInput:
+    """Every optional design input away from its default, in numbers that come back the same
+    only if every digit is written (invented values the core accepts on both bases)."""
+    inp = BearingInput(
+        load=Load(reaction=61_234.567890123, wall_load=0.1 + 0.2),
+        beam=Beam(
+            flange_width=146.1,
+            bearing_length=152.4,
+            offset_along=7.25,
+            offset_across=-3.1,
+            reaction_at="near-third",
+        ),
+        wall=Wall(
+            thickness=215.0,
+            height_to_bearing=2475.5,
+            a1=420.5,
+            a2=1333.3,
+            clear_height=2600.0,
+            effective_height=2210.0,
+            effective_thickness=205.0,
+        ),
+        masonry=Masonry(
+            material="calcium silicate",
+            unit_strength=17.5,
+            unit_strength_is_normalised=True,
+            unit_height=215.0,
+            unit_width=100.0,
+            conditioning="water-soaked",
+            mortar="M6",
+            f_k=4.3,
+            shell_bedded=True,
+            unit_category="II",
+            execution_class=1,
+            manufacturing_control="special",
+            construction_control="special",
+            gamma_M=2.45,
+        ),
+        padstone=Padstone(
+            length=440.0, width=215.0, depth=140.0, concrete="C30/37", f_ck=28.5, precast=False
+        ),
+        bearing_type=2,
+        e_mk=12.5,
+        phi_m=0.77,
+        beta_s=0.81,
+    )
+    return replace(inp, **changes) if changes else inp
+
+
+def in_line_lintel(**changes) -> BearingInput:
+    """The choices every_field leaves at their defaults: in line, a lintel, Group 2."""
+    inp = BearingInput(
+        load=Load(reaction=18_500.25),
+        beam=Beam(flange_width=100.0, bearing_length=150.0, orientation=IN_LINE, member="lintel"),
+        wall=Wall(thickness=100.0, height_to_bearing=2250.0, a1=0.0),
+        masonry=Masonry(
+            material="clay",
+            group=2,
+            unit_strength=25.0,
+            unit_height=65.0,
+            unit_width=102.5,
+            mortar="M4",
+        ),
+        padstone=Padstone(length=440.0, width=100.0, depth=215.0),
+    )
+    return replace(inp, **changes) if changes else inp
+
+
+ROUND_TRIP_BEARINGS = {
+    "ALL-1": every_field(),
+    "ALL-2": in_line_lintel(),
+    "ALL-3": in_line_lintel(padstone=None, wall=Wall(100.0, 2250.0, a1=300.0)),
+}
+
+
+def test_the_round_trip_bearings_set_every_optional_input_somewhere():
+    """Guards the round-trip test itself: a new input with a default fails here until one of
+    the bearings sets it."""
+    for part, cls in (
+        (None, BearingInput),
+        ("load", Load),
+        ("beam", Beam),
+        ("wall", Wall),
+        ("masonry", Masonry),
+        ("padstone", Padstone),
+    ):
+        for f in fields(cls):
+            if f.default is MISSING:
+                continue
+            values = [
+                getattr(getattr(inp, part) if part else inp, f.name)
+                for inp in ROUND_TRIP_BEARINGS.values()
+                if (getattr(inp, part) if part else inp) is not None
+            ]
+            assert any(v != f.default for v in values), f"{part}.{f.name} is never set"
+
+
+def _exactly(a: dict, b: dict) -> bool:
+    """Same keys, same values, same types: JSON writes 133 and 133.0 differently and
+    every float with all its digits."""
+    return json.dumps(a, sort_keys=True) == json.dumps(b, sort_keys=True)
+
+
+def _copy_schedule(db, site: dict, engineer_id: int) -> dict:
+    """Export the site's schedule, import it into a new site on the same basis, and return
+    the new site."""
+    text = export.schedule_csv(collect(db, site["id"]))
+    fresh = store.create_site(
+        db,
+        name=f"Copy of {site['name']}",
+        address="",
+        code_basis=site["code_basis"],
+        review_settings=site["review_settings"],
+        created_by=engineer_id,
+    )
+    report = services.import_schedule(db, site=fresh, text=text, user_id=engineer_id)
+    assert report.ok, report.errors
+    return fresh
+
+
+def _assert_same_schedule(db, site: dict, fresh: dict) -> None:
+    before = {b["reference"]: b for b in store.list_bearings(db, site_id=site["id"])}
+    after = {b["reference"]: b for b in store.list_bearings(db, site_id=fresh["id"])}
+    assert set(before) == set(after) and before
+    for ref, b in before.items():
+        assert _exactly(b["design_input"], after[ref]["design_input"]), ref
+        assert after[ref]["location"] == b["location"]
+        assert after[ref]["design_utilisation"] == b["design_utilisation"], ref
+
+
+@pytest.mark.parametrize("basis_name", ["EC6 + UK NA", "BS 5628-1"])
+def test_every_design_input_comes_back_exactly_through_the_exported_schedule(
+    db, people, basis_name
+):
+    basis, review = services.default_site_settings(basis_name)
+    site = store.create_site(
+        db,
+        name=f"Every input ({basis_name})",
+        address="",
+        code_basis=basis,
+        review_settings=review,
+        created_by=people["engineer"].id,
+    )
+    for reference, inp in ROUND_TRIP_BEARINGS.items():
+        services.add_bearing(
+            db,
+            site=site,
+            reference=reference,
+            location=f"{reference}, invented, with a comma",
+            design=inp,
+            user_id=people["engineer"].id,
+        )
+    fresh = _copy_schedule(db, store.get_site(db, site["id"]), people["engineer"].id)
+    _assert_same_schedule(db, site, fresh)
+    stored = {b["reference"]: b for b in store.list_bearings(db, site_id=fresh["id"])}
+    assert stored["ALL-1"]["design_input"] == input_to_dict(every_field())
+
+
+def test_both_demo_sites_come_back_exactly_through_the_exported_schedule(tmp_path):
+    build_demo(tmp_path / "demo.db")
+    db = store.open_db(tmp_path / "demo.db")
+    try:
+        for name in (SITE_NAME, BRICK_WING_NAME):
+            (site,) = store.sites_named(db, name)
+            fresh = _copy_schedule(db, site, site["created_by"])
+            _assert_same_schedule(db, site, fresh)
+    finally:
+        db.conn.close()
+
+
+def _without(text: str, columns) -> str:
+    rows = list(csv.DictReader(io.StringIO(text)))
+    kept = [c for c in rows[0] if c not in columns]
+    out = io.StringIO()
+    w = csv.DictWriter(out, fieldnames=kept, extrasaction="ignore", lineterminator="\n")
+    w.writeheader()
+    w.writerows(rows)
+    return out.getvalue()
+
+
+def test_a_schedule_written_before_the_newer_columns_imports_as_before():
+    full = demo_schedule_csv()
+    old = _without(full, NEWER_COLUMNS)
+    assert not set(NEWER_COLUMNS) & set(old.splitlines()[0].split(","))
+    a, b = parse_schedule(full), parse_schedule(old)
+    assert not a.errors and not b.errors and not b.unknown_columns
+    assert [r.design for r in a.rows] == [r.design for r in b.rows]
+    first = b.rows[0].design
+    # The core's defaults (sitecheck/bearing/inputs.py), not values of the schedule's own.
+    assert first.padstone.precast is True and first.padstone.f_ck is None
+    assert first.masonry.conditioning == "air-dried" and first.masonry.shell_bedded is False
+    assert first.masonry.manufacturing_control == "normal" and first.e_mk is None
+
+
+def _one_row(**cells) -> str:
+    base = {
+        "reference": "X1",
+        "reaction_kN": "40",
+        "flange_width": "133",
+        "bearing_length": "150",
+        "wall_thickness": "215",
+        "height_to_bearing": "2400",
+        "f_k": "4",
+    }
+    row = base | cells
+    return ",".join(row) + "\n" + ",".join(row.values()) + "\n"
+
+
+@pytest.mark.parametrize(
+    "cells, column, says",
+    [
+        ({"padstone_f_ck": "30"}, "padstone_f_ck", "the row has no padstone"),
+        ({"padstone_precast": "no"}, "padstone_precast", "the row has no padstone"),
+        ({"shell_bedded": "perhaps"}, "shell_bedded", "yes or no"),
+        ({"unit_strength_normalised": "2"}, "unit_strength_normalised", "yes or no"),
+        ({"e_mk": "twelve"}, "e_mk", "a number in mm"),
+    ],
+)
+def test_a_bad_value_in_a_newer_column_is_refused_by_name(cells, column, says):
+    parsed = parse_schedule(_one_row(**cells))
+    assert not parsed.rows
+    (error,) = parsed.errors
+    assert (error.row, error.column) == (2, column) and says in error.message
+
+
+@pytest.mark.parametrize(
+    "cells, column",
+    [
+        (
+            {
+                "padstone_length": "440",
+                "padstone_width": "215",
+                "padstone_depth": "140",
+                "padstone_f_ck": "200",
+            },
+            "padstone_f_ck",
+        ),
+        ({"unit_conditioning": "wet"}, "unit_conditioning"),
+        ({"manufacturing_control": "tight"}, "manufacturing_control"),
+        ({"effective_thickness": "0.2"}, "effective_thickness"),
+        ({"phi_m": "1.5"}, "phi_m"),
+    ],
+)
+def test_a_value_the_core_refuses_names_its_newer_column(cells, column):
+    parsed = parse_schedule(_one_row(**cells))
+    assert not parsed.errors
+    outcomes, errors = recheck_rows(parsed, ec6_uk_na())
+    assert not outcomes
+    assert [(e.row, e.column) for e in errors] == [(2, column)]
+
+
+def test_a_reaction_is_read_in_newtons_to_the_last_digit():
+    (row,) = parse_schedule(_one_row(reaction_kN="61.234567890123")).rows
+    assert row.design.load.reaction == 61234.567890123
+    assert export.schedule_row("X1", "", "", input_to_dict(row.design))["reaction_kN"] == (
+        "61.234567890123"
+    )
+
+
+# --- print copies in the PDF --------------------------------------------------------------------
+
+
+def _photo_rows(db, site_id: str) -> list[dict]:
+    return [
+        p
+        for r in store.records_for_site(db, site_id=site_id)
+        for p in store.photos_for_record(db, site_id=site_id, record_uuid=r["uuid"])
+    ]
+
+
+def _embedded_jpegs(data: bytes) -> list[tuple[bytes, tuple[int, int]]]:
+    """Each page's pictures: the stream as the PDF holds it, and its pixel size."""
+    reader = PdfReader(io.BytesIO(data))
+    found = []
+    for page in reader.pages:
+        xobjects = page["/Resources"].get("/XObject", {})
+        for name in xobjects:
+            stream = xobjects[name].get_object()
+            if stream["/Subtype"] == "/Image":
+                assert stream["/Filter"] == "/DCTDecode"
+                found.append((stream._data, (stream["/Width"], stream["/Height"])))
+    return found
+
+
+def test_an_upload_keeps_a_print_copy_and_the_pdf_embeds_it_as_stored(app, db, site, recorded):
+    rows = _photo_rows(db, site["id"])
+    assert len(rows) == 2
+    with app.app_context():
+        ps = photo_store()
+        kept = {ps.open_print(p["sha256"]) for p in rows}  # made when the photo came in
+        data = pdf.pdf_bytes(collect(db, site["id"]), photo_store=ps)
+    embedded = _embedded_jpegs(data)
+    assert len(embedded) == len(rows)
+    assert {d for d, _size in embedded} == kept  # byte for byte: nothing decoded or re-encoded
+    # 640 x 480 uploads print at 448 px on the long edge (PhotoLimits.print_long_edge).
+    assert {size for _d, size in embedded} == {(448, 336)}
+
+
+def test_a_photo_stored_before_print_copies_is_printed_from_one_made_then_and_kept(
+    app, db, site, recorded
+):
+    rows = _photo_rows(db, site["id"])
+    with app.app_context():
+        ps = photo_store()
+        for sha in {p["sha256"] for p in rows}:  # both records have the same picture
+            ps.print_path_for(sha).unlink()
+        data = pdf.pdf_bytes(collect(db, site["id"]), photo_store=ps)
+        kept = {ps.open_print(p["sha256"]) for p in rows}
+    embedded = _embedded_jpegs(data)
+    assert len(embedded) == len(rows) and {d for d, _s in embedded} == kept
+    assert {size for _d, size in embedded} == {(448, 336)}
+
+
+# --- the record made in the background, with its progress -----------------------------------------
+
+
+def _token(client) -> str:
+    return client.get("/api/csrf").get_json()["token"]
+
+
+def _start(client, site_id: str):
+    return client.post(f"/sites/{site_id}/record/pdf", data={"csrf_token": _token(client)})
+
+
+def _finished(app, site_id: str) -> jobs.Job:
+    record_jobs = app.extensions["record_jobs"]
+    job = record_jobs.latest(site_id)
+    assert record_jobs.wait(job.id, timeout=120), "the site record took over two minutes"
+    return record_jobs.latest(site_id)
+
+
+class HeldRecord:
+    """Stands in for the PDF maker: reports 1 of 3 bearings, then waits to be let go, so a
+    test can look at a job part way."""
+
+    def __init__(self):
+        self.reached, self.go = threading.Event(), threading.Event()
+        self.failure: Exception | None = None
+
+    def factory(self, db_path, site_id, *, photo_store=None):
+        def make(out, progress):
+            progress(0, 3, "")
+            progress(1, 3, "GF-B1-E")
+            self.reached.set()
+            self.go.wait(60)
+            if self.failure is not None:
+                raise self.failure
+            progress(3, 3, "audit trail")
+            out.write_bytes(b"%PDF-1.4\n% a stand-in for the site record\n%%EOF\n")
+
+        return make
+
+
+@pytest.fixture
+def held(monkeypatch):
+    monkeypatch.setattr(jobs, "_WRITE_EVERY_S", 0.0)  # every step written, for the test to see
+    holder = HeldRecord()
+    monkeypatch.setattr(record_web, "site_record", holder.factory)
+    yield holder
+    holder.go.set()  # never leave a thread waiting
+
+
+def test_the_record_is_made_in_the_background_and_downloaded_when_ready(
+    app, client_as, db, site, recorded
+):
+    viewer = client_as("viewer")
+    r = _start(viewer, site["id"])
+    assert r.status_code == 302
+    assert r.headers["Location"].endswith(f"/sites/{site['id']}/record/pdf")
+    job = _finished(app, site["id"])
+    count = len(store.list_bearings(db, site_id=site["id"]))
+    assert (job.state, job.bearings_done, job.bearings) == ("done", count, count)
+    # The file is kept under the app's own folder, beside the database.
+    path = app.extensions["record_jobs"].pdf_path(job)
+    assert path.is_file()
+    assert path.is_relative_to(Path(app.config["DB_PATH"]).parent / "records")
+
+    page = viewer.get(f"/sites/{site['id']}/record/pdf").get_data(as_text=True)
+    assert "Ready" in page and f"{count} bearings" in page
+    assert f'href="/sites/{site["id"]}/record/pdf/file"' in page
+    assert 'http-equiv="refresh"' not in page and "data-poll" not in page
+
+    r = viewer.get(f"/sites/{site['id']}/record/pdf/file")
+    assert r.status_code == 200 and r.mimetype == "application/pdf"
+    assert r.headers["Content-Disposition"].startswith("attachment; filename=tanner-s-yard")
+    text = _text(r.data)
+    r.close()
+    for b in store.list_bearings(db, site_id=site["id"]):
+        assert f"Bearing {b['reference']}" in text
+    assert "Cora Contractor for Invented Build Ltd" in text and "competent engineer" in text
+
+
+def test_progress_shows_bearings_done_and_the_page_refreshes_itself_until_ready(
+    app, client_as, site, held
+):
+    inspector = client_as("inspector")
+    _start(inspector, site["id"])
+    assert held.reached.wait(60)
+    url = f"/sites/{site['id']}/record/pdf"
+    html = inspector.get(url).get_data(as_text=True)
+    assert "Making the site record: 1 of 3 bearings, last done GF-B1-E." in html
+    assert '<progress max="3" value="1"' in html
+    # Without JavaScript the page refreshes itself; with it, record.js polls the .json.
+    assert '<noscript><meta http-equiv="refresh" content="2"></noscript>' in html
+    assert f'data-poll="{url}.json"' in html and "/static/record.js" in html
+    state = inspector.get(f"{url}.json").get_json()["job"]
+    assert (state["state"], state["bearings_done"], state["bearings"]) == ("making", 1, 3)
+    assert state["running"] is True and state["current"] == "GF-B1-E"
+    assert state["status"] == "Making the site record: 1 of 3 bearings, last done GF-B1-E."
+
+    # Asking again while it is being made joins it rather than making a second one.
+    engineer = client_as("engineer")
+    assert _start(engineer, site["id"]).status_code == 302
+    assert "already being made" in engineer.get(url).get_data(as_text=True)
+    assert len(app.extensions["record_jobs"].jobs(site["id"])) == 1
+    assert inspector.get(f"{url}/file").status_code == 302  # nothing finished yet
+
+    held.go.set()
+    assert _finished(app, site["id"]).state == "done"
+    html = inspector.get(url).get_data(as_text=True)
+    assert 'http-equiv="refresh"' not in html and "Ready" in html
+    r = inspector.get(f"{url}/file")
+    assert r.status_code == 200 and r.data.startswith(b"%PDF-1.4\n% a stand-in")
+    r.close()
+
+
+def test_a_record_that_could_not_be_made_says_why_plainly_and_can_be_started_again(
+    app, client_as, site, held
+):
+    held.failure = OSError(28, "No space left on device")
+    engineer = client_as("engineer")
+    _start(engineer, site["id"])
+    assert held.reached.wait(60)
+    held.go.set()
+    job = _finished(app, site["id"])
+    assert job.state == "failed"
+    html = engineer.get(f"/sites/{site['id']}/record/pdf").get_data(as_text=True)
+    assert 'role="alert"' in html
+    assert "could not be made at bearing GF-B1-E (1 of 3 done)" in html
+    assert "No space left on device" in html and "Nothing was kept" in html
+    assert "Make it again" in html and "/record/pdf/file" not in html
+    folder = app.extensions["record_jobs"].site_folder(site["id"])
+    assert not list(folder.glob("*.pdf")) and not list(folder.glob("*.part"))
+    assert engineer.get(f"/sites/{site['id']}/record/pdf.json").get_json()["job"]["error"]
+
+
+def test_a_job_cut_off_by_a_restart_shows_as_stopped_and_does_not_block_a_new_one(
+    app, client_as, site, held
+):
+    record_jobs = app.extensions["record_jobs"]
+    an_hour_ago = (datetime.now(UTC) - timedelta(hours=1)).strftime("%Y-%m-%dT%H:%M:%SZ")
+    record_jobs._save(
+        jobs.Job(
+            id="ab" * 16,
+            site_id=site["id"],
+            state=jobs.MAKING,
+            bearings_done=5,
+            bearings=12,
+            current="GF-B3",
+            started_by=None,
+            created_at=an_hour_ago,
+            updated_at=an_hour_ago,
+        )
+    )
+    viewer = client_as("viewer")
+    html = viewer.get(f"/sites/{site['id']}/record/pdf").get_data(as_text=True)
+    assert "server was restarted" in html and 'http-equiv="refresh"' not in html
+    _start(viewer, site["id"])
+    assert held.reached.wait(60)
+    assert record_jobs.latest(site["id"]).id != "ab" * 16
+
+
+def test_the_record_in_the_making_is_refused_to_anyone_not_on_the_site(
+    app, client_as, db, site, people
+):
+    engineer = client_as("engineer")
+    _start(engineer, site["id"])
+    _finished(app, site["id"])
+    outsider = client_as("outsider")
+    for path in ("record/pdf", "record/pdf.json", "record/pdf/file"):
+        r = outsider.get(f"/sites/{site['id']}/{path}")
+        assert r.status_code == 404, path
+        assert b"%PDF" not in r.data and b"GF-B1" not in r.data
+    assert _start(outsider, site["id"]).status_code == 404
+    # Their own site gives them nothing of this one's.
+    basis, review = services.default_site_settings()
+    own = store.create_site(
+        db,
+        name="Outsider's own site",
+        address="",
+        code_basis=basis,
+        review_settings=review,
+        created_by=people["outsider"].id,
+    )
+    assert outsider.get(f"/sites/{own['id']}/record/pdf/file").status_code == 302
+    assert outsider.get(f"/sites/{own['id']}/record/pdf.json").get_json()["job"] is None
+    # No token, no job.
+    before = app.extensions["record_jobs"].jobs(site["id"])
+    assert engineer.post(f"/sites/{site['id']}/record/pdf", data={}).status_code == 400
+    assert app.extensions["record_jobs"].jobs(site["id"]) == before
+    # Logged out: to the log-in page.
+    anonymous = app.test_client()
+    assert anonymous.get(f"/sites/{site['id']}/record/pdf/file").status_code == 302
+    assert anonymous.get(f"/sites/{site['id']}/record/pdf.json").status_code == 401
+
+
+def test_a_large_site_is_offered_the_background_record_only(client_as, site, monkeypatch):
+    viewer = client_as("viewer")
+    small = viewer.get(f"/sites/{site['id']}/record").get_data(as_text=True)
+    assert f"/sites/{site['id']}/record.pdf" in small
+    monkeypatch.setattr(record_web, "DIRECT_PDF_MAX_BEARINGS", 3)
+    large = viewer.get(f"/sites/{site['id']}/record").get_data(as_text=True)
+    assert f"/sites/{site['id']}/record.pdf" not in large
+    assert f'action="/sites/{site["id"]}/record/pdf"' in large and "csrf_token" in large
+    assert "Make the site record (PDF)" in large
+
+
+def test_a_site_keeps_its_newest_job_and_its_newest_finished_record(tmp_path):
+    record_jobs = jobs.RecordJobs(tmp_path)
+
+    def made(out, progress):
+        progress(1, 1, "B1")
+        out.write_bytes(b"%PDF-1.4 stand-in")
+
+    def broken(out, progress):
+        progress(0, 1, "")
+        raise ValueError("the drawing of B1 could not be made")
+
+    started = []
+    for make in (made, made, broken):
+        job, new = record_jobs.start("site-1", user_id=7, make=make)
+        assert new and record_jobs.wait(job.id, timeout=30)
+        started.append(job)
+    first, second, third = started
+    assert [j.id for j in record_jobs.jobs("site-1")] == [third.id, second.id]
+    assert record_jobs.latest("site-1").state == jobs.FAILED
+    assert "the drawing of B1 could not be made" in record_jobs.latest("site-1").error
+    assert record_jobs.latest_done("site-1").id == second.id
+    assert record_jobs.pdf_path(second).read_bytes() == b"%PDF-1.4 stand-in"
+    assert not record_jobs.pdf_path(first).exists()
+    assert record_jobs.jobs("site-2") == []  # each site's jobs are its own
+    with pytest.raises(ValueError, match="site id"):
+        record_jobs.site_folder("../site-1")

@@ -15,6 +15,7 @@ from .ingest import (
     decode_photo,
     ingest_photo,
 )
+from .printcopy import make_print_copy, print_copy
 from .stamp import stamp_caption
 from .store import PhotoStore
 
@@ -28,6 +29,8 @@ __all__ = [
     "decode_photo",
     "encode_jpeg",
     "ingest_photo",
+    "make_print_copy",
+    "print_copy",
     "read_capture_time",
     "read_gps",
     "stamp_caption",

@@ -111,10 +111,19 @@ class PhotoLimits:
     max_pixels: int = 50_000_000
     display_long_edge: int = 1600
     thumbnail_long_edge: int = 320
+    # The site record prints each photo 56 mm wide: a 3:4 upright photo at 448 px is then
+    # 336 px across, about 150 dpi, and a landscape one sharper still.
+    print_long_edge: int = 448
     jpeg_quality: int = DEFAULT_JPEG_QUALITY
 
     def __post_init__(self) -> None:
-        for name in ("max_bytes", "max_pixels", "display_long_edge", "thumbnail_long_edge"):
+        for name in (
+            "max_bytes",
+            "max_pixels",
+            "display_long_edge",
+            "thumbnail_long_edge",
+            "print_long_edge",
+        ):
             value = getattr(self, name)
             if isinstance(value, bool) or not isinstance(value, int) or value < 1:
                 raise ValueError(f"PhotoLimits.{name} must be a positive integer; got {value!r}.")
@@ -128,6 +137,12 @@ class PhotoLimits:
                 "PhotoLimits.thumbnail_long_edge must not exceed display_long_edge; got "
                 f"{self.thumbnail_long_edge} > {self.display_long_edge}."
             )
+        if self.print_long_edge > self.display_long_edge:
+            raise ValueError(
+                "PhotoLimits.print_long_edge must not exceed display_long_edge (the print copy "
+                f"is made from the display picture); got {self.print_long_edge} > "
+                f"{self.display_long_edge}."
+            )
 
 
 @dataclass(frozen=True)
@@ -137,16 +152,23 @@ class IngestedPhoto:
     The original bytes are deliberately absent: they may carry EXIF (position, device serial)
     or a hidden payload, and are never stored. `original_width`/`original_height` are the
     pixel grid of the uploaded file, before it was turned upright.
+
+    `print_jpeg` is the copy the site record (PDF) embeds as it is: made here, once, so a
+    record of hundreds of photos decodes none of them. It is stored under the display
+    picture's hash (PhotoStore.put_print), so it needs no database column.
     """
 
     display_jpeg: bytes
     thumbnail_jpeg: bytes
+    print_jpeg: bytes
     display_sha256: str
     thumbnail_sha256: str
     display_width: int
     display_height: int
     thumbnail_width: int
     thumbnail_height: int
+    print_width: int
+    print_height: int
     display_bytes: int
     thumbnail_bytes: int
     original_bytes: int
@@ -191,7 +213,7 @@ class DecodedPhoto:
 
 
 def ingest_photo(data: bytes, *, limits: PhotoLimits = PhotoLimits()) -> IngestedPhoto:
-    """Check an upload and make the display picture and thumbnail we store.
+    """Check an upload and make the display picture, thumbnail and print copy we store.
 
     Raises PhotoRejected for anything that is not an acceptable photo. The same bytes always
     give the same output bytes, so a photo sent twice is stored once.
@@ -200,17 +222,25 @@ def ingest_photo(data: bytes, *, limits: PhotoLimits = PhotoLimits()) -> Ingeste
     display = _resize(decoded.image, limits.display_long_edge)
     display = _to_srgb(display, decoded.icc_profile)
     thumbnail = _resize(display, limits.thumbnail_long_edge)
+    printed = _resize(display, limits.print_long_edge)
     display_jpeg = encode_jpeg(display, quality=limits.jpeg_quality)
     thumbnail_jpeg = encode_jpeg(thumbnail, quality=limits.jpeg_quality)
+    # A picture already small enough prints as the display file itself, byte for byte.
+    print_jpeg = (
+        display_jpeg if printed is display else encode_jpeg(printed, quality=limits.jpeg_quality)
+    )
     return IngestedPhoto(
         display_jpeg=display_jpeg,
         thumbnail_jpeg=thumbnail_jpeg,
+        print_jpeg=print_jpeg,
         display_sha256=hashlib.sha256(display_jpeg).hexdigest(),
         thumbnail_sha256=hashlib.sha256(thumbnail_jpeg).hexdigest(),
         display_width=display.width,
         display_height=display.height,
         thumbnail_width=thumbnail.width,
         thumbnail_height=thumbnail.height,
+        print_width=printed.width,
+        print_height=printed.height,
         display_bytes=len(display_jpeg),
         thumbnail_bytes=len(thumbnail_jpeg),
         original_bytes=len(data),

@@ -4,6 +4,10 @@ A name derived from the content means no user ever chooses a path, the same phot
 is stored once, and a file can be checked against its name after a backup is restored.
 Files are fanned out by the first two hex digits so no directory grows past a few thousand
 entries.
+
+A photo's print copy (the small JPEG the site record embeds) lives apart, under `print/`,
+named by the hash of the photo it was made from: it can be found from the photo's own name,
+and remade from it if lost.
 """
 
 from __future__ import annotations
@@ -25,6 +29,7 @@ _FANOUT = re.compile(r"[0-9a-f]{2}")
 _SUFFIX = ".jpg"
 _TEMP_PREFIX = ".incoming-"
 _TEMP_SUFFIX = ".part"
+_PRINT_DIR = "print"
 
 
 @dataclass(frozen=True)
@@ -49,6 +54,11 @@ class PhotoStore:
             )
         return self.root / sha[:2] / f"{sha}{_SUFFIX}"
 
+    def print_path_for(self, sha: str) -> Path:
+        """The print copy of the photo `sha` (checked as in path_for)."""
+        self.path_for(sha)
+        return self.root / _PRINT_DIR / sha[:2] / f"{sha}{_SUFFIX}"
+
     def put(self, data: bytes) -> str:
         """Store `data` and return its SHA-256 hex; a second put of the same bytes writes nothing.
 
@@ -68,9 +78,30 @@ class PhotoStore:
         _write_atomically(path, data)
         return sha
 
+    def put_print(self, sha: str, data: bytes) -> None:
+        """Keep `data` as the print copy of the photo `sha`; the same bytes again write nothing.
+
+        Not named by its own hash, so a copy of another size replaces the one there.
+        """
+        if not isinstance(data, bytes | bytearray | memoryview):
+            raise TypeError(f"PhotoStore.put_print expects bytes; got {type(data).__name__}.")
+        data = bytes(data)
+        if not data:
+            raise ValueError("PhotoStore.put_print refuses empty data; expected a JPEG.")
+        path = self.print_path_for(sha)
+        with contextlib.suppress(FileNotFoundError):
+            if path.stat().st_size == len(data) and path.read_bytes() == data:
+                return
+        path.parent.mkdir(parents=True, exist_ok=True)
+        _write_atomically(path, data)
+
     def open(self, sha: str) -> bytes:
         """The stored bytes; FileNotFoundError if there is no such photo."""
         return self.path_for(sha).read_bytes()
+
+    def open_print(self, sha: str) -> bytes:
+        """The print copy of the photo `sha`; FileNotFoundError if none was kept."""
+        return self.print_path_for(sha).read_bytes()
 
     def exists(self, sha: str) -> bool:
         return self.path_for(sha).is_file()
@@ -84,8 +115,10 @@ class PhotoStore:
         return hashlib.sha256(data).hexdigest() == sha
 
     def delete(self, sha: str) -> bool:
-        """Remove an orphan photo; True if a file was removed."""
+        """Remove an orphan photo and its print copy; True if the photo's file was removed."""
         path = self.path_for(sha)
+        with contextlib.suppress(FileNotFoundError):
+            self.print_path_for(sha).unlink()
         try:
             path.unlink()
         except FileNotFoundError:
@@ -118,7 +151,8 @@ class PhotoStore:
             return 0
         cutoff = time.time() - older_than_seconds
         removed = 0
-        for temp in self.root.glob(f"??/{_TEMP_PREFIX}*{_TEMP_SUFFIX}"):
+        pattern = f"??/{_TEMP_PREFIX}*{_TEMP_SUFFIX}"
+        for temp in [*self.root.glob(pattern), *self.root.glob(f"{_PRINT_DIR}/{pattern}")]:
             with contextlib.suppress(FileNotFoundError):
                 if temp.stat().st_mtime < cutoff:
                     temp.unlink()

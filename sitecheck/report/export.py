@@ -1,9 +1,10 @@
 """The data export of a site: CSV files (one per kind of row, in a zip) and one JSON file.
 
 ``schedule.csv`` is the bearing schedule in the import's own columns (kN at the edge, as
-the import reads them), so it can be imported into another site. The design inputs the
-schedule has no column for are listed by :func:`schedule_gaps`; the JSON export and the
-``design_input`` column of ``bearings.csv`` carry every input whole.
+the import reads them), with every design input and every digit, so importing it into
+another site gives the same inputs exactly. :func:`schedule_gaps` checks that for each
+bearing by reading its row back; the JSON export and the ``design_input`` column of
+``bearings.csv`` also carry every input whole.
 """
 
 from __future__ import annotations
@@ -13,33 +14,15 @@ import io
 import json
 import zipfile
 from dataclasses import fields
+from decimal import Decimal
 
-from sitecheck.bearing import Masonry
 from sitecheck.bearing.review import Checklist, Measurements
+from sitecheck.bearing.serial import input_to_dict
 from sitecheck.cli import CAUTION
 from sitecheck.report.collect import SiteRecord
-from sitecheck.schedule import DESIGN_COLUMNS
+from sitecheck.schedule import DESIGN_COLUMNS, parse_schedule
 
 FORMAT_VERSION = 1
-
-# Inputs with a default that the schedule cannot carry: (part, field, default).
-_NOT_IN_SCHEDULE = (
-    [("padstone", "f_ck", None), ("padstone", "precast", True)]
-    + [("wall", "effective_thickness", None)]
-    + [
-        ("masonry", f.name, f.default)
-        for f in fields(Masonry)
-        if f.name
-        in (
-            "unit_strength_is_normalised",
-            "conditioning",
-            "shell_bedded",
-            "manufacturing_control",
-            "construction_control",
-        )
-    ]
-    + [("", "e_mk", None), ("", "phi_m", None), ("", "beta_s", None)]
-)
 
 
 def _num(x) -> str:
@@ -53,6 +36,21 @@ def _num(x) -> str:
     return str(x)
 
 
+def _exact(x) -> str:
+    """A schedule cell: the shortest text that reads back as the same number."""
+    if isinstance(x, float):
+        return repr(x) if x != int(x) or abs(x) >= 1e16 else str(int(x))
+    return _num(x)
+
+
+def _kilo(newtons) -> str:
+    """N as kN by moving the decimal point, so the import's own shift back gives the same N."""
+    if newtons is None:
+        return ""
+    text = format(Decimal(repr(float(newtons))).scaleb(-3).normalize(), "f")
+    return text if "." not in text else text.rstrip("0").rstrip(".")
+
+
 def schedule_row(reference: str, location: str, basis: str, design: dict) -> dict[str, str]:
     """One bearing's design input in the schedule's columns (reaction in kN, lengths mm)."""
     load, beam, wall = design["load"], design["beam"], design["wall"]
@@ -61,7 +59,7 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "reference": reference,
         "location": location,
         "basis": basis,
-        "reaction_kN": load["reaction"] / 1000.0,
+        "reaction_kN": _kilo(load["reaction"]),
         # N/mm is kN/m: the same number.
         "wall_load_kN_per_m": load.get("wall_load") or None,
         "orientation": beam.get("orientation"),
@@ -75,38 +73,66 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "padstone_width": pad.get("width"),
         "padstone_depth": pad.get("depth"),
         "padstone_concrete": pad.get("concrete"),
+        "padstone_f_ck": pad.get("f_ck"),
+        "padstone_precast": pad.get("precast"),
         "wall_thickness": wall["thickness"],
         "height_to_bearing": wall["height_to_bearing"],
         "clear_height": wall.get("clear_height"),
         "effective_height": wall.get("effective_height"),
+        "effective_thickness": wall.get("effective_thickness"),
         "a1": wall.get("a1"),
         "a2": wall.get("a2"),
         "unit_material": mas.get("material"),
         "unit_group": mas.get("group"),
         "unit_strength": mas.get("unit_strength"),
+        "unit_strength_normalised": mas.get("unit_strength_is_normalised"),
         "unit_height": mas.get("unit_height"),
         "unit_width": mas.get("unit_width"),
+        "unit_conditioning": mas.get("conditioning"),
         "mortar": mas.get("mortar"),
+        "shell_bedded": mas.get("shell_bedded"),
         "f_k": mas.get("f_k"),
         "gamma_M": mas.get("gamma_M"),
         "execution_class": mas.get("execution_class"),
         "unit_category": mas.get("unit_category"),
+        "manufacturing_control": mas.get("manufacturing_control"),
+        "construction_control": mas.get("construction_control"),
         "bearing_type": design.get("bearing_type"),
+        "e_mk": design.get("e_mk"),
+        "phi_m": design.get("phi_m"),
+        "beta_s": design.get("beta_s"),
     }
-    assert set(values) == set(DESIGN_COLUMNS), "the schedule's columns changed"
-    return {k: _num(values[k]) for k in DESIGN_COLUMNS}
+    if set(values) != set(DESIGN_COLUMNS):
+        raise RuntimeError(
+            "The schedule's columns and the export's differ: "
+            f"{sorted(set(values) ^ set(DESIGN_COLUMNS))}; update schedule_row."
+        )
+    return {k: values[k] if k == "reaction_kN" else _exact(values[k]) for k in DESIGN_COLUMNS}
 
 
 def schedule_gaps(design: dict) -> list[str]:
-    """Design inputs, away from their defaults, that the schedule has no column for."""
-    gaps = []
-    for part, name, default in _NOT_IN_SCHEDULE:
-        holder = design if not part else (design.get(part) or {})
-        if part == "padstone" and not design.get("padstone"):
-            continue
-        if holder.get(name, default) != default:
-            gaps.append(f"{part}.{name}" if part else name)
-    return gaps
+    """Design inputs that do not come back the same when the bearing's schedule row is
+    read back (an empty list: the schedule carries this bearing whole)."""
+    row = schedule_row("R", "", "", design)
+    out = io.StringIO()
+    w = csv.DictWriter(out, fieldnames=list(DESIGN_COLUMNS), lineterminator="\n")
+    w.writeheader()
+    w.writerow(row)
+    parsed = parse_schedule(out.getvalue())
+    if parsed.errors or not parsed.rows:
+        return [str(e) for e in parsed.errors] or ["the row does not read back"]
+    back = input_to_dict(parsed.rows[0].design)
+    return _differences(design, back)
+
+
+def _differences(a, b, path: str = "") -> list[str]:
+    if isinstance(a, dict) and isinstance(b, dict):
+        found = []
+        for key in sorted(set(a) | set(b)):
+            found += _differences(a.get(key), b.get(key), f"{path}.{key}" if path else key)
+        return found
+    same = a == b and (type(a) is type(b) or not (isinstance(a, bool) or isinstance(b, bool)))
+    return [] if same else [path]
 
 
 def schedule_csv(rec: SiteRecord) -> str:

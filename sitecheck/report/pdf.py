@@ -26,6 +26,7 @@ from sitecheck import workflow
 from sitecheck.bearing import SOURCES
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.cli import CAUTION
+from sitecheck.photos import PhotoRejected, print_copy
 from sitecheck.report.collect import BearingRecord, SiteRecord
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, differences
 
@@ -80,7 +81,9 @@ _PLAIN = {
     "’": "'",
 }
 
-PHOTO_LONG_EDGE = 800  # px: sharp at 56 mm wide (JPEG decodes at half size), small enough for a 200-bearing record
+# Each photo is printed this wide. The photos' print copies are sized for it (see
+# sitecheck.photos.PhotoLimits.print_long_edge) and embedded as they are.
+PHOTO_WIDTH_MM = 56.0
 
 
 def find_font() -> tuple[Path, Path | None] | None:
@@ -647,29 +650,18 @@ def _checks(pdf: _Doc, heading: str, result: dict, *, trace: bool) -> None:
 
 
 def _photo_bytes(photo_store, sha: str) -> bytes | None:
-    from PIL import Image
-
+    """The photo's print copy, a JPEG that fpdf2 embeds without decoding it; one missing
+    (a photo stored before print copies) is made now and kept for the next record."""
     try:
-        data = photo_store.open(sha)
-    except (FileNotFoundError, ValueError, OSError):
+        return print_copy(photo_store, sha)
+    except (FileNotFoundError, ValueError, OSError, PhotoRejected):
         return None
-    with Image.open(io.BytesIO(data)) as im:
-        if max(im.size) <= PHOTO_LONG_EDGE:
-            return data
-        # JPEG draft decoding scales in the decoder: far cheaper than a full decode.
-        k = PHOTO_LONG_EDGE / max(im.size)
-        im.draft("RGB", (math.ceil(im.size[0] * k), math.ceil(im.size[1] * k)))
-        im = im.convert("RGB")
-        im.thumbnail((PHOTO_LONG_EDGE, PHOTO_LONG_EDGE))
-        out = io.BytesIO()
-        im.save(out, "JPEG", quality=78)
-        return out.getvalue()
 
 
 def _prepared_photos(rec: SiteRecord, photo_store, ahead: int = 4):
-    """Each bearing's photos as (record, photo, future bytes), made a few bearings ahead
-    on worker threads: Pillow decodes without holding the GIL, so the photos are shrunk
-    while the main thread lays out pages, and only a few bearings' photos are held."""
+    """Each bearing's photos as (record, photo, future bytes), read a few bearings ahead on
+    worker threads: a print copy still to be made (a photo stored before print copies) is
+    made while the main thread lays out pages, and only a few bearings' photos are held."""
     workers = max(1, min(4, (os.cpu_count() or 1)))
     with ThreadPoolExecutor(max_workers=workers) as pool:
 
@@ -694,7 +686,7 @@ def _photos(pdf: _Doc, br: BearingRecord, shown: list) -> None:
     if not shown:
         pdf.para("No photos.")
         return
-    col_w, gap = 56.0, 6.0
+    col_w, gap = PHOTO_WIDTH_MM, 6.0
     x0 = pdf.l_margin
     col = 0
     row_h = 0.0
@@ -711,7 +703,9 @@ def _photos(pdf: _Doc, br: BearingRecord, shown: list) -> None:
             pdf.rect(x, y, col_w, h)
             pdf.set_xy(x + 2, y + 2)
             pdf.set_font(pdf.family, "", 7)
-            pdf.multi_cell(col_w - 4, 3.5, pdf.t("Photo file not found in the photo store."))
+            pdf.multi_cell(
+                col_w - 4, 3.5, pdf.t("Photo file not found in the photo store, or unreadable.")
+            )
         taken = p["captured_at"] or r["measured_at"]
         source = "camera time" if p["captured_at"] else "record's time"
         caption = f"Photo {n} · {br.bearing['reference']} · {_when(taken)} ({source})"
@@ -768,6 +762,10 @@ def _appendix(pdf: _Doc, rec: SiteRecord) -> None:
     pdf.grid(["when", "who", "what", "bearing", "detail"], rows, [26, 30, 26, 24, 74], size=6.5)
 
 
+# Progress steps before the first bearing's: the cover and the summary.
+BEFORE_BEARINGS = 2
+
+
 def write_pdf(
     rec: SiteRecord,
     out: str | os.PathLike | BinaryIO,
@@ -776,8 +774,9 @@ def write_pdf(
     progress: Progress | None = None,
 ) -> None:
     """Write the site record to a file path or a binary stream. ``progress(done, total,
-    what)`` is called as each part is made, for a progress bar."""
-    total = len(rec.bearings) + 3
+    what)`` is called as each part is made, for a progress bar: the cover and the summary
+    (BEFORE_BEARINGS), each bearing by its reference, then the audit trail."""
+    total = len(rec.bearings) + BEFORE_BEARINGS + 1
     step = 0
 
     def tick(what: str) -> None:

@@ -3,6 +3,11 @@ and the drawing of a bearing that the review, result and bearing pages include.
 
 Everyone on a site may export its record ('export'); anyone else gets 404, as for every
 other page of the site.
+
+A small site's PDF is made inside the request that asks for it. A larger one is made in
+the background (sitecheck.report.jobs): the record page starts it, a progress page shows
+how many bearings are done, refreshing itself without JavaScript and polling its .json
+with it, and offers the file when it is ready. The file is kept under the app's folder.
 """
 
 from __future__ import annotations
@@ -10,8 +15,19 @@ from __future__ import annotations
 import re
 import unicodedata
 from datetime import UTC, datetime
+from pathlib import Path
 
-from flask import Blueprint, Response, g, render_template, url_for
+from flask import (
+    Blueprint,
+    Response,
+    current_app,
+    flash,
+    g,
+    redirect,
+    render_template,
+    send_file,
+    url_for,
+)
 from markupsafe import Markup
 
 from sitecheck import store
@@ -19,6 +35,7 @@ from sitecheck.bearing import InputError
 from sitecheck.report import export, pdf
 from sitecheck.report.collect import collect
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
+from sitecheck.report.jobs import RecordJobs, site_record
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
 from sitecheck.web.auth import login_required
@@ -26,13 +43,17 @@ from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("record", __name__)
 
+# Up to this many bearings the PDF is made while the download waits (a few seconds); more,
+# and the page offers only the background making with its progress.
+DIRECT_PDF_MAX_BEARINGS = 40
+# How often the progress page asks again, without JavaScript and with it.
+REFRESH_SECONDS = 2
+
+PDF_HINT = (
+    "For the quality file: every bearing with its drawing, calculation, photos, decisions "
+    "and release, and the audit trail."
+)
 DOWNLOADS = (
-    (
-        "pdf",
-        "Site record (PDF)",
-        "record.pdf_file",
-        "For the quality file: every bearing with its drawing, calculation, photos, decisions and release, and the audit trail.",
-    ),
     (
         "zip",
         "Data export (CSV, zipped)",
@@ -48,11 +69,25 @@ DOWNLOADS = (
 )
 
 
-def safe_filename(name: str, suffix: str) -> str:
-    """A file name any system accepts, made from the site's name and today's date."""
+@bp.record_once
+def _install_jobs(state) -> None:
+    """One set of background jobs per app, their files beside the database and photos
+    (``RECORD_DIR`` to put them elsewhere)."""
+    app = state.app
+    folder = app.config.get("RECORD_DIR") or Path(app.config["DB_PATH"]).parent / "records"
+    app.extensions["record_jobs"] = RecordJobs(folder)
+
+
+def record_jobs() -> RecordJobs:
+    return current_app.extensions["record_jobs"]
+
+
+def safe_filename(name: str, suffix: str, when: datetime | None = None) -> str:
+    """A file name any system accepts, made from the site's name and a date (today, unless
+    `when` says)."""
     plain = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
     slug = re.sub(r"[^A-Za-z0-9]+", "-", plain).strip("-").lower()[:40].strip("-") or "site"
-    return f"{slug}-{datetime.now(UTC):%Y-%m-%d}{suffix}"
+    return f"{slug}-{when or datetime.now(UTC):%Y-%m-%d}{suffix}"
 
 
 def _download(data: bytes, mimetype: str, filename: str) -> Response:
@@ -65,12 +100,22 @@ def _download(data: bytes, mimetype: str, filename: str) -> Response:
 @login_required
 def site(site_id):
     found, role = site_for(site_id, "export")
-    bearings = store.list_bearings(get_db(), site_id=site_id)
+    db = get_db()
+    bearings = store.list_bearings(db, site_id=site_id)
+    direct = len(bearings) <= DIRECT_PDF_MAX_BEARINGS
     return render_page(
         "record/site.html",
         site={"id": found["id"], "name": found["name"], "address": found["address"]},
         role=role,
         bearing_count=len(bearings),
+        pdf={
+            "label": "Site record (PDF)",
+            "hint": PDF_HINT,
+            "href": url_for("record.pdf_file", site_id=site_id) if direct else None,
+            "make": url_for("record.make_pdf", site_id=site_id),
+            "progress": url_for("record.pdf_progress", site_id=site_id),
+        },
+        making=_job_summary(db, record_jobs().latest(site_id)),
         downloads=[
             {"kind": k, "label": label, "href": url_for(endpoint, site_id=site_id), "hint": hint}
             for k, label, endpoint, hint in DOWNLOADS
@@ -81,9 +126,96 @@ def site(site_id):
 @bp.get("/sites/<site_id>/record.pdf")
 @login_required
 def pdf_file(site_id):
+    """The PDF made while the request waits: for a small site, or a script that can wait."""
     found, _role = site_for(site_id, "export")
     data = pdf.pdf_bytes(collect(get_db(), site_id), photo_store=photo_store())
     return _download(data, "application/pdf", safe_filename(found["name"], "-site-record.pdf"))
+
+
+@bp.post("/sites/<site_id>/record/pdf")
+@login_required
+def make_pdf(site_id):
+    """Start making the site record in the background, or join the making already under way."""
+    site_for(site_id, "export")
+    _job, started = record_jobs().start(
+        site_id,
+        user_id=g.user["id"],
+        make=site_record(current_app.config["DB_PATH"], site_id, photo_store=photo_store()),
+    )
+    if not started:
+        flash("The site record is already being made; its progress is below.")
+    return redirect(url_for("record.pdf_progress", site_id=site_id))
+
+
+@page_rule(bp, "/sites/<site_id>/record/pdf")
+@login_required
+def pdf_progress(site_id):
+    found, _role = site_for(site_id, "export")
+    jobs = record_jobs()
+    db = get_db()
+    job = _job_summary(db, jobs.latest(site_id))
+    made = _job_summary(db, jobs.latest_done(site_id))
+    return render_page(
+        "record/pdf.html",
+        site={"id": found["id"], "name": found["name"]},
+        job=job,
+        made=made,
+        make=url_for("record.make_pdf", site_id=site_id),
+        refresh_seconds=REFRESH_SECONDS if job and job["running"] else None,
+    )
+
+
+@bp.get("/sites/<site_id>/record/pdf/file")
+@login_required
+def made_pdf(site_id):
+    """The newest site record made in the background; none yet, and the page says so."""
+    found, _role = site_for(site_id, "export")
+    jobs = record_jobs()
+    job = jobs.latest_done(site_id)
+    if job is None:
+        flash("No site record has been made here yet: make one first.")
+        return redirect(url_for("record.pdf_progress", site_id=site_id))
+    made = datetime.fromisoformat(job.finished_at or job.created_at)
+    return send_file(
+        jobs.pdf_path(job),
+        mimetype="application/pdf",
+        as_attachment=True,
+        download_name=safe_filename(found["name"], "-site-record.pdf", made),
+        conditional=False,
+    )
+
+
+def _job_summary(db, job) -> dict | None:
+    """What the pages show of a job: its state, progress and who started it."""
+    if job is None:
+        return None
+    who = store.get_user_by_id(db, job.started_by) if job.started_by is not None else None
+    return job.as_dict() | {
+        "started_by_name": who["name"] if who else "someone no longer on sitecheck",
+        "percent": round(100 * job.bearings_done / job.bearings) if job.bearings else 0,
+        "status": _status(job),
+        "download": url_for("record.made_pdf", site_id=job.site_id)
+        if job.state == "done"
+        else None,
+    }
+
+
+def _status(job) -> str:
+    """The progress in one sentence; the page and its script both show this one."""
+    if job.state == "waiting":
+        return "Waiting for another site record to finish first…"
+    if job.state != "making":
+        return ""
+    if not job.bearings:
+        return "Reading the site…"
+    if job.bearings_done >= job.bearings:
+        return f"All {job.bearings} bearings done; writing the audit trail and the file…"
+    last = (
+        f", last done {job.current}"
+        if job.bearings_done and job.current not in ("", "cover", "summary")
+        else ""
+    )
+    return f"Making the site record: {job.bearings_done} of {job.bearings} bearings{last}."
 
 
 @bp.get("/sites/<site_id>/export.zip")
