@@ -123,20 +123,32 @@ function stepsTable(steps) {
   return el("div", { class: "scroll" }, el("table", {}, body));
 }
 
-/** The full calculation, as the server's pages show it, for showing the contractor why. */
-export function traceDetails(result) {
+/** The full calculation, as the server's pages show it, for showing the contractor why.
+ * Built when first opened: dozens of table rows on every keystroke would cost a slow phone
+ * more than the re-check itself. */
+export function traceDetails(result, open = false) {
   const details = el("details", { class: "trace", "data-phone-trace": "" },
     el("summary", {}, `Full calculation (${result.basis})`));
-  for (const note of result.notes) details.append(el("p", { class: "muted" }, note));
-  details.append(el("h3", {}, "Materials"), stepsTable(result.strengths.steps));
-  for (const c of result.checks) {
-    details.append(el("h3", {}, `${c.title} — ${utilisationText(c.utilisation)} ${c.passed ? "✓" : "✗"}`));
-    for (const note of c.notes) details.append(el("p", { class: "muted" }, note));
-    details.append(stepsTable(c.steps));
+  let filled = false;
+  const fill = () => {
+    if (filled || !details.open) return;
+    filled = true;
+    for (const note of result.notes) details.append(el("p", { class: "muted" }, note));
+    details.append(el("h3", {}, "Materials"), stepsTable(result.strengths.steps));
+    for (const c of result.checks) {
+      details.append(el("h3", {}, `${c.title} — ${utilisationText(c.utilisation)} ${c.passed ? "✓" : "✗"}`));
+      for (const note of c.notes) details.append(el("p", { class: "muted" }, note));
+      details.append(stepsTable(c.steps));
+    }
+    details.append(el("p", { class: "muted" },
+      "Source labels: S seen in a published source · P partly seen · M from memory, confirm " +
+      "against the standard · CP common practice · ours: a choice of this tool."));
+  };
+  details.addEventListener("toggle", fill);
+  if (open) {
+    details.open = true;
+    fill();
   }
-  details.append(el("p", { class: "muted" },
-    "Source labels: S seen in a published source · P partly seen · M from memory, confirm " +
-    "against the standard · CP common practice · ours: a choice of this tool."));
   return details;
 }
 
@@ -187,6 +199,7 @@ function renderBar(bar, outcome) {
 }
 
 function render(panel, outcome, unreadable, ms) {
+  const traceWasOpen = Boolean(panel.querySelector("[data-phone-trace]")?.open);
   const parts = [el("p", { class: "provisional-label" },
     el("strong", {}, "Provisional"),
     " — worked out on this phone from the values above; the server's re-check confirms it when the record is sent.")];
@@ -201,7 +214,7 @@ function render(panel, outcome, unreadable, ms) {
     parts.push(el("p", { class: `verdict ${ok ? "pass" : "fail"}`, role: "status", "data-verdict": ok ? "pass" : "review" },
       `${word} — governing: ${checkTitle(result, result.governing)}, utilisation ${utilisationText(result.utilisation)}`));
     parts.push(el("h3", {}, "Review reasons"), reasonList(outcome.reasons));
-    parts.push(traceDetails(result));
+    parts.push(traceDetails(result, traceWasOpen));
   }
   for (const u of unreadable) {
     parts.push(el("p", { class: "field-error" }, `✗ ${u.label}: ${u.message}; left out until it is a number.`));
@@ -219,8 +232,14 @@ export function attachVerdict(form, panel, context, bar = null) {
     const name = label.getAttribute("for") || label.closest("fieldset")?.id?.replace(/^field-/, "");
     if (name && !labels[name]) labels[name] = label.textContent.replace(/\s+/g, " ").replace(/ needed$/, "").trim();
   }
-  const update = () => {
+  let last = null;
+  const update = (event) => {
     const { measurements, checklist, unreadable } = readForm(form);
+    // A field's change event follows its input events when it loses focus; re-drawing the
+    // same verdict then would swap the panel under a finger tapping it.
+    const key = JSON.stringify([measurements, checklist, unreadable]);
+    if (event && key === last) return null;
+    last = key;
     let outcome;
     let ms = 0;
     try {
