@@ -272,10 +272,10 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
         )
         hint = hints.get(o.row.reference)
         if hint is not None:
-            print(f"{'':22} hint: {_hint_text(hint)}")
+            print(f"{'':22} hint: {hint_text(hint)}")
 
 
-def _hint_text(h) -> str:
+def hint_text(h) -> str:
     parts = []
     if h.padstone is not None:
         p = h.padstone

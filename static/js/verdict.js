@@ -7,7 +7,10 @@
 // record's names (the online form and the offline site page both do); context holds the
 // bearing's design input, the site's code basis and review settings.
 
+import { basisFromDict, ec6UkNa } from "./bearing/basis.js";
+import { formatFixed, formatG } from "./bearing/format.js";
 import { recheckRecord } from "./bearing/record.js";
+import { remedy } from "./bearing/remedy.js";
 
 export const MEASUREMENT_FIELDS = [
   "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
@@ -152,6 +155,24 @@ export function traceDetails(result, open = false) {
   return details;
 }
 
+/** The smallest standard padstone and the shortest bearing that would pass, in the words
+ * `sitecheck check` prints them: a hint for the conversation on site, not an instruction
+ * (that is the engineer's). */
+export function remedyText(outcome, basis) {
+  const hint = remedy(outcome.as_built, basis ? basisFromDict(basis) : ec6UkNa());
+  const parts = [];
+  if (hint.padstone) {
+    const p = hint.padstone;
+    parts.push(`a ${formatG(p.length)} x ${formatG(p.width)} x ${formatG(p.depth)} mm ${p.concrete} ` +
+      `padstone passes (util. ${formatFixed(hint.padstone_utilisation, 2)})`);
+  }
+  if (hint.bearing_length !== null) {
+    parts.push(`a bearing of ${formatG(hint.bearing_length)} mm passes ` +
+      `(util. ${formatFixed(hint.bearing_utilisation, 2)})`);
+  }
+  return parts.join("; or ") || "no standard padstone or longer bearing passes: redesign";
+}
+
 function reasonList(reasons) {
   if (!reasons.length) return el("p", { class: "muted" }, "No review reasons.");
   return el("ul", { class: "reasons" }, ...reasons.map((r) => el("li",
@@ -198,7 +219,7 @@ function renderBar(bar, outcome) {
   bar.hidden = false;
 }
 
-function render(panel, outcome, unreadable, ms) {
+function render(panel, outcome, unreadable, ms, basis) {
   const traceWasOpen = Boolean(panel.querySelector("[data-phone-trace]")?.open);
   const parts = [el("p", { class: "provisional-label" },
     el("strong", {}, "Provisional"),
@@ -213,6 +234,11 @@ function render(panel, outcome, unreadable, ms) {
     const word = ok ? "✓ Within design" : !result.passed ? "✗ Fails as built" : "? Needs the engineer";
     parts.push(el("p", { class: `verdict ${ok ? "pass" : "fail"}`, role: "status", "data-verdict": ok ? "pass" : "review" },
       `${word} — governing: ${checkTitle(result, result.governing)}, utilisation ${utilisationText(result.utilisation)}`));
+    if (!result.passed) {
+      parts.push(el("p", { class: "remedy-hint", "data-remedy-hint": "" },
+        el("strong", {}, "What would pass: "), remedyText(outcome, basis),
+        ". The engineer decides what is done."));
+    }
     parts.push(el("h3", {}, "Review reasons"), reasonList(outcome.reasons));
     parts.push(traceDetails(result, traceWasOpen));
   }
@@ -252,7 +278,8 @@ export function attachVerdict(form, panel, context, bar = null) {
       if (hidden) hidden.value = JSON.stringify({ engine: "phone mirror", failed: String(error).slice(0, 200) });
       return null;
     }
-    render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || u.name })), ms);
+    render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || u.name })), ms,
+      context.basis);
     renderBar(bar, outcome);
     const verdict = verdictOf(outcome);
     if (hidden) hidden.value = verdict ? JSON.stringify(verdict) : "";

@@ -13,6 +13,8 @@ from playwright.sync_api import Page, expect
 
 from phone import log_in, open_site
 from sitecheck import services, store
+from sitecheck.bearing.remedy import remedy
+from sitecheck.cli import hint_text
 from sitecheck.demo import SITE_NAME
 
 REFERENCE = "GF-B1-E"
@@ -96,3 +98,16 @@ def test_a_value_that_is_not_a_number_is_named_and_left_out(page: Page, live_ser
     expect(panel.locator(".field-error")).to_contain_text("not a number")
     # The rest is still re-checked, with the design's value standing in.
     expect(panel.locator(".verdict")).to_be_visible()
+
+
+def test_a_failing_bearing_shows_the_hint_the_server_would_give(page: Page, live_server):
+    log_in(page, "inspector")
+    ctx = _open_form(page, live_server)
+    page.fill("#bearing_length", "60")
+    panel = page.locator("[data-provisional-verdict]")
+    expect(panel.locator(".verdict")).to_contain_text("Fails as built")
+    # The same hint, in the same words, as `sitecheck check` prints from the Python core.
+    rc = services.recheck(ctx["site"], ctx["bearing"], {"bearing_length": 60.0}, {})
+    hint = remedy(rc.as_built, services.basis_for(ctx["site"]))
+    assert not rc.result.passed and hint.bearing_length is not None
+    expect(panel.locator("[data-remedy-hint]")).to_contain_text(hint_text(hint))
