@@ -16,6 +16,7 @@ from flask_wtf.csrf import CSRFError, CSRFProtect
 
 from sitecheck import store
 from sitecheck.photos import PhotoStore
+from sitecheck.web import compress
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
 csrf = CSRFProtect()
@@ -74,6 +75,7 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     app.before_request(auth.load_user)
     app.teardown_appcontext(_close_db)
     app.after_request(_security_headers)
+    compress.install(app)
     app.register_error_handler(CSRFError, pages.csrf_error)
     for code in (400, 403, 404, 405, 413, 429, 500):
         app.register_error_handler(code, pages.error_page)
