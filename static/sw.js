@@ -4,11 +4,12 @@
 // the old one. The shell list must name real files (cache.addAll is all or nothing, and a
 // failed install leaves the phone without offline use); tests/test_sync_api.py fetches each.
 
-const VERSION = "v1";
+const VERSION = "v2";
 const SHELL_CACHE = `sitecheck-shell-${VERSION}`;
 const PAGES_CACHE = "sitecheck-pages"; // kept across versions: it holds what people chose to keep
 const SHELL = [
   "/offline",
+  "/refused",
   "/manifest.webmanifest",
   "/static/app.css",
   "/static/app.js",
@@ -17,6 +18,24 @@ const SHELL = [
   "/static/js/photos.js",
   "/static/js/unsent.js",
   "/static/js/offline-site.js",
+  // The phone's mirror of the core: the as-built form's provisional verdict, with no signal.
+  "/static/js/verdict.js",
+  "/static/js/bearing/basis.js",
+  "/static/js/bearing/checks.js",
+  "/static/js/bearing/errors.js",
+  "/static/js/bearing/format.js",
+  "/static/js/bearing/formulas.js",
+  "/static/js/bearing/geometry.js",
+  "/static/js/bearing/index.js",
+  "/static/js/bearing/inputs.js",
+  "/static/js/bearing/recheck.js",
+  "/static/js/bearing/record.js",
+  "/static/js/bearing/remedy.js",
+  "/static/js/bearing/review.js",
+  "/static/js/bearing/serial.js",
+  "/static/js/bearing/strength.js",
+  "/static/js/bearing/trace.js",
+  "/static/js/bearing/validate.js",
   "/static/icon-192.png",
   "/static/icon-512.png",
 ];

@@ -4,6 +4,7 @@ offline shell the service worker keeps."""
 
 from __future__ import annotations
 
+import html
 import io
 import json
 import re
@@ -14,8 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from photo_samples import make_test_jpeg
-from sitecheck import store
+from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
+from sitecheck import store, workflow
 from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
 from webkit import csrf_token
 
@@ -229,10 +230,16 @@ def test_a_person_taken_off_the_site_is_refused(client_as, db, site, bearing, pe
     )
     body = _record(site, bearing)
     r = _send(client, body, token)
-    # access.site_for answers a non-member 404 (the site's existence is not revealed); the
-    # phone treats it like 403: moved to the refused list, never retried, never deleted.
-    assert r.status_code in (403, 404) and r.get_json()["error"]
+    # A non-member gets 404 (the site's existence is not revealed); the phone treats it like
+    # 403: moved to the refused list with this sentence, never retried, never deleted.
+    assert r.status_code == 404
+    answer = r.get_json()
+    assert answer["code"] == "not-on-site" and answer["field"] == "site_id"
+    assert "taken off" in answer["error"]
     assert _count(db, body["uuid"]) == 0
+    # A site that never existed gets the very same answer.
+    other = _send(client, _record(site, bearing, site_id=str(uuid.uuid4())), token)
+    assert (other.status_code, other.get_json()) == (404, answer)
 
 
 def test_a_send_without_the_csrf_header_is_400(client_as, db, site, bearing):
@@ -268,6 +275,45 @@ def test_a_photo_is_stored_once_by_its_uuid(client_as, db, site, bearing):
     rows = store.photos_for_record(db, site_id=site["id"], record_uuid=body["uuid"])
     assert [p["uuid"] for p in rows] == [photo_uuid]
     assert rows[0]["captured_at"].startswith("2026-05-04T09:15:00")
+
+
+def _camera_jpeg(taken: str, offset: str | None) -> bytes:
+    """A small JPEG as a camera writes it: EXIF DateTimeOriginal, with or without the
+    camera's UTC offset (OffsetTimeOriginal)."""
+    from PIL import Image
+
+    exif = Image.Exif()
+    exif_ifd = exif.get_ifd(EXIF_IFD)
+    exif_ifd[DATETIME_ORIGINAL] = taken
+    if offset:
+        exif_ifd[OFFSET_TIME_ORIGINAL] = offset
+    out = io.BytesIO()
+    Image.new("RGB", (64, 48), (120, 110, 100)).save(out, "JPEG", exif=exif)
+    return out.getvalue()
+
+
+@pytest.mark.parametrize(
+    ("offset", "stored"),
+    [
+        # The file's own time has no zone: the phone's time (read from the EXIF before the
+        # phone re-encoded, or the file's time) is kept rather than nothing.
+        (None, "2026-05-04T09:15:00"),
+        # The file says its zone: the camera's own moment wins over the phone's.
+        ("+02:00", "2026-05-04T06:10:00"),  # kept in UTC
+    ],
+)
+def test_a_photos_capture_time_comes_from_the_camera_or_else_the_phone(
+    client_as, db, site, bearing, offset, stored
+):
+    client = client_as("inspector")
+    body = _record(site, bearing)
+    assert _send(client, body).status_code == 201
+    photo_uuid = str(uuid.uuid4())
+    data = _camera_jpeg("2026:05:04 08:10:00", offset)
+    r = _photo(client, body["uuid"], photo_uuid, data, captured_at="2026-05-04T09:15:00Z")
+    assert r.status_code == 201, r.get_json()
+    (row,) = store.photos_for_record(db, site_id=site["id"], record_uuid=body["uuid"])
+    assert row["captured_at"].startswith(stored)
 
 
 def test_a_file_that_is_not_a_photo_is_422(client_as, site, bearing):
@@ -315,7 +361,7 @@ def test_every_url_of_the_shell_is_served(app, client_as, role):
     """cache.addAll is all or nothing: one missing file and the phone has no offline use."""
     client = client_as(role) if role else app.test_client()
     urls = _shell_urls()
-    assert "/offline" in urls and "/static/js/outbox.js" in urls
+    assert "/offline" in urls and "/refused" in urls and "/static/js/outbox.js" in urls
     for url in urls:
         r = client.get(url)
         assert r.status_code == 200, url
@@ -323,9 +369,40 @@ def test_every_url_of_the_shell_is_served(app, client_as, role):
 
 
 def test_every_js_module_is_in_the_shell():
+    """A module missing from the precache fails its import with no signal, and with it the
+    page's script: every module, in every folder under static/js, is kept."""
     static = SW.parent
-    modules = {f"/static/js/{p.name}" for p in (static / "js").glob("*.js")}
+    modules = {"/" + p.relative_to(static.parent).as_posix() for p in (static / "js").rglob("*.js")}
+    assert "/static/js/bearing/checks.js" in modules
     assert modules <= set(_shell_urls())
+
+
+def test_the_refused_page_is_the_same_for_anyone(app, client_as):
+    """Kept by the service worker at install, so it holds no one's data: the phone fills it
+    from IndexedDB."""
+    for client in (app.test_client(), client_as("inspector")):
+        page = client.get("/refused")
+        assert page.status_code == 200
+        assert "data-refused-all" in page.get_data(as_text=True)
+
+
+def test_every_page_links_the_refused_list_from_its_header(client_as, site):
+    client = client_as("inspector")
+    for url in ("/", f"/sites/{site['id']}/inspect", f"/sites/{site['id']}/offline", "/offline"):
+        page = client.get(url).get_data(as_text=True)
+        header = page.split("<header", 1)[1].split("</header>", 1)[0]
+        assert 'href="/refused" data-refused' in header, url
+
+
+def test_the_offline_page_shows_states_with_the_online_pages_badges(client_as, site):
+    page = client_as("inspector").get(f"/sites/{site['id']}/offline").get_data(as_text=True)
+    raw = re.search(r"data-state-badges='([^']*)'", page).group(1)
+    badges = json.loads(html.unescape(raw))
+    assert badges == {
+        state: {"symbol": b.symbol, "label": b.label, "css_class": b.css_class}
+        for state, b in workflow.STATE_BADGES.items()
+    }
+    assert all(b["symbol"] and b["label"] for b in badges.values())
 
 
 def test_the_offline_form_sends_the_online_forms_field_names(client_as, site):

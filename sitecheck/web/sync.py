@@ -30,8 +30,9 @@ from flask import (
     send_from_directory,
     url_for,
 )
+from werkzeug.exceptions import NotFound
 
-from sitecheck import services, store
+from sitecheck import services, store, workflow
 from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.review import as_built_input
@@ -97,6 +98,13 @@ def offline():
     return render_template("offline/shell.html")
 
 
+@bp.get("/refused")
+def refused():
+    """Every record and photo the server refused, as kept on this phone. The page reads them
+    from IndexedDB itself, so it is the same with no signal (the service worker keeps it)."""
+    return render_template("offline/refused.html")
+
+
 @bp.get("/sites/<site_id>/offline")
 @login_required
 def site_offline(site_id):
@@ -109,6 +117,12 @@ def site_offline(site_id):
         specs=SPECS,
         choices=_choices(),
         max_photos=MAX_PHOTOS,
+        # The phone draws each state's badge (symbol and words) from the same table as the
+        # online pages, so a state is never shown by colour alone there either.
+        badges={
+            state: {"symbol": b.symbol, "label": b.label, "css_class": b.css_class}
+            for state, b in workflow.STATE_BADGES.items()
+        },
     )
 
 
@@ -181,7 +195,10 @@ def post_record():
         fields = _record_fields(data)
     except Refused as refused:
         return refused.response()
-    site, _role = site_for(fields["site_id"], "record")
+    try:
+        site, _role = site_for(fields["site_id"], "record")
+    except NotFound:
+        return _not_on_site()
     bearing = bearing_for(site, fields["bearing_id"])
     db = get_db()
     try:
@@ -225,6 +242,22 @@ def _answer(site, stored) -> dict:
         ],
         "url": url_for("inspect.result", site_id=site["id"], record_uuid=row["uuid"]),
     }
+
+
+def _not_on_site():
+    """A site the person is not on, whether it exists or not (so nothing is revealed), in
+    words the phone can show on its refused list: the usual cause is being taken off it."""
+    return (
+        jsonify(
+            error=(
+                "This site is not among your sites (you may have been taken off it), so the "
+                "record was not stored. Ask the site's engineer to add you again, then record it."
+            ),
+            field="site_id",
+            code="not-on-site",
+        ),
+        404,
+    )
 
 
 def _record_fields(data: dict) -> dict:
@@ -380,9 +413,10 @@ def post_photo(record_uuid):
         photo = ingest_photo(upload.read())
     except PhotoRejected as rejected:
         return jsonify(error=rejected.message, code=rejected.code), 422
-    if photo.capture_time is None and captured:
-        # The phone re-encodes the picture to save space, which drops the camera's own time;
-        # it sends the time the file was made instead, always with its zone.
+    if captured and services.camera_time(photo.capture_time) is None:
+        # The phone re-encodes the picture to save space, which drops the camera's EXIF; it
+        # reads the camera's time first and sends it, always with its zone. A time in the
+        # file itself wins only if it says its zone (a picture the phone could not shrink).
         photo = dataclasses.replace(photo, capture_time=captured.replace("Z", "+00:00"))
     try:
         stored = services.store_photo(
@@ -408,4 +442,10 @@ def _find_record(db, record_uuid: str) -> tuple[str, dict]:
         row = store.get_record(db, site_id=s["id"], uuid=record_uuid)
         if row is not None:
             return s["id"], row
-    abort(404, description="There is no such as-built record; send the record before its photos.")
+    abort(
+        404,
+        description=(
+            "There is no such as-built record among your sites: send the record before its "
+            "photos (or you may have been taken off its site)."
+        ),
+    )

@@ -97,14 +97,27 @@ export async function move(from, key, to, value) {
 }
 
 // Write several stores in one transaction: [[store, value or null to delete, key], ...].
+// A fourth element {ifPresent: true} writes the value only if `key` is still in the store: a
+// sender holding an old copy (a second tab, on a browser with no Web Locks) must never bring
+// back an item that another sender has already sent or moved to the refused list.
 export async function writeAll(changes) {
   const db = await openDb();
   const tx = db.transaction([...new Set(changes.map((c) => c[0]))], "readwrite");
-  for (const [store, value, key] of changes) {
-    if (value === null) tx.objectStore(store).delete(key);
-    else tx.objectStore(store).put(value);
+  for (const [store, value, key, options] of changes) {
+    const objects = tx.objectStore(store);
+    if (value === null) objects.delete(key);
+    else if (options && options.ifPresent) {
+      objects.count(key).onsuccess = (event) => {
+        if (event.target.result) objects.put(value);
+      };
+    } else objects.put(value);
   }
   return done(tx);
+}
+
+// Update a value only if it is still kept (see writeAll).
+export function putIfPresent(store, value, key) {
+  return writeAll([[store, value, key, { ifPresent: true }]]);
 }
 
 export async function outboxInOrder() {

@@ -17,6 +17,7 @@ const MEASUREMENTS = [
 ];
 const CHECKLIST = ["bedded", "packing", "cracks", "cut_units", "level"];
 const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
+const BADGES = JSON.parse(root.dataset.stateBadges || "{}");
 
 let pack = null;
 let bearing = null;
@@ -35,6 +36,13 @@ function isoSeconds(date = new Date()) {
   return date.toISOString().replace(/\.\d+Z$/, "Z");
 }
 
+// A state as symbol and words, never colour alone, from the online pages' own table.
+function badge(state) {
+  const b = BADGES[state] || { symbol: "•", label: state || "state not known", css_class: "" };
+  return el("span", { class: `state ${b.css_class}`.trim(), "data-state": state || "" },
+    el("span", { "aria-hidden": "true" }, b.symbol), ` ${b.label}`);
+}
+
 async function load() {
   pack = await get("packs", siteId);
   const status = root.querySelector("[data-pack-age]");
@@ -44,14 +52,14 @@ async function load() {
     status.textContent = "This site is not kept on this phone. With signal, open the survey list and tap “Keep for offline”.";
     return;
   }
-  status.textContent = `Site pack downloaded ${age(pack.generated_at)} (${pack.bearings.length} bearings). Design values as of then.`;
+  status.textContent = `Site pack downloaded ${age(pack.generated_at)} (${pack.bearings.length} bearings). Design values and states as of then.`;
   for (const b of pack.bearings) {
     const button = el("button", { type: "button", class: "primary big", "data-record-bearing": b.id },
       "Record as built", el("span", { class: "visually-hidden" }, ` for ${b.reference}`));
     button.addEventListener("click", () => openForm(b));
     list.append(el("li", { class: "card bearing-card", "data-bearing": b.id },
       el("div", { class: "bearing-head" }, el("strong", { class: "reference" }, b.reference),
-        el("span", { class: "state" }, b.state)),
+        badge(b.state)),
       el("p", { class: "location" }, b.location || ""),
       el("div", { class: "bearing-actions" }, button)));
   }

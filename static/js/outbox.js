@@ -4,7 +4,7 @@
 // by moving, in the same transaction, to the refused list where the person can see it.
 // No answer or a 5xx keeps it and tries again later; a stale token is renewed and retried.
 
-import { count, getAll, outboxInOrder, put, writeAll } from "./db.js";
+import { count, get, getAll, outboxInOrder, put, putIfPresent, writeAll } from "./db.js";
 
 const RETRY_FIRST_MS = 5000;
 const RETRY_MOST_MS = 5 * 60 * 1000;
@@ -38,11 +38,23 @@ export async function keep(item) {
 
 export function sync(why = "start") {
   if (!running) {
-    running = run(why).finally(() => {
+    running = oneSenderAtATime(() => run(why)).finally(() => {
       running = null;
     });
   }
   return running;
+}
+
+// Every tab of the app hears "online" at the same moment and would send the same outbox:
+// the server stores each item once either way, but a phone on one bar of signal should not
+// upload every photo twice. Web Locks let one tab send while the others wait, then find the
+// outbox empty. Without them (older browsers) the tabs race, and the server's idempotency and
+// the conditional writes below keep the outcome right.
+function oneSenderAtATime(task) {
+  if (navigator.locks && navigator.locks.request) {
+    return navigator.locks.request("sitecheck-outbox", () => task());
+  }
+  return task();
 }
 
 async function freshToken() {
@@ -80,8 +92,11 @@ async function run(why) {
   const items = all.filter((item) => String(item.user) === String(session.user));
   let n = 0;
   let refused = 0;
-  for (const item of items) {
+  for (const listed of items) {
     n += 1;
+    // Read again: another sender may have sent or refused it since the list was read.
+    const item = await get("outbox", listed.uuid);
+    if (!item) continue;
     progress(`Sending ${n} of ${items.length}: ${item.reference}…`, "sending");
     let outcome = await sendItem(item, session.token);
     if (outcome === "csrf") {
@@ -115,7 +130,7 @@ async function later(item, text) {
     item.attempts = (item.attempts || 0) + 1;
     item.last_try = new Date().toISOString();
     attempts = item.attempts;
-    await put("outbox", item);
+    await putIfPresent("outbox", item, item.uuid);
   }
   const wait = Math.min(RETRY_MOST_MS, RETRY_FIRST_MS * 2 ** (attempts - 1));
   clearTimeout(retryTimer);
@@ -162,7 +177,7 @@ async function sendItem(item, token) {
     if (outcome !== "sent") return outcome;
     item.record_sent = true;
     item.answer = body;
-    await put("outbox", item);
+    await putIfPresent("outbox", item, item.uuid);
     announce({ kind: "record-sent", uuid: item.uuid });
   }
   for (const photo of [...item.photos]) {
@@ -185,11 +200,12 @@ async function sendItem(item, token) {
     const outcome = meaning(response.status, body);
     if (outcome !== "sent" && outcome !== "refused") return outcome;
     item.photos = item.photos.filter((p) => p.uuid !== photo.uuid);
-    const changes = [["outbox", item]];
+    const changes = [["outbox", item, item.uuid, { ifPresent: true }]];
     if (outcome === "refused") {
       changes.push(["refused", refusal(item, response.status, body, { kind: "photo", photo, uuid: photo.uuid })]);
     }
     await writeAll(changes);
+    if (outcome === "refused") announce({ kind: "refused", uuid: photo.uuid });
   }
   await writeAll([["outbox", null, item.uuid]]);
   document.body.dataset.lastSent = item.uuid;

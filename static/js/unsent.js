@@ -1,8 +1,9 @@
-// On every page: the unsent count in the header, sending when the signal returns, the
-// log-out warning, "Keep for offline" on the survey list and the list of kept sites.
+// On every page: the unsent count and the link to the refused list in the header, sending
+// when the signal returns, the log-out warning, "Keep for offline" on the survey list, the
+// list of kept sites and the refused list's own page.
 
 import { getAll, put } from "./db.js";
-import { counts, sync } from "./outbox.js";
+import { counts, refusedItems, sync } from "./outbox.js";
 
 const PAGES_CACHE = "sitecheck-pages"; // shared with sw.js
 
@@ -18,9 +19,68 @@ async function showCounts() {
   bar.hidden = false;
   bar.querySelector("[data-unsent-count]").textContent = String(n.unsent);
   bar.dataset.unsent = String(n.unsent);
+  // "Refused" alone when nothing is, "Refused: 2" when something is.
   const refused = bar.querySelector("[data-refused]");
-  refused.hidden = n.refused === 0;
-  refused.querySelector("[data-refused-count]").textContent = String(n.refused);
+  const shown = refused.querySelector("[data-refused-shown]");
+  if (n.refused > 0) {
+    const count = document.createElement("strong");
+    count.dataset.refusedCount = "";
+    count.textContent = String(n.refused);
+    shown.replaceChildren(": ", count);
+  } else {
+    shown.replaceChildren();
+  }
+  refused.classList.toggle("has-refused", n.refused > 0);
+}
+
+function text(tag, className, content) {
+  const node = document.createElement(tag);
+  if (className) node.className = className;
+  node.textContent = content;
+  return node;
+}
+
+// The refused list's page: every refused record and photo on this phone, newest first.
+async function showRefusedPage() {
+  const list = document.querySelector("[data-refused-all]");
+  if (!list) return;
+  let items;
+  try {
+    items = await refusedItems();
+  } catch (error) {
+    list.replaceChildren(text("li", "card muted", "This browser keeps nothing for sitecheck (no IndexedDB)."));
+    return;
+  }
+  items.sort((a, b) => String(b.refused_at).localeCompare(String(a.refused_at)));
+  list.replaceChildren(...items.map((item) => {
+    const li = document.createElement("li");
+    li.className = "card refused-item";
+    li.dataset.refusedItem = item.uuid;
+    const what = item.kind === "photo" ? `${item.reference}: a photo` : item.reference;
+    li.append(
+      text("strong", "refused-what", `✗ ${what}`),
+      text("span", "muted", item.site_name || ""),
+      text("p", "refused-reason", `${item.status}: ${item.reason}`),
+      text("p", "muted refused-when",
+        `measured ${item.record ? item.record.measured_at : "?"} · refused ${age(item.refused_at)}`),
+    );
+    if (item.record && item.kind !== "photo") {
+      // The values are kept so they can be recorded again without going back to the bearing.
+      const details = document.createElement("details");
+      details.append(text("summary", "", "What was measured"));
+      const dl = document.createElement("dl");
+      dl.className = "values";
+      const values = { ...item.record.measurements, ...item.record.checklist };
+      for (const [name, value] of Object.entries(values)) {
+        dl.append(text("dt", "", name.replaceAll("_", " ")), text("dd", "", String(value)));
+      }
+      details.append(dl);
+      if (item.record.notes) details.append(text("p", "notes", item.record.notes));
+      li.append(details);
+    }
+    return li;
+  }));
+  if (!items.length) list.append(text("li", "card muted", "Nothing refused on this phone."));
 }
 
 function showProgress(text) {
@@ -129,6 +189,7 @@ function guardLogOut() {
 window.addEventListener("sitecheck:outbox", (event) => {
   if (event.detail.kind === "progress") showProgress(event.detail.text);
   showCounts();
+  if (event.detail.kind === "refused") showRefusedPage();
 });
 window.addEventListener("online", () => sync("online"));
 
@@ -141,6 +202,7 @@ for (const button of document.querySelectorAll("[data-send-now]")) {
 }
 guardLogOut();
 showCounts();
+showRefusedPage();
 showPackAges().catch(() => {});
 if (document.querySelector("[data-persist]")) askToKeep().catch(() => {});
 sync("start");
