@@ -58,15 +58,15 @@ def settings_for(site: dict) -> ReviewSettings:
     )
 
 
+def mirror_settings(site: dict) -> dict:
+    """The site's code basis and review settings in full, for the phone's mirror of the
+    core: it has no defaults of its own to fall back on, so nothing may be left implicit."""
+    return {"basis": basis_for(site).to_dict(), "settings": settings_for(site).as_dict()}
+
+
 def mirror_context(site: dict, design_input: dict) -> dict:
-    """What the phone's mirror of the core needs to re-check one bearing as values are
-    typed: the design input, and the site's code basis and review settings in full (the
-    phone has no defaults of its own to fall back on, so nothing may be left implicit)."""
-    return {
-        "design": design_input,
-        "basis": basis_for(site).to_dict(),
-        "settings": settings_for(site).as_dict(),
-    }
+    """What the phone's mirror needs to re-check one bearing as values are typed."""
+    return {"design": design_input, **mirror_settings(site)}
 
 
 def design_of(bearing: dict) -> BearingInput:

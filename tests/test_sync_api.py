@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
-from sitecheck import store, workflow
+from sitecheck import services, store, workflow
 from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
 from webkit import csrf_token
 
@@ -94,6 +94,12 @@ def test_site_pack_holds_every_bearing_with_its_design(client_as, db, site):
     assert first["design"]["utilisation"] == pytest.approx(row["design_utilisation"])
     assert first["design"]["governing"] == row["design_result"]["governing"]
     assert set(first["designed"]) >= set(MEASUREMENT_FIELDS)
+    # The phone's re-check gets the basis and settings in full, exactly as the server
+    # reads them (the site row may hold only what was changed from the defaults).
+    assert pack["site"]["mirror"] == {
+        "basis": services.basis_for(site).to_dict(),
+        "settings": services.settings_for(site).as_dict(),
+    }
 
 
 @pytest.mark.parametrize(
@@ -130,6 +136,46 @@ def test_record_is_stored_once_and_a_resend_gets_the_first_answer(client_as, db,
     assert again.get_json() == {**answer, "created": False}
     assert _count(db, body["uuid"]) == 1
     assert client.get(answer["url"]).status_code == 200
+
+
+def _differed(db, site, record_uuid) -> list[dict]:
+    return [
+        e
+        for e in store.events_for(db, site_id=site["id"])
+        if e["kind"] == services.PHONE_VERDICT_DIFFERED and record_uuid in str(e["detail"])
+    ]
+
+
+def test_the_phones_verdict_is_compared_and_the_servers_is_stored(client_as, db, site, bearing):
+    client = client_as("inspector")
+    body = _record(site, bearing, measurements={"padstone_length": 300})
+    rc = services.recheck(site, bearing, body["measurements"], body["checklist"])
+    agreeing = {
+        "passed": rc.result.passed,
+        "governing": rc.result.governing,
+        "utilisation": rc.result.utilisation,
+        "reasons": [r.code for r in rc.reasons],
+    }
+    r = _send(client, {**body, "provisional": agreeing})
+    assert r.status_code == 201 and _differed(db, site, body["uuid"]) == []
+
+    wrong = {**agreeing, "passed": not agreeing["passed"], "reasons": []}
+    other = _record(site, bearing, measurements={"padstone_length": 300})
+    r = _send(client, {**other, "provisional": wrong})
+    assert r.status_code == 201
+    answer = r.get_json()
+    assert answer["passed"] is agreeing["passed"]  # the server's, not the phone's
+    (event,) = _differed(db, site, other["uuid"])
+    assert "passed" in str(event["detail"]) and "reasons" in str(event["detail"])
+
+
+@pytest.mark.parametrize("odd", ["a verdict", 42, ["passed"]])
+def test_a_verdict_the_server_cannot_read_never_costs_the_record(client_as, db, site, bearing, odd):
+    body = _record(site, bearing, provisional=odd)
+    r = _send(client_as("inspector"), body)
+    assert r.status_code == 201 and _count(db, body["uuid"]) == 1
+    (event,) = _differed(db, site, body["uuid"])
+    assert "unreadable" in str(event["detail"])
 
 
 def test_two_sends_of_one_uuid_at_the_same_moment_store_one_row(client_as, db, site, bearing):

@@ -65,6 +65,8 @@ RECORD_KEYS = frozenset(
         "measurements",
         "checklist",
         "notes",
+        # The verdict the phone's mirror showed; compared, never trusted (see services).
+        "provisional",
     }
 )
 
@@ -172,6 +174,9 @@ def pack(site_id):
             "basis": basis.name,
             "code_basis": site["code_basis"],
             "review_settings": site["review_settings"],
+            # In full, as the server checks with them: the phone's re-check has no
+            # defaults of its own to fall back on.
+            "mirror": services.mirror_settings(site),
         },
         role=role,
         user=g.user["id"],
@@ -214,6 +219,7 @@ def post_record():
             checklist=fields["checklist"],
             notes=fields["notes"],
             inspector_id=g.user["id"],
+            provisional=fields["provisional"],
         )
     except Refused as refused:
         return refused.response()
@@ -320,6 +326,8 @@ def _record_fields(data: dict) -> dict:
     if len(notes) > NOTES_MAX:
         raise Refused("notes", "too-long", f"Notes: at most {NOTES_MAX} characters.")
     out["notes"] = notes
+    # Never a reason to refuse a record: an odd verdict is itself what the server reports.
+    out["provisional"] = data.get("provisional")
     return out
 
 

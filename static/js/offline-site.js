@@ -5,6 +5,7 @@ import { get } from "./db.js";
 import { keep, refusedItems, unsentItems } from "./outbox.js";
 import { shrink } from "./photos.js";
 import { age } from "./unsent.js";
+import { attachVerdict, serverAgrees, utilisationText } from "./verdict.js";
 
 const root = document.querySelector("[data-offline-site]");
 const siteId = root.dataset.offlineSite;
@@ -21,6 +22,16 @@ const BADGES = JSON.parse(root.dataset.stateBadges || "{}");
 
 let pack = null;
 let bearing = null;
+// The phone's re-check of the open form: the bearing's design with the site's basis and
+// review settings, as the server will check it.
+const recheckNow = attachVerdict(
+  form,
+  form.querySelector("[data-provisional-verdict]"),
+  () => (bearing && pack && pack.site.mirror
+    ? { design: bearing.design_input, ...pack.site.mirror }
+    : null),
+  form.querySelector("[data-verdict-bar]"),
+);
 
 function el(tag, attrs = {}, ...children) {
   const node = document.createElement(tag);
@@ -77,6 +88,8 @@ function openForm(b) {
     p.textContent = text ? `designed: ${text}` : "";
   }
   form.elements.measured_at.value = isoSeconds();
+  form.elements.provisional.value = "";
+  recheckNow();
   listSection.hidden = true;
   form.hidden = false;
   form.querySelector("h2").scrollIntoView();
@@ -177,6 +190,7 @@ async function save(event) {
         measurements,
         checklist,
         notes: form.elements.notes.value,
+        provisional: readProvisional(),
       },
       photos,
     });
@@ -194,6 +208,32 @@ async function save(event) {
   } finally {
     submit.disabled = false;
   }
+}
+
+function readProvisional() {
+  try {
+    return JSON.parse(form.elements.provisional.value || "null");
+  } catch {
+    return null;
+  }
+}
+
+// The server's answer to each record sent from this page, beside what the phone showed.
+function showConfirmed({ reference, answer, provisional }) {
+  if (!answer) return;
+  const section = root.querySelector("[data-confirmed-section]");
+  const ok = answer.passed && !answer.reasons.some((r) => r.severity === "blocks");
+  const word = ok ? "✓ within design" : !answer.passed ? "✗ fails as built" : "? needs the engineer";
+  const agrees = serverAgrees(provisional, answer);
+  const note = agrees === null ? ""
+    : agrees ? " · as the phone showed"
+      : " · the phone showed something else: the server's answer counts, and it has been told";
+  const link = el("a", { href: answer.url }, "the server's re-check");
+  section.querySelector("[data-confirmed-list]").prepend(el("li",
+    { class: "card", "data-confirmed": answer.uuid, "data-agrees": String(agrees) },
+    el("strong", {}, reference), ` · server: ${word}, utilisation ${utilisationText(answer.utilisation)}`,
+    el("span", { class: "muted" }, note), " · ", link));
+  section.hidden = false;
 }
 
 function describeItem(item) {
@@ -219,5 +259,8 @@ async function showLists() {
 
 form.addEventListener("submit", save);
 form.querySelector("[data-form-cancel]").addEventListener("click", closeForm);
-window.addEventListener("sitecheck:outbox", () => showLists());
+window.addEventListener("sitecheck:outbox", (event) => {
+  if (event.detail && event.detail.kind === "sent") showConfirmed(event.detail);
+  showLists();
+});
 load().then(showLists);

@@ -209,7 +209,13 @@ async function sendItem(item, token) {
   }
   await writeAll([["outbox", null, item.uuid]]);
   document.body.dataset.lastSent = item.uuid;
-  announce({ kind: "sent", uuid: item.uuid, answer: item.answer });
+  announce({
+    kind: "sent",
+    uuid: item.uuid,
+    answer: item.answer,
+    reference: item.reference,
+    provisional: item.record.provisional ?? null,
+  });
   return "sent";
 }
 

@@ -250,7 +250,8 @@ function render(panel, outcome, unreadable, ms, basis) {
 }
 
 /** Re-check on every change of the form and keep the panel and the hidden verdict field
- * up to date. Returns a function that runs it now (for tests and for a form filled by code). */
+ * up to date. `context` is the object or a function returning it (null: nothing to check
+ * yet). Returns a function that runs it now (for a form filled or reset by code). */
 export function attachVerdict(form, panel, context, bar = null) {
   const hidden = form.elements.namedItem("provisional");
   const labels = {};
@@ -266,10 +267,12 @@ export function attachVerdict(form, panel, context, bar = null) {
     const key = JSON.stringify([measurements, checklist, unreadable]);
     if (event && key === last) return null;
     last = key;
+    const ctx = typeof context === "function" ? context() : context;
+    if (!ctx) return null;
     let outcome;
     let ms = 0;
     try {
-      ({ outcome, ms } = provisionalOutcome(context, measurements, checklist));
+      ({ outcome, ms } = provisionalOutcome(ctx, measurements, checklist));
     } catch (error) {
       // A fault in the mirror must never stop the inspector recording: say so and carry on.
       console.error("sitecheck: the phone's re-check failed:", error);
@@ -279,7 +282,7 @@ export function attachVerdict(form, panel, context, bar = null) {
       return null;
     }
     render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || u.name })), ms,
-      context.basis);
+      ctx.basis);
     renderBar(bar, outcome);
     const verdict = verdictOf(outcome);
     if (hidden) hidden.value = verdict ? JSON.stringify(verdict) : "";
@@ -290,6 +293,24 @@ export function attachVerdict(form, panel, context, bar = null) {
   form.addEventListener("change", update);
   update();
   return update;
+}
+
+// Reasons only the server can give (it knows the current design revision and its own
+// clock); the phone's verdict is not expected to hold them.
+const SERVER_ONLY = new Set(["older-design-revision", "clock-ahead"]);
+
+/** Whether the server's answer to a sent record says what the phone showed: the same
+ * verdict, the same reasons (bar the server's own) and the same utilisation to 1e-6. */
+export function serverAgrees(provisional, answer) {
+  if (!provisional || !answer) return null;
+  const codes = answer.reasons.map((r) => r.code).filter((c) => !SERVER_ONLY.has(c));
+  const u = answer.utilisation;
+  const p = provisional.utilisation;
+  const sameU = u === null || p === null || p === undefined
+    ? u === p || (u === null && p === undefined)
+    : Math.abs(u - p) <= 1e-6 * Math.max(1, Math.abs(u));
+  return provisional.passed === answer.passed && sameU &&
+    JSON.stringify(codes) === JSON.stringify(provisional.reasons);
 }
 
 // On the online as-built form the context is in the page; the offline page attaches itself.

@@ -109,7 +109,7 @@ def record_offline(
     page.locator("li[data-bearing]", has_text=reference).first.locator("button").tap()
     form = page.locator("form[data-offline-form]")
     expect(form).to_be_visible()
-    expect(form.locator("h2")).to_contain_text(reference)
+    expect(form.locator("[data-form-title]")).to_contain_text(reference)
     page.fill("#bearing_length", length)
     form.locator("#field-bedded").get_by_label("yes", exact=True).check()
     page.fill("#notes", f"{reference} measured with no signal.")

@@ -11,7 +11,7 @@ import json
 
 from playwright.sync_api import Page, expect
 
-from phone import log_in, open_site
+from phone import keep_site, log_in, open_site
 from sitecheck import services, store
 from sitecheck.bearing.remedy import remedy
 from sitecheck.cli import hint_text
@@ -111,3 +111,42 @@ def test_a_failing_bearing_shows_the_hint_the_server_would_give(page: Page, live
     hint = remedy(rc.as_built, services.basis_for(ctx["site"]))
     assert not rc.result.passed and hint.bearing_length is not None
     expect(panel.locator("[data-remedy-hint]")).to_contain_text(hint_text(hint))
+
+
+def test_with_no_signal_the_verdict_shows_and_the_server_confirms_it_later(
+    page: Page, context, live_server, shoot
+):
+    db = store.open_db(live_server.db_path)
+    site = store.sites_named(db, SITE_NAME)[0]
+    keep_site(page, site["id"])
+    context.set_offline(True)
+    page.reload()
+    expect(page.locator("body")).to_have_attribute("data-pack-ready", "1")
+
+    page.locator("li[data-bearing]", has_text=REFERENCE).first.locator("button").tap()
+    form = page.locator("form[data-offline-form]")
+    expect(form.locator("[data-form-title]")).to_contain_text(REFERENCE)
+    page.fill("#padstone_length", "300")
+    panel = form.locator("[data-provisional-verdict]")
+    expect(panel.locator(".verdict")).to_have_attribute("data-verdict", "review")
+    expect(panel.locator("[data-code=padstone-length-off]")).to_be_visible()
+    expect(panel).to_contain_text("Provisional")
+    shoot("offline-verdict")
+    form.get_by_role("button", name="Keep in unsent").tap()
+    expect(form).to_be_hidden()
+    record_uuid = page.locator("body").get_attribute("data-last-saved")
+
+    context.set_offline(False)  # the outbox sends; the server's answer replaces the guess
+    confirmed = page.locator(f'[data-confirmed="{record_uuid}"]')
+    expect(confirmed).to_contain_text("server: ? needs the engineer", timeout=20_000)
+    expect(confirmed).to_have_attribute("data-agrees", "true")
+    expect(confirmed).to_contain_text("as the phone showed")
+    shoot("offline-confirmed")
+
+    stored = store.get_record(db, site_id=site["id"], uuid=record_uuid)
+    assert "padstone-length-off" in [r["code"] for r in stored["reasons"]]
+    assert not [
+        e
+        for e in store.events_for(db, site_id=site["id"])
+        if e["kind"] == services.PHONE_VERDICT_DIFFERED and record_uuid in str(e["detail"])
+    ]
