@@ -1,10 +1,12 @@
 // sitecheck's service worker: the app's shell and the pages a person kept, for no signal.
 //
-// Bump VERSION whenever a file in SHELL changes: phones then fetch the new shell and drop
-// the old one. The shell list must name real files (cache.addAll is all or nothing, and a
-// failed install leaves the phone without offline use); tests/test_sync_api.py fetches each.
+// VERSION is set by the server when it serves this file: a digest of every file of the
+// shell (sitecheck/web/assets.py shell_digest), so a change to any of them installs a new
+// worker that fetches the new shell and drops the old. The shell list must name real files
+// (cache.addAll is all or nothing, and a failed install leaves the phone without offline
+// use); tests/test_sync_api.py fetches each.
 
-const VERSION = "v2";
+const VERSION = "set-by-the-server";
 const SHELL_CACHE = `sitecheck-shell-${VERSION}`;
 const PAGES_CACHE = "sitecheck-pages"; // kept across versions: it holds what people chose to keep
 const SHELL = [

@@ -17,6 +17,7 @@ import pytest
 
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from sitecheck import services, store, workflow
+from sitecheck.web.assets import shell_digest
 from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
 from webkit import csrf_token
 
@@ -398,8 +399,32 @@ def test_the_service_worker_is_served_from_the_root(app):
     assert r.status_code == 200
     assert r.mimetype == "text/javascript"
     assert r.headers["Cache-Control"] == "no-cache"
-    assert "const SHELL" in r.get_data(as_text=True)
+    text = r.get_data(as_text=True)
+    assert "const SHELL" in text
+    assert f'const VERSION = "{shell_digest()}";' in text
+    again = app.test_client().get("/sw.js", headers={"If-None-Match": r.headers["ETag"]})
+    assert again.status_code == 304
     r.close()
+
+
+def test_any_change_to_the_shell_gives_the_worker_a_new_version(tmp_path, monkeypatch):
+    import shutil
+
+    from sitecheck.web import assets
+
+    static, templates = tmp_path / "static", tmp_path / "templates"
+    shutil.copytree(assets.STATIC_DIR, static)
+    shutil.copytree(assets.TEMPLATE_DIR, templates)
+    monkeypatch.setattr(assets, "STATIC_DIR", static)
+    monkeypatch.setattr(assets, "TEMPLATE_DIR", templates)
+    first = assets.shell_digest()
+    assert assets.shell_digest() == first  # the same files, the same version
+    checks = static / "js" / "bearing" / "checks.js"
+    checks.write_text(checks.read_text() + "\n// a change to the mirror\n")
+    second = assets.shell_digest()
+    assert second != first
+    (templates / "offline" / "shell.html").write_text("changed")
+    assert assets.shell_digest() not in (first, second)
 
 
 @pytest.mark.parametrize("role", ["inspector", None])

@@ -17,17 +17,19 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 import uuid as uuid_module
 from datetime import UTC, datetime
 
 from flask import (
     Blueprint,
+    Response,
     abort,
+    current_app,
     g,
     jsonify,
     render_template,
     request,
-    send_from_directory,
     url_for,
 )
 from werkzeug.exceptions import NotFound
@@ -40,7 +42,7 @@ from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
 from sitecheck.photos import PhotoRejected, ingest_photo
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
-from sitecheck.web.assets import STATIC_DIR
+from sitecheck.web.assets import STATIC_DIR, shell_digest
 from sitecheck.web.auth import login_required
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
@@ -87,11 +89,23 @@ class Refused(Exception):
 
 @bp.get("/sw.js")
 def service_worker():
-    """Served from the root so that its scope is the whole app, not only /static/."""
-    response = send_from_directory(STATIC_DIR, "sw.js", mimetype="text/javascript", max_age=0)
+    """Served from the root so that its scope is the whole app, not only /static/, with
+    its version set to a digest of the shell's files (see :func:`shell_digest`)."""
+    version = current_app.extensions.get("shell_digest")
+    if version is None:  # once per process: the files do not change under a running server
+        version = current_app.extensions["shell_digest"] = shell_digest()
+    text = (STATIC_DIR / "sw.js").read_text(encoding="utf-8")
+    text, found = SW_VERSION.subn(f'const VERSION = "{version}";', text, count=1)
+    if not found:
+        raise RuntimeError("static/sw.js has lost its `const VERSION = ...;` line")
+    response = Response(text, mimetype="text/javascript")
+    response.set_etag(version)
     # A phone must see a new version at once; the worker itself decides what else is cached.
     response.headers["Cache-Control"] = "no-cache"
-    return response
+    return response.make_conditional(request)
+
+
+SW_VERSION = re.compile(r'^const VERSION = "[^"]*";$', flags=re.M)
 
 
 @bp.get("/offline")
