@@ -417,3 +417,33 @@ def test_the_phones_exif_reader_reads_both_byte_orders_and_never_trips_on_damage
     assert read(good[:2] + b"\xff\xe1\x00\x08Exif\0\0" + good[2:])["at"] == "2026-01-02T03:04:05Z"
     assert read(make_test_jpeg(40, 30)) is None  # no EXIF at all
     assert read(b"\x89PNG\r\n\x1a\n" + bytes(40)) is None  # not a JPEG
+
+
+def test_a_session_that_ended_while_offline_asks_for_a_log_in_and_loses_nothing(
+    page: Page, context, live_server
+):
+    site_id = _site_id(live_server)
+    keep_site(page, site_id)
+    context.set_offline(True)
+    page.reload()
+    expect(page.locator("body")).to_have_attribute("data-pack-ready", "1")
+    kept = record_offline(page, "EX-B9", "100")
+
+    # While the phone has no signal its session ends on the server (expiry or a password
+    # change elsewhere end it the same way).
+    db = store.open_db(live_server.db_path)
+    inspector = store.get_user_by_email(db, DEMO_PEOPLE["inspector"][0])
+    assert store.revoke_all_sessions_for_user(db, inspector["id"]) >= 1
+    db.conn.close()
+
+    context.set_offline(False)
+    expect(page.locator("body")).to_have_attribute("data-sync-state", "login", timeout=20_000)
+    assert [i["uuid"] for i in page.evaluate(OUTBOX)] == [kept]
+    assert not _query(live_server, "SELECT uuid FROM as_built_records WHERE uuid = ?", [kept])
+
+    email, _name, password = DEMO_PEOPLE["inspector"]
+    log_in_as(page, email, password)  # the app starts again and sends what waited
+    expect(page.locator("[data-unsent-count]")).to_have_text("0", timeout=20_000)
+    assert page.evaluate(OUTBOX) == []
+    rows = _query(live_server, "SELECT count(*) FROM as_built_records WHERE uuid = ?", [kept])
+    assert rows == [(1,)]
