@@ -7,7 +7,15 @@ rule for "equal" is written once.
 
 from __future__ import annotations
 
+import json
 import math
+from pathlib import Path
+
+import pytest
+
+from sitecheck.vectors import DEFAULT_PATH, read_text
+
+VECTORS = Path(__file__).resolve().parent.parent / DEFAULT_PATH
 
 RELATIVE = 1e-9
 # Below this, two figures are both rounding noise around zero (a stress of 1e-13 N/mm²
@@ -60,3 +68,13 @@ def _walk(expected, actual, path, rel, out):
         return
     if type(expected) is not type(actual) or expected != actual:
         out.append(f"{path}: expected {expected!r}, got {actual!r}")
+
+
+def load_shared_vectors() -> dict:
+    """The committed vectors (test_vectors.py holds them equal to what the core makes now).
+
+    They may hold Infinity (an unbounded utilisation in a review reason's values): Python's
+    json reads it, and Playwright carries it to the page as a number."""
+    if not VECTORS.exists():
+        pytest.fail(f"{VECTORS} is missing: write it with `sitecheck vectors --out {DEFAULT_PATH}`")
+    return json.loads(read_text(VECTORS))

@@ -9,17 +9,12 @@ so the phone is held to what the server gives.
 
 from __future__ import annotations
 
-import json
 import random
 import struct
-from pathlib import Path
 
 import pytest
-from mirror_compare import differences
+from mirror_compare import differences, load_shared_vectors
 
-from sitecheck.vectors import read_text as read_vectors
-
-VECTORS = Path(__file__).resolve().parents[1] / "vectors" / "bearing-vectors.json.gz"
 SHOWN = 20  # differences printed on a failure
 BATCH = 40  # cases per page.evaluate: about half a megabyte each way
 
@@ -73,12 +68,7 @@ async (cases) => {
 
 @pytest.fixture(scope="module")
 def vectors() -> dict:
-    if not VECTORS.exists():
-        pytest.fail(
-            f"{VECTORS} is missing: write it with "
-            "`sitecheck vectors --out tests/vectors/bearing-vectors.json.gz`"
-        )
-    return json.loads(read_vectors(VECTORS))
+    return load_shared_vectors()
 
 
 def _run(page, script: str, cases: list[dict]) -> list:

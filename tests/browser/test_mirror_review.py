@@ -9,16 +9,11 @@ The cases come from the committed file, so the phone is held to what the server 
 
 from __future__ import annotations
 
-import json
-from pathlib import Path
-
 import pytest
-from mirror_compare import differences
+from mirror_compare import differences, load_shared_vectors
 
 from sitecheck.bearing.review import settings_from_dict
-from sitecheck.vectors import read_text as read_vectors
 
-VECTORS = Path(__file__).resolve().parents[1] / "vectors" / "bearing-vectors.json.gz"
 SHOWN = 20  # differences printed on a failure
 BATCH = 40  # cases sent to the page at a time: a few MB a call at most
 
@@ -53,14 +48,7 @@ async (cases) => {
 
 @pytest.fixture(scope="module")
 def vectors() -> dict:
-    if not VECTORS.exists():
-        pytest.fail(
-            f"{VECTORS} is missing: write it with "
-            "`sitecheck vectors --out tests/vectors/bearing-vectors.json.gz`"
-        )
-    # The file may hold Infinity (an unbounded utilisation in a reason's values): Python's
-    # json reads it, and Playwright carries it to the page as a number.
-    return json.loads(read_vectors(VECTORS))
+    return load_shared_vectors()
 
 
 def _run(page, script: str, cases: list[dict]) -> list:
