@@ -25,10 +25,13 @@ import threading
 from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 from pathlib import Path
 
+from phone_browser import launch
 from playwright.sync_api import sync_playwright
 
+from sitecheck.vectors import DEFAULT_PATH, read_text
+
 ROOT = Path(__file__).resolve().parent.parent
-VECTORS = ROOT / "tests" / "vectors" / "bearing-vectors.json"
+VECTORS = ROOT / DEFAULT_PATH
 
 TIMED = """
 async ({ cases, repeat }) => {
@@ -74,7 +77,7 @@ def main() -> int:
     if not VECTORS.is_file():
         print(f"{VECTORS} missing: sitecheck vectors --out {VECTORS}", file=sys.stderr)
         return 2
-    cases = json.loads(VECTORS.read_text(encoding="utf-8"))["check"]
+    cases = json.loads(read_text(VECTORS))["check"]
 
     handler = functools.partial(_QuietHandler, directory=str(ROOT / "static"))
     server = ThreadingHTTPServer(("127.0.0.1", 0), handler)
@@ -83,10 +86,7 @@ def main() -> int:
     print(f"checkBearing over {len(cases)} vector cases, {args.repeat} calls each")
     try:
         with sync_playwright() as p:
-            browser = p.chromium.launch(
-                executable_path=chromium,
-                args=["--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage"],
-            )
+            browser = launch(p, chromium)
             for rate in (float(r) for r in args.rates.split(",")):
                 # A fresh page per rate, throttled before the import: the cold figures
                 # are then those of a phone opening the form.

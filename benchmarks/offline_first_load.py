@@ -33,19 +33,10 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
+from phone_browser import launch, phone  # noqa: E402
+
 TARGET = 150 * 1024
 SW_CONTROLLED = "() => navigator.serviceWorker && navigator.serviceWorker.controller !== null"
-CHROMIUM_ARGS = [
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-dev-shm-usage",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--disable-quic",
-    "--no-first-run",
-    "--no-default-browser-check",
-]
 
 
 class ResponseCounter:
@@ -122,8 +113,8 @@ def main() -> int:
     screen = ["?"]
     try:
         with sync_playwright() as p:
-            browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
-            device = {k: v for k, v in p.devices["Pixel 7"].items() if k != "default_browser_type"}
+            browser = launch(p, chromium)
+            device = phone(p)
             context = browser.new_context(**device, base_url=url)
 
             def finished(request):

@@ -30,21 +30,12 @@ import urllib.request
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from phone_browser import launch, phone  # noqa: E402
+
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 TARGET_S = 60.0
-CHROMIUM_ARGS = [
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-dev-shm-usage",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--disable-quic",
-    "--no-first-run",
-    "--no-default-browser-check",
-]
-
 # In the page: shrink the camera photo once with the phone's code, then keep N records, each
 # with its own copy of the picture (marked with its number and a patch of its own).
 QUEUE = """async ({count, siteId, seed}) => {
@@ -148,8 +139,8 @@ def main() -> int:
     camera = camera_like_jpeg(args.seed)
     try:
         with sync_playwright() as p:
-            browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
-            device = {k: v for k, v in p.devices["Pixel 7"].items() if k != "default_browser_type"}
+            browser = launch(p, chromium)
+            device = phone(p)
             context = browser.new_context(**device, base_url=url)
             page = context.new_page()
             email, _name, password = DEMO_PEOPLE["inspector"]

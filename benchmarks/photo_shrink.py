@@ -29,18 +29,9 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
+from phone_browser import launch, phone  # noqa: E402
+
 TARGET_RATIO = 10
-CHROMIUM_ARGS = [
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-dev-shm-usage",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--disable-quic",
-    "--no-first-run",
-    "--no-default-browser-check",
-]
 
 
 def camera_like_jpeg(seed: int, width: int = 4000, height: int = 3000) -> bytes:
@@ -137,8 +128,8 @@ def main() -> int:
     threading.Thread(target=server.run, daemon=True).start()
     try:
         with sync_playwright() as p:
-            browser = p.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
-            device = {k: v for k, v in p.devices["Pixel 7"].items() if k != "default_browser_type"}
+            browser = launch(p, chromium)
+            device = phone(p)
             page = browser.new_context(**device, base_url=url).new_page()
             page.goto("/offline")
             page.evaluate(

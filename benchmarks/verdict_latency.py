@@ -23,6 +23,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
+from phone_browser import launch, phone  # noqa: E402
 from playwright.sync_api import sync_playwright  # noqa: E402
 from werkzeug.serving import make_server  # noqa: E402
 
@@ -108,13 +109,8 @@ def run(chromium: str, base: str, targets, args) -> list[dict]:
     email, _name, password = DEMO_PEOPLE["inspector"]
     samples: list[dict] = []
     with sync_playwright() as p:
-        browser = p.chromium.launch(
-            executable_path=chromium,
-            args=["--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage"],
-        )
-        phone = dict(p.devices["Pixel 7"])
-        phone.pop("default_browser_type", None)
-        context = browser.new_context(**phone, base_url=base)
+        browser = launch(p, chromium)
+        context = browser.new_context(**phone(p), base_url=base)
         page = context.new_page()
         page.goto("/login")
         page.fill("#email", email)
