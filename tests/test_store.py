@@ -812,6 +812,66 @@ def test_memberships_and_roles(world):
     assert store.role_of(w.db, user_id=w.viewer["id"], site_id=w.site["id"]) is None
 
 
+def test_the_last_engineer_is_kept_by_the_store(world):
+    w = world
+    for change in (
+        lambda: store.set_role(
+            w.db,
+            user_id=w.engineer["id"],
+            site_id=w.site["id"],
+            role="viewer",
+            by_user_id=w.engineer["id"],
+        ),
+        lambda: store.remove_membership(
+            w.db, user_id=w.engineer["id"], site_id=w.site["id"], by_user_id=w.engineer["id"]
+        ),
+    ):
+        with pytest.raises(store.LastEngineer, match="only engineer"):
+            change()
+        assert store.role_of(w.db, user_id=w.engineer["id"], site_id=w.site["id"]) == "engineer"
+
+
+def test_two_engineers_stepping_down_at_once_leave_one(world, tmp_path):
+    """Each sees a second engineer if both read before either writes; the check inside the
+    write transaction makes the later one see the truth."""
+    w = world
+    store.set_role(
+        w.db,
+        user_id=w.viewer["id"],
+        site_id=w.site["id"],
+        role="engineer",
+        by_user_id=w.engineer["id"],
+    )
+    path = w.db.conn.execute("PRAGMA database_list").fetchone()[2]
+    start = threading.Barrier(2)
+    outcomes: dict[str, str] = {}
+
+    def step_down(name: str, user_id: int) -> None:
+        db = store.open_db(path)
+        try:
+            start.wait()
+            store.set_role(
+                db, user_id=user_id, site_id=w.site["id"], role="inspector", by_user_id=user_id
+            )
+            outcomes[name] = "stepped down"
+        except store.LastEngineer:
+            outcomes[name] = "refused"
+        finally:
+            db.close()
+
+    threads = [
+        threading.Thread(target=step_down, args=("first", w.engineer["id"])),
+        threading.Thread(target=step_down, args=("second", w.viewer["id"])),
+    ]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(10)
+    assert sorted(outcomes.values()) == ["refused", "stepped down"]
+    roles = [m["role"] for m in store.members_of(w.db, site_id=w.site["id"])]
+    assert roles.count("engineer") == 1
+
+
 def test_site_settings_change_with_an_event(world):
     w = world
     site = store.update_site_settings(

@@ -31,3 +31,7 @@ class UuidInUse(Conflict):
 
 class StaleState(Conflict):
     """The bearing changed since the caller read it; reload and try again."""
+
+
+class LastEngineer(Conflict):
+    """The change would leave a site with no engineer: no one could decide or invite."""

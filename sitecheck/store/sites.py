@@ -6,7 +6,7 @@ from typing import Any
 import sqlite_utils
 
 from sitecheck.store.base import many, new_id, one, timestamp, to_json, transaction
-from sitecheck.store.errors import AlreadyMember, NotFound
+from sitecheck.store.errors import AlreadyMember, LastEngineer, NotFound
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import ROLES
 
@@ -147,13 +147,34 @@ def add_membership(
     )
 
 
+ENGINEER = "engineer"  # workflow.ENGINEER: the store sits below the workflow
+
+
+def _keep_an_engineer(db: sqlite_utils.Database, *, user_id: int, site_id: str) -> None:
+    """Inside the caller's write transaction, so two changes at once cannot both see a
+    second engineer and each take one away."""
+    others = one(
+        db,
+        "SELECT count(*) AS n FROM memberships WHERE site_id = ? AND role = ? AND user_id != ?",
+        [site_id, ENGINEER, user_id],
+    )
+    if not others["n"]:
+        raise LastEngineer(
+            "This is the site's only engineer. Make someone else engineer first; a site "
+            "without an engineer has no one to decide or to invite."
+        )
+
+
 def set_role(
     db: sqlite_utils.Database, *, user_id: int, site_id: str, role: str, by_user_id: int
 ) -> None:
+    """Raises :class:`LastEngineer` if it would leave the site without an engineer."""
     with transaction(db):
         before = role_of(db, user_id=user_id, site_id=site_id)
         if before is None:
             raise NotFound("That person is not on this site; add them first")
+        if before == ENGINEER and role != ENGINEER:
+            _keep_an_engineer(db, user_id=user_id, site_id=site_id)
         db.execute(
             "UPDATE memberships SET role = ? WHERE user_id = ? AND site_id = ?",
             [_role(role), user_id, site_id],
@@ -171,11 +192,14 @@ def set_role(
 def remove_membership(
     db: sqlite_utils.Database, *, user_id: int, site_id: str, by_user_id: int
 ) -> bool:
-    """Take a person off a site. Their records stay; from now on they are refused."""
+    """Take a person off a site. Their records stay; from now on they are refused.
+    Raises :class:`LastEngineer` if it would leave the site without an engineer."""
     with transaction(db):
         before = role_of(db, user_id=user_id, site_id=site_id)
         if before is None:
             return False
+        if before == ENGINEER:
+            _keep_an_engineer(db, user_id=user_id, site_id=site_id)
         db.execute("DELETE FROM memberships WHERE user_id = ? AND site_id = ?", [user_id, site_id])
         add_event(
             db,

@@ -635,10 +635,10 @@ def change_role(site_id, user_id):
     if new_role == current:
         flash("Their role is unchanged.")
         return redirect(url_for("sites.members", site_id=site_id))
-    refusal = _last_engineer_refusal(db, site_id, user_id, current)
-    if refusal:
-        return _member_refusal(site, 409, refusal)
-    store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
+    try:
+        store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
+    except store.LastEngineer as refusal:
+        return _member_refusal(site, 409, str(refusal))
     flash(f"Role changed from {current} to {new_role}.")
     if user_id == g.user["id"] and not workflow.allowed(new_role, "invite"):
         return redirect(url_for("sites.show", site_id=site_id))
@@ -656,27 +656,14 @@ def remove_member(site_id, user_id):
         return _member_refusal(site, 404, "That person is not on this site.")
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
-    refusal = _last_engineer_refusal(db, site_id, user_id, current)
-    if refusal:
-        return _member_refusal(site, 409, refusal)
-    store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
+    try:
+        store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
+    except store.LastEngineer as refusal:
+        return _member_refusal(site, 409, str(refusal))
     flash("Removed from this site. Their records stay on the site record.")
     if user_id == g.user["id"]:
         return redirect(url_for("pages.home"))
     return redirect(url_for("sites.members", site_id=site_id))
-
-
-def _last_engineer_refusal(db, site_id: str, user_id: int, current: str) -> str | None:
-    """A site must keep an engineer: someone has to decide, and to invite the next one."""
-    if current != workflow.ENGINEER:
-        return None
-    engineers = [m for m in store.members_of(db, site_id=site_id) if m["role"] == workflow.ENGINEER]
-    if len(engineers) <= 1:
-        return (
-            "This is the site's only engineer. Make someone else engineer first; a site "
-            "without an engineer has no one to decide or to invite."
-        )
-    return None
 
 
 def _members_page(site: dict, invite_form, status: int, new_account=None, error=None):
