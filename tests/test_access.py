@@ -27,6 +27,7 @@ ROUTES = {
     "pages.manifest": "public",
     "auth.login": "public",
     "auth.logout": "public",
+    "auth.change_password": "login",
     "review.queue": "login",
     "review.queue_json": "login",
     "sites.new": "login",

@@ -186,9 +186,32 @@ def test_connection_pragmas(db):
     assert db.execute("PRAGMA busy_timeout").fetchone()[0] == 5000
 
 
-def test_first_open_applies_the_initial_migration(db):
-    assert [m.name for m in store.MIGRATIONS.applied(db)] == ["m001_initial_schema"]
+def test_first_open_applies_every_migration_in_order(db):
+    assert [m.name for m in store.MIGRATIONS.applied(db)] == [
+        "m001_initial_schema",
+        "m002_password_to_change",
+    ]
     assert store.MIGRATIONS.pending(db) == []
+
+
+def test_a_database_of_the_first_schema_is_brought_up_to_date_keeping_its_people(tmp_path):
+    import sqlite_utils
+
+    path = tmp_path / "older.db"
+    older = sqlite_utils.Database(path)
+    store.MIGRATIONS.apply(older, stop_before="m002_password_to_change")
+    older.execute(
+        "INSERT INTO users (email, name, password_hash, created_at) VALUES (?, ?, ?, ?)",
+        ["kept@example.test", "Kept", "test-hash-not-real", "2026-01-05T09:00:00Z"],
+    )
+    older.conn.commit()
+    older.close()
+    db = store.open_db(path)
+    try:
+        user = store.get_user_by_email(db, "kept@example.test")
+        assert user["name"] == "Kept" and user["must_change_password"] is False
+    finally:
+        db.close()
 
 
 def test_migrations_applied_twice_change_nothing(world, tmp_path):
@@ -241,7 +264,8 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     assert errors == []
     db = store.open_db(path)
     try:
-        assert count(db, "_sqlite_migrations") == 1
+        # Each migration once, however many processes raced to apply it.
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 2
     finally:
         db.close()
 

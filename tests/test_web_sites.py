@@ -842,12 +842,45 @@ def test_inviting_an_unknown_e_mail_makes_an_account_with_a_one_time_password(
     assert store.role_of(db, user_id=user["id"], site_id=site["id"]) == "inspector"
     assert password not in str(store.events_for(db, site_id=site["id"]))
 
+    again = c.get(f"/sites/{site['id']}/members")
+    assert password.encode() not in again.data  # shown once only
+
+    # The newcomer's first log-in: every page leads to choosing their own password.
     newcomer = app.test_client()
     r = post(newcomer, "/login", {"email": "nia.new@example.test", "password": password})
     assert r.status_code == 302
-    assert newcomer.get(f"/sites/{site['id']}").status_code == 200
-    again = c.get(f"/sites/{site['id']}/members")
-    assert password.encode() not in again.data  # shown once only
+    r = newcomer.get(f"/sites/{site['id']}")
+    assert r.status_code == 302 and r.headers["Location"] == "/account/password"
+    page = newcomer.get("/account/password")
+    assert b"Choose your own before going on" in page.data
+    mine = "slate grey lintel over the porch"
+    for sent, field, says in (
+        ({"current": "not it at all", "new": mine, "again": mine}, "current", b"not your password"),
+        ({"current": password, "new": mine, "again": mine + "!"}, "again", b"differ"),
+        ({"current": password, "new": password, "again": password}, "new", b"other than"),
+        ({"current": password, "new": "short", "again": "short"}, "new", b"at least 10"),
+    ):
+        r = post(newcomer, "/account/password", sent)
+        assert r.status_code == 400, field
+        assert re.search(rf'data-error-for="{field}">[^<]*'.encode() + says, r.data), field
+    assert store.get_user_by_email(db, "nia.new@example.test")["must_change_password"] is True
+
+    r = post(newcomer, "/account/password", {"current": password, "new": mine, "again": mine})
+    assert r.status_code == 302
+    assert newcomer.get(f"/sites/{site['id']}").status_code == 200  # still logged in
+    assert store.get_user_by_email(db, "nia.new@example.test")["must_change_password"] is False
+    kinds = [e["kind"] for e in store.events_for_user(db, user_id=user["id"])]
+    assert "password changed" in kinds
+    # The given password is gone; the chosen one works.
+    stranger = app.test_client()
+    login = {"email": "nia.new@example.test", "password": password}
+    assert post(stranger, "/login", login).status_code == 401
+    assert post(stranger, "/login", {**login, "password": mine}).status_code == 302
+
+
+def test_an_account_with_its_own_password_is_not_asked_to_change_it(client_as, site):
+    r = client_as("inspector").get(f"/sites/{site['id']}")
+    assert r.status_code == 200
 
 
 def test_changing_a_role_and_removing_a_member(client_as, db, site, people):

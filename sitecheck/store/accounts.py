@@ -15,7 +15,7 @@ SESSION_ABSOLUTE_S = 7 * 24 * 3600
 # Writing last_seen_at on every request would turn every page view into a write.
 TOUCH_INTERVAL_S = 60
 
-_USER_COLUMNS = "id, email, name, disabled, created_at"
+_USER_COLUMNS = "id, email, name, disabled, must_change_password, created_at"
 _SESSION_ID = re.compile(r"[0-9a-f]{64}")
 
 
@@ -34,7 +34,16 @@ def _session_id(session_id: str) -> str:
     return session_id
 
 
-def create_user(db: sqlite_utils.Database, *, email: str, name: str, password_hash: str) -> dict:
+def create_user(
+    db: sqlite_utils.Database,
+    *,
+    email: str,
+    name: str,
+    password_hash: str,
+    must_change_password: bool = False,
+) -> dict:
+    """``must_change_password`` for a password someone else chose (an invitation): the
+    account must choose its own at its first log-in."""
     email = normalise_email(email)
     if "@" not in email:
         raise ValueError(f"email {email!r} has no '@'; give a full e-mail address")
@@ -43,8 +52,15 @@ def create_user(db: sqlite_utils.Database, *, email: str, name: str, password_ha
     with transaction(db):
         try:
             cursor = db.execute(
-                "INSERT INTO users (email, name, password_hash, created_at) VALUES (?, ?, ?, ?)",
-                [email, (name or "").strip(), password_hash, timestamp()],
+                "INSERT INTO users (email, name, password_hash, must_change_password, created_at)"
+                " VALUES (?, ?, ?, ?, ?)",
+                [
+                    email,
+                    (name or "").strip(),
+                    password_hash,
+                    int(bool(must_change_password)),
+                    timestamp(),
+                ],
             )
         except sqlite3.IntegrityError as error:
             if "users.email" in str(error):
@@ -78,12 +94,14 @@ def login_credentials(db: sqlite_utils.Database, email: str) -> dict | None:
 def set_password_hash(
     db: sqlite_utils.Database, *, user_id: int, password_hash: str, by_user_id: int | None
 ) -> None:
-    """Replace the hash and end every session of the user (a new password must lock others out)."""
+    """Replace the hash and end every session of the user (a new password must lock others
+    out). A password set by the user themselves is their own: nothing is left to change."""
     if not password_hash:
         raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
     with transaction(db):
         cursor = db.execute(
-            "UPDATE users SET password_hash = ? WHERE id = ?", [password_hash, user_id]
+            "UPDATE users SET password_hash = ?, must_change_password = ? WHERE id = ?",
+            [password_hash, int(by_user_id != user_id), user_id],
         )
         if cursor.rowcount != 1:
             raise NotFound(f"No user with id {user_id}")
@@ -138,7 +156,7 @@ def get_session_user(
     return one(
         db,
         """
-        SELECT u.id, u.email, u.name, u.disabled, u.created_at
+        SELECT u.id, u.email, u.name, u.disabled, u.must_change_password, u.created_at
         FROM sessions s JOIN users u ON u.id = s.user_id
         WHERE s.id = ? AND s.revoked_at IS NULL AND u.disabled = 0
           AND s.last_seen_at > ? AND s.created_at > ?

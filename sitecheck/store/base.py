@@ -23,7 +23,9 @@ JSON_COLUMNS = frozenset(
         "detail",
     }
 )
-BOOL_COLUMNS = frozenset({"disabled", "design_passed", "passed", "late", "ok", "older_revision"})
+BOOL_COLUMNS = frozenset(
+    {"disabled", "must_change_password", "design_passed", "passed", "late", "ok", "older_revision"}
+)
 
 
 @contextlib.contextmanager

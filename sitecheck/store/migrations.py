@@ -278,6 +278,15 @@ def m001_initial_schema(db: sqlite_utils.Database) -> None:
         db.execute(statement)
 
 
+@MIGRATIONS()
+def m002_password_to_change(db: sqlite_utils.Database) -> None:
+    """An account made with a password shown on someone else's screen must choose its own."""
+    db.execute(
+        "ALTER TABLE users ADD COLUMN must_change_password INTEGER NOT NULL DEFAULT 0 "
+        "CHECK (must_change_password IN (0, 1))"
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

@@ -64,15 +64,71 @@ def load_user() -> None:
 def login_required(view):
     @wraps(view)
     def wrapped(*args, **kwargs):
+        api = request.path.endswith(".json") or request.path.startswith("/api/")
         if g.user is None:
-            if request.path.endswith(".json") or request.path.startswith("/api/"):
+            if api:
                 abort(401)
             return redirect(
                 url_for("auth.login", next=request.full_path if request.method == "GET" else None)
             )
+        # A password someone else chose (shown on the inviter's screen) is changed before
+        # anything else. The phone's outbox (the API) still sends: nothing may wait on it.
+        if g.user.get("must_change_password") and not api:
+            flash(
+                "Choose your own password before going on: the one you were given is shown "
+                "to whoever made your account."
+            )
+            return redirect(url_for("auth.change_password"))
         return view(*args, **kwargs)
 
     return wrapped
+
+
+class PasswordForm(FlaskForm):
+    current = PasswordField("Password now", validators=[DataRequired(), Length(max=256)])
+    new = PasswordField("New password", validators=[DataRequired(), Length(max=256)])
+    again = PasswordField("New password again", validators=[DataRequired(), Length(max=256)])
+
+
+@bp.route("/account/password", methods=["GET", "POST"])
+def change_password():
+    # Not behind login_required: that sends a person who must change here, and would loop.
+    if g.user is None:
+        return redirect(url_for("auth.login", next=url_for("auth.change_password")))
+    form = PasswordForm()
+    if form.validate_on_submit():
+        db = get_db()
+        cred = store.login_credentials(db, g.user["email"])
+        if not accounts.verify_login(cred["password_hash"] if cred else None, form.current.data):
+            form.current.errors.append("That is not your password now. Nothing was changed.")
+        elif form.new.data != form.again.data:
+            form.again.errors.append("The two new passwords differ. Type the same one twice.")
+        elif form.new.data == form.current.data:
+            form.new.errors.append("Choose a password other than the one you have now.")
+        elif problem := accounts.password_problem(form.new.data, email=g.user["email"]):
+            form.new.errors.append(problem)
+        else:
+            # Every session of the account ends (a stolen one too); this one starts afresh.
+            store.set_password_hash(
+                db,
+                user_id=g.user["id"],
+                password_hash=accounts.hash_password(form.new.data),
+                by_user_id=g.user["id"],
+            )
+            token = accounts.new_session_token()
+            store.create_session(db, session_id=token.session_id, user_id=g.user["id"])
+            session.clear()
+            session[SESSION_KEY] = token.token
+            session.permanent = True
+            flash("Password changed. Other phones and browsers logged in as you are logged out.")
+            return redirect(url_for("pages.home"))
+    status = 400 if request.method == "POST" else 200
+    return render_template(
+        "password.html",
+        form=form,
+        must=bool(g.user.get("must_change_password")),
+        min_length=accounts.PASSWORD_MIN,
+    ), status
 
 
 @bp.route("/login", methods=["GET", "POST"])

@@ -592,7 +592,11 @@ def invite(site_id):
     try:
         with store.transaction(db):
             user = store.create_user(
-                db, email=email, name=name, password_hash=accounts.hash_password(password)
+                db,
+                email=email,
+                name=name,
+                password_hash=accounts.hash_password(password),
+                must_change_password=True,
             )
             store.add_membership(
                 db, user_id=user["id"], site_id=site_id, role=role, invited_by=g.user["id"]
