@@ -15,8 +15,25 @@ import("/static/js/unsent.js").catch((error) => {
 });
 
 // The service worker keeps the app's shell and kept pages for basements with no signal.
-if ("serviceWorker" in navigator) {
-  navigator.serviceWorker.register("/sw.js", { scope: "/" }).catch((error) => {
-    console.warn("sitecheck: offline use is not available:", error);
+// Its install fetches the whole shell at once and fails if any file does (one bar of signal,
+// a server restarting): it is tried again, a little later each time, rather than leaving
+// the phone without offline use until the next page happens to register it.
+const SHELL_RETRIES = 5;
+
+function registerWorker(attempt = 0) {
+  const retry = () => {
+    if (attempt < SHELL_RETRIES) setTimeout(() => registerWorker(attempt + 1), 2000 * 2 ** attempt);
+  };
+  navigator.serviceWorker.register("/sw.js", { scope: "/" }).then((registration) => {
+    const installing = registration.installing;
+    if (!installing) return;
+    installing.addEventListener("statechange", () => {
+      if (installing.state === "redundant" && !navigator.serviceWorker.controller) retry();
+    });
+  }).catch((error) => {
+    console.warn("sitecheck: offline use is not available yet:", error);
+    retry();
   });
 }
+
+if ("serviceWorker" in navigator) registerWorker();

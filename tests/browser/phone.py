@@ -87,7 +87,8 @@ def keep_site(page: Page, site_id: str, *, role: str | None = "inspector") -> No
     if role:
         log_in(page, role)
     page.goto(f"/sites/{site_id}/inspect")
-    page.wait_for_function(SW_CONTROLLED, timeout=15_000)
+    # A failed install is retried by the page after 2 s, then 4 s (static/app.js).
+    page.wait_for_function(SW_CONTROLLED, timeout=30_000)
     page.get_by_role("button", name="Keep for offline").tap()
     expect(page.locator("body")).to_have_attribute("data-pack-kept", site_id)
     expect(page.locator(f'[data-pack-age="{site_id}"]')).to_contain_text("Kept for offline use")

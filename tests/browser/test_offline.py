@@ -18,7 +18,7 @@ from datetime import UTC, datetime, timedelta
 import pytest
 from playwright.sync_api import Page, expect
 
-from phone import OUTBOX, REFUSED, keep_site, log_in_as, record_offline
+from phone import OUTBOX, REFUSED, SW_CONTROLLED, keep_site, log_in_as, record_offline
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from sitecheck import auth, store, workflow
 from sitecheck.demo import BRICK_WING_NAME, DEMO_PEOPLE
@@ -447,3 +447,26 @@ def test_a_session_that_ended_while_offline_asks_for_a_log_in_and_loses_nothing(
     assert page.evaluate(OUTBOX) == []
     rows = _query(live_server, "SELECT count(*) FROM as_built_records WHERE uuid = ?", [kept])
     assert rows == [(1,)]
+
+
+def test_a_shell_that_failed_to_download_is_tried_again(page: Page, context):
+    """One file of the shell fails the first time (a dropped connection): the worker's
+    install fails as a whole, and the page registers it again until the phone has it."""
+    failed = []
+
+    def drop_first(route):
+        if not failed:
+            failed.append(route.request.url)
+            route.abort()
+        else:
+            route.continue_()
+
+    context.route("**/refused", drop_first)  # fetched only by the worker's install
+    page.goto("/login")  # and stay: no later page load would register the worker again
+    page.wait_for_function(SW_CONTROLLED, timeout=30_000)
+    assert failed, "the worker's first install never asked for the shell"
+    cached = page.evaluate(
+        "async () => (await caches.has(`sitecheck-shell-${(await (await fetch('/sw.js')).text())"
+        '.match(/const VERSION = "([^"]+)"/)[1]}`))'
+    )
+    assert cached is True
