@@ -253,7 +253,9 @@ def record_as_built(
         state_after_record=workflow.state_after_record,
         now=now,
     )
-    if stored.created and provisional is not None:
+    # A phone that measured against an older revision checked another design: the server's
+    # answer differs for that reason, and the older-revision reason already says so.
+    if stored.created and provisional is not None and design_revision == bearing["revision"]:
         difference = phone_verdict_difference(provisional, rc.result, rc.reasons)
         if difference:
             store.add_event(

@@ -538,12 +538,18 @@ def test_a_record_against_an_older_design_revision_is_kept_and_flagged(client_as
         location=None,
         user_id=people["engineer"].id,
     )
-    r = post_record(inspector, site, bearing, as_designed(bearing), hidden=hidden)
+    # The phone re-checked the design it had (revision 1): its verdict is not compared with
+    # the server's re-check of revision 2, which differs for that reason alone.
+    old_verdict = json.dumps({"passed": True, "governing": "x", "utilisation": 0.5, "reasons": []})
+    r = post_record(
+        inspector, site, bearing, as_designed(bearing) | {"provisional": old_verdict}, hidden=hidden
+    )
     assert r.status_code == 302
     html = inspector.get(r.headers["Location"]).get_data(as_text=True)
     assert 'data-flag="older-revision"' in html
     assert 'data-code="older-design-revision"' in html
     assert bearing_named(db, site)["state"] == "engineer to decide"
+    assert _events(db, site, services.PHONE_VERDICT_DIFFERED) == []
 
 
 # --- who may do what ------------------------------------------------------------------------------
