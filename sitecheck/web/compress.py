@@ -4,6 +4,11 @@ shell, and its scripts (the core's mirror most of all) shrink about fourfold.
 Static files are compressed once per version (keyed by their ETag) and kept; pages and JSON
 are compressed as they go. Photos, PDFs and archives are already compressed and are left
 alone, as is anything small enough that the gzip header would eat the gain.
+
+Compressing pages that hold a secret beside text an attacker can choose is the shape of the
+BREACH attack. The secret on our pages is the CSRF token, which Flask-WTF signs with a
+timestamp, so it changes every second and never repeats across the many requests that
+attack needs.
 """
 
 from __future__ import annotations
