@@ -6,9 +6,11 @@ are compressed as they go. Photos, PDFs and archives are already compressed and 
 alone, as is anything small enough that the gzip header would eat the gain.
 
 Compressing pages that hold a secret beside text an attacker can choose is the shape of the
-BREACH attack. The secret on our pages is the CSRF token, which Flask-WTF signs with a
-timestamp, so it changes every second and never repeats across the many requests that
-attack needs.
+BREACH attack. The secret on our pages is the CSRF token. Flask-WTF signs it with a
+timestamp and the app's secret key: the signature, without which the token is refused,
+changes every second, so it never stands still across the many requests that attack needs,
+and the part that does stay the same is worthless without a signature only the server can
+make.
 """
 
 from __future__ import annotations
