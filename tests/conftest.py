@@ -14,6 +14,7 @@ import pytest
 from sitecheck import auth, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
 from sitecheck.web import create_app
+from webkit import new_site
 
 PASSWORD = "correct horse battery"  # test accounts only
 
@@ -70,15 +71,7 @@ def people(db) -> dict[str, Person]:
 @pytest.fixture
 def site(db, people) -> dict:
     """The demo schedule's design values on a site with one member per role."""
-    basis, review = services.default_site_settings()
-    s = store.create_site(
-        db,
-        name=SITE_NAME,
-        address=SITE_ADDRESS,
-        code_basis=basis,
-        review_settings=review,
-        created_by=people["engineer"].id,
-    )
+    s = new_site(db, name=SITE_NAME, created_by=people["engineer"].id, address=SITE_ADDRESS)
     for role in ("inspector", "contractor", "viewer"):
         store.add_membership(
             db,

@@ -47,6 +47,7 @@ from sitecheck.report.drawing import FONT, PHONE_MIN_PX, bearing_svg, side_by_si
 from sitecheck.schedule import parse_schedule, recheck_rows
 from sitecheck.web import photo_store
 from sitecheck.web import record as record_web
+from webkit import new_site
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -254,15 +255,7 @@ def test_the_exported_schedule_imports_into_a_new_site_with_the_same_design_inpu
     db, site, people
 ):
     text = export.schedule_csv(collect(db, site["id"]))
-    basis, review = services.default_site_settings()
-    fresh = store.create_site(
-        db,
-        name="Copy of the schedule",
-        address="",
-        code_basis=basis,
-        review_settings=review,
-        created_by=people["engineer"].id,
-    )
+    fresh = new_site(db, name="Copy of the schedule", created_by=people["engineer"].id)
     report = services.import_schedule(db, site=fresh, text=text, user_id=people["engineer"].id)
     assert report.ok, report.errors
     before = {b["reference"]: b for b in store.list_bearings(db, site_id=site["id"])}
@@ -960,15 +953,7 @@ def test_the_record_in_the_making_is_refused_to_anyone_not_on_the_site(
         assert b"%PDF" not in r.data and b"GF-B1" not in r.data
     assert _start(outsider, site["id"]).status_code == 404
     # Their own site gives them nothing of this one's.
-    basis, review = services.default_site_settings()
-    own = store.create_site(
-        db,
-        name="Outsider's own site",
-        address="",
-        code_basis=basis,
-        review_settings=review,
-        created_by=people["outsider"].id,
-    )
+    own = new_site(db, name="Outsider's own site", created_by=people["outsider"].id)
     assert outsider.get(f"/sites/{own['id']}/record/pdf/file").status_code == 302
     assert outsider.get(f"/sites/{own['id']}/record/pdf.json").get_json()["job"] is None
     # No token, no job.

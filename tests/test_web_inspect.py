@@ -16,7 +16,7 @@ from PIL import Image
 
 from photo_samples import encode, flood_png, jpeg_markers, make_test_jpeg
 from sitecheck import services, store
-from webkit import csrf_token
+from webkit import csrf_token, new_site
 
 REFERENCE = "GF-B1-E"  # designed with a 440 × 215 × 140 padstone, utilisation 0.60
 
@@ -617,14 +617,8 @@ def test_another_sites_photo_and_record_are_not_found(client_as, db, site, peopl
     photo_path = re.search(
         r'<img src="/sites/[^/]+/(photos/[^"]+)"', inspector.get(result).get_data(as_text=True)
     ).group(1)
-    basis, review = services.default_site_settings()
-    other = store.create_site(
-        db,
-        name="Invented Mews",
-        address="1 Invented Mews",
-        code_basis=basis,
-        review_settings=review,
-        created_by=people["engineer"].id,
+    other = new_site(
+        db, name="Invented Mews", created_by=people["engineer"].id, address="1 Invented Mews"
     )
     store.add_membership(
         db,

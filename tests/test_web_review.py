@@ -15,7 +15,7 @@ import pytest
 
 from sitecheck import auth, services, store
 from sitecheck.demo import schedule_csv
-from webkit import csrf_token
+from webkit import csrf_token, new_site
 
 SECOND_PASSWORD = "another long test password"  # a test account only
 
@@ -138,15 +138,7 @@ def other_site_with_engineer(db, name="Second invented site") -> tuple[dict, Eng
         password_hash=auth.hash_password(SECOND_PASSWORD),
     )
     engineer = Engineer(u["id"], "second@example.test")
-    basis, review = services.default_site_settings()
-    other = store.create_site(
-        db,
-        name=name,
-        address="Nowhere Lane (invented)",
-        code_basis=basis,
-        review_settings=review,
-        created_by=engineer.id,
-    )
+    other = new_site(db, name=name, created_by=engineer.id, address="Nowhere Lane (invented)")
     text = "\n".join(row for row in schedule_csv().splitlines() if "BS 5628-1" not in row) + "\n"
     assert services.import_schedule(db, site=other, text=text, user_id=engineer.id).ok
     record(db, other, "FF-B5", engineer)
