@@ -3,7 +3,8 @@ shell, and its scripts (the core's mirror most of all) shrink about fourfold.
 
 Static files are compressed once per version (keyed by their ETag) and kept; pages and JSON
 are compressed as they go. Photos, PDFs and archives are already compressed and are left
-alone, as is anything small enough that the gzip header would eat the gain.
+alone, as is anything small enough that the gzip header would eat the gain. Every static
+file is read and closed here, before the answer leaves the app (see :func:`_read_and_close`).
 
 Compressing pages that hold a secret beside text an attacker can choose is the shape of the
 BREACH attack. The secret on our pages is the CSRF token. Flask-WTF signs it with a
@@ -55,10 +56,27 @@ class _StaticCache:
         return found
 
 
+def _read_and_close(response: Response) -> bytes:
+    """The body of a response that passes a file straight through (send_file), read now and
+    the file closed now. Left to the server, the file stays open when a client drops the
+    connection mid-answer (a phone losing signal; a worker's precache cut short), as the
+    development server then skips closing it."""
+    close = getattr(response.response, "close", None)
+    response.direct_passthrough = False
+    data = response.get_data()
+    if close is not None:
+        close()
+    return data
+
+
 def install(app: Flask) -> None:
     cache = _StaticCache()
 
     def compress(response: Response) -> Response:
+        static = request.path.startswith("/static/") or request.path == "/sw.js"
+        if static and response.status_code == 200 and response.direct_passthrough:
+            # Small files of our own, read once per request: never leave one open.
+            _read_and_close(response)
         if (
             response.status_code != 200
             or response.mimetype not in COMPRESSIBLE
@@ -68,13 +86,11 @@ def install(app: Flask) -> None:
         ):
             return response
         response.vary.add("Accept-Encoding")
-        # A file sent by send_file passes its file object straight through; read it here.
-        response.direct_passthrough = False
-        data = response.get_data()
+        data = _read_and_close(response) if response.direct_passthrough else response.get_data()
         if len(data) < SMALLEST:
             return response
         etag, _weak = response.get_etag()
-        if etag and (request.path.startswith("/static/") or request.path == "/sw.js"):
+        if etag and static:
             body = cache.get((request.path, etag or ""), data)
         else:
             body = gzip.compress(data, compresslevel=LEVEL, mtime=0)
