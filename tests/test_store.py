@@ -1060,3 +1060,20 @@ def test_a_migration_that_cannot_run_in_a_transaction_is_refused_with_the_fix(db
     with pytest.raises(ValueError, match="outside a transaction"):
         store.apply_migrations(db, trial)
     assert [m.name for m in trial.pending(db)] == ["vacuum"]
+
+
+def test_latest_record_summaries_hold_the_record_that_sets_each_state(world):
+    w = world
+    second = make_bearing(w.db, w.site, w.engineer, "B2")
+    later = send_record(w.db, w.site, w.bearing, w.inspector, measured_at=T0, utilisation=0.8)
+    # Sent afterwards but measured earlier: kept, and not the one that sets the state.
+    send_record(
+        w.db, w.site, w.bearing, w.inspector, measured_at="2026-01-01T08:00:00Z", utilisation=0.5
+    )
+    summaries = store.latest_record_summaries(w.db, site_id=w.site["id"])
+    assert set(summaries) == {w.bearing["id"]}  # B2 has no record yet
+    latest = summaries[w.bearing["id"]]
+    assert latest["uuid"] == later.row["uuid"] and latest["utilisation"] == 0.8
+    assert latest["passed"] is True and latest["older_revision"] is False
+    assert "result" not in latest and "reasons" not in latest  # the heavy columns stay out
+    assert second["id"] not in summaries

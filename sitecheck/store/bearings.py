@@ -573,6 +573,23 @@ def records_for_site(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
     )
 
 
+def latest_record_summaries(db: sqlite_utils.Database, *, site_id: str) -> dict[str, dict]:
+    """Each bearing's latest record (the one that sets its state), by bearing id, without
+    the stored result and reasons: the site page needs a line per bearing, and a site's
+    history of full re-checks grows with every visit to it."""
+    rows = many(
+        db,
+        """
+        SELECT r.bearing_id, r.uuid, r.measured_at, r.utilisation, r.passed, r.blocking,
+               r.design_revision < b.revision AS older_revision
+        FROM bearings b JOIN as_built_records r ON r.uuid = b.latest_record_uuid
+        WHERE b.site_id = ?
+        """,
+        [site_id],
+    )
+    return {row.pop("bearing_id"): row for row in rows}
+
+
 def insert_photo(
     db: sqlite_utils.Database,
     *,

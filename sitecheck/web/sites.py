@@ -115,8 +115,8 @@ def show(site_id):
     site, role = site_for(site_id, "view")
     db = get_db()
     bearings = store.list_bearings(db, site_id=site_id)
-    latest = {r["uuid"]: r for r in store.records_for_site(db, site_id=site_id)}
-    rows = [_schedule_row(b, latest.get(b["latest_record_uuid"])) for b in bearings]
+    latest = store.latest_record_summaries(db, site_id=site_id)
+    rows = [_schedule_row(b, latest.get(b["id"])) for b in bearings]
     counts = {state: 0 for state in workflow.STATES}
     for row in rows:
         counts[row["state"]] += 1
