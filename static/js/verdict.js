@@ -209,6 +209,7 @@ function renderBar(bar, outcome) {
   if (outcome.error) {
     bar.textContent = "Provisional: ✗ cannot re-check yet (see below)";
     bar.dataset.verdict = "cannot";
+    bar.hidden = false;
     return;
   }
   const result = outcome.result;
@@ -227,7 +228,7 @@ function render(panel, outcome, unreadable, ms, basis) {
   if (outcome.error) {
     const e = outcome.error;
     parts.push(el("p", { class: "verdict fail", role: "status", "data-verdict": "cannot" },
-      `✗ Cannot re-check yet: ${e.message || `${e.field}: expected ${e.expected}`}`));
+      `✗ Cannot re-check yet: ${e.message || `${e.field} = ${e.value}: expected ${e.expected}`}`));
   } else {
     const result = outcome.result;
     const ok = result.passed && !outcome.blocking;

@@ -150,3 +150,16 @@ def test_with_no_signal_the_verdict_shows_and_the_server_confirms_it_later(
         for e in store.events_for(db, site_id=site["id"])
         if e["kind"] == services.PHONE_VERDICT_DIFFERED and record_uuid in str(e["detail"])
     ]
+
+
+def test_a_value_the_core_refuses_is_named_with_what_was_expected(page: Page, live_server):
+    log_in(page, "inspector")
+    _open_form(page, live_server)
+    page.fill("#wall_thickness", "0.215")  # metres typed where millimetres are asked for
+    panel = page.locator("[data-provisional-verdict]")
+    verdict = panel.locator(".verdict")
+    expect(verdict).to_have_attribute("data-verdict", "cannot")
+    expect(verdict).to_contain_text("wall.thickness = 0.215")
+    expect(verdict).to_contain_text("millimetres")  # the core's hint, word for word
+    expect(page.locator("[data-verdict-bar]")).to_be_visible()
+    expect(page.locator("[data-verdict-bar]")).to_contain_text("cannot re-check yet")
