@@ -80,6 +80,7 @@ async function load() {
 function openForm(b) {
   bearing = b;
   form.reset();
+  for (const old of form.querySelectorAll("[data-again-notice]")) old.remove();
   clearErrors();
   form.querySelector("[data-form-title]").textContent = `As-built record: ${b.reference}`;
   form.querySelector("[data-form-location]").textContent = b.location || "";
@@ -93,6 +94,34 @@ function openForm(b) {
   listSection.hidden = true;
   form.hidden = false;
   form.querySelector("h2").scrollIntoView();
+}
+
+// "Record again" from the refused list: the form for the same bearing, filled with what was
+// measured, to be checked, put right and kept anew. The refused item stays on its list.
+async function recordAgain(uuid) {
+  const item = await get("refused", uuid);
+  const b = item && item.record && pack.bearings.find((x) => x.id === item.bearing_id);
+  const status = root.querySelector("[data-pack-age]");
+  if (!b) {
+    status.textContent = "That refused record is not for a bearing in this site pack; record it from the list.";
+    return;
+  }
+  openForm(b);
+  const values = { ...item.record.measurements, ...item.record.checklist };
+  for (const [name, value] of Object.entries(values)) {
+    const field = form.elements[name];
+    if (!field) continue;
+    if (field instanceof RadioNodeList) field.value = value === true ? "yes" : value === false ? "no" : "";
+    else field.value = String(value);
+  }
+  form.elements.notes.value = item.record.notes || "";
+  recheckNow();
+  const notice = el("p", { class: "notice", role: "note", "data-again-notice": item.uuid },
+    el("strong", {}, "Filled from a refused record"),
+    ` (measured ${item.record.measured_at}; refused: ${item.reason}). Check each value and put ` +
+    "right what the server refused, then keep it. Photos are not copied: add them again.");
+  form.querySelector("[data-form-errors]").before(notice);
+  form.elements.measured_at.value = item.record.measured_at;
 }
 
 function closeForm() {
@@ -263,4 +292,8 @@ window.addEventListener("sitecheck:outbox", (event) => {
   if (event.detail && event.detail.kind === "sent") showConfirmed(event.detail);
   showLists();
 });
-load().then(showLists);
+load().then(() => {
+  const again = new URLSearchParams(window.location.hash.slice(1)).get("again");
+  if (again && pack) recordAgain(again);
+  return showLists();
+});

@@ -77,6 +77,13 @@ async function showRefusedPage() {
       details.append(dl);
       if (item.record.notes) details.append(text("p", "notes", item.record.notes));
       li.append(details);
+      // A fragment, not a query: the worker's kept copy of the offline page still answers.
+      const again = document.createElement("a");
+      again.className = "button";
+      again.href = `/sites/${encodeURIComponent(item.site_id)}/offline#again=${encodeURIComponent(item.uuid)}`;
+      again.dataset.recordAgain = item.uuid;
+      again.textContent = "Record again from these values";
+      li.append(again);
     }
     return li;
   }));

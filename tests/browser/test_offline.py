@@ -470,3 +470,45 @@ def test_a_shell_that_failed_to_download_is_tried_again(page: Page, context):
         '.match(/const VERSION = "([^"]+)"/)[1]}`))'
     )
     assert cached is True
+
+
+def test_a_refused_record_is_recorded_again_from_its_values(page: Page, context, live_server):
+    site_id = _site_id(live_server)
+    keep_site(page, site_id)
+    context.set_offline(True)
+    refused_uuid = record_offline(page, "EX-B8", "145")
+    refusal = {
+        "error": "Bearing length: 145 mm cannot be right for this beam.",
+        "field": "measurements.bearing_length",
+        "code": "refused",
+    }
+    context.route(
+        "**/api/records",
+        lambda route: route.fulfill(
+            status=422, content_type="application/json", body=json.dumps(refusal)
+        ),
+    )
+    context.set_offline(False)
+    expect(page.locator(f'[data-refused-item="{refused_uuid}"]')).to_be_visible(timeout=20_000)
+    context.unroute("**/api/records")
+
+    page.goto("/refused")
+    page.locator(f'[data-record-again="{refused_uuid}"]').tap()
+    form = page.locator("form[data-offline-form]")
+    expect(form).to_be_visible()
+    expect(form.locator("[data-again-notice]")).to_contain_text("Filled from a refused record")
+    assert page.input_value("#bearing_length") == "145"
+    assert form.locator("#field-bedded input[value=yes]").is_checked()
+    page.fill("#bearing_length", "150")
+    form.get_by_role("button", name="Keep in unsent").tap()
+    expect(form).to_be_hidden()
+    again_uuid = page.locator("body").get_attribute("data-last-saved")
+    assert again_uuid and again_uuid != refused_uuid
+
+    expect(page.locator("[data-unsent-count]")).to_have_text("0", timeout=20_000)
+    measured = _query(
+        live_server, "SELECT measurements FROM as_built_records WHERE uuid = ?", [again_uuid]
+    )
+    assert json.loads(measured[0][0])["bearing_length"] == 150
+    # The refused record stays on its list: nothing refused is deleted.
+    assert refused_uuid in [i["uuid"] for i in page.evaluate(REFUSED)]
