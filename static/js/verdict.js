@@ -204,20 +204,25 @@ export function verdictOf(outcome) {
   };
 }
 
+// The bar is the one live region (role=status): it is read out when the verdict changes,
+// not on every key, and the panel below it is redrawn silently.
+function setBar(bar, text, verdict) {
+  if (bar.textContent !== text) bar.textContent = text;
+  bar.dataset.verdict = verdict;
+  bar.hidden = false;
+}
+
 function renderBar(bar, outcome) {
   if (!bar) return;
   if (outcome.error) {
-    bar.textContent = "Provisional: ✗ cannot re-check yet (see below)";
-    bar.dataset.verdict = "cannot";
-    bar.hidden = false;
+    setBar(bar, "Provisional: ✗ cannot re-check yet (see below)", "cannot");
     return;
   }
   const result = outcome.result;
   const ok = result.passed && !outcome.blocking;
   const word = ok ? "✓ within design" : !result.passed ? "✗ fails as built" : "? needs the engineer";
-  bar.textContent = `Provisional: ${word} · utilisation ${utilisationText(result.utilisation)}`;
-  bar.dataset.verdict = ok ? "pass" : "review";
-  bar.hidden = false;
+  setBar(bar, `Provisional: ${word} · utilisation ${utilisationText(result.utilisation)}`,
+    ok ? "pass" : "review");
 }
 
 function render(panel, outcome, unreadable, ms, basis) {
@@ -227,13 +232,13 @@ function render(panel, outcome, unreadable, ms, basis) {
     " — worked out on this phone from the values above; the server's re-check confirms it when the record is sent.")];
   if (outcome.error) {
     const e = outcome.error;
-    parts.push(el("p", { class: "verdict fail", role: "status", "data-verdict": "cannot" },
+    parts.push(el("p", { class: "verdict fail", "data-verdict": "cannot" },
       `✗ Cannot re-check yet: ${e.message || `${e.field} = ${e.value}: expected ${e.expected}`}`));
   } else {
     const result = outcome.result;
     const ok = result.passed && !outcome.blocking;
     const word = ok ? "✓ Within design" : !result.passed ? "✗ Fails as built" : "? Needs the engineer";
-    parts.push(el("p", { class: `verdict ${ok ? "pass" : "fail"}`, role: "status", "data-verdict": ok ? "pass" : "review" },
+    parts.push(el("p", { class: `verdict ${ok ? "pass" : "fail"}`, "data-verdict": ok ? "pass" : "review" },
       `${word} — governing: ${checkTitle(result, result.governing)}, utilisation ${utilisationText(result.utilisation)}`));
     if (!result.passed) {
       parts.push(el("p", { class: "remedy-hint", "data-remedy-hint": "" },

@@ -59,6 +59,9 @@ def test_the_verdict_follows_the_typed_values_and_the_server_agrees(page: Page, 
     expect(panel.locator(".verdict")).to_have_attribute("data-verdict", "pass")
     expect(panel.locator(".verdict")).to_contain_text("Within design")
     expect(page.locator("[data-verdict-bar]")).to_contain_text("within design")
+    # One live region, read out when the verdict changes; the panel redraws silently.
+    expect(page.locator("[data-verdict-bar]")).to_have_attribute("role", "status")
+    assert page.locator("[data-provisional-verdict] [role=status], [aria-live]").count() == 0
 
     page.fill("#padstone_length", "300")
     expect(panel.locator(".verdict")).to_have_attribute("data-verdict", "review")
