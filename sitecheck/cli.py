@@ -272,21 +272,7 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
         )
         hint = hints.get(o.row.reference)
         if hint is not None:
-            print(f"{'':22} hint: {hint_text(hint)}")
-
-
-def hint_text(h) -> str:
-    parts = []
-    if h.padstone is not None:
-        p = h.padstone
-        parts.append(
-            f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes (util. {h.padstone_utilisation:.2f})"
-        )
-    if h.bearing_length is not None:
-        parts.append(
-            f"a bearing of {h.bearing_length:g} mm passes (util. {h.bearing_utilisation:.2f})"
-        )
-    return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
+            print(f"{'':22} hint: {hint.describe()}")
 
 
 def _as_json(outcomes, errors, hints, unknown) -> dict:

@@ -19,6 +19,7 @@ from sitecheck.bearing import (
     check_bearing,
     ec6_uk_na,
 )
+from sitecheck.bearing.remedy import Remedy, remedy
 from sitecheck.bearing.review import (
     BLOCKS,
     ReviewReason,
@@ -268,6 +269,16 @@ def record_as_built(
                 now=now,
             )
     return stored, Recheck(rc.as_built, rc.result, tuple(reasons))
+
+
+def remedy_for_record(site: dict, bearing: dict, record: dict) -> Remedy | None:
+    """What would pass in place of a failing as-built, for the engineer deciding on it: the
+    smallest standard padstone and the shortest bearing. None when the record passes or was
+    measured against an older design (its hint would be for another design)."""
+    if record["passed"] or record["design_revision"] != bearing["revision"]:
+        return None
+    measured = measurements_from_dict(record["measurements"])
+    return remedy(as_built_input(design_of(bearing), measured), basis_for(site))
 
 
 PHONE_VERDICT_DIFFERED = "phone verdict differed"

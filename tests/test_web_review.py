@@ -14,6 +14,7 @@ from datetime import UTC, datetime, timedelta
 import pytest
 
 from sitecheck import auth, services, store
+from sitecheck.bearing.remedy import remedy
 from sitecheck.demo import schedule_csv
 from webkit import csrf_token, new_site
 
@@ -471,3 +472,25 @@ def test_review_pages_ask_for_a_log_in(app, db, people, site):
     assert anonymous.get("/review").status_code == 302
     assert anonymous.get("/review.json").status_code == 401
     assert anonymous.get(review_url(site, b, json=True)).status_code == 401
+
+
+def test_a_failing_as_built_shows_what_would_pass_and_a_passing_one_does_not(
+    client_as, db, site, people
+):
+    ins = people["inspector"]
+    record(db, site, "GF-B1-W", ins, bearing_length=60.0)  # far below the minimum bearing
+    record(db, site, "GF-B1-E", ins)  # as designed
+    short = bearing_named(db, site, "GF-B1-W")
+    latest = store.get_record(db, site_id=site["id"], uuid=short["latest_record_uuid"])
+    assert latest["passed"] is False
+    # The same hint, in the same words, as the core gives for the merged as-built input.
+    built = services.recheck(site, short, latest["measurements"], latest["checklist"]).as_built
+    expected = remedy(built, services.basis_for(site)).describe()
+    assert "mm passes" in expected
+    html = client_as("engineer").get(review_url(site, short)).data.decode()
+    hint = re.search(r"<p class=\"remedy-hint\" data-remedy-hint>(.*?)</p>", html, flags=re.S)
+    assert hint and expected in hint.group(1)
+
+    fine = bearing_named(db, site, "GF-B1-E")
+    html = client_as("engineer").get(review_url(site, fine)).data.decode()
+    assert "data-remedy-hint" not in html

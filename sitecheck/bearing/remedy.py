@@ -29,6 +29,23 @@ class Remedy:
     bearing_length: float | None
     bearing_utilisation: float | None
 
+    def describe(self) -> str:
+        """In words, as the CLI, the review page and the phone (static/js/verdict.js
+        remedyText) show it: a hint from standard sizes, never an instruction."""
+        parts = []
+        if self.padstone is not None:
+            p = self.padstone
+            parts.append(
+                f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes "
+                f"(util. {self.padstone_utilisation:.2f})"
+            )
+        if self.bearing_length is not None:
+            parts.append(
+                f"a bearing of {self.bearing_length:g} mm passes "
+                f"(util. {self.bearing_utilisation:.2f})"
+            )
+        return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
+
     def as_dict(self) -> dict:
         pad = self.padstone
         return {

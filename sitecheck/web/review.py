@@ -169,6 +169,7 @@ def bearing_page(
         bearing=_bearing_summary(b),
         design_result=b["design_result"],
         latest=_record(latest, names, b) if latest else None,
+        remedy_hint=_remedy_hint(site, b, latest),
         comparison=_compare(b["design_input"], latest["measurements"]) if latest else [],
         checklist=_checklist(latest["checklist"]) if latest else [],
         photos=photos,
@@ -187,6 +188,13 @@ def bearing_page(
         message=message,
         when=when,
     )
+
+
+def _remedy_hint(site: dict, b: dict, latest: dict | None) -> str | None:
+    if latest is None:
+        return None
+    hint = services.remedy_for_record(site, b, latest)
+    return hint.describe() if hint else None
 
 
 def _bearing_summary(b: dict) -> dict:

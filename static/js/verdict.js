@@ -155,9 +155,9 @@ export function traceDetails(result, open = false) {
   return details;
 }
 
-/** The smallest standard padstone and the shortest bearing that would pass, in the words
- * `sitecheck check` prints them: a hint for the conversation on site, not an instruction
- * (that is the engineer's). */
+/** The smallest standard padstone and the shortest bearing that would pass, in the words of
+ * Remedy.describe() (sitecheck/bearing/remedy.py): a hint for the conversation on site, not
+ * an instruction (that is the engineer's). */
 export function remedyText(outcome, basis) {
   const hint = remedy(outcome.as_built, basis ? basisFromDict(basis) : ec6UkNa());
   const parts = [];

@@ -14,7 +14,6 @@ from playwright.sync_api import Page, expect
 from phone import keep_site, log_in, open_site
 from sitecheck import services, store
 from sitecheck.bearing.remedy import remedy
-from sitecheck.cli import hint_text
 from sitecheck.demo import SITE_NAME
 
 REFERENCE = "GF-B1-E"
@@ -113,7 +112,7 @@ def test_a_failing_bearing_shows_the_hint_the_server_would_give(page: Page, live
     rc = services.recheck(ctx["site"], ctx["bearing"], {"bearing_length": 60.0}, {})
     hint = remedy(rc.as_built, services.basis_for(ctx["site"]))
     assert not rc.result.passed and hint.bearing_length is not None
-    expect(panel.locator("[data-remedy-hint]")).to_contain_text(hint_text(hint))
+    expect(panel.locator("[data-remedy-hint]")).to_contain_text(hint.describe())
 
 
 def test_with_no_signal_the_verdict_shows_and_the_server_confirms_it_later(
