@@ -81,14 +81,27 @@ def open_site(page: Page, name: str) -> None:
     expect(page.locator("h1")).to_have_text(name)
 
 
+def wait_for_worker(page: Page) -> None:
+    """Until the service worker controls the page. A failed install is retried by the page
+    (static/app.js). A worker that activates while this page is still loading may not
+    claim it (Chromium leaves a page mid-navigation to its next load); as a phone's next
+    page would, a reload then brings it under the worker."""
+    page.wait_for_function(
+        "() => navigator.serviceWorker && navigator.serviceWorker.ready.then(() => true)",
+        timeout=30_000,
+    )
+    if not page.evaluate(SW_CONTROLLED):
+        page.reload()
+    page.wait_for_function(SW_CONTROLLED, timeout=15_000)
+
+
 def keep_site(page: Page, site_id: str, *, role: str | None = "inspector") -> None:
     """Online: (log in,) open the survey list, wait for the service worker, keep the site
     pack, then open the site's offline page once so the worker holds it."""
     if role:
         log_in(page, role)
     page.goto(f"/sites/{site_id}/inspect")
-    # A failed install is retried by the page after 2 s, then 4 s (static/app.js).
-    page.wait_for_function(SW_CONTROLLED, timeout=30_000)
+    wait_for_worker(page)
     page.get_by_role("button", name="Keep for offline").tap()
     expect(page.locator("body")).to_have_attribute("data-pack-kept", site_id)
     expect(page.locator(f'[data-pack-age="{site_id}"]')).to_contain_text("Kept for offline use")
