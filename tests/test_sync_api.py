@@ -481,3 +481,16 @@ def test_the_offline_form_sends_the_online_forms_field_names(client_as, site):
     for name in (*MEASUREMENT_FIELDS, *CHECKLIST_FIELDS, "notes", "photos", "measured_at"):
         assert f'name="{name}"' in page, name
     assert client_as("contractor").get(f"/sites/{site['id']}/offline").status_code == 403
+
+
+def test_the_phones_field_lists_are_the_servers():
+    """verdict.js reads the as-built form by these names for the phone's re-check and the
+    offline record; a field added on the server must be added there too."""
+    source = (Path(__file__).resolve().parent.parent / "static" / "js" / "verdict.js").read_text()
+
+    def listed(const: str) -> tuple[str, ...]:
+        body = re.search(rf"export const {const} = \[(.*?)\];", source, flags=re.S).group(1)
+        return tuple(re.findall(r'"([a-z_0-9]+)"', body))
+
+    assert listed("MEASUREMENT_FIELDS") == MEASUREMENT_FIELDS
+    assert listed("CHECKLIST_FIELDS") == CHECKLIST_FIELDS

@@ -5,19 +5,12 @@ import { get } from "./db.js";
 import { keep, refusedItems, unsentItems } from "./outbox.js";
 import { shrink } from "./photos.js";
 import { age } from "./unsent.js";
-import { attachVerdict, serverAgrees, utilisationText } from "./verdict.js";
+import { attachVerdict, readForm, serverAgrees, utilisationText } from "./verdict.js";
 
 const root = document.querySelector("[data-offline-site]");
 const siteId = root.dataset.offlineSite;
 const form = root.querySelector("[data-offline-form]");
 const listSection = root.querySelector("[data-pack-list]");
-const MEASUREMENTS = [
-  "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
-  "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete", "wall_thickness",
-  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar",
-];
-const CHECKLIST = ["bedded", "packing", "cracks", "cut_units", "level"];
-const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
 const BADGES = JSON.parse(root.dataset.stateBadges || "{}");
 
 let pack = null;
@@ -140,47 +133,13 @@ function clearErrors() {
   summary.replaceChildren();
 }
 
-// The same reading of typed text as the online form: empty is "not measured", a lone decimal
-// comma is a point.
-function readNumber(name, errors) {
-  const input = form.elements[name];
-  const raw = input.value.trim();
-  if (!raw) return undefined;
-  let text = raw.replaceAll(" ", "");
-  if (text.includes(",") && !text.includes(".") && text.split(",").length === 2) text = text.replace(",", ".");
-  if (text.length > 24 || !NUMBER.test(text) || !Number.isFinite(Number(text))) {
-    errors.push([name, `${input.dataset.label}: “${raw.slice(0, 40)}” is not a number.`]);
-    return undefined;
-  }
-  return Number(text);
-}
-
-function readField(name, errors) {
-  const field = form.elements[name];
-  if (field instanceof RadioNodeList) {
-    return { yes: true, no: false }[field.value];
-  }
-  if (field.dataset && field.dataset.kind === "number") return readNumber(name, errors);
-  const value = field.value.trim();
-  if (!value) return undefined;
-  return name === "masonry_group" ? Number(value) : value;
-}
-
-function collect(names, errors) {
-  const out = {};
-  for (const name of names) {
-    const value = readField(name, errors);
-    if (value !== undefined) out[name] = value;
-  }
-  return out;
-}
-
 async function save(event) {
   event.preventDefault();
   clearErrors();
-  const errors = [];
-  const measurements = collect(MEASUREMENTS, errors);
-  const checklist = collect(CHECKLIST, errors);
+  // The same reading of typed text as the online form and the verdict above it.
+  const { measurements, checklist, unreadable } = readForm(form);
+  const errors = unreadable.map(({ name, message }) =>
+    [name, `${form.elements[name].dataset.label}: ${message}.`]);
   const measuredAt = form.elements.measured_at.value.trim();
   if (Number.isNaN(Date.parse(measuredAt)) || !/(Z|[+-]\d\d:\d\d)$/.test(measuredAt)) {
     errors.push(["measured_at", "Measured at: write it like 2026-05-04T10:30:00Z (with Z or an offset)."]);

@@ -512,3 +512,22 @@ def test_a_refused_record_is_recorded_again_from_its_values(page: Page, context,
     assert json.loads(measured[0][0])["bearing_length"] == 150
     # The refused record stays on its list: nothing refused is deleted.
     assert refused_uuid in [i["uuid"] for i in page.evaluate(REFUSED)]
+
+
+def test_a_number_the_offline_form_cannot_read_is_named_and_nothing_is_kept(
+    page: Page, context, live_server
+):
+    site_id = _site_id(live_server)
+    keep_site(page, site_id)
+    context.set_offline(True)
+    before = len(page.evaluate(OUTBOX))
+    page.locator("li[data-bearing]", has_text="EX-B7").first.locator("button").tap()
+    form = page.locator("form[data-offline-form]")
+    page.fill("#bearing_length", "15O")  # a letter O for a zero
+    page.fill("#notes", "typed on site")
+    form.get_by_role("button", name="Keep in unsent").tap()
+    error = form.locator('[data-error-for="bearing_length"]')
+    expect(error).to_have_text("✗ Bearing length: “15O” is not a number.")
+    expect(form.locator("[data-form-errors]")).to_contain_text("Nothing was kept.")
+    assert page.input_value("#notes") == "typed on site"  # what was typed stays
+    assert len(page.evaluate(OUTBOX)) == before
