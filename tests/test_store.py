@@ -190,6 +190,7 @@ def test_first_open_applies_every_migration_in_order(db):
     assert [m.name for m in store.MIGRATIONS.applied(db)] == [
         "m001_initial_schema",
         "m002_password_to_change",
+        "m003_could_not_measure",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -265,7 +266,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 2
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 3
     finally:
         db.close()
 
@@ -491,6 +492,50 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
     assert second.state == "within design"
     assert count(w.db, "as_built_records") == 1
     assert count(w.db, "events") == events
+
+
+def test_a_record_of_a_bearing_that_could_not_be_measured_is_its_own_kind(world):
+    w = world
+    measured = send_record(w.db, w.site, w.bearing, w.inspector)
+    assert (measured.row["kind"], measured.row["why_not_measured"]) == ("measured", None)
+    unmeasured = store.insert_record(
+        w.db,
+        site_id=w.site["id"],
+        uuid=str(uuid_module.uuid4()),
+        bearing_id=w.bearing["id"],
+        design_revision=1,
+        inspector_id=w.inspector["id"],
+        measured_at=T0 + timedelta(hours=1),
+        measurements={},
+        checklist={},
+        notes="Behind the new stud wall.",
+        result={"utilisation": 0.5},
+        reasons=[{"code": "could-not-measure"}],
+        utilisation=0.5,
+        passed=True,
+        blocking=1,
+        state_after_record=workflow.state_after_record,
+        why_not_measured="covered",
+    )
+    assert (unmeasured.row["kind"], unmeasured.row["why_not_measured"]) == (
+        "could not measure",
+        "covered",
+    )
+    assert unmeasured.state == "engineer to decide"
+    # Only the core's codes: anything else is refused by the database itself.
+    with pytest.raises(sqlite3.IntegrityError, match="CHECK"):
+        w.db.execute(
+            "INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id, "
+            "measured_at, received_at, measurements, result, passed, blocking, why_not_measured) "
+            "VALUES (?, ?, 1, ?, ?, ?, '{}', '{}', 1, 1, 'too dark')",
+            [
+                str(uuid_module.uuid4()),
+                w.bearing["id"],
+                w.inspector["id"],
+                "2026-01-01T00:00:00Z",
+                "2026-01-01T00:00:00Z",
+            ],
+        )
 
 
 def test_a_uuid_already_used_for_another_bearing_is_refused(world):

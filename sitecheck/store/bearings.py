@@ -414,6 +414,7 @@ def insert_record(
     blocking: int,
     state_after_record: Callable[[str, int, bool], str],
     now: datetime | None = None,
+    why_not_measured: str | None = None,
 ) -> RecordStored:
     """Store an as-built record once per client UUID, and move the bearing's state.
 
@@ -441,8 +442,8 @@ def insert_record(
             """
             INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id,
                 measured_at, received_at, measurements, checklist, notes, result, reasons,
-                utilisation, passed, blocking, late)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+                utilisation, passed, blocking, late, why_not_measured)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             ON CONFLICT (uuid) DO NOTHING
             """,
             [
@@ -461,6 +462,7 @@ def insert_record(
                 int(bool(passed)),
                 blocking,
                 int(late),
+                why_not_measured,
             ],
         )
         created = cursor.rowcount == 1
