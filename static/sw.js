@@ -20,6 +20,12 @@ const SHELL = [
   "/static/js/photos.js",
   "/static/js/unsent.js",
   "/static/js/offline-site.js",
+  // The as-built form, online and offline: drafts, refusals in words, the survey list.
+  "/static/js/capture.js",
+  "/static/js/capture-online.js",
+  "/static/js/messages.js",
+  "/static/js/survey.js",
+  "/static/js/times.js",
   // The phone's mirror of the core: the as-built form's provisional verdict, with no signal.
   "/static/js/verdict.js",
   "/static/js/bearing/basis.js",
@@ -43,6 +49,7 @@ const SHELL = [
 ];
 // Pages never kept: they belong to a moment (log-in) or change the session.
 const NEVER_KEPT = new Set(["/login", "/logout"]);
+const RECORD_FORM = /^\/sites\/[^/]+\/bearings\/[^/]+\/record$/;
 
 self.addEventListener("install", (event) => {
   event.waitUntil(
@@ -72,14 +79,16 @@ async function pageFirstFromNetwork(request, url) {
     }
     return response;
   } catch (error) {
+    const site = url.pathname.match(/^\/sites\/([^/]+)\//);
+    const offline = site && (await caches.match(`/sites/${site[1]}/offline`, { ignoreVary: true }));
+    // "Record as built" with no signal: the site's offline page, which opens that bearing's
+    // form from the site pack (a copy of the online form kept from an earlier visit may hold
+    // an older design).
+    if (offline && RECORD_FORM.test(url.pathname)) return offline;
     const kept = await caches.match(request, { ignoreVary: true });
     if (kept) return kept;
-    // Any page of a kept site falls back to that site's offline page.
-    const site = url.pathname.match(/^\/sites\/([^/]+)\//);
-    if (site) {
-      const offline = await caches.match(`/sites/${site[1]}/offline`, { ignoreVary: true });
-      if (offline) return offline;
-    }
+    // Any other page of a kept site falls back to that site's offline page.
+    if (offline) return offline;
     return (await caches.match("/offline", { ignoreVary: true })) || Response.error();
   }
 }

@@ -27,7 +27,7 @@ STATIC_DIR = _find("static")
 
 
 _SHELL_PATTERNS = ("*.js", "*.css", "*.png", "*.webmanifest")
-_SHELL_TEMPLATES = ("base.html", "_macros.html", "offline")
+_SHELL_TEMPLATES = ("base.html", "_macros.html", "offline", "inspect/_fields.html")
 
 
 def shell_digest() -> str:

@@ -1,30 +1,38 @@
-// The offline page of one site: its bearings from the kept site pack, the as-built form with
-// the online form's field names, and the unsent and refused lists.
+// The offline page of one site: the survey list from the kept site pack (in survey order,
+// with search and each bearing's state as last heard), the as-built form (capture.js: drafts,
+// refusals caught here, the outbox), and the confirmed, unsent and refused lists.
 
 import { get } from "./db.js";
-import { keep, refusedItems, unsentItems } from "./outbox.js";
-import { shrink } from "./photos.js";
+import { attachCapture } from "./capture.js";
+import { refusalSentence } from "./messages.js";
+import { refusedItems, unsentItems } from "./outbox.js";
+import { attachSearch, marksText, phoneHolds, surveyOrder, toMeasure } from "./survey.js";
+import { localTime } from "./times.js";
 import { age } from "./unsent.js";
-import { attachVerdict, readForm, serverAgrees, utilisationText } from "./verdict.js";
+import { serverAgrees, utilisationText } from "./verdict.js";
 
 const root = document.querySelector("[data-offline-site]");
 const siteId = root.dataset.offlineSite;
 const form = root.querySelector("[data-offline-form]");
 const listSection = root.querySelector("[data-pack-list]");
+const lists = root.querySelectorAll("[data-lists], [data-confirmed-section]");
 const BADGES = JSON.parse(root.dataset.stateBadges || "{}");
+const WORDS = JSON.parse(document.getElementById("symbol-words")?.textContent || "{}");
+const user = document.body.dataset.user;
+const status = root.querySelector("[data-pack-age]");
+const offer = root.querySelector("[data-next-offer]");
 
 let pack = null;
 let bearing = null;
-// The phone's re-check of the open form: the bearing's design with the site's basis and
-// review settings, as the server will check it.
-const recheckNow = attachVerdict(
-  form,
-  form.querySelector("[data-provisional-verdict]"),
-  () => (bearing && pack && pack.site.mirror
-    ? { design: bearing.design_input, ...pack.site.mirror }
+
+const capture = attachCapture(form, {
+  mode: "offline",
+  user,
+  context: () => (bearing && pack && pack.site.mirror
+    ? { design: bearing.design_input, ...pack.site.mirror, words: WORDS }
     : null),
-  form.querySelector("[data-verdict-bar]"),
-);
+  onKept,
+});
 
 function el(tag, attrs = {}, ...children) {
   const node = document.createElement(tag);
@@ -32,12 +40,8 @@ function el(tag, attrs = {}, ...children) {
     if (k === "class") node.className = v;
     else node.setAttribute(k, v);
   }
-  node.append(...children);
+  node.append(...children.filter((c) => c !== null && c !== undefined));
   return node;
-}
-
-function isoSeconds(date = new Date()) {
-  return date.toISOString().replace(/\.\d+Z$/, "Z");
 }
 
 // A state as symbol and words, never colour alone, from the online pages' own table.
@@ -49,44 +53,114 @@ function badge(state) {
 
 async function load() {
   pack = await get("packs", siteId);
-  const status = root.querySelector("[data-pack-age]");
-  const list = root.querySelector("[data-pack-bearings]");
-  list.replaceChildren();
   if (!pack) {
     status.textContent = "This site is not kept on this phone. With signal, open the survey list and tap “Keep for offline”.";
     return;
   }
-  status.textContent = `Site pack downloaded ${age(pack.generated_at)} (${pack.bearings.length} bearings). Design values and states as of then.`;
-  for (const b of pack.bearings) {
-    const button = el("button", { type: "button", class: "primary big", "data-record-bearing": b.id },
-      "Record as built", el("span", { class: "visually-hidden" }, ` for ${b.reference}`));
-    button.addEventListener("click", () => openForm(b));
-    list.append(el("li", { class: "card bearing-card", "data-bearing": b.id },
-      el("div", { class: "bearing-head" }, el("strong", { class: "reference" }, b.reference),
-        badge(b.state)),
-      el("p", { class: "location" }, b.location || ""),
-      el("div", { class: "bearing-actions" }, button)));
-  }
+  status.textContent = `Site pack downloaded ${age(pack.generated_at)} (${pack.bearings.length} bearings). ` +
+    "Design values as of then; states as last heard from the server.";
+  await showList();
   document.body.dataset.packReady = "1";
 }
 
-function openForm(b) {
+async function showList() {
+  const list = root.querySelector("[data-pack-bearings]");
+  let holds = { drafts: new Set(), unsent: new Set() };
+  try {
+    holds = await phoneHolds(siteId, user);
+  } catch (error) {
+    /* no IndexedDB */
+  }
+  const items = surveyOrder(pack.bearings).map((b) => {
+    const marks = marksText(b.id, holds);
+    const actions = el("div", { class: "bearing-actions" });
+    if (b.design.passed) {
+      const button = el("button", { type: "button", class: "primary big", "data-record-bearing": b.id },
+        "Record as built", el("span", { class: "visually-hidden" }, ` for ${b.reference}`));
+      button.addEventListener("click", () => openForm(b));
+      actions.append(button);
+    }
+    return el("li", {
+      class: "card bearing-card", "data-bearing": b.id, "data-state": b.state,
+      "data-search-text": `${b.reference} ${b.location || ""}`,
+    },
+    el("div", { class: "bearing-head" }, el("strong", { class: "reference" }, b.reference), badge(b.state)),
+    b.location ? el("p", { class: "location" }, b.location) : null,
+    marks ? el("p", { class: "phone-marks" }, marks) : null,
+    b.design.passed ? null : el("p", { class: "muted", "data-not-for-survey": "" }, "✗ Design being revised: not for survey yet."),
+    actions);
+  });
+  list.replaceChildren(...items);
+  search();
+}
+
+const search = attachSearch(root.querySelector("[data-survey-search]"),
+  () => [...root.querySelectorAll("[data-pack-bearings] li[data-bearing]")],
+  root.querySelector("[data-search-count]"));
+
+function bearingInfo(b) {
+  return { id: b.id, reference: b.reference, revision: b.revision, site_id: siteId, site_name: pack.site.name };
+}
+
+async function openForm(b, start = null) {
   bearing = b;
-  form.reset();
-  for (const old of form.querySelectorAll("[data-again-notice]")) old.remove();
-  clearErrors();
   form.querySelector("[data-form-title]").textContent = `As-built record: ${b.reference}`;
   form.querySelector("[data-form-location]").textContent = b.location || "";
+  form.querySelector("[data-form-state]").replaceChildren("State as last heard: ", badge(b.state));
+  form.querySelector("[data-form-design-fails]").hidden = Boolean(b.design.passed);
   for (const p of form.querySelectorAll("[data-designed-for]")) {
     const text = b.designed[p.dataset.designedFor];
     p.textContent = text ? `designed: ${text}` : "";
   }
-  form.elements.measured_at.value = isoSeconds();
-  form.elements.provisional.value = "";
-  recheckNow();
+  for (const old of form.querySelectorAll("[data-again-notice]")) old.remove();
+  offer.hidden = true;
+  await capture.open(bearingInfo(b), start);
   listSection.hidden = true;
+  for (const section of lists) section.hidden = true;
   form.hidden = false;
-  form.querySelector("h2").scrollIntoView();
+  form.querySelector("[data-form-title]").scrollIntoView();
+  document.body.dataset.formOpen = b.id;
+}
+
+function closeForm() {
+  form.hidden = true;
+  listSection.hidden = false;
+  for (const section of lists) section.hidden = section.hasAttribute("data-confirmed-section") && !section.querySelector("li");
+  capture.close();
+  bearing = null;
+  delete document.body.dataset.formOpen;
+}
+
+// After a record is kept: back to the list, offering the next bearing to measure in survey
+// order (one with nothing waiting on this phone).
+async function onKept(item) {
+  const reference = bearing.reference;
+  const after = bearing;
+  closeForm();
+  status.textContent = `${reference} kept in unsent.`;
+  await showLists();
+  let waiting = new Set();
+  try {
+    waiting = (await phoneHolds(siteId, user)).unsent;
+  } catch (error) {
+    /* no IndexedDB */
+  }
+  const ordered = surveyOrder(pack.bearings);
+  const here = ordered.findIndex((b) => b.id === after.id);
+  const next = [...ordered.slice(here + 1), ...ordered.slice(0, Math.max(0, here))]
+    .find((b) => toMeasure(b) && !waiting.has(b.id));
+  if (next) {
+    const button = el("button", { type: "button", class: "primary big", "data-next": next.id },
+      `Next to measure: ${next.reference} →`);
+    button.addEventListener("click", () => openForm(next));
+    offer.replaceChildren(el("span", {}, `✓ ${reference} kept in unsent. `), button);
+  } else {
+    offer.replaceChildren(`✓ ${reference} kept in unsent. Every bearing to measure has a record or one waiting.`);
+  }
+  offer.hidden = false;
+  await showList();
+  offer.scrollIntoView({ block: "nearest" });
+  document.body.dataset.lastKept = item.uuid;
 }
 
 // "Record again" from the refused list: the form for the same bearing, filled with what was
@@ -94,116 +168,26 @@ function openForm(b) {
 async function recordAgain(uuid) {
   const item = await get("refused", uuid);
   const b = item && item.record && pack.bearings.find((x) => x.id === item.bearing_id);
-  const status = root.querySelector("[data-pack-age]");
   if (!b) {
     status.textContent = "That refused record is not for a bearing in this site pack; record it from the list.";
     return;
   }
-  openForm(b);
-  const values = { ...item.record.measurements, ...item.record.checklist };
-  for (const [name, value] of Object.entries(values)) {
-    const field = form.elements[name];
-    if (!field) continue;
-    if (field instanceof RadioNodeList) field.value = value === true ? "yes" : value === false ? "no" : "";
-    else field.value = String(value);
-  }
-  form.elements.notes.value = item.record.notes || "";
-  recheckNow();
+  await openForm(b, { values: item.values || valuesOf(item.record), photos: [] });
   const notice = el("p", { class: "notice", role: "note", "data-again-notice": item.uuid },
     el("strong", {}, "Filled from a refused record"),
-    ` (measured ${item.record.measured_at}; refused: ${item.reason}). Check each value and put ` +
-    "right what the server refused, then keep it. Photos are not copied: add them again.");
+    ` (measured ${localTime(item.record.measured_at)}). ${refusalSentence(item)} Check each value, ` +
+    "put right what was refused, then keep it. Photos are not copied: add them again.");
   form.querySelector("[data-form-errors]").before(notice);
-  form.elements.measured_at.value = item.record.measured_at;
 }
 
-function closeForm() {
-  form.hidden = true;
-  listSection.hidden = false;
-  bearing = null;
-}
-
-function clearErrors() {
-  for (const p of form.querySelectorAll("[data-error-for]")) {
-    p.hidden = true;
-    p.textContent = "";
+// A record's values as the form's fields hold them (older refused items kept no form values).
+function valuesOf(record) {
+  const out = {};
+  for (const [name, value] of Object.entries({ ...record.measurements, ...record.checklist })) {
+    out[name] = value === true ? "yes" : value === false ? "no" : String(value);
   }
-  const summary = form.querySelector("[data-form-errors]");
-  summary.hidden = true;
-  summary.replaceChildren();
-}
-
-async function save(event) {
-  event.preventDefault();
-  clearErrors();
-  // The same reading of typed text as the online form and the verdict above it.
-  const { measurements, checklist, unreadable } = readForm(form);
-  const errors = unreadable.map(({ name, message }) =>
-    [name, `${form.elements[name].dataset.label}: ${message}.`]);
-  const measuredAt = form.elements.measured_at.value.trim();
-  if (Number.isNaN(Date.parse(measuredAt)) || !/(Z|[+-]\d\d:\d\d)$/.test(measuredAt)) {
-    errors.push(["measured_at", "Measured at: write it like 2026-05-04T10:30:00Z (with Z or an offset)."]);
-  }
-  if (errors.length) {
-    const summary = form.querySelector("[data-form-errors]");
-    summary.append(el("p", {}, el("strong", {}, "Nothing was kept."), " Put right what is marked and keep it again."));
-    for (const [name, message] of errors) {
-      const p = form.querySelector(`[data-error-for="${name}"]`);
-      if (p) { p.textContent = `✗ ${message}`; p.hidden = false; }
-      summary.append(el("p", {}, message));
-    }
-    summary.hidden = false;
-    summary.focus();
-    return;
-  }
-  const submit = form.querySelector("button[type=submit]");
-  submit.disabled = true;
-  try {
-    const photos = [];
-    for (const file of form.elements.photos.files) photos.push(await shrink(file));
-    const uuid = crypto.randomUUID();
-    await keep({
-      uuid,
-      user: document.body.dataset.user,
-      site_id: siteId,
-      site_name: pack.site.name,
-      bearing_id: bearing.id,
-      reference: bearing.reference,
-      record: {
-        uuid,
-        site_id: siteId,
-        bearing_id: bearing.id,
-        design_revision: bearing.revision,
-        measured_at: measuredAt,
-        measurements,
-        checklist,
-        notes: form.elements.notes.value,
-        provisional: readProvisional(),
-      },
-      photos,
-    });
-    const reference = bearing.reference;
-    closeForm();
-    root.querySelector("[data-pack-age]").textContent = `${reference} kept in unsent.`;
-  } catch (error) {
-    const summary = form.querySelector("[data-form-errors]");
-    summary.replaceChildren(el("p", {}, el("strong", {}, "Nothing was kept: "),
-      error && error.name === "QuotaExceededError"
-        ? "this phone's storage for sitecheck is full. Send the unsent records with signal, then try again."
-        : `the phone could not store it (${error && error.message}).`));
-    summary.hidden = false;
-    summary.focus();
-  } finally {
-    submit.disabled = false;
-  }
-}
-
-function readProvisional() {
-  try {
-    return JSON.parse(form.elements.provisional.value || "null");
-  } catch {
-    return null;
-  }
+  out.notes = record.notes || "";
+  return out;
 }
 
 // The server's answer to each record sent from this page, beside what the phone showed.
@@ -216,17 +200,17 @@ function showConfirmed({ reference, answer, provisional }) {
   const note = agrees === null ? ""
     : agrees ? " · as the phone showed"
       : " · the phone showed something else: the server's answer counts, and it has been told";
-  const link = el("a", { href: answer.url }, "the server's re-check");
+  const link = el("a", { class: "tap", href: answer.url }, "the server's re-check");
   section.querySelector("[data-confirmed-list]").prepend(el("li",
     { class: "card", "data-confirmed": answer.uuid, "data-agrees": String(agrees) },
     el("strong", {}, reference), ` · server: ${word}, utilisation ${utilisationText(answer.utilisation)}`,
     el("span", { class: "muted" }, note), " · ", link));
-  section.hidden = false;
+  if (form.hidden) section.hidden = false;
 }
 
 function describeItem(item) {
   const photos = item.photos.length ? ` · ${item.photos.length} photo(s) waiting` : "";
-  return `${item.reference} · measured ${item.record.measured_at}${photos}`;
+  return `${item.reference} · measured ${localTime(item.record.measured_at)}${photos}`;
 }
 
 async function showLists() {
@@ -238,21 +222,44 @@ async function showLists() {
   if (!unsent.length) ul.append(el("li", { class: "card muted" }, "Nothing unsent for this site."));
   const refused = (await refusedItems()).filter((i) => i.site_id === siteId);
   const rl = root.querySelector("[data-refused-list]");
-  rl.replaceChildren(...refused.map((item) =>
-    el("li", { class: "card refused-item", "data-refused-item": item.uuid },
-      el("strong", {}, `${item.reference}${item.kind === "photo" ? " (a photo)" : ""}`),
-      el("span", {}, `${item.status}: ${item.reason}`))));
+  rl.replaceChildren(...refused.map((item) => {
+    const again = el("button", { type: "button", "data-record-again": item.uuid }, "Record again from these values");
+    again.addEventListener("click", () => recordAgain(item.uuid));
+    return el("li", { class: "card refused-item", "data-refused-item": item.uuid },
+      el("strong", {}, `✗ ${item.reference}${item.kind === "photo" ? " (a photo)" : ""}`),
+      el("p", { class: "refused-reason" }, refusalSentence(item)),
+      item.kind === "photo" ? null : again);
+  }));
   if (!refused.length) rl.append(el("li", { class: "card muted" }, "Nothing refused."));
 }
 
-form.addEventListener("submit", save);
-form.querySelector("[data-form-cancel]").addEventListener("click", closeForm);
-window.addEventListener("sitecheck:outbox", (event) => {
-  if (event.detail && event.detail.kind === "sent") showConfirmed(event.detail);
+form.querySelector("[data-form-cancel]").addEventListener("click", async () => {
+  await capture.flush();
+  closeForm();
+  await showList();
+});
+window.addEventListener("sitecheck:outbox", async (event) => {
+  if (event.detail && event.detail.kind === "sent") {
+    showConfirmed(event.detail);
+    const fresh = await get("packs", siteId); // its states as the server just said
+    if (fresh) pack = fresh;
+    if (form.hidden) await showList();
+  }
   showLists();
 });
-load().then(() => {
-  const again = new URLSearchParams(window.location.hash.slice(1)).get("again");
-  if (again && pack) recordAgain(again);
-  return showLists();
+
+load().then(async () => {
+  await showLists();
+  if (!pack) return;
+  const hash = new URLSearchParams(window.location.hash.slice(1));
+  // "Record as built" tapped with no signal: the worker gave this page for the bearing's own
+  // address, so its form opens at once.
+  const path = window.location.pathname.match(/\/bearings\/([^/]+)\/record$/);
+  const wanted = hash.get("bearing") || (path && decodeURIComponent(path[1]));
+  if (hash.get("again")) await recordAgain(hash.get("again"));
+  else if (wanted) {
+    const b = pack.bearings.find((x) => x.id === wanted);
+    if (b) await openForm(b);
+  }
+  document.body.dataset.offlineReady = "1";
 });

@@ -3,7 +3,9 @@
 // list of kept sites and the refused list's own page.
 
 import { getAll, put } from "./db.js";
+import { labelOf, refusalSentence } from "./messages.js";
 import { counts, refusedItems, sync } from "./outbox.js";
+import { localTime, showLocalTimes } from "./times.js";
 
 const PAGES_CACHE = "sitecheck-pages"; // shared with sw.js
 
@@ -60,9 +62,9 @@ async function showRefusedPage() {
     li.append(
       text("strong", "refused-what", `✗ ${what}`),
       text("span", "muted", item.site_name || ""),
-      text("p", "refused-reason", `${item.status}: ${item.reason}`),
+      text("p", "refused-reason", refusalSentence(item)),
       text("p", "muted refused-when",
-        `measured ${item.record ? item.record.measured_at : "?"} · refused ${age(item.refused_at)}`),
+        `measured ${item.record ? localTime(item.record.measured_at) : "at a time not kept"} · refused ${age(item.refused_at)}`),
     );
     if (item.record && item.kind !== "photo") {
       // The values are kept so they can be recorded again without going back to the bearing.
@@ -72,7 +74,8 @@ async function showRefusedPage() {
       dl.className = "values";
       const values = { ...item.record.measurements, ...item.record.checklist };
       for (const [name, value] of Object.entries(values)) {
-        dl.append(text("dt", "", name.replaceAll("_", " ")), text("dd", "", String(value)));
+        const shown = value === true ? "yes" : value === false ? "no" : String(value);
+        dl.append(text("dt", "", labelOf(name) || "another value"), text("dd", "", shown));
       }
       details.append(dl);
       if (item.record.notes) details.append(text("p", "notes", item.record.notes));
@@ -209,6 +212,7 @@ for (const button of document.querySelectorAll("[data-send-now]")) {
 }
 guardLogOut();
 showCounts();
+showLocalTimes();
 showRefusedPage();
 showPackAges().catch(() => {});
 if (document.querySelector("[data-persist]")) askToKeep().catch(() => {});
