@@ -64,7 +64,8 @@ async function say(words, tone, { again = null } = {}) {
 async function onKept(item) {
   pending = item.uuid;
   sendRow.hidden = true;
-  await say(["✓ Kept on this phone. Sending it to the server…"], "sending");
+  if (navigator.onLine) await say(["✓ Kept on this phone. Sending it to the server…"], "sending");
+  else await waiting("offline");
   status.scrollIntoView({ block: "nearest" });
 }
 
@@ -84,6 +85,19 @@ async function refused(uuid) {
     " It is kept on this phone in the refused list; nothing is lost."], "refused", { again });
 }
 
+const WAITING = {
+  offline: "✓ Kept in unsent on this phone. There is no signal: it is sent when the signal returns, from any page of sitecheck.",
+  waiting: "✓ Kept in unsent on this phone. The server cannot be reached just now: it is tried again soon, from any page of sitecheck.",
+  login: "✓ Kept in unsent on this phone. Log in again to send it: it waits until you do.",
+};
+
+function waiting(state) {
+  const login = state === "login"
+    ? [" ", el("a", { class: "tap", href: `/login?next=${encodeURIComponent(window.location.pathname)}` }, "Log in")]
+    : [];
+  return say([WAITING[state], ...login], "kept");
+}
+
 window.addEventListener("sitecheck:outbox", (event) => {
   const d = event.detail || {};
   if (!pending) return;
@@ -95,16 +109,8 @@ window.addEventListener("sitecheck:outbox", (event) => {
   } else if (d.kind === "refused" && d.uuid === pending) {
     pending = null;
     refused(d.uuid);
-  } else if (d.kind === "progress" && ["offline", "waiting", "login"].includes(d.state)) {
-    const words = {
-      offline: "✓ Kept in unsent on this phone. There is no signal: it is sent when the signal returns, from any page of sitecheck.",
-      waiting: "✓ Kept in unsent on this phone. The server cannot be reached just now: it is tried again soon, from any page of sitecheck.",
-      login: "✓ Kept in unsent on this phone. Log in again to send it: it waits until you do.",
-    }[d.state];
-    const login = d.state === "login"
-      ? [" ", el("a", { class: "tap", href: `/login?next=${encodeURIComponent(window.location.pathname)}` }, "Log in")]
-      : [];
-    say([words, ...login], "kept");
+  } else if (d.kind === "progress" && d.state in WAITING) {
+    waiting(d.state);
   }
 });
 
