@@ -211,9 +211,36 @@ export function attachCapture(form, options) {
     return String(field.value ?? "").trim() !== "";
   }
 
+  // Values typed in the measured sections before "could not measure" was chosen: not sent
+  // with such a record, so the phone offers to clear them rather than drop them unseen.
+  const outcomeBox = form.querySelector("#field-why_not_measured");
+  const clearNote = el("p", { class: "notice", "data-clear-measured": "", hidden: "" });
+  outcomeBox.append(clearNote);
+
+  function measuredTyped() {
+    return [...form.querySelectorAll("[data-measured-section] [data-field]")]
+      .map((f) => f.dataset.field).filter(answered);
+  }
+
+  function offerClear(why) {
+    const typedNames = why ? measuredTyped() : [];
+    clearNote.hidden = !typedNames.length;
+    if (!typedNames.length) return;
+    const button = el("button", { type: "button" }, "Clear them");
+    button.addEventListener("click", () => {
+      for (const name of measuredTyped()) fill({ [name]: "" });
+      form.dispatchEvent(new Event("input", { bubbles: true }));
+    });
+    clearNote.replaceChildren(
+      `Values are typed in the measured sections (${typedNames.map(labelOf).join(", ")}). ` +
+      "A bearing that could not be measured carries none: clear them, or choose “yes, measured”. ",
+      button);
+  }
+
   function sections() {
     const why = form.elements.namedItem("why_not_measured")?.value || "";
     form.classList.toggle("not-measurable", Boolean(why));
+    offerClear(why);
     for (const section of form.querySelectorAll("[data-section]")) {
       const id = section.dataset.section;
       const names = [...section.querySelectorAll("[data-field]")].map((f) => f.dataset.field);

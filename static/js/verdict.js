@@ -70,9 +70,9 @@ export function readForm(form) {
       else if (parsed.value !== null) target[name] = parsed.value;
     }
   };
-  // A bearing that could not be measured carries no measurement (its sections are hidden,
-  // what was typed in them stays in the draft).
-  if (!why) for (const name of MEASUREMENT_FIELDS) put(measurements, name);
+  // Read even when the bearing could not be measured: the core refuses a measured value on
+  // such a record, and the phone says so rather than drop what was typed.
+  for (const name of MEASUREMENT_FIELDS) put(measurements, name);
   for (const name of CHECKLIST_FIELDS) put(checklist, name);
   return { measurements, checklist, unreadable, why };
 }
@@ -231,8 +231,8 @@ function setBar(bar, text, verdict) {
 // The verdict in one word, with a symbol: "fails" and "needs the engineer" differ in
 // colour, symbol and word; before anything is measured it is neutral.
 export function verdictKind(outcome, nothingYet = false, why = null) {
-  if (why) return "unmeasured";
   if (outcome.error) return "cannot";
+  if (why) return "unmeasured";
   if (nothingYet) return "none";
   if (!outcome.result.passed) return "fails";
   return outcome.blocking ? "review" : "pass";

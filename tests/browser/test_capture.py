@@ -319,8 +319,14 @@ def test_a_bearing_that_could_not_be_measured_goes_to_the_engineer(
     open_record_form(page, site_id, b["id"])
     page.fill("#bearing_length", "150")  # typed, then found it could not be measured after all
     page.check("input[name=why_not_measured][value=covered]")
-    # The measured sections step aside; the verdict says where it goes.
+    # The measured sections step aside. A value typed there is not dropped unseen: the phone
+    # says it cannot go with such a record and offers to clear it.
     expect(page.locator("#section-beam")).to_be_hidden()
+    note = page.locator("[data-clear-measured]")
+    expect(note).to_contain_text("Values are typed in the measured sections (Bearing length)")
+    expect(page.locator("[data-verdict-bar]")).to_contain_text("cannot re-check yet")
+    note.get_by_role("button", name="Clear them").tap()
+    expect(note).to_be_hidden()
     expect(page.locator("[data-verdict-bar]")).to_contain_text("could not measure")
     notes = f"Boarded over before the visit {uuid_module.uuid4()}"
     page.fill("#notes", notes)
