@@ -19,13 +19,11 @@ const SHELL = [
   "/static/js/outbox.js",
   "/static/js/photos.js",
   "/static/js/unsent.js",
-  "/static/js/offline-site.js",
   // The as-built form, online and offline: drafts, refusals in words, the survey list.
   "/static/js/capture.js",
-  "/static/js/capture-online.js",
   "/static/js/messages.js",
   "/static/js/survey.js",
-  "/static/js/times.js",
+  "/phone-words.js", // written by the server: the form's labels, the trace's glossary
   // The phone's mirror of the core: the as-built form's provisional verdict, with no signal.
   "/static/js/verdict.js",
   "/static/js/bearing/basis.js",
@@ -113,7 +111,7 @@ self.addEventListener("fetch", (event) => {
   if (url.pathname.startsWith("/api/")) return;
   if (request.mode === "navigate") {
     event.respondWith(pageFirstFromNetwork(request, url));
-  } else if (url.pathname.startsWith("/static/")) {
+  } else if (url.pathname.startsWith("/static/") || url.pathname === "/phone-words.js") {
     event.respondWith(assetFirstFromCache(request));
   }
 });

@@ -17,6 +17,7 @@ import pytest
 
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from sitecheck import services, store, workflow
+from sitecheck.web import sync
 from sitecheck.web.assets import shell_digest
 from sitecheck.web.inspect import survey_order
 from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
@@ -446,7 +447,14 @@ def test_the_service_worker_is_served_from_the_root(app):
     assert r.headers["Cache-Control"] == "no-cache"
     text = r.get_data(as_text=True)
     assert "const SHELL" in text
-    assert f'const VERSION = "{shell_digest()}";' in text
+    # The words module the server writes is part of the shell, and of its version.
+    assert f'const VERSION = "{shell_digest(sync._words_module())}";' in text
+    assert '"/phone-words.js"' in text
+    words = app.test_client().get("/phone-words.js")
+    assert words.mimetype == "text/javascript" and "export const PHONE_WORDS" in words.get_data(
+        as_text=True
+    )
+    words.close()
     again = app.test_client().get("/sw.js", headers={"If-None-Match": r.headers["ETag"]})
     assert again.status_code == 304
     r.close()

@@ -193,11 +193,10 @@ def test_the_form_shows_design_values_and_phone_friendly_inputs(client_as, db, s
         '<script src="/static/app.js" defer>',
         '<script type="application/json" id="verdict-context">',
         '<script type="application/json" id="capture-context">',
-        '<script type="application/json" id="phone-words">',
-        '<script type="module" src="/static/js/capture-online.js">',
+        '<script type="module" src="/static/js/capture.js">',
     ]
     context = json.loads(html.split('id="verdict-context">')[1].split("</script>")[0])
-    assert set(context) == {"design", "basis", "settings", "words"}
+    assert set(context) == {"design", "basis", "settings"}
     assert context["design"]["padstone"]["length"] == 440.0
 
 

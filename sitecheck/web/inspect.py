@@ -50,7 +50,6 @@ from sitecheck.web.record_form import (
     designed_text,
     when_text,
 )
-from sitecheck.web.symbols import SYMBOL_WORDS
 
 bp = Blueprint("inspect", __name__)
 
@@ -342,7 +341,7 @@ def _form_page(site, bearing, form, *, general=(), status=200):
         total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
         older_form=_older_form(form, bearing),
         design_fails=not bearing["design_passed"],
-        verdict_context={**services.mirror_context(site, design_input), "words": SYMBOL_WORDS},
+        verdict_context=services.mirror_context(site, design_input),
         capture={
             "site_id": site["id"],
             "site_name": site["name"],

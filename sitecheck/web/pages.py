@@ -13,7 +13,6 @@ from sitecheck import store, workflow
 from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
-from sitecheck.web.record_form import phone_words
 from sitecheck.web.symbols import words_for
 
 bp = Blueprint("pages", __name__)
@@ -96,7 +95,6 @@ def install_template_helpers(app) -> None:
             "mm": lambda x: "—" if x is None else f"{x:g}",
             "allowed": lambda action: workflow.allowed(getattr(g, "role", None), action),
             "symbol_words": words_for,
-            "phone_words": phone_words,
             "local_time": local_time,
         }
 
@@ -122,7 +120,7 @@ def utc_words(stamp: str) -> str:
 
 def local_time(stamp) -> Markup:
     """A stored UTC time for a page: in UTC as written, and in the phone's own time and zone
-    once its script runs (static/js/times.js)."""
+    once its script runs (static/js/messages.js)."""
     if not stamp:
         return Markup("—")
     return Markup('<time datetime="{iso}" data-local>{words}</time>').format(

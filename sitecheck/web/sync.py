@@ -16,6 +16,7 @@ Every answer is JSON with a status the phone acts on without reading the words:
 from __future__ import annotations
 
 import dataclasses
+import json
 import math
 import re
 import uuid as uuid_module
@@ -55,6 +56,7 @@ from sitecheck.web.record_form import (
     SPECS,
     RecordForm,
     designed_text,
+    phone_words,
 )
 from sitecheck.web.symbols import SYMBOL_WORDS
 
@@ -98,7 +100,7 @@ def service_worker():
     its version set to a digest of the shell's files (see :func:`shell_digest`)."""
     version = current_app.extensions.get("shell_digest")
     if version is None:  # once per process: the files do not change under a running server
-        version = current_app.extensions["shell_digest"] = shell_digest()
+        version = current_app.extensions["shell_digest"] = shell_digest(_words_module())
     text = (STATIC_DIR / "sw.js").read_text(encoding="utf-8")
     text, found = SW_VERSION.subn(f'const VERSION = "{version}";', text, count=1)
     if not found:
@@ -111,6 +113,25 @@ def service_worker():
 
 
 SW_VERSION = re.compile(r'^const VERSION = "[^"]*";$', flags=re.M)
+
+
+def _words_module() -> str:
+    return (
+        "// Written by the server (sitecheck/web/sync.py) from the form's own labels and the\n"
+        "// trace's glossary, so the phone's messages have one source. Part of the offline shell.\n"
+        f"export const PHONE_WORDS = {json.dumps(phone_words(), ensure_ascii=False)};\n"
+        f"export const SYMBOL_WORDS = {json.dumps(SYMBOL_WORDS, ensure_ascii=False)};\n"
+    )
+
+
+@bp.get("/phone-words.js")
+def words_module():
+    """The words the phone's messages and traces use (record_form.phone_words, the symbol
+    glossary), as a module the service worker keeps with the shell: one download, not a
+    copy in every page."""
+    response = Response(_words_module(), mimetype="text/javascript")
+    response.headers["Cache-Control"] = "no-cache"
+    return response
 
 
 @bp.get("/offline")
@@ -141,7 +162,6 @@ def site_offline(site_id):
         max_photos=MAX_PHOTOS,
         photo_mb=PhotoLimits().max_bytes // 1_000_000,
         total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
-        symbol_words_all=SYMBOL_WORDS,
         # The phone draws each state's badge (symbol and words) from the same table as the
         # online pages, so a state is never shown by colour alone there either.
         badges={

@@ -1,17 +1,24 @@
 // The as-built form on the phone, online and offline alike: what is typed is kept as a
 // draft from the first keystroke (with the photos chosen), the phone refuses what the server
 // would refuse before anything is kept, and a record goes into the unsent outbox with its
-// photos before it leaves. The online page (capture-online.js) and the offline page
-// (offline-site.js) give it the bearing and decide what follows.
+// photos before it leaves. The online page (attachOnline, below) and the offline page
+// (survey.js) give it the bearing and decide what follows.
 //
 // Never lose: the draft is deleted only in the transaction that puts the record into the
 // outbox (outbox.js keep); a record the phone refuses stays a draft.
 
 import { get, getAll, writeAll } from "./db.js";
-import { coreSentence, designSentence, designedValue, fieldOf, labelOf } from "./messages.js";
-import { keep } from "./outbox.js";
+import {
+  coreSentence,
+  designSentence,
+  designedValue,
+  fieldOf,
+  labelOf,
+  localTime,
+  refusalSentence,
+} from "./messages.js";
+import { keep, unsentItems } from "./outbox.js";
 import { shrink } from "./photos.js";
-import { localTime } from "./times.js";
 import { attachVerdict, readForm } from "./verdict.js";
 import { basisFromDict, ec6UkNa } from "./bearing/basis.js";
 import { withDefaults } from "./bearing/inputs.js";
@@ -428,6 +435,7 @@ export function attachCapture(form, options) {
     button.disabled = true;
     try {
       if (saving) await saving;
+      pendingWork = false; // the record carries what is typed now; the draft goes with it
       const { measurements, checklist, why } = readForm(form);
       const uuid = crypto.randomUUID();
       const record = {
@@ -534,12 +542,28 @@ export function attachCapture(form, options) {
     opened = false;
   }
 
+  // The verdict is drawn first (attachVerdict's own listener); the sections' marks and the
+  // draft's write follow once that frame is painted, so a keystroke shows its verdict at
+  // once and is on the phone a few milliseconds later.
+  let pendingWork = false;
+  const afterPaint = () => {
+    if (pendingWork) return;
+    pendingWork = true;
+    const run = () => {
+      if (!pendingWork) return;
+      pendingWork = false;
+      if (!bearing) return;
+      sections();
+      saveDraft();
+    };
+    requestAnimationFrame(() => setTimeout(run, 0));
+    setTimeout(run, 250); // a page in the background gets no frames
+  };
   const onInput = (event) => {
     if (event.target.name) touched.add(event.target.name);
     if (opening || !opened || !bearing) return;
     if (event.target === photoInput) return;
-    sections();
-    saveDraft();
+    afterPaint();
   };
   form.addEventListener("input", onInput);
   form.addEventListener("change", (event) => {
@@ -549,10 +573,22 @@ export function attachCapture(form, options) {
   form.addEventListener("submit", submit);
   // A phone closing the tab or going to another app: whatever is pending is written now.
   document.addEventListener("visibilitychange", () => {
-    if (document.visibilityState === "hidden" && opened) saveDraft();
+    if (document.visibilityState === "hidden" && opened) flush();
+  });
+  window.addEventListener("pagehide", () => {
+    if (opened) flush();
   });
 
-  return { open, close, flush: () => saving || Promise.resolve(), current: () => bearing };
+  function flush() {
+    if (pendingWork && bearing) {
+      pendingWork = false;
+      sections();
+      saveDraft();
+    }
+    return saving || Promise.resolve();
+  }
+
+  return { open, close, flush, current: () => bearing };
 }
 
 /** The drafts this phone holds for a person, by bearing id. */
@@ -560,4 +596,133 @@ export async function draftsOf(user, siteId) {
   const all = await getAll("drafts");
   return new Map(all.filter((d) => String(d.user) === String(user) && d.site_id === siteId)
     .map((d) => [d.bearing_id, d]));
+}
+
+// --- the online as-built form ----------------------------------------------------------------
+// The online as-built form with JavaScript: the record goes through the phone's outbox like
+// any record made offline (kept with its photos before it leaves), and the server's answer
+// is shown as without JavaScript: its re-check page. No signal, a server that cannot be
+// reached, a log-in that ran out: the record waits in unsent and the page says so, with the
+// next bearing to measure. Without JavaScript the form posts as it always did.
+
+if (document.querySelector("form[data-capture=online]")) attachOnline();
+
+function attachOnline() {
+  const form = document.querySelector("form[data-capture=online]");
+  const capture_ = JSON.parse(document.getElementById("capture-context").textContent);
+  const verdictContext = JSON.parse(document.getElementById("verdict-context").textContent);
+  const user = document.body.dataset.user;
+  const status = form.querySelector("[data-capture-status]");
+  const sendRow = form.querySelector(".send-row");
+  const bearing = {
+    id: capture_.bearing_id,
+    reference: capture_.reference,
+    revision: capture_.revision,
+    site_id: capture_.site_id,
+    site_name: capture_.site_name,
+  };
+  let pending = null; // the record kept from this page and not yet answered
+
+  function el(tag, attrs = {}, ...children) {
+    const node = document.createElement(tag);
+    for (const [k, v] of Object.entries(attrs)) {
+      if (k === "class") node.className = v;
+      else node.setAttribute(k, v);
+    }
+    node.append(...children);
+    return node;
+  }
+
+  // The next bearing to measure in survey order: not this one, and not one already waiting
+  // in unsent on this phone.
+  async function nextOffer() {
+    let waiting = new Set();
+    try {
+      waiting = new Set((await unsentItems()).map((i) => i.bearing_id));
+    } catch (error) {
+      /* no IndexedDB: offer the next in order */
+    }
+    const next = capture_.next.find((b) => b.id !== bearing.id && !waiting.has(b.id));
+    if (!next) {
+      return el("p", { class: "next-offer", "data-next": "" }, "Every bearing on the survey list has a record or one waiting. ",
+        el("a", { class: "tap", href: capture_.survey_url }, "Back to the survey list"));
+    }
+    return el("p", { class: "next-offer", "data-next": next.id },
+      el("a", { class: "button primary big", href: next.url }, `Next to measure: ${next.reference} →`));
+  }
+
+  async function say(words, tone, { again = null } = {}) {
+    const parts = [el("p", { class: `capture-${tone}` }, ...words)];
+    if (again) parts.push(again);
+    if (tone !== "sending") parts.push(await nextOffer());
+    status.replaceChildren(...parts);
+    status.hidden = false;
+    status.dataset.tone = tone;
+  }
+
+  async function onKept(item) {
+    pending = item.uuid;
+    sendRow.hidden = true;
+    if (navigator.onLine) await say(["✓ Kept on this phone. Sending it to the server…"], "sending");
+    else await waiting("offline");
+    status.scrollIntoView({ block: "nearest" });
+  }
+
+  async function refused(uuid) {
+    const item = await get("refused", uuid);
+    const again = el("button", { type: "button", class: "primary", "data-record-again": uuid },
+      "Record again from these values");
+    again.addEventListener("click", async () => {
+      pending = null;
+      status.hidden = true;
+      sendRow.hidden = false;
+      await capture.open(bearing, { values: item.values || {}, photos: [] });
+      form.querySelector("[data-section]").scrollIntoView({ block: "start" });
+    });
+    await say([el("strong", {}, "✗ The server did not take this record. "),
+      item ? refusalSentence(item) : "",
+      " It is kept on this phone in the refused list; nothing is lost."], "refused", { again });
+  }
+
+  const WAITING = {
+    offline: "✓ Kept in unsent on this phone. There is no signal: it is sent when the signal returns, from any page of sitecheck.",
+    waiting: "✓ Kept in unsent on this phone. The server cannot be reached just now: it is tried again soon, from any page of sitecheck.",
+    login: "✓ Kept in unsent on this phone. Log in again to send it: it waits until you do.",
+  };
+
+  function waiting(state) {
+    const login = state === "login"
+      ? [" ", el("a", { class: "tap", href: `/login?next=${encodeURIComponent(window.location.pathname)}` }, "Log in")]
+      : [];
+    return say([WAITING[state], ...login], "kept");
+  }
+
+  window.addEventListener("sitecheck:outbox", (event) => {
+    const d = event.detail || {};
+    if (!pending) return;
+    if (d.kind === "sent" && d.uuid === pending) {
+      pending = null;
+      say(["✓ Sent. Opening the server's re-check…"], "sent").then(() => {
+        window.location.assign(d.answer.url);
+      });
+    } else if (d.kind === "refused" && d.uuid === pending) {
+      pending = null;
+      refused(d.uuid);
+    } else if (d.kind === "progress" && d.state in WAITING) {
+      waiting(d.state);
+    }
+  });
+
+  const capture = attachCapture(form, {
+    mode: "online",
+    user,
+    context: () => verdictContext,
+    onKept,
+  });
+  // A form the server sent back with its own refusals (posted without this script) is shown
+  // as it came; otherwise the draft, if the phone holds one.
+  const asIs = !document.querySelector("[data-form-errors]").hidden;
+  capture.open(bearing, null, { asIs, fresh: true }).then(() => {
+    document.body.dataset.captureReady = "1";
+  });
 }

@@ -2,23 +2,17 @@
 // the field's label, the value typed and what is expected. Never an HTTP status, an
 // internal field name (padstone.length) or a reason code (check-fails).
 //
-// The words come from the server, written into each page that needs them (the as-built
-// form, the offline page, the refused list) as JSON by sitecheck/web/record_form.py
-// phone_words(): the labels and units of the form's fields, the core's field paths that
-// each field answers for, and the words for why a bearing could not be measured. So the
-// labels have one source, the server's form.
+// The words come from the server, as the module /phone-words.js that it writes from
+// sitecheck/web/record_form.py phone_words() and the service worker keeps with the shell:
+// the labels and units of the form's fields, the core's field paths that each field answers
+// for, and the words for why a bearing could not be measured. So the labels have one
+// source, the server's form.
 
+import { PHONE_WORDS } from "/phone-words.js";
 import { formatG } from "./bearing/format.js";
 
-let WORDS = null;
-
-// The page's words (read once from <script type="application/json" id="phone-words">).
 export function phoneWords() {
-  if (!WORDS) {
-    const node = document.getElementById("phone-words");
-    WORDS = node ? JSON.parse(node.textContent) : { labels: {}, paths: {}, design: {}, why: {} };
-  }
-  return WORDS;
+  return PHONE_WORDS;
 }
 
 // The form field a core complaint is about ("padstone.length" -> "padstone_length"), or null.
@@ -124,4 +118,39 @@ export function refusalSentence(item) {
 /** Why the could-not-measure choice was refused, or what it means, in words. */
 export function whyWords(code) {
   return phoneWords().why[code] || "";
+}
+
+// --- times, in the phone's own time and zone ------------------------------------------------
+//
+// The server stores and sends UTC and writes it in each page as
+// <time datetime="..." data-local>…UTC</time>; this puts it in the phone's zone, with the
+// zone's name, so no one has to work out what "UTC" means on site.
+
+const DATE_AND_TIME = new Intl.DateTimeFormat("en-GB", {
+  day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit",
+  timeZoneName: "short",
+});
+const TIME_ONLY = new Intl.DateTimeFormat("en-GB", {
+  hour: "2-digit", minute: "2-digit", second: "2-digit", timeZoneName: "short",
+});
+
+/** A stored time (ISO, UTC) as the phone's local time with its zone; `seconds` gives the
+ * time alone, with seconds, when it is today (the draft line's "kept at"). */
+export function localTime(iso, { seconds = false } = {}) {
+  const moment = new Date(iso);
+  if (Number.isNaN(moment.getTime())) return String(iso ?? "");
+  if (seconds && moment.toDateString() === new Date().toDateString()) {
+    return TIME_ONLY.format(moment);
+  }
+  return DATE_AND_TIME.format(moment);
+}
+
+/** Every server-written time on the page, in the phone's zone (its UTC words kept as a title). */
+export function showLocalTimes(root = document) {
+  for (const node of root.querySelectorAll("time[data-local][datetime]")) {
+    if (node.dataset.shown) continue;
+    node.title = node.textContent;
+    node.textContent = localTime(node.getAttribute("datetime"));
+    node.dataset.shown = "local";
+  }
 }

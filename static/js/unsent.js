@@ -3,9 +3,10 @@
 // list of kept sites and the refused list's own page.
 
 import { getAll, put } from "./db.js";
-import { labelOf, refusalSentence } from "./messages.js";
+// The words of messages and times are fetched only by a page that shows some (the log-in
+// page shows none, and a phone's first load should not carry them twice).
+const words = () => import("./messages.js");
 import { counts, refusedItems, sync } from "./outbox.js";
-import { localTime, showLocalTimes } from "./times.js";
 
 const PAGES_CACHE = "sitecheck-pages"; // shared with sw.js
 
@@ -46,6 +47,7 @@ function text(tag, className, content) {
 async function showRefusedPage() {
   const list = document.querySelector("[data-refused-all]");
   if (!list) return;
+  const { labelOf, localTime, refusalSentence } = await words();
   let items;
   try {
     items = await refusedItems();
@@ -212,7 +214,9 @@ for (const button of document.querySelectorAll("[data-send-now]")) {
 }
 guardLogOut();
 showCounts();
-showLocalTimes();
+if (document.querySelector("time[data-local]")) {
+  words().then((m) => m.showLocalTimes()).catch(() => {});
+}
 showRefusedPage();
 showPackAges().catch(() => {});
 if (document.querySelector("[data-persist]")) askToKeep().catch(() => {});

@@ -11,6 +11,7 @@ import { basisFromDict, ec6UkNa } from "./bearing/basis.js";
 import { formatFixed, formatG } from "./bearing/format.js";
 import { recheckRecord } from "./bearing/record.js";
 import { remedy } from "./bearing/remedy.js";
+import { SYMBOL_WORDS } from "/phone-words.js";
 import { coreSentence, designSentence, designedValue, fieldOf } from "./messages.js";
 
 export const MEASUREMENT_FIELDS = [
@@ -116,7 +117,7 @@ function checkTitle(result, code) {
 
 // A symbol beside plain words (sitecheck/web/symbols.py words_for): the glossary's, else
 // the label of the step that works it out.
-function wordsFor(symbol, steps, words) {
+function wordsFor(symbol, steps, words = SYMBOL_WORDS) {
   if (words && words[symbol]) return words[symbol];
   const step = steps.find((s) => s.symbol === symbol);
   return step ? String(step.label).toLowerCase() : "";
@@ -145,7 +146,7 @@ function stepsTable(steps, words) {
 /** The full calculation, as the server's pages show it, for showing the contractor why.
  * Built when first opened: dozens of table rows on every keystroke would cost a slow phone
  * more than the re-check itself. */
-export function traceDetails(result, open = false, words = null) {
+export function traceDetails(result, open = false, words = SYMBOL_WORDS) {
   const details = el("details", { class: "trace", "data-phone-trace": "" },
     el("summary", {}, el("span", {}, `Full calculation (${result.basis})`)));
   let filled = false;
@@ -292,7 +293,7 @@ function render(panel, outcome, unreadable, ms, ctx, kind, form) {
         ". The engineer decides what is done."));
     }
     parts.push(el("h3", {}, "Review reasons"), reasonList(outcome.reasons));
-    parts.push(traceDetails(result, traceWasOpen, ctx.words));
+    parts.push(traceDetails(result, traceWasOpen));
   }
   for (const u of unreadable) {
     parts.push(el("p", { class: "field-error" }, `✗ ${u.label}: ${u.message}; left out until it is a number.`));
