@@ -518,7 +518,7 @@ def designed_text(design_input: dict, name: str) -> str:
         if name == "a2":
             return "wall runs on"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
-            return f"f_k {design_input['masonry']['f_k']:g} N/mm² declared"
+            return f"characteristic strength f_k {design_input['masonry']['f_k']:g} N/mm² declared"
         if spec.kind == "tri" or name == "packing":
             return ""
         return "not given"

@@ -178,16 +178,19 @@ function guardLogOut() {
       if (form.dataset.confirmed) return;
       event.preventDefault();
       let n = { unsent: 0, refused: 0 };
+      let drafts = 0;
       try {
         n = await counts();
+        drafts = (await getAll("drafts")).length;
       } catch (error) {
         /* no IndexedDB: nothing to lose */
       }
-      const waiting = n.unsent + n.refused;
+      const waiting = n.unsent + n.refused + drafts;
+      const draftWords = drafts ? ` and ${drafts} draft(s) not yet kept as records` : "";
       if (
         waiting === 0 ||
         window.confirm(
-          `${n.unsent} unsent and ${n.refused} refused record(s) are on this phone only. ` +
+          `${n.unsent} unsent and ${n.refused} refused record(s)${draftWords} are on this phone only. ` +
             "Logging out deletes them from this phone for good. Log out anyway?",
         )
       ) {

@@ -427,3 +427,28 @@ def test_times_show_in_the_phones_own_zone(page: Page, live_server, browser, bro
         assert "UTC" in times.first.get_attribute("title")
     finally:
         context.close()
+
+
+def test_logging_out_with_a_draft_on_the_phone_warns_first(page: Page, live_server):
+    """Logging out clears the phone's storage: a draft would go with it, so the phone asks."""
+    site_id = _site(live_server, BRICK_WING_NAME)
+    b = _bearing(live_server, site_id, "EX-B10")
+    log_in(page, "inspector")
+    open_record_form(page, site_id, b["id"])
+    page.fill("#wall_thickness", "100")
+    expect(page.locator("[data-draft-line]")).to_contain_text("Draft kept")
+    messages = []
+
+    def dismiss(dialog):
+        messages.append(dialog.message)
+        dialog.dismiss()
+
+    page.once("dialog", dismiss)
+    page.locator("form[data-logout] button").tap()
+    for _ in range(100):
+        if messages:
+            break
+        page.wait_for_timeout(100)
+    assert messages and "1 draft(s) not yet kept as records" in messages[0]
+    expect(page.locator("h1")).to_contain_text("As-built record")
+    assert [d for d in page.evaluate(DRAFTS) if d["bearing_id"] == b["id"]]

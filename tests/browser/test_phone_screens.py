@@ -17,10 +17,12 @@ import sqlite3
 from pathlib import Path
 
 import pytest
+from mirror_compare import load_shared_vectors
 from playwright.sync_api import Page, expect
 
 from phone import keep_site, log_in, open_record_form
 from sitecheck.demo import BRICK_WING_NAME, SITE_NAME
+from sitecheck.web.record_form import CORE_PATHS, SPECS
 
 AXE = (Path(__file__).resolve().parents[1] / "vendor" / "axe-core-4.14.1" / "axe.min.js").read_text(
     encoding="utf-8"
@@ -101,6 +103,24 @@ def phone(browser, browser_context_args):
     context.close()
 
 
+def _internal_names() -> re.Pattern:
+    """What must never reach these screens: a review reason's code, a field's internal name
+    or the core's path for it, an HTTP status."""
+    vectors = load_shared_vectors()
+    codes = {
+        r["code"] for c in vectors["review"] for r in c["expect"]["reasons"] if "-" in r["code"]
+    }
+    names = {n for n in SPECS if "_" in n} | {"why_not_measured", "measured_at"}
+    paths = {p for p in CORE_PATHS if "." in p}
+    words = sorted(codes | names | paths, key=len, reverse=True)
+    return re.compile(
+        r"(?<![\w-])(" + "|".join(map(re.escape, words)) + r")(?![\w-])|\bHTTP\b|\b[45]\d\d:"
+    )
+
+
+INTERNAL = _internal_names()
+
+
 def _check(page: Page, name: str, problems: dict) -> None:
     page.wait_for_load_state("networkidle")
     page.screenshot(path=str(Path("test-results") / f"phone-360-{name}.png"), full_page=True)
@@ -108,16 +128,19 @@ def _check(page: Page, name: str, problems: dict) -> None:
     wide = page.evaluate(TOO_WIDE)
     page.evaluate(AXE)
     axe = page.evaluate(AXE_RUN)
-    problems[name] = {"tap targets": taps, "too wide": wide, "axe": axe}
+    text = page.locator("body").inner_text()
+    internal = sorted({m.group(0) for m in INTERNAL.finditer(text)})
+    problems[name] = {"tap targets": taps, "too wide": wide, "axe": axe, "internal names": internal}
 
 
 def _report(problems: dict) -> None:
     taps = sum(len(p["tap targets"]) for p in problems.values())
     axe = sum(len(p["axe"]) for p in problems.values())
     wide = sum(len(p["too wide"]) for p in problems.values())
+    internal = sum(len(p["internal names"]) for p in problems.values())
     print(
         f"\n{len(problems)} screens at 360 px: tap-target violations {taps}, "
-        f"axe serious/critical {axe}, too wide {wide}"
+        f"axe serious/critical {axe}, too wide {wide}, internal names or codes {internal}"
     )
     failing = {n: {k: v for k, v in p.items() if v} for n, p in problems.items() if any(p.values())}
     assert not failing, failing
