@@ -11,7 +11,7 @@ import os
 import secrets
 from pathlib import Path
 
-from flask import Flask, g, request
+from flask import Flask, current_app, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
 
 from sitecheck import store
@@ -26,6 +26,7 @@ CSP = (
     "connect-src 'self'; font-src 'self'; manifest-src 'self'; worker-src 'self'; "
     "object-src 'none'; base-uri 'none'; frame-ancestors 'none'; form-action 'self'"
 )
+HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
 def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
@@ -111,6 +112,10 @@ def _security_headers(response):
     h.setdefault("Referrer-Policy", "same-origin")
     h.setdefault("X-Frame-Options", "DENY")
     h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
+    if current_app.config["SESSION_COOKIE_SECURE"]:
+        # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
+        # so a phone on a site's open Wi-Fi is not talked down to plain HTTP.
+        h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
     if request.path.startswith("/static/") or request.path in ("/sw.js", "/manifest.webmanifest"):
         return response
     # A view that deliberately marks its response private (content-addressed photos) keeps
