@@ -8,6 +8,7 @@ import hashlib
 import secrets
 import unicodedata
 from typing import NamedTuple
+from urllib.parse import unquote, urlsplit
 
 from werkzeug.security import check_password_hash, generate_password_hash
 
@@ -162,3 +163,34 @@ def throttle_delay(
     if failures < 0:
         raise ValueError(f"failures {failures} is negative")
     return 0 if failures < limit else window_s
+
+
+def same_site_path(target: str | None) -> str | None:
+    """``target`` as a path on this site to go to after logging in, or None to go home.
+
+    Control characters and whitespace are removed first (browsers drop a tab or a newline
+    inside a URL, so ``/\t/evil.example`` reaches them as ``//evil.example``). Then only a
+    plain absolute path is kept: no scheme, no host, no backslash (browsers read it as a
+    slash) and no doubled slash in the path, neither as sent nor percent-decoded once more.
+    """
+    if not isinstance(target, str):
+        return None
+    kept = _without_invisibles(target)
+    for form in (kept, _without_invisibles(unquote(kept))):
+        parts = urlsplit(form)
+        if parts.scheme or parts.netloc or "\\" in form or not form.startswith("/"):
+            return None
+        # Not parts.path: urlsplit reads "///evil.example" as an empty host and drops the
+        # slashes that a browser would not.
+        path = form.split("?", 1)[0].split("#", 1)[0]
+        while "/./" in path:
+            path = path.replace("/./", "/")
+        if "//" in path:
+            return None
+    return kept
+
+
+def _without_invisibles(text: str) -> str:
+    return "".join(
+        c for c in text if not c.isspace() and unicodedata.category(c) not in ("Cc", "Cf")
+    )

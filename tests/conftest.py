@@ -14,9 +14,7 @@ import pytest
 from sitecheck import auth, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
 from sitecheck.web import create_app
-from webkit import new_site
-
-PASSWORD = "correct horse battery"  # test accounts only
+from webkit import PASSWORD, new_site
 
 
 @dataclass

@@ -175,10 +175,7 @@ def login():
         session.clear()  # a fresh cookie at log-in: no fixation
         session[SESSION_KEY] = token.token
         session.permanent = True
-        target = request.args.get("next") or ""
-        if not target.startswith("/") or target.startswith("//"):
-            target = url_for("pages.home")
-        return redirect(target)
+        return redirect(accounts.same_site_path(request.args.get("next")) or url_for("pages.home"))
     status = 400 if form.errors else 200
     return render_template("login.html", form=form, error=None), status
 
