@@ -3,6 +3,7 @@
 import re
 import sqlite3
 from datetime import datetime, timedelta
+from typing import NamedTuple
 
 import sqlite_utils
 
@@ -226,33 +227,52 @@ def record_login_attempt(
     )
 
 
-def recent_failures(
+class FailedLogIns(NamedTuple):
+    """Failed log-ins in the window, and when the latest was (UTC text, None if none)."""
+
+    count: int
+    last_at: str | None
+
+
+def failed_log_ins(
     db: sqlite_utils.Database,
     *,
     email: str,
     remote_addr: str,
     window_s: int,
     now: datetime | None = None,
-) -> int:
-    """Failed sign-ins in the window: the larger of the count for this e-mail and for this address.
+) -> tuple[FailedLogIns, FailedLogIns]:
+    """Failures of this account from this address since its last success there, and of any
+    account from this address, both within the window.
 
-    Counting per e-mail slows guessing one account from many addresses; counting per address
-    slows trying many accounts from one. Taking the larger, not the sum, keeps one person's
-    typos on a shared site connection from adding up with another's.
+    Nothing is counted per account across addresses: then a stranger anywhere could keep a
+    person out of their own account by failing on purpose.
     """
     since = timestamp((now or utc_now()) - timedelta(seconds=window_s))
     row = one(
         db,
         """
+        WITH pair AS (
+          SELECT at, ok FROM login_attempts
+          WHERE email = :email AND remote_addr = :addr AND at > :since
+        ),
+        last_ok AS (SELECT coalesce(max(at), '') AS at FROM pair WHERE ok = 1)
         SELECT
-          (SELECT count(*) FROM login_attempts WHERE email = :email AND at > :since AND ok = 0)
-            AS by_email,
-          (SELECT count(*) FROM login_attempts WHERE remote_addr = :addr AND at > :since AND ok = 0)
-            AS by_addr
+          (SELECT count(*) FROM pair WHERE ok = 0 AND at > (SELECT at FROM last_ok))
+            AS pair_count,
+          (SELECT max(at) FROM pair WHERE ok = 0 AND at > (SELECT at FROM last_ok))
+            AS pair_last,
+          (SELECT count(*) FROM login_attempts WHERE remote_addr = :addr AND at > :since
+             AND ok = 0) AS addr_count,
+          (SELECT max(at) FROM login_attempts WHERE remote_addr = :addr AND at > :since
+             AND ok = 0) AS addr_last
         """,
         {"email": normalise_email(email), "addr": remote_addr or "", "since": since},
     )
-    return max(row["by_email"], row["by_addr"])
+    return (
+        FailedLogIns(row["pair_count"], row["pair_last"]),
+        FailedLogIns(row["addr_count"], row["addr_last"]),
+    )
 
 
 def prune_login_attempts(

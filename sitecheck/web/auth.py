@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from datetime import datetime
 from functools import wraps
 
 from flask import (
@@ -137,14 +138,9 @@ def login():
     if form.validate_on_submit():
         db = get_db()
         email = form.email.data.strip().lower()
+        # The client's address as the trusted proxies give it (SITECHECK_TRUSTED_PROXIES).
         remote = request.remote_addr or "-"
-        cfg = current_app.config
-        failures = store.recent_failures(
-            db, email=email, remote_addr=remote, window_s=cfg["LOGIN_FAILURE_WINDOW_S"]
-        )
-        wait = accounts.throttle_delay(
-            failures, limit=cfg["LOGIN_FAILURE_LIMIT"], window_s=cfg["LOGIN_FAILURE_WINDOW_S"]
-        )
+        wait = _log_in_wait(db, email, remote)
         if wait:
             store.add_event(
                 db, kind="log-in throttled", detail={"email": email, "remote_addr": remote}
@@ -152,7 +148,11 @@ def login():
             body = render_template(
                 "login.html",
                 form=form,
-                error=f"Too many failed log-ins. Try again in {wait // 60} minutes.",
+                error=(
+                    "Too many failed log-ins from here. Wait "
+                    f"{accounts.wait_words(wait)}, then try again; each further failure "
+                    "makes the wait longer."
+                ),
             )
             return body, 429, {"Retry-After": str(wait)}
         cred = store.login_credentials(db, email)
@@ -178,6 +178,23 @@ def login():
         return redirect(accounts.same_site_path(request.args.get("next")) or url_for("pages.home"))
     status = 400 if form.errors else 200
     return render_template("login.html", form=form, error=None), status
+
+
+def _log_in_wait(db, email: str, remote: str) -> int:
+    """Seconds before this account may be tried again from this address (0: now)."""
+    window = current_app.config["LOGIN_FAILURE_WINDOW_S"]
+    now = store.utc_now()
+    store.prune_login_attempts(db, older_than_s=window, now=now)
+    waits = [0]
+    for failed, rule in zip(
+        store.failed_log_ins(db, email=email, remote_addr=remote, window_s=window, now=now),
+        (current_app.config["LOG_IN_RULE_ACCOUNT"], current_app.config["LOG_IN_RULE_ADDRESS"]),
+        strict=True,
+    ):
+        if failed.last_at is not None:
+            since = (now - datetime.fromisoformat(failed.last_at)).total_seconds()
+            waits.append(accounts.throttle_wait(failed.count, since, rule))
+    return max(waits)
 
 
 @bp.post("/logout")
