@@ -60,7 +60,11 @@ def people(db) -> dict[str, Person]:
     ):
         email = f"{role}@example.test"
         u = store.create_user(
-            db, email=email, name=name, password_hash=auth.hash_password(PASSWORD)
+            db,
+            email=email,
+            name=name,
+            password_hash=auth.hash_password(PASSWORD),
+            may_make_sites=role == "engineer",  # as `sitecheck create-engineer` makes one
         )
         out[role] = Person(u["id"], email, name, None if role == "outsider" else role)
     return out

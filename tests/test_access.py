@@ -30,7 +30,9 @@ ROUTES = {
     "auth.change_password": "login",
     "review.queue": "login",
     "review.queue_json": "login",
-    "sites.new": "login",
+    "sites.new": "make-sites",
+    "sites.site_makers": "make-sites",
+    "sites.set_site_maker": "make-sites",
     "sites.show": "view",
     "sites.show_json": "view",
     "sites.bearing": "view",
@@ -175,6 +177,9 @@ def _expected(rule_need: str, role: str, json: bool) -> set[int]:
         return {401} if json else {302}
     if rule_need == "login":
         return {200, 302, 400}  # an empty form is answered with its errors
+    if rule_need == "make-sites":
+        # A permission of the account: the fixture's engineer has it, nobody else.
+        return {200, 302, 400} if role == "engineer" else {403}
     if role == "outsider":
         return {404}
     if rule_need in MAY[role]:

@@ -190,6 +190,7 @@ def test_first_open_applies_every_migration_in_order(db):
     assert [m.name for m in store.MIGRATIONS.applied(db)] == [
         "m001_initial_schema",
         "m002_password_to_change",
+        "m003_may_make_sites",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -210,6 +211,31 @@ def test_a_database_of_the_first_schema_is_brought_up_to_date_keeping_its_people
     try:
         user = store.get_user_by_email(db, "kept@example.test")
         assert user["name"] == "Kept" and user["must_change_password"] is False
+    finally:
+        db.close()
+
+
+def test_accounts_that_made_a_site_before_the_permission_keep_making_sites(tmp_path):
+    import sqlite_utils
+
+    path = tmp_path / "older.db"
+    older = sqlite_utils.Database(path)
+    store.MIGRATIONS.apply(older, stop_before="m003_may_make_sites")
+    for n, email in enumerate(("maker@example.test", "other@example.test"), start=1):
+        older.execute(
+            "INSERT INTO users (id, email, name, password_hash, created_at) VALUES (?, ?, ?, ?, ?)",
+            [n, email, email, "test-hash-not-real", "2026-01-05T09:00:00Z"],
+        )
+    older.execute(
+        "INSERT INTO sites (id, name, code_basis, review_settings, created_by, created_at)"
+        " VALUES ('s1', 'Old site', '{}', '{}', 1, '2026-01-05T09:00:00Z')"
+    )
+    older.conn.commit()
+    older.close()
+    db = store.open_db(path)
+    try:
+        assert store.get_user_by_email(db, "maker@example.test")["may_make_sites"] is True
+        assert store.get_user_by_email(db, "other@example.test")["may_make_sites"] is False
     finally:
         db.close()
 
@@ -265,7 +291,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 2
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 3
     finally:
         db.close()
 

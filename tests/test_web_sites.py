@@ -304,7 +304,9 @@ def test_log_in_is_needed(app, site):
 
 
 def test_a_new_site_makes_its_creator_the_engineer(client_as, db, people):
-    c = client_as("outsider")  # anyone logged in may start a site
+    # An account on no site, given the permission to make sites.
+    store.set_may_make_sites(db, user_id=people["outsider"].id, allowed=True, by_user_id=None)
+    c = client_as("outsider")
     assert c.get("/sites/new").status_code == 200
     before = counts(db)
     r = post(c, "/sites/new", {"name": "  ", "basis": "EC6 + UK NA"})
@@ -329,6 +331,64 @@ def test_a_new_site_makes_its_creator_the_engineer(client_as, db, people):
     page = c.get(r.headers["Location"])
     assert page.status_code == 200
     assert b"Invented Mill, east range" in page.data and b"No bearings yet" in page.data
+
+
+def test_only_an_account_that_may_make_sites_sees_new_site_or_may_make_one(
+    client_as, db, site, people
+):
+    """Before: any logged-in account made a site, became its engineer and invited people."""
+    for role in ("viewer", "inspector", "contractor", "outsider"):
+        c = client_as(role)
+        home = c.get("/")
+        assert home.status_code == 200 and b"New site" not in home.data, role
+        assert b"/sites/new" not in home.data and b"/may-make-sites" not in home.data
+        before = counts(db)
+        assert c.get("/sites/new").status_code == 403
+        r = post(c, "/sites/new", {"name": "A site of my own", "basis": "EC6 + UK NA"})
+        assert r.status_code == 403
+        assert b"may not make sites" in r.data
+        assert counts(db) == before | {"events": before["events"] + 2}  # the two refusals
+        assert c.get("/may-make-sites").status_code == 403
+        assert post(c, f"/may-make-sites/{people[role].id}", {"allowed": "yes"}).status_code == 403
+    refused = [
+        e for e in store.events_for_user(db, user_id=people["viewer"].id) if e["kind"] == "refused"
+    ]
+    assert {e["detail"]["action"] for e in refused} == {"make-sites"}
+    assert store.get_user_by_id(db, people["viewer"].id)["may_make_sites"] is False
+
+    engineer = client_as("engineer").get("/")
+    assert b"New site" in engineer.data and b"Who may make sites" in engineer.data
+
+
+def test_an_account_that_may_make_sites_gives_it_and_takes_it_away(client_as, db, site, people):
+    c = client_as("engineer")
+    page = c.get("/may-make-sites")
+    assert page.status_code == 200
+    for role in ("engineer", "inspector", "contractor", "viewer"):
+        assert people[role].name.encode() in page.data
+    assert people["outsider"].name.encode() not in page.data  # on none of the engineer's sites
+    assert b"@example.test" not in page.data  # names and sites, not e-mail addresses
+    assert str(escape(f"{site['name']} (viewer)")).encode() in page.data
+
+    viewer = people["viewer"].id
+    r = post(c, f"/may-make-sites/{viewer}", {"allowed": "yes"})
+    assert r.status_code == 302
+    assert store.get_user_by_id(db, viewer)["may_make_sites"] is True
+    assert client_as("viewer").get("/sites/new").status_code == 200
+    r = post(c, f"/may-make-sites/{viewer}", {"allowed": "no"})
+    assert r.status_code == 302
+    assert client_as("viewer").get("/sites/new").status_code == 403
+
+    kinds = [e["kind"] for e in store.events_for_user(db, user_id=people["engineer"].id)]
+    assert "may make sites given" in kinds and "may make sites taken away" in kinds
+    before = counts(db)
+    r = post(c, f"/may-make-sites/{people['outsider'].id}", {"allowed": "yes"})
+    assert r.status_code == 404 and b"not on any of your sites" in r.data
+    r = post(c, f"/may-make-sites/{people['engineer'].id}", {"allowed": "no"})
+    assert r.status_code == 409 and b"cannot take this from yourself" in r.data
+    assert post(c, f"/may-make-sites/{viewer}", {"allowed": "maybe"}).status_code == 400
+    assert counts(db) == before
+    assert store.get_user_by_id(db, people["outsider"].id)["may_make_sites"] is False
 
 
 # --- the site page -----------------------------------------------------------------------------

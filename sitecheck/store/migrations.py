@@ -287,6 +287,18 @@ def m002_password_to_change(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m003_may_make_sites(db: sqlite_utils.Database) -> None:
+    """Making sites becomes a permission of an account. Accounts that already made a site
+    keep the right they used (an upgrade must not stop an office's engineers); anyone else
+    gets it from ``sitecheck create-engineer`` or from an account that has it."""
+    db.execute(
+        "ALTER TABLE users ADD COLUMN may_make_sites INTEGER NOT NULL DEFAULT 0 "
+        "CHECK (may_make_sites IN (0, 1))"
+    )
+    db.execute("UPDATE users SET may_make_sites = 1 WHERE id IN (SELECT created_by FROM sites)")
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

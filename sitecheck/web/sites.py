@@ -21,14 +21,17 @@ from flask import (
     request,
     url_for,
 )
+from flask_wtf import FlaskForm
 from werkzeug.exceptions import RequestEntityTooLarge
+from wtforms import HiddenField
+from wtforms.validators import AnyOf
 
 from sitecheck import auth as accounts
 from sitecheck import services, store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
 from sitecheck.web import get_db
-from sitecheck.web.access import bearing_for, site_for
+from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
 from sitecheck.web.auth import login_required
 from sitecheck.web.design_forms import (
     BASIS_GROUPS,
@@ -90,6 +93,7 @@ def has_endpoint(name: str) -> bool:
 @bp.route("/sites/new", methods=["GET", "POST"])
 @login_required
 def new():
+    require_may_make_sites()
     form = SiteForm()
     if form.validate_on_submit():
         code_basis, review_settings = services.default_site_settings(form.basis.data)
@@ -104,6 +108,55 @@ def new():
         flash(f"Site “{site['name']}” created; you are its engineer.")
         return redirect(url_for("sites.show", site_id=site["id"]))
     return render_template("sites/new.html", form=form), 400 if form.errors else 200
+
+
+# --- who may make sites ------------------------------------------------------------------------
+
+
+class SiteMakerForm(FlaskForm):
+    allowed = HiddenField(validators=[AnyOf(("yes", "no"))])
+
+
+@bp.get("/may-make-sites")
+@login_required
+def site_makers():
+    require_may_make_sites()
+    return _site_makers_page(200)
+
+
+@bp.post("/may-make-sites/<int:user_id>")
+@login_required
+def set_site_maker(user_id):
+    require_may_make_sites()
+    db = get_db()
+    # Only people one shares a site with: the page lists no one else, and the answer for
+    # any other id is the same as for an id that does not exist.
+    person = next(
+        (p for p in store.people_sharing_sites(db, g.user["id"]) if p["id"] == user_id), None
+    )
+    if person is None:
+        return _site_makers_page(404, error="That person is not on any of your sites.")
+    form = SiteMakerForm()
+    if not form.validate():
+        return _site_makers_page(400, error="Send the form again from this page.")
+    allowed = form.allowed.data == "yes"
+    if user_id == g.user["id"] and not allowed:
+        return _site_makers_page(
+            409,
+            error="You cannot take this from yourself; ask another account that may make "
+            "sites, so that one always remains.",
+        )
+    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
+    name = person["name"] or "They"
+    flash(f"{name} may now make sites." if allowed else f"{name} may no longer make sites.")
+    return redirect(url_for("sites.site_makers"))
+
+
+def _site_makers_page(status: int, error: str | None = None):
+    people = store.people_sharing_sites(get_db(), g.user["id"])
+    return render_template(
+        "sites/makers.html", people=people, error=error, form=SiteMakerForm(formdata=None)
+    ), status
 
 
 # --- the site and its bearing schedule ----------------------------------------------------------
