@@ -1,4 +1,5 @@
-"""Account primitives: password hashing and policy, session tokens, sign-in throttling.
+"""Account primitives: password hashing and policy, session and link tokens, log-in
+slowing, and where a log-in may send you afterwards.
 
 No Flask here: the sign-in views call these and ``sitecheck.store``.
 """
@@ -148,6 +149,22 @@ def session_id_for(token: str) -> str:
 def new_session_token() -> SessionToken:
     token = secrets.token_urlsafe(32)
     return SessionToken(token=token, session_id=session_id_for(token))
+
+
+class LinkToken(NamedTuple):
+    """A single-use link's ``token`` goes into the link; only ``token_hash`` is stored."""
+
+    token: str
+    token_hash: str
+
+
+def new_link_token() -> LinkToken:
+    token = secrets.token_urlsafe(32)
+    return LinkToken(token=token, token_hash=link_token_hash(token))
+
+
+def link_token_hash(token: str) -> str:
+    return hashlib.sha256(token.encode("utf-8")).hexdigest()
 
 
 class ThrottleRule(NamedTuple):

@@ -191,6 +191,9 @@ def test_first_open_applies_every_migration_in_order(db):
         "m001_initial_schema",
         "m002_password_to_change",
         "m003_may_make_sites",
+        "m004_outgoing_mail",
+        "m005_invitations",
+        "m006_single_use_links",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -291,7 +294,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 3
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 6
     finally:
         db.close()
 

@@ -17,6 +17,7 @@ from werkzeug.middleware.proxy_fix import ProxyFix
 
 from sitecheck import auth as accounts
 from sitecheck import store
+from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore
 from sitecheck.web import compress
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
@@ -60,6 +61,10 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
         LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
         TRUSTED_PROXIES=_trusted_proxies(os.environ.get("SITECHECK_TRUSTED_PROXIES")),
+        # MailSettings, or None for no mail (then invitation links are handed over).
+        MAIL=MailSettings.from_env(os.environ),
+        # Deliver queued mail from a background thread of this process.
+        MAIL_SENDER=True,
     )
     app.config.update(config)
     proxies = _trusted_proxies(app.config["TRUSTED_PROXIES"])
@@ -72,6 +77,10 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
     db.conn.close()
     app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    if app.config["MAIL"] is not None and app.config["MAIL_SENDER"]:
+        sender = MailSender(app.config["DB_PATH"], app.config["MAIL"])
+        app.extensions["mail_sender"] = sender
+        sender.start()
     csrf.init_app(app)
 
     from sitecheck.web import auth, pages, review, sites

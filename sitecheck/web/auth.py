@@ -11,6 +11,7 @@ from flask import (
     current_app,
     flash,
     g,
+    make_response,
     redirect,
     render_template,
     request,
@@ -18,7 +19,7 @@ from flask import (
     url_for,
 )
 from flask_wtf import FlaskForm
-from wtforms import EmailField, PasswordField
+from wtforms import EmailField, PasswordField, StringField
 from wtforms.validators import DataRequired, Length, Regexp
 
 from sitecheck import auth as accounts
@@ -72,13 +73,10 @@ def login_required(view):
             return redirect(
                 url_for("auth.login", next=request.full_path if request.method == "GET" else None)
             )
-        # A password someone else chose (shown on the inviter's screen) is changed before
-        # anything else. The phone's outbox (the API) still sends: nothing may wait on it.
+        # A password someone else set is changed before anything else. The phone's outbox
+        # (the API) still sends: nothing may wait on it.
         if g.user.get("must_change_password") and not api:
-            flash(
-                "Choose your own password before going on: the one you were given is shown "
-                "to whoever made your account."
-            )
+            flash("Choose your own password before going on: someone else knows this one.")
             return redirect(url_for("auth.change_password"))
         return view(*args, **kwargs)
 
@@ -130,6 +128,76 @@ def change_password():
         must=bool(g.user.get("must_change_password")),
         min_length=accounts.PASSWORD_MIN,
     ), status
+
+
+class JoinForm(FlaskForm):
+    name = StringField("Your name", validators=[DataRequired("Enter your name."), Length(max=120)])
+    new = PasswordField("Choose a password", validators=[DataRequired(), Length(max=256)])
+    again = PasswordField("The password again", validators=[DataRequired(), Length(max=256)])
+
+
+@bp.route("/join/<token>", methods=["GET", "POST"])
+def join(token):
+    """A single-use invitation link: a new address makes its account here (proving the
+    address, since the link went to it); an address that has an account logs in instead."""
+    db = get_db()
+    token_hash = accounts.link_token_hash(token)
+    link = store.open_link(db, token_hash=token_hash, purpose=store.INVITATION)
+    if link is None:
+        return _join_page(None, None, 410)
+    invitation = store.get_invitation(db, link["invitation_id"]) if link["invitation_id"] else None
+    if store.get_user_by_email(db, link["email"]) is not None:
+        return _join_page(link, invitation, 200, has_account=True)
+    form = JoinForm()
+    if not form.validate_on_submit():
+        return _join_page(link, invitation, 400 if form.errors else 200, form=form)
+    if form.new.data != form.again.data:
+        form.again.errors.append("The two passwords differ. Type the same one twice.")
+    elif problem := accounts.password_problem(form.new.data, email=link["email"]):
+        form.new.errors.append(problem)
+    if form.errors.get("new") or form.again.errors:
+        return _join_page(link, invitation, 400, form=form)
+    try:
+        with store.transaction(db):
+            used = store.use_link(db, token_hash=token_hash, purpose=store.INVITATION)
+            if used is None:  # used by a second request a moment ago
+                raise store.NotFound("link used")
+            user = store.create_user(
+                db,
+                email=used["email"],
+                name=form.name.data.strip(),
+                password_hash=accounts.hash_password(form.new.data),
+            )
+    except store.NotFound:
+        return _join_page(None, None, 410)
+    except store.DuplicateEmail:
+        return _join_page(link, invitation, 409, has_account=True)
+    session_token = accounts.new_session_token()
+    store.create_session(db, session_id=session_token.session_id, user_id=user["id"])
+    store.add_event(db, kind="log-in", user_id=user["id"], detail={"by": "invitation link"})
+    session.clear()
+    session[SESSION_KEY] = session_token.token
+    session.permanent = True
+    flash("Your account is ready. Accept or decline the invitation below.")
+    return redirect(url_for("pages.home"))
+
+
+def _join_page(link, invitation, status: int, *, form=None, has_account=False):
+    response = make_response(
+        render_template(
+            "join.html",
+            link=link,
+            invitation=invitation,
+            form=form,
+            has_account=has_account,
+            min_length=accounts.PASSWORD_MIN,
+        ),
+        status,
+    )
+    # The link's token is in this page's address: keep it out of caches and Referer headers.
+    response.headers["Cache-Control"] = "no-store"
+    response.headers["Referrer-Policy"] = "no-referrer"
+    return response
 
 
 @bp.route("/login", methods=["GET", "POST"])

@@ -61,7 +61,8 @@ def home():
     db = get_db()
     sites = store.sites_for_user(db, g.user["id"])
     queue = store.review_queue(db, user_id=g.user["id"])
-    return render_page("home.html", sites=sites, queue_count=len(queue))
+    invitations = store.open_invitations_for_email(db, email=g.user["email"])
+    return render_page("home.html", sites=sites, queue_count=len(queue), invitations=invitations)
 
 
 def error_page(error):
