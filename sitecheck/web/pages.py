@@ -5,13 +5,13 @@ from __future__ import annotations
 import math
 
 from flask import Blueprint, g, jsonify, render_template, request
-from flask_wtf import FlaskForm
 from markupsafe import Markup, escape
 
 from sitecheck import store, workflow
 from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
+from sitecheck.web.shapes import json_answer
 
 bp = Blueprint("pages", __name__)
 
@@ -34,10 +34,10 @@ def wants_json() -> bool:
 
 
 def render_page(template: str, status: int = 200, **context):
+    """The page as HTML, or at its ``.json`` address the page's declared shape for the
+    asker's role (sitecheck.web.shapes), never the whole context."""
     if wants_json():
-        data = {
-            k: v for k, v in context.items() if not isinstance(v, FlaskForm) and not callable(v)
-        }
+        data = json_answer(template, context, getattr(g, "role", None))
         data["caution"] = CAUTION
         return jsonify(_jsonable(data)), status
     return render_template(template, **context), status
