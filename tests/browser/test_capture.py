@@ -452,3 +452,43 @@ def test_logging_out_with_a_draft_on_the_phone_warns_first(page: Page, live_serv
     assert messages and "1 draft(s) not yet kept as records" in messages[0]
     expect(page.locator("h1")).to_contain_text("As-built record")
     assert [d for d in page.evaluate(DRAFTS) if d["bearing_id"] == b["id"]]
+
+
+UPGRADE_FROM_VERSION_1 = """async () => {
+  // A phone that last ran the app before drafts: version 1, one record waiting to be sent.
+  const old = await new Promise((ok, no) => {
+    const r = indexedDB.open("sitecheck", 1);
+    r.onupgradeneeded = () => {
+      r.result.createObjectStore("packs", { keyPath: "site.id" });
+      const outbox = r.result.createObjectStore("outbox", { keyPath: "uuid" });
+      outbox.createIndex("created", "created");
+      r.result.createObjectStore("refused", { keyPath: "uuid" });
+    };
+    r.onsuccess = () => ok(r.result);
+    r.onerror = () => no(r.error);
+  });
+  await new Promise((ok) => {
+    const tx = old.transaction("outbox", "readwrite");
+    tx.objectStore("outbox").put({ uuid: "kept-from-version-1", created: 1, photos: [] });
+    tx.oncomplete = ok;
+  });
+  old.close();
+  // Today's app opens it.
+  const { openDb } = await import("/static/js/db.js");
+  const db = await openDb();
+  const outbox = await new Promise((ok) => {
+    const r = db.transaction("outbox").objectStore("outbox").getAll();
+    r.onsuccess = () => ok(r.result);
+  });
+  return { version: db.version, stores: [...db.objectStoreNames], outbox: outbox.map((i) => i.uuid) };
+}"""
+
+
+def test_the_phones_database_upgrade_adds_drafts_and_drops_nothing(page: Page):
+    # A page of the app's origin that runs none of its scripts, so nothing opens the
+    # database before the old one is made.
+    page.goto("/static/icon-192.png")
+    got = page.evaluate(UPGRADE_FROM_VERSION_1)
+    assert got["version"] == 2
+    assert sorted(got["stores"]) == ["drafts", "outbox", "packs", "refused"]
+    assert got["outbox"] == ["kept-from-version-1"]
