@@ -13,7 +13,7 @@ from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
 from sitecheck.web.shapes import json_answer
-from sitecheck.web.symbols import words_for
+from sitecheck.web.symbols import DRAWING_KEY, words_for
 
 bp = Blueprint("pages", __name__)
 
@@ -96,6 +96,7 @@ def install_template_helpers(app) -> None:
             "mm": lambda x: "—" if x is None else f"{x:g}",
             "allowed": lambda action: workflow.allowed(getattr(g, "role", None), action),
             "symbol_words": words_for,
+            "drawing_key": DRAWING_KEY,
             "local_time": local_time,
         }
 

@@ -81,8 +81,8 @@ SYMBOL_WORDS: dict[str, str] = {
     "e_x": "eccentricity at the top of the wall",
     "λ": "slenderness parameter",
     "Φ_m": "reduction factor at mid-height",
-    "A1": "factor A1",
-    "u": "factor u",
+    "A1": "factor",
+    "u": "factor",
     "n_Rd": "resistance per length",
     "β": "enhancement factor",
     "β · f_d": "design strength under the load",
@@ -104,8 +104,21 @@ SYMBOL_WORDS: dict[str, str] = {
     "δ": "unit shape factor",
     "height": "unit height",
     "width": "unit width",
-    "c": "factor c",
+    "c": "factor",
 }
+
+# The symbols the bearing drawing writes on itself (sitecheck/report/drawing.py), in words:
+# the drawing keeps its short labels to fit, and the page puts this key beside it.
+DRAWING_KEY: tuple[tuple[str, str], ...] = (
+    ("N_Ed", "end reaction"),
+    ("l_b", "bearing length"),
+    ("a1", "distance to the wall's end"),
+    ("t", "wall thickness"),
+    ("e", "eccentricity across the wall, against its limit of a quarter of t"),
+    ("σ_max", "peak pressure under the padstone"),
+    ("l_efm / l_d", "length the load has spread over, at mid-height (EC6) or 0.4 h (BS 5628-1)"),
+    ("h_c", "height to the bearing"),
+)
 
 
 def words_for(symbol: str, steps: list[dict] | None = None) -> str:
