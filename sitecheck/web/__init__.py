@@ -16,7 +16,7 @@ from flask_wtf.csrf import CSRFError, CSRFProtect
 
 from sitecheck import store
 from sitecheck.photos import PhotoStore
-from sitecheck.web import compress
+from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
 csrf = CSRFProtect()
@@ -60,6 +60,7 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
     db.conn.close()
     app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    jsonbody.install(app)
     csrf.init_app(app)
 
     from sitecheck.web import auth, pages, review, sites

@@ -5,8 +5,9 @@ Every answer is JSON with a status the phone acts on without reading the words:
 
 - 200/201: stored (201 the first time, 200 for the same UUID again, with the first answer);
   the phone deletes its copy only now.
-- 400: the request itself is malformed (not JSON, no file part, a stale CSRF token); the phone
-  fetches a new token and tries again, or keeps the item.
+- 400: the request itself is malformed (not JSON, JSON too large or too deep, no file part, a
+  stale CSRF token); the phone fetches a new token and tries again after a stale token, and
+  otherwise moves the item to its refused list.
 - 401: logged out; the phone keeps the item until its person logs in again.
 - 403/404/409/422: refused for good; the phone moves the item to its visible refused list
   with ``error`` (a sentence) and ``code`` / ``field``.
@@ -44,6 +45,7 @@ from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
 from sitecheck.web.auth import login_required
+from sitecheck.web.jsonbody import JsonRefused, read_json
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
     GROUPS,
@@ -207,7 +209,10 @@ def pack(site_id):
 @bp.post("/api/records")
 @login_required
 def post_record():
-    data = request.get_json(silent=True)
+    try:
+        data = read_json(request)
+    except JsonRefused as refused:
+        return jsonify(error=refused.message, code=refused.code), 400
     if not isinstance(data, dict):
         return jsonify(error="Send the as-built record as a JSON object.", code="not-json"), 400
     try:
