@@ -7,6 +7,7 @@ sentence, so every refusal here must be a 4xx that says what was wrong.
 
 from __future__ import annotations
 
+import threading
 import uuid
 from datetime import UTC, datetime
 
@@ -118,3 +119,77 @@ def test_deep_json_sent_to_any_page_is_never_a_500(server, inspector):
     for path in ("/api/records", "/login", "/logout"):
         answer = inspector.post_json(path, raw=deep)
         assert answer.status < 500, (path, answer.status)
+
+
+# --- one record id, two bodies (issue 12, point 12) ----------------------------------------------
+
+
+def test_the_same_record_id_with_other_values_is_a_409_and_the_first_stays(
+    inspector, db, site, bearing
+):
+    first = _record(site, bearing, notes="Padstone as drawn.")
+    assert inspector.post_json("/api/records", first).status == 201
+    # A resend of the same values (the answer was lost) gets the first answer.
+    again = inspector.post_json("/api/records", first)
+    assert again.status == 200 and again.json()["created"] is False
+
+    other = dict(
+        first,
+        notes="Padstone cracked at its corner.",
+        measurements={"bearing_length": first["measurements"]["bearing_length"] - 20},
+    )
+    answer = inspector.post_json("/api/records", other)
+    assert answer.status == 409, answer.text[:300]
+    refusal = answer.json()
+    assert refusal["code"] == "same-id-other-values" and refusal["field"] == "uuid"
+    assert refusal["differs"] == ["measurements", "notes"]
+    assert "already stored with other values (measurements, notes)" in refusal["error"]
+    assert "record the bearing again" in refusal["error"]
+    stored = store.get_record(db, site_id=site["id"], uuid=first["uuid"])
+    assert stored["notes"] == "Padstone as drawn."
+    assert _records(db) == 1
+
+
+@pytest.mark.parametrize(
+    "change",
+    [
+        {"checklist": {"bedded": False, "packing": 0}},
+        {"measured_at": "2026-03-02T08:00:00Z"},
+    ],
+    ids=["checklist", "time"],
+)
+def test_any_other_value_under_the_same_id_is_refused(inspector, site, bearing, change):
+    first = _record(site, bearing)
+    assert inspector.post_json("/api/records", first).status == 201
+    answer = inspector.post_json("/api/records", dict(first, **change))
+    assert answer.status == 409 and answer.json()["code"] == "same-id-other-values"
+
+
+def test_two_bodies_under_one_id_at_the_same_moment_store_one_and_refuse_the_other(
+    server, live_client, db, site, bearing
+):
+    inspector = live_client(server, "inspector")
+    token = inspector.token()
+    record_id = str(uuid.uuid4())
+    bodies = [
+        _record(site, bearing, uuid=record_id, notes=f"Version {n} of the same record.")
+        for n in range(4)
+    ]
+    start = threading.Barrier(len(bodies))
+    answers = [None] * len(bodies)
+
+    def send(n):
+        start.wait()
+        answers[n] = inspector.post_json("/api/records", bodies[n], token=token)
+
+    threads = [threading.Thread(target=send, args=(n,)) for n in range(len(bodies))]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(60)
+    statuses = sorted(a.status for a in answers)
+    assert statuses == [201, 409, 409, 409]
+    kept = store.get_record(db, site_id=site["id"], uuid=record_id)
+    winner = next(n for n, a in enumerate(answers) if a.status == 201)
+    assert kept["notes"] == f"Version {winner} of the same record."
+    assert _records(db) == 1

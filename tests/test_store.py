@@ -480,7 +480,7 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
         w.bearing,
         w.inspector,
         uuid=uuid.upper(),
-        measurements={"bearing_length_mm": 999},
+        # The server's own answer may differ (a later re-check); what was sent is the same.
         utilisation=1.5,
         blocking=2,
     )
@@ -489,6 +489,23 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
     assert second.row == first.row
     assert second.row["measurements"] == {"bearing_length_mm": 140}
     assert second.state == "within design"
+    assert count(w.db, "as_built_records") == 1
+    assert count(w.db, "events") == events
+
+
+def test_the_same_record_id_with_other_values_is_refused_naming_what_differs(world):
+    w = world
+    uuid = str(uuid_module.uuid4())
+    first = send_record(w.db, w.site, w.bearing, w.inspector, uuid=uuid)
+    events = count(w.db, "events")
+    with pytest.raises(store.SameIdOtherValues) as refused:
+        send_record(
+            w.db, w.site, w.bearing, w.inspector, uuid=uuid, measurements={"bearing_length_mm": 99}
+        )
+    assert refused.value.differs == ("measurements",)
+    assert "already stored with other values (measurements)" in str(refused.value)
+    assert isinstance(refused.value, store.UuidInUse)  # callers that know only the older error
+    assert store.get_record(w.db, site_id=w.site["id"], uuid=uuid) == first.row
     assert count(w.db, "as_built_records") == 1
     assert count(w.db, "events") == events
 

@@ -10,6 +10,7 @@ if the bearing moved meanwhile, ``StaleState`` is raised), or, where the new sta
 what is stored at that moment, take the rule itself (``state_after_record``).
 """
 
+import json
 import sqlite3
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
@@ -31,7 +32,13 @@ from sitecheck.store.base import (
     transaction,
     utc_now,
 )
-from sitecheck.store.errors import DuplicateReference, NotFound, StaleState, UuidInUse
+from sitecheck.store.errors import (
+    DuplicateReference,
+    NotFound,
+    SameIdOtherValues,
+    StaleState,
+    UuidInUse,
+)
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import DECISION_KINDS, STATES
 
@@ -417,9 +424,10 @@ def insert_record(
 ) -> RecordStored:
     """Store an as-built record once per client UUID, and move the bearing's state.
 
-    Sending the same UUID again returns the row first stored, ``created=False``, and changes
-    nothing. The same UUID for another bearing or inspector raises ``UuidInUse`` without
-    revealing the stored row. A record arriving after release is stored with ``late`` set and
+    Sending the same UUID again with the same values returns the row first stored,
+    ``created=False``, and changes nothing; with other values it raises ``SameIdOtherValues``
+    naming the fields that differ. The same UUID for another bearing or inspector raises
+    ``UuidInUse`` without revealing the stored row. A record arriving after release is stored with ``late`` set and
     leaves the bearing released. ``state_after_record`` is ``workflow.state_after_record``:
     it is called with (state, blocking, record is newest) inside the transaction, so two
     records arriving together cannot both decide from the same old state.
@@ -470,6 +478,22 @@ def insert_record(
                 raise UuidInUse(
                     "This record's UUID is already used by another record; the phone must make "
                     "a new UUID for each record"
+                )
+            sent = {
+                "design_revision": design_revision,
+                "measured_at": measured,
+                "measurements": measurements,
+                "checklist": checklist or {},
+                "notes": (notes or "").strip(),
+            }
+            differs = tuple(name for name, value in sent.items() if not _same(value, row[name]))
+            if differs:
+                raise SameIdOtherValues(
+                    "An as-built record with this id was already stored with other values ("
+                    + ", ".join(_FIELD_WORDS[name] for name in differs)
+                    + "). These values were not stored: record the bearing again from them, "
+                    "which gives the record a new id.",
+                    differs,
                 )
             return RecordStored(
                 row=get_record(db, site_id=site_id, uuid=uuid),
@@ -525,6 +549,22 @@ def insert_record(
                 detail=detail,
             )
     return RecordStored(row=get_record(db, site_id=site_id, uuid=uuid), created=True, state=state)
+
+
+_FIELD_WORDS = {
+    "design_revision": "design revision",
+    "measured_at": "time measured",
+    "measurements": "measurements",
+    "checklist": "checklist",
+    "notes": "notes",
+}
+
+
+def _same(sent: Any, stored: Any) -> bool:
+    """Equal as stored JSON, strictly: 1 and true, or 100 and 100.0, are not the same value."""
+    return json.dumps(json.loads(to_json(sent)), sort_keys=True) == json.dumps(
+        stored, sort_keys=True
+    )
 
 
 _RECORD_COLUMNS = """

@@ -3,8 +3,9 @@ photos it sends from its unsent outbox, and the offline shell (service worker, o
 
 Every answer is JSON with a status the phone acts on without reading the words:
 
-- 200/201: stored (201 the first time, 200 for the same UUID again, with the first answer);
-  the phone deletes its copy only now.
+- 200/201: stored (201 the first time, 200 for the same UUID with the same values again, with
+  the first answer); the phone deletes its copy only now. The same UUID with other values is
+  a 409: those values were not stored, and the phone keeps them on its refused list.
 - 400: the request itself is malformed (not JSON, JSON too large or too deep, no file part, a
   stale CSRF token); the phone fetches a new token and tries again after a stale token, and
   otherwise moves the item to its refused list.
@@ -244,6 +245,13 @@ def post_record():
         return refused.response()
     except InputError as error:
         return _input_error(error)
+    except store.SameIdOtherValues as error:
+        return (
+            jsonify(
+                error=str(error), field="uuid", code="same-id-other-values", differs=error.differs
+            ),
+            409,
+        )
     except store.UuidInUse as error:
         return jsonify(error=str(error), field="uuid", code="uuid-in-use"), 409
     except ValueError as error:  # the store's own refusals, e.g. a design revision it never had
