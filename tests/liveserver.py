@@ -29,6 +29,8 @@ class LiveServer:
         self._thread.start()
 
     def stop(self) -> None:
+        if not self._thread.is_alive():
+            return
         self._srv.shutdown()
         self._srv.server_close()
         self._thread.join(5)
@@ -101,6 +103,25 @@ class Client:
         body = raw if raw is not None else json.dumps(value).encode()
         headers = {"Content-Type": "application/json", "X-CSRFToken": token or self.token()}
         return self.request("POST", path, body=body, headers=headers)
+
+    def post_multipart(self, path: str, fields: dict, files: list[tuple[str, str, bytes]]):
+        """A form with files, as a browser sends it; ``files`` as (field, file name, bytes)."""
+        boundary = uuid.uuid4().hex
+        parts = [
+            f'--{boundary}\r\nContent-Disposition: form-data; name="{name}"\r\n\r\n'
+            f"{value}\r\n".encode()
+            for name, value in fields.items()
+        ]
+        for field, filename, data in files:
+            parts.append(
+                f'--{boundary}\r\nContent-Disposition: form-data; name="{field}"; '
+                f'filename="{filename}"\r\nContent-Type: image/jpeg\r\n\r\n'.encode()
+                + data
+                + b"\r\n"
+            )
+        parts.append(f"--{boundary}--\r\n".encode())
+        headers = {"Content-Type": f"multipart/form-data; boundary={boundary}"}
+        return self.request("POST", path, body=b"".join(parts), headers=headers)
 
     def post_photo(self, record_uuid: str, data: bytes, *, photo_uuid=None, token=None) -> Answer:
         """A photo as the phone's outbox sends it: multipart, the picture and its uuid."""

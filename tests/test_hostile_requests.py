@@ -7,16 +7,28 @@ sentence, so every refusal here must be a 4xx that says what was wrong.
 
 from __future__ import annotations
 
+import errno
+import re
+import signal
+import subprocess
+import sys
 import threading
+import time
 import uuid
 from datetime import UTC, datetime
+from functools import partial
+from pathlib import Path
 
+import flask
 import pytest
 
 from liveserver import LiveServer
+from photo_samples import make_test_jpeg
 from sitecheck import store
+from sitecheck.photos import PhotoStore
 from sitecheck.web import create_app
 from sitecheck.web.jsonbody import MAX_JSON_BYTES, MAX_JSON_DEPTH
+from sitecheck.web.record_form import MAX_PHOTOS
 
 
 @pytest.fixture
@@ -193,3 +205,213 @@ def test_two_bodies_under_one_id_at_the_same_moment_store_one_and_refuse_the_oth
     winner = next(n for n, a in enumerate(answers) if a.status == 201)
     assert kept["notes"] == f"Version {winner} of the same record."
     assert _records(db) == 1
+
+
+# --- photos: the limit under concurrency, and no file without a row (points 7 and 9) ---------
+
+
+def _files(app) -> set[str]:
+    """Every picture in the photo store (print copies are named by their picture)."""
+    return set(app.extensions["photo_store"].iter_all_shas())
+
+
+def _named_files(db) -> set[str]:
+    rows = db.execute("SELECT sha256, thumb_sha256 FROM photos").fetchall()
+    return {sha for row in rows for sha in row if sha}
+
+
+def _all_at_once(calls):
+    """Run each call on its own thread, released together; their answers in order."""
+    start = threading.Barrier(len(calls))
+    answers = [None] * len(calls)
+
+    def run(n):
+        start.wait()
+        answers[n] = calls[n]()
+
+    threads = [threading.Thread(target=run, args=(n,)) for n in range(len(calls))]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(120)
+    return answers
+
+
+def _sent_record(client, site, bearing) -> str:
+    body = _record(site, bearing)
+    assert client.post_json("/api/records", body).status == 201
+    return body["uuid"]
+
+
+def test_sixteen_photos_sent_at_once_to_one_record_keep_exactly_eight(
+    app, server, inspector, db, site, bearing
+):
+    record_id = _sent_record(inspector, site, bearing)
+    token = inspector.token()
+    pictures = [make_test_jpeg(320 + n, 240) for n in range(16)]
+    answers = _all_at_once(
+        [lambda data=data: inspector.post_photo(record_id, data, token=token) for data in pictures]
+    )
+    statuses = sorted(a.status for a in answers)
+    assert statuses == [201] * MAX_PHOTOS + [422] * (16 - MAX_PHOTOS), statuses
+    for refused in (a for a in answers if a.status == 422):
+        body = refused.json()
+        assert body["code"] == "too-many-photos"
+        assert f"At most {MAX_PHOTOS} photos for one as-built record" in body["error"]
+    assert len(store.photos_for_record(db, site_id=site["id"], record_uuid=record_id)) == 8
+    # The refused eight left no file behind.
+    assert _files(app) == _named_files(db)
+
+
+def test_a_refused_photo_leaves_no_file(app, server, inspector, db, site, bearing):
+    first_record = _sent_record(inspector, site, bearing)
+    second_record = _sent_record(inspector, site, bearing)
+    photo_id = str(uuid.uuid4())
+    kept = inspector.post_photo(first_record, make_test_jpeg(640, 480), photo_uuid=photo_id)
+    assert kept.status == 201
+    files = _files(app)
+
+    # The same photo id for another record: refused, its picture not kept.
+    moved = inspector.post_photo(second_record, make_test_jpeg(500, 400), photo_uuid=photo_id)
+    assert moved.status == 409 and moved.json()["code"] == "uuid-in-use"
+    # The same photo id again with another picture: refused, not taken for a resend.
+    other = inspector.post_photo(first_record, make_test_jpeg(300, 200), photo_uuid=photo_id)
+    assert other.status == 409, other.text[:300]
+    assert other.json()["code"] == "same-id-other-values"
+    assert "already stored with another picture" in other.json()["error"]
+    # The same photo id with the same picture: a resend, answered as the first time.
+    again = inspector.post_photo(first_record, make_test_jpeg(640, 480), photo_uuid=photo_id)
+    assert again.status == 200 and again.json()["created"] is False
+
+    assert _files(app) == files == _named_files(db)
+    assert db.execute("SELECT count(*) FROM photos").fetchone()[0] == 1
+
+
+def test_a_form_whose_upload_fails_midway_never_removes_a_picture_another_upload_kept(
+    app, server, live_client, db, site, bearing, monkeypatch
+):
+    """The online form and the phone send the same picture at once; the disk fills while the
+    form's upload is writing its files. The form's upload fails and removes the files it
+    brought, but never one the phone's upload has just stored for its own photo."""
+    inspector = live_client(server, "inspector")
+    engineer = live_client(server, "engineer")  # engineers record too
+    form_path = f"/sites/{site['id']}/bearings/{bearing['id']}/record"
+
+    class FillingDisk(PhotoStore):
+        def put_print(self, sha, data):
+            if flask.request.path == form_path:
+                time.sleep(0.4)  # the disk slows as it fills, then refuses
+                raise OSError(errno.ENOSPC, "No space left on device")
+            return super().put_print(sha, data)
+
+    photos = FillingDisk(app.extensions["photo_store"].root)
+    monkeypatch.setitem(app.extensions, "photo_store", photos)
+    for attempt in range(3):
+        same = make_test_jpeg(900, 300 + attempt)
+        record_id = _sent_record(engineer, site, bearing)
+        page = inspector.get(form_path).text
+        fields = {
+            name: re.search(rf'name="{name}"[^>]*value="([^"]*)"', page).group(1)
+            for name in ("csrf_token", "record_uuid", "design_revision", "measured_at")
+        }
+        fields["bearing_length"] = f"{bearing['design_input']['beam']['bearing_length']:g}"
+        engineer_token = engineer.token()
+
+        def phone(record_id=record_id, same=same, token=engineer_token):
+            time.sleep(0.15)  # arrives while the form's upload is writing
+            return engineer.post_photo(record_id, same, token=token)
+
+        failed, kept = _all_at_once(
+            [
+                partial(inspector.post_multipart, form_path, fields, [("photos", "a.jpg", same)]),
+                phone,
+            ]
+        )
+        assert failed.status == 500 and kept.status == 201, (failed.status, kept.text[:300])
+        (row,) = store.photos_for_record(db, site_id=site["id"], record_uuid=record_id)
+        assert photos.verify(row["sha256"]) and photos.verify(row["thumb_sha256"])
+    assert _files(app) == _named_files(db)
+
+
+# The photo upload in a process of its own, killed at a real point: the third file it moves
+# into place (the print copy, written after the picture and its thumbnail) never arrives.
+_KILLED_MID_UPLOAD = """
+import os, signal, sys
+from pathlib import Path
+from sitecheck import services, store
+from sitecheck.photos import PhotoStore, ingest_photo
+
+db_path, photo_dir, site_id, record_id, photo_id, user_id, picture = sys.argv[1:8]
+moved = 0
+real_replace = os.replace
+
+def replace_then_die(source, target):
+    global moved
+    moved += 1
+    if moved == 3:
+        os.kill(os.getpid(), signal.SIGKILL)
+    return real_replace(source, target)
+
+os.replace = replace_then_die
+db = store.open_db(db_path)
+services.store_photo(
+    db,
+    site=store.get_site(db, site_id),
+    record_uuid=record_id,
+    photo=ingest_photo(Path(picture).read_bytes()),
+    photos=PhotoStore(Path(photo_dir)),
+    user_id=int(user_id),
+    uuid=photo_id,
+)
+"""
+
+
+def test_a_server_killed_mid_upload_leaves_nothing_once_it_starts_again(
+    app, server, inspector, live_client, db, site, bearing, people, tmp_path
+):
+    record_id = _sent_record(inspector, site, bearing)
+    earlier = inspector.post_photo(record_id, make_test_jpeg(400, 300))
+    assert earlier.status == 201
+    picture = tmp_path / "IMG_0042.jpg"
+    picture.write_bytes(make_test_jpeg(800, 600))
+    photo_id = str(uuid.uuid4())
+    photo_dir = Path(app.config["PHOTO_DIR"])
+    child = subprocess.run(
+        [
+            sys.executable,
+            "-c",
+            _KILLED_MID_UPLOAD,
+            app.config["DB_PATH"],
+            str(photo_dir),
+            site["id"],
+            record_id,
+            photo_id,
+            str(people["inspector"].id),
+            str(picture),
+        ],
+        capture_output=True,
+        timeout=120,
+    )
+    assert child.returncode == -signal.SIGKILL, child.stderr.decode()[-2000:]
+    # What the crash left: the picture and its thumbnail with no row, a print copy half moved.
+    assert list(photo_dir.rglob(".incoming-*.part"))
+    assert _files(app) - _named_files(db)
+    assert db.execute("SELECT count(*) FROM photos WHERE uuid = ?", [photo_id]).fetchone()[0] == 0
+
+    server.stop()
+    again = create_app(app.config["DB_PATH"])  # the server starts again on the same files
+    assert not list(photo_dir.rglob(".incoming-*.part"))
+    assert _files(again) == _named_files(db)
+    for row in store.photos_for_record(db, site_id=site["id"], record_uuid=record_id):
+        assert again.extensions["photo_store"].verify(row["sha256"])
+    assert db.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
+
+    # The phone never had an answer, so it sends the photo again: now it is kept.
+    restarted = LiveServer(again)
+    try:
+        phone = live_client(restarted, "inspector")
+        resent = phone.post_photo(record_id, picture.read_bytes(), photo_uuid=photo_id)
+        assert resent.status == 201, resent.text[:300]
+    finally:
+        restarted.stop()
+    assert _files(again) == _named_files(db)

@@ -190,6 +190,7 @@ def test_first_open_applies_every_migration_in_order(db):
     assert [m.name for m in store.MIGRATIONS.applied(db)] == [
         "m001_initial_schema",
         "m002_password_to_change",
+        "m003_photo_files",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -265,7 +266,9 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 2
+        every = [m.name for m in store.MIGRATIONS.applied(db)]
+        assert count(db, "_sqlite_migrations") == len(every) == len(set(every))
+        assert store.MIGRATIONS.pending(db) == [] and every[0] == "m001_initial_schema"
     finally:
         db.close()
 
@@ -687,9 +690,12 @@ def test_photos_are_idempotent_and_scoped(world):
         "user_id": w.inspector["id"],
     }
     first = store.insert_photo(w.db, site_id=w.site["id"], **photo)
-    second = store.insert_photo(w.db, site_id=w.site["id"], **{**photo, "sha256": "d" * 64})
+    second = store.insert_photo(w.db, site_id=w.site["id"], **photo)
     assert first.created and not second.created
     assert second.row == first.row
+    # Another picture under the same id is not a resend.
+    with pytest.raises(store.SameIdOtherValues):
+        store.insert_photo(w.db, site_id=w.site["id"], **{**photo, "sha256": "d" * 64})
     other = store.create_site(
         w.db,
         name="Other",

@@ -177,6 +177,8 @@ class IngestedPhoto:
     original_format: str
     capture_time: str | None
     gps: tuple[float, float] | None
+    # The upload's own hash: the same photo id sent again is a resend only with these bytes.
+    original_sha256: str = ""
 
     def as_record(self) -> dict[str, Any]:
         """The facts about the photo without the pictures, ready for a database row."""
@@ -249,6 +251,7 @@ def ingest_photo(data: bytes, *, limits: PhotoLimits = PhotoLimits()) -> Ingeste
         original_format=decoded.original_format,
         capture_time=decoded.capture_time,
         gps=decoded.gps,
+        original_sha256=hashlib.sha256(data).hexdigest(),
     )
 
 

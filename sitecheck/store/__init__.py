@@ -42,6 +42,7 @@ from sitecheck.store.bearings import (
     insert_record,
     latest_record_summaries,
     list_bearings,
+    photo_files_in_use,
     photos_for_bearing,
     photos_for_record,
     record_decision,
@@ -67,6 +68,7 @@ from sitecheck.store.errors import (
     SameIdOtherValues,
     StaleState,
     StoreError,
+    TooManyPhotos,
     UuidInUse,
 )
 from sitecheck.store.events import add_event, events_for, events_for_user
@@ -109,6 +111,7 @@ __all__ = [
     "StaleState",
     "StoreError",
     "Stored",
+    "TooManyPhotos",
     "UuidInUse",
     "add_bearing",
     "add_event",
@@ -137,6 +140,7 @@ __all__ = [
     "members_of",
     "normalise_email",
     "open_db",
+    "photo_files_in_use",
     "photos_for_bearing",
     "photos_for_record",
     "prune_login_attempts",

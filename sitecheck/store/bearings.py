@@ -37,6 +37,7 @@ from sitecheck.store.errors import (
     NotFound,
     SameIdOtherValues,
     StaleState,
+    TooManyPhotos,
     UuidInUse,
 )
 from sitecheck.store.events import add_event
@@ -645,8 +646,20 @@ def insert_photo(
     gps_lat: float | None,
     gps_lon: float | None,
     user_id: int,
+    upload_sha256: str | None = None,
+    max_photos: int | None = None,
+    keep_files: Callable[[], None] | None = None,
 ) -> Stored:
-    """Store a photo's facts once per client UUID (the file itself is stored by its sha256)."""
+    """Store a photo's facts once per client UUID (the file itself is stored by its sha256).
+
+    Everything is decided inside one write transaction, in this order: the same UUID again
+    with the same upload returns the row first stored (``created=False``) and writes nothing;
+    the same UUID for another record raises ``UuidInUse``, with another picture
+    ``SameIdOtherValues``; a record that already has ``max_photos`` raises ``TooManyPhotos``.
+    Only then is ``keep_files`` called (it writes the picture's files) and the row inserted,
+    so a refused photo never writes a file, and two uploads at once cannot both be the last
+    one a record may take.
+    """
     uuid = canonical_uuid(uuid)
     record_uuid = canonical_uuid(record_uuid, field="record_uuid")
     captured = None if captured_at is None else parse_timestamp(captured_at, field="captured_at")
@@ -656,12 +669,37 @@ def insert_photo(
             raise NotFound(
                 "No such as-built record on this site; send the record before its photos"
             )
-        cursor = db.execute(
+        row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
+        if row is not None:
+            if row["record_uuid"] != record_uuid:
+                raise UuidInUse(
+                    "This photo's UUID is already used by another photo; the phone must make a "
+                    "new UUID for each photo"
+                )
+            if _other_picture(row, upload_sha256, sha256):
+                raise SameIdOtherValues(
+                    "A photo with this id was already stored with another picture. This "
+                    "picture was not stored: add it to the record again, which gives it a new "
+                    "id.",
+                    ("picture",),
+                )
+            return Stored(row=row, created=False)
+        if max_photos is not None:
+            count = one(
+                db, "SELECT count(*) AS n FROM photos WHERE record_uuid = ?", [record_uuid]
+            )["n"]
+            if count >= max_photos:
+                raise TooManyPhotos(
+                    f"At most {max_photos} photos for one as-built record; this record has "
+                    f"{count} already, so this photo was not stored."
+                )
+        if keep_files is not None:
+            keep_files()
+        db.execute(
             """
             INSERT INTO photos (uuid, record_uuid, sha256, thumb_sha256, width, height, size_bytes,
-                captured_at, gps_lat, gps_lon, created_at)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-            ON CONFLICT (uuid) DO NOTHING
+                captured_at, gps_lat, gps_lon, created_at, upload_sha256)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             """,
             [
                 uuid,
@@ -675,25 +713,49 @@ def insert_photo(
                 gps_lat,
                 gps_lon,
                 timestamp(),
+                upload_sha256,
             ],
         )
-        created = cursor.rowcount == 1
         row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
-        if not created and row["record_uuid"] != record_uuid:
-            raise UuidInUse(
-                "This photo's UUID is already used by another photo; the phone must make a new "
-                "UUID for each photo"
+        add_event(
+            db,
+            kind="photo received",
+            user_id=user_id,
+            site_id=site_id,
+            bearing_id=record["bearing_id"],
+            detail={"photo_uuid": uuid, "record_uuid": record_uuid, "sha256": sha256},
+        )
+    return Stored(row=row, created=True)
+
+
+def _other_picture(row: dict, upload_sha256: str | None, sha256: str) -> bool:
+    # Rows stored before uploads were hashed compare by the picture kept, which the same
+    # upload always gives again.
+    if row["upload_sha256"] is not None and upload_sha256 is not None:
+        return row["upload_sha256"] != upload_sha256
+    return row["sha256"] != sha256
+
+
+def photo_files_in_use(db: sqlite_utils.Database, shas: Iterable[str]) -> set[str]:
+    """Which of these picture hashes a stored photo names (as its picture or thumbnail).
+
+    Across every site: files are shared by content, so a file is free to remove only when
+    no row anywhere names it.
+    """
+    wanted = list(dict.fromkeys(shas))
+    found: set[str] = set()
+    for start in range(0, len(wanted), 400):
+        batch = wanted[start : start + 400]
+        marks = placeholders(batch)
+        found.update(
+            r["sha"]
+            for r in db.query(
+                f"SELECT sha256 AS sha FROM photos WHERE sha256 IN ({marks}) "
+                f"UNION SELECT thumb_sha256 FROM photos WHERE thumb_sha256 IN ({marks})",
+                [*batch, *batch],
             )
-        if created:
-            add_event(
-                db,
-                kind="photo received",
-                user_id=user_id,
-                site_id=site_id,
-                bearing_id=record["bearing_id"],
-                detail={"photo_uuid": uuid, "record_uuid": record_uuid, "sha256": sha256},
-            )
-    return Stored(row=row, created=created)
+        )
+    return found
 
 
 def get_photo(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:

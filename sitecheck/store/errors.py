@@ -42,6 +42,10 @@ class SameIdOtherValues(UuidInUse):
         self.differs = differs
 
 
+class TooManyPhotos(Conflict):
+    """The as-built record already has as many photos as one record may have."""
+
+
 class StaleState(Conflict):
     """The bearing changed since the caller read it; reload and try again."""
 

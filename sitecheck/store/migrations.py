@@ -287,6 +287,20 @@ def m002_password_to_change(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m003_photo_files(db: sqlite_utils.Database) -> None:
+    """What a photo was uploaded as, so the same id sent with another picture is told apart
+    from a resend; and the hashes indexed, because a file is new (and may be removed when its
+    upload is refused) only if no row names it, which is asked inside every photo's
+    write transaction."""
+    db.execute(
+        "ALTER TABLE photos ADD COLUMN upload_sha256 TEXT "
+        "CHECK (upload_sha256 IS NULL OR length(upload_sha256) = 64)"
+    )
+    db.execute("CREATE INDEX photos_sha256 ON photos(sha256)")
+    db.execute("CREATE INDEX photos_thumb_sha256 ON photos(thumb_sha256)")
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

@@ -14,7 +14,7 @@ from pathlib import Path
 from flask import Flask, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
 
-from sitecheck import store
+from sitecheck import services, store
 from sitecheck.photos import PhotoStore
 from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
@@ -57,9 +57,19 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         LOGIN_FAILURE_WINDOW_S=900,
     )
     app.config.update(config)
+    photos = app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
-    db.conn.close()
-    app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    try:
+        # What a crash mid-upload left behind: temporary files, pictures no row names.
+        swept = services.sweep_photo_files(db, photos)
+    finally:
+        db.conn.close()
+    if swept.temporary_files or swept.orphan_files:
+        app.logger.warning(
+            "photo store: removed %d temporary and %d unnamed files left by a crash",
+            swept.temporary_files,
+            swept.orphan_files,
+        )
     jsonbody.install(app)
     csrf.init_app(app)
 

@@ -434,6 +434,8 @@ def post_photo(record_uuid):
         captured = _moment(captured, "captured_at") if captured else None
     except Refused as refused:
         return refused.response()
+    # A cheap answer before the picture is decoded; the store counts again, with the write
+    # lock held, when it keeps the photo (several uploads may be on their way at once).
     if store.get_photo(db, site_id=site["id"], uuid=photo_uuid) is None:
         already = store.photos_for_record(db, site_id=site["id"], record_uuid=record["uuid"])
         if len(already) >= MAX_PHOTOS:
@@ -462,7 +464,12 @@ def post_photo(record_uuid):
             photos=photo_store(),
             user_id=g.user["id"],
             uuid=photo_uuid,
+            max_photos=MAX_PHOTOS,
         )
+    except store.TooManyPhotos as error:
+        return jsonify(error=str(error), code="too-many-photos"), 422
+    except store.SameIdOtherValues as error:
+        return jsonify(error=str(error), field="photo_uuid", code="same-id-other-values"), 409
     except store.UuidInUse as error:
         return jsonify(error=str(error), field="photo_uuid", code="uuid-in-use"), 409
     status = 201 if stored.created else 200
