@@ -25,7 +25,8 @@ import pytest
 from liveserver import LiveServer
 from photo_samples import make_test_jpeg
 from sitecheck import store
-from sitecheck.photos import PhotoStore
+from sitecheck.photos import PhotoStore, processing_slot
+from sitecheck.photos import ingest as photos_ingest
 from sitecheck.web import create_app
 from sitecheck.web.jsonbody import MAX_JSON_BYTES, MAX_JSON_DEPTH
 from sitecheck.web.record_form import MAX_PHOTOS
@@ -249,9 +250,14 @@ def test_sixteen_photos_sent_at_once_to_one_record_keep_exactly_eight(
     record_id = _sent_record(inspector, site, bearing)
     token = inspector.token()
     pictures = [make_test_jpeg(320 + n, 240) for n in range(16)]
-    answers = _all_at_once(
-        [lambda data=data: inspector.post_photo(record_id, data, token=token) for data in pictures]
-    )
+
+    def send(data):
+        # As the phone does: a 503 (too many photos at once) is sent again a little later.
+        while (answer := inspector.post_photo(record_id, data, token=token)).status == 503:
+            time.sleep(0.1)
+        return answer
+
+    answers = _all_at_once([partial(send, data) for data in pictures])
     statuses = sorted(a.status for a in answers)
     assert statuses == [201] * MAX_PHOTOS + [422] * (16 - MAX_PHOTOS), statuses
     for refused in (a for a in answers if a.status == 422):
@@ -415,3 +421,63 @@ def test_a_server_killed_mid_upload_leaves_nothing_once_it_starts_again(
     finally:
         restarted.stop()
     assert _files(again) == _named_files(db)
+
+
+# --- photos: many at once (point 6) ------------------------------------------------------------
+
+
+def test_uploads_beyond_those_the_server_can_hold_are_told_to_come_back_and_lose_nothing(
+    app, server, inspector, db, site, bearing
+):
+    """Every picture slot is busy and enough uploads already wait: the next is answered at
+    once with a 503 and Retry-After (the phone keeps the photo and sends it again), nothing
+    of it is stored, and pages still answer."""
+    slots = photos_ingest._SLOTS
+    record_id = _sent_record(inspector, site, bearing)
+    token = inspector.token()
+    release = threading.Event()
+    holding = threading.Barrier(slots.slots + 1)
+
+    def hold():
+        with processing_slot(wait_s=None):
+            holding.wait()
+            release.wait(60)
+
+    holders = [threading.Thread(target=hold) for _ in range(slots.slots)]
+    for t in holders:
+        t.start()
+    holding.wait()
+    in_line = []
+    answers = {}
+
+    def send(n):
+        answers[n] = inspector.post_photo(record_id, make_test_jpeg(300 + n, 200), token=token)
+
+    try:
+        for n in range(min(slots.waiting_limit, MAX_PHOTOS - 1)):
+            in_line.append(threading.Thread(target=send, args=(n,)))
+            in_line[-1].start()
+        for _ in range(1000):
+            if slots._waiting == len(in_line):
+                break
+            time.sleep(0.01)
+        assert slots._waiting == len(in_line)
+        if len(in_line) < slots.waiting_limit:  # fill the line to its end
+            slots.waiting_limit = len(in_line)
+        busy_photo = make_test_jpeg(640, 480)
+        photo_id = str(uuid.uuid4())
+        busy = inspector.post_photo(record_id, busy_photo, photo_uuid=photo_id, token=token)
+        assert busy.status == 503, busy.text[:300]
+        assert busy.headers["Retry-After"] == "30"
+        assert busy.json()["code"] == "busy"
+        assert "sent again in about 30 seconds" in busy.json()["error"]
+        assert store.get_photo(db, site_id=site["id"], uuid=photo_id) is None
+        assert inspector.get("/login").status == 200  # pages still answer meanwhile
+    finally:
+        slots.waiting_limit = 2 * slots.slots
+        release.set()
+        for t in [*holders, *in_line]:
+            t.join(60)
+    assert sorted(a.status for a in answers.values()) == [201] * len(in_line)
+    again = inspector.post_photo(record_id, busy_photo, photo_uuid=photo_id, token=token)
+    assert again.status == 201

@@ -15,7 +15,7 @@ from flask import Flask, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
 
 from sitecheck import services, store
-from sitecheck.photos import PhotoStore
+from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
 from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
@@ -57,6 +57,7 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         LOGIN_FAILURE_WINDOW_S=900,
     )
     app.config.update(config)
+    return_picture_memory_to_the_system()  # a server decodes pictures all day
     photos = app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
     try:

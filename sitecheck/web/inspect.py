@@ -26,7 +26,13 @@ from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.review import Measurements, as_built_input, missing_measurements
 from sitecheck.bearing.serial import measurements_from_dict
-from sitecheck.photos import IngestedPhoto, PhotoLimits, PhotoRejected, ingest_photo
+from sitecheck.photos import (
+    IngestedPhoto,
+    PhotoLimits,
+    PhotoRejected,
+    PhotosBusy,
+    ingest_photo,
+)
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.auth import login_required
@@ -334,6 +340,13 @@ def _check_photos(form, chosen) -> list[IngestedPhoto]:
                 *form.photos.errors,
                 f"Photo {number} ({name}): {rejected.message}",
             ]
+        except PhotosBusy:
+            form.photos.errors = [
+                *form.photos.errors,
+                "The server is busy with other photos just now; nothing was stored. Send "
+                "the form again in a minute.",
+            ]
+            break
     return accepted
 
 

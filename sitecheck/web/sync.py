@@ -12,7 +12,8 @@ Every answer is JSON with a status the phone acts on without reading the words:
 - 401: logged out; the phone keeps the item until its person logs in again.
 - 403/404/409/422: refused for good; the phone moves the item to its visible refused list
   with ``error`` (a sentence) and ``code`` / ``field``.
-- 5xx or no answer: the phone keeps the item and tries again later.
+- 5xx or no answer: the phone keeps the item and tries again later (503 with Retry-After:
+  too many photos arrived at once; nothing was stored).
 """
 
 from __future__ import annotations
@@ -41,7 +42,7 @@ from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.review import as_built_input
 from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
-from sitecheck.photos import PhotoRejected, ingest_photo
+from sitecheck.photos import PhotoRejected, PhotosBusy, ingest_photo
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
@@ -450,6 +451,11 @@ def post_photo(record_uuid):
         photo = ingest_photo(upload.read())
     except PhotoRejected as rejected:
         return jsonify(error=rejected.message, code=rejected.code), 422
+    except PhotosBusy as busy:
+        # A 5xx: the phone keeps the photo and sends it again later, as it should.
+        response = jsonify(error=busy.message, code="busy")
+        response.headers["Retry-After"] = str(busy.retry_after_s)
+        return response, 503
     if captured and services.camera_time(photo.capture_time) is None:
         # The phone re-encodes the picture to save space, which drops the camera's EXIF; it
         # reads the camera's time first and sends it, always with its zone. A time in the
