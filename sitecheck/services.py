@@ -375,6 +375,21 @@ def reopen(db, *, site: dict, bearing: dict, role: str, reason: str, engineer_id
     )
 
 
+def keep_release(
+    db, *, site: dict, bearing: dict, role: str, reason: str, seen_up_to: int, engineer_id: int
+) -> dict:
+    """The engineer's answer to what was recorded after a release: the release stands."""
+    workflow.keep_release(state=bearing["state"], role=role, reason=reason)
+    return store.keep_release(
+        db,
+        site_id=site["id"],
+        bearing_id=bearing["id"],
+        engineer_id=engineer_id,
+        reason=reason,
+        seen_up_to=seen_up_to,
+    )
+
+
 def _finite(x: float) -> float | None:
     return x if x != float("inf") else None
 

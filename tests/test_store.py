@@ -191,6 +191,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m001_initial_schema",
         "m002_password_to_change",
         "m003_photo_files",
+        "m004_recorded_after_release",
     ]
     assert store.MIGRATIONS.pending(db) == []
 

@@ -301,6 +301,63 @@ def m003_photo_files(db: sqlite_utils.Database) -> None:
     db.execute("CREATE INDEX photos_thumb_sha256 ON photos(thumb_sha256)")
 
 
+@MIGRATIONS()
+def m004_recorded_after_release(db: sqlite_utils.Database) -> None:
+    """Evidence that arrives for a released bearing (a record, a photo) is kept and listed
+    for the engineer; the engineer answers by reopening or by keeping the release, with a
+    reason. Both tables are append-only: what came and what was said stay on the record."""
+    db.execute(
+        """
+        CREATE TABLE after_release_evidence (
+            id INTEGER PRIMARY KEY,
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            release_id INTEGER NOT NULL REFERENCES releases(id),
+            record_uuid TEXT NOT NULL REFERENCES as_built_records(uuid),
+            photo_uuid TEXT REFERENCES photos(uuid),
+            received_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE INDEX after_release_evidence_bearing ON after_release_evidence(bearing_id, id)"
+    )
+    db.execute(
+        """
+        CREATE TABLE releases_kept (
+            id INTEGER PRIMARY KEY,
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            release_id INTEGER NOT NULL REFERENCES releases(id),
+            engineer_id INTEGER NOT NULL REFERENCES users(id),
+            reason TEXT NOT NULL CHECK (length(trim(reason)) > 0),
+            evidence_up_to INTEGER NOT NULL,
+            created_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX releases_kept_bearing ON releases_kept(bearing_id, id)")
+    for statement in (
+        *_append_only("after_release_evidence", "evidence after release is append-only"),
+        *_append_only("releases_kept", "kept releases are append-only"),
+    ):
+        db.execute(statement)
+    # Records that arrived after a release before this table existed are listed too.
+    db.execute(
+        """
+        INSERT INTO after_release_evidence (bearing_id, release_id, record_uuid, received_at)
+        SELECT r.bearing_id,
+               (SELECT max(x.id) FROM releases x
+                WHERE x.bearing_id = r.bearing_id AND x.created_at <= r.received_at),
+               r.uuid, r.received_at
+        FROM as_built_records r
+        WHERE r.late = 1 AND EXISTS (
+            SELECT 1 FROM releases x
+            WHERE x.bearing_id = r.bearing_id AND x.created_at <= r.received_at
+        )
+        ORDER BY r.received_at, r.uuid
+        """
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

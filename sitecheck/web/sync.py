@@ -275,6 +275,8 @@ def _answer(site, stored) -> dict:
             for r in row["reasons"]
         ],
         "url": url_for("inspect.result", site_id=site["id"], record_uuid=row["uuid"]),
+        # The bearing was released before this arrived: kept, and listed for the engineer.
+        "after_release": bool(row["late"]),
     }
 
 
