@@ -192,6 +192,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m002_password_to_change",
         "m003_photo_files",
         "m004_recorded_after_release",
+        "m005_record_jobs",
     ]
     assert store.MIGRATIONS.pending(db) == []
 

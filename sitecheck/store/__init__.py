@@ -82,6 +82,14 @@ from sitecheck.store.migrations import (
     STATES,
     apply_migrations,
 )
+from sitecheck.store.record_jobs import (
+    TooManyRecords,
+    get_record_job,
+    record_jobs_for_site,
+    site_version,
+    start_record_job,
+    update_record_job,
+)
 from sitecheck.store.sites import (
     add_membership,
     create_site,
@@ -113,6 +121,7 @@ __all__ = [
     "LastEngineer",
     "StaleState",
     "StoreError",
+    "TooManyRecords",
     "Stored",
     "TooManyPhotos",
     "UuidInUse",
@@ -131,6 +140,7 @@ __all__ = [
     "events_for_user",
     "get_bearing",
     "get_photo",
+    "get_record_job",
     "get_record",
     "get_session_user",
     "get_site",
@@ -151,6 +161,7 @@ __all__ = [
     "prune_login_attempts",
     "recent_failures",
     "record_decision",
+    "record_jobs_for_site",
     "record_login_attempt",
     "record_release",
     "record_reopening",
@@ -172,10 +183,13 @@ __all__ = [
     "set_role",
     "set_state",
     "sites_for_user",
+    "site_version",
     "sites_named",
+    "start_record_job",
     "timestamp",
     "touch_session",
     "transaction",
+    "update_record_job",
     "update_site_settings",
     "utc_now",
 ]

@@ -358,6 +358,39 @@ def m004_recorded_after_release(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m005_record_jobs(db: sqlite_utils.Database) -> None:
+    """Site records made in the background, kept in the database rather than in files and
+    threads of one process, so that every server process sees the same jobs and a site has
+    one making at a time whichever process is asked."""
+    db.execute(
+        """
+        CREATE TABLE record_jobs (
+            id TEXT PRIMARY KEY CHECK (length(id) = 32),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            state TEXT NOT NULL
+                CHECK (state IN ('waiting', 'making', 'done', 'failed', 'stopped')),
+            bearings_done INTEGER NOT NULL DEFAULT 0,
+            bearings INTEGER NOT NULL DEFAULT 0,
+            current TEXT NOT NULL DEFAULT '',
+            started_by INTEGER REFERENCES users(id),
+            site_version TEXT NOT NULL,
+            created_at TEXT NOT NULL,
+            updated_at TEXT NOT NULL,
+            finished_at TEXT,
+            size_bytes INTEGER,
+            error TEXT
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE UNIQUE INDEX record_jobs_one_running ON record_jobs(site_id) "
+        "WHERE state IN ('waiting', 'making')"
+    )
+    db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, created_at)")
+    db.execute("CREATE INDEX record_jobs_started_by ON record_jobs(started_by, created_at)")
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

@@ -53,6 +53,9 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=os.environ.get("SITECHECK_SECURE_COOKIES") == "1",
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
+        # Site records (PDF) one person may start in an hour; handing out a finished one
+        # of an unchanged site, or joining one being made, is not counted.
+        RECORD_PDF_PER_HOUR=int(os.environ.get("SITECHECK_RECORD_PDF_PER_HOUR") or 10),
         LOGIN_FAILURE_LIMIT=5,
         LOGIN_FAILURE_WINDOW_S=900,
     )
