@@ -85,11 +85,11 @@ def test_a_failing_record_sent_after_release_is_in_the_engineers_queue(db, peopl
     assert item["after_release"] == {"records": 1, "photos": 0, "text": "1 record"}
     assert item["worst_after_release"] == stored["utilisation"] > 1
     queue = engineer.get("/review").get_data(as_text=True)
-    assert "⏱ recorded after release" in queue and "1 record since it was released" in queue
+    assert "⚠ recorded after release" in queue and "1 record since it was released" in queue
     assert "The release stands until you reopen the bearing or keep the release." in queue
 
     page = engineer.get(review_url(site, b)).get_data(as_text=True)
-    assert "⏱ Recorded after release" in page and "✗ fails as built" in page
+    assert "⚠ Recorded after release" in page and "✗ fails as built" in page
     assert f'href="/sites/{site["id"]}/records/{late}"' in page
     assert "Keep the release" in page and "Reopen this bearing" in page
 

@@ -1133,14 +1133,16 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
     after release), then most blocking reasons, then longest waiting. Each row is the
     bearing plus ``site_name``, ``utilisation``, ``blocking``, ``measured_at`` and
     ``reasons`` of its latest record, and ``records_after_release``,
-    ``photos_after_release``, ``worst_after_release`` (None when nothing is waiting).
+    ``photos_after_release``, ``worst_after_release``, ``first_after_release`` (None when
+    nothing is waiting).
     """
     return many(
         db,
         f"""
         SELECT b.*, s.name AS site_name, r.utilisation, r.blocking, r.measured_at, r.reasons,
                r.design_revision < b.revision AS older_revision,
-               ev.records_after_release, ev.photos_after_release, ev.worst_after_release
+               ev.records_after_release, ev.photos_after_release, ev.worst_after_release,
+               ev.first_after_release
         FROM memberships m
         JOIN sites s ON s.id = m.site_id
         JOIN bearings b ON b.site_id = m.site_id
@@ -1150,7 +1152,8 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
                    count(CASE WHEN e.photo_uuid IS NULL THEN 1 END) AS records_after_release,
                    count(e.photo_uuid) AS photos_after_release,
                    max(CASE WHEN e.photo_uuid IS NULL THEN er.utilisation END)
-                       AS worst_after_release
+                       AS worst_after_release,
+                   min(e.received_at) AS first_after_release
             FROM after_release_evidence e
             JOIN bearings b ON b.id = e.bearing_id
             JOIN as_built_records er ON er.uuid = e.record_uuid

@@ -66,7 +66,8 @@ def _queue_item(row: dict) -> dict:
         "first_reason": first["sentence"] if first else None,
         "older_revision": bool(row["older_revision"]),
         "measured_at": row["measured_at"],
-        "waiting_since": row["state_changed_at"],
+        # Released bearings wait from the first thing recorded after their release.
+        "waiting_since": row["first_after_release"] or row["state_changed_at"],
         # Released, and something was recorded since: the engineer reopens or keeps it.
         "after_release": _after_release_counts(row),
         "worst_after_release": row["worst_after_release"],
