@@ -10,7 +10,7 @@ from pathlib import Path
 from .bearing import BASES, EC6_UK, basis_named
 from .bearing.remedy import remedy
 from .bearing.review import BLOCKS
-from .schedule import COLUMNS, RowOutcome, parse_schedule, recheck_rows
+from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows
 
 CAUTION = (
     "Caution: these results support, and never replace, the judgement of a competent "
@@ -49,11 +49,19 @@ def main(argv: list[str] | None = None) -> int:
     serve.add_argument("--threads", type=int, default=8)
 
     first = sub.add_parser(
-        "create-engineer", help="create an engineer's account (there are no default accounts)"
+        "create-engineer",
+        help="create an account that may make sites (there are no default accounts)",
     )
     first.add_argument("email")
     first.add_argument("name")
     first.add_argument("--db", default=None)
+
+    makers = sub.add_parser(
+        "may-make-sites", help="let an existing account make sites, or take that away"
+    )
+    makers.add_argument("email")
+    makers.add_argument("--take-away", action="store_true", help="take the permission away")
+    makers.add_argument("--db", default=None)
 
     demo = sub.add_parser("demo", help="build a fresh demo database (invented site) and serve it")
     demo.add_argument("--db", default="var/demo.db")
@@ -88,6 +96,8 @@ def main(argv: list[str] | None = None) -> int:
         return _serve(args.db, args.host, args.port, args.threads)
     if args.command == "create-engineer":
         return _create_engineer(args)
+    if args.command == "may-make-sites":
+        return _may_make_sites(args)
     if args.command == "record":
         return _record(args)
     if args.command == "demo":
@@ -206,7 +216,11 @@ def _create_engineer(args) -> int:
     db = store.open_db(app.config["DB_PATH"])
     try:
         user = store.create_user(
-            db, email=args.email, name=args.name, password_hash=auth.hash_password(password)
+            db,
+            email=args.email,
+            name=args.name,
+            password_hash=auth.hash_password(password),
+            may_make_sites=True,
         )
     except store.Conflict as e:
         print(f"sitecheck: {e}", file=sys.stderr)
@@ -214,6 +228,33 @@ def _create_engineer(args) -> int:
     finally:
         db.conn.close()
     print(f"Created {user['email']}: log in and make a site; you will be its engineer.")
+    return 0
+
+
+def _may_make_sites(args) -> int:
+    import os
+
+    from . import store
+
+    path = Path(args.db or os.environ.get("SITECHECK_DB") or "var/sitecheck.db")
+    if not path.is_file():
+        print(f"sitecheck: no database at {path}; give it with --db", file=sys.stderr)
+        return 2
+    db = store.open_db(path)
+    try:
+        user = store.get_user_by_email(db, args.email)
+        if user is None:
+            print(
+                f"sitecheck: no account for {args.email}; make one with "
+                "'sitecheck create-engineer', or invite them to a site first",
+                file=sys.stderr,
+            )
+            return 2
+        allowed = not args.take_away
+        store.set_may_make_sites(db, user_id=user["id"], allowed=allowed, by_user_id=None)
+    finally:
+        db.conn.close()
+    print(f"{user['email']} {'may' if allowed else 'may no longer'} make sites.")
     return 0
 
 
@@ -228,11 +269,15 @@ def verdict(outcome: RowOutcome) -> str:
 
 def _check(args) -> int:
     try:
-        text = args.schedule.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as e:
-        print(f"sitecheck: cannot read {args.schedule}: {e}", file=sys.stderr)
+        data = args.schedule.read_bytes()
+    except OSError as e:
+        message = f"cannot read {args.schedule}: {e.strerror or e}"
+        if args.json:
+            error = RowError(0, "", str(args.schedule), message)
+            print(json.dumps(_as_json([], [error], {}, (), ()), indent=1, ensure_ascii=False))
+        print(f"sitecheck: {message}", file=sys.stderr)
         return 2
-    parsed = parse_schedule(text, args.basis)
+    parsed = read_schedule(data, args.basis)
     outcomes, errors = recheck_rows(parsed, basis_named(args.basis))
     hints = {}
     if not args.no_hints:
@@ -243,15 +288,18 @@ def _check(args) -> int:
     if args.json:
         print(
             json.dumps(
-                _as_json(outcomes, errors, hints, parsed.unknown_columns),
+                _as_json(outcomes, errors, hints, parsed.unknown_columns, parsed.notes),
                 indent=1,
                 ensure_ascii=False,
+                allow_nan=False,  # NaN and Infinity are not JSON
             )
         )
     else:
         _print_table(outcomes, hints)
         if parsed.unknown_columns:
             print(f"\nIgnored unknown column(s): {', '.join(parsed.unknown_columns)}")
+        for note in parsed.notes:
+            print(f"\nNote: {note}")
         print(f"\n{CAUTION}")
     for e in errors:
         print(f"sitecheck: {args.schedule}: {e}", file=sys.stderr)
@@ -275,7 +323,7 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
             print(f"{'':22} hint: {hint.describe()}")
 
 
-def _as_json(outcomes, errors, hints, unknown) -> dict:
+def _as_json(outcomes, errors, hints, unknown, notes) -> dict:
     rows = []
     for o in outcomes:
         entry = {
@@ -296,6 +344,7 @@ def _as_json(outcomes, errors, hints, unknown) -> dict:
         "bearings": rows,
         "errors": [e.as_dict() for e in errors],
         "ignored_columns": list(unknown),
+        "notes": list(notes),
     }
 
 

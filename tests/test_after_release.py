@@ -238,7 +238,7 @@ def test_records_that_came_after_a_release_before_this_list_existed_are_listed(t
     """A database from before the list: its late records are listed once it is migrated."""
     path = tmp_path / "older.db"
     older = sqlite_utils.Database(path)
-    store.MIGRATIONS.apply(older, stop_before="m004_recorded_after_release")
+    store.MIGRATIONS.apply(older, stop_before="m008_recorded_after_release")
     older.close()
     db = store.open_db(path)  # the app's own opening, which migrates
     try:
@@ -248,7 +248,7 @@ def test_records_that_came_after_a_release_before_this_list_existed_are_listed(t
     # And with one late record in it: made with the older schema, then migrated.
     path = tmp_path / "older-with-late.db"
     older = sqlite_utils.Database(path)
-    store.MIGRATIONS.apply(older, stop_before="m004_recorded_after_release")
+    store.MIGRATIONS.apply(older, stop_before="m008_recorded_after_release")
     con = older.conn
     con.executescript(
         """

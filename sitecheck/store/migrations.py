@@ -288,7 +288,98 @@ def m002_password_to_change(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m003_photo_files(db: sqlite_utils.Database) -> None:
+def m003_may_make_sites(db: sqlite_utils.Database) -> None:
+    """Making sites becomes a permission of an account. Accounts that already made a site
+    keep the right they used (an upgrade must not stop an office's engineers); anyone else
+    gets it from ``sitecheck create-engineer`` or from an account that has it."""
+    db.execute(
+        "ALTER TABLE users ADD COLUMN may_make_sites INTEGER NOT NULL DEFAULT 0 "
+        "CHECK (may_make_sites IN (0, 1))"
+    )
+    db.execute("UPDATE users SET may_make_sites = 1 WHERE id IN (SELECT created_by FROM sites)")
+
+
+@MIGRATIONS()
+def m004_outgoing_mail(db: sqlite_utils.Database) -> None:
+    """Messages waiting to be sent, kept in the database so that an action never waits on
+    a mail server and a message survives a restart. ``claimed_until`` lets one process at a
+    time try a message; ``body`` is emptied once the message is sent or given up, since it
+    may carry a single-use link."""
+    db.execute(
+        """
+        CREATE TABLE outgoing_mail (
+            id INTEGER PRIMARY KEY,
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            to_addr TEXT NOT NULL CHECK (to_addr LIKE '%_@_%'),
+            subject TEXT NOT NULL,
+            body TEXT NOT NULL,
+            created_at TEXT NOT NULL,
+            attempts INTEGER NOT NULL DEFAULT 0 CHECK (attempts >= 0),
+            next_try_at TEXT,
+            claimed_until TEXT,
+            last_error TEXT,
+            sent_at TEXT,
+            gave_up_at TEXT,
+            CHECK (sent_at IS NULL OR gave_up_at IS NULL)
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX outgoing_mail_due ON outgoing_mail(next_try_at)")
+
+
+@MIGRATIONS()
+def m005_invitations(db: sqlite_utils.Database) -> None:
+    """An invitation is an offer, waiting until the invited person accepts or declines it;
+    nothing of the site is theirs before. One pending offer per address and site."""
+    db.execute(
+        f"""
+        CREATE TABLE invitations (
+            id TEXT PRIMARY KEY,
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            email TEXT NOT NULL CHECK (email = lower(email) AND email LIKE '%_@_%'),
+            role TEXT NOT NULL CHECK (role IN {_in(ROLES)}),
+            invited_by INTEGER NOT NULL REFERENCES users(id),
+            created_at TEXT NOT NULL,
+            expires_at TEXT NOT NULL,
+            state TEXT NOT NULL DEFAULT 'pending'
+                CHECK (state IN ('pending', 'accepted', 'declined', 'withdrawn')),
+            answered_at TEXT,
+            answered_by INTEGER REFERENCES users(id),
+            mail_id INTEGER REFERENCES outgoing_mail(id),
+            CHECK ((state = 'pending') = (answered_at IS NULL))
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE UNIQUE INDEX invitations_one_pending ON invitations(site_id, email) "
+        "WHERE state = 'pending'"
+    )
+    db.execute("CREATE INDEX invitations_email ON invitations(email, state)")
+
+
+@MIGRATIONS()
+def m006_single_use_links(db: sqlite_utils.Database) -> None:
+    """Links that prove an e-mail address: used once, until they expire. Only the sha256 of
+    the link's token is kept, so the database alone opens nothing. ``purpose`` says what a
+    link is for (an invitation now; a password reset may use the same table)."""
+    db.execute(
+        """
+        CREATE TABLE single_use_links (
+            id INTEGER PRIMARY KEY,
+            token_hash TEXT NOT NULL UNIQUE CHECK (length(token_hash) = 64),
+            purpose TEXT NOT NULL CHECK (length(purpose) > 0),
+            email TEXT NOT NULL CHECK (email = lower(email) AND email LIKE '%_@_%'),
+            invitation_id TEXT REFERENCES invitations(id),
+            created_at TEXT NOT NULL,
+            expires_at TEXT NOT NULL,
+            used_at TEXT
+        ) STRICT
+        """
+    )
+
+
+@MIGRATIONS()
+def m007_photo_files(db: sqlite_utils.Database) -> None:
     """What a photo was uploaded as, so the same id sent with another picture is told apart
     from a resend; and the hashes indexed, because a file is new (and may be removed when its
     upload is refused) only if no row names it, which is asked inside every photo's
@@ -302,7 +393,7 @@ def m003_photo_files(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m004_recorded_after_release(db: sqlite_utils.Database) -> None:
+def m008_recorded_after_release(db: sqlite_utils.Database) -> None:
     """Evidence that arrives for a released bearing (a record, a photo) is kept and listed
     for the engineer; the engineer answers by reopening or by keeping the release, with a
     reason. Both tables are append-only: what came and what was said stay on the record."""
@@ -359,7 +450,7 @@ def m004_recorded_after_release(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m005_record_jobs(db: sqlite_utils.Database) -> None:
+def m009_record_jobs(db: sqlite_utils.Database) -> None:
     """Site records made in the background, kept in the database rather than in files and
     threads of one process, so that every server process sees the same jobs and a site has
     one making at a time whichever process is asked."""

@@ -910,7 +910,7 @@ class ImportForm(FlaskForm):
     file = FileField("Schedule file (CSV)")
     text = TextAreaField(
         "…or paste the schedule",
-        description="Copied from a spreadsheet as CSV, header row first.",
+        description="Cells copied from a spreadsheet, or CSV text; header row first.",
         render_kw={"rows": 8, "spellcheck": "false"},
     )
     keep_good_rows = BooleanField("Import the good rows anyway")
@@ -932,11 +932,6 @@ class InviteForm(FlaskForm):
                 message="Enter an e-mail address such as name@firm.example.",
             ),
         ],
-    )
-    name = StringField(
-        "Name",
-        validators=[Optional(), Length(max=120)],
-        description="Used only if they have no account yet.",
     )
     role = SelectField(
         "Role on this site", choices=options(ROLE_CHOICES), default=workflow.INSPECTOR
