@@ -97,6 +97,7 @@ export function refusalSentence(item) {
     return plain(body.error) ||
       "The server could not use this photo. Take it again, or send it to the engineer another way.";
   }
+  if (code === "same-id-other-values" && plain(body.error)) return plain(body.error);
   if (status === 409 || code === "uuid-in-use") {
     return "The server already holds another record under this record's id, so this one was not " +
       "stored. Record it again from these values: it gets a new id.";
