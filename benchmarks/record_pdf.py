@@ -150,11 +150,13 @@ def make_record(db_path: str, site_id: str, out: str) -> None:
 
     t0 = time.perf_counter()
     db = store.open_db(db_path)
-    rec = collect(db, site_id)
+    with store.read_snapshot(db):
+        # The bearings are read as the PDF is written, a batch at a time.
+        rec = collect(db, site_id)
+        t1 = time.perf_counter()
+        write_pdf(rec, out, photo_store=PhotoStore(Path(db_path).parent / "photos"))
+        t2 = time.perf_counter()
     db.conn.close()
-    t1 = time.perf_counter()
-    write_pdf(rec, out, photo_store=PhotoStore(Path(db_path).parent / "photos"))
-    t2 = time.perf_counter()
     print(f"{t1 - t0:.3f} {t2 - t1:.3f}")
 
 
@@ -220,8 +222,8 @@ def main() -> int:
         pages = len(PdfReader(str(out)).pages)
         size_mb = out.stat().st_size / 1e6
         print(f"site record: {pages} pages, {size_mb:.1f} MB")
-        print(f"  read from the store: {read_s:.2f} s")
-        print(f"  PDF made and written: {pdf_s:.2f} s")
+        print(f"  site and its people read: {read_s:.2f} s")
+        print(f"  bearings read, PDF made and written: {pdf_s:.2f} s")
         print(f"  child process, start to end: {wall:.2f} s (target ≤ 30 s)")
         print(f"  peak memory of the child: {peak_mb:.0f} MB (target ≤ 500 MB)")
     return 0

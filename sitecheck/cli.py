@@ -76,6 +76,15 @@ def main(argv: list[str] | None = None) -> int:
     record.add_argument("--db", default=None, help="SQLite file (default $SITECHECK_DB)")
     record.add_argument("--out", type=Path, required=True, help="the PDF file to write")
 
+    exported = sub.add_parser(
+        "export", help="write a site's data export: CSV files in a zip, or one JSON file"
+    )
+    exported.add_argument("site", help="the site's id, or its exact name")
+    exported.add_argument("--db", default=None, help="SQLite file (default $SITECHECK_DB)")
+    exported.add_argument(
+        "--out", type=Path, required=True, help="the file to write: NAME.zip (CSV) or NAME.json"
+    )
+
     vectors = sub.add_parser(
         "vectors", help="write or compare the shared test vectors of the browser's mirror"
     )
@@ -100,6 +109,8 @@ def main(argv: list[str] | None = None) -> int:
         return _may_make_sites(args)
     if args.command == "record":
         return _record(args)
+    if args.command == "export":
+        return _export(args)
     if args.command == "demo":
         from .demo import build_demo
 
@@ -154,34 +165,82 @@ def _serve(db: str | None, host: str, port: int, threads: int) -> int:
     return 0
 
 
-def _record(args) -> int:
+def _open_site(args):
+    """The database and the site the command names, or an exit code after saying why."""
     import os
 
+    from . import store
+
+    path = Path(args.db or os.environ.get("SITECHECK_DB") or "var/sitecheck.db")
+    if not path.is_file():
+        print(f"sitecheck: no database at {path}; give it with --db", file=sys.stderr)
+        return path, None, None
+    db = store.open_db(path)
+    site = store.get_site(db, args.site) or _site_named(db, args.site)
+    if site is None:
+        db.conn.close()
+        print(
+            f"sitecheck: no site with the id or exact name {args.site!r}; "
+            "the site page's address holds its id",
+            file=sys.stderr,
+        )
+    return path, (db if site else None), site
+
+
+def _record(args) -> int:
     from . import store
     from .photos import PhotoStore
     from .report.collect import collect
     from .report.pdf import write_pdf
 
-    path = Path(args.db or os.environ.get("SITECHECK_DB") or "var/sitecheck.db")
-    if not path.is_file():
-        print(f"sitecheck: no database at {path}; give it with --db", file=sys.stderr)
+    path, db, site = _open_site(args)
+    if db is None:
         return 2
-    db = store.open_db(path)
     try:
-        site = store.get_site(db, args.site) or _site_named(db, args.site)
-        if site is None:
-            print(
-                f"sitecheck: no site with the id or exact name {args.site!r}; "
-                "the site page's address holds its id",
-                file=sys.stderr,
-            )
-            return 2
-        rec = collect(db, site["id"])
+        # Read as it was at the start, however long the PDF takes; a bearing at a time.
+        with store.read_snapshot(db):
+            rec = collect(db, site["id"])
+            photos = PhotoStore(path.parent / "photos")
+            write_pdf(rec, args.out, photo_store=photos, progress=_progress_bar)
+            count = len(rec.bearings)
     finally:
         db.conn.close()
-    write_pdf(rec, args.out, photo_store=PhotoStore(path.parent / "photos"), progress=_progress_bar)
     print(file=sys.stderr)
-    print(f"Site record of {site['name']} ({len(rec.bearings)} bearings) written to {args.out}")
+    print(f"Site record of {site['name']} ({count} bearings) written to {args.out}")
+    print(CAUTION)
+    return 0
+
+
+def _export(args) -> int:
+    from . import store
+    from .report import export
+    from .report.collect import collect
+
+    suffix = args.out.suffix.lower()
+    if suffix not in (".zip", ".json"):
+        print(
+            f"sitecheck: --out {args.out} should end in .zip (the CSV files) or .json",
+            file=sys.stderr,
+        )
+        return 2
+    _path, db, site = _open_site(args)
+    if db is None:
+        return 2
+    part = args.out.with_name(args.out.name + ".part")
+    try:
+        with store.read_snapshot(db):
+            rec = collect(db, site["id"])
+            if suffix == ".zip":
+                export.write_csv_zip(rec, part, progress=_progress_bar, workdir=part.parent)
+            else:
+                export.write_json(rec, part, progress=_progress_bar)
+            count = len(rec.bearings)
+        part.replace(args.out)
+    finally:
+        db.conn.close()
+        part.unlink(missing_ok=True)
+    print(file=sys.stderr)
+    print(f"Data export of {site['name']} ({count} bearings) written to {args.out}")
     print(CAUTION)
     return 0
 

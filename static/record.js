@@ -1,7 +1,7 @@
 // Site record progress: asks the progress page's .json instead of reloading the whole page.
 // Progressive enhancement only: without this module the page refreshes itself (noscript).
 
-const panel = document.querySelector("[data-pdf-job][data-poll]");
+const panel = document.querySelector("[data-record-job][data-poll]");
 
 if (panel) {
   const url = panel.dataset.poll;
@@ -20,7 +20,7 @@ if (panel) {
       if (!response.ok) throw new Error(`HTTP ${response.status}`);
       const job = (await response.json()).job;
       misses = 0;
-      if (!job || job.state !== panel.dataset.pdfJob || !job.running) {
+      if (!job || job.state !== panel.dataset.recordJob || !job.running) {
         // A new state (started, finished, failed) has its own page: let the server draw it.
         window.location.reload();
         return;

@@ -74,10 +74,10 @@ ROUTES = {
     "record.pdf_file": "export",
     "record.export_zip": "export",
     "record.export_json": "export",
-    "record.make_pdf": "export",
-    "record.pdf_progress": "export",
-    "record.pdf_progress_json": "export",
-    "record.made_pdf": "export",
+    "record.make_file": "export",
+    "record.progress": "export",
+    "record.progress_json": "export",
+    "record.made_file": "export",
     "static": "public",
     "sync.service_worker": "public",
     "sync.offline": "public",
@@ -166,6 +166,7 @@ def world(app, db, site, people):
         "size": "thumb",
         "user_id": people["viewer"].id,
         "filename": "app.css",
+        "kind": "csv",  # a data export: the site record's routes take its kind
     }
 
 

@@ -495,16 +495,14 @@ def test_a_site_the_user_is_not_on_is_refused_as_if_it_did_not_exist(client_as, 
     assert b"GF-B1" not in r.data
 
 
-def test_the_record_page_links_every_download(client_as, site):
+def test_the_record_page_offers_every_file_made_in_the_background(client_as, site):
     r = client_as("contractor").get(f"/sites/{site['id']}/record")
     assert r.status_code == 200
     page = r.get_data(as_text=True)
-    assert f'action="/sites/{site["id"]}/record/pdf"' in page  # made in the background
-    for path in ("export.zip", "export.json"):
-        assert f"/sites/{site['id']}/{path}" in page
+    for kind in ("pdf", "csv", "json"):
+        assert f'action="/sites/{site["id"]}/record/{kind}"' in page, kind
+    assert "Make the data export (CSV, zipped)" in page and "Make the data export (JSON)" in page
     assert "competent engineer" in page
-    r = client_as("viewer").get(f"/sites/{site['id']}/export.zip")
-    assert r.status_code == 200 and r.headers["Content-Disposition"].startswith("attachment;")
 
 
 def test_review_result_and_bearing_pages_show_the_drawing_inline(client_as, db, site, recorded):

@@ -198,6 +198,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m008_recorded_after_release",
         "m009_record_jobs",
         "m010_could_not_measure",
+        "m011_record_job_kinds",
     ]
     assert store.MIGRATIONS.pending(db) == []
 

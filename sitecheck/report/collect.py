@@ -1,19 +1,22 @@
-"""Everything one site record holds, read from the store once, for the PDF and the export.
+"""Everything one site record holds, read from the store, for the PDF and the export.
 
 Reading happens here and nowhere else in the report package, so the PDF and the data
 export cannot disagree about what a site holds.
+
+A site of 10,000 bearings is too much to hold at once (its stored calculations alone
+decode to over a GB of Python objects), so a record's bearings and events are read from
+the store as they are walked, a batch at a time (sitecheck.store.record_reads), and may be
+walked more than once. The connection must stay open while the record is used; wrap the
+whole use in ``store.read_snapshot(db)`` so that every walk sees the same moment.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 
 from sitecheck import store
-
-# The audit trail is exported whole; the store's default page is for screens.
-ALL_EVENTS = 1_000_000_000
 
 
 @dataclass
@@ -32,67 +35,76 @@ class BearingRecord:
         uuid = self.bearing["latest_record_uuid"]
         return next((r for r in self.records if r["uuid"] == uuid), None)
 
+    def user_ids(self) -> set[int]:
+        """Everyone this bearing's record names."""
+        ids = {r["inspector_id"] for r in self.records}
+        ids.update(d["engineer_id"] for d in self.decisions)
+        ids.update(r["contractor_id"] for r in self.releases)
+        ids.update(r["engineer_id"] for r in self.reopenings)
+        ids.update(k["engineer_id"] for k in self.releases_kept)
+        return ids
+
+
+class Walk(Iterable):
+    """Rows read from the store each time they are walked, with their count known up front,
+    so a writer can say "x of N" without holding N of them."""
+
+    def __init__(self, walk: Callable[[], Iterator], count: int):
+        self._walk = walk
+        self._count = count
+
+    def __iter__(self) -> Iterator:
+        return self._walk()
+
+    def __len__(self) -> int:
+        return self._count
+
+    def __bool__(self) -> bool:
+        return self._count > 0
+
 
 @dataclass
 class SiteRecord:
     site: dict
     members: list[dict]
     names: dict[int, str]
-    bearings: list[BearingRecord]
-    events: list[dict]  # oldest first
+    bearings: Iterable[BearingRecord]
+    events: Iterable[dict]  # oldest first
     made_at: str = field(default_factory=lambda: datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"))
+    # Looks up a person not on the site (taken off it, but still signing what they did).
+    lookup: Callable[[int], dict | None] | None = None
 
     def name(self, user_id: int | None) -> str:
         if user_id is None:
             return "the system"
-        return self.names.get(user_id, f"user {user_id}")
-
-
-def _names(db, site_id: str, members: list[dict], user_ids) -> dict[int, str]:
-    names = {m["id"]: m["name"] for m in members}
-    for uid in user_ids:
-        # People taken off the site still sign what they did while on it.
-        if uid is not None and uid not in names:
-            user = store.get_user_by_id(db, uid)
-            names[uid] = user["name"] if user else f"user {uid}"
-    return names
+        found = self.names.get(user_id)
+        if found is None:
+            user = self.lookup(user_id) if self.lookup else None
+            found = self.names[user_id] = user["name"] if user else f"user {user_id}"
+        return found
 
 
 def iter_bearings(db, site_id: str) -> Iterator[BearingRecord]:
-    """One bearing at a time, so a long site need not be held all at once by a caller that
-    streams (the PDF); the export gathers them."""
-    by_bearing: dict[str, list[dict]] = {}
-    for r in store.records_for_site(db, site_id=site_id):
-        by_bearing.setdefault(r["bearing_id"], []).append(r)
-    for b in store.list_bearings(db, site_id=site_id):
-        records = by_bearing.get(b["id"], [])
-        photos = {
-            r["uuid"]: store.photos_for_record(db, site_id=site_id, record_uuid=r["uuid"])
-            for r in records
-        }
-        yield BearingRecord(
-            bearing=b,
-            records=records,
-            photos=photos,
-            decisions=store.decisions_for(db, site_id=site_id, bearing_id=b["id"]),
-            releases=store.releases_for(db, site_id=site_id, bearing_id=b["id"]),
-            reopenings=store.reopenings_for(db, site_id=site_id, bearing_id=b["id"]),
-            releases_kept=store.releases_kept_for(db, site_id=site_id, bearing_id=b["id"]),
-        )
+    """One bearing at a time, read a batch at a time, so a long site is never held at once."""
+    for batch in store.bearing_batches(db, site_id=site_id):
+        for b in batch:
+            yield BearingRecord(**b)
 
 
 def collect(db, site_id: str) -> SiteRecord:
+    """The site's record, read from ``db`` as it is walked (keep ``db`` open meanwhile)."""
     site = store.get_site(db, site_id)
     if site is None:
         raise store.NotFound("No such site")
     members = store.members_of(db, site_id=site_id)
-    bearings = list(iter_bearings(db, site_id))
-    events = list(reversed(store.events_for(db, site_id=site_id, limit=ALL_EVENTS)))
-    ids = {e["user_id"] for e in events}
-    for br in bearings:
-        ids.update(r["inspector_id"] for r in br.records)
-        ids.update(d["engineer_id"] for d in br.decisions)
-        ids.update(r["contractor_id"] for r in br.releases)
-        ids.update(r["engineer_id"] for r in br.reopenings)
-        ids.update(k["engineer_id"] for k in br.releases_kept)
-    return SiteRecord(site, members, _names(db, site_id, members, ids), bearings, events)
+    return SiteRecord(
+        site,
+        members,
+        {m["id"]: m["name"] for m in members},
+        Walk(lambda: iter_bearings(db, site_id), store.count_bearings(db, site_id=site_id)),
+        Walk(
+            lambda: store.site_events(db, site_id=site_id),
+            store.count_events(db, site_id=site_id),
+        ),
+        lookup=lambda user_id: store.get_user_by_id(db, user_id),
+    )

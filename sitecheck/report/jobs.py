@@ -1,8 +1,10 @@
-"""Making a site record (PDF) in the background, with progress a page can show.
+"""Making a site record (PDF) and the data export (CSV in a zip, JSON) in the background,
+with progress a page can show.
 
 A long site's record takes tens of seconds: too long for one request with nothing to see,
 and a request that makes a PDF holds a server thread and a core while it does. Every site
-record is made here, on a thread of the server, one at a time per process (``workers``).
+record and data export is made here, on a thread of the server, one at a time per process
+(``workers``); each kind of file is a job of its own kind.
 
 The jobs themselves live in the database (sitecheck.store.record_jobs), so every server
 process sees the same jobs: a site has one making at a time whichever process is asked, a
@@ -10,9 +12,9 @@ finished record is handed out again while nothing on the site has changed, and a
 start only so many makings an hour. A job whose process stopped (a restart) stops being
 updated and shows as stopped; the next request starts afresh.
 
-Files: ``<folder>/<site id>/<job id>.pdf`` (``.part`` while being written). A site keeps
-the files of its newest job and its newest finished record; older ones are removed when a
-job ends.
+Files: ``<folder>/<site id>/<job id>.pdf`` (``.zip``, ``.json``; ``.part`` while being
+written). A site keeps, of each kind, the files of its newest job and its newest finished
+one; older ones are removed when a job ends.
 """
 
 from __future__ import annotations
@@ -23,6 +25,7 @@ import hashlib
 import logging
 import os
 import re
+import shutil
 import threading
 import time
 import uuid
@@ -33,8 +36,10 @@ from pathlib import Path
 
 import sitecheck
 from sitecheck import store
+from sitecheck.report import export
 from sitecheck.report.collect import collect
 from sitecheck.report.pdf import BEFORE_BEARINGS, write_pdf
+from sitecheck.store.migrations import RECORD_KINDS
 from sitecheck.store.record_jobs import STOPPED_BY_RESTART
 
 __all__ = [
@@ -43,15 +48,20 @@ __all__ = [
     "MAKING",
     "STOPPED",
     "WAITING",
+    "KINDS",
     "Job",
     "RecordJobs",
     "TooManyRecords",
+    "data_export",
     "site_record",
 ]
 
 WAITING, MAKING, DONE, FAILED, STOPPED = "waiting", "making", "done", "failed", "stopped"
 RUNNING = (WAITING, MAKING)
 TooManyRecords = store.TooManyRecords
+KINDS = RECORD_KINDS
+# The file each kind makes.
+SUFFIXES = {"pdf": ".pdf", "csv": ".zip", "json": ".json"}
 
 # Progress is written at most this often (and always at the last bearing): one database
 # write per bearing would cost more than some bearings' pages.
@@ -59,6 +69,8 @@ _WRITE_EVERY_S = 0.5
 # A waiting job says it is alive this often, so a job waiting behind a long one in another
 # process is not taken for one stopped by a restart.
 _HEARTBEAT_S = 30.0
+# A work folder untouched this long belongs to no making still under way.
+_LEFT_BEHIND_S = 24 * 3600.0
 
 _ID = re.compile(r"[0-9a-f]{32}")
 _SITE_ID = re.compile(r"[A-Za-z0-9_-]{1,64}")
@@ -76,6 +88,7 @@ class Job:
 
     id: str
     site_id: str
+    kind: str
     state: str
     bearings_done: int
     bearings: int
@@ -161,32 +174,39 @@ class RecordJobs:
             raise ValueError(f"A site id is letters, digits, - and _ only; got {site_id!r:.80}.")
         return self.folder / site_id
 
-    def pdf_path(self, job: Job) -> Path:
+    def file_path(self, job: Job) -> Path:
         if not _ID.fullmatch(job.id):
             raise ValueError(f"A job id is 32 hex digits; got {job.id!r:.80}.")
-        return self.site_folder(job.site_id) / f"{job.id}.pdf"
+        return self.site_folder(job.site_id) / f"{job.id}{SUFFIXES[job.kind]}"
 
-    def jobs(self, site_id: str) -> list[Job]:
-        """Every making of the site's record, newest first."""
+    pdf_path = file_path
+
+    def jobs(self, site_id: str, kind: str = "pdf") -> list[Job]:
+        """Every making of the site's record of ``kind``, newest first."""
         self.site_folder(site_id)  # refuses an odd id before it reaches the database
+        _known(kind)
         with self._db() as db:
-            rows = store.record_jobs_for_site(db, site_id=site_id)
+            rows = store.record_jobs_for_site(db, site_id=site_id, kind=kind)
         return [self._as_seen(Job.from_row(r)) for r in rows]
 
-    def latest(self, site_id: str) -> Job | None:
-        found = self.jobs(site_id)
+    def latest(self, site_id: str, kind: str = "pdf") -> Job | None:
+        found = self.jobs(site_id, kind)
         return found[0] if found else None
 
-    def latest_done(self, site_id: str) -> Job | None:
-        """The newest finished record whose file is still there."""
+    def latest_done(self, site_id: str, kind: str = "pdf") -> Job | None:
+        """The newest finished file of ``kind`` that is still there."""
         return next(
-            (j for j in self.jobs(site_id) if j.state == DONE and self.pdf_path(j).is_file()),
+            (
+                j
+                for j in self.jobs(site_id, kind)
+                if j.state == DONE and self.file_path(j).is_file()
+            ),
             None,
         )
 
-    def current(self, site_id: str) -> Job | None:
-        """The newest finished record if nothing on the site has changed since it was made."""
-        done = self.latest_done(site_id)
+    def current(self, site_id: str, kind: str = "pdf") -> Job | None:
+        """The newest finished file of ``kind`` if nothing on the site has changed since."""
+        done = self.latest_done(site_id, kind)
         if done is None:
             return None
         with self._db() as db:
@@ -206,22 +226,26 @@ class RecordJobs:
 
     # --- making -----------------------------------------------------------------------------
 
-    def start(self, site_id: str, *, user_id: int | None, make: Make) -> tuple[Job, str]:
-        """Start making the site's record, join the making under way, or hand out the
-        finished record of an unchanged site.
+    def start(
+        self, site_id: str, *, user_id: int | None, make: Make, kind: str = "pdf"
+    ) -> tuple[Job, str]:
+        """Start making the site's file of ``kind``, join the making under way, or hand out
+        the finished file of an unchanged site.
 
         Returns the job and "started", "joined" or "reused"; raises TooManyRecords when
-        ``user_id`` may not start another making yet.
+        ``user_id`` may not start another making of that kind yet.
         """
         self.site_folder(site_id)
+        _known(kind)
         with self._db() as db:
             row, how = store.start_record_job(
                 db,
                 job_id=uuid.uuid4().hex,
                 site_id=site_id,
+                kind=kind,
                 user_id=user_id,
                 version=self.version(db, site_id),
-                file_kept=lambda done: self.pdf_path(Job.from_row(done)).is_file(),
+                file_kept=lambda done: self.file_path(Job.from_row(done)).is_file(),
                 per_user=self.per_user,
                 window_s=self.window_s,
                 stale_after_s=self.stale_after_s,
@@ -246,7 +270,7 @@ class RecordJobs:
         return not thread.is_alive()
 
     def _run(self, job: Job, make: Make) -> None:
-        part = self.pdf_path(job).with_suffix(".part")
+        part = self.file_path(job).with_suffix(".part")
         try:
             with self._db() as db:
                 while not self._slots.acquire(timeout=_HEARTBEAT_S):
@@ -269,7 +293,7 @@ class RecordJobs:
             with self._lock:
                 self._threads.pop(job.id, None)
             with contextlib.suppress(OSError, ValueError):
-                self._prune(job.site_id)
+                self._prune(job.site_id, job.kind)
 
     def _make(self, job: Job, make: Make, part: Path) -> None:
         with self._db() as db:
@@ -286,7 +310,7 @@ class RecordJobs:
 
             part.parent.mkdir(parents=True, exist_ok=True)
             make(part, progress)
-            final = self.pdf_path(job)
+            final = self.file_path(job)
             os.replace(part, final)
             made = Job.from_row(store.get_record_job(db, job.id))
             store.update_record_job(
@@ -299,10 +323,10 @@ class RecordJobs:
                 size_bytes=final.stat().st_size,
             )
 
-    def _prune(self, site_id: str) -> None:
-        """Keep the files of the newest job, the newest finished record and anything running;
-        remove the rest (older records, and files a stopped process left)."""
-        jobs = self.jobs(site_id)
+    def _prune(self, site_id: str, kind: str) -> None:
+        """Keep the files of the newest job of ``kind``, its newest finished file and anything
+        running; remove the rest of that kind (older files, and files a stopped process left)."""
+        jobs = self.jobs(site_id, kind)
         keep = {jobs[0].id} if jobs else set()
         keep |= {j.id for j in jobs if j.running}
         done = next((j for j in jobs if j.state == DONE), None)
@@ -311,14 +335,32 @@ class RecordJobs:
         folder = self.site_folder(site_id)
         if not folder.is_dir():
             return
+        ours = {j.id for j in jobs}
         for path in folder.iterdir():
-            if path.suffix in (".pdf", ".part", ".json") and path.stem not in keep:
+            if path.is_dir() and path.name.startswith(export.WORK_PREFIX):
+                # The CSV files of an export whose process stopped mid-way.
+                if time.time() - path.stat().st_mtime > _LEFT_BEHIND_S:
+                    shutil.rmtree(path, ignore_errors=True)
+                continue
+            if path.stem in keep:
+                continue
+            # A .part is a file cut short; whose kind it was does not matter once its job ended.
+            if path.suffix == SUFFIXES[kind] or (path.suffix == ".part" and path.stem in ours):
                 with contextlib.suppress(FileNotFoundError):
                     path.unlink()
 
 
+def _known(kind: str) -> None:
+    if kind not in KINDS:
+        raise ValueError(f"A site record is one of {', '.join(KINDS)}; got {kind!r:.40}.")
+
+
 def _now() -> str:
     return store.timestamp()
+
+
+# What each kind of file is called in messages.
+WORDS = {"pdf": "site record", "csv": "data export (CSV)", "json": "data export (JSON)"}
 
 
 def _plain_error(job: Job, error: Exception) -> str:
@@ -330,28 +372,53 @@ def _plain_error(job: Job, error: Exception) -> str:
     detail = str(error).strip() or type(error).__name__
     if isinstance(error, OSError) and error.strerror:
         detail = f"the file could not be written ({error.strerror})"
+    what = WORDS.get(job.kind, "site record")
     return (
-        f"The site record could not be made{where}: {detail}. Nothing was kept. Start it "
+        f"The {what} could not be made{where}: {detail}. Nothing was kept. Start it "
         "again; if it stops again, tell the person who runs sitecheck."
     )
 
 
+@contextlib.contextmanager
+def _site_as_it_is(db_path: str | os.PathLike, site_id: str):
+    """The site's record on a connection of the job's own (SQLite connections must not cross
+    threads), read as the database was at its first read however long the writing takes."""
+    db = store.open_db(db_path)
+    try:
+        with store.read_snapshot(db):
+            yield collect(db, site_id)
+    finally:
+        db.conn.close()
+
+
 def site_record(db_path: str | os.PathLike, site_id: str, *, photo_store=None) -> Make:
-    """What a job runs: read the site from the store on the job's own connection (SQLite
-    connections must not cross threads), then write the PDF, counting bearings."""
+    """What a PDF job runs: write the PDF bearing by bearing as the store hands them out."""
 
     def make(out: Path, progress: Progress) -> None:
-        db = store.open_db(db_path)
-        try:
-            rec = collect(db, site_id)
-        finally:
-            db.conn.close()
-        total = len(rec.bearings)
-        progress(0, total, "")
+        with _site_as_it_is(db_path, site_id) as rec:
+            total = len(rec.bearings)
+            progress(0, total, "")
 
-        def step(done: int, _steps: int, what: str) -> None:
-            progress(min(total, max(0, done - BEFORE_BEARINGS)), total, what)
+            def step(done: int, _steps: int, what: str) -> None:
+                progress(min(total, max(0, done - BEFORE_BEARINGS)), total, what)
 
-        write_pdf(rec, out, photo_store=photo_store, progress=step)
+            write_pdf(rec, out, photo_store=photo_store, progress=step)
+
+    return make
+
+
+def data_export(db_path: str | os.PathLike, site_id: str, kind: str) -> Make:
+    """What a data export job runs ("csv": the zip of CSV files; "json"): written bearing by
+    bearing, so its memory does not grow with the site."""
+    if kind not in ("csv", "json"):
+        raise ValueError(f"A data export is csv or json; got {kind!r:.40}.")
+
+    def make(out: Path, progress: Progress) -> None:
+        with _site_as_it_is(db_path, site_id) as rec:
+            progress(0, len(rec.bearings), "")
+            if kind == "csv":
+                export.write_csv_zip(rec, out, progress=progress, workdir=out.parent)
+            else:
+                export.write_json(rec, out, progress=progress)
 
     return make

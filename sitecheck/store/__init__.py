@@ -115,6 +115,13 @@ from sitecheck.store.record_jobs import (
     start_record_job,
     update_record_job,
 )
+from sitecheck.store.record_reads import (
+    bearing_batches,
+    count_bearings,
+    count_events,
+    read_snapshot,
+    site_events,
+)
 from sitecheck.store.sites import (
     add_membership,
     create_site,
@@ -160,9 +167,12 @@ __all__ = [
     "answer_invitation",
     "apply_migrations",
     "attach_mail",
+    "bearing_batches",
     "bearing_by_reference",
     "bearing_revisions",
     "claim_due_mail",
+    "count_bearings",
+    "count_events",
     "create_invitation",
     "create_link",
     "create_session",
@@ -203,6 +213,7 @@ __all__ = [
     "photos_for_record",
     "prune_login_attempts",
     "queue_mail",
+    "read_snapshot",
     "record_decision",
     "record_jobs_for_site",
     "record_login_attempt",
@@ -227,6 +238,7 @@ __all__ = [
     "set_role",
     "set_state",
     "sites_for_user",
+    "site_events",
     "site_version",
     "sites_named",
     "start_record_job",

@@ -521,3 +521,24 @@ def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATI
         names = [migration.name for migration in migrations.pending(db)]
         migrations.apply(db)
     return names
+
+
+RECORD_KINDS = ("pdf", "csv", "json")
+
+
+@MIGRATIONS()
+def m011_record_job_kinds(db: sqlite_utils.Database) -> None:
+    """The data exports (CSV in a zip, JSON) are made in the background like the PDF, as jobs
+    of their own kind: one making of each kind at a time per site, each reused while the
+    site has not changed. Jobs made before are PDFs."""
+    db.execute(
+        "ALTER TABLE record_jobs ADD COLUMN kind TEXT NOT NULL DEFAULT 'pdf' "
+        f"CHECK (kind IN {_in(RECORD_KINDS)})"
+    )
+    db.execute("DROP INDEX record_jobs_one_running")
+    db.execute(
+        "CREATE UNIQUE INDEX record_jobs_one_running ON record_jobs(site_id, kind) "
+        "WHERE state IN ('waiting', 'making')"
+    )
+    db.execute("DROP INDEX record_jobs_site")
+    db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, kind, created_at)")

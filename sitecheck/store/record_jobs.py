@@ -1,9 +1,10 @@
-"""The making of site records (PDF) in the background: one row per making, in the database
-so that every server process sees the same jobs.
+"""The making of site records (the PDF, and the data export as CSV or JSON) in the
+background: one row per making, in the database so that every server process sees the same
+jobs.
 
-A site has at most one job waiting or being made at a time (a unique index says so, whatever
-process asks); a finished record is reused while the site has not changed (``site_version``);
-and one person may start only so many makings an hour.
+A site has at most one job of each kind waiting or being made at a time (a unique index says
+so, whatever process asks); a finished file is reused while the site has not changed
+(``site_version``); and one person may start only so many makings of each kind an hour.
 """
 
 import hashlib
@@ -15,6 +16,7 @@ import sqlite_utils
 
 from sitecheck.store.base import many, one, timestamp, transaction, utc_now
 from sitecheck.store.errors import Conflict
+from sitecheck.store.migrations import RECORD_KINDS
 
 RUNNING = ("waiting", "making")
 JOB_STATES = ("waiting", "making", "done", "failed", "stopped")
@@ -67,6 +69,7 @@ def start_record_job(
     *,
     job_id: str,
     site_id: str,
+    kind: str = "pdf",
     user_id: int | None,
     version: str,
     file_kept: Callable[[dict], bool],
@@ -75,38 +78,41 @@ def start_record_job(
     stale_after_s: float,
     now: datetime | None = None,
 ) -> tuple[dict, str]:
-    """Start making a site's record, join the making under way, or reuse a finished one.
+    """Start making a site's record of ``kind`` (one of RECORD_KINDS), join the making of
+    that kind under way, or reuse a finished one.
 
     Returns the job row and what happened: "started" (a new row ``job_id``, waiting),
     "joined" (the site's record is being made), "reused" (the newest finished record was made
     from this same ``version`` of the site and ``file_kept`` says its file is still there).
     A job left running by a process that stopped (not updated for ``stale_after_s``) is
-    marked stopped first. Raises TooManyRecords if ``user_id`` started ``per_user`` makings in
-    the last ``window_s`` seconds. All in one write transaction, so two processes asking at
-    once start one job between them.
+    marked stopped first. Raises TooManyRecords if ``user_id`` started ``per_user`` makings of
+    this kind in the last ``window_s`` seconds. All in one write transaction, so two processes
+    asking at once start one job between them.
     """
+    if kind not in RECORD_KINDS:
+        raise ValueError(f"record kind {kind!r} is not one of {RECORD_KINDS}")
     moment = now or utc_now()
     at = timestamp(moment)
     with transaction(db):
         db.execute(
             f"""
             UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
-            WHERE site_id = ? AND state IN {RUNNING} AND updated_at < ?
+            WHERE site_id = ? AND kind = ? AND state IN {RUNNING} AND updated_at < ?
             """,
-            [STOPPED_BY_RESTART, at, site_id, _stale_before(stale_after_s, moment)],
+            [STOPPED_BY_RESTART, at, site_id, kind, _stale_before(stale_after_s, moment)],
         )
         running = one(
             db,
-            f"SELECT * FROM record_jobs WHERE site_id = ? AND state IN {RUNNING}",
-            [site_id],
+            f"SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND state IN {RUNNING}",
+            [site_id, kind],
         )
         if running is not None:
             return running, "joined"
         done = one(
             db,
-            "SELECT * FROM record_jobs WHERE site_id = ? AND state = 'done' "
+            "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND state = 'done' "
             "ORDER BY created_at DESC, id DESC LIMIT 1",
-            [site_id],
+            [site_id, kind],
         )
         if done is not None and done["site_version"] == version and file_kept(done):
             return done, "reused"
@@ -114,29 +120,34 @@ def start_record_job(
             since = timestamp(moment - timedelta(seconds=window_s))
             mine = many(
                 db,
-                "SELECT created_at FROM record_jobs WHERE started_by = ? AND created_at >= ? "
-                "ORDER BY created_at",
-                [user_id, since],
+                "SELECT created_at FROM record_jobs WHERE started_by = ? AND kind = ? "
+                "AND created_at >= ? ORDER BY created_at",
+                [user_id, kind, since],
             )
             if len(mine) >= per_user:
                 oldest = datetime.fromisoformat(mine[0]["created_at"].replace("Z", "+00:00"))
                 retry_at = timestamp(oldest + timedelta(seconds=window_s))
+                what = _KIND_WORDS[kind]
                 raise TooManyRecords(
-                    f"You have started {len(mine)} site records in the last "
+                    f"You have started {len(mine)} {what}s in the last "
                     f"{_duration(window_s)}, the most one person may. The newest finished "
-                    f"record stays available; you can start another after {retry_at[11:16]} "
+                    f"{what} stays available; you can start another after {retry_at[11:16]} "
                     "UTC.",
                     retry_at,
                 )
         db.execute(
             """
-            INSERT INTO record_jobs (id, site_id, state, started_by, site_version, created_at,
-                updated_at)
-            VALUES (?, ?, 'waiting', ?, ?, ?, ?)
+            INSERT INTO record_jobs (id, site_id, kind, state, started_by, site_version,
+                created_at, updated_at)
+            VALUES (?, ?, ?, 'waiting', ?, ?, ?, ?)
             """,
-            [job_id, site_id, user_id, version, at, at],
+            [job_id, site_id, kind, user_id, version, at, at],
         )
     return get_record_job(db, job_id), "started"
+
+
+# How a refusal names each kind of making.
+_KIND_WORDS = {"pdf": "site record", "csv": "data export (CSV)", "json": "data export (JSON)"}
 
 
 def _duration(seconds: float) -> str:
@@ -174,10 +185,19 @@ def get_record_job(db: sqlite_utils.Database, job_id: str) -> dict | None:
     return one(db, "SELECT * FROM record_jobs WHERE id = ?", [job_id])
 
 
-def record_jobs_for_site(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
-    """A site's makings, newest first."""
+def record_jobs_for_site(
+    db: sqlite_utils.Database, *, site_id: str, kind: str | None = None
+) -> list[dict]:
+    """A site's makings (of one kind, or of every kind), newest first."""
+    if kind is None:
+        return many(
+            db,
+            "SELECT * FROM record_jobs WHERE site_id = ? ORDER BY created_at DESC, id DESC",
+            [site_id],
+        )
     return many(
         db,
-        "SELECT * FROM record_jobs WHERE site_id = ? ORDER BY created_at DESC, id DESC",
-        [site_id],
+        "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? "
+        "ORDER BY created_at DESC, id DESC",
+        [site_id, kind],
     )

@@ -4,12 +4,13 @@ and the drawing of a bearing that the review, result and bearing pages include.
 Everyone on a site may export its record ('export'); anyone else gets 404, as for every
 other page of the site.
 
-Every PDF is made in the background (sitecheck.report.jobs), never inside a request: a
-request that made one held a server thread and a core for seconds, and eight at once slowed
-log-in for everyone. The record page starts it (or joins the making under way, or hands out
-the last one while nothing on the site has changed), a progress page shows how many
-bearings are done, refreshing itself without JavaScript and polling its .json with it, and
-offers the file when it is ready. A person may start only so many makings an hour. The files
+Every file is made in the background (sitecheck.report.jobs), never inside a request: a
+request that made a PDF held a server thread and a core for seconds, eight at once slowed
+log-in for everyone, and a large site's export held hundreds of MB for most of a minute.
+The record page starts one (or joins the making under way, or hands out the last one while
+nothing on the site has changed), a progress page shows how many bearings are done,
+refreshing itself without JavaScript and polling its .json with it, and offers the file
+when it is ready. A person may start only so many makings of each kind an hour. The files
 are kept under the app's folder.
 """
 
@@ -23,6 +24,7 @@ from pathlib import Path
 from flask import (
     Blueprint,
     Response,
+    abort,
     current_app,
     flash,
     g,
@@ -36,10 +38,8 @@ from markupsafe import Markup
 
 from sitecheck import store
 from sitecheck.bearing import InputError
-from sitecheck.report import export
-from sitecheck.report.collect import collect
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
-from sitecheck.report.jobs import RecordJobs, TooManyRecords, site_record
+from sitecheck.report.jobs import KINDS, RecordJobs, TooManyRecords, data_export, site_record
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
 from sitecheck.web.auth import login_required
@@ -50,31 +50,47 @@ bp = Blueprint("record", __name__)
 # How often the progress page asks again, without JavaScript and with it.
 REFRESH_SECONDS = 2
 
-PDF_HINT = (
-    "For the quality file: every bearing with its drawing, calculation, photos, decisions "
-    "and release, and the audit trail."
-)
-DOWNLOADS = (
-    (
-        "zip",
-        "Data export (CSV, zipped)",
-        "record.export_zip",
-        "schedule.csv (imports into a site), bearings, as-built records, decisions, releases, reopenings, events.",
-    ),
-    (
-        "json",
-        "Data export (JSON)",
-        "record.export_json",
-        "Everything in one file, with every design input and calculation whole.",
-    ),
-)
+# What each kind of file is called and holds, on the pages and in its download's name.
+FILES = {
+    "pdf": {
+        "label": "Site record (PDF)",
+        "make_label": "Make the site record (PDF)",
+        "download_label": "Download the site record (PDF)",
+        "hint": "For the quality file: every bearing with its drawing, calculation, photos, "
+        "decisions and release, and the audit trail.",
+        "what": "site record",
+        "mimetype": "application/pdf",
+        "suffix": "-site-record.pdf",
+    },
+    "csv": {
+        "label": "Data export (CSV, zipped)",
+        "make_label": "Make the data export (CSV, zipped)",
+        "download_label": "Download the data export (CSV, zipped)",
+        "hint": "schedule.csv (imports into a site), bearings, as-built records, decisions, "
+        "releases, reopenings, events.",
+        "what": "data export",
+        "mimetype": "application/zip",
+        "suffix": "-data.zip",
+    },
+    "json": {
+        "label": "Data export (JSON)",
+        "make_label": "Make the data export (JSON)",
+        "download_label": "Download the data export (JSON)",
+        "hint": "Everything in one file, with every design input and calculation whole.",
+        "what": "data export",
+        "mimetype": "application/json",
+        "suffix": "-data.json",
+    },
+}
+assert set(FILES) == set(KINDS)
+KIND_RULE = "<any(" + ", ".join(KINDS) + "):kind>"
 
 
 @bp.record_once
 def _install_jobs(state) -> None:
     """One set of background jobs per app, their files beside the database and photos
-    (``RECORD_DIR`` to put them elsewhere). ``RECORD_PDF_PER_HOUR``: how many makings one
-    person may start in an hour."""
+    (``RECORD_DIR`` to put them elsewhere). ``RECORD_PDF_PER_HOUR``: how many makings of each
+    kind one person may start in an hour."""
     app = state.app
     folder = app.config.get("RECORD_DIR") or Path(app.config["DB_PATH"]).parent / "records"
     app.extensions["record_jobs"] = RecordJobs(
@@ -94,100 +110,108 @@ def safe_filename(name: str, suffix: str, when: datetime | None = None) -> str:
     return f"{slug}-{when or datetime.now(UTC):%Y-%m-%d}{suffix}"
 
 
-def _download(data: bytes, mimetype: str, filename: str) -> Response:
-    response = Response(data, mimetype=mimetype)
-    response.headers["Content-Disposition"] = f'attachment; filename="{filename}"'
-    return response
-
-
 @page_rule(bp, "/sites/<site_id>/record")
 @login_required
 def site(site_id):
     found, role = site_for(site_id, "export")
     db = get_db()
-    bearings = store.list_bearings(db, site_id=site_id)
     jobs = record_jobs()
     return render_page(
         "record/site.html",
         site={"id": found["id"], "name": found["name"], "address": found["address"]},
         role=role,
-        bearing_count=len(bearings),
-        pdf={
-            "label": "Site record (PDF)",
-            "hint": PDF_HINT,
-            "make": url_for("record.make_pdf", site_id=site_id),
-            "progress": url_for("record.pdf_progress", site_id=site_id),
-        },
-        making=_job_summary(db, jobs.latest(site_id)),
-        # The last record made, if nothing on the site has changed since: no need to wait.
-        current=_job_summary(db, jobs.current(site_id)),
-        downloads=[
-            {"kind": k, "label": label, "href": url_for(endpoint, site_id=site_id), "hint": hint}
-            for k, label, endpoint, hint in DOWNLOADS
-        ],
+        bearing_count=store.count_bearings(db, site_id=site_id),
+        files=[_file_card(db, jobs, site_id, kind) for kind in KINDS],
     )
 
 
-@bp.get("/sites/<site_id>/record.pdf")
+def _file_card(db, jobs: RecordJobs, site_id: str, kind: str) -> dict:
+    return {
+        "kind": kind,
+        "label": FILES[kind]["label"],
+        "make_label": FILES[kind]["make_label"],
+        "hint": FILES[kind]["hint"],
+        "make": url_for("record.make_file", site_id=site_id, kind=kind),
+        "progress": url_for("record.progress", site_id=site_id, kind=kind),
+        "making": _job_summary(db, jobs.latest(site_id, kind)),
+        # The last one made, if nothing on the site has changed since: no need to wait.
+        "current": _job_summary(db, jobs.current(site_id, kind)),
+    }
+
+
+@bp.get("/sites/<site_id>/record.pdf", defaults={"kind": "pdf"}, endpoint="pdf_file")
+@bp.get("/sites/<site_id>/export.zip", defaults={"kind": "csv"}, endpoint="export_zip")
+@bp.get("/sites/<site_id>/export.json", defaults={"kind": "json"}, endpoint="export_json")
 @login_required
-def pdf_file(site_id):
-    """The site record made from the site as it is now, if one was made since the last
-    change; otherwise the progress page, where it is made (a GET starts nothing)."""
+def current_file(site_id, kind):
+    """The file made from the site as it is now, if one was made since the last change;
+    otherwise the progress page, where it is made (a GET starts nothing)."""
     found, _role = site_for(site_id, "export")
-    job = record_jobs().current(site_id)
+    job = record_jobs().current(site_id, kind)
     if job is None:
+        what = FILES[kind]["what"]
         flash(
-            "Site records are made in the background: make one from what the site holds now, "
-            "and download it when it is ready."
+            f"The {what} is made in the background: make one from what the site holds now, "
+            "and download it here when it is ready."
         )
-        return redirect(url_for("record.pdf_progress", site_id=site_id))
-    return _send_pdf(found, job)
+        return redirect(url_for("record.progress", site_id=site_id, kind=kind))
+    return _send(found, job)
 
 
-@bp.post("/sites/<site_id>/record/pdf")
+@bp.post(f"/sites/<site_id>/record/{KIND_RULE}")
 @login_required
-def make_pdf(site_id):
-    """Start making the site record in the background, join the making under way, or hand
-    out the last one made if nothing on the site has changed since."""
+def make_file(site_id, kind):
+    """Start making the file in the background, join the making under way, or hand out the
+    last one made if nothing on the site has changed since."""
     site_for(site_id, "export")
+    db_path = current_app.config["DB_PATH"]
+    make = (
+        site_record(db_path, site_id, photo_store=photo_store())
+        if kind == "pdf"
+        else data_export(db_path, site_id, kind)
+    )
     try:
-        job, how = record_jobs().start(
-            site_id,
-            user_id=g.user["id"],
-            make=site_record(current_app.config["DB_PATH"], site_id, photo_store=photo_store()),
-        )
+        job, how = record_jobs().start(site_id, user_id=g.user["id"], make=make, kind=kind)
     except TooManyRecords as refused:
-        return _progress_page(site_id, message=str(refused), status=429, retry_at=refused.retry_at)
+        return _progress_page(
+            site_id, kind, message=str(refused), status=429, retry_at=refused.retry_at
+        )
+    what = FILES[kind]["what"]
     if how == "joined":
-        flash("The site record is already being made; its progress is below.")
+        flash(f"The {what} is already being made; its progress is below.")
     elif how == "reused":
         flash(
-            f"Nothing on the site has changed since the site record made {_when(job.finished_at)}"
+            f"Nothing on the site has changed since the {what} made {_when(job.finished_at)}"
             "; it is ready below."
         )
-    return redirect(url_for("record.pdf_progress", site_id=site_id))
+    return redirect(url_for("record.progress", site_id=site_id, kind=kind))
 
 
-@page_rule(bp, "/sites/<site_id>/record/pdf")
+@page_rule(bp, f"/sites/<site_id>/record/{KIND_RULE}")
 @login_required
-def pdf_progress(site_id):
-    return _progress_page(site_id)
+def progress(site_id, kind):
+    return _progress_page(site_id, kind)
 
 
-def _progress_page(site_id, *, message=None, status=200, retry_at=None):
+def _progress_page(site_id, kind, *, message=None, status=200, retry_at=None):
     found, _role = site_for(site_id, "export")
     jobs = record_jobs()
     db = get_db()
-    job = _job_summary(db, jobs.latest(site_id))
-    made = _job_summary(db, jobs.latest_done(site_id))
+    job = _job_summary(db, jobs.latest(site_id, kind))
+    made = _job_summary(db, jobs.latest_done(site_id, kind))
     response = render_page(
-        "record/pdf.html",
+        "record/progress.html",
         status=status,
         site={"id": found["id"], "name": found["name"]},
+        kind=kind,
+        label=FILES[kind]["label"],
+        make_label=FILES[kind]["make_label"],
+        download_label=FILES[kind]["download_label"],
         job=job,
         made=made,
         message=message,
-        make=url_for("record.make_pdf", site_id=site_id),
+        make=url_for("record.make_file", site_id=site_id, kind=kind),
+        poll=url_for("record.progress_json", site_id=site_id, kind=kind),
         refresh_seconds=REFRESH_SECONDS if job and job["running"] else None,
     )
     if retry_at is not None:
@@ -197,25 +221,27 @@ def _progress_page(site_id, *, message=None, status=200, retry_at=None):
     return response
 
 
-@bp.get("/sites/<site_id>/record/pdf/file")
+@bp.get(f"/sites/<site_id>/record/{KIND_RULE}/file")
 @login_required
-def made_pdf(site_id):
-    """The newest site record made in the background; none yet, and the page says so."""
+def made_file(site_id, kind):
+    """The newest file of the kind made in the background; none yet, and the page says so."""
     found, _role = site_for(site_id, "export")
-    job = record_jobs().latest_done(site_id)
+    job = record_jobs().latest_done(site_id, kind)
     if job is None:
-        flash("No site record has been made here yet: make one first.")
-        return redirect(url_for("record.pdf_progress", site_id=site_id))
-    return _send_pdf(found, job)
+        flash(f"No {FILES[kind]['what']} has been made here yet: make one first.")
+        return redirect(url_for("record.progress", site_id=site_id, kind=kind))
+    return _send(found, job)
 
 
-def _send_pdf(found: dict, job) -> Response:
+def _send(found: dict, job) -> Response:
+    if job.kind not in FILES:
+        abort(404)
     made = datetime.fromisoformat((job.finished_at or job.created_at).replace("Z", "+00:00"))
     return send_file(
-        record_jobs().pdf_path(job),
-        mimetype="application/pdf",
+        record_jobs().file_path(job),
+        mimetype=FILES[job.kind]["mimetype"],
         as_attachment=True,
-        download_name=safe_filename(found["name"], "-site-record.pdf", made),
+        download_name=safe_filename(found["name"], FILES[job.kind]["suffix"], made),
         conditional=False,
     )
 
@@ -235,7 +261,7 @@ def _job_summary(db, job) -> dict | None:
         "status": _status(job),
         "created_text": _when(job.created_at),
         "finished_text": _when(job.finished_at),
-        "download": url_for("record.made_pdf", site_id=job.site_id)
+        "download": url_for("record.made_file", site_id=job.site_id, kind=job.kind)
         if job.state == "done"
         else None,
     }
@@ -244,35 +270,21 @@ def _job_summary(db, job) -> dict | None:
 def _status(job) -> str:
     """The progress in one sentence; the page and its script both show this one."""
     if job.state == "waiting":
-        return "Waiting for another site record to finish first…"
+        return f"Waiting for another {FILES[job.kind]['what']} to finish first…"
     if job.state != "making":
         return ""
     if not job.bearings:
         return "Reading the site…"
     if job.bearings_done >= job.bearings:
-        return f"All {job.bearings} bearings done; writing the audit trail and the file…"
+        rest = "the audit trail and the file" if job.kind == "pdf" else "the events and the file"
+        return f"All {job.bearings} bearings done; writing {rest}…"
     last = (
         f", last done {job.current}"
         if job.bearings_done and job.current not in ("", "cover", "summary")
         else ""
     )
-    return f"Making the site record: {job.bearings_done} of {job.bearings} bearings{last}."
-
-
-@bp.get("/sites/<site_id>/export.zip")
-@login_required
-def export_zip(site_id):
-    found, _role = site_for(site_id, "export")
-    data = export.csv_zip(collect(get_db(), site_id))
-    return _download(data, "application/zip", safe_filename(found["name"], "-data.zip"))
-
-
-@bp.get("/sites/<site_id>/export.json")
-@login_required
-def export_json(site_id):
-    found, _role = site_for(site_id, "export")
-    data = export.json_bytes(collect(get_db(), site_id))
-    return _download(data, "application/json", safe_filename(found["name"], "-data.json"))
+    what = "the site record" if job.kind == "pdf" else FILES[job.kind]["label"].lower()
+    return f"Making {what}: {job.bearings_done} of {job.bearings} bearings{last}."
 
 
 # --- the drawing, for other blueprints' pages ---------------------------------------------------

@@ -389,6 +389,7 @@ def _result(c, _role):
 
 _JOB = (
     "id",
+    "kind",
     "state",
     "running",
     "bearings_done",
@@ -414,17 +415,23 @@ def _record(c, role):
         "site": pick(c["site"], "id", "name", "address"),
         "role": role,
         "bearing_count": c["bearing_count"],
-        "pdf": c["pdf"],
-        "making": pick(c["making"], *_JOB),
-        "current": pick(c["current"], *_JOB),
-        "downloads": c["downloads"],
+        "files": [
+            {
+                **pick(f, "kind", "label", "hint", "make", "progress"),
+                "making": pick(f["making"], *_JOB),
+                "current": pick(f["current"], *_JOB),
+            }
+            for f in c["files"]
+        ],
     }
 
 
-@shape("record/pdf.html")
-def _record_pdf(c, _role):
+@shape("record/progress.html")
+def _record_progress(c, _role):
     return {
         "site": pick(c["site"], "id", "name"),
+        "kind": c["kind"],
+        "label": c["label"],
         "job": pick(c["job"], *_JOB),
         "made": pick(c["made"], *_JOB),
         "message": c["message"],
