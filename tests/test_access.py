@@ -25,6 +25,7 @@ ROUTES = {
     "pages.home_json": "login",
     "pages.api_csrf": "public",
     "pages.manifest": "public",
+    "health.healthz": "public",
     "auth.login": "public",
     "auth.logout": "public",
     "auth.change_password": "login",

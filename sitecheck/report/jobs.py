@@ -97,6 +97,7 @@ class RecordJobs:
         self._lock = threading.RLock()
         self._alive: set[str] = set()
         self._threads: dict[str, threading.Thread] = {}
+        self._site_of: dict[str, str] = {}
 
     # --- reading ----------------------------------------------------------------------------
 
@@ -156,6 +157,35 @@ class RecordJobs:
             "Nothing was kept; start it again.",
         )
 
+    def problem(self) -> str | None:
+        """For the health check: why this process's background making is not well, or None.
+
+        Unwell means the folder cannot be written, or a job this process is making has not
+        moved for ``stale_after_s`` (a waiting job says it is alive every 30 s, a making one
+        at least at every bearing).
+        """
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            with tempfile.NamedTemporaryFile(dir=self.folder, prefix=".health-"):
+                pass
+        except OSError as error:
+            return f"the site records folder cannot be written ({error.strerror or error})"
+        with self._lock:
+            alive = {job_id: t for job_id, t in self._threads.items() if job_id in self._alive}
+        for job_id, thread in alive.items():
+            if not thread.is_alive():
+                continue
+            for job in self.jobs(self._site_of[job_id]):
+                if job.id != job_id:
+                    continue
+                try:
+                    age = time.time() - datetime.fromisoformat(job.updated_at).timestamp()
+                except ValueError:
+                    age = float("inf")
+                if age > self.stale_after_s:
+                    return f"a site record has not moved for {age:.0f} s"
+        return None
+
     # --- making -----------------------------------------------------------------------------
 
     def start(self, site_id: str, *, user_id: int | None, make: Make) -> tuple[Job, bool]:
@@ -185,6 +215,7 @@ class RecordJobs:
             thread = threading.Thread(
                 target=self._run, args=(job, make), name=f"site-record-{job.id[:8]}", daemon=True
             )
+            self._site_of[job.id] = site_id
             self._threads[job.id] = thread
         thread.start()
         return job, True

@@ -1,0 +1,96 @@
+"""``sitecheck serve`` as it runs for real: gunicorn with several worker processes on one
+data folder. Whatever one worker decides (a log-in, a log-out, a refused password) every
+other worker must honour, because it lives in the database, not in a worker's memory."""
+
+from __future__ import annotations
+
+import pytest
+from served import PASSWORD, Person, Served, prepare_home
+
+pytestmark = pytest.mark.timeout(120)
+
+
+@pytest.fixture
+def home(tmp_path):
+    home = tmp_path / "data"
+    prepare_home(home)
+    return home
+
+
+@pytest.fixture
+def serve(home):
+    started: list[Served] = []
+
+    def start(**options) -> Served:
+        server = Served(home, **options)
+        started.append(server)
+        return server
+
+    yield start
+    for server in started:
+        server.stop()
+
+
+def _pids_serving(server: Served, path: str, status: int | None = None) -> set[int]:
+    return {
+        line["pid"]
+        for line in server.json_log()
+        if line.get("logger") == "sitecheck.request"
+        and line.get("path") == path
+        and (status is None or line.get("status") == status)
+    }
+
+
+def _until_two_workers_answer(person: Person, server: Served, path: str, status: int) -> None:
+    """Ask again until two different worker processes have answered ``path`` with
+    ``status`` (each request is a new connection; the workers take turns at random)."""
+    for _ in range(200):
+        assert person.get(path).status == status
+        if len(_pids_serving(server, path, status)) >= 2:
+            return
+    raise AssertionError(f"one worker answered every request for {path}")
+
+
+def test_serve_says_where_its_data_is_and_keeps_it_there(tmp_path, home, serve):
+    elsewhere = tmp_path / "started-here"
+    elsewhere.mkdir()
+    server = serve(workers=2, cwd=elsewhere)
+    printed = server.printed()
+    assert f"data folder {home}" in printed
+    assert f"database {home / 'sitecheck.db'}" in printed
+    assert "2 worker processes" in printed
+    assert "Caution" in printed
+    assert Person(server.url).get("/healthz").status == 200
+    assert (home / "secret_key").is_file()
+    assert list(elsewhere.iterdir()) == []  # nothing relative to where it was started
+
+
+def test_two_workers_share_log_ins_and_log_outs(home, serve):
+    server = serve(workers=2, env={"SITECHECK_LOG_JSON": "1"})
+    person = Person(server.url)
+    assert person.log_in("inspector0@example.test", PASSWORD).status == 302
+    _until_two_workers_answer(person, server, "/", 200)  # one log-in, honoured by both
+
+    # The cookie as it was before logging out, sent again later: both workers must refuse it.
+    replayed = Person(server.url)
+    for cookie in person.cookies:
+        replayed.cookies.set_cookie(cookie)
+    assert [c.name for c in replayed.cookies] == ["sitecheck"]
+    assert person.post_form("/logout", {}).status == 302
+    _until_two_workers_answer(replayed, server, "/", 302)
+    assert replayed.get("/").headers["Location"].startswith("/login")
+
+
+def test_two_workers_share_the_log_in_throttle(home, serve):
+    server = serve(workers=2, env={"SITECHECK_LOG_JSON": "1"})
+    guesser = Person(server.url)
+    for _ in range(5):
+        assert guesser.log_in("inspector0@example.test", "not the password").status == 401
+    # From here on every worker refuses, the right password included.
+    _until_two_workers_answer(guesser, server, "/login", 200)
+    for _ in range(200):
+        assert guesser.log_in("inspector0@example.test", PASSWORD).status == 429
+        if len(_pids_serving(server, "/login", 429)) >= 2:
+            break
+    else:
+        raise AssertionError("one worker answered every log-in")
