@@ -131,12 +131,16 @@ def replace_database(source: str | os.PathLike, target: str | os.PathLike) -> No
 
 
 def integrity_problems(path: str | os.PathLike) -> list[str]:
-    """What ``PRAGMA integrity_check`` and ``foreign_key_check`` find; empty when sound."""
-    with _read_only(path) as conn:
-        found = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall()]
-        problems = [] if found == ["ok"] else found
-        for table, rowid, parent, _fk in conn.execute("PRAGMA foreign_key_check").fetchall():
-            problems.append(f"{table} row {rowid} names a missing {parent} row")
+    """What ``PRAGMA integrity_check`` and ``foreign_key_check`` find; empty when sound.
+    A file too damaged to be read at all is one problem, said as SQLite says it."""
+    try:
+        with _read_only(path) as conn:
+            found = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall()]
+            problems = [] if found == ["ok"] else found
+            for table, rowid, parent, _fk in conn.execute("PRAGMA foreign_key_check"):
+                problems.append(f"{table} row {rowid} names a missing {parent} row")
+    except sqlite3.DatabaseError as error:
+        return [f"the file cannot be read as a database ({error})"]
     return problems
 
 
