@@ -59,7 +59,8 @@ def main(argv: list[str] | None = None) -> int:
     )
 
     first = sub.add_parser(
-        "create-engineer", help="create an engineer's account (there are no default accounts)"
+        "create-engineer",
+        help="create an account that may make sites (there are no default accounts)",
     )
     first.add_argument("email")
     first.add_argument("name")
@@ -95,6 +96,13 @@ def main(argv: list[str] | None = None) -> int:
         help="put the backup in place of a database already there (which is kept beside it)",
     )
     _home_options(restore)
+
+    makers = sub.add_parser(
+        "may-make-sites", help="let an existing account make sites, or take that away"
+    )
+    makers.add_argument("email")
+    makers.add_argument("--take-away", action="store_true", help="take the permission away")
+    _home_options(makers)
 
     demo = sub.add_parser("demo", help="build a fresh demo database (invented site) and serve it")
     demo.add_argument(
@@ -312,7 +320,11 @@ def _create_engineer(args) -> int:
     db = store.open_db(settings.database)
     try:
         user = store.create_user(
-            db, email=args.email, name=args.name, password_hash=auth.hash_password(password)
+            db,
+            email=args.email,
+            name=args.name,
+            password_hash=auth.hash_password(password),
+            may_make_sites=True,
         )
     except store.Conflict as e:
         print(f"sitecheck: {e}", file=sys.stderr)
@@ -432,11 +444,36 @@ def _restore(args) -> int:
     return 0
 
 
+def _may_make_sites(args) -> int:
+    from . import store
+
+    settings = _settings(args)
+    db = _open_existing(settings)
+    if db is None:
+        return 2
+    try:
+        user = store.get_user_by_email(db, args.email)
+        if user is None:
+            print(
+                f"sitecheck: no account for {args.email}; make one with "
+                "'sitecheck create-engineer', or invite them to a site first",
+                file=sys.stderr,
+            )
+            return 2
+        allowed = not args.take_away
+        store.set_may_make_sites(db, user_id=user["id"], allowed=allowed, by_user_id=None)
+    finally:
+        db.conn.close()
+    print(f"{user['email']} {'may' if allowed else 'may no longer'} make sites.")
+    return 0
+
+
 _OPERATIONS = {
     "serve": _serve,
     "demo": _demo,
     "record": _record,
     "create-engineer": _create_engineer,
+    "may-make-sites": _may_make_sites,
     "users": _users,
     "settings": _print_settings,
     "backup": _backup,

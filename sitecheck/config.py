@@ -52,7 +52,9 @@ def _optional_text(value: Any, where: str) -> str | None:
     return text or None
 
 
-def _whole(low: int, high: int) -> Callable[[Any, str], int]:
+def _whole(low: int, high: int, expected: str | None = None) -> Callable[[Any, str], int]:
+    expected = expected or f"a whole number from {low} to {high}"
+
     def parse(value: Any, where: str) -> int:
         number = value
         if isinstance(value, str):
@@ -61,7 +63,7 @@ def _whole(low: int, high: int) -> Callable[[Any, str], int]:
             except ValueError:
                 number = None
         if isinstance(number, bool) or not isinstance(number, int) or not low <= number <= high:
-            raise ConfigError(f"{where} is {value!r}; expected a whole number from {low} to {high}")
+            raise ConfigError(f"{where} is {value!r}; expected {expected}")
         return number
 
     return parse
@@ -157,6 +159,56 @@ SETTINGS: tuple[Setting, ...] = (
         "/healthz answers 503 when the photo store's disk has less free space than this, MB",
     ),
     Setting("max_request_mb", 40, _whole(1, 1024), "the largest request accepted, MB"),
+    Setting(
+        "trusted_proxies",
+        0,
+        _whole(
+            0,
+            10,
+            "the number of proxies in front of sitecheck that add X-Forwarded-For, 0 to 10 "
+            "(0 when browsers reach it directly, 1 behind one HTTPS proxy)",
+        ),
+        "proxies in front of sitecheck that add X-Forwarded-For (1 behind one HTTPS proxy)",
+    ),
+    Setting(
+        "smtp_host", None, _optional_text, "the mail server; none: no mail, links are handed over"
+    ),
+    Setting(
+        "smtp_port",
+        None,
+        _optional_text,
+        "the mail server's port: 587 (STARTTLS) if none, 465 for TLS",
+    ),
+    Setting("smtp_user", None, _optional_text, "the mail server's user (with smtp_password)"),
+    Setting("smtp_password", None, _optional_text, "the mail server's password", secret=True),
+    Setting(
+        "smtp_ca_file",
+        None,
+        _optional_text,
+        "a CA certificate file for a mail server with a private certificate",
+    ),
+    Setting(
+        "mail_from",
+        None,
+        _optional_text,
+        "the address messages come from, e.g. sitecheck@firm.example",
+    ),
+    Setting(
+        "base_url",
+        None,
+        _optional_text,
+        "the address people open sitecheck at; links in e-mails are built on it",
+    ),
+)
+# The mail settings, under the names sitecheck.mail reads them by.
+MAIL_SETTINGS = (
+    "smtp_host",
+    "smtp_port",
+    "smtp_user",
+    "smtp_password",
+    "smtp_ca_file",
+    "mail_from",
+    "base_url",
 )
 _BY_NAME = {s.name: s for s in SETTINGS}
 
@@ -179,12 +231,33 @@ class Settings:
     log_json: bool
     min_free_disk_mb: int
     max_request_mb: int
+    trusted_proxies: int
+    smtp_host: str | None
+    smtp_port: str | None
+    smtp_user: str | None
+    smtp_password: str | None
+    smtp_ca_file: str | None
+    mail_from: str | None
+    base_url: str | None
     # name -> where the value came from: "default", "SITECHECK_PORT", "sitecheck.toml", ...
     sources: Mapping[str, str] = field(default_factory=dict, compare=False)
 
     @property
     def config_file(self) -> Path:
         return self.home / CONFIG_FILE
+
+    def mail_environment(self) -> dict[str, str]:
+        """The mail settings as ``sitecheck.mail.MailSettings.from_env`` reads them; a CA
+        file named relative to the data folder is found there."""
+        found = {}
+        for name in MAIL_SETTINGS:
+            value = getattr(self, name)
+            if value is None:
+                continue
+            if name == "smtp_ca_file":
+                value = str(self.home / Path(value).expanduser())
+            found[_BY_NAME[name].env] = value
+        return found
 
     def worker_count(self) -> int:
         """``workers``, with 0 read as one per core."""

@@ -287,6 +287,97 @@ def m002_password_to_change(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m003_may_make_sites(db: sqlite_utils.Database) -> None:
+    """Making sites becomes a permission of an account. Accounts that already made a site
+    keep the right they used (an upgrade must not stop an office's engineers); anyone else
+    gets it from ``sitecheck create-engineer`` or from an account that has it."""
+    db.execute(
+        "ALTER TABLE users ADD COLUMN may_make_sites INTEGER NOT NULL DEFAULT 0 "
+        "CHECK (may_make_sites IN (0, 1))"
+    )
+    db.execute("UPDATE users SET may_make_sites = 1 WHERE id IN (SELECT created_by FROM sites)")
+
+
+@MIGRATIONS()
+def m004_outgoing_mail(db: sqlite_utils.Database) -> None:
+    """Messages waiting to be sent, kept in the database so that an action never waits on
+    a mail server and a message survives a restart. ``claimed_until`` lets one process at a
+    time try a message; ``body`` is emptied once the message is sent or given up, since it
+    may carry a single-use link."""
+    db.execute(
+        """
+        CREATE TABLE outgoing_mail (
+            id INTEGER PRIMARY KEY,
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            to_addr TEXT NOT NULL CHECK (to_addr LIKE '%_@_%'),
+            subject TEXT NOT NULL,
+            body TEXT NOT NULL,
+            created_at TEXT NOT NULL,
+            attempts INTEGER NOT NULL DEFAULT 0 CHECK (attempts >= 0),
+            next_try_at TEXT,
+            claimed_until TEXT,
+            last_error TEXT,
+            sent_at TEXT,
+            gave_up_at TEXT,
+            CHECK (sent_at IS NULL OR gave_up_at IS NULL)
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX outgoing_mail_due ON outgoing_mail(next_try_at)")
+
+
+@MIGRATIONS()
+def m005_invitations(db: sqlite_utils.Database) -> None:
+    """An invitation is an offer, waiting until the invited person accepts or declines it;
+    nothing of the site is theirs before. One pending offer per address and site."""
+    db.execute(
+        f"""
+        CREATE TABLE invitations (
+            id TEXT PRIMARY KEY,
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            email TEXT NOT NULL CHECK (email = lower(email) AND email LIKE '%_@_%'),
+            role TEXT NOT NULL CHECK (role IN {_in(ROLES)}),
+            invited_by INTEGER NOT NULL REFERENCES users(id),
+            created_at TEXT NOT NULL,
+            expires_at TEXT NOT NULL,
+            state TEXT NOT NULL DEFAULT 'pending'
+                CHECK (state IN ('pending', 'accepted', 'declined', 'withdrawn')),
+            answered_at TEXT,
+            answered_by INTEGER REFERENCES users(id),
+            mail_id INTEGER REFERENCES outgoing_mail(id),
+            CHECK ((state = 'pending') = (answered_at IS NULL))
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE UNIQUE INDEX invitations_one_pending ON invitations(site_id, email) "
+        "WHERE state = 'pending'"
+    )
+    db.execute("CREATE INDEX invitations_email ON invitations(email, state)")
+
+
+@MIGRATIONS()
+def m006_single_use_links(db: sqlite_utils.Database) -> None:
+    """Links that prove an e-mail address: used once, until they expire. Only the sha256 of
+    the link's token is kept, so the database alone opens nothing. ``purpose`` says what a
+    link is for (an invitation now; a password reset may use the same table)."""
+    db.execute(
+        """
+        CREATE TABLE single_use_links (
+            id INTEGER PRIMARY KEY,
+            token_hash TEXT NOT NULL UNIQUE CHECK (length(token_hash) = 64),
+            purpose TEXT NOT NULL CHECK (length(purpose) > 0),
+            email TEXT NOT NULL CHECK (email = lower(email) AND email LIKE '%_@_%'),
+            invitation_id TEXT REFERENCES invitations(id),
+            created_at TEXT NOT NULL,
+            expires_at TEXT NOT NULL,
+            used_at TEXT
+        ) STRICT
+        """
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

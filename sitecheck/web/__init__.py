@@ -13,11 +13,14 @@ import secrets
 import time
 from pathlib import Path
 
-from flask import Flask, g, request
+from flask import Flask, current_app, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
+from werkzeug.middleware.proxy_fix import ProxyFix
 
+from sitecheck import auth as accounts
 from sitecheck import logs, store
 from sitecheck.config import Settings, load_settings
+from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore
 from sitecheck.web import compress
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
@@ -30,6 +33,7 @@ CSP = (
     "connect-src 'self'; font-src 'self'; manifest-src 'self'; worker-src 'self'; "
     "object-src 'none'; base-uri 'none'; frame-ancestors 'none'; form-action 'self'"
 )
+HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
 def create_app(
@@ -72,14 +76,32 @@ def create_app(
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=settings.secure_cookies,
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
-        LOGIN_FAILURE_LIMIT=5,
-        LOGIN_FAILURE_WINDOW_S=900,
+        LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
+        LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
+        LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
+        TRUSTED_PROXIES=settings.trusted_proxies,
+        # MailSettings, or None for no mail (then invitation links are handed over).
+        MAIL=MailSettings.from_env(settings.mail_environment()),
+        # Deliver queued mail from a background thread of this process (the one process
+        # holding the sender's lease sends; see sitecheck.mail).
+        MAIL_SENDER=True,
         MIN_FREE_DISK_MB=settings.min_free_disk_mb,
     )
     app.config.update(config)
+    proxies = _trusted_proxies(app.config["TRUSTED_PROXIES"])
+    if proxies:
+        # Each trusted proxy adds the address it received from to X-Forwarded-For; only that
+        # many entries from the right are believed, so a client cannot choose its own address
+        # by sending the header itself. The host is not taken from the proxy: links in
+        # e-mails use SITECHECK_BASE_URL.
+        app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies)
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
     db.conn.close()
     app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    if app.config["MAIL"] is not None and app.config["MAIL_SENDER"]:
+        sender = MailSender(app.config["DB_PATH"], app.config["MAIL"])
+        app.extensions["mail_sender"] = sender
+        sender.start()
     csrf.init_app(app)
 
     from sitecheck.web import auth, health, pages, review, sites
@@ -161,6 +183,10 @@ def _security_headers(response):
     h.setdefault("Referrer-Policy", "same-origin")
     h.setdefault("X-Frame-Options", "DENY")
     h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
+    if current_app.config["SESSION_COOKIE_SECURE"]:
+        # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
+        # so a phone on a site's open Wi-Fi is not talked down to plain HTTP.
+        h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
     if request.path.startswith("/static/") or request.path in ("/sw.js", "/manifest.webmanifest"):
         return response
     # A view that deliberately marks its response private (content-addressed photos) keeps
@@ -168,6 +194,23 @@ def _security_headers(response):
     if getattr(g, "user", None) is not None and not response.cache_control.private:
         h["Cache-Control"] = "no-store"
     return response
+
+
+def _trusted_proxies(value) -> int:
+    """How many proxies in front of sitecheck add X-Forwarded-For (SITECHECK_TRUSTED_PROXIES)."""
+    if value is None or value == "":
+        return 0
+    try:
+        count = int(value)
+    except (TypeError, ValueError):
+        count = -1
+    if count < 0 or count > 10:
+        raise ValueError(
+            f"SITECHECK_TRUSTED_PROXIES is {value!r}: give the number of proxies in front of "
+            "sitecheck that add X-Forwarded-For (0 when browsers reach it directly, 1 behind "
+            "one HTTPS proxy)"
+        )
+    return count
 
 
 def _secret_key_in(key_file: Path) -> str:
