@@ -72,6 +72,7 @@ def main(argv: list[str] | None = None) -> int:
     for verb, meaning in (
         ("disable", "stop an account from logging in; its sessions end at once"),
         ("enable", "let a disabled account log in again"),
+        ("reset-password", "a single-use link to choose a new password (by e-mail if set up)"),
     ):
         one = users_sub.add_parser(verb, help=meaning)
         one.add_argument("email")
@@ -381,6 +382,8 @@ def _users(args) -> int:
                 file=sys.stderr,
             )
             return 2
+        if args.users_command == "reset-password":
+            return _reset_password(db, user, settings)
         disable = args.users_command == "disable"
         if bool(user["disabled"]) == disable:
             print(
@@ -393,6 +396,54 @@ def _users(args) -> int:
         else:
             print(f"{user['email']} may log in again")
         return 0
+    finally:
+        db.conn.close()
+
+
+def _reset_password(db, user: dict, settings: Settings) -> int:
+    from .invitations import utc_words
+    from .mail import MailSettings, MailSettingsError, send_due
+    from .resets import ResetRefused, start_reset
+
+    try:
+        mail = MailSettings.from_env(settings.mail_environment())
+    except MailSettingsError as error:
+        print(f"sitecheck: {error}", file=sys.stderr)
+        return 2
+    base_url = settings.base_url or f"http://{settings.host}:{settings.port}"
+    try:
+        started = start_reset(db, user=user, by_user_id=None, mail=mail, base_url=base_url)
+    except ResetRefused as error:
+        print(f"sitecheck: {error}", file=sys.stderr)
+        return 2
+    until = utc_words(started.expires_at)
+    if mail is None:
+        print(f"Mail is not set up, so give this link to {started.email} yourself; it is not")
+        print(f"shown again. It works once, until {until}; their password is never shown:")
+        print(f"  {started.handover_link}")
+        return 0
+    # Try it now rather than wait for the server's sender; a failure is retried by it.
+    send_due(str(settings.database), mail)
+    status = store_status(settings, started.mail_id)
+    if status and status["sent_at"]:
+        print(
+            f"A link to choose a new password went to {started.email}; it works once, until {until}."
+        )
+    else:
+        problem = status["last_error"] if status else "unknown"
+        print(
+            f"A link to choose a new password for {started.email} is queued; the mail server "
+            f"did not take it yet ({problem}), and the running server's sender tries again."
+        )
+    return 0
+
+
+def store_status(settings: Settings, mail_id: int) -> dict | None:
+    from . import store
+
+    db = store.open_db(settings.database)
+    try:
+        return store.mail_status(db, mail_id)
     finally:
         db.conn.close()
 

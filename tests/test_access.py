@@ -36,6 +36,9 @@ ROUTES = {
     "sites.new": "make-sites",
     "sites.site_makers": "make-sites",
     "sites.set_site_maker": "make-sites",
+    "people.people": "make-sites",
+    "people.act": "make-sites",
+    "people.new_password": "public",
     "sites.show": "view",
     "sites.show_json": "view",
     "sites.bearing": "view",
@@ -164,6 +167,7 @@ def world(app, db, site, people):
         "photo_uuid": stored.row["uuid"],
         "size": "thumb",
         "user_id": people["viewer"].id,
+        "action": "new-password",
         "filename": "app.css",
     }
 

@@ -29,6 +29,9 @@ from sitecheck.web import create_app
         ),
         ("/api/records", "token=s3cr3t", "/api/records?token=[hidden]"),
         ("/review/queue", "", None),
+        ("/new-password/abcdefghijKLMNOPqrstuvwxyz-abcdefghij", "", "/new-password/[hidden]"),
+        ("/people/12/new-password", "", None),
+        ("/manifest.webmanifest", "", None),
     ],
 )
 def test_a_logged_path_carries_no_secret(path, query, logged):

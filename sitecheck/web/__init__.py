@@ -104,10 +104,11 @@ def create_app(
         sender.start()
     csrf.init_app(app)
 
-    from sitecheck.web import auth, health, pages, review, sites
+    from sitecheck.web import auth, health, pages, people, review, sites
 
     app.register_blueprint(health.bp)
     app.register_blueprint(auth.bp)
+    app.register_blueprint(people.bp)
     app.register_blueprint(pages.bp)
     app.register_blueprint(sites.bp)
     app.register_blueprint(review.bp)
