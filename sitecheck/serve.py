@@ -38,8 +38,11 @@ def serve(settings: Settings, *, server: str = "auto") -> int:
 
     # Once here, before any worker starts: migrate the database, make the key, sweep what
     # a crash left; and fail at once, in the terminal, if the settings cannot be used.
-    app = create_app(settings=settings)
+    # No mail sender here: the workers (or waitress's app below) send; a thread in the
+    # process that forks the workers would be copied into none of them.
+    app = create_app(settings=settings, MAIL_SENDER=False)
     if server == "waitress":
+        app = create_app(settings=settings)
         from waitress import serve as waitress_serve
 
         waitress_serve(

@@ -16,6 +16,7 @@ import uuid
 from pathlib import Path
 
 import pytest
+
 from served import (
     PASSWORD,
     SITECHECK,
@@ -25,7 +26,6 @@ from served import (
     noisy_jpeg,
     prepare_home,
 )
-
 from sitecheck import cli, store
 from sitecheck.backup import BackupError, backup, check_backup, restore
 from sitecheck.config import load_settings

@@ -7,8 +7,8 @@ import json
 import threading
 
 import pytest
-from served import PASSWORD, Person, Served, prepare_home
 
+from served import PASSWORD, Person, Served, prepare_home
 from sitecheck import logs
 from sitecheck.config import load_settings
 from sitecheck.report.jobs import RecordJobs

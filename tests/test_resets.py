@@ -9,8 +9,8 @@ import re
 import subprocess
 
 import pytest
-from served import PASSWORD, SITECHECK, Person, Served, prepare_home
 
+from served import PASSWORD, SITECHECK, Person, Served, prepare_home
 from sitecheck import resets, store
 from smtp_local import LocalMailServer
 from webkit import csrf_token

@@ -4,8 +4,13 @@ other worker must honour, because it lives in the database, not in a worker's me
 
 from __future__ import annotations
 
+import sqlite3
+import time
+
 import pytest
+
 from served import PASSWORD, Person, Served, prepare_home
+from smtp_local import LocalMailServer
 
 pytestmark = pytest.mark.timeout(120)
 
@@ -94,3 +99,45 @@ def test_two_workers_share_the_log_in_throttle(home, serve):
             break
     else:
         raise AssertionError("one worker answered every log-in")
+
+
+def test_of_two_workers_one_sends_the_mail_and_each_message_goes_once(home, serve):
+    smtp = LocalMailServer().start()
+    try:
+        server = serve(
+            workers=2,
+            env={
+                "SITECHECK_LOG_JSON": "1",
+                "SITECHECK_SMTP_HOST": "127.0.0.1",
+                "SITECHECK_SMTP_PORT": str(smtp.port),
+                "SITECHECK_MAIL_FROM": "sitecheck@firm.example",
+                "SITECHECK_BASE_URL": "http://sitecheck.firm.example",
+            },
+        )
+        engineer = Person(server.url)
+        assert engineer.log_in("engineer@example.test", PASSWORD).status == 302
+        conn = sqlite3.connect(home / "sitecheck.db")
+        (site_id,) = conn.execute("SELECT id FROM sites").fetchone()
+        conn.close()
+        invited = [f"new{n}@example.test" for n in range(10)]
+        for email in invited:  # each a new connection: both workers queue
+            answer = engineer.post_form(
+                f"/sites/{site_id}/members/invite", {"email": email, "role": "viewer"}
+            )
+            assert answer.status == 302, answer.text[:300]
+        assert len(_pids_serving(server, f"/sites/{site_id}/members/invite", 302)) == 2
+        messages = smtp.inbox.wait_for(len(invited), timeout_s=60)
+        time.sleep(1.0)  # anything sent twice would arrive by now
+        assert sorted(m["To"] for m in smtp.inbox.messages) == sorted(invited)
+        senders = {
+            line["pid"]
+            for line in server.json_log()
+            if line.get("logger") == "sitecheck.mail" and line["message"].endswith(" sent")
+        }
+        assert len(senders) == 1 and len(messages) == len(invited)
+        conn = sqlite3.connect(home / "sitecheck.db")
+        (holder,) = conn.execute("SELECT holder FROM leases WHERE name = 'mail sender'").fetchone()
+        conn.close()
+        assert int(holder.split(":")[1]) == next(iter(senders))
+    finally:
+        smtp.stop()

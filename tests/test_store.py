@@ -194,6 +194,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m004_outgoing_mail",
         "m005_invitations",
         "m006_single_use_links",
+        "m007_leases",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -294,7 +295,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 6
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 7
     finally:
         db.close()
 
@@ -1114,3 +1115,29 @@ def test_latest_record_summaries_hold_the_record_that_sets_each_state(world):
     assert latest["passed"] is True and latest["older_revision"] is False
     assert "result" not in latest and "reasons" not in latest  # the heavy columns stay out
     assert second["id"] not in summaries
+
+
+def test_a_lease_is_one_holders_until_it_runs_out_or_is_given_up(db):
+    from datetime import timedelta
+
+    now = store.utc_now()
+    assert store.take_lease(db, name="mail sender", holder="a", lease_s=60, now=now)
+    assert not store.take_lease(db, name="mail sender", holder="b", lease_s=60, now=now)
+    later = now + timedelta(seconds=30)
+    assert store.take_lease(db, name="mail sender", holder="a", lease_s=60, now=later)  # renewed
+    held = store.lease_holder(db, name="mail sender", now=later)
+    assert held["holder"] == "a" and held["taken_at"] == store.timestamp(now)
+    # a's renewal holds it to later + 60 s; after that, b may take it.
+    assert not store.take_lease(
+        db, name="mail sender", holder="b", lease_s=60, now=now + timedelta(seconds=89)
+    )
+    assert store.take_lease(
+        db, name="mail sender", holder="b", lease_s=60, now=now + timedelta(seconds=91)
+    )
+    store.release_lease(db, name="mail sender", holder="a")  # not a's any more: nothing
+    assert (
+        store.lease_holder(db, name="mail sender", now=now + timedelta(seconds=92))["holder"] == "b"
+    )
+    store.release_lease(db, name="mail sender", holder="b")
+    assert store.lease_holder(db, name="mail sender") is None
+    assert store.take_lease(db, name="mail sender", holder="c", lease_s=60)

@@ -6,8 +6,8 @@ from __future__ import annotations
 import subprocess
 
 import pytest
-from served import PASSWORD, SITECHECK, Person, Served, prepare_home
 
+from served import PASSWORD, SITECHECK, Person, Served, prepare_home
 from sitecheck import cli, store
 
 pytestmark = pytest.mark.timeout(120)

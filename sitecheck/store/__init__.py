@@ -89,6 +89,7 @@ from sitecheck.store.invitations import (
     use_link,
     withdraw_invitation,
 )
+from sitecheck.store.leases import lease_holder, release_lease, take_lease
 from sitecheck.store.mail import (
     claim_due_mail,
     mail_failed,
@@ -129,6 +130,9 @@ from sitecheck.store.upkeep import (
 )
 
 __all__ = [
+    "lease_holder",
+    "release_lease",
+    "take_lease",
     "COUNTED_TABLES",
     "applied_migrations",
     "copy_database",
