@@ -160,6 +160,13 @@ SETTINGS: tuple[Setting, ...] = (
     ),
     Setting("max_request_mb", 40, _whole(1, 1024), "the largest request accepted, MB"),
     Setting(
+        "record_pdf_per_hour",
+        10,
+        _whole(1, 10_000),
+        "site records (PDF) one person may start in an hour (a finished one handed out again "
+        "is not counted)",
+    ),
+    Setting(
         "trusted_proxies",
         0,
         _whole(
@@ -231,6 +238,7 @@ class Settings:
     log_json: bool
     min_free_disk_mb: int
     max_request_mb: int
+    record_pdf_per_hour: int
     trusted_proxies: int
     smtp_host: str | None
     smtp_port: str | None

@@ -109,7 +109,7 @@ class _Gunicorn:
             def load(self):
                 from sitecheck.web import create_app
 
-                return create_app(settings=outer.settings)
+                return create_app(settings=outer.settings, SWEEP_AT_START=False)
 
         # gunicorn would read sys.argv as its own command line.
         argv, sys.argv = sys.argv, sys.argv[:1]

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import json
 import threading
+from pathlib import Path
 
 import pytest
 
@@ -154,16 +155,18 @@ def test_healthz_says_when_the_database_is_gone_or_not_migrated(tmp_path):
     assert not (tmp_path / "sitecheck.db").exists()  # the check made no empty database
 
 
-def test_healthz_says_when_a_site_record_has_stopped_moving(tmp_path):
-    app = create_app(settings=load_settings(home=tmp_path, environ={}))
-    jobs = app.extensions["record_jobs"] = RecordJobs(tmp_path / "records", stale_after_s=0.2)
+def test_healthz_says_when_a_site_record_has_stopped_moving(app, site):
+    jobs = app.extensions["record_jobs"] = RecordJobs(
+        Path(app.config["RECORD_DIR"]), app.config["DB_PATH"], stale_after_s=0.2
+    )
     release = threading.Event()
 
     def stuck(out, progress):
         progress(0, 10, "")
         release.wait(10)
 
-    job, _ = jobs.start("site-1", user_id=None, make=stuck)
+    job, how = jobs.start(site["id"], user_id=None, make=stuck)
+    assert how == "started"
     try:
         for _ in range(100):
             answer = app.test_client().get("/healthz")

@@ -18,11 +18,11 @@ from flask_wtf.csrf import CSRFError, CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
 from sitecheck import auth as accounts
-from sitecheck import logs, store
+from sitecheck import logs, services, store
 from sitecheck.config import Settings, load_settings
 from sitecheck.mail import MailSender, MailSettings
-from sitecheck.photos import PhotoStore
-from sitecheck.web import compress
+from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
+from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
 csrf = CSRFProtect()
@@ -76,6 +76,9 @@ def create_app(
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=settings.secure_cookies,
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
+        # Site records (PDF) one person may start in an hour; handing out a finished one
+        # of an unchanged site, or joining one being made, is not counted.
+        RECORD_PDF_PER_HOUR=settings.record_pdf_per_hour,
         LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
         LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
         LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
@@ -86,6 +89,7 @@ def create_app(
         # holding the sender's lease sends; see sitecheck.mail).
         MAIL_SENDER=True,
         MIN_FREE_DISK_MB=settings.min_free_disk_mb,
+        SWEEP_AT_START=True,
     )
     app.config.update(config)
     proxies = _trusted_proxies(app.config["TRUSTED_PROXIES"])
@@ -95,13 +99,26 @@ def create_app(
         # by sending the header itself. The host is not taken from the proxy: links in
         # e-mails use SITECHECK_BASE_URL.
         app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies)
+    return_picture_memory_to_the_system()  # a server decodes pictures all day
+    photos = app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
-    db.conn.close()
-    app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    try:
+        # What a crash mid-upload left behind: temporary files, pictures no row names.
+        # Under `sitecheck serve` the process that starts the workers does it once for all.
+        swept = services.sweep_photo_files(db, photos) if app.config["SWEEP_AT_START"] else None
+    finally:
+        db.conn.close()
+    if swept and (swept.temporary_files or swept.orphan_files):
+        app.logger.warning(
+            "photo store: removed %d temporary and %d unnamed files left by a crash",
+            swept.temporary_files,
+            swept.orphan_files,
+        )
     if app.config["MAIL"] is not None and app.config["MAIL_SENDER"]:
         sender = MailSender(app.config["DB_PATH"], app.config["MAIL"])
         app.extensions["mail_sender"] = sender
         sender.start()
+    jsonbody.install(app)
     csrf.init_app(app)
 
     from sitecheck.web import auth, health, pages, people, review, sites
