@@ -105,6 +105,19 @@ def main(argv: list[str] | None = None) -> int:
     makers.add_argument("--take-away", action="store_true", help="take the permission away")
     _home_options(makers)
 
+    upkeep = sub.add_parser(
+        "maintain",
+        help="check every photo against its hash, remove old temporary and unnamed files, "
+        "prune old log-in attempts (safe from cron while serving)",
+    )
+    upkeep.add_argument(
+        "--older-than-hours",
+        type=float,
+        default=24.0,
+        help="remove temporary and unnamed files only when older than this (24)",
+    )
+    _home_options(upkeep)
+
     demo = sub.add_parser("demo", help="build a fresh demo database (invented site) and serve it")
     demo.add_argument(
         "--home",
@@ -519,6 +532,36 @@ def _may_make_sites(args) -> int:
     return 0
 
 
+def _maintain(args) -> int:
+    from .maintain import AlreadyRunning, maintain
+
+    settings = _settings(args)
+    if args.older_than_hours < 1:
+        print(
+            "sitecheck: --older-than-hours must be 1 or more: a younger file may be one an "
+            "upload is writing now",
+            file=sys.stderr,
+        )
+        return 2
+    try:
+        done = maintain(settings, older_than_s=args.older_than_hours * 3600)
+    except AlreadyRunning as error:
+        print(f"sitecheck: {error}", file=sys.stderr)
+        return 3
+    except FileNotFoundError as error:
+        print(f"sitecheck: {error}", file=sys.stderr)
+        return 2
+    sound = "all sound" if not done.damaged else f"{len(done.damaged)} MISSING OR CHANGED"
+    print(f"sitecheck maintain in {settings.home} ({done.seconds:.1f} s):")
+    print(f"  photo files checked against their hashes: {done.photos_checked}, {sound}")
+    print(f"  temporary files removed: {done.temporary_files_removed}")
+    print(f"  photo files no record names, removed: {done.unnamed_files_removed}")
+    print(f"  old log-in attempts removed: {done.login_attempts_removed}")
+    for line in done.damaged:
+        print(f"sitecheck: {line}; restore it from a backup", file=sys.stderr)
+    return 1 if done.damaged else 0
+
+
 _OPERATIONS = {
     "serve": _serve,
     "demo": _demo,
@@ -529,6 +572,7 @@ _OPERATIONS = {
     "settings": _print_settings,
     "backup": _backup,
     "restore": _restore,
+    "maintain": _maintain,
 }
 
 

@@ -154,3 +154,13 @@ def test_of_two_workers_one_sends_the_mail_and_each_message_goes_once(home, serv
         assert int(holder.split(":")[1]) == next(iter(senders))
     finally:
         smtp.stop()
+
+
+def test_waitress_serves_from_one_process_where_asked(home, serve):
+    server = serve(args=("--server", "waitress"), env={"SITECHECK_LOG_JSON": "1"})
+    person = Person(server.url)
+    assert person.log_in("inspector0@example.test", PASSWORD).status == 302
+    assert person.get("/").status == 200
+    assert "one process, 4 threads (waitress)" in server.printed()
+    pids = {line["pid"] for line in server.json_log() if line.get("logger") == "sitecheck.request"}
+    assert pids == {server.process.pid}
