@@ -4,6 +4,7 @@ other worker must honour, because it lives in the database, not in a worker's me
 
 from __future__ import annotations
 
+import json
 import sqlite3
 import threading
 import time
@@ -164,3 +165,41 @@ def test_waitress_serves_from_one_process_where_asked(home, serve):
     assert "one process, 4 threads (waitress)" in server.printed()
     pids = {line["pid"] for line in server.json_log() if line.get("logger") == "sitecheck.request"}
     assert pids == {server.process.pid}
+
+
+def test_two_workers_asked_at_once_make_one_site_record(home, serve):
+    server = serve(workers=2, env={"SITECHECK_LOG_JSON": "1"})
+    engineer = Person(server.url)
+    assert engineer.log_in("engineer@example.test", PASSWORD).status == 302
+    conn = sqlite3.connect(home / "sitecheck.db")
+    (site_id,) = conn.execute("SELECT id FROM sites").fetchone()
+    conn.close()
+    path = f"/sites/{site_id}/record/pdf"
+    token = engineer.token()
+    answers: list[int] = []
+
+    def ask(answers=answers) -> None:
+        answers.append(engineer.post_form(path, {}, token=token).status)
+
+    for _round in range(3):  # again if one worker happened to take every request
+        askers = [threading.Thread(target=ask) for _ in range(8)]
+        for t in askers:
+            t.start()
+        for t in askers:
+            t.join(60)
+        if len(_pids_serving(server, path, 302)) == 2:
+            break
+    assert set(answers) == {302}
+    assert len(_pids_serving(server, path, 302)) == 2
+    deadline = time.monotonic() + 90
+    while time.monotonic() < deadline:
+        job = json.loads(engineer.get(path + ".json").body)["job"]
+        if job and not job["running"]:
+            break
+        time.sleep(0.3)
+    assert job["state"] == "done", job
+    conn = sqlite3.connect(home / "sitecheck.db")
+    made = conn.execute("SELECT count(*) FROM record_jobs WHERE site_id = ?", [site_id]).fetchone()
+    conn.close()
+    assert made == (1,)  # every other ask joined it, or was handed the finished record
+    assert engineer.get(path + "/file").body.startswith(b"%PDF")
