@@ -419,6 +419,7 @@ def restore(
     store.replace_database(folder / manifest["database"]["file"], target)
     db = store.open_db(target)  # back to WAL; a backup from an older sitecheck is migrated
     try:
+        store.clear_leases(db)  # held by processes of the server the backup was taken from
         applied_now = store.applied_migrations(target)
     finally:
         db.conn.close()

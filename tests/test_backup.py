@@ -113,13 +113,16 @@ def test_a_backup_holds_everything_and_a_second_copies_only_what_is_new(filled, 
     assert check_backup(dest)["database"]["counts"]["as_built_records"] == 3
 
 
-def test_restore_into_a_new_folder_gives_back_the_same_data(filled, elsewhere):
+def test_restore_into_a_new_folder_gives_back_the_same_data(filled, elsewhere, db):
     dest = elsewhere / "backup"
+    # The nightly upkeep runs while the backup is taken: its lease must not come back with it.
+    assert store.take_lease(db, name="maintenance", holder="old-server:1", lease_s=3600)
     backup(filled["settings"], dest)
     new_home = elsewhere / "restored"
     report = restore(dest, _settings(new_home))
     assert report.counts["as_built_records"] == 2 and report.replaced is None
     assert store.integrity_problems(new_home / "sitecheck.db") == []
+    assert report.counts["leases"] == 0
     assert (new_home / "secret_key").read_bytes() == (filled["home"] / "secret_key").read_bytes()
     db = store.open_db(new_home / "sitecheck.db")
     try:

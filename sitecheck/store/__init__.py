@@ -95,7 +95,7 @@ from sitecheck.store.invitations import (
     use_link,
     withdraw_invitation,
 )
-from sitecheck.store.leases import lease_holder, release_lease, take_lease
+from sitecheck.store.leases import clear_leases, lease_holder, release_lease, take_lease
 from sitecheck.store.mail import (
     claim_due_mail,
     mail_failed,
@@ -132,7 +132,6 @@ from sitecheck.store.sites import (
     update_site_settings,
 )
 from sitecheck.store.upkeep import (
-    COUNTED_TABLES,
     applied_migrations,
     copy_database,
     database_problem,
@@ -144,10 +143,10 @@ from sitecheck.store.upkeep import (
 )
 
 __all__ = [
+    "clear_leases",
     "lease_holder",
     "release_lease",
     "take_lease",
-    "COUNTED_TABLES",
     "applied_migrations",
     "copy_database",
     "database_problem",

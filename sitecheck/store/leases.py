@@ -58,3 +58,10 @@ def lease_holder(
         "SELECT holder, taken_at, until FROM leases WHERE name = ? AND until > ?",
         [name, timestamp(now or utc_now())],
     )
+
+
+def clear_leases(db: sqlite_utils.Database) -> int:
+    """Drop every lease: for a database just restored, whose holders were processes of
+    another server (a nightly upkeep held while the backup was taken would block the next
+    one for an hour)."""
+    return db.execute("DELETE FROM leases").rowcount

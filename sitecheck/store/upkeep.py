@@ -26,21 +26,6 @@ __all__ = [
     "row_counts",
 ]
 
-# The tables whose row counts a backup's manifest carries and a restore compares.
-COUNTED_TABLES = (
-    "users",
-    "sites",
-    "memberships",
-    "bearings",
-    "bearing_revisions",
-    "as_built_records",
-    "photos",
-    "decisions",
-    "releases",
-    "reopenings",
-    "events",
-)
-
 
 @contextlib.contextmanager
 def _read_only(path: str | os.PathLike):
@@ -145,13 +130,21 @@ def integrity_problems(path: str | os.PathLike) -> list[str]:
 
 
 def row_counts(path: str | os.PathLike) -> dict[str, int]:
-    """Rows in each of the tables that hold what people recorded."""
+    """Rows in every table of the database (SQLite's own tables aside)."""
     with _read_only(path) as conn:
-        present = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
+        tables = [
+            r[0]
+            for r in conn.execute(
+                "SELECT name FROM sqlite_master WHERE type = 'table' "
+                "AND name NOT LIKE 'sqlite_%' ORDER BY name"
+            )
+        ]
+        # Names from sqlite_master itself, quoted: no outside text reaches this statement.
         return {
-            t: conn.execute(f"SELECT count(*) FROM {t}").fetchone()[0]  # noqa: S608 - fixed names
-            for t in COUNTED_TABLES
-            if t in present
+            t: conn.execute(f'SELECT count(*) FROM "{t.replace(chr(34), chr(34) * 2)}"').fetchone()[
+                0
+            ]
+            for t in tables
         }
 
 
