@@ -66,7 +66,9 @@ def main(argv: list[str] | None = None) -> int:
     first.add_argument("name")
     _home_options(first)
 
-    users = sub.add_parser("users", help="list accounts, disable or enable one")
+    users = sub.add_parser(
+        "users", help="list accounts; disable, enable or reset the password of one"
+    )
     users_sub = users.add_subparsers(dest="users_command", required=True)
     _home_options(users_sub.add_parser("list", help="every account, with its state"))
     for verb, meaning in (

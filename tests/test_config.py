@@ -117,3 +117,14 @@ def test_every_setting_is_in_the_readme_with_its_default():
         assert row, f"README lacks the row of setting {s.name} ({s.env})"
         assert default in row.group(1).lower(), f"README's default of {s.name} is not {default!r}"
     assert "`SITECHECK_HOME`" in text
+
+
+def test_every_command_is_documented():
+    shown = subprocess.run([SITECHECK, "--help"], capture_output=True, text=True, check=True)
+    commands = re.search(r"\{([a-z,-]+)\}", shown.stdout).group(1).split(",")
+    assert "backup" in commands and "maintain" in commands
+    docs = README.read_text(encoding="utf-8") + (README.parent / "DEVELOPERS.md").read_text(
+        encoding="utf-8"
+    )
+    missing = [name for name in commands if f"sitecheck {name}" not in docs]
+    assert missing == [], f"commands not in README.md or DEVELOPERS.md: {missing}"
