@@ -107,8 +107,11 @@ class _Gunicorn:
                         self.cfg.set(key, value)
 
             def load(self):
+                from sitecheck.photos.ingest import share_cores_with
                 from sitecheck.web import create_app
 
+                # Each worker takes its share of the cores for pictures: one per core in all.
+                share_cores_with(outer.settings.worker_count())
                 return create_app(settings=outer.settings, SWEEP_AT_START=False)
 
         # gunicorn would read sys.argv as its own command line.

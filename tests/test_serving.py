@@ -203,3 +203,14 @@ def test_two_workers_asked_at_once_make_one_site_record(home, serve):
     conn.close()
     assert made == (1,)  # every other ask joined it, or was handed the finished record
     assert engineer.get(path + "/file").body.startswith(b"%PDF")
+
+
+def test_each_worker_takes_its_share_of_the_cores_for_pictures(monkeypatch):
+    from sitecheck.photos import ingest
+
+    monkeypatch.setattr(ingest, "_SLOTS", ingest._SLOTS)  # put back after the test
+    monkeypatch.setattr(ingest, "_cores", lambda: 4)
+    assert ingest.share_cores_with(2) == 2
+    assert (ingest._SLOTS.slots, ingest._SLOTS.waiting_limit) == (2, 4)
+    assert ingest.share_cores_with(8) == 1  # never none
+    assert ingest.share_cores_with(1) == 4

@@ -170,6 +170,16 @@ WAIT_FOR_SLOT_S = 20.0
 _SLOTS = _Slots(_cores(), waiting=2 * _cores())
 
 
+def share_cores_with(processes: int) -> int:
+    """Take this process's share of the cores when ``processes`` server processes run on one
+    machine (``sitecheck serve``'s workers), so that the machine as a whole still works on one
+    picture per core; returns the slots this process now has (at least one)."""
+    global _SLOTS
+    share = max(1, _cores() // max(1, processes))
+    _SLOTS = _Slots(share, waiting=2 * share)
+    return share
+
+
 def processing_slot(wait_s: float | None = WAIT_FOR_SLOT_S):
     """Hold one of the process's picture slots while decoding or resizing a picture.
 
