@@ -34,8 +34,9 @@ def test_values_sent_under_an_id_already_stored_stay_on_the_refused_list(
             "SELECT id, revision FROM bearings WHERE site_id = ? AND reference = 'EX-B9'",
             [site_id],
         ).fetchone()
+    # Hold the outbox back before the signal returns: coming online starts a send at once.
+    context.route("**/api/records", lambda route: route.abort())
     context.set_offline(False)
-    context.route("**/api/records", lambda route: route.abort())  # hold the outbox back
     token = page.request.get("/api/csrf").json()["token"]
     first = page.request.post(
         "/api/records",
