@@ -233,6 +233,10 @@ class MailSender:
             self._thread = threading.Thread(target=self._run, name="sitecheck-mail", daemon=True)
             self._thread.start()
 
+    def alive(self) -> bool:
+        """Whether its thread runs (for the health check)."""
+        return self._thread is not None and self._thread.is_alive()
+
     def wake(self) -> None:
         """Something was queued: look now rather than at the next idle look."""
         self._wake.set()

@@ -179,3 +179,19 @@ def test_healthz_says_when_a_site_record_has_stopped_moving(app, site):
         release.set()
         jobs.wait(job.id, 10)
     assert app.test_client().get("/healthz").status_code == 200
+
+
+def test_healthz_says_when_the_mail_sender_has_stopped(tmp_path):
+    from sitecheck.mail import MailSettings
+
+    mail = MailSettings(
+        host="127.0.0.1", port=9, sender="sitecheck@firm.example", base_url="http://x.example"
+    )
+    app = create_app(tmp_path / "mail.db", MAIL=mail)
+    try:
+        assert app.test_client().get("/healthz").status_code == 200
+    finally:
+        app.extensions["mail_sender"].stop()
+    answer = app.test_client().get("/healthz")
+    assert answer.status_code == 503
+    assert answer.get_json()["checks"]["jobs"] == "the mail sender of this process has stopped"

@@ -41,7 +41,11 @@ def _disk() -> str | None:
 
 def _jobs() -> str | None:
     jobs = current_app.extensions.get("record_jobs")
-    return jobs.problem() if jobs is not None else None
+    problem = jobs.problem() if jobs is not None else None
+    sender = current_app.extensions.get("mail_sender")
+    if problem is None and sender is not None and not sender.alive():
+        problem = "the mail sender of this process has stopped"
+    return problem
 
 
 CHECKS = (("database", _database), ("disk", _disk), ("jobs", _jobs))
