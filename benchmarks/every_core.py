@@ -13,7 +13,9 @@ Then the same load against a trivial Flask app (every route answers "ok" after r
 request) served by gunicorn the same way: what the server and this load generator cost
 before sitecheck does any work.
 
-Printed per configuration: requests/s, records/s, errors, p50/p95 per route (ms), the CPU
+Printed per configuration: requests/s done, records/s and photos stored/s, the 503s (the
+server's "send it again later" when photos queue, which the phone's outbox obeys), errors,
+p50/p95 per route (ms) of the answers that did the work, the CPU
 the server and the load generator used, and the machine's load average (on a shared machine
 other programs take cores too: read the figures with it); then the ratio of 2 workers to 1.
 Loopback only; it asserts nothing.
@@ -213,16 +215,23 @@ def baseline_server(workers: int, threads: int, log: Path) -> Server:
 
 @dataclass
 class Tally:
+    """Times of the answers that did the work; a 503 (the server asks the phone to send it
+    again later, as its outbox does) is counted apart, and anything else is an error."""
+
     times: dict[str, list[float]] = field(default_factory=lambda: {r: [] for r in ROUTES})
+    later: dict[str, int] = field(default_factory=lambda: dict.fromkeys(ROUTES, 0))
     errors: dict[str, int] = field(default_factory=dict)
-    records: int = 0
     lock: threading.Lock = field(default_factory=threading.Lock)
 
-    def add(self, route: str, seconds: float, ok: bool, what: str = "") -> None:
+    def add(self, route: str, seconds: float, status: int | None, what: str = "") -> None:
         with self.lock:
-            self.times[route].append(seconds)
-            if not ok:
-                self.errors[f"{route}: {what}"] = self.errors.get(f"{route}: {what}", 0) + 1
+            if status is not None and status < 400:
+                self.times[route].append(seconds)
+            elif status == 503:
+                self.later[route] += 1
+            else:
+                key = f"{route}: {what}"
+                self.errors[key] = self.errors.get(key, 0) + 1
 
 
 class Inspector:
@@ -347,15 +356,12 @@ def run_load(server, site_id, bearings, emails, pictures, seconds) -> tuple[Tall
                 began = time.monotonic()
                 try:
                     status, _ = me.call(method, path, data, headers)
-                    ok, what = status < 400, str(status)
+                    what = str(status)
                 except OSError as error:
-                    ok, what = False, type(error).__name__
+                    status, what = None, type(error).__name__
                 ended = time.monotonic()
                 if began >= measure_from and ended <= stop_at:
-                    tally.add(route, ended - began, ok, what)
-                    if route == "record" and ok:
-                        with tally.lock:
-                            tally.records += 1
+                    tally.add(route, ended - began, status, what)
             i += 1
 
     threads = [threading.Thread(target=work, args=(n,)) for n in range(len(emails))]
@@ -384,12 +390,14 @@ def percentile(values: list[float], q: float) -> float:
 
 
 def report(name: str, tally: Tally, seconds: float, cpu: dict) -> float:
-    total = sum(len(v) for v in tally.times.values())
-    rate = total / seconds
+    done = sum(len(v) for v in tally.times.values())
+    later = sum(tally.later.values())
+    rate = done / seconds
     print(f"\n{name}")
     print(
-        f"  {rate:7.1f} requests/s   {tally.records / seconds:6.1f} records with a photo/s   "
-        f"errors {sum(tally.errors.values())}"
+        f"  {rate:7.1f} requests/s done   {len(tally.times['record']) / seconds:5.1f} records/s   "
+        f"{len(tally.times['photo']) / seconds:5.1f} photos stored/s   "
+        f"{later / seconds:5.1f}/s asked to send again (503)   errors {sum(tally.errors.values())}"
     )
     print(
         f"  CPU: server {cpu['server'] / seconds:.2f} cores, load generator "
@@ -400,9 +408,10 @@ def report(name: str, tally: Tally, seconds: float, cpu: dict) -> float:
         times = tally.times[route]
         if times:
             print(
-                f"  {route:12} {len(times):6d} requests   p50 {percentile(times, 0.5) * 1000:7.1f} ms"
+                f"  {route:12} {len(times):6d} done   p50 {percentile(times, 0.5) * 1000:7.1f} ms"
                 f"   p95 {percentile(times, 0.95) * 1000:7.1f} ms"
                 f"   mean {statistics.fmean(times) * 1000:7.1f} ms"
+                + (f"   503: {tally.later[route]}" if tally.later[route] else "")
             )
     for what, count in sorted(tally.errors.items()):
         print(f"  error {what}: {count}")
