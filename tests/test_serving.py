@@ -211,6 +211,6 @@ def test_each_worker_takes_its_share_of_the_cores_for_pictures(monkeypatch):
     monkeypatch.setattr(ingest, "_SLOTS", ingest._SLOTS)  # put back after the test
     monkeypatch.setattr(ingest, "_cores", lambda: 4)
     assert ingest.share_cores_with(2) == 2
-    assert (ingest._SLOTS.slots, ingest._SLOTS.waiting_limit) == (2, 4)
+    assert (ingest._SLOTS.slots, ingest._SLOTS.waiting_limit) == (2, 8)
     assert ingest.share_cores_with(8) == 1  # never none
     assert ingest.share_cores_with(1) == 4
