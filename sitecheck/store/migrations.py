@@ -500,6 +500,22 @@ def m010_could_not_measure(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m011_leases(db: sqlite_utils.Database) -> None:
+    """Work that one process of several must do alone (sending the mail queue): whoever
+    holds a named lease until a time does it; a holder that dies lets it run out."""
+    db.execute(
+        """
+        CREATE TABLE leases (
+            name TEXT PRIMARY KEY CHECK (length(name) > 0),
+            holder TEXT NOT NULL CHECK (length(holder) > 0),
+            taken_at TEXT NOT NULL,
+            until TEXT NOT NULL
+        ) STRICT
+        """
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 
@@ -527,7 +543,7 @@ RECORD_KINDS = ("pdf", "csv", "json")
 
 
 @MIGRATIONS()
-def m011_record_job_kinds(db: sqlite_utils.Database) -> None:
+def m012_record_job_kinds(db: sqlite_utils.Database) -> None:
     """The data exports (CSV in a zip, JSON) are made in the background like the PDF, as jobs
     of their own kind: one making of each kind at a time per site, each reused while the
     site has not changed. Jobs made before are PDFs."""
