@@ -127,6 +127,38 @@ def make_camera_like_jpeg(
     return buffer.getvalue()
 
 
+def make_wall_photo(width: int, height: int, *, seed: int = 3, quality: int = 85) -> bytes:
+    """An invented photo of a block wall as the phone sends it: blocks of uneven shade with
+    pits, mortar joints, light falling off across the picture, a lens's softness and a
+    little sensor noise. Edges, texture and noise, so that how a picture is shrunk shows."""
+    import random
+
+    from PIL import ImageDraw, ImageFilter
+
+    rng = random.Random(seed)
+    wall = Image.new("RGB", (width, height), (92, 88, 84))
+    draw = ImageDraw.Draw(wall)
+    course, block = max(8, height // 10), max(16, width // 8)
+    for row, y in enumerate(range(0, height, course + 3)):
+        shift = block // 2 if row % 2 else 0
+        for x in range(-shift, width, block + 3):
+            shade = rng.randint(-28, 28)
+            base = (168 + shade, 160 + shade, 150 + shade)
+            draw.rectangle((x, y, x + block, y + course), fill=base)
+            for _ in range(12):
+                px, py, r = x + rng.randint(0, block), y + rng.randint(0, course), rng.randint(1, 6)
+                tone = rng.randint(-40, 20)
+                draw.ellipse((px - r, py - r, px + r, py + r), fill=tuple(c + tone for c in base))
+    light = (
+        Image.linear_gradient("L").rotate(90).resize((width, height)).point(lambda v: 255 - v // 3)
+    )
+    wall = ImageChops.multiply(wall, Image.merge("RGB", (light, light, light)))
+    wall = wall.filter(ImageFilter.GaussianBlur(0.8))
+    noise = Image.merge("RGB", [Image.effect_noise((width, height), 6 + c) for c in range(3)])
+    wall = ImageChops.add(wall, noise, scale=1.0, offset=-128)
+    return encode(wall, "JPEG", quality=quality)
+
+
 def encode(image: Image.Image, format: str, **options) -> bytes:
     buffer = io.BytesIO()
     image.save(buffer, format, **options)

@@ -17,18 +17,23 @@ DEFAULT_JPEG_QUALITY = 82
 
 
 def encode_jpeg(image: Image.Image, *, quality: int = DEFAULT_JPEG_QUALITY) -> bytes:
-    """JPEG bytes of the pixels only.
+    """JPEG bytes of the pixels only: baseline, with Huffman tables made for the picture.
 
     Pillow copies `info` from image to image and its JPEG writer falls back to
     `info["comment"]`, so a comment from the upload would survive a plain save. We encode a
     shallow copy with an empty `info` and pass no exif=, icc_profile= or comment=.
+
+    Measured on a phone photo (benchmarks/photo_ingest.py): tables made for the picture
+    (optimize) save 5-6 % of every size for about twice a plain encode's CPU, a few ms at
+    1600 px; a progressive encode saves 2.5 % more at 1600 px and next to nothing at 448
+    and 320, for two to five times a plain encode's CPU, so it is not used.
     """
     if image.mode != "RGB":
         raise ValueError(f"encode_jpeg expects an RGB image; got mode {image.mode!r}.")
     clean = image.copy()
     clean.info = {}
     buffer = io.BytesIO()
-    clean.save(buffer, format="JPEG", quality=quality, optimize=True, progressive=True)
+    clean.save(buffer, format="JPEG", quality=quality, optimize=True)
     return buffer.getvalue()
 
 
