@@ -503,7 +503,7 @@ class Texts:
         self._numbers: dict[tuple[str, str], int] = {}
 
     def number(self, table: str, words: dict | str) -> int:
-        key = (table, json.dumps(words, sort_keys=True, ensure_ascii=False))
+        key = (table, _key(words))
         found = self._numbers.get(key)
         if found is None:
             rows = self.tables[table]
@@ -513,6 +513,14 @@ class Texts:
 
     def as_dict(self) -> dict:
         return self.tables
+
+
+def _key(words: dict | str):
+    """Words as a dict key; the squeezes build their dicts in one key order, and a step's
+    input names are its only list."""
+    if isinstance(words, str):
+        return words
+    return tuple((k, tuple(map(tuple, v)) if k == "inputs" else v) for k, v in words.items())
 
 
 def _plain_inputs(inputs) -> bool:
