@@ -19,7 +19,6 @@ from itertools import islice
 from pathlib import Path
 from typing import BinaryIO
 
-from fpdf import FPDF
 from fpdf.enums import XPos, YPos
 
 from sitecheck import workflow
@@ -29,6 +28,7 @@ from sitecheck.cli import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
 from sitecheck.report.collect import BearingRecord, SiteRecord
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, differences
+from sitecheck.report.pages import PAGE_COUNT, PackedPages
 
 Progress = Callable[[int, int, str], None]
 
@@ -81,6 +81,9 @@ _PLAIN = {
     "’": "'",
 }
 
+# Widths of words remembered while a record is laid out (about 5 MB at most).
+_WIDTHS_KEPT = 50_000
+
 # Each photo is printed this wide. The photos' print copies are sized for it (see
 # sitecheck.photos.PhotoLimits.print_long_edge) and embedded as they are.
 PHOTO_WIDTH_MM = 56.0
@@ -127,7 +130,7 @@ def _v(x, unit: str = "") -> str:
     return f"{text} {unit}".strip()
 
 
-class _Doc(FPDF):
+class _Doc(PackedPages):
     def __init__(self, site_name: str):
         super().__init__(orientation="P", unit="mm", format="A4")
         self.site_name = site_name
@@ -142,7 +145,6 @@ class _Doc(FPDF):
             self.family = "helvetica"
         self.set_auto_page_break(True, margin=20)
         self.set_margins(15, 15, 15)
-        self.alias_nb_pages()
         self.set_title(self.t(f"Site record: {site_name}"))
         self.set_creator("sitecheck")
         self._widths: dict = {}
@@ -166,7 +168,9 @@ class _Doc(FPDF):
         # cell(), not text(): only cell() has the page-count alias filled in at the end.
         self.set_xy(self.l_margin, y - 2.2)
         self.cell(
-            0, 3.2, self.t(f"Site record · {self.site_name} · page {self.page_no()} of {{nb}}")
+            0,
+            3.2,
+            self.t(f"Site record · {self.site_name} · page {self.page_no()} of {PAGE_COUNT}"),
         )
         self.set_text_color(0, 0, 0)
 
@@ -247,6 +251,10 @@ class _Doc(FPDF):
         key = (self.font_style, self.font_size_pt, word)
         found = self._widths.get(key)
         if found is None:
+            if len(self._widths) >= _WIDTHS_KEPT:
+                # Numbers make most words unique to their bearing: a long site's record would
+                # keep them all. The words that come back are measured again soon enough.
+                self._widths.clear()
             found = self._widths[key] = self.get_string_width(word)
         return found
 
