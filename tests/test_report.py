@@ -929,7 +929,7 @@ class HeldRecord:
         self.reached, self.go = threading.Event(), threading.Event()
         self.failure: Exception | None = None
 
-    def factory(self, db_path, site_id, *, photo_store=None):
+    def factory(self, db_path, site_id, *, photo_store=None, selection=None):
         def make(out, progress):
             progress(0, 3, "")
             progress(1, 3, "GF-B1-E")

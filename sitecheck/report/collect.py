@@ -73,6 +73,14 @@ class SiteRecord:
     made_at: str = field(default_factory=lambda: datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"))
     # Looks up a person not on the site (taken off it, but still signing what they did).
     lookup: Callable[[int], dict | None] | None = None
+    # The part of the site this record holds (None: all of it), and how many bearings the
+    # whole site has.
+    selection: store.Selection | None = None
+    site_bearings: int | None = None
+
+    @property
+    def partial(self) -> bool:
+        return self.selection is not None and not self.selection.whole
 
     def name(self, user_id: int | None) -> str:
         if user_id is None:
@@ -84,27 +92,65 @@ class SiteRecord:
         return found
 
 
-def iter_bearings(db, site_id: str) -> Iterator[BearingRecord]:
+def iter_bearings(
+    db, site_id: str, selection: store.Selection | None = None
+) -> Iterator[BearingRecord]:
     """One bearing at a time, read a batch at a time, so a long site is never held at once."""
-    for batch in store.bearing_batches(db, site_id=site_id):
+    for batch in store.bearing_batches(db, site_id=site_id, selection=selection):
         for b in batch:
             yield BearingRecord(**b)
 
 
-def collect(db, site_id: str) -> SiteRecord:
-    """The site's record, read from ``db`` as it is walked (keep ``db`` open meanwhile)."""
+def collect(db, site_id: str, selection: store.Selection | None = None) -> SiteRecord:
+    """The site's record (or the record of the part ``selection`` keeps), read from ``db`` as
+    it is walked (keep ``db`` open meanwhile)."""
     site = store.get_site(db, site_id)
     if site is None:
         raise store.NotFound("No such site")
     members = store.members_of(db, site_id=site_id)
+    if selection is not None and selection.whole:
+        selection = None
     return SiteRecord(
         site,
         members,
         {m["id"]: m["name"] for m in members},
-        Walk(lambda: iter_bearings(db, site_id), store.count_bearings(db, site_id=site_id)),
         Walk(
-            lambda: store.site_events(db, site_id=site_id),
-            store.count_events(db, site_id=site_id),
+            lambda: iter_bearings(db, site_id, selection),
+            store.count_bearings(db, site_id=site_id, selection=selection),
+        ),
+        Walk(
+            lambda: store.site_events(db, site_id=site_id, selection=selection),
+            store.count_events(db, site_id=site_id, selection=selection),
         ),
         lookup=lambda user_id: store.get_user_by_id(db, user_id),
+        selection=selection,
+        site_bearings=store.count_bearings(db, site_id=site_id),
     )
+
+
+def selection_words(selection: store.Selection) -> str:
+    """What part of a site a selection keeps, in words, for the record and its pages."""
+    parts = []
+    if selection.words:
+        parts.append(f"whose reference or location contains “{selection.words.strip()}”")
+    if selection.states:
+        states = [s for s in store.STATES if s in selection.states]
+        parts.append(
+            "in the state " + states[0]
+            if len(states) == 1
+            else "in the states " + ", ".join(states[:-1]) + " or " + states[-1]
+        )
+    if selection.since or selection.until:
+        if selection.since and selection.until:
+            when = f"from {selection.since.isoformat()} to {selection.until.isoformat()}"
+        elif selection.since:
+            when = f"from {selection.since.isoformat()} on"
+        else:
+            when = f"up to {selection.until.isoformat()}"
+        parts.append(
+            f"with an as-built record measured, a decision, a release or a reopening {when} "
+            "(UTC days)"
+        )
+    if not parts:
+        return "every bearing"
+    return "bearings " + "; ".join(parts)

@@ -90,6 +90,7 @@ class Job:
     id: str
     site_id: str
     kind: str
+    selection: str  # the part of the site (store.Selection.key()); empty: the whole site
     state: str
     bearings_done: int
     bearings: int
@@ -182,32 +183,34 @@ class RecordJobs:
 
     pdf_path = file_path
 
-    def jobs(self, site_id: str, kind: str = "pdf") -> list[Job]:
-        """Every making of the site's record of ``kind``, newest first."""
+    def jobs(self, site_id: str, kind: str = "pdf", selection: str | None = "") -> list[Job]:
+        """Every making of the site's record of ``kind`` and of the part ``selection`` (a
+        Selection's key; empty: the whole site; None: every part), newest first."""
         self.site_folder(site_id)  # refuses an odd id before it reaches the database
         _known(kind)
         with self._db() as db:
-            rows = store.record_jobs_for_site(db, site_id=site_id, kind=kind)
+            rows = store.record_jobs_for_site(db, site_id=site_id, kind=kind, selection=selection)
         return [self._as_seen(Job.from_row(r)) for r in rows]
 
-    def latest(self, site_id: str, kind: str = "pdf") -> Job | None:
-        found = self.jobs(site_id, kind)
+    def latest(self, site_id: str, kind: str = "pdf", selection: str = "") -> Job | None:
+        found = self.jobs(site_id, kind, selection)
         return found[0] if found else None
 
-    def latest_done(self, site_id: str, kind: str = "pdf") -> Job | None:
-        """The newest finished file of ``kind`` that is still there."""
+    def latest_done(self, site_id: str, kind: str = "pdf", selection: str = "") -> Job | None:
+        """The newest finished file of ``kind`` and part that is still there."""
         return next(
             (
                 j
-                for j in self.jobs(site_id, kind)
+                for j in self.jobs(site_id, kind, selection)
                 if j.state == DONE and self.file_path(j).is_file()
             ),
             None,
         )
 
-    def current(self, site_id: str, kind: str = "pdf") -> Job | None:
-        """The newest finished file of ``kind`` if nothing on the site has changed since."""
-        done = self.latest_done(site_id, kind)
+    def current(self, site_id: str, kind: str = "pdf", selection: str = "") -> Job | None:
+        """The newest finished file of ``kind`` and part if nothing on the site has changed
+        since."""
+        done = self.latest_done(site_id, kind, selection)
         if done is None:
             return None
         with self._db() as db:
@@ -255,9 +258,16 @@ class RecordJobs:
     # --- making -----------------------------------------------------------------------------
 
     def start(
-        self, site_id: str, *, user_id: int | None, make: Make, kind: str = "pdf"
+        self,
+        site_id: str,
+        *,
+        user_id: int | None,
+        make: Make,
+        kind: str = "pdf",
+        selection: str = "",
     ) -> tuple[Job, str]:
-        """Start making the site's file of ``kind``, join the making under way, or hand out
+        """Start making the site's file of ``kind`` (of the part ``selection`` keeps: a
+        Selection's key, empty for the whole site), join the making under way, or hand out
         the finished file of an unchanged site.
 
         Returns the job and "started", "joined" or "reused"; raises TooManyRecords when
@@ -271,6 +281,7 @@ class RecordJobs:
                 job_id=uuid.uuid4().hex,
                 site_id=site_id,
                 kind=kind,
+                selection=selection,
                 user_id=user_id,
                 version=self.version(db, site_id),
                 file_kept=lambda done: self.file_path(Job.from_row(done)).is_file(),
@@ -321,7 +332,7 @@ class RecordJobs:
             with self._lock:
                 self._threads.pop(job.id, None)
             with contextlib.suppress(OSError, ValueError):
-                self._prune(job.site_id, job.kind)
+                self._prune(job.site_id, job.kind, job.selection)
 
     def _make(self, job: Job, make: Make, part: Path) -> None:
         with self._db() as db:
@@ -351,15 +362,16 @@ class RecordJobs:
                 size_bytes=final.stat().st_size,
             )
 
-    def _prune(self, site_id: str, kind: str) -> None:
-        """Keep the files of the newest job of ``kind``, its newest finished file and anything
-        running; remove the rest of that kind (older files, and files a stopped process left)."""
-        jobs = self.jobs(site_id, kind)
-        keep = {jobs[0].id} if jobs else set()
-        keep |= {j.id for j in jobs if j.running}
-        done = next((j for j in jobs if j.state == DONE), None)
-        if done:
-            keep.add(done.id)
+    def _prune(self, site_id: str, kind: str, selection: str = "") -> None:
+        """Of ``kind``, keep the files of the newest job and the newest finished file of the
+        whole site and of the part ``selection``, and anything running; remove the rest (older
+        files, other parts' files, and files a stopped process left)."""
+        jobs = self.jobs(site_id, kind, None)
+        keep = {j.id for j in jobs if j.running}
+        for part in {"", selection}:
+            mine = [j for j in jobs if j.selection == part]
+            newest_done = next((j for j in mine if j.state == DONE), None)
+            keep |= {j.id for j in (mine[:1] + [newest_done]) if j is not None}
         folder = self.site_folder(site_id)
         if not folder.is_dir():
             return
@@ -408,22 +420,31 @@ def _plain_error(job: Job, error: Exception) -> str:
 
 
 @contextlib.contextmanager
-def _site_as_it_is(db_path: str | os.PathLike, site_id: str):
+def _site_as_it_is(
+    db_path: str | os.PathLike, site_id: str, selection: store.Selection | None = None
+):
     """The site's record on a connection of the job's own (SQLite connections must not cross
     threads), read as the database was at its first read however long the writing takes."""
     db = store.open_db(db_path)
     try:
         with store.read_snapshot(db):
-            yield collect(db, site_id)
+            yield collect(db, site_id, selection)
     finally:
         db.conn.close()
 
 
-def site_record(db_path: str | os.PathLike, site_id: str, *, photo_store=None) -> Make:
-    """What a PDF job runs: write the PDF bearing by bearing as the store hands them out."""
+def site_record(
+    db_path: str | os.PathLike,
+    site_id: str,
+    *,
+    photo_store=None,
+    selection: store.Selection | None = None,
+) -> Make:
+    """What a PDF job runs: write the PDF bearing by bearing as the store hands them out (of
+    the part ``selection`` keeps, or the whole site)."""
 
     def make(out: Path, progress: Progress) -> None:
-        with _site_as_it_is(db_path, site_id) as rec:
+        with _site_as_it_is(db_path, site_id, selection) as rec:
             total = len(rec.bearings)
             progress(0, total, "")
 

@@ -26,7 +26,7 @@ from sitecheck.bearing import SOURCES
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.cli import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
-from sitecheck.report.collect import BearingRecord, SiteRecord
+from sitecheck.report.collect import BearingRecord, SiteRecord, selection_words
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, differences
 from sitecheck.report.pages import PAGE_COUNT, PackedPages
 
@@ -131,9 +131,11 @@ def _v(x, unit: str = "") -> str:
 
 
 class _Doc(PackedPages):
-    def __init__(self, site_name: str):
+    def __init__(self, site_name: str, *, part: bool = False):
         super().__init__(orientation="P", unit="mm", format="A4")
         self.site_name = site_name
+        # A loose page of a record of part of the site says so.
+        self.record_name = "Site record (part)" if part else "Site record"
         font = find_font()
         self.unicode = font is not None
         if font:
@@ -170,7 +172,9 @@ class _Doc(PackedPages):
         self.cell(
             0,
             3.2,
-            self.t(f"Site record · {self.site_name} · page {self.page_no()} of {PAGE_COUNT}"),
+            self.t(
+                f"{self.record_name} · {self.site_name} · page {self.page_no()} of {PAGE_COUNT}"
+            ),
         )
         self.set_text_color(0, 0, 0)
 
@@ -303,6 +307,7 @@ def _cover(pdf: _Doc, rec: SiteRecord) -> None:
     pdf.multi_cell(0, 5.5, pdf.t(CAUTION), fill=True, border=1, new_x=XPos.LMARGIN, new_y=YPos.NEXT)
     pdf.set_font(pdf.family, "", 9)
     pdf.ln(2)
+    _part_note(pdf, rec)
     counts = {s: 0 for s in workflow.STATES}
     for br in rec.bearings:
         counts[br.bearing["state"]] += 1
@@ -335,6 +340,23 @@ def _cover(pdf: _Doc, rec: SiteRecord) -> None:
     pdf.grid(["name", "role"], [[m["name"], m["role"]] for m in rec.members], [90, 90], size=8)
     pdf.ln(2)
     pdf.para(SOURCE_WORDS, 7.5)
+
+
+def _part_note(pdf: _Doc, rec: SiteRecord) -> None:
+    """A record of part of the site says which part, and how much of the site that is."""
+    if not rec.partial:
+        return
+    dated = rec.selection.since or rec.selection.until
+    pdf.para(
+        f"This record holds part of the site: {selection_words(rec.selection)}. That is "
+        f"{len(rec.bearings)} of the site's {rec.site_bearings} bearings, each with its whole "
+        "history; the audit trail holds these bearings' entries"
+        + (" in those days" if dated else "")
+        + ". The record of the whole site is made on the site record page.",
+        10,
+        bold=True,
+    )
+    pdf.ln(2)
 
 
 def _current(br: BearingRecord) -> dict:
@@ -810,7 +832,7 @@ def write_pdf(
         if progress:
             progress(step, total, what)
 
-    pdf = _Doc(rec.site["name"])
+    pdf = _Doc(rec.site["name"], part=rec.partial)
     _cover(pdf, rec)
     tick("cover")
     _summary(pdf, rec)

@@ -120,6 +120,7 @@ from sitecheck.store.record_jobs import (
     update_record_job,
 )
 from sitecheck.store.record_reads import (
+    Selection,
     bearing_batches,
     count_bearings,
     count_events,
@@ -181,6 +182,7 @@ __all__ = [
     "NotFound",
     "RecordStored",
     "SameIdOtherValues",
+    "Selection",
     "StaleState",
     "StoreError",
     "TooManyRecords",

@@ -545,16 +545,19 @@ RECORD_KINDS = ("pdf", "csv", "json")
 @MIGRATIONS()
 def m012_record_job_kinds(db: sqlite_utils.Database) -> None:
     """The data exports (CSV in a zip, JSON) are made in the background like the PDF, as jobs
-    of their own kind: one making of each kind at a time per site, each reused while the
-    site has not changed. Jobs made before are PDFs."""
+    of their own kind, and a PDF may be of part of the site (``selection``: what it keeps,
+    as sitecheck.store.record_reads.Selection.key() writes it; empty: the whole site). One
+    making of each kind and part at a time per site, each reused while the site has not
+    changed. Jobs made before are PDFs of the whole site."""
     db.execute(
         "ALTER TABLE record_jobs ADD COLUMN kind TEXT NOT NULL DEFAULT 'pdf' "
         f"CHECK (kind IN {_in(RECORD_KINDS)})"
     )
+    db.execute("ALTER TABLE record_jobs ADD COLUMN selection TEXT NOT NULL DEFAULT ''")
     db.execute("DROP INDEX record_jobs_one_running")
     db.execute(
-        "CREATE UNIQUE INDEX record_jobs_one_running ON record_jobs(site_id, kind) "
+        "CREATE UNIQUE INDEX record_jobs_one_running ON record_jobs(site_id, kind, selection) "
         "WHERE state IN ('waiting', 'making')"
     )
     db.execute("DROP INDEX record_jobs_site")
-    db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, kind, created_at)")
+    db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, kind, selection, created_at)")

@@ -70,6 +70,7 @@ def start_record_job(
     job_id: str,
     site_id: str,
     kind: str = "pdf",
+    selection: str = "",
     user_id: int | None,
     version: str,
     file_kept: Callable[[dict], bool],
@@ -78,8 +79,9 @@ def start_record_job(
     stale_after_s: float,
     now: datetime | None = None,
 ) -> tuple[dict, str]:
-    """Start making a site's record of ``kind`` (one of RECORD_KINDS), join the making of
-    that kind under way, or reuse a finished one.
+    """Start making a site's record of ``kind`` (one of RECORD_KINDS) of the part
+    ``selection`` keeps (a Selection's key; empty: the whole site), join the making of that
+    kind and part under way, or reuse a finished one.
 
     Returns the job row and what happened: "started" (a new row ``job_id``, waiting),
     "joined" (the site's record is being made), "reused" (the newest finished record was made
@@ -97,22 +99,31 @@ def start_record_job(
         db.execute(
             f"""
             UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
-            WHERE site_id = ? AND kind = ? AND state IN {RUNNING} AND updated_at < ?
+            WHERE site_id = ? AND kind = ? AND selection = ? AND state IN {RUNNING}
+                AND updated_at < ?
             """,
-            [STOPPED_BY_RESTART, at, site_id, kind, _stale_before(stale_after_s, moment)],
+            [
+                STOPPED_BY_RESTART,
+                at,
+                site_id,
+                kind,
+                selection,
+                _stale_before(stale_after_s, moment),
+            ],
         )
         running = one(
             db,
-            f"SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND state IN {RUNNING}",
-            [site_id, kind],
+            "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND selection = ? "
+            f"AND state IN {RUNNING}",
+            [site_id, kind, selection],
         )
         if running is not None:
             return running, "joined"
         done = one(
             db,
-            "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND state = 'done' "
-            "ORDER BY created_at DESC, id DESC LIMIT 1",
-            [site_id, kind],
+            "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND selection = ? "
+            "AND state = 'done' ORDER BY created_at DESC, id DESC LIMIT 1",
+            [site_id, kind, selection],
         )
         if done is not None and done["site_version"] == version and file_kept(done):
             return done, "reused"
@@ -137,11 +148,11 @@ def start_record_job(
                 )
         db.execute(
             """
-            INSERT INTO record_jobs (id, site_id, kind, state, started_by, site_version,
-                created_at, updated_at)
-            VALUES (?, ?, ?, 'waiting', ?, ?, ?, ?)
+            INSERT INTO record_jobs (id, site_id, kind, selection, state, started_by,
+                site_version, created_at, updated_at)
+            VALUES (?, ?, ?, ?, 'waiting', ?, ?, ?, ?)
             """,
-            [job_id, site_id, kind, user_id, version, at, at],
+            [job_id, site_id, kind, selection, user_id, version, at, at],
         )
     return get_record_job(db, job_id), "started"
 
@@ -186,18 +197,17 @@ def get_record_job(db: sqlite_utils.Database, job_id: str) -> dict | None:
 
 
 def record_jobs_for_site(
-    db: sqlite_utils.Database, *, site_id: str, kind: str | None = None
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    kind: str | None = None,
+    selection: str | None = None,
 ) -> list[dict]:
-    """A site's makings (of one kind, or of every kind), newest first."""
-    if kind is None:
-        return many(
-            db,
-            "SELECT * FROM record_jobs WHERE site_id = ? ORDER BY created_at DESC, id DESC",
-            [site_id],
-        )
-    return many(
-        db,
-        "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? "
-        "ORDER BY created_at DESC, id DESC",
-        [site_id, kind],
-    )
+    """A site's makings (of one kind, or of every kind; of one part, or of every part),
+    newest first."""
+    sql, values = "SELECT * FROM record_jobs WHERE site_id = ?", [site_id]
+    if kind is not None:
+        sql, values = sql + " AND kind = ?", [*values, kind]
+    if selection is not None:
+        sql, values = sql + " AND selection = ?", [*values, selection]
+    return many(db, sql + " ORDER BY created_at DESC, id DESC", values)

@@ -8,17 +8,120 @@ every batch comes from the same moment of the database, however long the writing
 """
 
 import contextlib
+import json
 from collections.abc import Generator, Iterator
+from dataclasses import dataclass
+from datetime import date, timedelta
 
 import sqlite_utils
 
 from sitecheck.store.base import many, one, placeholders
 from sitecheck.store.bearings import _NEWEST_FIRST, _RECORD_COLUMNS
+from sitecheck.store.migrations import STATES
 
 # Bearings read at a time: big enough that the per-query cost vanishes, small enough that a
 # batch's decoded calculations (about 100 KB a bearing as Python objects) stay a few tens of MB.
 BATCH = 200
 EVENTS_BATCH = 2000
+# What a bearing's history holds that a date range can pick it by: each table's time.
+_DATED = (
+    ("as_built_records", "measured_at"),
+    ("decisions", "created_at"),
+    ("releases", "created_at"),
+    ("reopenings", "created_at"),
+)
+
+
+@dataclass(frozen=True)
+class Selection:
+    """Part of a site, for a record of that part: bearings whose reference or location
+    contains ``words`` (a level or an area: "GF", "level 3", "block B"; any letter case of
+    the letters A to Z),
+    in one of ``states``, and with anything in their history (an as-built record measured,
+    a decision, a release, a reopening) from ``since`` to ``until``, both days included (UTC).
+    Each is left out (None, or no states) to not select by it."""
+
+    words: str | None = None
+    states: tuple[str, ...] = ()
+    since: date | None = None
+    until: date | None = None
+
+    def __post_init__(self) -> None:
+        if self.words is not None and not self.words.strip():
+            raise ValueError("words is empty; give a word of the reference or location, or None")
+        unknown = [s for s in self.states if s not in STATES]
+        if unknown:
+            raise ValueError(f"states {unknown} are not states; each is one of {STATES}")
+        if self.since and self.until and self.until < self.since:
+            raise ValueError(f"until {self.until} is before since {self.since}")
+
+    @property
+    def whole(self) -> bool:
+        return not (self.words or self.states or self.since or self.until)
+
+    def key(self) -> str:
+        """The same text for the same selection (the whole site: empty), to find a record
+        made of it before."""
+        if self.whole:
+            return ""
+        return json.dumps(
+            {
+                "words": self.words.strip() if self.words else None,
+                "states": sorted(set(self.states)),
+                "since": self.since.isoformat() if self.since else None,
+                "until": self.until.isoformat() if self.until else None,
+            },
+            sort_keys=True,
+        )
+
+    @classmethod
+    def from_key(cls, key: str) -> "Selection":
+        if not key:
+            return cls()
+        values = json.loads(key)
+        return cls(
+            words=values["words"],
+            states=tuple(values["states"]),
+            since=date.fromisoformat(values["since"]) if values["since"] else None,
+            until=date.fromisoformat(values["until"]) if values["until"] else None,
+        )
+
+    def _range(self) -> tuple[str, str]:
+        """Stored times (fixed-width UTC text) from the first day's start to the day after
+        the last's: text order is time order."""
+        start = f"{self.since.isoformat()}T00:00:00.000000Z" if self.since else ""
+        end = (
+            f"{(self.until + timedelta(days=1)).isoformat()}T00:00:00.000000Z"
+            if self.until
+            else "~"
+        )
+        return start, end
+
+    def where(self) -> tuple[str, list]:
+        """SQL conditions on the bearings ``b`` this selection keeps, and their values."""
+        sql, values = [], []
+        if self.words:
+            pattern = "%" + _like_escaped(self.words.strip()) + "%"
+            sql.append("(b.reference LIKE ? ESCAPE '\\' OR b.location LIKE ? ESCAPE '\\')")
+            values += [pattern, pattern]
+        if self.states:
+            sql.append(f"b.state IN ({placeholders(self.states)})")
+            values += list(self.states)
+        if self.since or self.until:
+            start, end = self._range()
+            dated = []
+            for table, column in _DATED:
+                dated.append(
+                    f"EXISTS (SELECT 1 FROM {table} t WHERE t.bearing_id = b.id "
+                    f"AND t.{column} >= ? AND t.{column} < ?)"
+                )
+                values += [start, end]
+            sql.append("(" + " OR ".join(dated) + ")")
+        return (" AND ".join(sql) or "1"), values
+
+
+def _like_escaped(text: str) -> str:
+    return text.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_")
 
 
 @contextlib.contextmanager
@@ -46,15 +149,27 @@ def read_snapshot(db: sqlite_utils.Database) -> Generator[sqlite_utils.Database,
         )
 
 
-def count_bearings(db: sqlite_utils.Database, *, site_id: str) -> int:
-    row = one(db, "SELECT count(*) AS n FROM bearings WHERE site_id = ?", [site_id])
+def count_bearings(
+    db: sqlite_utils.Database, *, site_id: str, selection: Selection | None = None
+) -> int:
+    where, values = (selection or Selection()).where()
+    row = one(
+        db,
+        f"SELECT count(*) AS n FROM bearings b WHERE b.site_id = ? AND {where}",
+        [site_id, *values],
+    )
     return row["n"] if row else 0
 
 
 def bearing_batches(
-    db: sqlite_utils.Database, *, site_id: str, size: int | None = None
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    size: int | None = None,
+    selection: Selection | None = None,
 ) -> Iterator[list[dict]]:
-    """The site's bearings in reference order, ``size`` at a time, each as a dict:
+    """The site's bearings (those ``selection`` keeps) in reference order, ``size`` at a
+    time, each as a dict:
 
     ``bearing`` (its row), ``records`` (newest by measured time first), ``photos`` (record
     uuid → its photos, in the order received), ``decisions``, ``releases``, ``reopenings``,
@@ -63,20 +178,22 @@ def bearing_batches(
     size = BATCH if size is None else size
     if size < 1:
         raise ValueError(f"batch size must be at least 1; got {size}")
+    where, values = (selection or Selection()).where()
     after: tuple[str, str] | None = None
     while True:
         if after is None:
             bearings = many(
                 db,
-                "SELECT * FROM bearings WHERE site_id = ? ORDER BY reference, id LIMIT ?",
-                [site_id, size],
+                f"SELECT b.* FROM bearings b WHERE b.site_id = ? AND {where} "
+                "ORDER BY b.reference, b.id LIMIT ?",
+                [site_id, *values, size],
             )
         else:
             bearings = many(
                 db,
-                "SELECT * FROM bearings WHERE site_id = ? AND (reference, id) > (?, ?) "
-                "ORDER BY reference, id LIMIT ?",
-                [site_id, *after, size],
+                f"SELECT b.* FROM bearings b WHERE b.site_id = ? AND {where} "
+                "AND (b.reference, b.id) > (?, ?) ORDER BY b.reference, b.id LIMIT ?",
+                [site_id, *values, *after, size],
             )
         if not bearings:
             return
@@ -137,17 +254,38 @@ def _with_their_rows(db: sqlite_utils.Database, site_id: str, bearings: list[dic
     return [out[i] for i in ids]
 
 
+def _events_where(selection: Selection | None) -> tuple[str, list]:
+    """Events of a whole site: all of them. Of part of it: the kept bearings' events, and
+    within the dates if it has any."""
+    if selection is None or selection.whole:
+        return "1", []
+    where, values = selection.where()
+    sql = f"e.bearing_id IN (SELECT b.id FROM bearings b WHERE b.site_id = e.site_id AND {where})"
+    if selection.since or selection.until:
+        start, end = selection._range()
+        sql += " AND e.at >= ? AND e.at < ?"
+        values = [*values, start, end]
+    return sql, values
+
+
 def site_events(
-    db: sqlite_utils.Database, *, site_id: str, size: int | None = None
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    size: int | None = None,
+    selection: Selection | None = None,
 ) -> Iterator[dict]:
-    """Every event of a site, oldest first, read ``size`` at a time."""
+    """Every event of a site (or of the part ``selection`` keeps), oldest first, read
+    ``size`` at a time."""
     size = EVENTS_BATCH if size is None else size
+    where, values = _events_where(selection)
     after = 0
     while True:
         rows = many(
             db,
-            "SELECT * FROM events WHERE site_id = ? AND id > ? ORDER BY id LIMIT ?",
-            [site_id, after, size],
+            f"SELECT e.* FROM events e WHERE e.site_id = ? AND {where} AND e.id > ? "
+            "ORDER BY e.id LIMIT ?",
+            [site_id, *values, after, size],
         )
         yield from rows
         if len(rows) < size:
@@ -155,6 +293,13 @@ def site_events(
         after = rows[-1]["id"]
 
 
-def count_events(db: sqlite_utils.Database, *, site_id: str) -> int:
-    row = one(db, "SELECT count(*) AS n FROM events WHERE site_id = ?", [site_id])
+def count_events(
+    db: sqlite_utils.Database, *, site_id: str, selection: Selection | None = None
+) -> int:
+    where, values = _events_where(selection)
+    row = one(
+        db,
+        f"SELECT count(*) AS n FROM events e WHERE e.site_id = ? AND {where}",
+        [site_id, *values],
+    )
     return row["n"] if row else 0

@@ -31,13 +31,19 @@ from flask import (
     make_response,
     redirect,
     render_template,
+    request,
     send_file,
     url_for,
 )
+from flask_wtf import FlaskForm
 from markupsafe import Markup
+from wtforms import DateField, SelectMultipleField, StringField, ValidationError, widgets
+from wtforms.fields.choices import SelectChoice
+from wtforms.validators import Length, Optional
 
-from sitecheck import store
+from sitecheck import store, workflow
 from sitecheck.bearing import InputError
+from sitecheck.report.collect import selection_words
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
 from sitecheck.report.jobs import KINDS, RecordJobs, TooManyRecords, data_export, site_record
 from sitecheck.web import get_db, photo_store
@@ -86,6 +92,90 @@ assert set(FILES) == set(KINDS)
 KIND_RULE = "<any(" + ", ".join(KINDS) + "):kind>"
 
 
+WORDS_MAX = 100
+
+
+def _strip(value):
+    return value.strip() if isinstance(value, str) else value
+
+
+class PartForm(FlaskForm):
+    """Which part of the site a site record (PDF) holds; every field may be left empty (the
+    whole site). The same fields, in a page's address, name the part on its pages."""
+
+    words = StringField(
+        "Level or area: a word of the bearings' reference or location",
+        filters=[_strip],
+        validators=[
+            Optional(),
+            Length(max=WORDS_MAX, message=f"Keep it under {WORDS_MAX} characters."),
+        ],
+    )
+    state = SelectMultipleField(
+        "In these states",
+        choices=[SelectChoice(s, s) for s in workflow.STATES],
+        option_widget=widgets.CheckboxInput(),
+        widget=widgets.ListWidget(prefix_label=False),
+    )
+    since = DateField(
+        "From (a day, UTC)",
+        validators=[Optional()],
+        render_kw={"inputmode": "numeric"},
+    )
+    until = DateField("To (a day, UTC)", validators=[Optional()])
+
+    def validate_until(self, field):
+        if field.data and self.since.data and field.data < self.since.data:
+            raise ValidationError(
+                f"The last day, {field.data.isoformat()}, is before the first, "
+                f"{self.since.data.isoformat()}: swap them or change one."
+            )
+
+    def selection(self) -> store.Selection:
+        return store.Selection(
+            words=self.words.data or None,
+            states=tuple(self.state.data or ()),
+            since=self.since.data,
+            until=self.until.data,
+        )
+
+
+def _date_message(form: PartForm) -> None:
+    # WTForms' own words for a date it cannot read are "Not a valid date value."
+    for field in (form.since, form.until):
+        if field.errors and field.data is None and field.raw_data and field.raw_data[0]:
+            field.errors[:] = [
+                f"{field.label.text}: “{field.raw_data[0][:40]}” is not a day; write it as "
+                "2026-03-01."
+            ]
+
+
+def part_from(values) -> tuple[store.Selection | None, PartForm]:
+    """The part a page's address names (its query), or None if it names none that can be
+    read; and the form, with its errors."""
+    form = PartForm(formdata=values, meta={"csrf": False})
+    if not form.validate():
+        _date_message(form)
+        return None, form
+    return form.selection(), form
+
+
+def part_args(selection: store.Selection | None) -> dict:
+    """A part as a page address's query, so the part's pages link to one another."""
+    if selection is None or selection.whole:
+        return {}
+    args: dict = {}
+    if selection.words:
+        args["words"] = selection.words
+    if selection.states:
+        args["state"] = list(selection.states)
+    if selection.since:
+        args["since"] = selection.since.isoformat()
+    if selection.until:
+        args["until"] = selection.until.isoformat()
+    return args
+
+
 @bp.record_once
 def _install_jobs(state) -> None:
     """One set of background jobs per app, their files beside the database and photos
@@ -114,14 +204,22 @@ def safe_filename(name: str, suffix: str, when: datetime | None = None) -> str:
 @login_required
 def site(site_id):
     found, role = site_for(site_id, "export")
+    return _record_page(found, role)
+
+
+def _record_page(found: dict, role: str, part_form: PartForm | None = None, status: int = 200):
+    site_id = found["id"]
     db = get_db()
     jobs = record_jobs()
     return render_page(
         "record/site.html",
+        status=status,
         site={"id": found["id"], "name": found["name"], "address": found["address"]},
         role=role,
         bearing_count=store.count_bearings(db, site_id=site_id),
         files=[_file_card(db, jobs, site_id, kind) for kind in KINDS],
+        part_form=part_form or PartForm(formdata=None),
+        part_make=url_for("record.make_file", site_id=site_id, kind="pdf"),
     )
 
 
@@ -162,19 +260,38 @@ def current_file(site_id, kind):
 @login_required
 def make_file(site_id, kind):
     """Start making the file in the background, join the making under way, or hand out the
-    last one made if nothing on the site has changed since."""
-    site_for(site_id, "export")
+    last one made if nothing on the site has changed since. A PDF may be of part of the
+    site (PartForm's fields); refused with the record page and its errors if they cannot be
+    read, keeping what was typed."""
+    found, role = site_for(site_id, "export")
     db_path = current_app.config["DB_PATH"]
+    selection = None
+    if kind == "pdf":
+        form = PartForm()
+        if not form.validate_on_submit():
+            _date_message(form)
+            return _record_page(found, role, form, status=400)
+        selection = form.selection()
+        if selection.whole:
+            selection = None
     make = (
-        site_record(db_path, site_id, photo_store=photo_store())
+        site_record(db_path, site_id, photo_store=photo_store(), selection=selection)
         if kind == "pdf"
         else data_export(db_path, site_id, kind)
     )
+    key = selection.key() if selection else ""
     try:
-        job, how = record_jobs().start(site_id, user_id=g.user["id"], make=make, kind=kind)
+        job, how = record_jobs().start(
+            site_id, user_id=g.user["id"], make=make, kind=kind, selection=key
+        )
     except TooManyRecords as refused:
         return _progress_page(
-            site_id, kind, message=str(refused), status=429, retry_at=refused.retry_at
+            site_id,
+            kind,
+            selection,
+            message=str(refused),
+            status=429,
+            retry_at=refused.retry_at,
         )
     what = FILES[kind]["what"]
     if how == "joined":
@@ -184,21 +301,35 @@ def make_file(site_id, kind):
             f"Nothing on the site has changed since the {what} made {_when(job.finished_at)}"
             "; it is ready below."
         )
-    return redirect(url_for("record.progress", site_id=site_id, kind=kind))
+    return redirect(url_for("record.progress", site_id=site_id, kind=kind, **part_args(selection)))
+
+
+def _asked_part(kind: str) -> store.Selection | None:
+    """The part of the site a page's address names (a PDF's only); 400 if it cannot be read."""
+    if kind != "pdf" or not request.args:
+        return None
+    selection, form = part_from(request.args)
+    if selection is None:
+        problems = "; ".join(e for f in form for e in f.errors)
+        abort(400, description=f"The part of the site asked for cannot be read: {problems}")
+    return None if selection.whole else selection
 
 
 @page_rule(bp, f"/sites/<site_id>/record/{KIND_RULE}")
 @login_required
 def progress(site_id, kind):
-    return _progress_page(site_id, kind)
+    site_for(site_id, "export")
+    return _progress_page(site_id, kind, _asked_part(kind))
 
 
-def _progress_page(site_id, kind, *, message=None, status=200, retry_at=None):
+def _progress_page(site_id, kind, selection=None, *, message=None, status=200, retry_at=None):
     found, _role = site_for(site_id, "export")
     jobs = record_jobs()
     db = get_db()
-    job = _job_summary(db, jobs.latest(site_id, kind))
-    made = _job_summary(db, jobs.latest_done(site_id, kind))
+    key = selection.key() if selection else ""
+    job = _job_summary(db, jobs.latest(site_id, kind, key))
+    made = _job_summary(db, jobs.latest_done(site_id, kind, key))
+    args = part_args(selection)
     response = render_page(
         "record/progress.html",
         status=status,
@@ -207,11 +338,17 @@ def _progress_page(site_id, kind, *, message=None, status=200, retry_at=None):
         label=FILES[kind]["label"],
         make_label=FILES[kind]["make_label"],
         download_label=FILES[kind]["download_label"],
+        part=selection_words(selection) if selection else None,
+        part_fields=[
+            (name, value)
+            for name, values in args.items()
+            for value in (values if isinstance(values, list) else [values])
+        ],
         job=job,
         made=made,
         message=message,
         make=url_for("record.make_file", site_id=site_id, kind=kind),
-        poll=url_for("record.progress_json", site_id=site_id, kind=kind),
+        poll=url_for("record.progress_json", site_id=site_id, kind=kind, **args),
         refresh_seconds=REFRESH_SECONDS if job and job["running"] else None,
     )
     if retry_at is not None:
@@ -224,12 +361,16 @@ def _progress_page(site_id, kind, *, message=None, status=200, retry_at=None):
 @bp.get(f"/sites/<site_id>/record/{KIND_RULE}/file")
 @login_required
 def made_file(site_id, kind):
-    """The newest file of the kind made in the background; none yet, and the page says so."""
+    """The newest file of the kind (and part) made in the background; none yet, and the page
+    says so."""
     found, _role = site_for(site_id, "export")
-    job = record_jobs().latest_done(site_id, kind)
+    selection = _asked_part(kind)
+    job = record_jobs().latest_done(site_id, kind, selection.key() if selection else "")
     if job is None:
         flash(f"No {FILES[kind]['what']} has been made here yet: make one first.")
-        return redirect(url_for("record.progress", site_id=site_id, kind=kind))
+        return redirect(
+            url_for("record.progress", site_id=site_id, kind=kind, **part_args(selection))
+        )
     return _send(found, job)
 
 
@@ -237,11 +378,14 @@ def _send(found: dict, job) -> Response:
     if job.kind not in FILES:
         abort(404)
     made = datetime.fromisoformat((job.finished_at or job.created_at).replace("Z", "+00:00"))
+    suffix = FILES[job.kind]["suffix"]
+    if job.selection:
+        suffix = suffix.replace(".", "-part.", 1)
     return send_file(
         record_jobs().file_path(job),
         mimetype=FILES[job.kind]["mimetype"],
         as_attachment=True,
-        download_name=safe_filename(found["name"], FILES[job.kind]["suffix"], made),
+        download_name=safe_filename(found["name"], suffix, made),
         conditional=False,
     )
 
@@ -261,7 +405,12 @@ def _job_summary(db, job) -> dict | None:
         "status": _status(job),
         "created_text": _when(job.created_at),
         "finished_text": _when(job.finished_at),
-        "download": url_for("record.made_file", site_id=job.site_id, kind=job.kind)
+        "download": url_for(
+            "record.made_file",
+            site_id=job.site_id,
+            kind=job.kind,
+            **part_args(store.Selection.from_key(job.selection)),
+        )
         if job.state == "done"
         else None,
     }

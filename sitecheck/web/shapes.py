@@ -390,6 +390,7 @@ def _result(c, _role):
 _JOB = (
     "id",
     "kind",
+    "selection",
     "state",
     "running",
     "bearings_done",
@@ -432,6 +433,7 @@ def _record_progress(c, _role):
         "site": pick(c["site"], "id", "name"),
         "kind": c["kind"],
         "label": c["label"],
+        "part": c["part"],
         "job": pick(c["job"], *_JOB),
         "made": pick(c["made"], *_JOB),
         "message": c["message"],
