@@ -8,6 +8,7 @@ import sys
 from pathlib import Path
 
 from .bearing import BASES, EC6_UK, basis_named
+from .bearing.format import utilisation
 from .bearing.remedy import remedy
 from .bearing.review import BLOCKS
 from .schedule import COLUMNS, RowOutcome, parse_schedule, recheck_rows
@@ -265,7 +266,8 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
     for o in outcomes:
         r = o.current
         g = r.governing_check
-        util = "  n/a " if r.utilisation == float("inf") else f"{r.utilisation:6.2f}"
+        # No capacity at all is a failure and reads as one (never "n/a").
+        util = f"{utilisation(r.utilisation):>6}"
         codes = ", ".join(reason.code for reason in o.reasons) or "-"
         print(
             f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}"

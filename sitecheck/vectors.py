@@ -694,7 +694,7 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
         ("beam", "flange_width", 0.133, 1200.0),
         ("beam", "bearing_length", 0.15, 1500.0),
         ("wall", "thickness", 9.0, 1100.0),
-        ("wall", "height_to_bearing", 2.015625, 31000.0),
+        ("wall", "height_to_bearing", 2.0625, 31000.0),
         ("wall", "clear_height", 2.4, 40000.0),
         ("wall", "effective_height", 0.0025, 70000.0),
         ("wall", "effective_thickness", 0.2, 1001.0),

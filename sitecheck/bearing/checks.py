@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 from .basis import CodeBasis
+from .format import number
 from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
 from .geometry import Layout, Pressure, end_distances, spread_length
 from .inputs import ACROSS, IN_LINE, BearingInput, Masonry, Wall
@@ -426,7 +427,11 @@ def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
         return None
     pad = inp.padstone
     bearing_along = _bearing_along(inp)
-    return f"width t, depth {pad.depth:g} > {basis.spreader_min_depth:g} mm, length {pad.length:g} > {basis.spreader_length_factor:g} × {bearing_along:g} mm"
+    return (
+        f"width t, depth {number(pad.depth)} > {number(basis.spreader_min_depth)} mm, "
+        f"length {number(pad.length)} > {number(basis.spreader_length_factor)} × "
+        f"{number(bearing_along)} mm"
+    )
 
 
 def is_spreader(inp: BearingInput, basis: CodeBasis) -> bool:

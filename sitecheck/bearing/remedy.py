@@ -8,6 +8,7 @@ from itertools import permutations
 
 from .basis import CodeBasis
 from .errors import InputError
+from .format import number, utilisation
 from .geometry import layout
 from .inputs import ACROSS, BearingInput, Padstone
 from .recheck import check_bearing
@@ -36,13 +37,13 @@ class Remedy:
         if self.padstone is not None:
             p = self.padstone
             parts.append(
-                f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes "
-                f"(util. {self.padstone_utilisation:.2f})"
+                f"a {number(p.length)} x {number(p.width)} x {number(p.depth)} mm {p.concrete} "
+                f"padstone passes (util. {utilisation(self.padstone_utilisation)})"
             )
         if self.bearing_length is not None:
             parts.append(
-                f"a bearing of {self.bearing_length:g} mm passes "
-                f"(util. {self.bearing_utilisation:.2f})"
+                f"a bearing of {number(self.bearing_length)} mm passes "
+                f"(util. {utilisation(self.bearing_utilisation)})"
             )
         return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
 
@@ -60,6 +61,7 @@ class Remedy:
             "padstone_utilisation": self.padstone_utilisation,
             "bearing_length": self.bearing_length,
             "bearing_utilisation": self.bearing_utilisation,
+            "words": self.describe(),
         }
 
 

@@ -17,6 +17,7 @@ from operator import attrgetter
 
 from .basis import BS5628, CodeBasis
 from .checks import is_spreader
+from .format import number, utilisation
 from .inputs import Beam, BearingInput, Masonry, Padstone, Wall
 from .trace import INFORMATIVE, BearingResult
 
@@ -300,7 +301,7 @@ def review(
                 ReviewReason(
                     "check-fails",
                     BLOCKS,
-                    f"{c.title} fails as built (utilisation {_fmt_util(c.utilisation)}).",
+                    f"{c.title} fails as built ({_utilisation_phrase(c.utilisation)}).",
                     (("check", c.code), ("utilisation", c.utilisation)),
                 )
             )
@@ -309,7 +310,8 @@ def review(
             ReviewReason(
                 "above-threshold",
                 BLOCKS,
-                f"Utilisation {result.utilisation:.2f} is above the site's review threshold {s.threshold:.2f}.",
+                f"Utilisation {utilisation(result.utilisation)} is above the site's review threshold "
+                f"{utilisation(s.threshold)}.",
                 (("utilisation", result.utilisation), ("threshold", s.threshold)),
             )
         )
@@ -319,8 +321,9 @@ def review(
             ReviewReason(
                 "utilisation-rise",
                 BLOCKS,
-                f"Utilisation rose from {design_result.utilisation:.2f} as designed to "
-                f"{_fmt_util(result.utilisation)} as built, more than the allowed {s.rise_margin:.2f}.",
+                f"Utilisation rose from {utilisation(design_result.utilisation)} as designed to "
+                f"{utilisation(result.utilisation)} as built, more than the allowed "
+                f"{utilisation(s.rise_margin)}.",
                 (
                     ("design", design_result.utilisation),
                     ("as_built", result.utilisation),
@@ -368,8 +371,8 @@ def review(
     return tuple(out)
 
 
-def _fmt_util(u: float) -> str:
-    return "unbounded" if u == math.inf else f"{u:.2f}"
+def _utilisation_phrase(u: float) -> str:
+    return "no capacity" if u == math.inf else f"utilisation {utilisation(u)}"
 
 
 def _spreader_lost(
@@ -414,7 +417,8 @@ def _dimension_reasons(
             ReviewReason(
                 f"{slug}-off",
                 BLOCKS if worse else ADVISORY,
-                f"{label} is {a:g} mm as built against {d:g} mm designed ({abs(diff):g} mm {word}; tolerance {tol:g} mm).",
+                f"{label} is {number(a)} mm as built against {number(d)} mm designed "
+                f"({number(abs(diff))} mm {word}; tolerance {number(tol)} mm).",
                 (("design", d), ("as_built", a), ("tolerance", tol)),
             )
         )
@@ -478,8 +482,8 @@ def _position_reasons(
             ReviewReason(
                 f"{slug}-off",
                 BLOCKS if worse else ADVISORY,
-                f"{label} is {av:+.0f} mm from the centre as built against {dv:+.0f} mm designed "
-                f"(tolerance {s.tol_position:g} mm).",
+                f"{label} is {number(av, plus=True)} mm from the centre as built against "
+                f"{number(dv, plus=True)} mm designed (tolerance {number(s.tol_position)} mm).",
                 (("design", dv), ("as_built", av), ("tolerance", s.tol_position)),
             )
         )
@@ -487,7 +491,7 @@ def _position_reasons(
 
 
 def _describe(m: Masonry) -> str:
-    strength = f" {m.unit_strength:g} N/mm²" if m.unit_strength is not None else ""
+    strength = f" {number(m.unit_strength)} N/mm²" if m.unit_strength is not None else ""
     return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar"
 
 
@@ -507,8 +511,8 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
             ReviewReason(
                 "masonry-weaker",
                 BLOCKS,
-                f"The masonry is weaker than designed: {_describe(am)} (f_k {afk:.2f} N/mm²) "
-                f"against {_describe(dm)} (f_k {dfk:.2f} N/mm²).",
+                f"The masonry is weaker than designed: {_describe(am)} (f_k {number(afk)} N/mm²) "
+                f"against {_describe(dm)} (f_k {number(dfk)} N/mm²).",
                 (("design_f_k", dfk), ("as_built_f_k", afk)),
             )
         )
@@ -518,7 +522,7 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
                 "masonry-unverified",
                 BLOCKS,
                 f"The masonry differs from the design ({_describe(am)} against {_describe(dm)}), "
-                f"whose f_k of {dfk:.2f} N/mm² was declared: the re-check keeps it, so confirm it holds.",
+                f"whose f_k of {number(dfk)} N/mm² was declared: the re-check keeps it, so confirm it holds.",
                 (("design_f_k", dfk),),
             )
         )
@@ -537,7 +541,8 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
             ReviewReason(
                 "concrete-weaker",
                 BLOCKS,
-                f"The padstone concrete is weaker than designed (f_cd {ac:.1f} against {dc:.1f} N/mm²).",
+                f"The padstone concrete is weaker than designed (f_cd {number(ac)} against "
+                f"{number(dc)} N/mm²).",
                 (("design_f_cd", dc), ("as_built_f_cd", ac)),
             )
         )
@@ -555,7 +560,8 @@ def _checklist_reasons(c: Checklist, s: ReviewSettings) -> list[ReviewReason]:
             ReviewReason(
                 "packing-thick",
                 BLOCKS,
-                f"Packing under the beam is {c.packing:g} mm thick; more than {s.max_packing:g} mm needs the engineer.",
+                f"Packing under the beam is {number(c.packing)} mm thick; more than "
+                f"{number(s.max_packing)} mm needs the engineer.",
                 (("packing", c.packing), ("limit", s.max_packing)),
             )
         )

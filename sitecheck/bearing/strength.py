@@ -10,6 +10,7 @@ from operator import attrgetter
 
 from .basis import BS_FK_TABLE, BS_UNIT_STRENGTHS, MORTAR_DESIGNATION, MORTAR_STRENGTH, CodeBasis
 from .errors import InputError
+from .format import number
 from .inputs import Masonry, Padstone
 from .trace import Step, Strengths
 from .validate import concrete_class_fck
@@ -55,8 +56,8 @@ def delta(unit_height: float, unit_width: float) -> float:
         raise InputError(
             "masonry.unit_width",
             unit_width,
-            f"a unit size inside EN 772-1 Table A.1 (a {unit_height:g} mm high unit that is "
-            f"{unit_width:g} mm wide falls in a blank cell); give the normalised strength f_b",
+            f"a unit size inside EN 772-1 Table A.1 (a {number(unit_height)} mm high unit that is "
+            f"{number(unit_width)} mm wide falls in a blank cell); give the normalised strength f_b",
             "not-covered",
         )
     fh = (h - h0) / (h1 - h0)
@@ -329,8 +330,8 @@ def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> fl
         raise InputError(
             "masonry.unit_strength",
             mas.unit_strength,
-            f"a normalised strength f_b of at most {basis.f_b_max:g} N/mm² for EN 1996-1-1 "
-            f"eqn 3.1 (this unit gives {fb:.1f}); give f_k directly",
+            f"a normalised strength f_b of at most {number(basis.f_b_max)} N/mm² for EN 1996-1-1 "
+            f"eqn 3.1 (this unit gives {number(fb)}); give f_k directly",
             "not-covered",
         )
     thin = mas.mortar == "thin-layer"
@@ -363,7 +364,7 @@ def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> fl
             Step(
                 "Characteristic compressive strength, thin-layer mortar",
                 "f_k",
-                f"K · f_b^{exponent:g}",
+                f"K · f_b^{number(exponent)}",
                 (("K", K, ""), ("f_b", fb, "N/mm²")),
                 fk,
                 "N/mm²",

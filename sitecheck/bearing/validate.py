@@ -12,6 +12,7 @@ from functools import lru_cache
 
 from .basis import BS5628, MORTAR_DESIGNATION, CodeBasis
 from .errors import InputError
+from .format import number
 from .inputs import (
     ACROSS,
     CONDITIONING,
@@ -295,7 +296,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "padstone.width",
                 pad.width,
-                f"no wider than the wall ({t:g} mm, give or take {wall_tolerance(t):g} mm); "
+                f"no wider than the wall ({number(t)} mm, give or take {number(wall_tolerance(t))} mm); "
                 "a padstone overhanging the wall is not covered",
                 "wider-than-wall",
             )
@@ -305,7 +306,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.bearing_length",
                 beam.bearing_length,
-                f"no longer than the padstone it sits on ({span_room:g} mm)",
+                f"no longer than the padstone it sits on ({number(span_room)} mm)",
                 "longer-than-padstone",
             )
             return
@@ -316,7 +317,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.flange_width",
                 beam.flange_width,
-                f"no wider than the padstone under it ({pad.length:g} mm)",
+                f"no wider than the padstone under it ({number(pad.length)} mm)",
                 "off-padstone",
             )
             return
@@ -328,7 +329,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.flange_width",
                 beam.flange_width,
-                f"no wider than the wall ({t:g} mm) for a beam in line with it and no padstone",
+                f"no wider than the wall ({number(t)} mm) for a beam in line with it and no padstone",
                 "wider-than-wall",
             )
             return
@@ -336,7 +337,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.bearing_length",
                 beam.bearing_length,
-                f"no longer than the wall is thick ({t:g} mm)",
+                f"no longer than the wall is thick ({number(t)} mm)",
                 "longer-than-wall",
             )
             return
@@ -348,7 +349,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.offset_along",
                 beam.offset_along,
-                f"within ±{room:g} mm so the flange stays wholly on the padstone",
+                f"within ±{number(room)} mm so the flange stays wholly on the padstone",
                 "off-padstone",
             )
     if beam.offset_across is not None:
@@ -358,7 +359,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.offset_across",
                 beam.offset_across,
-                f"within ±{room:g} mm so the flange stays wholly on the {what}",
+                f"within ±{number(room)} mm so the flange stays wholly on the {what}",
                 "off-padstone" if pad is not None else "off-wall",
             )
 
@@ -487,23 +488,30 @@ def _length_problem(
 ) -> InputError | None:
     least, greatest = bounds or _LENGTHS[name]
     if value is None:
-        return InputError(name, None, f"a length of {least:g} to {greatest:g} mm", "missing")
+        return InputError(
+            name, None, f"a length of {number(least)} to {number(greatest)} mm", "missing"
+        )
     if not _is_number(value):
-        return InputError(name, value, f"a length in mm, {least:g} to {greatest:g}", "not-a-number")
+        return InputError(
+            name, value, f"a length in mm, {number(least)} to {number(greatest)}", "not-a-number"
+        )
     if value <= 0:
         return InputError(
-            name, value, f"a positive length, {least:g} to {greatest:g} mm", "not-positive"
+            name,
+            value,
+            f"a positive length, {number(least)} to {number(greatest)} mm",
+            "not-positive",
         )
     if value < least / 10 or (value < least and value < 10):
         return InputError(
             name,
             value,
-            f"millimetres ({least:g} to {greatest:g} mm); {value:g} looks like metres: "
-            f"did you mean {value * 1000:g} mm?",
+            f"millimetres ({number(least)} to {number(greatest)} mm); {number(value)} looks like metres: "
+            f"did you mean {number(value * 1000)} mm?",
             "looks-like-metres",
         )
     if not least <= value <= greatest:
-        return InputError(name, value, f"{least:g} to {greatest:g} mm", "out-of-range")
+        return InputError(name, value, f"{number(least)} to {number(greatest)} mm", "out-of-range")
     return None
 
 

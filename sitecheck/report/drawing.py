@@ -18,6 +18,8 @@ import math
 from dataclasses import dataclass, field
 from xml.sax.saxutils import escape, quoteattr
 
+from sitecheck.bearing.format import number
+
 VIEW_W = 640.0
 FONT = 22.0  # × 320 / VIEW_W = 11 px on the narrowest phone we design for
 MARGIN = 24.0
@@ -47,7 +49,7 @@ def _n(x: float) -> str:
 
 
 def _mm(x: float | None) -> str:
-    return "—" if x is None else f"{x:.0f}"
+    return "—" if x is None else number(x)
 
 
 def _attrs(data: dict) -> str:
@@ -432,7 +434,7 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
     c.arrow_down(
         rx, ptop - bh - 4, 50, stroke=INK, role="reaction", x_mm=m.rx, n_ed_kn=m.reaction / 1000
     )
-    c.text(rx + 10, ptop - bh - 24, f"N_Ed {m.reaction / 1000:.0f} kN", anchor="start")
+    c.text(rx + 10, ptop - bh - 24, f"N_Ed {number(m.reaction / 1000)} kN", anchor="start")
 
     # Dimensions above: the padstone length (or the footprint with no padstone), and a1.
     dim_y = ptop - bh - 54 - 12
@@ -638,7 +640,7 @@ def _pressure(c: _Canvas, m: _Model, band_top: float, changed: frozenset) -> flo
     )
     px = x0 if (m.ecc < 0 or m.distribution == "uniform") else x1
     changed_mark = " ≠" if "sigma_max" in changed else ""
-    label = f"σ_max {m.sigma_max:.2f} N/mm²{changed_mark}"
+    label = f"σ_max {number(m.sigma_max)} N/mm²{changed_mark}"
     w = _text_w(label)
     tx = min(max(px, MARGIN + w / 2), VIEW_W - MARGIN - w / 2)
     c.text(
@@ -648,7 +650,7 @@ def _pressure(c: _Canvas, m: _Model, band_top: float, changed: frozenset) -> flo
         fill=CHANGED if changed_mark else INK,
         role="peak-pressure",
         sigma_max_n_mm2=m.sigma_max,
-        shown=f"{m.sigma_max:.2f}",
+        shown=number(m.sigma_max),
     )
     kind = {"uniform": "uniform", "trapezoid": "trapezoid", "triangle": "triangle"}.get(
         m.distribution, m.distribution
@@ -795,7 +797,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
     ey = c.sy(below * 0.45)
     c.line(cl, ey, ry, ey, stroke=MASONRY_SPREAD, width=2.0, role="eccentricity", e_mm=e)
     c.line(ry, ptop, ry, ey, stroke=MASONRY_SPREAD, width=1.0, dash="4 4")
-    label = f"e {abs(e):.0f} (t/4 = {m.t / 4:.0f})"
+    label = f"e {number(abs(e))} (t/4 = {number(m.t / 4)})"
     c.text(
         max(w1, ry) + 12,
         ey + FONT / 3,
@@ -918,7 +920,7 @@ def _value_text(v, unit: str) -> str:
     if v is False:
         return "no"
     if isinstance(v, float):
-        return f"{v:g}{' ' + unit if unit else ''}"
+        return f"{number(v)}{' ' + unit if unit else ''}"
     return f"{v}{' ' + unit if unit else ''}"
 
 

@@ -9,6 +9,7 @@ from flask_wtf import FlaskForm
 from markupsafe import Markup, escape
 
 from sitecheck import store, workflow
+from sitecheck.bearing.format import number, quantity, utilisation
 from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
@@ -89,8 +90,10 @@ def install_template_helpers(app) -> None:
         return {
             "badge": state_badge,
             "caution": CAUTION,
-            "util": utilisation_text,
-            "mm": lambda x: "—" if x is None else f"{x:g}",
+            "util": utilisation,
+            "qty": quantity,
+            "num": number,
+            "mm": lambda x: "—" if x is None else number(x),
             "allowed": lambda action: workflow.allowed(getattr(g, "role", None), action),
         }
 
@@ -101,12 +104,6 @@ def state_badge(state: str) -> Markup:
     return Markup(
         '<span class="state {cls}"><span aria-hidden="true">{sym}</span> {label}</span>'
     ).format(cls=b.css_class, sym=b.symbol, label=escape(b.label))
-
-
-def utilisation_text(u) -> str:
-    if u is None or (isinstance(u, float) and not math.isfinite(u)):
-        return "no capacity"
-    return f"{u:.2f}"
 
 
 @bp.get("/api/csrf")

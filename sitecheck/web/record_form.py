@@ -32,6 +32,7 @@ from wtforms.fields.choices import SelectChoice
 from wtforms.validators import StopValidation, ValidationError
 
 from sitecheck.bearing import InputError
+from sitecheck.bearing.format import number, quantity
 from sitecheck.bearing.inputs import MATERIALS, MORTARS
 
 MAX_PHOTOS = 8
@@ -444,7 +445,7 @@ def core_message(spec: FieldSpec, field, error: InputError, design_input: dict) 
     if typed:
         value = error.value
         shown = (
-            f"{value:g} {spec.unit}".strip()
+            quantity(value, spec.unit)
             if isinstance(value, int | float) and not isinstance(value, bool)
             else f"“{typed[:40]}”"
         )
@@ -491,7 +492,7 @@ def designed_text(design_input: dict, name: str) -> str:
         if name == "a2":
             return "wall runs on"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
-            return f"f_k {design_input['masonry']['f_k']:g} N/mm² declared"
+            return f"f_k {number(design_input['masonry']['f_k'])} N/mm² declared"
         if spec.kind == "tri" or name == "packing":
             return ""
         return "not given"
@@ -507,7 +508,7 @@ def value_text(name: str, value) -> str:
     if name == "masonry_group":
         return f"Group {value}"
     if isinstance(value, int | float):
-        return f"{value:g} {spec.unit}".strip()
+        return quantity(value, spec.unit)
     return str(value)
 
 

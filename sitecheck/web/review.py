@@ -10,6 +10,7 @@ from __future__ import annotations
 from flask import Blueprint, current_app, flash, g, redirect, url_for
 
 from sitecheck import services, store, workflow
+from sitecheck.bearing.format import quantity
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
@@ -296,7 +297,7 @@ def _value_text(value, unit: str) -> str:
     if isinstance(value, bool):
         return "yes" if value else "no"
     if isinstance(value, float):
-        return f"{value:g} {unit}".strip()
+        return quantity(value, unit)
     return f"{value} {unit}".strip()
 
 

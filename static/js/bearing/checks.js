@@ -2,7 +2,7 @@
 // object with its steps and clause (see trace.js).
 
 import { isEc6 } from "./basis.js";
-import { formatG } from "./format.js";
+import { number } from "./format.js";
 import {
   F_Rdu,
   betaBs5628,
@@ -442,9 +442,9 @@ export function spreaderConditions(inp, basis) {
   const pad = inp.padstone;
   const bearingAlong = bearingAlongOf(inp);
   return (
-    `width t, depth ${formatG(pad.depth)} > ${formatG(basis.spreader_min_depth)} mm, ` +
-    `length ${formatG(pad.length)} > ` +
-    `${formatG(basis.spreader_length_factor)} × ${formatG(bearingAlong)} mm`
+    `width t, depth ${number(pad.depth)} > ${number(basis.spreader_min_depth)} mm, ` +
+    `length ${number(pad.length)} > ` +
+    `${number(basis.spreader_length_factor)} × ${number(bearingAlong)} mm`
   );
 }
 

@@ -7,6 +7,7 @@
 // nothing passes.
 
 import { InputError } from "./errors.js";
+import { number, utilisationText } from "./format.js";
 import { layout } from "./geometry.js";
 import { ACROSS } from "./inputs.js";
 import { checkBearing } from "./recheck.js";
@@ -29,7 +30,7 @@ export function remedy(
 ) {
   const [pad, padU] = smallestPadstone(inp, basis, sizes, classes);
   const [length, lengthU] = shortestBearing(inp, basis, step);
-  return {
+  const hint = {
     padstone:
       pad === null
         ? null
@@ -38,6 +39,26 @@ export function remedy(
     bearing_length: length,
     bearing_utilisation: lengthU,
   };
+  return { ...hint, words: describe(hint) };
+}
+
+// Remedy.describe(): the hint in words, as the CLI, the review page and the phone show it.
+export function describe(hint) {
+  const parts = [];
+  if (hint.padstone) {
+    const p = hint.padstone;
+    parts.push(
+      `a ${number(p.length)} x ${number(p.width)} x ${number(p.depth)} mm ${p.concrete} ` +
+        `padstone passes (util. ${utilisationText(hint.padstone_utilisation)})`,
+    );
+  }
+  if (hint.bearing_length !== null) {
+    parts.push(
+      `a bearing of ${number(hint.bearing_length)} mm passes ` +
+        `(util. ${utilisationText(hint.bearing_utilisation)})`,
+    );
+  }
+  return parts.join("; or ") || "no standard padstone or longer bearing passes: redesign";
 }
 
 // itertools.permutations of three, in its order.

@@ -13,7 +13,7 @@
 
 import { BS5628 } from "./basis.js";
 import { isSpreader } from "./checks.js";
-import { formatFixed, formatG, pyStr } from "./format.js";
+import { number, pyStr, utilisationText } from "./format.js";
 import { DEFAULT_SETTINGS } from "./serial.js";
 
 export const BLOCKS = "blocks";
@@ -167,7 +167,7 @@ export function review(
     if (c.kind !== INFORMATIVE && !c.passed) {
       const u = util(c.utilisation);
       out.push(
-        reason("check-fails", BLOCKS, `${c.title} fails as built (utilisation ${fmtUtil(u)}).`, {
+        reason("check-fails", BLOCKS, `${c.title} fails as built (${utilisationPhrase(u)}).`, {
           check: c.code,
           utilisation: u,
         }),
@@ -181,8 +181,8 @@ export function review(
       reason(
         "above-threshold",
         BLOCKS,
-        `Utilisation ${formatFixed(uBuilt, 2)} is above the site's review threshold ` +
-          `${formatFixed(s.threshold, 2)}.`,
+        `Utilisation ${utilisationText(uBuilt)} is above the site's review threshold ` +
+          `${utilisationText(s.threshold)}.`,
         { utilisation: uBuilt, threshold: s.threshold },
       ),
     );
@@ -193,8 +193,9 @@ export function review(
       reason(
         "utilisation-rise",
         BLOCKS,
-        `Utilisation rose from ${formatFixed(uDesign, 2)} as designed to ` +
-          `${fmtUtil(uBuilt)} as built, more than the allowed ${formatFixed(s.rise_margin, 2)}.`,
+        `Utilisation rose from ${utilisationText(uDesign)} as designed to ` +
+          `${utilisationText(uBuilt)} as built, more than the allowed ` +
+          `${utilisationText(s.rise_margin)}.`,
         { design: uDesign, as_built: uBuilt, margin: s.rise_margin },
       ),
     );
@@ -235,14 +236,8 @@ export function review(
   return out;
 }
 
-function fmtUtil(u) {
-  return u === Infinity ? "unbounded" : formatFixed(u, 2);
-}
-
-// Python's f"{x:+.0f}".
-function signed0(x) {
-  const text = formatFixed(x, 0);
-  return text.startsWith("-") ? text : `+${text}`;
+function utilisationPhrase(u) {
+  return u === Infinity ? "no capacity" : `utilisation ${utilisationText(u)}`;
 }
 
 function spreaderLost(design, asBuilt, basis) {
@@ -296,8 +291,8 @@ function dimensionReasons(design, asBuilt, s) {
       reason(
         `${slug}-off`,
         worse ? BLOCKS : ADVISORY,
-        `${label} is ${formatG(a)} mm as built against ${formatG(d)} mm designed ` +
-          `(${formatG(Math.abs(diff))} mm ${word}; tolerance ${formatG(tol)} mm).`,
+        `${label} is ${number(a)} mm as built against ${number(d)} mm designed ` +
+          `(${number(Math.abs(diff))} mm ${word}; tolerance ${number(tol)} mm).`,
         { design: d, as_built: a, tolerance: tol },
       ),
     );
@@ -346,9 +341,9 @@ function positionReasons(designResult, result, s) {
       reason(
         `${slug}-off`,
         worse ? BLOCKS : ADVISORY,
-        `${label} is ${signed0(av)} mm from the centre as built against ` +
-          `${signed0(dv)} mm designed ` +
-          `(tolerance ${formatG(s.tol_position)} mm).`,
+        `${label} is ${number(av, true)} mm from the centre as built against ` +
+          `${number(dv, true)} mm designed ` +
+          `(tolerance ${number(s.tol_position)} mm).`,
         { design: dv, as_built: av, tolerance: s.tol_position },
       ),
     );
@@ -357,7 +352,7 @@ function positionReasons(designResult, result, s) {
 }
 
 function describe(m) {
-  const strength = m.unit_strength != null ? ` ${formatG(m.unit_strength)} N/mm²` : "";
+  const strength = m.unit_strength != null ? ` ${number(m.unit_strength)} N/mm²` : "";
   return `${m.material} Group ${pyStr(m.group)}${strength} units in ${m.mortar} mortar`;
 }
 
@@ -378,8 +373,8 @@ function materialReasons(design, designResult, asBuilt, result) {
         "masonry-weaker",
         BLOCKS,
         `The masonry is weaker than designed: ${describe(am)} ` +
-          `(f_k ${formatFixed(afk, 2)} N/mm²) ` +
-          `against ${describe(dm)} (f_k ${formatFixed(dfk, 2)} N/mm²).`,
+          `(f_k ${number(afk)} N/mm²) ` +
+          `against ${describe(dm)} (f_k ${number(dfk)} N/mm²).`,
         { design_f_k: dfk, as_built_f_k: afk },
       ),
     );
@@ -389,7 +384,7 @@ function materialReasons(design, designResult, asBuilt, result) {
         "masonry-unverified",
         BLOCKS,
         `The masonry differs from the design (${describe(am)} against ${describe(dm)}), ` +
-          `whose f_k of ${formatFixed(dfk, 2)} N/mm² was declared: ` +
+          `whose f_k of ${number(dfk)} N/mm² was declared: ` +
           "the re-check keeps it, so confirm it holds.",
         { design_f_k: dfk },
       ),
@@ -413,7 +408,7 @@ function materialReasons(design, designResult, asBuilt, result) {
         "concrete-weaker",
         BLOCKS,
         "The padstone concrete is weaker than designed " +
-          `(f_cd ${formatFixed(ac, 1)} against ${formatFixed(dc, 1)} N/mm²).`,
+          `(f_cd ${number(ac)} against ${number(dc)} N/mm²).`,
         { design_f_cd: dc, as_built_f_cd: ac },
       ),
     );
@@ -431,8 +426,8 @@ function checklistReasons(c, s) {
       reason(
         "packing-thick",
         BLOCKS,
-        `Packing under the beam is ${formatG(c.packing)} mm thick; ` +
-          `more than ${formatG(s.max_packing)} mm needs the engineer.`,
+        `Packing under the beam is ${number(c.packing)} mm thick; ` +
+          `more than ${number(s.max_packing)} mm needs the engineer.`,
         { packing: c.packing, limit: s.max_packing },
       ),
     );

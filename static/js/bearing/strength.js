@@ -15,7 +15,7 @@ import {
   kValue,
 } from "./basis.js";
 import { InputError } from "./errors.js";
-import { formatFixed, formatG } from "./format.js";
+import { number } from "./format.js";
 import { pyMin } from "./formulas.js";
 import { makeStep, makeStrengths } from "./trace.js";
 import { concreteClassFck } from "./validate.js";
@@ -63,8 +63,8 @@ export function delta(unitHeight, unitWidth) {
     throw new InputError(
       "masonry.unit_width",
       unitWidth,
-      `a unit size inside EN 772-1 Table A.1 (a ${formatG(unitHeight)} mm high unit that is ` +
-        `${formatG(unitWidth)} mm wide falls in a blank cell); give the normalised strength f_b`,
+      `a unit size inside EN 772-1 Table A.1 (a ${number(unitHeight)} mm high unit that is ` +
+        `${number(unitWidth)} mm wide falls in a blank cell); give the normalised strength f_b`,
       "not-covered",
     );
   }
@@ -321,8 +321,8 @@ function fKFromUnitsEc6(mas, basis, steps) {
     throw new InputError(
       "masonry.unit_strength",
       mas.unit_strength,
-      `a normalised strength f_b of at most ${formatG(basis.f_b_max)} N/mm² for EN 1996-1-1 ` +
-        `eqn 3.1 (this unit gives ${formatFixed(fb, 1)}); give f_k directly`,
+      `a normalised strength f_b of at most ${number(basis.f_b_max)} N/mm² for EN 1996-1-1 ` +
+        `eqn 3.1 (this unit gives ${number(fb)}); give f_k directly`,
       "not-covered",
     );
   }
@@ -357,7 +357,7 @@ function fKFromUnitsEc6(mas, basis, steps) {
       makeStep(
         "Characteristic compressive strength, thin-layer mortar",
         "f_k",
-        `K · f_b^${formatG(exponent)}`,
+        `K · f_b^${number(exponent)}`,
         [
           ["K", K, ""],
           ["f_b", fb, "N/mm²"],

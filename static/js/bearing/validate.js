@@ -8,7 +8,7 @@
 
 import { BS5628, MORTAR_DESIGNATION } from "./basis.js";
 import { InputError } from "./errors.js";
-import { formatG } from "./format.js";
+import { number } from "./format.js";
 import {
   ACROSS,
   CONDITIONING,
@@ -210,8 +210,8 @@ function* geometryErrors(inp) {
       yield new InputError(
         "padstone.width",
         pad.width,
-        `no wider than the wall (${formatG(t)} mm, ` +
-          `give or take ${formatG(wallTolerance(t))} mm); ` +
+        `no wider than the wall (${number(t)} mm, ` +
+          `give or take ${number(wallTolerance(t))} mm); ` +
           "a padstone overhanging the wall is not covered",
         "wider-than-wall",
       );
@@ -222,7 +222,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.bearing_length",
         beam.bearing_length,
-        `no longer than the padstone it sits on (${formatG(spanRoom)} mm)`,
+        `no longer than the padstone it sits on (${number(spanRoom)} mm)`,
         "longer-than-padstone",
       );
       return;
@@ -233,7 +233,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.flange_width",
         beam.flange_width,
-        `no wider than the padstone under it (${formatG(pad.length)} mm)`,
+        `no wider than the padstone under it (${number(pad.length)} mm)`,
         "off-padstone",
       );
       return;
@@ -246,7 +246,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.flange_width",
         beam.flange_width,
-        `no wider than the wall (${formatG(t)} mm) for a beam in line with it and no padstone`,
+        `no wider than the wall (${number(t)} mm) for a beam in line with it and no padstone`,
         "wider-than-wall",
       );
       return;
@@ -255,7 +255,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.bearing_length",
         beam.bearing_length,
-        `no longer than the wall is thick (${formatG(t)} mm)`,
+        `no longer than the wall is thick (${number(t)} mm)`,
         "longer-than-wall",
       );
       return;
@@ -270,7 +270,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.offset_along",
         beam.offset_along,
-        `within ±${formatG(room)} mm so the flange stays wholly on the padstone`,
+        `within ±${number(room)} mm so the flange stays wholly on the padstone`,
         "off-padstone",
       );
     }
@@ -282,7 +282,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.offset_across",
         beam.offset_across,
-        `within ±${formatG(room)} mm so the flange stays wholly on the ${what}`,
+        `within ±${number(room)} mm so the flange stays wholly on the ${what}`,
         pad !== null ? "off-padstone" : "off-wall",
       );
     }
@@ -465,7 +465,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       null,
-      `a length of ${formatG(least)} to ${formatG(greatest)} mm`,
+      `a length of ${number(least)} to ${number(greatest)} mm`,
       "missing",
     );
   }
@@ -473,7 +473,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `a length in mm, ${formatG(least)} to ${formatG(greatest)}`,
+      `a length in mm, ${number(least)} to ${number(greatest)}`,
       "not-a-number",
     );
   }
@@ -481,7 +481,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `a positive length, ${formatG(least)} to ${formatG(greatest)} mm`,
+      `a positive length, ${number(least)} to ${number(greatest)} mm`,
       "not-positive",
     );
   }
@@ -489,9 +489,9 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `millimetres (${formatG(least)} to ${formatG(greatest)} mm); ` +
-        `${formatG(value)} looks like metres: ` +
-        `did you mean ${formatG(value * 1000)} mm?`,
+      `millimetres (${number(least)} to ${number(greatest)} mm); ` +
+        `${number(value)} looks like metres: ` +
+        `did you mean ${number(value * 1000)} mm?`,
       "looks-like-metres",
     );
   }
@@ -499,7 +499,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `${formatG(least)} to ${formatG(greatest)} mm`,
+      `${number(least)} to ${number(greatest)} mm`,
       "out-of-range",
     );
   }
