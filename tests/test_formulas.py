@@ -208,9 +208,14 @@ def test_ec6_partial_factors_uk_na(execution_class, category, gamma):
 
 
 def test_shape_factor_for_a_standard_brick():
-    # δ = 0.85 for a 65 mm high, 102.5 mm wide brick (methods note, seen in a public
-    # source, quoted to two decimals); our interpolation of EN 772-1 Table A.1 gives 0.845.
-    assert round(delta(65.0, 102.5) + 1e-12, 2) == 0.85
+    """A 65 mm high, 102.5 mm wide brick falls between two cells of EN 772-1 Table A.1
+    (from memory): 65 high × 100 wide → 0.85 (the value the methods note saw quoted for a
+    standard brick) and 65 high × 150 wide → 0.75. Linear interpolation between them
+    (EN 772-1 Annex A allows it, from memory) gives, by hand,
+    0.85 + (0.75 − 0.85) × (102.5 − 100)/(150 − 100) = 0.85 − 0.005 = 0.845."""
+    assert delta(65.0, 100.0) == pytest.approx(0.85)
+    assert delta(65.0, 150.0) == pytest.approx(0.75)
+    assert delta(65.0, 102.5) == pytest.approx(0.845, abs=1e-12)
 
 
 def test_shape_factor_table_cells():
