@@ -829,4 +829,23 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     out.append(("basis-unknown-value", {**ec6, "colour": "red"}, _full(_bearing())))
     out.append(("basis-unknown-name", {**ec6, "name": "BS 8110"}, _full(_bearing())))
     out.append(("basis-unknown-among-known", {"k_E": 900.0, "beta": 1.0}, _full(_bearing())))
+    # Values of a known basis that make no physical sense, each refused by name.
+    for name, changes in (
+        ("gamma-c-zero", {"gamma_c": 0.0}),
+        ("alpha-cc-text", {"alpha_cc": "0.85"}),
+        ("k-e-infinite", {"k_E": float("inf")}),
+        ("slenderness-limit-true", {"slenderness_limit": True}),
+        ("spreader-flag-text", {"spreader_route_for_groups_2_to_4": "yes"}),
+        ("k-value-too-large", {"k_values": {**ec6["k_values"], "clay|1|general": 5.0}}),
+        ("gamma-m-true", {"gamma_M_ec6": {**ec6["gamma_M_ec6"], "2|I": True}}),
+        ("bearing-type-factors-two", {"bearing_type_factors": [1.25, 1.5]}),
+        ("bearing-type-factor-zero", {"bearing_type_factors": [1.25, 0.0, 2.0]}),
+    ):
+        out.append((f"basis-{name}", {**ec6, **changes}, _full(_bearing())))
+    # Whole-number choices given as true, and an eccentricity the wall cannot carry.
+    add("group-true", change("masonry", group=True))
+    add("execution-class-true", change("masonry", execution_class=True))
+    add("bearing-type-true", change("top", bearing_type=True))
+    add("e-mk-infinite", change("top", e_mk=float("inf")))
+    add("e-mk-half-the-wall", change("top", e_mk=107.5))
     return out

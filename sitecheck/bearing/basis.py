@@ -9,7 +9,12 @@ sets a pass/fail limit is a field here, shown to the engineer and overridable pe
 
 from __future__ import annotations
 
+import math
+from collections.abc import Iterator
 from dataclasses import dataclass, field, fields, replace
+
+from .errors import InputError
+from .format import number
 
 EC6_UK = "EC6 + UK NA"
 BS5628 = "BS 5628-1"
@@ -135,6 +140,12 @@ class CodeBasis:
     inline_padstone_min_length: float = 200.0
     inline_web_tolerance: float = 10.0
 
+    def __post_init__(self) -> None:
+        # A basis is checked once, when it is made: every check then trusts it. A γ_c of
+        # 0 or an α_cc that is not a number would otherwise reach a formula.
+        for problem in basis_errors(self):
+            raise problem
+
     @property
     def is_ec6(self) -> bool:
         return self.name == EC6_UK
@@ -180,8 +191,6 @@ def basis_named(name: str, **overrides) -> CodeBasis:
         return ec6_uk_na(**overrides)
     if name == BS5628:
         return bs5628(**overrides)
-    from .errors import InputError
-
     raise InputError("basis", name, f"one of {', '.join(BASES)}", "bad-choice")
 
 
@@ -193,19 +202,110 @@ def basis_from_dict(data: dict) -> CodeBasis:
 
 
 def _coerce(overrides: dict) -> dict:
+    """Tables given as dicts become the basis's sorted tuples; numbers stay as given (a
+    text or a NaN is the validation's to name, not a float() call's to crash on)."""
     known = {f.name for f in fields(CodeBasis)}
     out = {}
     for key, value in overrides.items():
         if key not in known or key == "name":
-            from .errors import InputError
-
             raise InputError(f"basis.{key}", value, "a known code-basis value", "unknown-field")
         if key in _TABLE_FIELDS and isinstance(value, dict):
-            value = tuple(sorted((str(k), float(v)) for k, v in value.items()))
-        elif key == "bearing_type_factors":
-            value = tuple(float(v) for v in value)
+            value = tuple(sorted((str(k), _as_float(v)) for k, v in value.items()))
+        elif key == "bearing_type_factors" and isinstance(value, (list, tuple)):
+            value = tuple(_as_float(v) for v in value)
         out[key] = value
     return out
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+
+def _as_float(value: object) -> object:
+    return float(value) if _is_number(value) else value
+
+
+# Bounds of each value of a basis: generous, so that any value a standard or national
+# annex could give fits, and narrow enough to refuse the non-physical (a partial factor of
+# 0, a spread of 0°) and slips (a percentage typed as a ratio) [ours]. The settings form
+# applies the same bounds, so a site's stored basis always reads back.
+SCALAR_BOUNDS: dict[str, tuple[float, float]] = {
+    "gamma_c": (1.0, 3.0),
+    "alpha_cc": (0.5, 1.0),
+    "plb_limit_factor": (1.0, 5.0),
+    "padstone_spread_deg": (10.0, 80.0),
+    "f_b_max": (1.0, 200.0),
+    "f_m_max": (1.0, 50.0),
+    "masonry_spread_deg": (10.0, 80.0),
+    "beta_area_ratio_cap": (0.05, 1.0),
+    "spreader_min_depth": (0.0, 2000.0),
+    "spreader_length_factor": (0.0, 10.0),
+    "spreader_stress_factor": (1.0, 3.0),
+    "max_eccentricity_ratio": (0.01, 0.5),
+    "k_E": (100.0, 5000.0),
+    "e_mk_min_ratio": (0.0, 0.5),
+    "e_init_divisor": (100.0, 2000.0),
+    "dispersion_depth_ratio": (0.1, 1.0),
+    "bs_min_eccentricity_ratio": (0.0, 0.5),
+    "slenderness_limit": (5.0, 60.0),
+    "min_bearing_beam": (0.0, 1000.0),
+    "min_bearing_lintel": (0.0, 1000.0),
+    "inline_flange_allowance": (0.0, 500.0),
+    "inline_padstone_min_length": (0.0, 3000.0),
+    "inline_web_tolerance": (0.0, 200.0),
+}
+TABLE_BOUNDS: dict[str, tuple[float, float]] = {
+    "k_values": (0.1, 1.0),
+    "gamma_M_ec6": (1.0, 5.0),
+    "gamma_m_bs": (1.0, 5.0),
+    "bearing_type_factors": (1.0, 3.0),
+}
+FLAGS = ("spreader_route_for_groups_2_to_4",)
+
+
+def basis_errors(basis: CodeBasis) -> Iterator[InputError]:
+    """Every value of ``basis`` that makes no physical sense, in the order of its fields,
+    each an :class:`InputError` naming ``basis.<field>``."""
+    for f in fields(CodeBasis):
+        name, value = f.name, getattr(basis, f.name)
+        field = f"basis.{name}"
+        if name == "name":
+            if value not in BASES:
+                yield InputError("basis", value, f"one of {', '.join(BASES)}", "bad-choice")
+        elif name in FLAGS:
+            if not isinstance(value, bool):
+                yield InputError(field, value, "true or false", "not-a-choice")
+        elif name in SCALAR_BOUNDS:
+            yield from _bounded(field, value, *SCALAR_BOUNDS[name])
+        elif name == "bearing_type_factors":
+            if not isinstance(value, tuple) or len(value) != 3:
+                yield InputError(
+                    field, value, "three factors, for bearing types 1, 2 and 3", "bad-shape"
+                )
+                continue
+            for i, v in enumerate(value, start=1):
+                yield from _bounded(f"{field}.{i}", v, *TABLE_BOUNDS[name])
+        elif name in TABLE_BOUNDS:
+            if not isinstance(value, tuple) or not all(
+                isinstance(row, tuple) and len(row) == 2 and isinstance(row[0], str)
+                for row in value
+            ):
+                yield InputError(field, value, "a table of named values", "bad-shape")
+                continue
+            for key, v in value:
+                yield from _bounded(f"{field}.{key}", v, *TABLE_BOUNDS[name])
+
+
+def _bounded(field: str, value: object, least: float, greatest: float) -> Iterator[InputError]:
+    if not _is_number(value) or value != value or value in (math.inf, -math.inf):
+        yield InputError(field, value, "a finite number", "not-a-number")
+    elif not least <= value <= greatest:
+        yield InputError(
+            field,
+            value,
+            f"{number(least)} to {number(greatest)} for this code basis",
+            "out-of-range",
+        )
 
 
 # Where each default comes from, for the screens and the site record.

@@ -7,6 +7,7 @@ slip of units; they are not code limits.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterator
 from functools import lru_cache
 
@@ -129,8 +130,8 @@ def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
         and beam.member in MEMBERS
         and beam.reaction_at in REACTION_POSITIONS
         and _plain_masonry(inp, basis)
-        and inp.bearing_type in (1, 2, 3)
-        and (inp.e_mk is None or (type(inp.e_mk) is float and inp.e_mk >= 0))
+        and _whole_in(inp.bearing_type, (1, 2, 3))
+        and (inp.e_mk is None or (type(inp.e_mk) is float and 0 <= inp.e_mk < t / 2))
         and (inp.phi_m is None or (type(inp.phi_m) is float and 0 < inp.phi_m <= 1))
         and (inp.beta_s is None or (type(inp.beta_s) is float and 0 < inp.beta_s <= 1))
     )
@@ -141,11 +142,11 @@ def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
     mas = inp.masonry
     if not (
         mas.material in MATERIALS
-        and mas.group in (1, 2, 3, 4)
+        and _whole_in(mas.group, (1, 2, 3, 4))
         and mas.mortar in MORTARS
         and mas.conditioning in CONDITIONING
         and mas.unit_category in ("I", "II")
-        and mas.execution_class in (1, 2)
+        and _whole_in(mas.execution_class, (1, 2))
         and mas.manufacturing_control in CONTROL_LEVELS
         and mas.construction_control in CONTROL_LEVELS
     ):
@@ -263,12 +264,24 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
                 "bad-choice",
             )
 
-    if inp.bearing_type not in (1, 2, 3):
+    if not _whole_in(inp.bearing_type, (1, 2, 3)):
         yield InputError(
             "bearing_type", inp.bearing_type, "BS 5628-1 bearing type 1, 2 or 3", "bad-choice"
         )
-    if inp.e_mk is not None and (not _is_number(inp.e_mk) or inp.e_mk < 0):
-        yield InputError("e_mk", inp.e_mk, "an eccentricity of 0 mm or more", "out-of-range")
+    if inp.e_mk is not None:
+        t = wall.thickness
+        half = t / 2 if _is_number(t) and 0 < t < math.inf else None
+        if not _is_number(inp.e_mk) or not 0 <= inp.e_mk < (math.inf if half is None else half):
+            # At e_mk = t/2 the factor 1 − 2 e_mk/t is 0: the wall has no capacity left.
+            yield InputError(
+                "e_mk",
+                inp.e_mk,
+                "a finite eccentricity of 0 mm or more"
+                if half is None
+                else f"0 mm or more and less than half the wall's thickness "
+                f"({number(half)} mm)",
+                "out-of-range",
+            )
     for name, value in (("phi_m", inp.phi_m), ("beta_s", inp.beta_s)):
         if value is not None and (not _is_number(value) or not 0 < value <= 1):
             yield InputError(name, value, "a factor above 0 and at most 1", "out-of-range")
@@ -368,8 +381,8 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
     mas = inp.masonry
     if mas.material not in MATERIALS:
         yield _choice("masonry.material", mas.material, MATERIALS)
-    if mas.group not in (1, 2, 3, 4):
-        yield InputError("masonry.group", mas.group, "unit Group 1, 2, 3 or 4", "bad-choice")
+    if not _whole_in(mas.group, (1, 2, 3, 4)):
+        yield InputError("masonry.group", mas.group, "a whole number 1 to 4", "bad-choice")
     if mas.mortar not in MORTARS:
         yield _choice("masonry.mortar", mas.mortar, MORTARS)
     if mas.conditioning not in CONDITIONING:
@@ -378,7 +391,7 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
         yield InputError(
             "masonry.unit_category", mas.unit_category, "category I or II", "bad-choice"
         )
-    if mas.execution_class not in (1, 2):
+    if not _whole_in(mas.execution_class, (1, 2)):
         yield InputError(
             "masonry.execution_class", mas.execution_class, "execution class 1 or 2", "bad-choice"
         )
@@ -477,6 +490,12 @@ def _class_fck(concrete: str) -> float | None:
     if not 8 <= f_ck <= 90 or f_cube < f_ck:
         return None
     return f_ck
+
+
+def _whole_in(value: object, choices: tuple[int, ...]) -> bool:
+    """A whole number among ``choices``, as an int: 1.0 and True are not Group 1 (Python
+    counts both equal to 1, and a table look-up or the trace would show them otherwise)."""
+    return type(value) is int and value in choices
 
 
 def _is_number(value: object) -> bool:

@@ -41,6 +41,7 @@ from sitecheck.bearing import (
     basis_named,
     input_errors,
 )
+from sitecheck.bearing.basis import SCALAR_BOUNDS, TABLE_BOUNDS
 from sitecheck.bearing.inputs import (
     CONDITIONING,
     CONTROL_LEVELS,
@@ -662,32 +663,35 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
 
 # --- site settings: the code basis and the review settings -------------------------------------
 
-# Plausibility bounds of ours, to catch a slip (a percentage typed as a ratio, metres for
-# millimetres), not code limits: the engineer may set any value a standard could give.
+# What each scalar of the code basis is called on the form; its bounds are the core's
+# (sitecheck.bearing.basis.SCALAR_BOUNDS), so a value the form takes the core takes too.
+BASIS_LABELS: dict[str, tuple[str, str]] = {
+    "gamma_c": ("Partial factor for concrete γ_c", ""),
+    "alpha_cc": ("Long-term coefficient α_cc", ""),
+    "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", ""),
+    "padstone_spread_deg": ("Spread through the padstone", "°"),
+    "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²"),
+    "f_m_max": ("Greatest mortar strength f_m", "N/mm²"),
+    "masonry_spread_deg": ("Spread through the masonry", "°"),
+    "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", ""),
+    "spreader_min_depth": ("Spreader: least depth", "mm"),
+    "spreader_length_factor": ("Spreader: least length, × bearing length", ""),
+    "spreader_stress_factor": ("Spreader: stress limit, × f_d", ""),
+    "max_eccentricity_ratio": ("Greatest eccentricity across the wall, × t", ""),
+    "k_E": ("Modulus of elasticity, × f_k", ""),
+    "e_mk_min_ratio": ("Least mid-height eccentricity e_mk, × t", ""),
+    "e_init_divisor": ("Initial eccentricity e_init = h_ef / …", ""),
+    "dispersion_depth_ratio": ("Depth of the dispersion check, × h", ""),
+    "bs_min_eccentricity_ratio": ("Least eccentricity e_x, × t", ""),
+    "slenderness_limit": ("Greatest slenderness h_ef / t_ef", ""),
+    "min_bearing_beam": ("Least bearing of a steel beam", "mm"),
+    "min_bearing_lintel": ("Least end bearing of a lintel", "mm"),
+    "inline_flange_allowance": ("In line: flange may exceed t by", "mm"),
+    "inline_padstone_min_length": ("In line: least padstone length", "mm"),
+    "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm"),
+}
 BASIS_SCALARS: dict[str, tuple[str, str, float, float]] = {
-    "gamma_c": ("Partial factor for concrete γ_c", "", 1.0, 3.0),
-    "alpha_cc": ("Long-term coefficient α_cc", "", 0.5, 1.0),
-    "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", "", 1.0, 5.0),
-    "padstone_spread_deg": ("Spread through the padstone", "°", 10.0, 80.0),
-    "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²", 1.0, 200.0),
-    "f_m_max": ("Greatest mortar strength f_m", "N/mm²", 1.0, 50.0),
-    "masonry_spread_deg": ("Spread through the masonry", "°", 10.0, 80.0),
-    "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", "", 0.05, 1.0),
-    "spreader_min_depth": ("Spreader: least depth", "mm", 0.0, 2000.0),
-    "spreader_length_factor": ("Spreader: least length, × bearing length", "", 0.0, 10.0),
-    "spreader_stress_factor": ("Spreader: stress limit, × f_d", "", 1.0, 3.0),
-    "max_eccentricity_ratio": ("Greatest eccentricity across the wall, × t", "", 0.01, 0.5),
-    "k_E": ("Modulus of elasticity, × f_k", "", 100.0, 5000.0),
-    "e_mk_min_ratio": ("Least mid-height eccentricity e_mk, × t", "", 0.0, 0.5),
-    "e_init_divisor": ("Initial eccentricity e_init = h_ef / …", "", 100.0, 2000.0),
-    "dispersion_depth_ratio": ("Depth of the dispersion check, × h", "", 0.1, 1.0),
-    "bs_min_eccentricity_ratio": ("Least eccentricity e_x, × t", "", 0.0, 0.5),
-    "slenderness_limit": ("Greatest slenderness h_ef / t_ef", "", 5.0, 60.0),
-    "min_bearing_beam": ("Least bearing of a steel beam", "mm", 0.0, 1000.0),
-    "min_bearing_lintel": ("Least end bearing of a lintel", "mm", 0.0, 1000.0),
-    "inline_flange_allowance": ("In line: flange may exceed t by", "mm", 0.0, 500.0),
-    "inline_padstone_min_length": ("In line: least padstone length", "mm", 0.0, 3000.0),
-    "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm", 0.0, 200.0),
+    name: (label, unit, *SCALAR_BOUNDS[name]) for name, (label, unit) in BASIS_LABELS.items()
 }
 BASIS_GROUPS = (
     (
@@ -721,9 +725,9 @@ BASIS_GROUPS = (
     ),
 )
 SPREADER_FLAG = "spreader_route_for_groups_2_to_4"
-K_BOUNDS = (0.1, 1.0)
-GAMMA_BOUNDS = (1.0, 5.0)
-BEARING_TYPE_BOUNDS = (1.0, 3.0)
+K_BOUNDS = TABLE_BOUNDS["k_values"]
+GAMMA_BOUNDS = TABLE_BOUNDS["gamma_M_ec6"]
+BEARING_TYPE_BOUNDS = TABLE_BOUNDS["bearing_type_factors"]
 K_MORTARS = ("general", "thin-layer")
 GAMMA_M_EC6_ROWS = (
     ("1|I", "Execution class 1, category I"),

@@ -6,6 +6,7 @@
 // memory, [CP] common practice, [ours].
 
 import { InputError } from "./errors.js";
+import { number } from "./format.js";
 
 export const EC6_UK = "EC6 + UK NA";
 export const BS5628 = "BS 5628-1";
@@ -141,12 +142,18 @@ export function gammaMBsFor(basis, manufacturing, construction) {
 
 // EN 1996-1-1 and EN 1992-1-1 with the UK National Annexes' values (as labelled).
 export function ec6UkNa(overrides = {}) {
-  return { ...defaults(EC6_UK), ...coerce(overrides) };
+  return checked({ ...defaults(EC6_UK), ...coerce(overrides) });
 }
 
 // BS 5628-1 permissible local bearing with 45° dispersion, for existing buildings.
 export function bs5628(overrides = {}) {
-  return { ...defaults(BS5628), masonry_spread_deg: 45.0, ...coerce(overrides) };
+  return checked({ ...defaults(BS5628), masonry_spread_deg: 45.0, ...coerce(overrides) });
+}
+
+// CodeBasis.__post_init__: a basis is checked once, when it is made.
+function checked(basis) {
+  for (const problem of basisErrors(basis)) throw problem;
+  return basis;
 }
 
 export function basisNamed(name, overrides = {}) {
@@ -167,16 +174,107 @@ function coerce(overrides) {
     if (!KNOWN.has(key) || key === "name") {
       throw new InputError(`basis.${key}`, value, "a known code-basis value", "unknown-field");
     }
-    if (TABLE_FIELDS.includes(key) && value !== null && typeof value === "object") {
-      const rows = Array.isArray(value) ? value : Object.entries(value);
-      out[key] = Object.fromEntries(rows.map(([k, v]) => [String(k), Number(v)]));
-    } else if (key === "bearing_type_factors") {
-      out[key] = Array.from(value, Number);
+    // Numbers stay as given: a text or a NaN is the validation's to name.
+    if (TABLE_FIELDS.includes(key) && value !== null && typeof value === "object" && !Array.isArray(value)) {
+      const rows = Object.entries(value).sort((a, b) => (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : 0));
+      out[key] = Object.fromEntries(rows.map(([k, v]) => [String(k), v]));
+    } else if (key === "bearing_type_factors" && Array.isArray(value)) {
+      out[key] = Array.from(value);
     } else {
       out[key] = value;
     }
   }
   return out;
+}
+
+function isNumber(value) {
+  return typeof value === "number";
+}
+
+// Bounds of each value of a basis (basis.py SCALAR_BOUNDS, TABLE_BOUNDS) [ours].
+export const SCALAR_BOUNDS = {
+  gamma_c: [1.0, 3.0],
+  alpha_cc: [0.5, 1.0],
+  plb_limit_factor: [1.0, 5.0],
+  padstone_spread_deg: [10.0, 80.0],
+  f_b_max: [1.0, 200.0],
+  f_m_max: [1.0, 50.0],
+  masonry_spread_deg: [10.0, 80.0],
+  beta_area_ratio_cap: [0.05, 1.0],
+  spreader_min_depth: [0.0, 2000.0],
+  spreader_length_factor: [0.0, 10.0],
+  spreader_stress_factor: [1.0, 3.0],
+  max_eccentricity_ratio: [0.01, 0.5],
+  k_E: [100.0, 5000.0],
+  e_mk_min_ratio: [0.0, 0.5],
+  e_init_divisor: [100.0, 2000.0],
+  dispersion_depth_ratio: [0.1, 1.0],
+  bs_min_eccentricity_ratio: [0.0, 0.5],
+  slenderness_limit: [5.0, 60.0],
+  min_bearing_beam: [0.0, 1000.0],
+  min_bearing_lintel: [0.0, 1000.0],
+  inline_flange_allowance: [0.0, 500.0],
+  inline_padstone_min_length: [0.0, 3000.0],
+  inline_web_tolerance: [0.0, 200.0],
+};
+export const TABLE_BOUNDS = {
+  k_values: [0.1, 1.0],
+  gamma_M_ec6: [1.0, 5.0],
+  gamma_m_bs: [1.0, 5.0],
+  bearing_type_factors: [1.0, 3.0],
+};
+export const FLAGS = ["spreader_route_for_groups_2_to_4"];
+
+// basis_errors: every value that makes no physical sense, in the order of the fields.
+export function* basisErrors(basis) {
+  for (const name of Object.keys(defaults(EC6_UK))) {
+    const value = basis[name];
+    const field = `basis.${name}`;
+    if (name === "name") {
+      if (!BASES.includes(value)) {
+        yield new InputError("basis", value, `one of ${BASES.join(", ")}`, "bad-choice");
+      }
+    } else if (FLAGS.includes(name)) {
+      if (typeof value !== "boolean") {
+        yield new InputError(field, value, "true or false", "not-a-choice");
+      }
+    } else if (Object.hasOwn(SCALAR_BOUNDS, name)) {
+      yield* bounded(field, value, ...SCALAR_BOUNDS[name]);
+    } else if (name === "bearing_type_factors") {
+      if (!Array.isArray(value) || value.length !== 3) {
+        yield new InputError(
+          field,
+          value,
+          "three factors, for bearing types 1, 2 and 3",
+          "bad-shape",
+        );
+        continue;
+      }
+      for (const [i, v] of value.entries()) {
+        yield* bounded(`${field}.${i + 1}`, v, ...TABLE_BOUNDS[name]);
+      }
+    } else if (Object.hasOwn(TABLE_BOUNDS, name)) {
+      if (value === null || typeof value !== "object" || Array.isArray(value)) {
+        yield new InputError(field, value, "a table of named values", "bad-shape");
+        continue;
+      }
+      const keys = Object.keys(value).sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+      for (const key of keys) yield* bounded(`${field}.${key}`, value[key], ...TABLE_BOUNDS[name]);
+    }
+  }
+}
+
+function* bounded(field, value, least, greatest) {
+  if (!isNumber(value) || !Number.isFinite(value)) {
+    yield new InputError(field, value, "a finite number", "not-a-number");
+  } else if (!(least <= value && value <= greatest)) {
+    yield new InputError(
+      field,
+      value,
+      `${number(least)} to ${number(greatest)} for this code basis`,
+      "out-of-range",
+    );
+  }
 }
 
 // Where each default comes from, for the screens and the site record.

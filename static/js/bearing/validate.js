@@ -167,8 +167,20 @@ export function* inputErrorsIter(inp, basis) {
       "bad-choice",
     );
   }
-  if (inp.e_mk != null && (!isNumber(inp.e_mk) || inp.e_mk < 0)) {
-    yield new InputError("e_mk", inp.e_mk, "an eccentricity of 0 mm or more", "out-of-range");
+  if (inp.e_mk != null) {
+    const t = wall.thickness;
+    const half = isNumber(t) && 0 < t && t < Infinity ? t / 2 : null;
+    if (!isNumber(inp.e_mk) || !(0 <= inp.e_mk && inp.e_mk < (half === null ? Infinity : half))) {
+      // At e_mk = t/2 the factor 1 − 2 e_mk/t is 0: the wall has no capacity left.
+      yield new InputError(
+        "e_mk",
+        inp.e_mk,
+        half === null
+          ? "a finite eccentricity of 0 mm or more"
+          : `0 mm or more and less than half the wall's thickness (${number(half)} mm)`,
+        "out-of-range",
+      );
+    }
   }
   for (const [name, value] of [
     ["phi_m", inp.phi_m],
@@ -295,7 +307,7 @@ function* masonryErrors(inp, basis) {
     yield choice("masonry.material", mas.material, MATERIALS);
   }
   if (![1, 2, 3, 4].includes(mas.group)) {
-    yield new InputError("masonry.group", mas.group, "unit Group 1, 2, 3 or 4", "bad-choice");
+    yield new InputError("masonry.group", mas.group, "a whole number 1 to 4", "bad-choice");
   }
   if (!MORTARS.includes(mas.mortar)) yield choice("masonry.mortar", mas.mortar, MORTARS);
   if (!CONDITIONING.includes(mas.conditioning)) {
