@@ -111,6 +111,21 @@ def test_beta_area_ratio_is_capped_at_0_45():
     assert beta_ec6(0.0, 2400.0, 100_000.0, 100_000.0) > 1.0
 
 
+def test_beta_for_a_wall_that_runs_on_is_never_below_a_wall_with_an_end_near():
+    """A bearing low on a wall (h_c = 600 mm) with the area ratio at its cap, 0.45. By hand,
+    EN 1996-1-1 eqn 6.10 with its limits (from memory):
+    an opening 1200 mm away: (1 + 0.3 × 1200/600)(1.5 − 1.1 × 0.45) = 1.6 × 1.005 = 1.608,
+    capped at min(1.25 + 1200/1200, 1.5) = 1.5;
+    the same wall running on, read as a1 = h_c (the old reading):
+    (1 + 0.3)(1.005) = 1.3065, worse than with the opening. A wall that runs on has
+    a1 → ∞ and takes the upper limit, 1.5 (methods note §8)."""
+    with_opening = beta_ec6(1200.0, 600.0, 45_000.0, 100_000.0)
+    assert with_opening == pytest.approx(1.5)
+    running_on = beta_ec6(None, 600.0, 45_000.0, 100_000.0)
+    assert running_on == pytest.approx(1.5) and running_on >= with_opening
+    assert beta_ec6(600.0, 600.0, 45_000.0, 100_000.0) == pytest.approx(1.3065)
+
+
 def test_beta_formula_between_its_limits():
     # EN 1996-1-1 eqn 6.10 by hand: a1 = 240, h_c = 2400, ratio 0.3:
     # (1 + 0.3 × 0.1)(1.5 − 0.33) = 1.03 × 1.17 = 1.2051; upper = 1.25 + 0.05 = 1.30.

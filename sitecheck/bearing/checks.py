@@ -329,10 +329,7 @@ def ec6_bearing_with_ends(
     if enhanced:
         ratio_raw = a_b / a_ef
         ratio = min(ratio_raw, basis.beta_area_ratio_cap)
-        a1 = near if near is not None else h_c  # a wall running on both ways: a1/h_c ≥ 0.5
-        beta_raw = (1 + 0.3 * a1 / h_c) * (1.5 - 1.1 * ratio)
-        beta_max = beta_ec6_upper(a1, h_c)
-        beta = beta_ec6(a1, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
+        beta = beta_ec6(near, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
         steps.append(
             make_step(
                 "Area ratio, capped",
@@ -345,33 +342,49 @@ def ec6_bearing_with_ends(
                 "M",
             )
         )
-        steps.append(
-            make_step(
-                "Enhancement factor for concentrated loads",
-                "β",
-                "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
-                (("a1", a1, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
-                beta_raw,
-                "",
-                "EN 1996-1-1 6.1.3 eqn 6.10",
-                "P",
-            )
-        )
-        steps.append(
-            make_step(
-                "β within its limits",
-                "β",
-                "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
-                (("upper", beta_max, ""),),
-                beta,
-                "",
-                "EN 1996-1-1 6.1.3(3)",
-                "M",
-            )
-        )
         if near is None:
+            # No end near: a1 → ∞. The formula and its upper limit both pass 1.5, so β is
+            # 1.5: a wall that runs on is never worse than one with an end nearby.
+            steps.append(
+                make_step(
+                    "Enhancement factor, the wall running on both ways",
+                    "β",
+                    "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
+                    (("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+                    beta,
+                    "",
+                    "EN 1996-1-1 6.1.3(3)",
+                    "M",
+                )
+            )
             notes.append(
-                "The wall runs on both ways: a1 is taken large, so β reaches its upper limit when the area ratio allows."
+                "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its "
+                "upper limit, 1.5, never less than the same wall with an end nearby."
+            )
+        else:
+            steps.append(
+                make_step(
+                    "Enhancement factor for concentrated loads",
+                    "β",
+                    "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+                    (("a1", near, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+                    (1 + 0.3 * near / h_c) * (1.5 - 1.1 * ratio),
+                    "",
+                    "EN 1996-1-1 6.1.3 eqn 6.10",
+                    "P",
+                )
+            )
+            steps.append(
+                make_step(
+                    "β within its limits",
+                    "β",
+                    "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+                    (("upper", beta_ec6_upper(near, h_c), ""),),
+                    beta,
+                    "",
+                    "EN 1996-1-1 6.1.3(3)",
+                    "M",
+                )
             )
     else:
         beta = 1.0

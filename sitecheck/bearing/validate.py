@@ -278,8 +278,7 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
                 inp.e_mk,
                 "a finite eccentricity of 0 mm or more"
                 if half is None
-                else f"0 mm or more and less than half the wall's thickness "
-                f"({number(half)} mm)",
+                else f"0 mm or more and less than half the wall's thickness ({number(half)} mm)",
                 "out-of-range",
             )
     for name, value in (("phi_m", inp.phi_m), ("beta_s", inp.beta_s)):

@@ -318,10 +318,7 @@ export function ec6BearingWithEnds(
   if (enhanced) {
     const ratioRaw = aB / aEf;
     const ratio = pyMin(ratioRaw, basis.beta_area_ratio_cap);
-    const a1 = near != null ? near : h_c; // a wall running on both ways: a1/h_c ≥ 0.5
-    const betaRaw = (1 + (0.3 * a1) / h_c) * (1.5 - 1.1 * ratio);
-    const betaMax = betaEc6Upper(a1, h_c);
-    beta = betaEc6(a1, h_c, aB, aEf, basis.beta_area_ratio_cap);
+    beta = betaEc6(near, h_c, aB, aEf, basis.beta_area_ratio_cap);
     steps.push(
       makeStep(
         "Area ratio, capped",
@@ -338,38 +335,55 @@ export function ec6BearingWithEnds(
         "M",
       ),
     );
-    steps.push(
-      makeStep(
-        "Enhancement factor for concentrated loads",
-        "β",
-        "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
-        [
-          ["a1", a1, "mm"],
-          ["h_c", h_c, "mm"],
-          ["A_b/A_ef", ratio, ""],
-        ],
-        betaRaw,
-        "",
-        "EN 1996-1-1 6.1.3 eqn 6.10",
-        "P",
-      ),
-    );
-    steps.push(
-      makeStep(
-        "β within its limits",
-        "β",
-        "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
-        [["upper", betaMax, ""]],
-        beta,
-        "",
-        "EN 1996-1-1 6.1.3(3)",
-        "M",
-      ),
-    );
     if (near == null) {
+      // No end near: a1 → ∞, so β is 1.5 (checks.py).
+      steps.push(
+        makeStep(
+          "Enhancement factor, the wall running on both ways",
+          "β",
+          "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
+          [
+            ["h_c", h_c, "mm"],
+            ["A_b/A_ef", ratio, ""],
+          ],
+          beta,
+          "",
+          "EN 1996-1-1 6.1.3(3)",
+          "M",
+        ),
+      );
       notes.push(
-        "The wall runs on both ways: a1 is taken large, " +
-          "so β reaches its upper limit when the area ratio allows.",
+        "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its " +
+          "upper limit, 1.5, never less than the same wall with an end nearby.",
+      );
+    } else {
+      steps.push(
+        makeStep(
+          "Enhancement factor for concentrated loads",
+          "β",
+          "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+          [
+            ["a1", near, "mm"],
+            ["h_c", h_c, "mm"],
+            ["A_b/A_ef", ratio, ""],
+          ],
+          (1 + (0.3 * near) / h_c) * (1.5 - 1.1 * ratio),
+          "",
+          "EN 1996-1-1 6.1.3 eqn 6.10",
+          "P",
+        ),
+      );
+      steps.push(
+        makeStep(
+          "β within its limits",
+          "β",
+          "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+          [["upper", betaEc6Upper(near, h_c), ""]],
+          beta,
+          "",
+          "EN 1996-1-1 6.1.3(3)",
+          "M",
+        ),
       );
     }
   } else {
