@@ -350,6 +350,42 @@ def _named_checks() -> list[tuple[str, object, dict]]:
             ec6,
             _bearing(wall={"effective_thickness": 180.0, "clear_height": 2600.0}, wall_load=35.0),
         ),
+        # End bearings under a triangle: both readings of the loaded length, each governing
+        # somewhere (the hand examples of tests/test_recheck.py).
+        (
+            "ec6-end-bearing-whole-window-governs",
+            ec6,
+            _bearing(
+                reaction=58_000.0,
+                beam={"orientation": IN_LINE, "flange_width": 150.0},
+                wall={"a1": 0.0},
+                masonry={"f_k": 5.0, "gamma_M": 2.5, "unit_strength": None},
+                padstone={"length": 300.0, "depth": 215.0},
+            ),
+        ),
+        (
+            "ec6-end-bearing-spreader-both-readings",
+            ec6,
+            _bearing(
+                beam={"orientation": IN_LINE, "flange_width": 150.0},
+                wall={"a1": 25.0, "a2": 60.0},
+                padstone={"length": 1000.0, "depth": 250.0},
+            ),
+        ),
+        (
+            "bs-end-bearing-contact-governs",
+            bs,
+            _bearing(
+                reaction=60_000.0,
+                wall_load=166.0,
+                beam={"orientation": IN_LINE, "flange_width": 150.0},
+                wall={"a1": 0.0},
+                masonry={"material": "clay", "f_k": 7.0, "gamma_M": 3.5, "unit_strength": None},
+                padstone={"length": 300.0, "depth": 215.0},
+                bearing_type=3,
+                beta_s=0.5,
+            ),
+        ),
         ("bs-across-on-padstone", bs, _bearing(masonry=_BRICK)),
         ("bs-brick-20-m4-table-value", bs, _bearing(masonry=_BRICK, padstone=None)),
         (

@@ -14,7 +14,18 @@ from dataclasses import replace
 import pytest
 
 from bearings import across_on_padstone, brick_in_line_end
-from sitecheck.bearing import Beam, Load, Masonry, Padstone, Wall, bs5628, check_bearing, ec6_uk_na
+from sitecheck.bearing import (
+    IN_LINE,
+    Beam,
+    BearingInput,
+    Load,
+    Masonry,
+    Padstone,
+    Wall,
+    bs5628,
+    check_bearing,
+    ec6_uk_na,
+)
 
 
 def test_hand_calculation_ec6_beam_across_wall_on_padstone():
@@ -271,3 +282,95 @@ def test_site_overrides_reach_the_checks():
     assert r.strengths.f_cd == pytest.approx(25 / 1.5)
     # A site that turns the trade minimum bearing to 160 mm fails a 150 mm bearing.
     assert not check_bearing(across_on_padstone(), ec6_uk_na(min_bearing_beam=160.0)).passed
+
+
+# ---------------------------------------------------------------- both readings under a triangle
+
+
+def _end_bearing(**changes) -> BearingInput:
+    """Invented sizes: a 150 mm flange bearing 150 mm in line with a 215 mm wall, flush
+    with the span end of a 300 × 215 × 215 padstone at the very end of the wall (a1 = 0;
+    the wall runs on the other way)."""
+    inp = BearingInput(
+        load=Load(reaction=58_000.0),
+        beam=Beam(flange_width=150.0, bearing_length=150.0, orientation=IN_LINE),
+        wall=Wall(thickness=215.0, height_to_bearing=2400.0, a1=0.0),
+        masonry=Masonry(material="aggregate concrete", group=1, f_k=5.0, gamma_M=2.5),
+        padstone=Padstone(length=300.0, width=215.0, depth=215.0),
+    )
+    return replace(inp, **changes)
+
+
+def test_end_bearing_where_the_whole_window_governs_beta():
+    """EC6 local check (EN 1996-1-1 6.1.3, eqn 6.10 and its limits from memory), by hand.
+
+    Spread through the padstone at 45°: 215 mm each side of the 0–150 footprint reaches
+    both ends of the 300 mm padstone, so it acts as rigid: window 0–300, W = 215.
+    Reaction at x = 75: e = 75 − 150 = −75, beyond L/6 = 50, a triangle with contact
+    c = 3 (150 − 75) = 225 mm at the loaded end; σ_max = 2N/(W c) = 116 000/48 375
+    = 2.39793 N/mm². f_d = f_k/γ_M = 5.0/2.5 = 2.0. s = (h_c/2)/tan 60° = 692.820 mm.
+
+    Whole window: A_b = 215 × 300 = 64 500; l_efm = 300 + 0 (a1 = 0) + 692.820 = 992.820;
+    A_b/A_ef = 64 500/(992.820 × 215) = 0.302169; β = (1 + 0)(1.5 − 1.1 × 0.302169)
+    = 1.167614 (≤ 1.25 + 0); utilisation 2.39793/(1.167614 × 2.0) = 1.02685.
+    Contact length: A_b = 215 × 225 = 48 375; l_efm = 225 + 692.820 = 917.820;
+    A_b/A_ef = 0.245146; β = 1.230339; utilisation 0.97450.
+
+    The contact length alone would pass the bearing; the whole window fails it and
+    governs (methods note §8: the higher utilisation)."""
+    r = check_bearing(_end_bearing(), ec6_uk_na())
+    assert r.spread.distribution == "triangle" and r.spread.rigid
+    c = r.check("masonry-bearing")
+    steps = {s.label: s.value for s in c.steps}
+    assert steps["β within its limits, whole-window reading"] == pytest.approx(1.167614, rel=1e-6)
+    assert steps["β within its limits, contact-length reading"] == pytest.approx(1.230339, rel=1e-6)
+    assert c.utilisation == pytest.approx(1.02685, rel=1e-5) and not c.passed
+    assert r.governing == "masonry-bearing" and not r.passed
+    note = " ".join(c.notes)
+    assert "whole-window reading 1.03; contact-length reading 0.97" in note
+    assert "the whole-window reading, with the higher utilisation, governs" in note
+
+    # At mid-height the contact length is the shorter spread, so it governs there:
+    # n = 58 000/917.820 = 63.193 N/mm against 58 000/992.820 = 58.419 N/mm.
+    m = r.check("mid-height")
+    assert m.demand == pytest.approx(63.1932, rel=1e-5)
+    assert "the contact-length reading, with the higher utilisation, governs" in " ".join(m.notes)
+    assert r.spread.spread_reading == "contact-length reading"
+    assert r.spread.spread_length == pytest.approx(917.820, rel=1e-6)
+
+
+def test_end_bearing_where_the_contact_length_governs_the_dispersion():
+    """BS 5628-1 clause 34 at 0.4 h (dispersion at 45°), by hand, on the same end bearing
+    with 60 kN, 166 kN/m of other load on the wall, f_k/γ_m = 7.0/3.5 = 2.0 and a declared
+    β = 0.5. Depth 0.4 × 2400 = 960 mm, so 960 mm of spread on the side that runs on and
+    none at the wall's end (a1 = 0).
+
+    Whole window: l_d = 300 + 960 = 1260; n = 60 000/1260 + 166 = 213.619 N/mm;
+    capacity β t f_k/γ_m = 0.5 × 215 × 2.0 = 215 N/mm: utilisation 0.99358.
+    Contact length: l_d = 225 + 960 = 1185; n = 50.633 + 166 = 216.633: utilisation 1.00760.
+
+    The whole window alone would pass; the contact length fails and governs. The local
+    bearing is 2N/(W c) = 2.48062 N/mm² against type 3, 2.0 × 2.0 = 4.0: 0.62016."""
+    inp = _end_bearing(
+        load=Load(reaction=60_000.0, wall_load=166.0),
+        masonry=Masonry(material="clay", group=1, f_k=7.0, gamma_M=3.5),
+        bearing_type=3,
+        beta_s=0.5,
+    )
+    r = check_bearing(inp, bs5628())
+    d = r.check("dispersion")
+    steps = {s.label: s.value for s in d.steps}
+    assert steps["Length the load has spread over at that depth, whole-window reading"] == 1260.0
+    assert steps["Length the load has spread over at that depth, contact-length reading"] == 1185.0
+    assert d.utilisation == pytest.approx(1.00760, rel=1e-5) and not d.passed
+    assert r.check("masonry-bearing").utilisation == pytest.approx(0.62016, rel=1e-5)
+    assert r.governing == "dispersion" and not r.passed
+    assert "whole-window reading 0.99; contact-length reading 1.01" in " ".join(d.notes)
+    assert r.spread.spread_reading == "contact-length reading"
+
+
+def test_a_uniform_or_trapezoid_pressure_has_one_reading():
+    r = check_bearing(across_on_padstone(), ec6_uk_na())
+    assert r.spread.distribution != "triangle" and r.spread.spread_reading == ""
+    labels = [s.label for s in r.check("masonry-bearing").steps]
+    assert not any("reading" in label for label in labels)

@@ -5,9 +5,9 @@ from __future__ import annotations
 import math
 
 from .basis import CodeBasis
-from .format import number
+from .format import number, utilisation
 from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
-from .geometry import Layout, Pressure, end_distances, spread_length
+from .geometry import Layout, Pressure, Reading, readings, spread_length, worse
 from .inputs import ACROSS, IN_LINE, BearingInput, Masonry, Wall
 from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check, make_step
 
@@ -235,24 +235,22 @@ def ec6_masonry_bearing(
     code: str = "masonry-bearing",
     title: str = "Masonry under the concentrated load",
     kind: str = STRENGTH,
-) -> tuple[Check, float, float | None, float | None]:
+) -> Check:
     """EN 1996-1-1 6.1.3: σ under the load ≤ β · f_d (eqns 6.9–6.10) [P; details M].
 
     β = (1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef), 1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5), with
     A_b/A_ef not above 0.45 and A_ef = l_efm · t, l_efm spreading at 60° down to h_c/2.
     β = 1.0 for Group 2–4 units or shell bedding. Through a stiff spreader (width t, depth
     > 200 mm, length > 3 × the bearing length) σ ≤ 1.5 f_d instead. The peak of the linear
-    pressure is compared, so an end bearing is not averaged away.
-
-    Returns the check, l_efm and the effective end distances.
+    pressure is compared, so an end bearing is not averaged away. Under a triangle of
+    pressure β is worked on both readings of the loaded length and the lower kept
+    (:func:`~.geometry.readings`).
     """
     wall = inp.wall
-    e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
-    check, l_efm = ec6_bearing_with_ends(
+    return ec6_bearing_on_readings(
         inp.masonry,
         wall,
-        e1,
-        e2,
+        readings(lay, pres, wall.a1, wall.a2),
         pres,
         st,
         basis,
@@ -263,14 +261,34 @@ def ec6_masonry_bearing(
         title=title,
         kind=kind,
     )
-    return check, l_efm, e1, e2
 
 
-def ec6_bearing_with_ends(
+def _named(label: str, reading: Reading) -> str:
+    return f"{label}, {reading.name}" if reading.name else label
+
+
+def _governing_reading_note(what: str, worked: list[tuple[float, Reading]], chosen: Reading) -> str:
+    shown = "; ".join(f"{r.name} {utilisation(u)}" for u, r in worked)
+    head = (
+        "Under the triangle of pressure the codes do not say which loaded length to take: "
+        f"{what} was worked on both (utilisation: {shown})"
+    )
+    if all(u == worked[0][0] for u, _ in worked):
+        return f"{head}; both give the same (the wall's end cuts the spread of each alike)."
+    return f"{head} and the {chosen.name}, with the higher utilisation, governs."
+
+
+def l_efm_of(reading: Reading, h_c: float, basis: CodeBasis) -> float:
+    """Effective length at mid-height: the loaded length spread at 60° (EC6) down to
+    h_c/2 on each side, each side cut by the wall's end, EN 1996-1-1 6.1.3 Figure 6.2 [P]."""
+    s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
+    return spread_length(reading.length, reading.e1, reading.e2, s60)
+
+
+def ec6_bearing_on_readings(
     mas: Masonry,
     wall: Wall,
-    e1: float | None,
-    e2: float | None,
+    reads: tuple[Reading, ...],
     pres: Pressure,
     st: Strengths,
     basis: CodeBasis,
@@ -281,123 +299,94 @@ def ec6_bearing_with_ends(
     code: str,
     title: str,
     kind: str,
-) -> tuple[Check, float]:
-    """:func:`ec6_masonry_bearing` once the loaded area's end distances ``e1``, ``e2`` and
-    the spreader (its description, or None) are known; ``on_padstone`` says whether a
-    padstone carries the load. The direct-bearing check places the beam straight on the
-    masonry this way without building an input for it. Returns the check and l_efm.
-    """
+) -> Check:
+    """:func:`ec6_masonry_bearing` once the readings of the loaded length and the spreader
+    (its description, or None) are known; ``on_padstone`` says whether a padstone carries
+    the load. The direct-bearing check places the beam straight on the masonry this way
+    without building an input for it."""
     t, h_c = wall.thickness, wall.height_to_bearing
-    width, contact = pres.width, pres.contact_length
-    s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
-    l_efm = spread_length(contact, e1, e2, s60)
-    a_b = width * contact  # pres.area
-    a_ef = l_efm * t
-    steps.append(
-        make_step(
-            "Loaded area on the masonry",
-            "A_b",
-            "W · contact length",
-            (("W", width, "mm"), ("contact", contact, "mm")),
-            a_b,
-            "mm²",
-            "EN 1996-1-1 6.1.3",
-            "P",
-        )
-    )
-    steps.append(
-        make_step(
-            "Effective length at mid-height of the wall below",
-            "l_efm",
-            "contact + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
-            (("h_c", h_c, "mm"), ("a1", e1, "mm"), ("a2", e2, "mm")),
-            l_efm,
-            "mm",
-            "EN 1996-1-1 6.1.3, Figure 6.2",
-            "P",
-        )
-    )
-    notes: list[str] = []
-    # The nearer end of the wall, if any.
-    if e1 is None:
-        near = e2
-    elif e2 is None:
-        near = e1
-    else:
-        near = min(e1, e2)
+    width = pres.width
     enhanced = mas.group == 1 and not mas.shell_bedded
-    if enhanced:
-        ratio_raw = a_b / a_ef
-        ratio = min(ratio_raw, basis.beta_area_ratio_cap)
-        beta = beta_ec6(near, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
+    spreader_allowed = spreader is not None and (enhanced or basis.spreader_route_for_groups_2_to_4)
+    notes: list[str] = []
+    worked: list[tuple[float, Reading]] = []
+    factors: dict[Reading, tuple[float, str, float]] = {}
+    runs_on = False
+    for r in reads:
+        a_b = width * r.length
+        l_efm = l_efm_of(r, h_c, basis)
+        a_ef = l_efm * t
         steps.append(
             make_step(
-                "Area ratio, capped",
-                "A_b/A_ef",
-                "min(A_b / (l_efm · t), 0.45)",
-                (("A_b", a_b, "mm²"), ("A_ef", a_ef, "mm²"), ("uncapped", ratio_raw, "")),
-                ratio,
-                "",
-                "EN 1996-1-1 6.1.3(3)",
-                "M",
+                _named("Loaded area on the masonry", r),
+                "A_b",
+                "W · loaded length",
+                (("W", width, "mm"), ("loaded length", r.length, "mm")),
+                a_b,
+                "mm²",
+                "EN 1996-1-1 6.1.3",
+                "P",
             )
         )
-        if near is None:
-            # No end near: a1 → ∞. The formula and its upper limit both pass 1.5, so β is
-            # 1.5: a wall that runs on is never worse than one with an end nearby.
-            steps.append(
-                make_step(
-                    "Enhancement factor, the wall running on both ways",
-                    "β",
-                    "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
-                    (("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
-                    beta,
-                    "",
-                    "EN 1996-1-1 6.1.3(3)",
-                    "M",
-                )
+        steps.append(
+            make_step(
+                _named("Effective length at mid-height of the wall below", r),
+                "l_efm",
+                "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+                (("h_c", h_c, "mm"), ("a1", r.e1, "mm"), ("a2", r.e2, "mm")),
+                l_efm,
+                "mm",
+                "EN 1996-1-1 6.1.3, Figure 6.2",
+                "P",
             )
-            notes.append(
-                "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its "
-                "upper limit, 1.5, never less than the same wall with an end nearby."
-            )
+        )
+        # The nearer end of the wall, if any.
+        if r.e1 is None:
+            near = r.e2
+        elif r.e2 is None:
+            near = r.e1
         else:
-            steps.append(
-                make_step(
-                    "Enhancement factor for concentrated loads",
-                    "β",
-                    "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
-                    (("a1", near, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
-                    (1 + 0.3 * near / h_c) * (1.5 - 1.1 * ratio),
-                    "",
-                    "EN 1996-1-1 6.1.3 eqn 6.10",
-                    "P",
-                )
-            )
-            steps.append(
-                make_step(
-                    "β within its limits",
-                    "β",
-                    "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
-                    (("upper", beta_ec6_upper(near, h_c), ""),),
-                    beta,
-                    "",
-                    "EN 1996-1-1 6.1.3(3)",
-                    "M",
-                )
-            )
-    else:
-        beta = 1.0
+            near = min(r.e1, r.e2)
+        if enhanced:
+            beta = _ec6_beta_steps(r, near, h_c, a_b, a_ef, basis, steps)
+            runs_on = runs_on or near is None
+        else:
+            beta = 1.0
+        factor, route = beta, "β"
+        if spreader_allowed and basis.spreader_stress_factor > factor:
+            factor, route = basis.spreader_stress_factor, "spreader"
+        factors[r] = (factor, route, a_b)
+        worked.append((pres.sigma_max / (factor * st.f_d), r))
+    if not enhanced:
         why = "shell-bedded" if mas.shell_bedded else f"Group {mas.group} units"
         steps.append(
             make_step(
                 f"No enhancement for {why}", "β", "1.0", (), 1.0, "", "EN 1996-1-1 6.1.3(2)", "M"
             )
         )
-    factor, route = beta, "β"
-    if spreader is not None and (enhanced or basis.spreader_route_for_groups_2_to_4):
-        if basis.spreader_stress_factor > factor:
-            factor, route = basis.spreader_stress_factor, "spreader"
+    _, chosen = worse(worked)
+    factor, route, a_b = factors[chosen]
+    if len(reads) > 1:
+        steps.append(
+            make_step(
+                "Factor kept: the lower of the two readings (the higher utilisation)",
+                "β" if route == "β" else "factor",
+                "min(whole window, contact length)",
+                tuple((r.name, factors[r][0], "") for r in reads),
+                factor,
+                "",
+                "EN 1996-1-1 6.1.3",
+                "ours",
+            )
+        )
+        notes.append(_governing_reading_note("β", worked, chosen))
+    if runs_on:
+        notes.append(
+            "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its "
+            "upper limit, 1.5, never less than the same wall with an end nearby."
+        )
+    if spreader_allowed:
+        if route == "spreader":
             notes.append(f"The padstone is a spreader ({spreader}): σ ≤ 1.5 f_d applies.")
     elif on_padstone:
         notes.append(
@@ -428,10 +417,77 @@ def ec6_bearing_with_ends(
             "P",
         )
     )
-    check = make_check(
+    return make_check(
         code, title, kind, pres.sigma_max, cap, "N/mm²", "EN 1996-1-1 6.1.3", "P", steps, notes
     )
-    return check, l_efm
+
+
+def _ec6_beta_steps(
+    r: Reading,
+    near: float | None,
+    h_c: float,
+    a_b: float,
+    a_ef: float,
+    basis: CodeBasis,
+    steps: list[Step],
+) -> float:
+    """β of one reading, each step of it in the trace."""
+    ratio_raw = a_b / a_ef
+    ratio = min(ratio_raw, basis.beta_area_ratio_cap)
+    beta = beta_ec6(near, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
+    steps.append(
+        make_step(
+            _named("Area ratio, capped", r),
+            "A_b/A_ef",
+            "min(A_b / (l_efm · t), 0.45)",
+            (("A_b", a_b, "mm²"), ("A_ef", a_ef, "mm²"), ("uncapped", ratio_raw, "")),
+            ratio,
+            "",
+            "EN 1996-1-1 6.1.3(3)",
+            "M",
+        )
+    )
+    if near is None:
+        # No end near: a1 → ∞. The formula and its upper limit both pass 1.5, so β is
+        # 1.5: a wall that runs on is never worse than one with an end nearby.
+        steps.append(
+            make_step(
+                _named("Enhancement factor, the wall running on both ways", r),
+                "β",
+                "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
+                (("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+                beta,
+                "",
+                "EN 1996-1-1 6.1.3(3)",
+                "M",
+            )
+        )
+        return beta
+    steps.append(
+        make_step(
+            _named("Enhancement factor for concentrated loads", r),
+            "β",
+            "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+            (("a1", near, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+            (1 + 0.3 * near / h_c) * (1.5 - 1.1 * ratio),
+            "",
+            "EN 1996-1-1 6.1.3 eqn 6.10",
+            "P",
+        )
+    )
+    steps.append(
+        make_step(
+            _named("β within its limits", r),
+            "β",
+            "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+            (("upper", beta_ec6_upper(near, h_c), ""),),
+            beta,
+            "",
+            "EN 1996-1-1 6.1.3(3)",
+            "M",
+        )
+    )
+    return beta
 
 
 def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
@@ -568,13 +624,15 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
 
 
 def ec6_mid_height(
-    inp: BearingInput, lay: Layout, st: Strengths, l_efm: float, basis: CodeBasis
-) -> Check:
+    inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
+) -> tuple[Check, Reading, float]:
     """At mid-height below the bearing: N_Ed/l_efm + other load ≤ Φ_m · t · f_d, EN 1996-1-1
     6.1.2 with Φ_m from Annex G [M]: Φ_m = A1 e^(−u²/2), A1 = 1 − 2 e_mk/t,
     u = (λ − 0.063)/(0.73 − 1.17 e_mk/t), λ = (h_ef/t_ef)·√(f_k/E), E = 1000 f_k.
     e_mk defaults to max(0.05 t, |e|/2 + h_ef/450): half the top eccentricity at mid-height
-    of a pinned wall [CP] plus the initial eccentricity."""
+    of a pinned wall [CP] plus the initial eccentricity. Under a triangle of pressure l_efm
+    is worked on both readings of the loaded length and the shorter (the higher
+    utilisation) kept. Returns the check, the reading that governs and its l_efm."""
     wall = inp.wall
     t = wall.thickness
     h = wall.clear_height or wall.height_to_bearing
@@ -655,20 +713,64 @@ def ec6_mid_height(
         )
     n = inp.load.reaction
     q = inp.load.wall_load
-    demand = n / l_efm + q
     capacity = phi * t * st.f_d
-    steps.append(
-        make_step(
-            "Load per length at mid-height",
-            "n_Ed",
-            "N_Ed / l_efm + other load",
-            (("N_Ed", n, "N"), ("l_efm", l_efm, "mm"), ("q", q, "N/mm")),
-            demand,
-            "N/mm",
-            "EN 1996-1-1 6.1.3(4)",
-            "P",
+    worked: list[tuple[float, Reading]] = []
+    lengths: dict[Reading, float] = {}
+    for r in readings(lay, pres, wall.a1, wall.a2):
+        l_efm = lengths[r] = l_efm_of(r, wall.height_to_bearing, basis)
+        demand = n / l_efm + q
+        steps.append(
+            make_step(
+                _named("Effective length at mid-height", r),
+                "l_efm",
+                "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+                (
+                    ("loaded length", r.length, "mm"),
+                    ("h_c", wall.height_to_bearing, "mm"),
+                    ("a1", r.e1, "mm"),
+                    ("a2", r.e2, "mm"),
+                ),
+                l_efm,
+                "mm",
+                "EN 1996-1-1 6.1.3, Figure 6.2",
+                "P",
+            )
         )
-    )
+        steps.append(
+            make_step(
+                _named("Load per length at mid-height", r),
+                "n_Ed",
+                "N_Ed / l_efm + other load",
+                (("N_Ed", n, "N"), ("l_efm", l_efm, "mm"), ("q", q, "N/mm")),
+                demand,
+                "N/mm",
+                "EN 1996-1-1 6.1.3(4)",
+                "P",
+            )
+        )
+        worked.append((demand, r))
+    demand, chosen = worse(worked)
+    notes = []
+    if len(worked) > 1:
+        steps.append(
+            make_step(
+                "Load per length kept: the higher of the two readings",
+                "n_Ed",
+                "max(whole window, contact length)",
+                tuple((r.name, d, "N/mm") for d, r in worked),
+                demand,
+                "N/mm",
+                "EN 1996-1-1 6.1.3(4)",
+                "ours",
+            )
+        )
+        notes.append(
+            _governing_reading_note(
+                "l_efm",
+                [(d / capacity if capacity > 0 else math.inf, r) for d, r in worked],
+                chosen,
+            )
+        )
     steps.append(
         make_step(
             "Resistance per length at mid-height",
@@ -681,7 +783,7 @@ def ec6_mid_height(
             "P",
         )
     )
-    return make_check(
+    check = make_check(
         "mid-height",
         "Wall at mid-height below the bearing",
         STRENGTH,
@@ -691,7 +793,9 @@ def ec6_mid_height(
         "EN 1996-1-1 6.1.2",
         "M",
         steps,
+        notes,
     )
+    return check, chosen, lengths[chosen]
 
 
 def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
@@ -763,20 +867,20 @@ def bs_masonry_bearing(
 
 def bs_dispersion(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
-) -> tuple[Check, float]:
+) -> tuple[Check, Reading, float]:
     """At 0.4 h below the bearing, the load dispersed at 45° from the bearing's edges plus
     the other load ≤ β · f_k/γ_m per length of wall, BS 5628-1 clause 34 [P]; β from
     Annex B, β = 1.1(1 − 2 e_m/t), e_m = max(e_x, 0.6 e_x + e_a),
-    e_a = t[(1/2400)(h_ef/t_ef)² − 0.015] [M]."""
+    e_a = t[(1/2400)(h_ef/t_ef)² − 0.015] [M]. Under a triangle of pressure the dispersion
+    starts from both readings of the loaded length and the shorter (the higher utilisation)
+    is kept. Returns the check, the reading that governs and its dispersed length."""
     wall = inp.wall
     t = wall.thickness
     h = wall.clear_height or wall.height_to_bearing
     h_ef = wall.effective_height or h
     t_ef = wall.effective_thickness or t
     depth = basis.dispersion_depth_ratio * h
-    e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
     each = depth * math.tan(math.radians(basis.masonry_spread_deg))
-    l_d = spread_length(pres.contact_length, e1, e2, each)
     steps = [
         make_step(
             "Depth of the check below the bearing",
@@ -787,18 +891,24 @@ def bs_dispersion(
             "mm",
             "BS 5628-1 clause 34",
             "P",
-        ),
-        make_step(
-            "Length the load has spread over at that depth",
-            "l_d",
-            "contact + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
-            (("a1", e1, "mm"), ("a2", e2, "mm")),
-            l_d,
-            "mm",
-            "BS 5628-1 clause 34",
-            "P",
-        ),
+        )
     ]
+    lengths: dict[Reading, float] = {}
+    reads = readings(lay, pres, wall.a1, wall.a2)
+    for r in reads:
+        l_d = lengths[r] = spread_length(r.length, r.e1, r.e2, each)
+        steps.append(
+            make_step(
+                _named("Length the load has spread over at that depth", r),
+                "l_d",
+                "loaded length + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
+                (("loaded length", r.length, "mm"), ("a1", r.e1, "mm"), ("a2", r.e2, "mm")),
+                l_d,
+                "mm",
+                "BS 5628-1 clause 34",
+                "P",
+            )
+        )
     if inp.beta_s is not None:
         beta = float(inp.beta_s)
         steps.append(
@@ -844,20 +954,45 @@ def bs_dispersion(
             )
         )
     n, q = inp.load.reaction, inp.load.wall_load
-    demand = n / l_d + q
     capacity = beta * t * st.f_k / st.gamma_M
-    steps.append(
-        make_step(
-            "Load per length at 0.4 h",
-            "n",
-            "N / l_d + other load",
-            (("N", n, "N"), ("l_d", l_d, "mm"), ("q", q, "N/mm")),
-            demand,
-            "N/mm",
-            "BS 5628-1 clause 34",
-            "P",
+    worked: list[tuple[float, Reading]] = []
+    for r in reads:
+        demand = n / lengths[r] + q
+        steps.append(
+            make_step(
+                _named("Load per length at 0.4 h", r),
+                "n",
+                "N / l_d + other load",
+                (("N", n, "N"), ("l_d", lengths[r], "mm"), ("q", q, "N/mm")),
+                demand,
+                "N/mm",
+                "BS 5628-1 clause 34",
+                "P",
+            )
         )
-    )
+        worked.append((demand, r))
+    demand, chosen = worse(worked)
+    notes = []
+    if len(worked) > 1:
+        steps.append(
+            make_step(
+                "Load per length kept: the higher of the two readings",
+                "n",
+                "max(whole window, contact length)",
+                tuple((r.name, d, "N/mm") for d, r in worked),
+                demand,
+                "N/mm",
+                "BS 5628-1 clause 34",
+                "ours",
+            )
+        )
+        notes.append(
+            _governing_reading_note(
+                "the dispersion",
+                [(d / capacity if capacity > 0 else math.inf, r) for d, r in worked],
+                chosen,
+            )
+        )
     steps.append(
         make_step(
             "Resistance per length",
@@ -880,8 +1015,9 @@ def bs_dispersion(
         "BS 5628-1 clause 34",
         "P",
         steps,
+        notes,
     )
-    return check, l_d
+    return check, chosen, lengths[chosen]
 
 
 ORIENTATION_TITLES = {ACROSS: "across the wall", IN_LINE: "in line with the wall"}

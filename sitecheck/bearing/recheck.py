@@ -6,7 +6,7 @@ from operator import attrgetter
 
 from . import checks as C
 from .basis import CodeBasis
-from .geometry import Layout, end_distances, footprint_layout, layout, pressure_under
+from .geometry import Layout, footprint_layout, layout, pressure_under, readings
 from .inputs import ACROSS, IN_LINE, BearingInput
 from .strength import masonry_strengths_cached
 from .trace import INFORMATIVE, STRENGTH, BearingResult, Check, Spread, Step, Strengths
@@ -30,21 +30,22 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     pres = pressure_under(lay, inp.load.reaction, basis, steps)
     wall = inp.wall
     ec6 = basis.is_ec6
+    # The spread the drawings show is the one the wall below is checked with: l_efm at
+    # mid-height (EC6) or the dispersion at 0.4 h (BS 5628), on the reading that governs.
     if ec6:
-        bearing, spread_len, e1, e2 = C.ec6_masonry_bearing(inp, lay, pres, strengths, basis, steps)
-        checks.append(bearing)
+        checks.append(C.ec6_masonry_bearing(inp, lay, pres, strengths, basis, steps))
         checks.append(C.ec6_eccentricity(inp, lay, basis))
         if inp.masonry.group != 1:
             checks.append(C.ec6_solid_material(inp, lay, basis))
-        checks.append(C.ec6_mid_height(inp, lay, strengths, spread_len, basis))
+        mid_height, spread_reading, spread_len = C.ec6_mid_height(inp, lay, pres, strengths, basis)
+        checks.append(mid_height)
         spread_depth = wall.height_to_bearing / 2
     else:
         checks.append(C.bs_masonry_bearing(inp, pres, strengths, basis, steps))
-        dispersion, spread_len = C.bs_dispersion(inp, lay, pres, strengths, basis)
+        dispersion, spread_reading, spread_len = C.bs_dispersion(inp, lay, pres, strengths, basis)
         checks.append(dispersion)
         h = wall.clear_height or wall.height_to_bearing
         spread_depth = basis.dispersion_depth_ratio * h
-        e1 = e2 = None
     checks.append(C.slenderness(inp, basis))
     notes = _assumption_notes(inp)
     if inp.padstone is not None:
@@ -55,10 +56,6 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
             notes.append(note)
 
     governing, passed = _governing(checks)
-    if ec6:
-        a1_eff, a2_eff = e1, e2
-    else:
-        a1_eff, a2_eff = end_distances(lay, pres, wall.a1, wall.a2)
     spread = Spread(
         lay.length,
         lay.width,
@@ -81,12 +78,15 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
         pres.sigma_min,
         pres.contact_x0,
         pres.contact_x1,
-        a1_eff,
-        a2_eff,
+        spread_reading.e1,
+        spread_reading.e2,
         lay.eccentricity_across,
         basis.masonry_spread_deg,
         spread_depth,
         spread_len,
+        spread_reading.x0,
+        spread_reading.x1,
+        spread_reading.name,
     )
     return BearingResult(
         basis.name,
@@ -156,12 +156,10 @@ def _direct_bearing(
     pres = pressure_under(bare_lay, inp.load.reaction, basis, steps)
     title = "Masonry directly under the beam, without the padstone"
     if basis.is_ec6:
-        e1, e2 = end_distances(bare_lay, pres, a1, a2)
-        check, _ = C.ec6_bearing_with_ends(
+        check = C.ec6_bearing_on_readings(
             inp.masonry,
             wall,
-            e1,
-            e2,
+            readings(bare_lay, pres, a1, a2),
             pres,
             strengths,
             basis,

@@ -182,6 +182,9 @@ class _Model:
     win_x1: float
     cx0: float
     cx1: float
+    sx0: float  # the loaded length the masonry spread starts from (its governing reading)
+    sx1: float
+    spread_reading: str
     rigid: bool
     distribution: str
     ecc: float
@@ -237,6 +240,10 @@ def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
         win_x1=float(sp["window_x1"]),
         cx0=float(sp["contact_x0"]),
         cx1=float(sp["contact_x1"]),
+        # Results stored before both readings were worked spread from the contact length.
+        sx0=float(sp.get("spread_x0", sp["contact_x0"])),
+        sx1=float(sp.get("spread_x1", sp["contact_x1"])),
+        spread_reading=str(sp.get("spread_reading") or ""),
         rigid=bool(sp["rigid"]),
         distribution=str(sp["distribution"]),
         ecc=float(sp["eccentricity"]),
@@ -270,15 +277,15 @@ def _masonry_reach(m: _Model) -> tuple[float, float, float, float]:
     """Left and right ends of the masonry spread at the check depth, and the depths at
     which each spread line meets a wall end (or the check depth)."""
     each = m.depth / math.tan(math.radians(m.theta)) if m.theta > 0 else 0.0
-    left = m.cx0 - each
-    right = m.cx1 + each
+    left = m.sx0 - each
+    right = m.sx1 + each
     zl = zr = m.depth
     if m.a1 is not None and left < -m.a1:
         left = -m.a1
-        zl = (m.cx0 + m.a1) * math.tan(math.radians(m.theta))
+        zl = (m.sx0 + m.a1) * math.tan(math.radians(m.theta))
     if m.a2 is not None and right > m.L + m.a2:
         right = m.L + m.a2
-        zr = (m.L + m.a2 - m.cx1) * math.tan(math.radians(m.theta))
+        zr = (m.L + m.a2 - m.sx1) * math.tan(math.radians(m.theta))
     return left, right, zl, zr
 
 
@@ -489,14 +496,14 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
     # The spread in the masonry down to the check depth, and the length it gives there.
     sl, sr, zl, zr = _masonry_reach(m)
     c.poly(
-        [(c.sx(m.cx0), top), (c.sx(sl), c.sy(zl)), (c.sx(sl), c.sy(m.depth))],
+        [(c.sx(m.sx0), top), (c.sx(sl), c.sy(zl)), (c.sx(sl), c.sy(m.depth))],
         stroke=MASONRY_SPREAD,
         width=2.5,
         role="masonry-spread",
         angle_deg=m.theta,
     )
     c.poly(
-        [(c.sx(m.cx1), top), (c.sx(sr), c.sy(zr)), (c.sx(sr), c.sy(m.depth))],
+        [(c.sx(m.sx1), top), (c.sx(sr), c.sy(zr)), (c.sx(sr), c.sy(m.depth))],
         stroke=MASONRY_SPREAD,
         width=2.5,
         role="masonry-spread",
@@ -519,11 +526,15 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
         c.sx(sl),
         c.sx(sr),
         dy,
-        f"{name} {_mm(m.spread_len)}",
+        # Under a triangle of pressure the label says which reading of the loaded length
+        # the wall's check kept (the shorter spread, the higher utilisation).
+        f"{name} {_mm(m.spread_len)}"
+        + (f" ({m.spread_reading.removesuffix(' reading')})" if m.spread_reading else ""),
         above=True,
         fill=MASONRY_SPREAD,
         role="spread-length",
         length_mm=m.spread_len,
+        reading=m.spread_reading or None,
     )
     where = "h_c/2" if m.ec6 else "0.4 h"
     c.text(

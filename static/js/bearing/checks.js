@@ -2,7 +2,7 @@
 // object with its steps and clause (see trace.js).
 
 import { isEc6 } from "./basis.js";
-import { number } from "./format.js";
+import { number, utilisationText } from "./format.js";
 import {
   F_Rdu,
   betaBs5628,
@@ -14,7 +14,7 @@ import {
   pyMinOf,
   radians,
 } from "./formulas.js";
-import { endDistances, spreadLength } from "./geometry.js";
+import { readings, spreadLength, worse } from "./geometry.js";
 import { ACROSS, IN_LINE } from "./inputs.js";
 import { RULE, STRENGTH, makeCheck, makeStep } from "./trace.js";
 
@@ -231,7 +231,7 @@ export function padstoneBearing(inp, lay, st, basis) {
 // ---------------------------------------------------------------- EC6
 
 // EN 1996-1-1 6.1.3: σ under the load ≤ β · f_d (eqns 6.9–6.10) [P; details M]; see
-// checks.py's ec6_masonry_bearing. Returns [check, l_efm, e1, e2].
+// checks.py's ec6_masonry_bearing. Returns the check.
 export function ec6MasonryBearing(
   inp,
   lay,
@@ -244,24 +244,51 @@ export function ec6MasonryBearing(
   kind = STRENGTH,
 ) {
   const wall = inp.wall;
-  const [e1, e2] = endDistances(lay, pres, wall.a1, wall.a2);
-  const [check, lEfm] = ec6BearingWithEnds(inp.masonry, wall, e1, e2, pres, st, basis, steps, {
-    spreader: spreaderConditions(inp, basis),
-    onPadstone: inp.padstone != null,
-    code,
-    title,
-    kind,
-  });
-  return [check, lEfm, e1, e2];
+  return ec6BearingOnReadings(
+    inp.masonry,
+    wall,
+    readings(lay, pres, wall.a1, wall.a2),
+    pres,
+    st,
+    basis,
+    steps,
+    {
+      spreader: spreaderConditions(inp, basis),
+      onPadstone: inp.padstone != null,
+      code,
+      title,
+      kind,
+    },
+  );
 }
 
-// ec6MasonryBearing once the loaded area's end distances e1, e2 and the spreader (its
-// description, or null) are known. Returns [check, l_efm].
-export function ec6BearingWithEnds(
+function named(label, reading) {
+  return reading.name ? `${label}, ${reading.name}` : label;
+}
+
+function governingReadingNote(what, worked, chosen) {
+  const shown = worked.map(([u, r]) => `${r.name} ${utilisationText(u)}`).join("; ");
+  const head =
+    "Under the triangle of pressure the codes do not say which loaded length to take: " +
+    `${what} was worked on both (utilisation: ${shown})`;
+  if (worked.every(([u]) => u === worked[0][0])) {
+    return `${head}; both give the same (the wall's end cuts the spread of each alike).`;
+  }
+  return `${head} and the ${chosen.name}, with the higher utilisation, governs.`;
+}
+
+// l_efm: the loaded length spread at 60° down to h_c/2 each side, cut by the wall's ends.
+export function lEfmOf(reading, h_c, basis) {
+  const s60 = h_c / 2 / Math.tan(radians(basis.masonry_spread_deg));
+  return spreadLength(reading.length, reading.e1, reading.e2, s60);
+}
+
+// ec6MasonryBearing once the readings of the loaded length and the spreader (its
+// description, or null) are known. Returns the check.
+export function ec6BearingOnReadings(
   mas,
   wall,
-  e1,
-  e2,
+  reads,
   pres,
   st,
   basis,
@@ -271,134 +298,100 @@ export function ec6BearingWithEnds(
   const t = wall.thickness;
   const h_c = wall.height_to_bearing;
   const width = pres.width;
-  const contact = pres.contact_length;
-  const s60 = h_c / 2 / Math.tan(radians(basis.masonry_spread_deg));
-  const lEfm = spreadLength(contact, e1, e2, s60);
-  const aB = width * contact; // pres.area
-  const aEf = lEfm * t;
-  steps.push(
-    makeStep(
-      "Loaded area on the masonry",
-      "A_b",
-      "W · contact length",
-      [
-        ["W", width, "mm"],
-        ["contact", contact, "mm"],
-      ],
-      aB,
-      "mm²",
-      "EN 1996-1-1 6.1.3",
-      "P",
-    ),
-  );
-  steps.push(
-    makeStep(
-      "Effective length at mid-height of the wall below",
-      "l_efm",
-      "contact + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
-      [
-        ["h_c", h_c, "mm"],
-        ["a1", e1, "mm"],
-        ["a2", e2, "mm"],
-      ],
-      lEfm,
-      "mm",
-      "EN 1996-1-1 6.1.3, Figure 6.2",
-      "P",
-    ),
-  );
-  const notes = [];
-  // The nearer end of the wall, if any.
-  let near;
-  if (e1 == null) near = e2;
-  else if (e2 == null) near = e1;
-  else near = pyMin(e1, e2);
   const enhanced = mas.group === 1 && !mas.shell_bedded;
-  let beta;
-  if (enhanced) {
-    const ratioRaw = aB / aEf;
-    const ratio = pyMin(ratioRaw, basis.beta_area_ratio_cap);
-    beta = betaEc6(near, h_c, aB, aEf, basis.beta_area_ratio_cap);
+  const spreaderAllowed =
+    spreader != null && (enhanced || basis.spreader_route_for_groups_2_to_4);
+  const notes = [];
+  const worked = [];
+  const factors = [];
+  let runsOn = false;
+  for (const r of reads) {
+    const aB = width * r.length;
+    const lEfm = lEfmOf(r, h_c, basis);
+    const aEf = lEfm * t;
     steps.push(
       makeStep(
-        "Area ratio, capped",
-        "A_b/A_ef",
-        "min(A_b / (l_efm · t), 0.45)",
+        named("Loaded area on the masonry", r),
+        "A_b",
+        "W · loaded length",
         [
-          ["A_b", aB, "mm²"],
-          ["A_ef", aEf, "mm²"],
-          ["uncapped", ratioRaw, ""],
+          ["W", width, "mm"],
+          ["loaded length", r.length, "mm"],
         ],
-        ratio,
-        "",
-        "EN 1996-1-1 6.1.3(3)",
-        "M",
+        aB,
+        "mm²",
+        "EN 1996-1-1 6.1.3",
+        "P",
       ),
     );
-    if (near == null) {
-      // No end near: a1 → ∞, so β is 1.5 (checks.py).
-      steps.push(
-        makeStep(
-          "Enhancement factor, the wall running on both ways",
-          "β",
-          "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
-          [
-            ["h_c", h_c, "mm"],
-            ["A_b/A_ef", ratio, ""],
-          ],
-          beta,
-          "",
-          "EN 1996-1-1 6.1.3(3)",
-          "M",
-        ),
-      );
-      notes.push(
-        "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its " +
-          "upper limit, 1.5, never less than the same wall with an end nearby.",
-      );
+    steps.push(
+      makeStep(
+        named("Effective length at mid-height of the wall below", r),
+        "l_efm",
+        "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+        [
+          ["h_c", h_c, "mm"],
+          ["a1", r.e1, "mm"],
+          ["a2", r.e2, "mm"],
+        ],
+        lEfm,
+        "mm",
+        "EN 1996-1-1 6.1.3, Figure 6.2",
+        "P",
+      ),
+    );
+    // The nearer end of the wall, if any.
+    let near;
+    if (r.e1 == null) near = r.e2;
+    else if (r.e2 == null) near = r.e1;
+    else near = pyMin(r.e1, r.e2);
+    let beta;
+    if (enhanced) {
+      beta = ec6BetaSteps(r, near, h_c, aB, aEf, basis, steps);
+      runsOn = runsOn || near == null;
     } else {
-      steps.push(
-        makeStep(
-          "Enhancement factor for concentrated loads",
-          "β",
-          "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
-          [
-            ["a1", near, "mm"],
-            ["h_c", h_c, "mm"],
-            ["A_b/A_ef", ratio, ""],
-          ],
-          (1 + (0.3 * near) / h_c) * (1.5 - 1.1 * ratio),
-          "",
-          "EN 1996-1-1 6.1.3 eqn 6.10",
-          "P",
-        ),
-      );
-      steps.push(
-        makeStep(
-          "β within its limits",
-          "β",
-          "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
-          [["upper", betaEc6Upper(near, h_c), ""]],
-          beta,
-          "",
-          "EN 1996-1-1 6.1.3(3)",
-          "M",
-        ),
-      );
+      beta = 1.0;
     }
-  } else {
-    beta = 1.0;
+    let factor = beta;
+    let route = "β";
+    if (spreaderAllowed && basis.spreader_stress_factor > factor) {
+      factor = basis.spreader_stress_factor;
+      route = "spreader";
+    }
+    factors.push([factor, route, aB]);
+    worked.push([pres.sigma_max / (factor * st.f_d), r, factors.length - 1]);
+  }
+  if (!enhanced) {
     const why = mas.shell_bedded ? "shell-bedded" : `Group ${mas.group} units`;
     steps.push(
       makeStep(`No enhancement for ${why}`, "β", "1.0", [], 1.0, "", "EN 1996-1-1 6.1.3(2)", "M"),
     );
   }
-  let factor = beta;
-  let route = "β";
-  if (spreader != null && (enhanced || basis.spreader_route_for_groups_2_to_4)) {
-    if (basis.spreader_stress_factor > factor) {
-      factor = basis.spreader_stress_factor;
-      route = "spreader";
+  const [, chosen, index] = worse(worked);
+  const [factor, route, aB] = factors[index];
+  if (reads.length > 1) {
+    steps.push(
+      makeStep(
+        "Factor kept: the lower of the two readings (the higher utilisation)",
+        route === "β" ? "β" : "factor",
+        "min(whole window, contact length)",
+        reads.map((r, i) => [r.name, factors[i][0], ""]),
+        factor,
+        "",
+        "EN 1996-1-1 6.1.3",
+        "ours",
+      ),
+    );
+    notes.push(governingReadingNote("β", worked, chosen));
+  }
+  if (runsOn) {
+    notes.push(
+      "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its " +
+        "upper limit, 1.5, never less than the same wall with an end nearby.",
+    );
+  }
+  if (spreaderAllowed) {
+    if (route === "spreader") {
       notes.push(`The padstone is a spreader (${spreader}): σ ≤ 1.5 f_d applies.`);
     }
   } else if (onPadstone) {
@@ -435,7 +428,7 @@ export function ec6BearingWithEnds(
       "P",
     ),
   );
-  const check = makeCheck(
+  return makeCheck(
     code,
     title,
     kind,
@@ -447,7 +440,77 @@ export function ec6BearingWithEnds(
     steps,
     notes,
   );
-  return [check, lEfm];
+}
+
+// β of one reading, each step of it in the trace (checks.py's _ec6_beta_steps).
+function ec6BetaSteps(r, near, h_c, aB, aEf, basis, steps) {
+  const ratioRaw = aB / aEf;
+  const ratio = pyMin(ratioRaw, basis.beta_area_ratio_cap);
+  const beta = betaEc6(near, h_c, aB, aEf, basis.beta_area_ratio_cap);
+  steps.push(
+    makeStep(
+      named("Area ratio, capped", r),
+      "A_b/A_ef",
+      "min(A_b / (l_efm · t), 0.45)",
+      [
+        ["A_b", aB, "mm²"],
+        ["A_ef", aEf, "mm²"],
+        ["uncapped", ratioRaw, ""],
+      ],
+      ratio,
+      "",
+      "EN 1996-1-1 6.1.3(3)",
+      "M",
+    ),
+  );
+  if (near == null) {
+    // No end near: a1 → ∞, so β is 1.5 (checks.py).
+    steps.push(
+      makeStep(
+        named("Enhancement factor, the wall running on both ways", r),
+        "β",
+        "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
+        [
+          ["h_c", h_c, "mm"],
+          ["A_b/A_ef", ratio, ""],
+        ],
+        beta,
+        "",
+        "EN 1996-1-1 6.1.3(3)",
+        "M",
+      ),
+    );
+    return beta;
+  }
+  steps.push(
+    makeStep(
+      named("Enhancement factor for concentrated loads", r),
+      "β",
+      "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+      [
+        ["a1", near, "mm"],
+        ["h_c", h_c, "mm"],
+        ["A_b/A_ef", ratio, ""],
+      ],
+      (1 + (0.3 * near) / h_c) * (1.5 - 1.1 * ratio),
+      "",
+      "EN 1996-1-1 6.1.3 eqn 6.10",
+      "P",
+    ),
+  );
+  steps.push(
+    makeStep(
+      named("β within its limits", r),
+      "β",
+      "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+      [["upper", betaEc6Upper(near, h_c), ""]],
+      beta,
+      "",
+      "EN 1996-1-1 6.1.3(3)",
+      "M",
+    ),
+  );
+  return beta;
 }
 
 // The description of a padstone that counts as a spreader, or null.
@@ -590,7 +653,9 @@ export function ec6SolidMaterial(inp, lay, basis) {
 
 // At mid-height below the bearing: N_Ed/l_efm + other load ≤ Φ_m · t · f_d, EN 1996-1-1
 // 6.1.2 with Φ_m from Annex G [M]; e_mk defaults to max(0.05 t, |e|/2 + h_ef/450).
-export function ec6MidHeight(inp, lay, st, lEfm, basis) {
+// EN 1996-1-1 6.1.2 at mid-height; see checks.py's ec6_mid_height. Returns
+// [check, the reading that governs, its l_efm].
+export function ec6MidHeight(inp, lay, pres, st, basis) {
   const wall = inp.wall;
   const t = wall.thickness;
   const h = wall.clear_height || wall.height_to_bearing;
@@ -685,24 +750,71 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
   }
   const n = inp.load.reaction;
   const q = inp.load.wall_load;
-  const demand = n / lEfm + q;
   const capacity = phi * t * st.f_d;
-  steps.push(
-    makeStep(
-      "Load per length at mid-height",
-      "n_Ed",
-      "N_Ed / l_efm + other load",
-      [
-        ["N_Ed", n, "N"],
-        ["l_efm", lEfm, "mm"],
-        ["q", q, "N/mm"],
-      ],
-      demand,
-      "N/mm",
-      "EN 1996-1-1 6.1.3(4)",
-      "P",
-    ),
-  );
+  const worked = [];
+  const lengths = [];
+  for (const r of readings(lay, pres, wall.a1, wall.a2)) {
+    const lEfm = lEfmOf(r, wall.height_to_bearing, basis);
+    lengths.push(lEfm);
+    const d = n / lEfm + q;
+    steps.push(
+      makeStep(
+        named("Effective length at mid-height", r),
+        "l_efm",
+        "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+        [
+          ["loaded length", r.length, "mm"],
+          ["h_c", wall.height_to_bearing, "mm"],
+          ["a1", r.e1, "mm"],
+          ["a2", r.e2, "mm"],
+        ],
+        lEfm,
+        "mm",
+        "EN 1996-1-1 6.1.3, Figure 6.2",
+        "P",
+      ),
+    );
+    steps.push(
+      makeStep(
+        named("Load per length at mid-height", r),
+        "n_Ed",
+        "N_Ed / l_efm + other load",
+        [
+          ["N_Ed", n, "N"],
+          ["l_efm", lEfm, "mm"],
+          ["q", q, "N/mm"],
+        ],
+        d,
+        "N/mm",
+        "EN 1996-1-1 6.1.3(4)",
+        "P",
+      ),
+    );
+    worked.push([d, r, lengths.length - 1]);
+  }
+  const [demand, chosen, index] = worse(worked);
+  const notes = [];
+  if (worked.length > 1) {
+    steps.push(
+      makeStep(
+        "Load per length kept: the higher of the two readings",
+        "n_Ed",
+        "max(whole window, contact length)",
+        worked.map(([d, r]) => [r.name, d, "N/mm"]),
+        demand,
+        "N/mm",
+        "EN 1996-1-1 6.1.3(4)",
+        "ours",
+      ),
+    );
+    notes.push(
+      governingReadingNote(
+        "l_efm",
+        worked.map(([d, r]) => [capacity > 0 ? d / capacity : Infinity, r]),
+        chosen,
+      ),
+    );
+  }
   steps.push(
     makeStep(
       "Resistance per length at mid-height",
@@ -719,7 +831,7 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
       "P",
     ),
   );
-  return makeCheck(
+  const check = makeCheck(
     "mid-height",
     "Wall at mid-height below the bearing",
     STRENGTH,
@@ -729,7 +841,9 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
     "EN 1996-1-1 6.1.2",
     "M",
     steps,
+    notes,
   );
+  return [check, chosen, lengths[index]];
 }
 
 export function slenderness(inp, basis) {
@@ -820,9 +934,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
   const h_ef = wall.effective_height || h;
   const t_ef = wall.effective_thickness || t;
   const depth = basis.dispersion_depth_ratio * h;
-  const [e1, e2] = endDistances(lay, pres, wall.a1, wall.a2);
   const each = depth * Math.tan(radians(basis.masonry_spread_deg));
-  const lD = spreadLength(pres.contact_length, e1, e2, each);
   const steps = [
     makeStep(
       "Depth of the check below the bearing",
@@ -834,20 +946,27 @@ export function bsDispersion(inp, lay, pres, st, basis) {
       "BS 5628-1 clause 34",
       "P",
     ),
-    makeStep(
-      "Length the load has spread over at that depth",
-      "l_d",
-      "contact + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
-      [
-        ["a1", e1, "mm"],
-        ["a2", e2, "mm"],
-      ],
-      lD,
-      "mm",
-      "BS 5628-1 clause 34",
-      "P",
-    ),
   ];
+  const reads = readings(lay, pres, wall.a1, wall.a2);
+  const lengths = reads.map((r) => spreadLength(r.length, r.e1, r.e2, each));
+  reads.forEach((r, i) => {
+    steps.push(
+      makeStep(
+        named("Length the load has spread over at that depth", r),
+        "l_d",
+        "loaded length + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
+        [
+          ["loaded length", r.length, "mm"],
+          ["a1", r.e1, "mm"],
+          ["a2", r.e2, "mm"],
+        ],
+        lengths[i],
+        "mm",
+        "BS 5628-1 clause 34",
+        "P",
+      ),
+    );
+  });
   let beta;
   if (inp.beta_s != null) {
     beta = Number(inp.beta_s);
@@ -903,24 +1022,51 @@ export function bsDispersion(inp, lay, pres, st, basis) {
   }
   const n = inp.load.reaction;
   const q = inp.load.wall_load;
-  const demand = n / lD + q;
   const capacity = (beta * t * st.f_k) / st.gamma_M;
-  steps.push(
-    makeStep(
-      "Load per length at 0.4 h",
-      "n",
-      "N / l_d + other load",
-      [
-        ["N", n, "N"],
-        ["l_d", lD, "mm"],
-        ["q", q, "N/mm"],
-      ],
-      demand,
-      "N/mm",
-      "BS 5628-1 clause 34",
-      "P",
-    ),
-  );
+  const worked = [];
+  reads.forEach((r, i) => {
+    const d = n / lengths[i] + q;
+    steps.push(
+      makeStep(
+        named("Load per length at 0.4 h", r),
+        "n",
+        "N / l_d + other load",
+        [
+          ["N", n, "N"],
+          ["l_d", lengths[i], "mm"],
+          ["q", q, "N/mm"],
+        ],
+        d,
+        "N/mm",
+        "BS 5628-1 clause 34",
+        "P",
+      ),
+    );
+    worked.push([d, r, i]);
+  });
+  const [demand, chosen, index] = worse(worked);
+  const notes = [];
+  if (worked.length > 1) {
+    steps.push(
+      makeStep(
+        "Load per length kept: the higher of the two readings",
+        "n",
+        "max(whole window, contact length)",
+        worked.map(([d, r]) => [r.name, d, "N/mm"]),
+        demand,
+        "N/mm",
+        "BS 5628-1 clause 34",
+        "ours",
+      ),
+    );
+    notes.push(
+      governingReadingNote(
+        "the dispersion",
+        worked.map(([d, r]) => [capacity > 0 ? d / capacity : Infinity, r]),
+        chosen,
+      ),
+    );
+  }
   steps.push(
     makeStep(
       "Resistance per length",
@@ -948,8 +1094,9 @@ export function bsDispersion(inp, lay, pres, st, basis) {
     "BS 5628-1 clause 34",
     "P",
     steps,
+    notes,
   );
-  return [check, lD];
+  return [check, chosen, lengths[index]];
 }
 
 export const ORIENTATION_TITLES = {

@@ -234,12 +234,38 @@ export function pressureUnder(lay, reaction, basis, steps) {
   return new Pressure(wx0, wx1, wy0, wy1, rigid, kind, e, smax, smin, cx0, cx1);
 }
 
-// Distances from the ends of the loaded area on the masonry to the wall's ends: what
-// carries the load sets a1 and a2, not the padstone's nominal ends.
-export function endDistances(lay, pres, a1, a2) {
-  const e1 = a1 == null ? null : a1 + pres.contact_x0;
-  const e2 = a2 == null ? null : a2 + (lay.length - pres.contact_x1);
-  return [e1, e2];
+export const WHOLE_WINDOW = "whole-window reading";
+export const CONTACT_LENGTH = "contact-length reading";
+
+// geometry.py's readings: the loaded length on the masonry, read each way the codes leave
+// open. One reading ({name: "", ...}) where the whole window is in contact; under a
+// triangle the whole window and the contact length at the loaded end. Each is
+// {name, x0, x1, e1, e2, length}, e1 and e2 the wall's end distances from its ends.
+export function readings(lay, pres, a1, a2) {
+  const reading = (name, x0, x1) => ({
+    name,
+    x0,
+    x1,
+    e1: a1 == null ? null : a1 + x0,
+    e2: a2 == null ? null : a2 + (lay.length - x1),
+    length: x1 - x0,
+  });
+  if (pres.distribution !== "triangle") {
+    return [reading("", pres.window_x0, pres.window_x1)];
+  }
+  return [
+    reading(WHOLE_WINDOW, pres.window_x0, pres.window_x1),
+    reading(CONTACT_LENGTH, pres.contact_x0, pres.contact_x1),
+  ];
+}
+
+// The [utilisation, reading, ...] with the higher utilisation; on a tie the first.
+export function worse(candidates) {
+  let best = candidates[0];
+  for (const candidate of candidates.slice(1)) {
+    if (candidate[0] > best[0]) best = candidate;
+  }
+  return best;
 }
 
 // A loaded length plus a spread on each side, each cut by the wall's end.
