@@ -11,7 +11,7 @@ from .bearing import BASES, EC6_UK, InputError, basis_named
 from .bearing.format import utilisation
 from .bearing.remedy import remedy
 from .bearing.review import BLOCKS
-from .schedule import COLUMNS, RowOutcome, parse_schedule, recheck_rows
+from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows
 
 CAUTION = (
     "Caution: these results support, and never replace, the judgement of a competent "
@@ -273,11 +273,15 @@ def _check(args) -> int:
         print(f"sitecheck: --basis-value: {e}", file=sys.stderr)
         return 2
     try:
-        text = args.schedule.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as e:
-        print(f"sitecheck: cannot read {args.schedule}: {e}", file=sys.stderr)
+        data = args.schedule.read_bytes()
+    except OSError as e:
+        message = f"cannot read {args.schedule}: {e.strerror or e}"
+        if args.json:
+            error = RowError(0, "", str(args.schedule), message)
+            print(json.dumps(_as_json([], [error], {}, (), ()), indent=1, ensure_ascii=False))
+        print(f"sitecheck: {message}", file=sys.stderr)
         return 2
-    parsed = parse_schedule(text, args.basis)
+    parsed = read_schedule(data, args.basis)
     outcomes, errors = recheck_rows(parsed, basis)
     hints = {}
     if not args.no_hints:
@@ -288,15 +292,18 @@ def _check(args) -> int:
     if args.json:
         print(
             json.dumps(
-                _as_json(outcomes, errors, hints, parsed.unknown_columns),
+                _as_json(outcomes, errors, hints, parsed.unknown_columns, parsed.notes),
                 indent=1,
                 ensure_ascii=False,
+                allow_nan=False,  # NaN and Infinity are not JSON
             )
         )
     else:
         _print_table(outcomes, hints)
         if parsed.unknown_columns:
             print(f"\nIgnored unknown column(s): {', '.join(parsed.unknown_columns)}")
+        for note in parsed.notes:
+            print(f"\nNote: {note}")
         print(f"\n{CAUTION}")
     for e in errors:
         print(f"sitecheck: {args.schedule}: {e}", file=sys.stderr)
@@ -321,7 +328,7 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
             print(f"{'':22} hint: {hint.describe()}")
 
 
-def _as_json(outcomes, errors, hints, unknown) -> dict:
+def _as_json(outcomes, errors, hints, unknown, notes) -> dict:
     rows = []
     for o in outcomes:
         entry = {
@@ -342,6 +349,7 @@ def _as_json(outcomes, errors, hints, unknown) -> dict:
         "bearings": rows,
         "errors": [e.as_dict() for e in errors],
         "ignored_columns": list(unknown),
+        "notes": list(notes),
     }
 
 

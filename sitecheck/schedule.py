@@ -1,16 +1,20 @@
 """The bearing schedule as CSV: columns, parsing and the re-check of each row.
 
-This is the edge where text and kN meet the core's numbers in N and mm. It reads text,
-not files, so the CLI and the web import share it. A bad row is reported with its row
-number, column and reason; good rows are still parsed.
+This is the edge where text and kN meet the core's numbers in N and mm. It reads a file's
+bytes or text, never a path, so the CLI and the web import share it and report the same.
+A bad row is reported with its row number, column and reason, and is never read with its
+values shifted; good rows are still parsed.
 """
 
 from __future__ import annotations
 
+import codecs
 import csv
+import difflib
 import io
-from dataclasses import dataclass, field
-from decimal import Decimal, InvalidOperation
+import re
+from dataclasses import dataclass, field, replace
+from decimal import Decimal
 
 from .bearing import (
     BASES,
@@ -34,6 +38,7 @@ from .bearing.review import (
     as_built_input,
     review,
 )
+from .csvcells import unguard_text
 
 # Column → (what it holds, unit). Lengths are mm, loads kN as their names say.
 DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
@@ -195,8 +200,8 @@ _ASBUILT_FIELD_TO_COLUMN = {
 
 @dataclass(frozen=True, slots=True)
 class RowError:
-    row: int  # line in the file, the header being line 1
-    column: str
+    row: int  # row as a spreadsheet shows it, the header being row 1; 0: the whole file
+    column: str  # "" for the row as a whole
     value: str
     message: str
 
@@ -209,8 +214,10 @@ class RowError:
         }
 
     def __str__(self) -> str:
+        where = "the file" if self.row == 0 else f"row {self.row}"
+        column = f", {self.column}" if self.column else ""
         shown = f" = {self.value!r}" if self.value != "" else ""
-        return f"row {self.row}, {self.column}{shown}: {self.message}"
+        return f"{where}{column}{shown}: {self.message}"
 
 
 @dataclass(frozen=True, slots=True)
@@ -229,6 +236,9 @@ class Parsed:
     rows: tuple[ScheduleRow, ...]
     errors: tuple[RowError, ...]
     unknown_columns: tuple[str, ...] = ()
+    # How the file was read, where it was not the plain case (UTF-8, commas): the
+    # encoding taken, the separator found, a column name that looks mistyped.
+    notes: tuple[str, ...] = ()
 
 
 class _RowProblem(Exception):
@@ -236,41 +246,323 @@ class _RowProblem(Exception):
         self.column, self.value, self.message = column, value, message
 
 
-def parse_schedule(text: str, default_basis: str | None = None) -> Parsed:
-    """Parse a schedule. Each bad row gives one :class:`RowError`; good rows are kept."""
-    if text.startswith("\ufeff"):
-        text = text[1:]
-    reader = csv.DictReader(io.StringIO(text))
-    header = [h.strip() for h in (reader.fieldnames or [])]
-    missing = [c for c in REQUIRED_COLUMNS if c not in header]
-    if missing:
-        return Parsed(
-            (), (RowError(1, ", ".join(missing), "", "the header lacks required column(s)"),)
+class _FileProblem(Exception):
+    def __init__(self, message: str):
+        self.error = RowError(0, "", "", message)
+
+
+# --- from bytes to text ------------------------------------------------------------------------
+
+
+def read_schedule(data: bytes, default_basis: str | None = None) -> Parsed:
+    """Parse a schedule file's bytes: :func:`decode_schedule`, then :func:`parse_schedule`."""
+    try:
+        text, notes = decode_schedule(data)
+    except _FileProblem as p:
+        return Parsed((), (p.error,))
+    parsed = parse_schedule(text, default_basis)
+    return replace(parsed, notes=notes + parsed.notes)
+
+
+def decode_schedule(data: bytes) -> tuple[str, tuple[str, ...]]:
+    """The text of a schedule file, and a note where it was not UTF-8.
+
+    UTF-8 (with or without its byte-order mark) and UTF-16 with its mark (a spreadsheet's
+    "Unicode text") are read as they are. Anything else is read as Windows-1252, the code
+    page spreadsheets on Windows save CSV in by default, with a note naming the first line
+    that is not UTF-8: numbers and the columns' choices are plain ASCII and read the same
+    either way, so only free text could come out different, and the note says where to
+    look. A file that is mostly UTF-8 with a stray byte, or has bytes Windows-1252 does not
+    define, is refused rather than guessed at. Problems are the whole file's (row 0) and
+    name the line, which differs from the row where a cell runs over several lines.
+    """
+    if data.startswith(b"PK\x03\x04"):
+        raise _FileProblem(
+            "a spreadsheet workbook (.xlsx or .ods), not CSV: save the sheet as CSV (UTF-8) "
+            "and import that"
         )
-    reader.fieldnames = header
-    unknown = tuple(h for h in header if h and h not in COLUMNS)
+    for mark, codec in (
+        (codecs.BOM_UTF8, "UTF-8"),
+        (codecs.BOM_UTF16_LE, "UTF-16-LE"),
+        (codecs.BOM_UTF16_BE, "UTF-16-BE"),
+    ):
+        if data.startswith(mark):
+            body = data[len(mark) :]
+            try:
+                return body.decode(codec), ()
+            except UnicodeDecodeError as e:
+                raise _FileProblem(
+                    f"marked as {codec[:6]} but {_where(body, e)} is not: save it as CSV "
+                    "(UTF-8) again"
+                ) from None
+    if b"\x00" in data:
+        raise _FileProblem(
+            "NUL bytes, so not CSV text (a workbook, or UTF-16 text without its byte-order "
+            "mark?): save the sheet as CSV (UTF-8) and import that"
+        )
+    try:
+        return data.decode("utf-8"), ()
+    except UnicodeDecodeError as e:
+        first = e
+    if any(ord(ch) > 127 and ch != "\ufffd" for ch in data.decode("utf-8", errors="replace")):
+        raise _FileProblem(
+            f"UTF-8 except for {_where(data, first)}: one encoding per file; save it as CSV "
+            "(UTF-8) again"
+        )
+    try:
+        text = data.decode("cp1252")
+    except UnicodeDecodeError as e:
+        where = (
+            f"{_where(data, e)} is neither UTF-8 nor Windows-1252"
+            if e.start == first.start
+            else f"not UTF-8 ({_where(data, first)}) nor Windows-1252 ({_where(data, e)})"
+        )
+        raise _FileProblem(f"{where}: save it as CSV (UTF-8) and import that") from None
+    line = _line_of(data, first.start)
+    seen = text.splitlines()[line - 1]
+    if len(seen) > 80:
+        seen = seen[:77] + "..."
+    return text, (
+        f"The file is not UTF-8 ({_where(data, first)}), so it was read as Windows-1252, the "
+        f"encoding spreadsheets on Windows save CSV in. Line {line} then reads “{seen}”: if "
+        "its text is not right, save the file as CSV (UTF-8) and import it again.",
+    )
+
+
+def _where(data: bytes, e: UnicodeDecodeError) -> str:
+    shown = " ".join(f"0x{b:02X}" for b in data[e.start : max(e.end, e.start + 1)])
+    return f"line {_line_of(data, e.start)}: byte {shown}"
+
+
+def _line_of(data: bytes, offset: int) -> int:
+    return data.count(b"\n", 0, offset) + 1
+
+
+# --- from text to rows -------------------------------------------------------------------------
+
+SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab"}
+# The most a number cell may hold either way, in its column's own unit: well beyond any
+# bearing (the core's own ranges end at 100 m and 5000 kN), so arithmetic never overflows
+# and 1e308 is not taken for a measurement.
+NUMBER_LIMIT = 1_000_000.0
+# Columns that hold words of the engineer's own, where a separator may be typed; the
+# columns of numbers are the rest, less the choices.
+FREE_TEXT_COLUMNS = ("reference", "location")
+_WHOLE_NUMBER_COLUMNS = ("unit_group", "asbuilt_unit_group", "execution_class", "bearing_type")
+_FACTOR_COLUMNS = ("gamma_M", "phi_m", "beta_s")
+_BY_LOWER_NAME = {name.lower(): name for name in COLUMNS}
+
+
+def column_named(text: str) -> str | None:
+    """The column a header cell names: spaces around it and letter case do not matter."""
+    return _BY_LOWER_NAME.get(text.strip().lower())
+
+
+_NUMBER_COLUMNS = frozenset(
+    name
+    for name, (_meaning, unit) in COLUMNS.items()
+    if unit or name in _WHOLE_NUMBER_COLUMNS or name in _FACTOR_COLUMNS
+)
+
+
+def parse_schedule(text: str, default_basis: str | None = None) -> Parsed:
+    """Parse a schedule's text. Each bad row gives one :class:`RowError`; good rows are kept.
+
+    The header decides everything: its separator (comma, semicolon or tab: the one that
+    splits it into the most known column names), which column is where (names matched
+    without regard to case or surrounding spaces), and how many cells a row has. A row
+    with more or fewer cells than the header is refused whole rather than read shifted,
+    and a header naming a column twice refuses the file: which copy is meant cannot be
+    told.
+    """
+    text = text.removeprefix("\ufeff")
+    if "\x00" in text:
+        return Parsed((), (RowError(0, "", "", "NUL characters, so not CSV text"),))
+    separator = _separator(text)
+    notes = [] if separator == "," else [f"The cells are separated by {SEPARATORS[separator]}s."]
+    # Rows are numbered as a spreadsheet shows them: one per record, blank ones included.
+    records = enumerate(csv.reader(io.StringIO(text), delimiter=separator), start=1)
+    header: list[str] = []
+    index = 0
+    try:
+        while not any(h.strip() for h in header):
+            index, header = next(records)
+    except csv.Error as e:
+        return Parsed((), (RowError(index + 1, "", "", f"the header cannot be read: {e}"),))
+    except StopIteration:
+        empty = "empty: the first row must name the columns (sitecheck columns lists them)"
+        return Parsed((), (RowError(0, "", "", empty),))
+    names = [column_named(h) for h in header]
+    errors = _header_errors(index, header, names)
+    if errors:
+        return Parsed((), tuple(errors))
+    unknown = [h.strip() for h, n in zip(header, names, strict=True) if n is None and h.strip()]
+    notes += _mistyped_names(unknown)
     rows: list[ScheduleRow] = []
-    errors: list[RowError] = []
     seen: dict[str, int] = {}
-    for index, raw in enumerate(reader, start=2):
-        cells = {k: (v or "").strip() for k, v in raw.items() if k}
-        if not any(cells.values()):
-            continue
-        try:
-            row = _parse_row(index, cells, default_basis)
-        except _RowProblem as p:
-            errors.append(RowError(index, p.column, p.value, p.message))
-            continue
-        if row.reference in seen:
+    nameless_used: set[int] = set()
+    try:
+        for index, raw in records:
+            if not any(cell.strip() for cell in raw):
+                continue
+            if len(raw) != len(header):
+                errors.append(_cell_count_error(index, raw, names, separator))
+                continue
+            cells: dict[str, str] = {}
+            for position, (name, cell) in enumerate(zip(names, raw, strict=True)):
+                if name is not None:
+                    cells[name] = unguard_text(cell.strip())
+                elif not header[position].strip() and cell.strip():
+                    nameless_used.add(position)
+            try:
+                row = _parse_row(index, cells, default_basis)
+            except _RowProblem as p:
+                errors.append(RowError(index, p.column, p.value, p.message))
+                continue
+            if row.reference in seen:
+                errors.append(
+                    RowError(
+                        index,
+                        "reference",
+                        row.reference,
+                        f"already used on row {seen[row.reference]}",
+                    )
+                )
+                continue
+            seen[row.reference] = index
+            rows.append(row)
+    except csv.Error as e:
+        errors.append(
+            RowError(index + 1, "", "", f"the file cannot be read as CSV from here on: {e}")
+        )
+    unknown += [f"column {_letters(p)} (no name)" for p in sorted(nameless_used)]
+    return Parsed(tuple(rows), tuple(errors), tuple(unknown), tuple(notes))
+
+
+def _separator(text: str) -> str:
+    """The separator that splits the header into the most known column names (a comma
+    when none does better)."""
+    first_line = text.lstrip("\r\n").split("\n", 1)[0]
+
+    def known(separator: str) -> int:
+        cells = next(csv.reader([first_line], delimiter=separator), [])
+        return sum(1 for c in cells if column_named(c))
+
+    return max(SEPARATORS, key=known)  # max keeps the first of equals: the comma
+
+
+def _header_errors(row: int, header: list[str], names: list[str | None]) -> list[RowError]:
+    errors = []
+    where: dict[str, list[int]] = {}
+    for position, name in enumerate(names):
+        if name is not None:
+            where.setdefault(name, []).append(position)
+    for name, positions in where.items():
+        if len(positions) > 1:
             errors.append(
                 RowError(
-                    index, "reference", row.reference, f"already used on row {seen[row.reference]}"
+                    row,
+                    name,
+                    " / ".join(header[p].strip() for p in positions),
+                    f"the header names this column {len(positions)} times (in columns "
+                    f"{_and(_letters(p) for p in positions)}): which one is meant cannot be "
+                    "told, so no row was read; keep one of them",
                 )
             )
+    missing = [c for c in REQUIRED_COLUMNS if c not in where]
+    if missing:
+        errors.append(RowError(row, ", ".join(missing), "", "the header lacks required column(s)"))
+    return errors
+
+
+def _and(words) -> str:
+    words = list(words)
+    return ", ".join(words[:-1]) + " and " + words[-1] if len(words) > 1 else "".join(words)
+
+
+def _mistyped_names(unknown: list[str]) -> list[str]:
+    notes = []
+    for text in unknown:
+        close = difflib.get_close_matches(text.lower(), _BY_LOWER_NAME, n=1, cutoff=0.8)
+        if close:
+            notes.append(
+                f"The column “{text}” is not one of sitecheck's and was ignored: "
+                f"is it {_BY_LOWER_NAME[close[0]]}?"
+            )
+    return notes
+
+
+def _letters(position: int) -> str:
+    """A column as a spreadsheet labels it: A, B, ... Z, AA ..."""
+    n, label = position + 1, ""
+    while n:
+        n, rest = divmod(n - 1, 26)
+        label = chr(ord("A") + rest) + label
+    return label
+
+
+def _cell_count_error(
+    index: int, raw: list[str], names: list[str | None], separator: str
+) -> RowError:
+    """A row whose cells do not match the header's columns: refused whole, saying how."""
+    width, count = len(names), len(raw)
+    sep_name = SEPARATORS[separator]
+    column = value = ""
+    if count > width:
+        extra = count - width
+        message = (
+            f"this row has {count} cells where the header has {width} columns ({extra} too "
+            "many), so which value belongs to which column cannot be told and none of the row "
+            f"was read; a value with a {sep_name} in it must be in double quotes"
+        )
+        split = _split_text_cells(raw, names, extra, separator)
+        guesses = [f"the {name}" for name, _ in split]
+        if not any(c.strip() for c in raw[-extra:]):
+            many = f"a {sep_name}" if extra == 1 else f"{extra} {sep_name}s"
+            guesses.append(f"{many} too many at the end")
+        if len(split) == 1 and len(guesses) == 1:
+            column, value = split[0]  # the one likely place: name it as the column
+        if guesses:
+            message += f" (here perhaps {' or '.join(guesses)})"
+    else:
+        message = (
+            f"this row has {count} cells where the header has {width} columns ({width - count} "
+            "too few), so which value belongs to which column cannot be told and none of the "
+            "row was read; every row needs a cell for each column, even an empty one"
+        )
+    if any("\n" in c or "\r" in c for c in raw):
+        message += "; a cell here runs over several lines: is a double quote left open?"
+    return RowError(index, column, value, message)
+
+
+def _split_text_cells(
+    raw: list[str], names: list[str | None], extra: int, separator: str
+) -> list[tuple[str, str]]:
+    """The free-text column whose value, split by an unquoted separator, best accounts for
+    the extra cells: joined again there, every number column holds a number and no
+    free-text column holds a bare number. Where several columns would do, one whose pieces
+    follow the separator with a space (as in "Grid C, 4") is preferred; otherwise all are
+    named."""
+    found = []
+    for position, name in enumerate(names):
+        if name not in FREE_TEXT_COLUMNS:
             continue
-        seen[row.reference] = index
-        rows.append(row)
-    return Parsed(tuple(rows), tuple(errors), unknown)
+        pieces = raw[position : position + extra + 1]
+        if any(not p.strip() for p in pieces[1:]):
+            continue
+        trial = raw[:position] + [separator.join(pieces)] + raw[position + extra + 1 :]
+        if all(
+            _reads_as_number(cell)
+            if n in _NUMBER_COLUMNS
+            else not (n in FREE_TEXT_COLUMNS and cell.strip() and _reads_as_number(cell))
+            for cell, n in zip(trial, names, strict=True)
+        ):
+            found.append(
+                (name, separator.join(pieces).strip(), all(p[:1].isspace() for p in pieces[1:]))
+            )
+    spaced = [f for f in found if f[2]]
+    chosen = spaced if len(spaced) == 1 else found
+    return [(name, value) for name, value, _ in chosen]
 
 
 def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> ScheduleRow:
@@ -282,6 +574,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
     basis_name = c.get("basis") or default_basis
     if basis_name and basis_name not in BASES:
         raise _RowProblem("basis", basis_name, f"one of: {', '.join(BASES)}")
+    _needed_together(c)
     pad = None
     if c.get("padstone_length") or c.get("padstone_width") or c.get("padstone_depth"):
         pad = Padstone(
@@ -294,15 +587,6 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
                 precast=_yes_no(c, "padstone_precast"),
             ),
         )
-    else:
-        for column in ("padstone_f_ck", "padstone_precast"):
-            if c.get(column):
-                raise _RowProblem(
-                    column,
-                    c[column],
-                    "empty, as the row has no padstone (padstone_length, padstone_width and "
-                    "padstone_depth are empty); or give the padstone's size",
-                )
     # An empty cell leaves the core's own default, so the defaults live in one place.
     design = BearingInput(
         load=Load(
@@ -389,14 +673,80 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
     )
 
 
+PADSTONE_SIZE = ("padstone_length", "padstone_width", "padstone_depth")
+PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_precast")
+ASBUILT_PADSTONE_SIZE = (
+    "asbuilt_padstone_length",
+    "asbuilt_padstone_width",
+    "asbuilt_padstone_depth",
+)
+
+
+def _needed_together(c: dict[str, str]) -> None:
+    """Columns that mean something only with others (README, "Columns needed together").
+    The masonry's (f_k or the unit's strength, and a strength with the unit's size) depend
+    on the code basis and are the core's to refuse."""
+    sizes = [k for k in PADSTONE_SIZE if c.get(k)]
+    if sizes and len(sizes) < len(PADSTONE_SIZE):
+        missing = next(k for k in PADSTONE_SIZE if not c.get(k))
+        raise _RowProblem(
+            missing,
+            "",
+            f"required with {' and '.join(sizes)}: a padstone is given by its length, width "
+            "and depth (all three empty: no padstone)",
+        )
+    if not sizes:
+        for column in PADSTONE_DETAILS:
+            if c.get(column):
+                raise _RowProblem(
+                    column,
+                    c[column],
+                    "empty, as the row has no padstone (padstone_length, padstone_width and "
+                    "padstone_depth are empty); or give the padstone's size",
+                )
+    present = _yes_no(c, "asbuilt_padstone")
+    built = [k for k in (*ASBUILT_PADSTONE_SIZE, "asbuilt_padstone_concrete") if c.get(k)]
+    if present is False and built:
+        raise _RowProblem(
+            built[0],
+            c[built[0]],
+            "empty, as asbuilt_padstone = no says there is no padstone as built",
+        )
+    if not sizes and (present or built):
+        missing = [k for k in ASBUILT_PADSTONE_SIZE if not c.get(k)]
+        if missing:
+            said = "asbuilt_padstone = yes" if present else built[0]
+            raise _RowProblem(
+                missing[0],
+                "",
+                f"required with {said}, as the design has no padstone: a padstone found on "
+                "site is given by its length, width and depth as built",
+            )
+
+
 def _given(**values):
     """The values a row gives; an empty cell (None) is left out for the default to apply."""
     return {k: v for k, v in values.items() if v is not None}
 
 
-def _number_text(text: str) -> str:
-    # "1,234.5": a thousands separator. A lone comma is not taken for a decimal point.
-    return text.replace(",", "") if text.count(",") and "." in text else text
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
+# "1,234.5": commas between groups of three digits, with a decimal point to show they are
+# not a decimal comma.
+_GROUPED = re.compile(r"[+-]?\d{1,3}(?:,\d{3})+\.\d*(?:[eE][+-]?\d+)?", re.ASCII)
+_NOT_FINITE = ("inf", "infinity", "nan")
+
+
+def _number_text(text: str) -> str | None:
+    """The text as a plain decimal number, or None if it is not one. Digits, a decimal
+    point, a sign and an exponent only: no spaces, underscores or other scripts' digits."""
+    if _GROUPED.fullmatch(text):
+        return text.replace(",", "")
+    return text if _NUMBER.fullmatch(text) else None
+
+
+def _reads_as_number(text: str) -> bool:
+    text = text.strip()
+    return text == "" or _number_text(unguard_text(text)) is not None
 
 
 def _num(c: dict[str, str], column: str, required: bool = False) -> float | None:
@@ -405,15 +755,29 @@ def _num(c: dict[str, str], column: str, required: bool = False) -> float | None
         if required:
             raise _RowProblem(column, "", "a value is required")
         return None
-    try:
-        value = float(_number_text(text))
-    except ValueError:
-        raise _RowProblem(
-            column, text, "a number" + (f" in {COLUMNS[column][1]}" if COLUMNS[column][1] else "")
-        ) from None
-    if value != value or value in (float("inf"), float("-inf")):
-        raise _RowProblem(column, text, "a finite number")
+    unit = COLUMNS[column][1]
+    in_unit = f" in {unit}" if unit else ""
+    plain = _number_text(text)
+    if plain is None:
+        if text.lower().lstrip("+-") in _NOT_FINITE:
+            raise _RowProblem(column, text, _out_of_range(unit))
+        if "," in text and _number_text(text.replace(",", ".", 1)) is not None:
+            raise _RowProblem(
+                column,
+                text,
+                f"a number{in_unit} written with a decimal point: a comma here could be a "
+                "decimal comma or a thousands separator, so it is read neither way",
+            )
+        raise _RowProblem(column, text, "a number" + in_unit)
+    value = float(plain)
+    if not abs(value) <= NUMBER_LIMIT:
+        raise _RowProblem(column, text, _out_of_range(unit))
     return value
+
+
+def _out_of_range(unit: str) -> str:
+    limit = f"{NUMBER_LIMIT:,.0f}"
+    return f"out of range: a finite number from -{limit} to {limit}{f' {unit}' if unit else ''}"
 
 
 def _kilo(c: dict[str, str], column: str, required: bool = False) -> float | None:
@@ -422,10 +786,7 @@ def _kilo(c: dict[str, str], column: str, required: bool = False) -> float | Non
     value = _num(c, column, required)
     if value is None:
         return None
-    try:
-        return float(Decimal(_number_text(c[column])).scaleb(3))
-    except (InvalidOperation, ValueError):
-        return value * 1000.0
+    return float(Decimal(_number_text(c[column])).scaleb(3))
 
 
 def _int(c: dict[str, str], column: str) -> int | None:

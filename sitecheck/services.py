@@ -34,7 +34,7 @@ from sitecheck.bearing.serial import (
     input_to_dict,
     measurements_from_dict,
 )
-from sitecheck.schedule import RowError, parse_schedule, recheck_rows
+from sitecheck.schedule import RowError, parse_schedule, read_schedule, recheck_rows
 
 # A device clock this far ahead of the server makes its record look newest for ever.
 CLOCK_AHEAD_LIMIT = timedelta(minutes=10)
@@ -119,6 +119,8 @@ class ImportReport:
     added: list[dict]
     errors: list[RowError]
     checked: int
+    notes: tuple[str, ...] = ()  # how the file was read (encoding, separator, column names)
+    ignored_columns: tuple[str, ...] = ()
 
     @property
     def ok(self) -> bool:
@@ -126,12 +128,16 @@ class ImportReport:
 
 
 def import_schedule(
-    db, *, site: dict, text: str, user_id: int, keep_good_rows: bool = False
+    db, *, site: dict, text: str | bytes, user_id: int, keep_good_rows: bool = False
 ) -> ImportReport:
-    """Import a bearing schedule. Any refused row refuses the whole file unless the engineer
-    asked to keep the good rows; either way no row is ever half stored."""
+    """Import a bearing schedule: a file's bytes (decoded as the command line does) or text.
+    Any refused row refuses the whole file unless the engineer asked to keep the good rows;
+    either way no row is ever half stored."""
     basis = basis_for(site)
-    parsed = parse_schedule(text, basis.name)
+    if isinstance(text, bytes):
+        parsed = read_schedule(text, basis.name)
+    else:
+        parsed = parse_schedule(text, basis.name)
     outcomes, errors = recheck_rows(parsed, basis)
     for o in outcomes:
         if o.basis.name != basis.name:
@@ -142,8 +148,9 @@ def import_schedule(
             errors.append(RowError(o.row.row, "reference", o.row.reference, "already on this site"))
     errors.sort(key=lambda e: e.row)
     bad_rows = {e.row for e in errors}
+    said = {"notes": parsed.notes, "ignored_columns": parsed.unknown_columns}
     if errors and not keep_good_rows:
-        return ImportReport([], errors, len(outcomes))
+        return ImportReport([], errors, len(outcomes), **said)
     added = []
     with store.transaction(db):
         for o in outcomes:
@@ -162,7 +169,7 @@ def import_schedule(
                     user_id=user_id,
                 )
             )
-    return ImportReport(added, errors, len(outcomes))
+    return ImportReport(added, errors, len(outcomes), **said)
 
 
 @dataclass(frozen=True)

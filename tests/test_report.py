@@ -38,6 +38,7 @@ from sitecheck.bearing import (
     ec6_uk_na,
 )
 from sitecheck.bearing.serial import input_to_dict
+from sitecheck.csvcells import FORMULA_STARTS
 from sitecheck.demo import BRICK_WING_NAME, SITE_NAME, build_demo
 from sitecheck.demo import schedule_csv as demo_schedule_csv
 from sitecheck.photos import ingest_photo
@@ -332,6 +333,92 @@ def test_free_text_that_a_spreadsheet_would_run_is_defused(db, site, people):
     assert rows[0]["notes"].startswith("'=")
 
 
+def test_no_cell_of_any_exported_csv_starts_a_formula(db, site, people):
+    """Text that a spreadsheet would run, typed in every free-text place the data export
+    writes: in every CSV each such cell is guarded, and a negative measured offset stays a
+    number."""
+    hostile = {}
+    for role, name in (("engineer", "=Eng"), ("inspector", "@Insp"), ("contractor", "+Con")):
+        user = store.create_user(
+            db, email=f"formula.{role}@example.test", name=name, password_hash="x"
+        )
+        store.add_membership(
+            db, user_id=user["id"], site_id=site["id"], role=role, invited_by=people["engineer"].id
+        )
+        hostile[role] = user["id"]
+    bearing = services.add_bearing(
+        db,
+        site=site,
+        reference="=HYPERLINK(1)",
+        location="-grid, invented",
+        design=across_on_padstone(),
+        user_id=hostile["engineer"],
+    )
+    record_uuid = str(uuid.uuid4())
+    services.record_as_built(
+        db,
+        site=site,
+        bearing=bearing,
+        uuid=record_uuid,
+        measured_at=datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        design_revision=1,
+        measurements={"padstone_length": 300.0, "offset_across": -20.0},
+        checklist={"packing": 0.0},
+        notes="-notes",
+        inspector_id=hostile["inspector"],
+    )
+    bearing = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
+    assert bearing["state"] == "engineer to decide"
+    services.decide(
+        db,
+        site=site,
+        bearing=bearing,
+        kind="accept",
+        reason="+reason",
+        engineer_id=hostile["engineer"],
+    )
+    bearing = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
+    services.release(
+        db,
+        site=site,
+        bearing=bearing,
+        contractor_id=hostile["contractor"],
+        contractor_name="@signed",
+        statement="\tstatement",
+    )
+    bearing = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
+    services.reopen(
+        db,
+        site=site,
+        bearing=bearing,
+        role="engineer",
+        reason="\rreason",
+        engineer_id=hostile["engineer"],
+    )
+
+    with zipfile.ZipFile(io.BytesIO(export.csv_zip(collect(db, site["id"])))) as z:
+        read = {
+            n: list(csv.reader(io.StringIO(z.read(n).decode("utf-8-sig"), newline="")))
+            for n in export.CSV_FILES
+        }
+    for name, (header, *rows) in read.items():
+        guarded = 0
+        for row in rows:
+            for column, value in zip(header, row, strict=True):
+                if value.startswith(FORMULA_STARTS):
+                    float(value)  # only a number may begin with a sign
+                    assert column.startswith("measured_") or column in (
+                        "offset_along",
+                        "offset_across",
+                    ), (name, column, value)
+                guarded += value.startswith("'")
+        assert guarded, f"{name} has no hostile text to guard: the test would prove nothing"
+    (record,) = [r for r in read["records.csv"][1:] if r[2] == "'=HYPERLINK(1)"]
+    by_column = dict(zip(read["records.csv"][0], record, strict=True))
+    assert by_column["measured_offset_across"] == "-20"
+    assert by_column["notes"] == "'-notes" and by_column["inspector"] == "'@Insp"
+
+
 def test_the_json_export_holds_everything_and_parses(db, site, recorded):
     data = json.loads(export.json_bytes(collect(db, site["id"])))
     assert data["caution"] == cli.CAUTION
@@ -622,10 +709,42 @@ def test_every_design_input_comes_back_exactly_through_the_exported_schedule(
             design=inp,
             user_id=people["engineer"].id,
         )
+    for reference, location in FORMULA_TEXT.items():
+        services.add_bearing(
+            db,
+            site=site,
+            reference=reference,
+            location=location,
+            design=every_field(),
+            user_id=people["engineer"].id,
+        )
+    written = list(csv.DictReader(io.StringIO(export.schedule_csv(collect(db, site["id"])))))
+    for row in written:
+        for column in ("reference", "location"):
+            assert not row[column].startswith(FORMULA_STARTS), row[column]
+        # A negative number is a number: written as it is, not guarded as text.
+        if row["reference"].startswith("ALL-1"):
+            assert row["offset_across"] == "-3.1"
+    assert {r["reference"] for r in written} >= {"'=1+2", "'-B3", "''=B5"}
     fresh = _copy_schedule(db, store.get_site(db, site["id"]), people["engineer"].id)
     _assert_same_schedule(db, site, fresh)
     stored = {b["reference"]: b for b in store.list_bearings(db, site_id=fresh["id"])}
     assert stored["ALL-1"]["design_input"] == input_to_dict(every_field())
+    assert {ref: stored[ref]["location"] for ref in FORMULA_TEXT} == FORMULA_TEXT
+
+
+# References and locations that a spreadsheet would run as formulas (and text that looks
+# already guarded), each kept exactly through the schedule's export and import. (A leading
+# tab or carriage return is guarded too, tests/test_csvcells.py, but the store keeps no
+# white space around a reference or location.)
+FORMULA_TEXT = {
+    "=1+2": '=HYPERLINK("http://example.test","open")',
+    "+B2": "-20 mm off the grid, east",
+    "-B3": "@SUM(A1:A9)",
+    "@B4": "+44 20 7946 0000 for site access",
+    "'=B5": "'=B5 as typed, with its apostrophe",
+    "''-B6": "'@ guarded by hand",
+}
 
 
 def test_both_demo_sites_come_back_exactly_through_the_exported_schedule(tmp_path):

@@ -19,36 +19,36 @@ from decimal import Decimal
 from sitecheck.bearing.review import Checklist, Measurements
 from sitecheck.bearing.serial import input_to_dict
 from sitecheck.cli import CAUTION
+from sitecheck.csvcells import Figure, cell
 from sitecheck.report.collect import SiteRecord
 from sitecheck.schedule import DESIGN_COLUMNS, parse_schedule
 
 FORMAT_VERSION = 1
+# The csv module quotes a cell holding a character of the line ending only: with "\n"
+# alone, a lone carriage return in a note would be written bare and read as a row's end.
+LINE_END = "\r\n"
 
 
-def _num(x) -> str:
-    if x is None:
-        return ""
-    if isinstance(x, bool):
-        return "yes" if x else "no"
+def _number(x: int | float) -> str:
     if isinstance(x, float):
         # Enough digits that reading back gives the same number.
         return f"{x:.12g}"
     return str(x)
 
 
-def _exact(x) -> str:
-    """A schedule cell: the shortest text that reads back as the same number."""
+def _exact(x: int | float) -> str:
+    """A schedule number: the shortest text that reads back as the same number."""
     if isinstance(x, float):
         return repr(x) if x != int(x) or abs(x) >= 1e16 else str(int(x))
-    return _num(x)
+    return str(x)
 
 
-def _kilo(newtons) -> str:
+def _kilo(newtons) -> Figure | None:
     """N as kN by moving the decimal point, so the import's own shift back gives the same N."""
     if newtons is None:
-        return ""
+        return None
     text = format(Decimal(repr(float(newtons))).scaleb(-3).normalize(), "f")
-    return text if "." not in text else text.rstrip("0").rstrip(".")
+    return Figure(text if "." not in text else text.rstrip("0").rstrip("."))
 
 
 def schedule_row(reference: str, location: str, basis: str, design: dict) -> dict[str, str]:
@@ -107,7 +107,8 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
             "The schedule's columns and the export's differ: "
             f"{sorted(set(values) ^ set(DESIGN_COLUMNS))}; update schedule_row."
         )
-    return {k: values[k] if k == "reaction_kN" else _exact(values[k]) for k in DESIGN_COLUMNS}
+    # Text cells (reference, location, the choices) are guarded; numbers are not.
+    return {k: cell(values[k], _exact) for k in DESIGN_COLUMNS}
 
 
 def schedule_gaps(design: dict) -> list[str]:
@@ -115,7 +116,7 @@ def schedule_gaps(design: dict) -> list[str]:
     read back (an empty list: the schedule carries this bearing whole)."""
     row = schedule_row("R", "", "", design)
     out = io.StringIO()
-    w = csv.DictWriter(out, fieldnames=list(DESIGN_COLUMNS), lineterminator="\n")
+    w = csv.DictWriter(out, fieldnames=list(DESIGN_COLUMNS), lineterminator=LINE_END)
     w.writeheader()
     w.writerow(row)
     parsed = parse_schedule(out.getvalue())
@@ -137,7 +138,7 @@ def _differences(a, b, path: str = "") -> list[str]:
 
 def schedule_csv(rec: SiteRecord) -> str:
     out = io.StringIO()
-    w = csv.DictWriter(out, fieldnames=list(DESIGN_COLUMNS), lineterminator="\n")
+    w = csv.DictWriter(out, fieldnames=list(DESIGN_COLUMNS), lineterminator=LINE_END)
     w.writeheader()
     basis = (rec.site.get("code_basis") or {}).get("name", "")
     for br in rec.bearings:
@@ -146,17 +147,13 @@ def schedule_csv(rec: SiteRecord) -> str:
     return out.getvalue()
 
 
-def _safe(text) -> str:
-    """Free text for a spreadsheet: a leading = + - @ would be run as a formula."""
-    text = "" if text is None else str(text)
-    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
-
-
 def _table(header: list[str], rows: list[list]) -> str:
+    """A CSV file from rows of values as they are kept: every text cell goes through the
+    formula guard and every number is written as a number (see :mod:`sitecheck.csvcells`)."""
     out = io.StringIO()
-    w = csv.writer(out, lineterminator="\n")
+    w = csv.writer(out, lineterminator=LINE_END)
     w.writerow(header)
-    w.writerows(rows)
+    w.writerows([cell(v, _number) for v in row] for row in rows)
     return out.getvalue()
 
 
@@ -172,17 +169,17 @@ def bearings_csv(rec: SiteRecord) -> str:
         rows.append(
             [
                 b["id"],
-                _safe(b["reference"]),
-                _safe(b["location"]),
+                b["reference"],
+                b["location"],
                 b["state"],
                 b["revision"],
-                _num(b["design_utilisation"]),
-                _num(bool(b["design_passed"])),
+                b["design_utilisation"],
+                bool(b["design_passed"]),
                 latest["uuid"] if latest else "",
-                _num(latest["utilisation"]) if latest else "",
-                _num(bool(latest["passed"])) if latest else "",
+                latest["utilisation"] if latest else None,
+                bool(latest["passed"]) if latest else None,
                 br.decisions[-1]["kind"] if br.decisions else "",
-                _safe(release["contractor_name"]) if release else "",
+                release["contractor_name"] if release else "",
                 release["created_at"] if release else "",
                 _json(b["design_input"]),
             ]
@@ -219,21 +216,21 @@ def records_csv(rec: SiteRecord) -> str:
                 [
                     r["uuid"],
                     br.bearing["id"],
-                    _safe(br.bearing["reference"]),
+                    br.bearing["reference"],
                     r["design_revision"],
-                    _safe(rec.name(r["inspector_id"])),
+                    rec.name(r["inspector_id"]),
                     r["measured_at"],
                     r["received_at"],
-                    *[_num(m.get(k)) for k in _MEASURED],
-                    *[_num(c.get(k)) for k in _CHECKED],
-                    _num(r["utilisation"]),
-                    _num(bool(r["passed"])),
+                    *[m.get(k) for k in _MEASURED],
+                    *[c.get(k) for k in _CHECKED],
+                    r["utilisation"],
+                    bool(r["passed"]),
                     r["blocking"],
-                    _num(bool(r["older_revision"])),
-                    _num(bool(r["late"])),
+                    bool(r["older_revision"]),
+                    bool(r["late"]),
                     " ".join(x.get("code", "") for x in r["reasons"] or []),
                     len(br.photos.get(r["uuid"], [])),
-                    _safe(r["notes"]),
+                    r["notes"],
                 ]
             )
     header = [
@@ -263,12 +260,12 @@ def decisions_csv(rec: SiteRecord) -> str:
         [
             d["id"],
             br.bearing["id"],
-            _safe(br.bearing["reference"]),
+            br.bearing["reference"],
             d["record_uuid"],
             d["kind"],
-            _safe(rec.name(d["engineer_id"])),
+            rec.name(d["engineer_id"]),
             d["created_at"],
-            _safe(d["reason"]),
+            d["reason"],
         ]
         for br in rec.bearings
         for d in br.decisions
@@ -282,12 +279,12 @@ def releases_csv(rec: SiteRecord) -> str:
         [
             r["id"],
             br.bearing["id"],
-            _safe(br.bearing["reference"]),
+            br.bearing["reference"],
             r["record_uuid"] or "",
-            _safe(r["contractor_name"]),
-            _safe(rec.name(r["contractor_id"])),
+            r["contractor_name"],
+            rec.name(r["contractor_id"]),
             r["created_at"],
-            _safe(r["statement"]),
+            r["statement"],
         ]
         for br in rec.bearings
         for r in br.releases
@@ -301,10 +298,10 @@ def reopenings_csv(rec: SiteRecord) -> str:
         [
             r["id"],
             br.bearing["id"],
-            _safe(br.bearing["reference"]),
-            _safe(rec.name(r["engineer_id"])),
+            br.bearing["reference"],
+            rec.name(r["engineer_id"]),
             r["created_at"],
-            _safe(r["reason"]),
+            r["reason"],
         ]
         for br in rec.bearings
         for r in br.reopenings
@@ -318,11 +315,11 @@ def events_csv(rec: SiteRecord) -> str:
         [
             e["id"],
             e["at"],
-            _safe(rec.name(e["user_id"])),
+            rec.name(e["user_id"]),
             e["kind"],
             e["bearing_id"] or "",
-            _safe(refs.get(e["bearing_id"], "")),
-            _safe(_json(e["detail"] or {})),
+            refs.get(e["bearing_id"], ""),
+            _json(e["detail"] or {}),
         ]
         for e in rec.events
     ]
@@ -357,8 +354,11 @@ def readme(rec: SiteRecord) -> str:
         "reopenings.csv reopened bearings with their reasons",
         "events.csv     the audit trail, oldest first",
         "",
-        "Times are UTC. Free text that begins with = + - or @ has a ' put in front so that a",
-        "spreadsheet shows it rather than running it.",
+        "Times are UTC. Free text (references, locations, names, notes, reasons) that begins",
+        "with = + - @, a tab or a carriage return has a ' put in front, so that a spreadsheet",
+        "shows it rather than running it as a formula; so has text that begins with ' and then",
+        "one of those. Numbers are written as they are (an offset of -20 is -20). Importing",
+        "schedule.csv takes the ' off again.",
     ]
     missing = {k: v for k, v in gaps.items() if v}
     if missing:

@@ -914,7 +914,7 @@ class ImportForm(FlaskForm):
     file = FileField("Schedule file (CSV)")
     text = TextAreaField(
         "…or paste the schedule",
-        description="Copied from a spreadsheet as CSV, header row first.",
+        description="Cells copied from a spreadsheet, or CSV text; header row first.",
         render_kw={"rows": 8, "spellcheck": "false"},
     )
     keep_good_rows = BooleanField("Import the good rows anyway")

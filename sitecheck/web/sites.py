@@ -365,60 +365,45 @@ def import_schedule(site_id):
     form = ImportForm()
     report, status = None, 200
     if form.is_submitted():
-        text, status = _schedule_text(form)
-        if text is not None:
-            try:
-                report = services.import_schedule(
-                    get_db(),
-                    site=site,
-                    text=text,
-                    user_id=g.user["id"],
-                    keep_good_rows=bool(form.keep_good_rows.data),
-                )
-            except csv.Error as e:
-                where = form.file if form.file.data and form.file.data.filename else form.text
-                add_error(
-                    where,
-                    f"This is not a CSV schedule sitecheck can read ({e}); save it from the "
-                    "spreadsheet as CSV, header row first.",
-                )
-                status = 400
-            else:
-                status = 400 if report.errors and not report.added else 200
+        schedule, status = _schedule_given(form)
+        if schedule is not None:
+            report = services.import_schedule(
+                get_db(),
+                site=site,
+                text=schedule,
+                user_id=g.user["id"],
+                keep_good_rows=bool(form.keep_good_rows.data),
+            )
+            status = 400 if report.errors and not report.added else 200
     return _import_page(site, form, report, status)
 
 
-def _schedule_text(form) -> tuple[str | None, int]:
-    """The schedule's text from the upload or the pasted box, or None with a field error."""
+def _schedule_given(form) -> tuple[str | bytes | None, int]:
+    """The uploaded file's bytes (read by the schedule's own reader, as the command line
+    reads a file) or the pasted text; or None with a field error."""
     if not form.validate():
         return None, 400
     upload = form.file.data
-    pasted = (form.text.data or "").strip()
+    pasted = form.text.data or ""
     has_file = upload is not None and getattr(upload, "filename", "")
-    if has_file and pasted:
+    if has_file and pasted.strip():
         add_error(form.text, "Give a file or pasted text, not both: clear one of them.")
         return None, 400
     if not has_file:
-        if not pasted:
+        if not pasted.strip():
             add_error(form.file, "Choose a CSV file, or paste the schedule below.")
             return None, 400
         if len(pasted.encode("utf-8")) > IMPORT_LIMIT:
             add_error(form.text, _too_large_words("The pasted text"))
             return None, 413
-        return pasted + "\n", 200
+        # Cells pasted from a spreadsheet are tab-separated: trailing tabs are empty cells
+        # of the last row, so only blank lines around the text are taken off.
+        return pasted.strip("\r\n") + "\n", 200
     raw = upload.stream.read(IMPORT_LIMIT + 1)
     if len(raw) > IMPORT_LIMIT:
         add_error(form.file, _too_large_words("The file"))
         return None, 413
-    if b"\x00" in raw:
-        add_error(form.file, "This file is not text: save the schedule as CSV and try again.")
-        return None, 400
-    try:
-        return raw.decode("utf-8-sig"), 200
-    except UnicodeDecodeError:
-        # Spreadsheets on Windows save "CSV" in the Windows code page by default; reading
-        # it as such keeps £, ° and accented names instead of refusing the file.
-        return raw.decode("cp1252", errors="replace"), 200
+    return raw, 200
 
 
 def _too_large_words(what: str) -> str:
