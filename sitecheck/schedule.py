@@ -65,7 +65,11 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     "padstone_depth": ("padstone depth", "mm"),
     "padstone_concrete": ("concrete class, e.g. C25/30", ""),
     "padstone_f_ck": ("declared concrete strength f_ck, if it is to override the class", "N/mm²"),
-    "padstone_precast": ("yes (precast) or no (cast in place) (empty: yes)", ""),
+    "padstone_reinforced": (
+        "yes if the padstone is reinforced (empty: no, plain concrete, as site padstones "
+        "usually are; plain takes α_cc,pl)",
+        "",
+    ),
     "wall_thickness": ("wall (leaf) thickness t", "mm"),
     "height_to_bearing": ("height from the wall's base to the bearing h_c", "mm"),
     "clear_height": ("clear height h (empty: h_c)", "mm"),
@@ -112,6 +116,7 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_padstone_width": ("padstone width as built", "mm"),
     "asbuilt_padstone_depth": ("padstone depth as built", "mm"),
     "asbuilt_padstone_concrete": ("padstone concrete class as built", ""),
+    "asbuilt_padstone_reinforced": ("yes or no: is the padstone reinforced", ""),
     "asbuilt_wall_thickness": ("wall thickness as built", "mm"),
     "asbuilt_a1": ("a1 as built", "mm"),
     "asbuilt_a2": ("a2 as built", "mm"),
@@ -126,6 +131,14 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_level": ("yes or no: padstone level", ""),
 }
 COLUMNS = DESIGN_COLUMNS | ASBUILT_COLUMNS
+# Columns earlier versions read and this one does not, with why: a schedule that has one
+# still imports, and says the column was not read.
+RETIRED_COLUMNS = {
+    "padstone_precast": (
+        "precast or cast in place changes no check; a padstone is plain concrete unless "
+        "padstone_reinforced says yes"
+    ),
+}
 REQUIRED_COLUMNS = (
     "reference",
     "reaction_kN",
@@ -151,7 +164,7 @@ FIELD_TO_COLUMN = {
     "padstone.depth": "padstone_depth",
     "padstone.concrete": "padstone_concrete",
     "padstone.f_ck": "padstone_f_ck",
-    "padstone.precast": "padstone_precast",
+    "padstone.reinforced": "padstone_reinforced",
     "wall.thickness": "wall_thickness",
     "wall.height_to_bearing": "height_to_bearing",
     "wall.clear_height": "clear_height",
@@ -188,6 +201,7 @@ _ASBUILT_FIELD_TO_COLUMN = {
     "padstone.width": "asbuilt_padstone_width",
     "padstone.depth": "asbuilt_padstone_depth",
     "padstone.concrete": "asbuilt_padstone_concrete",
+    "padstone.reinforced": "asbuilt_padstone_reinforced",
     "wall.thickness": "asbuilt_wall_thickness",
     "wall.a1": "asbuilt_a1",
     "wall.a2": "asbuilt_a2",
@@ -397,6 +411,9 @@ def parse_schedule(text: str, default_basis: str | None = None) -> Parsed:
     if errors:
         return Parsed((), tuple(errors))
     unknown = [h.strip() for h, n in zip(header, names, strict=True) if n is None and h.strip()]
+    retired = [h for h in unknown if h.lower() in RETIRED_COLUMNS]
+    unknown = [h for h in unknown if h not in retired]
+    notes += [f"Column {h} is no longer read: {RETIRED_COLUMNS[h.lower()]}." for h in retired]
     notes += _mistyped_names(unknown)
     rows: list[ScheduleRow] = []
     seen: dict[str, int] = {}
@@ -584,7 +601,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             **_given(
                 concrete=c.get("padstone_concrete") or None,
                 f_ck=_num(c, "padstone_f_ck"),
-                precast=_yes_no(c, "padstone_precast"),
+                reinforced=_yes_no(c, "padstone_reinforced"),
             ),
         )
     # An empty cell leaves the core's own default, so the defaults live in one place.
@@ -653,6 +670,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             padstone_width=_num(c, "asbuilt_padstone_width"),
             padstone_depth=_num(c, "asbuilt_padstone_depth"),
             padstone_concrete=c.get("asbuilt_padstone_concrete") or None,
+            padstone_reinforced=_yes_no(c, "asbuilt_padstone_reinforced"),
             wall_thickness=_num(c, "asbuilt_wall_thickness"),
             a1=_num(c, "asbuilt_a1"),
             a2=_num(c, "asbuilt_a2"),
@@ -674,7 +692,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
 
 
 PADSTONE_SIZE = ("padstone_length", "padstone_width", "padstone_depth")
-PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_precast")
+PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_reinforced")
 ASBUILT_PADSTONE_SIZE = (
     "asbuilt_padstone_length",
     "asbuilt_padstone_width",
@@ -705,7 +723,15 @@ def _needed_together(c: dict[str, str]) -> None:
                     "padstone_depth are empty); or give the padstone's size",
                 )
     present = _yes_no(c, "asbuilt_padstone")
-    built = [k for k in (*ASBUILT_PADSTONE_SIZE, "asbuilt_padstone_concrete") if c.get(k)]
+    built = [
+        k
+        for k in (
+            *ASBUILT_PADSTONE_SIZE,
+            "asbuilt_padstone_concrete",
+            "asbuilt_padstone_reinforced",
+        )
+        if c.get(k)
+    ]
     if present is False and built:
         raise _RowProblem(
             built[0],

@@ -386,6 +386,26 @@ def _named_checks() -> list[tuple[str, object, dict]]:
                 beta_s=0.5,
             ),
         ),
+        # Plain and reinforced padstones under a concentric in-line load, where an
+        # enlargement fits: plain takes none unless the basis allows it.
+        (
+            "ec6-plain-padstone-no-enhancement",
+            ec6,
+            _bearing(beam={**in_line, "offset_along": 0.0}, padstone={"depth": 215.0}),
+        ),
+        (
+            "ec6-plain-padstone-enhancement-allowed",
+            ec6_uk_na(plain_partial_area_enhancement=True, alpha_cc_pl=0.8),
+            _bearing(beam={**in_line, "offset_along": 0.0}, padstone={"depth": 215.0}),
+        ),
+        (
+            "ec6-reinforced-padstone",
+            ec6,
+            _bearing(
+                beam={**in_line, "offset_along": 0.0},
+                padstone={"depth": 215.0, "reinforced": True},
+            ),
+        ),
         ("bs-across-on-padstone", bs, _bearing(masonry=_BRICK)),
         ("bs-brick-20-m4-table-value", bs, _bearing(masonry=_BRICK, padstone=None)),
         (
@@ -512,7 +532,7 @@ def _random_input(rng: random.Random, ec6: bool) -> dict:
             pad["concrete"] = "declared"
         else:
             pad["concrete"] = rng.choice(("C20/25", "C25/30", "C30/37", "C32/40", "C40/50"))
-        pad["precast"] = rng.random() < 0.7
+        pad["reinforced"] = rng.random() < 0.3
         if orient == ACROSS:
             b_f = min(b_f, length)
             l_b = min(_length(rng, (90.0, 100.0, 125.0, 150.0, 215.0), 50.0, 300.0), width)
@@ -769,6 +789,7 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
         add(f"concrete-read-{concrete}", data)
     add("fck-out-of-range", change("padstone", f_ck=95.0))
     add("fck-text", change("padstone", f_ck="thirty"))
+    add("reinforced-text", change("padstone", reinforced="yes"))
     # Distances and offsets.
     add("a1-negative", change("wall", a1=-10.0))
     add("a2-text", change("wall", a2="far"))
@@ -876,6 +897,8 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
         ("gamma-m-true", {"gamma_M_ec6": {**ec6["gamma_M_ec6"], "2|I": True}}),
         ("bearing-type-factors-two", {"bearing_type_factors": [1.25, 1.5]}),
         ("bearing-type-factor-zero", {"bearing_type_factors": [1.25, 0.0, 2.0]}),
+        ("alpha-cc-pl-zero", {"alpha_cc_pl": 0.0}),
+        ("plain-enhancement-text", {"plain_partial_area_enhancement": "no"}),
     ):
         out.append((f"basis-{name}", {**ec6, **changes}, _full(_bearing())))
     # Whole-number choices given as true, and an eccentricity the wall cannot carry.

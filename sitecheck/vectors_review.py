@@ -155,7 +155,7 @@ def designs() -> list[tuple[str, CodeBasis, BearingInput]]:
                 beam=Beam(flange_width=133.0, bearing_length=150.0, offset_along=20.0),
                 wall=Wall(thickness=215.0, height_to_bearing=2700.0, a1=250.0, a2=1200.0),
                 masonry=Masonry(f_k=4.5),
-                padstone=replace(PAD_440_215_140, concrete="C30/37", precast=False),
+                padstone=replace(PAD_440_215_140, concrete="C30/37", reinforced=True),
             ),
         ),
         (
@@ -222,7 +222,7 @@ def designs() -> list[tuple[str, CodeBasis, BearingInput]]:
                 beam=Beam(flange_width=171.0, bearing_length=200.0),
                 wall=Wall(thickness=300.0, height_to_bearing=3000.0, a1=600.0),
                 masonry=_block(17.5),
-                padstone=Padstone(length=440.0, width=250.0, depth=140.0, precast=False),
+                padstone=Padstone(length=440.0, width=250.0, depth=140.0, reinforced=True),
             ),
         ),
         (
@@ -523,6 +523,10 @@ HAND_CASES: tuple[tuple[str, str, dict, dict, dict | None], ...] = (
     ("ec6-across-declared", "concrete-lower-case", {"padstone_concrete": "c25/30"}, {}, None),
     ("ec6-across-pad", "concrete-blank", {"padstone_concrete": ""}, {}, None),
     ("ec6-across-pad", "concrete-unknown", {"padstone_concrete": "C99"}, {}, None),
+    # Plain or reinforced (EN 1992-1-1 section 12 takes α_cc,pl for plain concrete).
+    ("ec6-across-declared", "built-plain", {"padstone_reinforced": False}, {}, None),
+    ("ec6-across-pad", "built-reinforced", {"padstone_reinforced": True}, {}, None),
+    ("ec6-across-bare", "reinforced-but-no-padstone", {"padstone_reinforced": True}, {}, None),
     (
         "ec6-across-fck",
         "concrete-with-sizes",
@@ -758,6 +762,7 @@ def _random_measurements(rng: random.Random, design: BearingInput) -> dict:
             lambda: {"padstone_width": near(pad.width, (4, 15, 75))},
             lambda: {"padstone_depth": near(pad.depth, (6, 12, 40))},
             lambda: {"padstone_concrete": rng.choice(STANDARD_CLASSES)},
+            lambda: {"padstone_reinforced": rng.random() < 0.5},
             lambda: NO_PADSTONE,
         ]
     else:

@@ -156,8 +156,8 @@ def test_a_basis_value_for_the_run_is_used_and_a_non_physical_one_refused(tmp_pa
     path = tmp_path / "s.csv"
     path.write_text(
         "reference,reaction_kN,flange_width,bearing_length,wall_thickness,height_to_bearing,"
-        "padstone_length,padstone_width,padstone_depth,f_k\n"
-        "P1,40,133,150,215,2400,440,215,140,4.0\n",
+        "padstone_length,padstone_width,padstone_depth,padstone_reinforced,f_k\n"
+        "P1,40,133,150,215,2400,440,215,140,yes,4.0\n",
         encoding="utf-8",
     )
     assert main(["check", "--json", "--basis-value", "alpha_cc=1.0", str(path)]) == 0

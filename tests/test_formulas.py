@@ -12,7 +12,7 @@ import math
 import pytest
 from structuralcodes.codes import ec2_2004
 
-from sitecheck.bearing import InputError, Masonry, bs5628, ec6_uk_na
+from sitecheck.bearing import InputError, Masonry, Padstone, bs5628, ec6_uk_na
 from sitecheck.bearing.formulas import F_Rdu, beta_bs5628, beta_ec6, linear_pressure, phi_m
 from sitecheck.bearing.strength import delta, f_cd, f_k_bs5628, f_k_ec6, masonry_strengths
 
@@ -30,6 +30,26 @@ def test_f_cd_uk_value_for_c25_30():
     # EN 1992-1-1 eqn 3.15 with the UK NA's alpha_cc = 0.85 and gamma_c = 1.5 (Table 2.1N):
     # 0.85 × 25 / 1.5 = 14.1667 N/mm², worked by hand.
     assert f_cd(25, 0.85, 1.5) == pytest.approx(14.16667, rel=1e-5)
+
+
+@pytest.mark.parametrize("alpha_cc_pl", [0.6, 0.8])
+def test_plain_concrete_f_cd_is_eqn_3_15_with_alpha_cc_pl(alpha_cc_pl):
+    """EN 1992-1-1 12.3.1: plain concrete takes α_cc,pl in eqn 3.15; 0.8 recommended,
+    0.6 in the UK NA (both from memory). C25/30: 0.6 × 25/1.5 = 10.0 and 0.8 × 25/1.5
+    = 13.333 N/mm² by hand; the reference library's fcd gives the same with that α."""
+    pad = Padstone(length=440.0, width=215.0, depth=140.0)  # plain, the default
+    s = masonry_strengths(Masonry(f_k=4.0), pad, ec6_uk_na(alpha_cc_pl=alpha_cc_pl))
+    assert s.f_cd == pytest.approx(alpha_cc_pl * 25 / 1.5, rel=1e-12)
+    assert s.f_cd == pytest.approx(ec2_2004.fcd(25, alpha_cc_pl, 1.5), rel=1e-12)
+    assert s.steps[-1].symbol == "f_cd,pl" and s.steps[-1].source == "M"
+
+
+def test_plain_is_the_default_and_the_uk_alpha_cc_pl_is_a_visible_basis_value():
+    from sitecheck.bearing import SOURCES
+
+    assert Padstone(length=440.0, width=215.0, depth=140.0).reinforced is False
+    assert ec6_uk_na().alpha_cc_pl == 0.6  # UK NA, from memory
+    assert "[M]" in SOURCES["alpha_cc_pl"] and "0.8" in SOURCES["alpha_cc_pl"]
 
 
 def test_partially_loaded_area_published_check_value():

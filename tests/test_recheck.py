@@ -64,10 +64,12 @@ def test_hand_calculation_ec6_beam_across_wall_on_padstone():
     assert bearing.utilisation == pytest.approx(0.35612, abs=5e-5)
 
     # EN 1992-1-1 6.7: A_c0 = 133 × 150; the flange bears from the padstone's edge, so no
-    # similar concentric area is larger: F_Rdu = A_c0 · f_cd = 19 950 × 14.1667 = 282 625 N.
+    # similar concentric area is larger. The padstone is plain (the default): section 12
+    # takes α_cc,pl = 0.6 (UK NA, from memory), f_cd,pl = 0.6 × 25/1.5 = 10.0 N/mm²;
+    # F_Rdu = A_c0 · f_cd,pl = 19 950 × 10.0 = 199 500 N.
     pad = r.check("padstone-bearing")
-    assert pad.capacity == pytest.approx(19_950 * 0.85 * 25 / 1.5)
-    assert pad.utilisation == pytest.approx(60_000 / 282_625)
+    assert pad.capacity == pytest.approx(19_950 * 0.6 * 25 / 1.5)
+    assert pad.utilisation == pytest.approx(60_000 / 199_500)
 
     # Eccentricity across: reaction at 75 from the near face, wall centre at 107.5:
     # e = 32.5 ≤ t/4 = 53.75 (EN 1996-1-1 6.1.3, from memory) → 0.6047.
@@ -273,13 +275,18 @@ def test_result_serialises_to_json_with_every_step_and_clause():
         for step in check["steps"]:
             assert step["clause"] and step["source"] in {"S", "P", "M", "CP", "ours"}
     assert data["spread"]["distribution"] == "uniform"
-    assert data["strengths"]["steps"][-1]["symbol"] == "f_cd"
+    assert data["strengths"]["steps"][-1]["symbol"] == "f_cd,pl"  # plain, the default
 
 
 def test_site_overrides_reach_the_checks():
-    # A site that sets alpha_cc = 1.0 (EN recommended value) gets f_cd = 25/1.5.
-    r = check_bearing(across_on_padstone(), ec6_uk_na(alpha_cc=1.0))
+    # A site that sets alpha_cc = 1.0 (EN recommended value) gets f_cd = 25/1.5 for a
+    # reinforced padstone (EN 1992-1-1 eqn 3.15).
+    reinforced = replace(across_on_padstone().padstone, reinforced=True)
+    r = check_bearing(across_on_padstone(padstone=reinforced), ec6_uk_na(alpha_cc=1.0))
     assert r.strengths.f_cd == pytest.approx(25 / 1.5)
+    # And α_cc,pl = 0.8 (EN recommended, from memory) gives 0.8 × 25/1.5 for a plain one.
+    r = check_bearing(across_on_padstone(), ec6_uk_na(alpha_cc_pl=0.8))
+    assert r.strengths.f_cd == pytest.approx(0.8 * 25 / 1.5)
     # A site that turns the trade minimum bearing to 160 mm fails a 150 mm bearing.
     assert not check_bearing(across_on_padstone(), ec6_uk_na(min_bearing_beam=160.0)).passed
 
@@ -374,3 +381,64 @@ def test_a_uniform_or_trapezoid_pressure_has_one_reading():
     assert r.spread.distribution != "triangle" and r.spread.spread_reading == ""
     labels = [s.label for s in r.check("masonry-bearing").steps]
     assert not any("reading" in label for label in labels)
+
+
+# ---------------------------------------------------------------- plain and reinforced padstones
+
+
+def _centred_in_line(**pad_changes):
+    """A 146 mm flange bearing 150 mm, in line and centred on a 440 × 215 × 215 C25/30
+    padstone: a concentric load, so a larger similar area fits (EN 1992-1-1 6.7(3))."""
+    pad = Padstone(length=440.0, width=215.0, depth=215.0, **pad_changes)
+    return across_on_padstone(
+        beam=Beam(flange_width=146.0, bearing_length=150.0, orientation=IN_LINE, offset_along=0.0),
+        padstone=pad,
+    )
+
+
+def test_a_plain_padstone_takes_alpha_cc_pl_and_no_enhancement_unless_the_basis_allows():
+    """By hand, EN 1992-1-1 6.7 eqn 6.63: A_c0 = 150 × 146 = 21 900 mm². The largest similar
+    area is set by the room across, k = 2 × 107.5/146 = 1.47260 (below 3, 1 + 215/150 and
+    1 + 215/146).
+    Reinforced: f_cd = 0.85 × 25/1.5 = 14.1667; F_Rdu = 21 900 × 14.1667 × 1.47260
+    = 456 875 N.
+    Plain (section 12, α_cc,pl = 0.6, UK NA from memory): f_cd,pl = 10.0; no enhancement, as
+    6.7(4) asks for reinforcement for the transverse tension: 21 900 × 10.0 = 219 000 N.
+    Plain with the site allowing the enhancement: 219 000 × 1.47260 = 322 500 N."""
+    basis = ec6_uk_na()
+    reinforced = check_bearing(_centred_in_line(reinforced=True), basis).check("padstone-bearing")
+    plain = check_bearing(_centred_in_line(), basis).check("padstone-bearing")
+    allowed = check_bearing(
+        _centred_in_line(), ec6_uk_na(plain_partial_area_enhancement=True)
+    ).check("padstone-bearing")
+    assert reinforced.capacity == pytest.approx(456_875.0, rel=1e-9)
+    assert plain.capacity == pytest.approx(219_000.0, rel=1e-9)
+    assert allowed.capacity == pytest.approx(322_500.0, rel=1e-9)
+    assert any("plain concrete: no enhancement" in n for n in plain.notes)
+    taken = {s.label: s for s in plain.steps}["Scale taken for plain concrete"]
+    assert taken.value == 1.0 and taken.clause == "EN 1992-1-1 6.7(4)"
+
+
+def test_a_design_stored_with_the_retired_precast_input_still_reads():
+    from sitecheck.bearing.serial import input_from_dict, input_to_dict
+
+    data = input_to_dict(across_on_padstone())
+    data["padstone"].pop("reinforced")
+    data["padstone"]["precast"] = False  # as designs were stored before
+    inp = input_from_dict(data)
+    assert inp.padstone.reinforced is False and inp == across_on_padstone()
+
+
+def test_a_reinforced_design_built_plain_is_weaker_concrete_for_the_engineer():
+    from sitecheck.bearing.review import Checklist, Measurements, as_built_input, review
+
+    design = _centred_in_line(reinforced=True)
+    basis = ec6_uk_na()
+    m = Measurements(padstone_reinforced=False)
+    built = as_built_input(design, m)
+    assert built.padstone.reinforced is False
+    result = check_bearing(built, basis)
+    reasons = review(design, check_bearing(design, basis), m, Checklist(), built, result, basis)
+    weaker = next(r for r in reasons if r.code == "concrete-weaker")
+    # f_cd 0.85 × 25/1.5 = 14.17 designed, f_cd,pl 0.6 × 25/1.5 = 10 as built.
+    assert "f_cd 10 against 14.17 N/mm²" in weaker.sentence

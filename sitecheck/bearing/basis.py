@@ -95,6 +95,9 @@ class CodeBasis:
     # Concrete padstone, EN 1992-1-1 3.1.6 and 6.7.
     gamma_c: float = 1.5
     alpha_cc: float = 0.85
+    # Plain (unreinforced) padstones, EN 1992-1-1 section 12.
+    alpha_cc_pl: float = 0.6
+    plain_partial_area_enhancement: bool = False
     plb_limit_factor: float = 3.0
     padstone_spread_deg: float = 45.0
     # EC6 masonry strength.
@@ -232,6 +235,7 @@ def _as_float(value: object) -> object:
 SCALAR_BOUNDS: dict[str, tuple[float, float]] = {
     "gamma_c": (1.0, 3.0),
     "alpha_cc": (0.5, 1.0),
+    "alpha_cc_pl": (0.3, 1.0),
     "plb_limit_factor": (1.0, 5.0),
     "padstone_spread_deg": (10.0, 80.0),
     "f_b_max": (1.0, 200.0),
@@ -260,7 +264,7 @@ TABLE_BOUNDS: dict[str, tuple[float, float]] = {
     "gamma_m_bs": (1.0, 5.0),
     "bearing_type_factors": (1.0, 3.0),
 }
-FLAGS = ("spreader_route_for_groups_2_to_4",)
+FLAGS = ("spreader_route_for_groups_2_to_4", "plain_partial_area_enhancement")
 
 
 def basis_errors(basis: CodeBasis) -> Iterator[InputError]:
@@ -312,6 +316,11 @@ def _bounded(field: str, value: object, least: float, greatest: float) -> Iterat
 SOURCES: dict[str, str] = {
     "gamma_c": "1.5, EN 1992-1-1 Table 2.1N, persistent situations [S]",
     "alpha_cc": "0.85, UK NA to EN 1992-1-1 (EN recommends 1.0) [S]",
+    "alpha_cc_pl": "0.6 for plain concrete, UK NA to EN 1992-1-1 12.3.1 (EN recommends 0.8) [M]",
+    "plain_partial_area_enhancement": (
+        "off: a plain padstone takes no √(A_c1/A_c0) enhancement, as nothing carries the "
+        "transverse tension EN 1992-1-1 6.7(4) asks reinforcement for [ours, cautious]"
+    ),
     "plb_limit_factor": "3.0, EN 1992-1-1 6.7 eqn 6.63 [S]",
     "padstone_spread_deg": "45° dispersion through the padstone [CP]",
     "k_values": "EN 1996-1-1 Table 3.3 / UK NA Table NA.4 [M]: confirm against the NA",

@@ -142,6 +142,10 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
     than 3 × and no more than the depth beyond A_c0's. A beam bearing from one face leaves
     no room for a concentric enlargement, so F_Rdu = A_c0 · f_cd: we keep that honest
     answer rather than relax the similarity rule.
+
+    A plain padstone (f_cd from α_cc,pl) takes no enhancement either unless the code basis
+    allows it: 6.7(4) asks for reinforcement to carry the transverse tension the spread
+    sets up, and plain concrete has none [ours, the cautious reading].
     """
     b1 = lay.x1 - lay.x0
     d1 = lay.y1 - lay.y0
@@ -155,9 +159,12 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
         2 * min(cx, lay.length - cx) / b1,
         2 * min(cy, lay.width - cy) / d1,
     )
-    k = max(1.0, min(k_limits))
+    k_fits = max(1.0, min(k_limits))
+    plain = not inp.padstone.reinforced
+    k = 1.0 if plain and not basis.plain_partial_area_enhancement else k_fits
     a_c1 = k * k * a_c0
     fcd = st.f_cd
+    fcd_symbol = "f_cd,pl" if plain else "f_cd"
     f_rdu = F_Rdu(a_c0, a_c1, fcd, basis.plb_limit_factor)
     n = inp.load.reaction
     steps = [
@@ -176,11 +183,34 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "k",
             "min(3, 1 + h/b_1, 1 + h/d_1, room along, room across), ≥ 1",
             (("h", h, "mm"), ("room along", k_limits[3], ""), ("room across", k_limits[4], "")),
-            k,
+            k_fits,
             "",
             "EN 1992-1-1 6.7(3), Figure 6.29",
             "S",
         ),
+    ]
+    if plain:
+        steps.append(
+            make_step(
+                "Scale taken for plain concrete",
+                "k",
+                "1 (no reinforcement for the transverse tension)"
+                if k == 1.0 and k_fits > 1.0 + 1e-12
+                else "as it fits",
+                (
+                    (
+                        "allowed by the code basis",
+                        "yes" if basis.plain_partial_area_enhancement else "no",
+                        "",
+                    ),
+                ),
+                k,
+                "",
+                "EN 1992-1-1 6.7(4)",
+                "ours",
+            )
+        )
+    steps += [
         make_step(
             "Largest distribution area",
             "A_c1",
@@ -195,7 +225,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "Resistance of the padstone under the flange",
             "F_Rdu",
             "A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0",
-            (("A_c0", a_c0, "mm²"), ("f_cd", fcd, "N/mm²"), ("A_c1", a_c1, "mm²")),
+            (("A_c0", a_c0, "mm²"), (fcd_symbol, fcd, "N/mm²"), ("A_c1", a_c1, "mm²")),
             f_rdu,
             "N",
             "EN 1992-1-1 6.7 eqn 6.63",
@@ -203,10 +233,21 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
         ),
     ]
     notes = []
-    if k <= 1.0 + 1e-12:
+    if k_fits <= 1.0 + 1e-12:
         notes.append(
             "No concentric enlargement fits in the padstone (the flange bears from its edge), "
             "so no enhancement is taken: F_Rdu = A_c0 · f_cd."
+        )
+    elif k == 1.0:
+        notes.append(
+            "The padstone is plain concrete: no enhancement is taken (F_Rdu = A_c0 · f_cd,pl), "
+            "as EN 1992-1-1 6.7(4) asks for reinforcement to carry the transverse tension. "
+            "The site's code basis may allow it (plain_partial_area_enhancement)."
+        )
+    if plain:
+        notes.append(
+            "Plain (unreinforced) padstone, as site padstones usually are unless the design "
+            "says reinforced: f_cd,pl = α_cc,pl · f_ck / γ_c (EN 1992-1-1 section 12)."
         )
     return make_check(
         "padstone-bearing",

@@ -69,14 +69,18 @@ class Beam:
 
 @dataclass(frozen=True, slots=True)
 class Padstone:
-    """A concrete spreader under the beam, mm. ``f_ck`` (N/mm²) overrides the class."""
+    """A concrete spreader under the beam, mm. ``f_ck`` (N/mm²) overrides the class.
+
+    ``reinforced`` False (the default) is plain concrete, as site padstones usually are,
+    precast or cast in place: EN 1992-1-1 section 12 then takes α_cc,pl for f_cd.
+    """
 
     length: float
     width: float
     depth: float
     concrete: str = "C25/30"
     f_ck: float | None = None
-    precast: bool = True
+    reinforced: bool = False
 
 
 @dataclass(frozen=True, slots=True)

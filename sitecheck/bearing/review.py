@@ -42,6 +42,7 @@ class Measurements:
     padstone_width: float | None = None
     padstone_depth: float | None = None
     padstone_concrete: str | None = None
+    padstone_reinforced: bool | None = None
     wall_thickness: float | None = None
     a1: float | None = None
     a2: float | None = None
@@ -151,13 +152,17 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
                 ("width", m.padstone_width),
                 ("depth", m.padstone_depth),
                 ("concrete", m.padstone_concrete or None),
+                ("reinforced", m.padstone_reinforced),
             ),
         )
         if m.padstone_concrete and pad.f_ck is not None:
             # The class seen on site replaces a declared f_ck.
             pad = _rebuilt(pad, (("f_ck", None),))
-    elif m.padstone_concrete and pad is not None:
-        pad = _rebuilt(pad, (("concrete", m.padstone_concrete), ("f_ck", None)))
+    else:
+        if m.padstone_concrete and pad is not None:
+            pad = _rebuilt(pad, (("concrete", m.padstone_concrete), ("f_ck", None)))
+        if m.padstone_reinforced is not None and pad is not None:
+            pad = _measured(pad, (("reinforced", m.padstone_reinforced),))
 
     wall = design.wall
     t_ef = wall.effective_thickness
@@ -266,6 +271,7 @@ _DIMENSIONS = (
 
 FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
     "padstone_present": "Padstone present",
+    "padstone_reinforced": "Padstone reinforced",
     "masonry_group": "Unit group",
     "masonry_material": "Unit material",
     "mortar": "Mortar class",

@@ -225,19 +225,43 @@ def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> S
     fcd = None
     if pad is not None:
         fck = float(pad.f_ck) if pad.f_ck is not None else concrete_class_fck(pad.concrete)
-        fcd = f_cd(fck, basis.alpha_cc, basis.gamma_c)
-        steps.append(
-            Step(
-                "Design compressive strength of the padstone concrete",
-                "f_cd",
-                "α_cc · f_ck / γ_c",
-                (("α_cc", basis.alpha_cc, ""), ("f_ck", fck, "N/mm²"), ("γ_c", basis.gamma_c, "")),
-                fcd,
-                "N/mm²",
-                "EN 1992-1-1 3.1.6 eqn 3.15",
-                "S",
+        if pad.reinforced:
+            fcd = f_cd(fck, basis.alpha_cc, basis.gamma_c)
+            steps.append(
+                Step(
+                    "Design compressive strength of the padstone concrete (reinforced)",
+                    "f_cd",
+                    "α_cc · f_ck / γ_c",
+                    (
+                        ("α_cc", basis.alpha_cc, ""),
+                        ("f_ck", fck, "N/mm²"),
+                        ("γ_c", basis.gamma_c, ""),
+                    ),
+                    fcd,
+                    "N/mm²",
+                    "EN 1992-1-1 3.1.6 eqn 3.15",
+                    "S",
+                )
             )
-        )
+        else:
+            # Plain concrete, as site padstones usually are: section 12 takes α_cc,pl.
+            fcd = f_cd(fck, basis.alpha_cc_pl, basis.gamma_c)
+            steps.append(
+                Step(
+                    "Design compressive strength of the padstone concrete (plain)",
+                    "f_cd,pl",
+                    "α_cc,pl · f_ck / γ_c",
+                    (
+                        ("α_cc,pl", basis.alpha_cc_pl, ""),
+                        ("f_ck", fck, "N/mm²"),
+                        ("γ_c", basis.gamma_c, ""),
+                    ),
+                    fcd,
+                    "N/mm²",
+                    "EN 1992-1-1 12.3.1 with eqn 3.15",
+                    "M",
+                )
+            )
     return Strengths(fk, gm, fd, fcd, tuple(steps))
 
 
@@ -258,7 +282,9 @@ def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasi
     and the bases in use are a few long-lived objects. Each entry holds its basis, so its
     identity cannot pass to another object while the entry lives.
     """
-    concrete, f_ck = (None, None) if pad is None else (pad.concrete, pad.f_ck)
+    concrete, f_ck, reinforced = (
+        (None, None, None) if pad is None else (pad.concrete, pad.f_ck, pad.reinforced)
+    )
     values = _MASONRY_VALUES(mas)
     key = (
         id(basis),
@@ -268,6 +294,8 @@ def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasi
         type(concrete),
         f_ck,
         type(f_ck),
+        reinforced,
+        type(reinforced),
     )
     try:
         found = _STRENGTHS.get(key)

@@ -123,6 +123,7 @@ def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
             if pad.f_ck is None
             else _plain(pad.f_ck, 8.0, 90.0)
         )
+        and type(pad.reinforced) is bool
     ):
         return False
     return (
@@ -262,6 +263,13 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
                 pad.concrete,
                 "a concrete class such as C25/30, or a declared f_ck",
                 "bad-choice",
+            )
+        if not isinstance(pad.reinforced, bool):
+            yield InputError(
+                "padstone.reinforced",
+                pad.reinforced,
+                "true (reinforced) or false (plain concrete)",
+                "not-a-choice",
             )
 
     if not _whole_in(inp.bearing_type, (1, 2, 3)):

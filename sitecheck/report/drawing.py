@@ -163,6 +163,7 @@ class _Model:
     ec6: bool
     across: bool
     has_pad: bool
+    pad_words: str  # the padstone's concrete: class, and plain or reinforced
     L: float  # support length along
     W: float  # support width across
     d: float  # padstone depth (0: none)
@@ -219,6 +220,9 @@ def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
         ec6=str(res.get("basis", "")).startswith("EC6"),
         across=across,
         has_pad=pad is not None,
+        pad_words=""
+        if pad is None
+        else f"{pad.get('concrete') or ''} {'reinforced' if pad.get('reinforced') else 'plain'}".strip(),
         L=L,
         W=W,
         d=float(sp["support_depth"]),
@@ -395,6 +399,16 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
             depth_mm=m.d,
             changed=pad_changed or None,
         )
+        # Its concrete, where it fits inside: plain concrete is the usual site padstone and
+        # takes a lower design strength (EN 1992-1-1 section 12).
+        if _text_w(m.pad_words) + 8 < px1 - px0 and top - ptop > FONT + 4:
+            c.text(
+                (px0 + px1) / 2,
+                (ptop + top) / 2 + FONT / 3,
+                m.pad_words,
+                role="padstone-concrete",
+                reinforced=" reinforced" in f" {m.pad_words}",
+            )
         for start, direction in ((m.foot_x0, -1), (m.foot_x1, 1)):
             c.poly(
                 _pad_spread_line(m, start, direction, c),
@@ -895,6 +909,12 @@ _COMPARED = (
     ),
     ("padstone_width", "padstone width", lambda i, r: (i.get("padstone") or {}).get("width"), "mm"),
     ("padstone_depth", "padstone depth", lambda i, r: (i.get("padstone") or {}).get("depth"), "mm"),
+    (
+        "padstone_reinforced",
+        "padstone reinforced",
+        lambda i, r: None if i.get("padstone") is None else bool(i["padstone"].get("reinforced")),
+        "",
+    ),
     ("bearing_length", "bearing length", lambda i, r: i["beam"]["bearing_length"], "mm"),
     ("flange_width", "flange width", lambda i, r: i["beam"]["flange_width"], "mm"),
     ("offset_along", "offset along", lambda i, r: i["beam"].get("offset_along"), "mm"),

@@ -74,7 +74,7 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "padstone_depth": pad.get("depth"),
         "padstone_concrete": pad.get("concrete"),
         "padstone_f_ck": pad.get("f_ck"),
-        "padstone_precast": pad.get("precast"),
+        "padstone_reinforced": pad.get("reinforced"),
         "wall_thickness": wall["thickness"],
         "height_to_bearing": wall["height_to_bearing"],
         "clear_height": wall.get("clear_height"),

@@ -397,6 +397,7 @@ _COMPARED = (
     ("padstone_width", ("padstone", "width"), "mm"),
     ("padstone_depth", ("padstone", "depth"), "mm"),
     ("padstone_concrete", ("padstone", "concrete"), ""),
+    ("padstone_reinforced", ("padstone", "reinforced"), ""),
     ("wall_thickness", ("wall", "thickness"), "mm"),
     ("a1", ("wall", "a1"), "mm"),
     ("a2", ("wall", "a2"), "mm"),

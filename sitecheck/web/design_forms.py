@@ -185,7 +185,7 @@ REACTION_AT_CHOICES = [
     ("near-third", "Near third (flexible beam end)"),
 ]
 PADSTONE_CHOICES = [("yes", "Concrete padstone"), ("none", "No padstone")]
-PRECAST_CHOICES = [("precast", "Precast"), ("cast", "Cast in place")]
+REINFORCED_CHOICES = [("plain", "Plain concrete (unreinforced)"), ("reinforced", "Reinforced")]
 GROUP_CHOICES = [(str(g), f"Group {g}") for g in (1, 2, 3, 4)]
 CATEGORY_CHOICES = [("I", "Category I"), ("II", "Category II")]
 EXECUTION_CHOICES = [("2", "Execution class 2"), ("1", "Execution class 1")]
@@ -249,7 +249,13 @@ class BearingForm(FlaskForm):
     padstone_f_ck = number_field(
         "Declared f_ck (N/mm²)", "Empty: from the strength class. Overrides the class if given."
     )
-    padstone_precast = _choice_field("Padstone made", PRECAST_CHOICES, "precast")
+    padstone_reinforced = _choice_field(
+        "Padstone concrete",
+        REINFORCED_CHOICES,
+        "plain",
+        "Site padstones, precast or cast in place, are usually plain: plain is taken unless "
+        "you choose reinforced, and its strength uses α_cc,pl (EN 1992-1-1 section 12).",
+    )
 
     # The wall
     wall_thickness = number_field("Wall (leaf) thickness t (mm)")
@@ -328,7 +334,7 @@ SECTIONS = (
             "padstone_depth",
             "padstone_concrete",
             "padstone_f_ck",
-            "padstone_precast",
+            "padstone_reinforced",
         ),
     ),
     (
@@ -370,7 +376,7 @@ SECTIONS = (
 # form uses the same names), plus the fields only the form offers.
 FIELD_FOR = FIELD_TO_COLUMN | {
     "padstone.f_ck": "padstone_f_ck",
-    "padstone.precast": "padstone_precast",
+    "padstone.reinforced": "padstone_reinforced",
     "wall.effective_thickness": "effective_thickness",
     "masonry.unit_strength_is_normalised": "unit_strength_is_normalised",
     "masonry.conditioning": "conditioning",
@@ -424,7 +430,8 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
             depth=num("padstone_depth", required=True, what="the padstone depth"),
             concrete=(form.padstone_concrete.data or "").strip().upper() or "C25/30",
             f_ck=num("padstone_f_ck", "N/mm²"),
-            precast=form.padstone_precast.data != "cast",
+            # Anything but "reinforced" is plain: the cautious reading of an odd value.
+            reinforced=form.padstone_reinforced.data == "reinforced",
         )
 
     inp = BearingInput(
@@ -514,7 +521,7 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "padstone_depth": plain_number(pad["depth"]) if pad else "",
         "padstone_concrete": pad.get("concrete", "C25/30") if pad else "C25/30",
         "padstone_f_ck": plain_number(pad.get("f_ck")) if pad else "",
-        "padstone_precast": "cast" if pad and pad.get("precast") is False else "precast",
+        "padstone_reinforced": "reinforced" if pad and pad.get("reinforced") else "plain",
         "wall_thickness": plain_number(wall["thickness"]),
         "height_to_bearing": plain_number(wall["height_to_bearing"]),
         "clear_height": plain_number(wall.get("clear_height")),
@@ -594,7 +601,10 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
                     ),
                     ("Concrete", pad.get("concrete") or "—"),
                     ("Declared f_ck", mpa(pad.get("f_ck"), "from the class")),
-                    ("Made", "cast in place" if pad.get("precast") is False else "precast"),
+                    (
+                        "Reinforcement",
+                        "reinforced" if pad.get("reinforced") else "none: plain concrete",
+                    ),
                 ],
             )
         )
@@ -668,6 +678,7 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
 BASIS_LABELS: dict[str, tuple[str, str]] = {
     "gamma_c": ("Partial factor for concrete γ_c", ""),
     "alpha_cc": ("Long-term coefficient α_cc", ""),
+    "alpha_cc_pl": ("Long-term coefficient for plain concrete α_cc,pl", ""),
     "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", ""),
     "padstone_spread_deg": ("Spread through the padstone", "°"),
     "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²"),
@@ -696,7 +707,14 @@ BASIS_SCALARS: dict[str, tuple[str, str, float, float]] = {
 BASIS_GROUPS = (
     (
         "Concrete padstone (EN 1992-1-1)",
-        ("gamma_c", "alpha_cc", "plb_limit_factor", "padstone_spread_deg"),
+        (
+            "gamma_c",
+            "alpha_cc",
+            "alpha_cc_pl",
+            "plain_partial_area_enhancement",
+            "plb_limit_factor",
+            "padstone_spread_deg",
+        ),
     ),
     ("Masonry strength (EC6)", ("f_b_max", "f_m_max")),
     (
@@ -707,6 +725,7 @@ BASIS_GROUPS = (
             "spreader_min_depth",
             "spreader_length_factor",
             "spreader_stress_factor",
+            "spreader_route_for_groups_2_to_4",
             "max_eccentricity_ratio",
         ),
     ),
@@ -724,7 +743,13 @@ BASIS_GROUPS = (
         ),
     ),
 )
-SPREADER_FLAG = "spreader_route_for_groups_2_to_4"
+# The code basis's yes/no values, shown as ticks in their group above.
+BASIS_FLAGS: dict[str, str] = {
+    "spreader_route_for_groups_2_to_4": "Allow the spreader route for Groups 2 to 4",
+    "plain_partial_area_enhancement": (
+        "Allow the partially loaded area enhancement √(A_c1/A_c0) for plain padstones"
+    ),
+}
 K_BOUNDS = TABLE_BOUNDS["k_values"]
 GAMMA_BOUNDS = TABLE_BOUNDS["gamma_M_ec6"]
 BEARING_TYPE_BOUNDS = TABLE_BOUNDS["bearing_type_factors"]
@@ -793,7 +818,7 @@ def _build_settings_form() -> type[FlaskForm]:
             "Site name", validators=[DataRequired("Give the site a name."), Length(max=120)]
         ),
         "address": StringField("Address", validators=[Optional(), Length(max=300)]),
-        SPREADER_FLAG: BooleanField("Allow the spreader route for Groups 2 to 4"),
+        **{name: BooleanField(label) for name, label in BASIS_FLAGS.items()},
     }
     for name, (label, unit, _lo, _hi) in BASIS_SCALARS.items():
         attrs[name] = number_field(label + (f" ({unit})" if unit else ""))
@@ -820,7 +845,8 @@ def settings_form_data(site: dict, basis: CodeBasis, review: ReviewSettings) -> 
     data = {"name": site["name"], "address": site.get("address") or ""}
     for name in BASIS_SCALARS:
         data[name] = plain_number(getattr(basis, name))
-    data[SPREADER_FLAG] = bool(getattr(basis, SPREADER_FLAG))
+    for name in BASIS_FLAGS:
+        data[name] = bool(getattr(basis, name))
     for material, group in K_ROWS:
         for kind in K_MORTARS:
             data[k_field_name(material, group, kind)] = plain_number(
@@ -861,7 +887,8 @@ def settings_from_form(form, basis: CodeBasis, review: ReviewSettings) -> tuple[
     code = basis.to_dict()  # keeps the basis's name and anything this form does not show
     for name, (_label, unit, lo, hi) in BASIS_SCALARS.items():
         code[name] = _bounded(form[name], lo, hi, unit)
-    code[SPREADER_FLAG] = bool(form[SPREADER_FLAG].data)
+    for name in BASIS_FLAGS:
+        code[name] = bool(form[name].data)
     k_values = {}
     for material, group in K_ROWS:
         for kind in K_MORTARS:

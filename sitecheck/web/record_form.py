@@ -93,6 +93,13 @@ SPECS: dict[str, FieldSpec] = {
             hint="As marked or delivered, e.g. C25/30.",
             design=("padstone", "concrete"),
         ),
+        FieldSpec(
+            "padstone_reinforced",
+            "Padstone reinforced",
+            "tri",
+            "Plain concrete unless the padstone or its delivery note shows reinforcement.",
+            ("padstone", "reinforced"),
+        ),
         FieldSpec("wall_thickness", "Wall thickness", "number", "mm", design=("wall", "thickness")),
         FieldSpec(
             "a1",
@@ -145,6 +152,7 @@ MEASUREMENT_FIELDS = (
     "padstone_width",
     "padstone_depth",
     "padstone_concrete",
+    "padstone_reinforced",
     "wall_thickness",
     "a1",
     "a2",
@@ -165,6 +173,7 @@ GROUPS = (
             "padstone_width",
             "padstone_depth",
             "padstone_concrete",
+            "padstone_reinforced",
         ),
     ),
     ("Wall", ("wall_thickness", "a1", "a2")),
@@ -184,6 +193,7 @@ CORE_PATHS = (
         "padstone.depth": "padstone_depth",
         "padstone.concrete": "padstone_concrete",
         "padstone.f_ck": "padstone_concrete",
+        "padstone.reinforced": "padstone_reinforced",
         "wall.thickness": "wall_thickness",
         # t_ef follows a measured wall thickness in proportion, so its complaint is about t.
         "wall.effective_thickness": "wall_thickness",
@@ -285,6 +295,7 @@ class RecordForm(FlaskForm):
     padstone_width = _number("padstone_width", "215")
     padstone_depth = _number("padstone_depth", "140")
     padstone_concrete = StringField(SPECS["padstone_concrete"].label)
+    padstone_reinforced = TriStateField(SPECS["padstone_reinforced"].label)
     wall_thickness = _number("wall_thickness", "215")
     a1 = _number("a1", "900")
     a2 = _number("a2", "900")
@@ -491,6 +502,8 @@ def designed_text(design_input: dict, name: str) -> str:
             return "where drawn (no offset)"
         if name == "a2":
             return "wall runs on"
+        if name == "padstone_reinforced":
+            return "no (plain concrete)"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
             return f"f_k {number(design_input['masonry']['f_k'])} N/mm² declared"
         if spec.kind == "tri" or name == "packing":

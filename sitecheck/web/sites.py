@@ -39,7 +39,6 @@ from sitecheck.web.design_forms import (
     K_ROWS,
     REVIEW_FIELDS,
     SECTIONS,
-    SPREADER_FLAG,
     BearingForm,
     ImportForm,
     InviteForm,
@@ -528,7 +527,6 @@ def _settings_page(site: dict, form, status: int):
         gamma_field_name=gamma_field_name,
         gamma_M_ec6_rows=GAMMA_M_EC6_ROWS,
         gamma_m_bs_rows=GAMMA_M_BS_ROWS,
-        spreader_flag=SPREADER_FLAG,
         review_fields=REVIEW_FIELDS,
     )
 

@@ -83,6 +83,8 @@ function defaults(name) {
     name,
     gamma_c: 1.5,
     alpha_cc: 0.85,
+    alpha_cc_pl: 0.6,
+    plain_partial_area_enhancement: false,
     plb_limit_factor: 3.0,
     padstone_spread_deg: 45.0,
     k_values: kTable(K_UK_GENERAL, K_EN_THIN),
@@ -195,6 +197,7 @@ function isNumber(value) {
 export const SCALAR_BOUNDS = {
   gamma_c: [1.0, 3.0],
   alpha_cc: [0.5, 1.0],
+  alpha_cc_pl: [0.3, 1.0],
   plb_limit_factor: [1.0, 5.0],
   padstone_spread_deg: [10.0, 80.0],
   f_b_max: [1.0, 200.0],
@@ -223,7 +226,7 @@ export const TABLE_BOUNDS = {
   gamma_m_bs: [1.0, 5.0],
   bearing_type_factors: [1.0, 3.0],
 };
-export const FLAGS = ["spreader_route_for_groups_2_to_4"];
+export const FLAGS = ["spreader_route_for_groups_2_to_4", "plain_partial_area_enhancement"];
 
 // basis_errors: every value that makes no physical sense, in the order of the fields.
 export function* basisErrors(basis) {
@@ -281,6 +284,10 @@ function* bounded(field, value, least, greatest) {
 export const SOURCES = {
   gamma_c: "1.5, EN 1992-1-1 Table 2.1N, persistent situations [S]",
   alpha_cc: "0.85, UK NA to EN 1992-1-1 (EN recommends 1.0) [S]",
+  alpha_cc_pl: "0.6 for plain concrete, UK NA to EN 1992-1-1 12.3.1 (EN recommends 0.8) [M]",
+  plain_partial_area_enhancement:
+    "off: a plain padstone takes no √(A_c1/A_c0) enhancement, as nothing carries the " +
+    "transverse tension EN 1992-1-1 6.7(4) asks reinforcement for [ours, cautious]",
   plb_limit_factor: "3.0, EN 1992-1-1 6.7 eqn 6.63 [S]",
   padstone_spread_deg: "45° dispersion through the padstone [CP]",
   k_values: "EN 1996-1-1 Table 3.3 / UK NA Table NA.4 [M]: confirm against the NA",

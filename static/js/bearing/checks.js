@@ -149,9 +149,13 @@ export function padstoneBearing(inp, lay, st, basis) {
     (2 * pyMin(cx, lay.length - cx)) / b1,
     (2 * pyMin(cy, lay.width - cy)) / d1,
   ];
-  const k = pyMax(1.0, pyMinOf(kLimits));
+  const kFits = pyMax(1.0, pyMinOf(kLimits));
+  // A plain padstone takes no enhancement unless the code basis allows it (checks.py).
+  const plain = !inp.padstone.reinforced;
+  const k = plain && !basis.plain_partial_area_enhancement ? 1.0 : kFits;
   const aC1 = k * k * aC0;
   const fcd = st.f_cd;
+  const fcdSymbol = plain ? "f_cd,pl" : "f_cd";
   const fRdu = F_Rdu(aC0, aC1, fcd, basis.plb_limit_factor);
   const n = inp.load.reaction;
   const steps = [
@@ -177,11 +181,29 @@ export function padstoneBearing(inp, lay, st, basis) {
         ["room along", kLimits[3], ""],
         ["room across", kLimits[4], ""],
       ],
-      k,
+      kFits,
       "",
       "EN 1992-1-1 6.7(3), Figure 6.29",
       "S",
     ),
+  ];
+  if (plain) {
+    steps.push(
+      makeStep(
+        "Scale taken for plain concrete",
+        "k",
+        k === 1.0 && kFits > 1.0 + 1e-12
+          ? "1 (no reinforcement for the transverse tension)"
+          : "as it fits",
+        [["allowed by the code basis", basis.plain_partial_area_enhancement ? "yes" : "no", ""]],
+        k,
+        "",
+        "EN 1992-1-1 6.7(4)",
+        "ours",
+      ),
+    );
+  }
+  steps.push(
     makeStep(
       "Largest distribution area",
       "A_c1",
@@ -198,7 +220,7 @@ export function padstoneBearing(inp, lay, st, basis) {
       "A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0",
       [
         ["A_c0", aC0, "mm²"],
-        ["f_cd", fcd, "N/mm²"],
+        [fcdSymbol, fcd, "N/mm²"],
         ["A_c1", aC1, "mm²"],
       ],
       fRdu,
@@ -206,12 +228,24 @@ export function padstoneBearing(inp, lay, st, basis) {
       "EN 1992-1-1 6.7 eqn 6.63",
       "S",
     ),
-  ];
+  );
   const notes = [];
-  if (k <= 1.0 + 1e-12) {
+  if (kFits <= 1.0 + 1e-12) {
     notes.push(
       "No concentric enlargement fits in the padstone (the flange bears from its edge), " +
         "so no enhancement is taken: F_Rdu = A_c0 · f_cd.",
+    );
+  } else if (k === 1.0) {
+    notes.push(
+      "The padstone is plain concrete: no enhancement is taken (F_Rdu = A_c0 · f_cd,pl), " +
+        "as EN 1992-1-1 6.7(4) asks for reinforcement to carry the transverse tension. " +
+        "The site's code basis may allow it (plain_partial_area_enhancement).",
+    );
+  }
+  if (plain) {
+    notes.push(
+      "Plain (unreinforced) padstone, as site padstones usually are unless the design " +
+        "says reinforced: f_cd,pl = α_cc,pl · f_ck / γ_c (EN 1992-1-1 section 12).",
     );
   }
   return makeCheck(

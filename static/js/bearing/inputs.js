@@ -32,7 +32,7 @@ export const DEFAULTS = {
     offset_across: null,
     reaction_at: "centroid",
   },
-  padstone: { concrete: "C25/30", f_ck: null, precast: true },
+  padstone: { concrete: "C25/30", f_ck: null, reinforced: false },
   wall: {
     a1: null,
     a2: null,

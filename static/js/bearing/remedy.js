@@ -117,7 +117,7 @@ function withPadstone(inp, L, B, h, concrete) {
     a2 = a2Old === null ? null : a2Old - (L - old.length);
   }
   if ((a1 !== null && a1 < 0) || (a2 !== null && a2 < 0)) return null;
-  const pad = { length: L, width: B, depth: h, concrete, f_ck: null, precast: true };
+  const pad = { length: L, width: B, depth: h, concrete, f_ck: null, reinforced: false };
   return {
     ...inp,
     padstone: pad,

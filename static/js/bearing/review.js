@@ -27,7 +27,7 @@ const NEW_PADSTONE = {
   depth: 0.0,
   concrete: "C25/30",
   f_ck: null,
-  precast: true,
+  reinforced: false,
 };
 
 function reason(code, severity, sentence, values = {}) {
@@ -57,13 +57,19 @@ export function asBuiltInput(design, m) {
       ["width", m.padstone_width],
       ["depth", m.padstone_depth],
       ["concrete", m.padstone_concrete || null],
+      ["reinforced", m.padstone_reinforced],
     ]);
     if (m.padstone_concrete && pad.f_ck != null) {
       // The class seen on site replaces a declared f_ck.
       pad = { ...pad, f_ck: null };
     }
-  } else if (m.padstone_concrete && pad !== null) {
-    pad = { ...pad, concrete: m.padstone_concrete, f_ck: null };
+  } else {
+    if (m.padstone_concrete && pad !== null) {
+      pad = { ...pad, concrete: m.padstone_concrete, f_ck: null };
+    }
+    if (m.padstone_reinforced != null && pad !== null) {
+      pad = measured(pad, [["reinforced", m.padstone_reinforced]]);
+    }
   }
 
   const wall = design.wall;
@@ -133,6 +139,7 @@ const DIMENSIONS = [
 export const FIELD_LABELS = {
   ...Object.fromEntries(DIMENSIONS.map(([name, label]) => [name, label])),
   padstone_present: "Padstone present",
+  padstone_reinforced: "Padstone reinforced",
   masonry_group: "Unit group",
   masonry_material: "Unit material",
   mortar: "Mortar class",

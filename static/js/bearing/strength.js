@@ -243,23 +243,44 @@ export function masonryStrengths(mas, pad, basis) {
   let fcd = null;
   if (pad != null) {
     const fck = pad.f_ck != null ? Number(pad.f_ck) : concreteClassFck(pad.concrete);
-    fcd = fCd(fck, basis.alpha_cc, basis.gamma_c);
-    steps.push(
-      makeStep(
-        "Design compressive strength of the padstone concrete",
-        "f_cd",
-        "α_cc · f_ck / γ_c",
-        [
-          ["α_cc", basis.alpha_cc, ""],
-          ["f_ck", fck, "N/mm²"],
-          ["γ_c", basis.gamma_c, ""],
-        ],
-        fcd,
-        "N/mm²",
-        "EN 1992-1-1 3.1.6 eqn 3.15",
-        "S",
-      ),
-    );
+    if (pad.reinforced) {
+      fcd = fCd(fck, basis.alpha_cc, basis.gamma_c);
+      steps.push(
+        makeStep(
+          "Design compressive strength of the padstone concrete (reinforced)",
+          "f_cd",
+          "α_cc · f_ck / γ_c",
+          [
+            ["α_cc", basis.alpha_cc, ""],
+            ["f_ck", fck, "N/mm²"],
+            ["γ_c", basis.gamma_c, ""],
+          ],
+          fcd,
+          "N/mm²",
+          "EN 1992-1-1 3.1.6 eqn 3.15",
+          "S",
+        ),
+      );
+    } else {
+      // Plain concrete, as site padstones usually are: section 12 takes α_cc,pl.
+      fcd = fCd(fck, basis.alpha_cc_pl, basis.gamma_c);
+      steps.push(
+        makeStep(
+          "Design compressive strength of the padstone concrete (plain)",
+          "f_cd,pl",
+          "α_cc,pl · f_ck / γ_c",
+          [
+            ["α_cc,pl", basis.alpha_cc_pl, ""],
+            ["f_ck", fck, "N/mm²"],
+            ["γ_c", basis.gamma_c, ""],
+          ],
+          fcd,
+          "N/mm²",
+          "EN 1992-1-1 12.3.1 with eqn 3.15",
+          "M",
+        ),
+      );
+    }
   }
   return makeStrengths(fk, gm, fd, fcd, steps);
 }

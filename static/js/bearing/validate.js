@@ -157,6 +157,14 @@ export function* inputErrorsIter(inp, basis) {
         "bad-choice",
       );
     }
+    if (typeof pad.reinforced !== "boolean") {
+      yield new InputError(
+        "padstone.reinforced",
+        pad.reinforced,
+        "true (reinforced) or false (plain concrete)",
+        "not-a-choice",
+      );
+    }
   }
 
   if (![1, 2, 3].includes(inp.bearing_type)) {
