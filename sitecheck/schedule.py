@@ -95,6 +95,11 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     ),
     "mortar": ("M2, M4, M6, M12 or thin-layer", ""),
     "shell_bedded": ("yes if the units are shell bedded (empty: no)", ""),
+    "collar_joint": (
+        "yes if the wall has a mortar joint parallel to its face, as a one-brick wall does "
+        "(EC6: 0.8 × K); no if not (empty: yes when the wall is at least twice the unit's width)",
+        "",
+    ),
     "f_k": ("characteristic strength, if declared (overrides the unit route)", "N/mm²"),
     "gamma_M": ("partial factor, if it is to override the basis's", ""),
     "execution_class": ("EC6 execution class 1 or 2", ""),
@@ -124,6 +129,7 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_unit_group": ("unit group as built", ""),
     "asbuilt_unit_strength": ("unit strength as built", "N/mm²"),
     "asbuilt_mortar": ("mortar class as built", ""),
+    "asbuilt_collar_joint": ("yes or no: a collar joint in the wall as built", ""),
     "asbuilt_bedded": ("yes or no: padstone fully bedded on mortar", ""),
     "asbuilt_packing": ("packing thickness under the beam (0: none)", "mm"),
     "asbuilt_cracks": ("yes or no: cracks near the bearing", ""),
@@ -181,6 +187,7 @@ FIELD_TO_COLUMN = {
     "masonry.conditioning": "unit_conditioning",
     "masonry.mortar": "mortar",
     "masonry.shell_bedded": "shell_bedded",
+    "masonry.collar_joint": "collar_joint",
     "masonry.f_k": "f_k",
     "masonry.gamma_M": "gamma_M",
     "masonry.execution_class": "execution_class",
@@ -209,6 +216,7 @@ _ASBUILT_FIELD_TO_COLUMN = {
     "masonry.group": "asbuilt_unit_group",
     "masonry.unit_strength": "asbuilt_unit_strength",
     "masonry.mortar": "asbuilt_mortar",
+    "masonry.collar_joint": "asbuilt_collar_joint",
 }
 
 
@@ -642,6 +650,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
                 mortar=c.get("mortar") or None,
                 f_k=_num(c, "f_k"),
                 shell_bedded=_yes_no(c, "shell_bedded"),
+                collar_joint=_yes_no(c, "collar_joint"),
                 unit_category=c.get("unit_category") or None,
                 execution_class=_int(c, "execution_class"),
                 manufacturing_control=c.get("manufacturing_control") or None,
@@ -678,6 +687,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             masonry_group=_int(c, "asbuilt_unit_group"),
             unit_strength=_num(c, "asbuilt_unit_strength"),
             mortar=c.get("asbuilt_mortar") or None,
+            collar_joint=_yes_no(c, "asbuilt_collar_joint"),
         )
         checklist = Checklist(
             bedded=_yes_no(c, "asbuilt_bedded"),

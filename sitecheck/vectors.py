@@ -406,6 +406,18 @@ def _named_checks() -> list[tuple[str, object, dict]]:
                 padstone={"depth": 215.0, "reinforced": True},
             ),
         ),
+        # The longitudinal (collar) joint: inferred from a one-brick wall, given, refused.
+        ("ec6-one-brick-wall-joint-inferred", ec6, _bearing(masonry=_BRICK)),
+        (
+            "ec6-one-brick-wall-no-joint-given",
+            ec6,
+            _bearing(masonry={**_BRICK, "collar_joint": False}),
+        ),
+        (
+            "ec6-block-wall-joint-given",
+            ec6_uk_na(collar_joint_factor=0.75),
+            _bearing(masonry={"collar_joint": True}),
+        ),
         ("bs-across-on-padstone", bs, _bearing(masonry=_BRICK)),
         ("bs-brick-20-m4-table-value", bs, _bearing(masonry=_BRICK, padstone=None)),
         (
@@ -623,6 +635,8 @@ def _common_masonry(rng: random.Random, masonry: dict) -> dict:
     masonry["manufacturing_control"] = rng.choice(("normal", "special"))
     masonry["construction_control"] = rng.choice(("normal", "special"))
     masonry["shell_bedded"] = rng.random() < 0.08
+    if rng.random() < 0.15:
+        masonry["collar_joint"] = rng.random() < 0.5
     return masonry
 
 
@@ -790,6 +804,7 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     add("fck-out-of-range", change("padstone", f_ck=95.0))
     add("fck-text", change("padstone", f_ck="thirty"))
     add("reinforced-text", change("padstone", reinforced="yes"))
+    add("collar-joint-text", change("masonry", collar_joint="yes"))
     # Distances and offsets.
     add("a1-negative", change("wall", a1=-10.0))
     add("a2-text", change("wall", a2="far"))

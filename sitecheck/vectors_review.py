@@ -527,6 +527,9 @@ HAND_CASES: tuple[tuple[str, str, dict, dict, dict | None], ...] = (
     ("ec6-across-declared", "built-plain", {"padstone_reinforced": False}, {}, None),
     ("ec6-across-pad", "built-reinforced", {"padstone_reinforced": True}, {}, None),
     ("ec6-across-bare", "reinforced-but-no-padstone", {"padstone_reinforced": True}, {}, None),
+    # A collar joint seen in the wall: EC6 takes 0.8 × K (from memory).
+    ("ec6-across-pad", "collar-joint-found", {"collar_joint": True}, {}, None),
+    ("ec6-across-pad", "no-collar-joint", {"collar_joint": False}, {}, None),
     (
         "ec6-across-fck",
         "concrete-with-sizes",

@@ -319,3 +319,47 @@ def test_thin_layer_exponent():
     )
     assert masonry_strengths(m, None, ec6_uk_na()).f_k == pytest.approx(0.80 * 3.6**0.85)
     assert math.isclose(0.80 * 3.6**0.85, 2.37, rel_tol=0.01)
+
+
+# ---------------------------------------------------------------- longitudinal (collar) joint
+
+
+_BRICK = dict(
+    material="clay", group=1, unit_strength=20.0, unit_height=65.0, unit_width=102.5, mortar="M4"
+)
+
+
+def _joint_step(strengths):
+    return next(s for s in strengths.steps if s.symbol == "k_joint")
+
+
+def test_a_one_brick_wall_takes_0_8_k_for_its_collar_joint():
+    """EN 1996-1-1 3.6.1.2(1) (from memory): K × 0.8 where the wall has a mortar joint
+    parallel to its face. Inferred for a 215 mm wall of 102.5 mm wide bricks (two units
+    wide). By hand: f_b = δ f_u = 0.845 × 20 = 16.9; K = 0.50 (UK NA clay Group 1, from
+    memory) → 0.40; f_k = 0.40 × 16.9^0.7 × 4^0.3 = 0.40 × 7.2364 × 1.51572 = 4.3874 N/mm²,
+    0.8 of the 5.4842 of a half-brick wall."""
+    one_brick = masonry_strengths(Masonry(**_BRICK), None, ec6_uk_na(), 215.0)
+    half_brick = masonry_strengths(Masonry(**_BRICK), None, ec6_uk_na(), 102.5)
+    assert one_brick.f_k == pytest.approx(4.3874, rel=1e-4)
+    assert half_brick.f_k == pytest.approx(5.4842, rel=1e-4)
+    assert one_brick.f_k == pytest.approx(0.8 * half_brick.f_k, rel=1e-12)
+    assert _joint_step(one_brick).value == 0.8 and "inferred" in str(
+        _joint_step(one_brick).inputs
+    )
+    assert _joint_step(half_brick).value == 1.0
+
+
+def test_the_collar_joint_given_overrides_the_inference_and_unknown_assumes_none():
+    given_no = Masonry(**_BRICK, collar_joint=False)
+    assert _joint_step(masonry_strengths(given_no, None, ec6_uk_na(), 215.0)).value == 1.0
+    given_yes = Masonry(**_BRICK, collar_joint=True)
+    assert _joint_step(masonry_strengths(given_yes, None, ec6_uk_na(), 102.5)).value == 0.8
+    # A normalised strength with no unit size: the width is unknown, none is assumed, and
+    # the trace says so and how to say otherwise.
+    block = Masonry(unit_strength=10.0, unit_strength_is_normalised=True)
+    step = _joint_step(masonry_strengths(block, None, ec6_uk_na(), 215.0))
+    assert step.value == 1.0 and "not given" in step.formula
+    # A declared f_k is not worked from K: no joint step at all.
+    declared = masonry_strengths(Masonry(f_k=4.0), None, ec6_uk_na(), 215.0)
+    assert not any(s.symbol == "k_joint" for s in declared.steps)

@@ -589,6 +589,7 @@ def every_field(**changes) -> BearingInput:
             mortar="M6",
             f_k=4.3,
             shell_bedded=True,
+            collar_joint=True,
             unit_category="II",
             execution_class=1,
             manufacturing_control="special",

@@ -106,6 +106,7 @@ class CodeBasis:
     )
     f_b_max: float = 75.0
     f_m_max: float = 20.0
+    collar_joint_factor: float = 0.8
     gamma_M_ec6: tuple[tuple[str, float], ...] = (
         ("1|I", 2.3),
         ("1|II", 2.6),
@@ -240,6 +241,7 @@ SCALAR_BOUNDS: dict[str, tuple[float, float]] = {
     "padstone_spread_deg": (10.0, 80.0),
     "f_b_max": (1.0, 200.0),
     "f_m_max": (1.0, 50.0),
+    "collar_joint_factor": (0.5, 1.0),
     "masonry_spread_deg": (10.0, 80.0),
     "beta_area_ratio_cap": (0.05, 1.0),
     "spreader_min_depth": (0.0, 2000.0),
@@ -326,6 +328,9 @@ SOURCES: dict[str, str] = {
     "k_values": "EN 1996-1-1 Table 3.3 / UK NA Table NA.4 [M]: confirm against the NA",
     "f_b_max": "75 N/mm², EN 1996-1-1 3.6.1.2 [M]",
     "f_m_max": "min(20, 2 f_b) N/mm², EN 1996-1-1 3.6.1.2 [M]",
+    "collar_joint_factor": (
+        "0.8 × K where the wall has a mortar joint parallel to its face, EN 1996-1-1 3.6.1.2 [M]"
+    ),
     "gamma_M_ec6": "UK NA to EN 1996-1-1 Table NA.1 [M]",
     "masonry_spread_deg": "60° (EC6 6.1.3) [P] or 45° (BS 5628-1) [P]",
     "beta_area_ratio_cap": "A_b/A_ef ≤ 0.45, EN 1996-1-1 6.1.3 [M]",

@@ -111,6 +111,10 @@ class Masonry:
     unit's height and least horizontal dimension (normalised here), or the normalised
     strength ``f_b`` with ``unit_strength_is_normalised``. ``gamma_M`` overrides the code
     basis's partial factor.
+
+    ``collar_joint``: whether the wall has a mortar joint parallel to its face (a
+    longitudinal or collar joint, as in a one-brick wall), which takes 0.8 × K in EC6 eqn
+    3.1. None infers it from the wall's thickness and the unit's width.
     """
 
     material: str = "aggregate concrete"
@@ -123,6 +127,7 @@ class Masonry:
     mortar: str = "M4"
     f_k: float | None = None
     shell_bedded: bool = False
+    collar_joint: bool | None = None
     unit_category: str = "I"
     execution_class: int = 2
     manufacturing_control: str = "normal"

@@ -18,7 +18,7 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     input that makes no physical sense or that no coded formula covers."""
     validate(inp, basis)
     # Validated above, so the remembered strengths of equal, same-typed input will do.
-    strengths = masonry_strengths_cached(inp.masonry, inp.padstone, basis)
+    strengths = masonry_strengths_cached(inp.masonry, inp.padstone, basis, inp.wall.thickness)
     lay = layout(inp)
     checks: list[Check] = [C.min_bearing(inp, basis)]
     if inp.beam.orientation == IN_LINE:

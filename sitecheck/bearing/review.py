@@ -50,6 +50,7 @@ class Measurements:
     masonry_group: int | None = None
     unit_strength: float | None = None
     mortar: str | None = None
+    collar_joint: bool | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -188,6 +189,7 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
             ("group", m.masonry_group),
             ("mortar", m.mortar),
             ("unit_strength", m.unit_strength),
+            ("collar_joint", m.collar_joint),
         ),
     )
     if (
@@ -276,6 +278,7 @@ FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
     "masonry_material": "Unit material",
     "mortar": "Mortar class",
     "unit_strength": "Unit strength",
+    "collar_joint": "Collar joint in the wall",
 }
 
 
@@ -498,7 +501,8 @@ def _position_reasons(
 
 def _describe(m: Masonry) -> str:
     strength = f" {number(m.unit_strength)} N/mm²" if m.unit_strength is not None else ""
-    return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar"
+    joint = ", with a collar joint" if m.collar_joint else ""
+    return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar{joint}"
 
 
 def _material_reasons(design, design_result, as_built, result) -> list[ReviewReason]:

@@ -102,6 +102,7 @@ _KINDS = {
     "padstone_reinforced": bool,
     "unit_strength_is_normalised": bool,
     "shell_bedded": bool,
+    "collar_joint": bool,
     "padstone_present": bool,
     "bedded": bool,
     "cracks": bool,

@@ -13,7 +13,7 @@ from .errors import InputError
 from .format import number
 from .inputs import Masonry, Padstone
 from .trace import Step, Strengths
-from .validate import concrete_class_fck
+from .validate import concrete_class_fck, wall_tolerance
 
 # EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
 # (columns), for normalising a declared mean strength [M]; None where the table is blank.
@@ -114,8 +114,12 @@ def f_cd(f_ck: float, alpha_cc: float, gamma_c: float) -> float:
     return alpha_cc * f_ck / gamma_c
 
 
-def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> Strengths:
-    """f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace."""
+def masonry_strengths(
+    mas: Masonry, pad: Padstone | None, basis: CodeBasis, t: float | None = None
+) -> Strengths:
+    """f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace. ``t``, the
+    wall's thickness, tells whether it has a longitudinal joint where the input leaves
+    that to be inferred."""
     steps: list[Step] = []
     ec6 = basis.is_ec6
     if mas.f_k is not None:
@@ -133,7 +137,7 @@ def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> S
             )
         )
     elif ec6:
-        fk = _f_k_from_units_ec6(mas, basis, steps)
+        fk = _f_k_from_units_ec6(mas, basis, steps, t)
     else:
         designation = MORTAR_DESIGNATION[mas.mortar]
         fk = f_k_bs5628(float(mas.unit_strength), designation)
@@ -272,7 +276,9 @@ _STRENGTHS_LIMIT = 1024
 _MASONRY_VALUES = attrgetter(*(f.name for f in fields(Masonry)))
 
 
-def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> Strengths:
+def masonry_strengths_cached(
+    mas: Masonry, pad: Padstone | None, basis: CodeBasis, t: float | None = None
+) -> Strengths:
     """:func:`masonry_strengths` for validated input, remembered: a site re-checks many
     bearings on the same masonry and concrete, and the result is immutable.
 
@@ -296,21 +302,37 @@ def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasi
         type(f_ck),
         reinforced,
         type(reinforced),
+        t,
+        type(t),
     )
     try:
         found = _STRENGTHS.get(key)
     except TypeError:  # an unhashable value: work it out, and let that say what is wrong
-        return masonry_strengths(mas, pad, basis)
+        return masonry_strengths(mas, pad, basis, t)
     if found is not None and found[0] is basis:
         return found[1]
-    result = masonry_strengths(mas, pad, basis)
+    result = masonry_strengths(mas, pad, basis, t)
     if len(_STRENGTHS) >= _STRENGTHS_LIMIT:
         _STRENGTHS.clear()
     _STRENGTHS[key] = (basis, result)
     return result
 
 
-def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> float:
+def collar_joint(mas: Masonry, t: float | None) -> tuple[bool, str]:
+    """Whether the wall has a mortar joint parallel to its face, and how that is known:
+    "given"; "inferred" from a wall at least two units wide (t ≥ 2 × the unit's least
+    horizontal dimension, give or take the wall's tolerance) [ours]; or "unknown" where the
+    unit's width is not given, when none is assumed and the trace says so."""
+    if mas.collar_joint is not None:
+        return bool(mas.collar_joint), "given"
+    if t is None or mas.unit_width is None:
+        return False, "unknown"
+    return t + wall_tolerance(t) >= 2 * mas.unit_width, "inferred"
+
+
+def _f_k_from_units_ec6(
+    mas: Masonry, basis: CodeBasis, steps: list[Step], t: float | None
+) -> float:
     fu = float(mas.unit_strength)
     if mas.unit_strength_is_normalised:
         fb = fu
@@ -385,6 +407,42 @@ def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> fl
             "M",
         )
     )
+    joint, how = collar_joint(mas, t)
+    factor = basis.collar_joint_factor if joint else 1.0
+    why = {
+        ("given", True): "× 0.8: the wall has a mortar joint parallel to its face (as given)",
+        ("given", False): "1: no mortar joint parallel to the wall's face (as given)",
+        ("inferred", True): "× 0.8: a wall at least two units wide (t ≥ 2 × unit width) has one",
+        ("inferred", False): "1: a wall less than two units wide has no such joint",
+        ("unknown", False): "1: the unit's width is not given, so none is assumed; say if "
+        "the wall has a collar joint",
+    }[how, joint]
+    steps.append(
+        Step(
+            "Longitudinal (collar) mortar joint",
+            "k_joint",
+            why,
+            (("t", t, "mm"), ("unit width", mas.unit_width, "mm"), ("joint", how, "")),
+            factor,
+            "",
+            "EN 1996-1-1 3.6.1.2(1)",
+            "M",
+        )
+    )
+    if joint:
+        K = K * factor
+        steps.append(
+            Step(
+                "Constant for a wall with a longitudinal joint",
+                "K",
+                "k_joint · K",
+                (("k_joint", factor, ""),),
+                K,
+                "",
+                "EN 1996-1-1 3.6.1.2(1)",
+                "M",
+            )
+        )
     if thin:
         exponent = 0.70 if (mas.material == "clay" and mas.group > 1) else 0.85
         fk = f_k_thin_layer(K, fb, exponent)

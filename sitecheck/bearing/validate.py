@@ -154,6 +154,8 @@ def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
         return False
     if mas.gamma_M is not None and not _plain(mas.gamma_M, 1.0, 5.0):
         return False
+    if mas.collar_joint is not None and type(mas.collar_joint) is not bool:
+        return False
     if mas.f_k is not None:
         return _plain(mas.f_k, 0.5, 40.0)
     f_u = mas.unit_strength
@@ -408,6 +410,13 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
     ):
         if value not in CONTROL_LEVELS:
             yield _choice(name, value, CONTROL_LEVELS)
+    if mas.collar_joint is not None and not isinstance(mas.collar_joint, bool):
+        yield InputError(
+            "masonry.collar_joint",
+            mas.collar_joint,
+            "true (a mortar joint parallel to the wall's face), false, or empty to infer it",
+            "not-a-choice",
+        )
     if mas.gamma_M is not None and (not _is_number(mas.gamma_M) or not 1.0 <= mas.gamma_M <= 5.0):
         yield InputError(
             "masonry.gamma_M", mas.gamma_M, "a partial factor from 1.0 to 5.0", "out-of-range"

@@ -91,6 +91,7 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "unit_conditioning": mas.get("conditioning"),
         "mortar": mas.get("mortar"),
         "shell_bedded": mas.get("shell_bedded"),
+        "collar_joint": mas.get("collar_joint"),
         "f_k": mas.get("f_k"),
         "gamma_M": mas.get("gamma_M"),
         "execution_class": mas.get("execution_class"),

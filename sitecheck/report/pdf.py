@@ -405,6 +405,7 @@ _COMPARED = (
     ("masonry_group", ("masonry", "group"), ""),
     ("unit_strength", ("masonry", "unit_strength"), "N/mm²"),
     ("mortar", ("masonry", "mortar"), ""),
+    ("collar_joint", ("masonry", "collar_joint"), ""),
 )
 _EXTRA_LABELS = {
     "offset_along": "Beam offset along the wall",

@@ -190,6 +190,11 @@ GROUP_CHOICES = [(str(g), f"Group {g}") for g in (1, 2, 3, 4)]
 CATEGORY_CHOICES = [("I", "Category I"), ("II", "Category II")]
 EXECUTION_CHOICES = [("2", "Execution class 2"), ("1", "Execution class 1")]
 BEARING_TYPE_CHOICES = [(str(t), f"Type {t}") for t in (1, 2, 3)]
+COLLAR_JOINT_CHOICES = [
+    ("", "Inferred from the wall's thickness and the unit's width"),
+    ("yes", "Yes: a mortar joint parallel to the face"),
+    ("no", "No"),
+]
 
 
 def _choice_field(label: str, choices, default: str, hint: str = "") -> SelectField:
@@ -285,6 +290,13 @@ class BearingForm(FlaskForm):
         "Characteristic strength f_k (N/mm²)", "Only if declared; overrides the unit route."
     )
     shell_bedded = BooleanField("Units shell bedded")
+    collar_joint = _choice_field(
+        "Collar (longitudinal) joint in the wall",
+        COLLAR_JOINT_CHOICES,
+        "",
+        "A wall two units wide, such as a one-brick wall, has one: EC6 then takes 0.8 × K. "
+        "Inferred: yes when the wall is at least twice the unit's width.",
+    )
     unit_category = _choice_field("Unit category (EC6)", CATEGORY_CHOICES, "I")
     execution_class = _choice_field("Execution class (EC6)", EXECUTION_CHOICES, "2")
     manufacturing_control = _choice_field(
@@ -362,6 +374,7 @@ SECTIONS = (
             "mortar",
             "f_k",
             "shell_bedded",
+            "collar_joint",
             "unit_category",
             "execution_class",
             "manufacturing_control",
@@ -381,6 +394,7 @@ FIELD_FOR = FIELD_TO_COLUMN | {
     "masonry.unit_strength_is_normalised": "unit_strength_is_normalised",
     "masonry.conditioning": "conditioning",
     "masonry.shell_bedded": "shell_bedded",
+    "masonry.collar_joint": "collar_joint",
     "masonry.manufacturing_control": "manufacturing_control",
     "masonry.construction_control": "construction_control",
     "e_mk": "e_mk",
@@ -468,6 +482,7 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
             mortar=form.mortar.data,
             f_k=num("f_k", "N/mm²"),
             shell_bedded=bool(form.shell_bedded.data),
+            collar_joint={"yes": True, "no": False}.get(form.collar_joint.data),
             unit_category=form.unit_category.data,
             execution_class=_whole(form.execution_class.data),
             manufacturing_control=form.manufacturing_control.data,
@@ -539,6 +554,7 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "mortar": mas.get("mortar", "M4"),
         "f_k": plain_number(mas.get("f_k")),
         "shell_bedded": bool(mas.get("shell_bedded")),
+        "collar_joint": {True: "yes", False: "no"}.get(mas.get("collar_joint"), ""),
         "unit_category": mas.get("unit_category", "I"),
         "execution_class": str(mas.get("execution_class", 2)),
         "manufacturing_control": mas.get("manufacturing_control", "normal"),
@@ -643,6 +659,12 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
                 ("Declared f_k", mpa(mas.get("f_k"), "from the units and mortar")),
                 ("Shell bedded", "yes" if mas.get("shell_bedded") else "no"),
                 (
+                    "Collar joint",
+                    {True: "yes", False: "no"}.get(
+                        mas.get("collar_joint"), "inferred from the wall's thickness"
+                    ),
+                ),
+                (
                     "Category / execution class",
                     f"{mas.get('unit_category')} / {mas.get('execution_class')}",
                 ),
@@ -683,6 +705,7 @@ BASIS_LABELS: dict[str, tuple[str, str]] = {
     "padstone_spread_deg": ("Spread through the padstone", "°"),
     "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²"),
     "f_m_max": ("Greatest mortar strength f_m", "N/mm²"),
+    "collar_joint_factor": ("Factor on K for a wall with a collar joint", ""),
     "masonry_spread_deg": ("Spread through the masonry", "°"),
     "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", ""),
     "spreader_min_depth": ("Spreader: least depth", "mm"),
@@ -716,7 +739,7 @@ BASIS_GROUPS = (
             "padstone_spread_deg",
         ),
     ),
-    ("Masonry strength (EC6)", ("f_b_max", "f_m_max")),
+    ("Masonry strength (EC6)", ("f_b_max", "f_m_max", "collar_joint_factor")),
     (
         "Concentrated loads (EC6 6.1.3)",
         (

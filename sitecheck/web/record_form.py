@@ -128,6 +128,13 @@ SPECS: dict[str, FieldSpec] = {
             ("masonry", "unit_strength"),
         ),
         FieldSpec("mortar", "Mortar class", "select", design=("masonry", "mortar")),
+        FieldSpec(
+            "collar_joint",
+            "Collar joint in the wall",
+            "tri",
+            "A mortar joint parallel to the wall's face, as in a one-brick wall of two leaves.",
+            ("masonry", "collar_joint"),
+        ),
         FieldSpec("bedded", "Padstone fully bedded on mortar", "tri"),
         FieldSpec(
             "packing",
@@ -160,6 +167,7 @@ MEASUREMENT_FIELDS = (
     "masonry_group",
     "unit_strength",
     "mortar",
+    "collar_joint",
 )
 CHECKLIST_FIELDS = ("bedded", "packing", "cracks", "cut_units", "level")
 
@@ -177,7 +185,7 @@ GROUPS = (
         ),
     ),
     ("Wall", ("wall_thickness", "a1", "a2")),
-    ("Masonry", ("masonry_material", "masonry_group", "unit_strength", "mortar")),
+    ("Masonry", ("masonry_material", "masonry_group", "unit_strength", "mortar", "collar_joint")),
     ("How it was built", CHECKLIST_FIELDS),
 )
 
@@ -203,6 +211,7 @@ CORE_PATHS = (
         "masonry.group": "masonry_group",
         "masonry.unit_strength": "unit_strength",
         "masonry.mortar": "mortar",
+        "masonry.collar_joint": "collar_joint",
     }
     | {f"measurements.{n}": n for n in MEASUREMENT_FIELDS}
     | {f"checklist.{n}": n for n in CHECKLIST_FIELDS}
@@ -315,6 +324,7 @@ class RecordForm(FlaskForm):
         choices=_choices(MORTARS),
         default="",
     )
+    collar_joint = TriStateField(SPECS["collar_joint"].label)
     bedded = TriStateField(SPECS["bedded"].label)
     packing = _number("packing", "0")
     cracks = TriStateField(SPECS["cracks"].label)
@@ -504,6 +514,8 @@ def designed_text(design_input: dict, name: str) -> str:
             return "wall runs on"
         if name == "padstone_reinforced":
             return "no (plain concrete)"
+        if name == "collar_joint":
+            return "inferred from the wall's thickness"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
             return f"f_k {number(design_input['masonry']['f_k'])} N/mm² declared"
         if spec.kind == "tri" or name == "packing":

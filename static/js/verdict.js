@@ -16,11 +16,12 @@ export const MEASUREMENT_FIELDS = [
   "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
   "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete",
   "padstone_reinforced", "wall_thickness",
-  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar",
+  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar", "collar_joint",
 ];
 export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
 const TRI_STATE = new Set([
-  "padstone_present", "padstone_reinforced", "bedded", "cracks", "cut_units", "level",
+  "padstone_present", "padstone_reinforced", "collar_joint", "bedded", "cracks", "cut_units",
+  "level",
 ]);
 const TEXT = new Set(["padstone_concrete", "masonry_material", "mortar"]);
 // The server's rule for typed numbers (sitecheck/web/record_form.py NumberField): spaces

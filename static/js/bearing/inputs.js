@@ -51,6 +51,7 @@ export const DEFAULTS = {
     mortar: "M4",
     f_k: null,
     shell_bedded: false,
+    collar_joint: null,
     unit_category: "I",
     execution_class: 2,
     manufacturing_control: "normal",

@@ -15,7 +15,7 @@ import { validate } from "./validate.js";
 export function checkBearing(inp, basis) {
   validate(inp, basis);
   const pad = inp.padstone ?? null;
-  const strengths = masonryStrengths(inp.masonry, pad, basis);
+  const strengths = masonryStrengths(inp.masonry, pad, basis, inp.wall.thickness);
   const lay = layout(inp);
   const checks = [C.minBearing(inp, basis)];
   if (inp.beam.orientation === IN_LINE) checks.push(...C.inlineRules(inp, lay, basis));

@@ -92,6 +92,7 @@ export function asBuiltInput(design, m) {
     ["group", m.masonry_group],
     ["mortar", m.mortar],
     ["unit_strength", m.unit_strength],
+    ["collar_joint", m.collar_joint],
   ]);
   return { ...design, beam, padstone: pad, wall: builtWall, masonry };
 }
@@ -144,6 +145,7 @@ export const FIELD_LABELS = {
   masonry_material: "Unit material",
   mortar: "Mortar class",
   unit_strength: "Unit strength",
+  collar_joint: "Collar joint in the wall",
 };
 
 // An utilisation as a result dict holds it: null is unbounded.
@@ -360,7 +362,8 @@ function positionReasons(designResult, result, s) {
 
 function describe(m) {
   const strength = m.unit_strength != null ? ` ${number(m.unit_strength)} N/mm²` : "";
-  return `${m.material} Group ${pyStr(m.group)}${strength} units in ${m.mortar} mortar`;
+  const joint = m.collar_joint ? ", with a collar joint" : "";
+  return `${m.material} Group ${pyStr(m.group)}${strength} units in ${m.mortar} mortar${joint}`;
 }
 
 function materialReasons(design, designResult, asBuilt, result) {

@@ -30,6 +30,7 @@ export const MEASUREMENT_FIELDS = [
   "masonry_group",
   "unit_strength",
   "mortar",
+  "collar_joint",
 ];
 export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
 
@@ -41,6 +42,7 @@ const KINDS = {
   masonry_group: "int",
   padstone_present: "bool",
   padstone_reinforced: "bool",
+  collar_joint: "bool",
   bedded: "bool",
   cracks: "bool",
   cut_units: "bool",

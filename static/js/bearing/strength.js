@@ -18,7 +18,7 @@ import { InputError } from "./errors.js";
 import { number } from "./format.js";
 import { pyMin } from "./formulas.js";
 import { makeStep, makeStrengths } from "./trace.js";
-import { concreteClassFck } from "./validate.js";
+import { concreteClassFck, wallTolerance } from "./validate.js";
 
 // EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
 // (columns) [M]; null where the table is blank. δ = 0.85 for 65 mm high, ~100 mm wide [S].
@@ -121,7 +121,9 @@ export function fCd(f_ck, alpha_cc, gamma_c) {
 }
 
 // f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace.
-export function masonryStrengths(mas, pad, basis) {
+// t, the wall's thickness, tells whether it has a longitudinal joint where the input
+// leaves that to be inferred.
+export function masonryStrengths(mas, pad, basis, t = null) {
   const steps = [];
   const ec6 = isEc6(basis);
   let fk;
@@ -140,7 +142,7 @@ export function masonryStrengths(mas, pad, basis) {
       ),
     );
   } else if (ec6) {
-    fk = fKFromUnitsEc6(mas, basis, steps);
+    fk = fKFromUnitsEc6(mas, basis, steps, t);
   } else {
     const designation = MORTAR_DESIGNATION[mas.mortar];
     fk = fKBs5628(Number(mas.unit_strength), designation);
@@ -285,7 +287,25 @@ export function masonryStrengths(mas, pad, basis) {
   return makeStrengths(fk, gm, fd, fcd, steps);
 }
 
-function fKFromUnitsEc6(mas, basis, steps) {
+// strength.py's collar_joint: [whether the wall has a mortar joint parallel to its face,
+// how that is known: "given", "inferred" (t ≥ 2 × unit width, give or take the wall's
+// tolerance) or "unknown" (no unit width: none assumed)].
+export function collarJoint(mas, t) {
+  if (mas.collar_joint != null) return [Boolean(mas.collar_joint), "given"];
+  if (t == null || mas.unit_width == null) return [false, "unknown"];
+  return [t + wallTolerance(t) >= 2 * mas.unit_width, "inferred"];
+}
+
+const JOINT_WORDS = {
+  "given|true": "× 0.8: the wall has a mortar joint parallel to its face (as given)",
+  "given|false": "1: no mortar joint parallel to the wall's face (as given)",
+  "inferred|true": "× 0.8: a wall at least two units wide (t ≥ 2 × unit width) has one",
+  "inferred|false": "1: a wall less than two units wide has no such joint",
+  "unknown|false":
+    "1: the unit's width is not given, so none is assumed; say if the wall has a collar joint",
+};
+
+function fKFromUnitsEc6(mas, basis, steps, t) {
   const fu = Number(mas.unit_strength);
   let fb;
   if (mas.unit_strength_is_normalised) {
@@ -349,7 +369,7 @@ function fKFromUnitsEc6(mas, basis, steps) {
   }
   const thin = mas.mortar === "thin-layer";
   const kind = thin ? "thin-layer" : "general";
-  const K = kValue(basis, mas.material, mas.group, kind);
+  let K = kValue(basis, mas.material, mas.group, kind);
   if (K === null) {
     throw new InputError(
       "masonry.group",
@@ -371,6 +391,39 @@ function fKFromUnitsEc6(mas, basis, steps) {
       "M",
     ),
   );
+  const [joint, how] = collarJoint(mas, t);
+  const factor = joint ? basis.collar_joint_factor : 1.0;
+  steps.push(
+    makeStep(
+      "Longitudinal (collar) mortar joint",
+      "k_joint",
+      JOINT_WORDS[`${how}|${joint}`],
+      [
+        ["t", t, "mm"],
+        ["unit width", mas.unit_width ?? null, "mm"],
+        ["joint", how, ""],
+      ],
+      factor,
+      "",
+      "EN 1996-1-1 3.6.1.2(1)",
+      "M",
+    ),
+  );
+  if (joint) {
+    K *= factor;
+    steps.push(
+      makeStep(
+        "Constant for a wall with a longitudinal joint",
+        "K",
+        "k_joint · K",
+        [["k_joint", factor, ""]],
+        K,
+        "",
+        "EN 1996-1-1 3.6.1.2(1)",
+        "M",
+      ),
+    );
+  }
   if (thin) {
     const exponent = mas.material === "clay" && mas.group > 1 ? 0.7 : 0.85;
     const fk = fKThinLayer(K, fb, exponent);

@@ -343,6 +343,14 @@ function* masonryErrors(inp, basis) {
   ]) {
     if (!CONTROL_LEVELS.includes(value)) yield choice(name, value, CONTROL_LEVELS);
   }
+  if (mas.collar_joint != null && typeof mas.collar_joint !== "boolean") {
+    yield new InputError(
+      "masonry.collar_joint",
+      mas.collar_joint,
+      "true (a mortar joint parallel to the wall's face), false, or empty to infer it",
+      "not-a-choice",
+    );
+  }
   const gM = mas.gamma_M;
   if (gM != null && (!isNumber(gM) || !(1.0 <= gM && gM <= 5.0))) {
     yield new InputError(
