@@ -522,6 +522,7 @@ def _random_basis(rng: random.Random, ec6: bool):
             {"masonry_spread_deg": 50.0, "padstone_spread_deg": 40.0},
             {"gamma_M_ec6": {"1|I": 2.0, "1|II": 2.2, "2|I": 2.5, "2|II": 2.8}},
             {"k_values": {**ec6_uk_na().to_dict()["k_values"], "clay|1|general": 0.55}},
+            {"creep_lambda_c": {m: 12.0 for m in _MATERIALS}, "creep_phi_inf": {"clay": 0.5}},
         )
     )
     return ec6_uk_na(**overrides) if ec6 else bs5628(**overrides)
@@ -880,6 +881,11 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     add("no-k-thin-layer-clay-4", change("masonry", material="clay", group=4, mortar="thin-layer"))
     add("no-k-aac-group-2", change("masonry", material="autoclaved aerated concrete", group=2))
     add("no-k-stone-group-3", change("masonry", material="manufactured stone", group=3))
+    add(
+        "no-creep-values-for-the-unit",
+        _bearing(wall={"thickness": 100.0}, padstone={"width": 100.0}, beam={"bearing_length": 90.0}),
+        ec6_uk_na(creep_lambda_c={"clay": 27.0}).to_dict(),
+    )
     add(
         "no-gamma-for-class",
         change("masonry", execution_class=1),

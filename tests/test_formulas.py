@@ -344,9 +344,7 @@ def test_a_one_brick_wall_takes_0_8_k_for_its_collar_joint():
     assert one_brick.f_k == pytest.approx(4.3874, rel=1e-4)
     assert half_brick.f_k == pytest.approx(5.4842, rel=1e-4)
     assert one_brick.f_k == pytest.approx(0.8 * half_brick.f_k, rel=1e-12)
-    assert _joint_step(one_brick).value == 0.8 and "inferred" in str(
-        _joint_step(one_brick).inputs
-    )
+    assert _joint_step(one_brick).value == 0.8 and "inferred" in str(_joint_step(one_brick).inputs)
     assert _joint_step(half_brick).value == 1.0
 
 

@@ -125,6 +125,22 @@ class CodeBasis:
     k_E: float = 1000.0
     e_mk_min_ratio: float = 0.05
     e_init_divisor: float = 450.0
+    # Creep eccentricity e_k at mid-height, EN 1996-1-1 6.1.2.2, by unit material: none up
+    # to the slenderness λ_c, φ_∞ the final creep coefficient above it.
+    creep_lambda_c: tuple[tuple[str, float], ...] = (
+        ("aggregate concrete", 15.0),
+        ("autoclaved aerated concrete", 15.0),
+        ("calcium silicate", 15.0),
+        ("clay", 27.0),
+        ("manufactured stone", 15.0),
+    )
+    creep_phi_inf: tuple[tuple[str, float], ...] = (
+        ("aggregate concrete", 1.5),
+        ("autoclaved aerated concrete", 1.0),
+        ("calcium silicate", 1.5),
+        ("clay", 1.0),
+        ("manufactured stone", 1.5),
+    )
     # BS 5628-1 local bearing and dispersion.
     gamma_m_bs: tuple[tuple[str, float], ...] = (
         ("special|special", 2.5),
@@ -164,6 +180,12 @@ class CodeBasis:
     def gamma_M_for(self, execution_class: int, category: str) -> float | None:
         return dict(self.gamma_M_ec6).get(f"{execution_class}|{category}")
 
+    def creep_lambda_c_for(self, material: str) -> float | None:
+        return dict(self.creep_lambda_c).get(material)
+
+    def creep_phi_for(self, material: str) -> float | None:
+        return dict(self.creep_phi_inf).get(material)
+
     def gamma_m_for(self, manufacturing: str, construction: str) -> float | None:
         return dict(self.gamma_m_bs).get(f"{manufacturing}|{construction}")
 
@@ -176,7 +198,7 @@ class CodeBasis:
         return out
 
 
-_TABLE_FIELDS = ("k_values", "gamma_M_ec6", "gamma_m_bs")
+_TABLE_FIELDS = ("k_values", "gamma_M_ec6", "gamma_m_bs", "creep_lambda_c", "creep_phi_inf")
 
 
 def ec6_uk_na(**overrides) -> CodeBasis:
@@ -265,6 +287,8 @@ TABLE_BOUNDS: dict[str, tuple[float, float]] = {
     "gamma_M_ec6": (1.0, 5.0),
     "gamma_m_bs": (1.0, 5.0),
     "bearing_type_factors": (1.0, 3.0),
+    "creep_lambda_c": (0.0, 60.0),
+    "creep_phi_inf": (0.0, 5.0),
 }
 FLAGS = ("spreader_route_for_groups_2_to_4", "plain_partial_area_enhancement")
 
@@ -342,6 +366,11 @@ SOURCES: dict[str, str] = {
     "k_E": "E = 1000 f_k, EN 1996-1-1 3.7.2 [M]",
     "e_mk_min_ratio": "e_mk ≥ 0.05 t, EN 1996-1-1 6.1.2.2 [M]",
     "e_init_divisor": "e_init = h_ef/450, EN 1996-1-1 5.5.1.1 [M]",
+    "creep_lambda_c": (
+        "e_k = 0 up to h_ef/t_ef = λ_c, EN 1996-1-1 6.1.2.2(2): 15 recommended; clay (like "
+        "natural stone) is not asked for e_k, so its λ_c is 27, the slenderness limit [M]"
+    ),
+    "creep_phi_inf": "final creep coefficient φ_∞, EN 1996-1-1 Table 3.8 [M]",
     "gamma_m_bs": "BS 5628-1:1992 Table 4 [S]",
     "bearing_type_factors": "1.25 / 1.5 / 2.0, BS 5628-1 clause 34 [P]",
     "dispersion_depth_ratio": "0.4 h below the bearing, BS 5628-1 clause 34 [P]",

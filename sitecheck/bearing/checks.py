@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 from .basis import CodeBasis
+from .errors import InputError
 from .format import number, utilisation
 from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
 from .geometry import Layout, Pressure, Reading, readings, spread_length, worse
@@ -670,8 +671,11 @@ def ec6_mid_height(
     """At mid-height below the bearing: N_Ed/l_efm + other load ≤ Φ_m · t · f_d, EN 1996-1-1
     6.1.2 with Φ_m from Annex G [M]: Φ_m = A1 e^(−u²/2), A1 = 1 − 2 e_mk/t,
     u = (λ − 0.063)/(0.73 − 1.17 e_mk/t), λ = (h_ef/t_ef)·√(f_k/E), E = 1000 f_k.
-    e_mk defaults to max(0.05 t, |e|/2 + h_ef/450): half the top eccentricity at mid-height
-    of a pinned wall [CP] plus the initial eccentricity. Under a triangle of pressure l_efm
+    e_mk defaults to max(0.05 t, e_m + e_k) with e_m = |e|/2 + h_ef/450: half the top
+    eccentricity at mid-height of a pinned wall [CP] plus the initial eccentricity, and the
+    creep eccentricity e_k = 0.002 φ_∞ (h_ef/t_ef) √(t e_m) (eqn 6.8) above the slenderness
+    λ_c, zero up to it (6.1.2.2(2), λ_c and φ_∞ by unit material from the code basis, [M]).
+    Under a triangle of pressure l_efm
     is worked on both readings of the loaded length and the shorter (the higher
     utilisation) kept. Returns the check, the reading that governs and its l_efm."""
     wall = inp.wall
@@ -696,16 +700,30 @@ def ec6_mid_height(
         )
     else:
         e_init = h_ef / basis.e_init_divisor
-        e_mk = max(basis.e_mk_min_ratio * t, abs(lay.eccentricity_across) / 2 + e_init)
+        e_m = abs(lay.eccentricity_across) / 2 + e_init
+        steps.append(
+            make_step(
+                "Eccentricity from the load at mid-height",
+                "e_m",
+                "|e|/2 + h_ef/450",
+                (("e", lay.eccentricity_across, "mm"), ("h_ef", h_ef, "mm")),
+                e_m,
+                "mm",
+                "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+                "M",
+            )
+        )
+        e_k = _creep_eccentricity(inp.masonry.material, h_ef, t_ef, t, e_m, basis, steps)
+        e_mk = max(basis.e_mk_min_ratio * t, e_m + e_k)
         steps.append(
             make_step(
                 "Eccentricity at mid-height",
                 "e_mk",
-                "max(0.05 t, |e|/2 + h_ef/450)",
-                (("t", t, "mm"), ("e", lay.eccentricity_across, "mm"), ("h_ef", h_ef, "mm")),
+                "max(0.05 t, e_m + e_k)",
+                (("t", t, "mm"), ("e_m", e_m, "mm"), ("e_k", e_k, "mm")),
                 e_mk,
                 "mm",
-                "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+                "EN 1996-1-1 6.1.2.2 eqn 6.6",
                 "M",
             )
         )
@@ -837,6 +855,57 @@ def ec6_mid_height(
         notes,
     )
     return check, chosen, lengths[chosen]
+
+
+def _creep_eccentricity(
+    material: str,
+    h_ef: float,
+    t_ef: float,
+    t: float,
+    e_m: float,
+    basis: CodeBasis,
+    steps: list[Step],
+) -> float:
+    """e_k, EN 1996-1-1 6.1.2.2 eqn 6.8 [M]: 0.002 φ_∞ (h_ef/t_ef) √(t e_m) above the unit
+    material's λ_c, zero up to it, each step in the trace."""
+    lam_c = basis.creep_lambda_c_for(material)
+    phi_inf = basis.creep_phi_for(material)
+    if lam_c is None or phi_inf is None:
+        raise InputError(
+            "masonry.material",
+            material,
+            "a unit material for which this code basis has a creep coefficient and λ_c",
+            "not-covered",
+        )
+    sr = h_ef / t_ef
+    if sr <= lam_c:
+        steps.append(
+            make_step(
+                "Creep eccentricity, none up to λ_c",
+                "e_k",
+                f"0: h_ef/t_ef ≤ λ_c for {material} units",
+                (("h_ef/t_ef", sr, ""), ("λ_c", lam_c, "")),
+                0.0,
+                "mm",
+                "EN 1996-1-1 6.1.2.2(2)",
+                "M",
+            )
+        )
+        return 0.0
+    e_k = 0.002 * phi_inf * sr * math.sqrt(t * e_m)
+    steps.append(
+        make_step(
+            "Creep eccentricity",
+            "e_k",
+            "0.002 φ_∞ (h_ef/t_ef) √(t e_m)",
+            (("φ_∞", phi_inf, ""), ("h_ef/t_ef", sr, ""), ("λ_c", lam_c, ""), ("t", t, "mm")),
+            e_k,
+            "mm",
+            "EN 1996-1-1 6.1.2.2 eqn 6.8",
+            "M",
+        )
+    )
+    return e_k
 
 
 def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:

@@ -773,6 +773,17 @@ BASIS_FLAGS: dict[str, str] = {
         "Allow the partially loaded area enhancement √(A_c1/A_c0) for plain padstones"
     ),
 }
+# The creep tables of EC6 6.1.2.2, one row per unit material.
+CREEP_TABLES = (
+    ("creep_lambda_c", "λ_c, slenderness up to which e_k = 0"),
+    ("creep_phi_inf", "Final creep coefficient φ_∞"),
+)
+
+
+def creep_field_name(table: str, material: str) -> str:
+    return f"{table}_{_slug(material)}"
+
+
 K_BOUNDS = TABLE_BOUNDS["k_values"]
 GAMMA_BOUNDS = TABLE_BOUNDS["gamma_M_ec6"]
 BEARING_TYPE_BOUNDS = TABLE_BOUNDS["bearing_type_factors"]
@@ -856,6 +867,9 @@ def _build_settings_form() -> type[FlaskForm]:
         attrs[gamma_field_name("gamma_m_bs", key)] = number_field(f"γ_m, {label}")
     for i in (1, 2, 3):
         attrs[f"bearing_type_factor_{i}"] = number_field(f"Bearing type {i} factor")
+    for table, words in CREEP_TABLES:
+        for material in MATERIALS:
+            attrs[creep_field_name(table, material)] = number_field(f"{words}, {material}")
     for name, (label, unit, *_rest) in REVIEW_FIELDS.items():
         attrs[name] = number_field(label + (f" ({unit})" if unit else ""))
     return type("SettingsForm", (FlaskForm,), attrs)
@@ -883,6 +897,10 @@ def settings_form_data(site: dict, basis: CodeBasis, review: ReviewSettings) -> 
         data[gamma_field_name("gamma_m_bs", key)] = plain_number(bs.get(key))
     for i, v in enumerate(basis.bearing_type_factors, start=1):
         data[f"bearing_type_factor_{i}"] = plain_number(v)
+    for table, _words in CREEP_TABLES:
+        values = dict(getattr(basis, table))
+        for material in MATERIALS:
+            data[creep_field_name(table, material)] = plain_number(values.get(material))
     for name in REVIEW_FIELDS:
         data[name] = plain_number(getattr(review, name))
     return data
@@ -932,6 +950,11 @@ def settings_from_form(form, basis: CodeBasis, review: ReviewSettings) -> tuple[
     code["bearing_type_factors"] = [
         _bounded(form[f"bearing_type_factor_{i}"], *BEARING_TYPE_BOUNDS, "") for i in (1, 2, 3)
     ]
+    for table, _words in CREEP_TABLES:
+        code[table] = {
+            material: _bounded(form[creep_field_name(table, material)], *TABLE_BOUNDS[table], "")
+            for material in MATERIALS
+        }
     settings = review.as_dict()  # keeps which as-built values are required
     for name, (_label, unit, lo, hi, _source) in REVIEW_FIELDS.items():
         settings[name] = _bounded(form[name], lo, hi, unit)

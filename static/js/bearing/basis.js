@@ -75,7 +75,7 @@ export const BS_FK_TABLE = [
 export const MORTAR_DESIGNATION = { M12: "i", M6: "ii", M4: "iii", M2: "iv" };
 export const MORTAR_STRENGTH = { M2: 2.0, M4: 4.0, M6: 6.0, M12: 12.0 };
 
-const TABLE_FIELDS = ["k_values", "gamma_M_ec6", "gamma_m_bs"];
+const TABLE_FIELDS = ["k_values", "gamma_M_ec6", "gamma_m_bs", "creep_lambda_c", "creep_phi_inf"];
 
 // CodeBasis's fields and defaults, in its order (to_dict writes them so).
 function defaults(name) {
@@ -102,6 +102,21 @@ function defaults(name) {
     k_E: 1000.0,
     e_mk_min_ratio: 0.05,
     e_init_divisor: 450.0,
+    // Creep eccentricity e_k at mid-height, EN 1996-1-1 6.1.2.2, by unit material [M].
+    creep_lambda_c: {
+      "aggregate concrete": 15.0,
+      "autoclaved aerated concrete": 15.0,
+      "calcium silicate": 15.0,
+      clay: 27.0,
+      "manufactured stone": 15.0,
+    },
+    creep_phi_inf: {
+      "aggregate concrete": 1.5,
+      "autoclaved aerated concrete": 1.0,
+      "calcium silicate": 1.5,
+      clay: 1.0,
+      "manufactured stone": 1.5,
+    },
     gamma_m_bs: {
       "normal|normal": 3.5,
       "normal|special": 2.8,
@@ -135,6 +150,16 @@ export function kValue(basis, material, group, mortarKind) {
 export function gammaMFor(basis, executionClass, category) {
   const key = `${executionClass}|${category}`;
   return Object.hasOwn(basis.gamma_M_ec6, key) ? basis.gamma_M_ec6[key] : null;
+}
+
+// CodeBasis.creep_lambda_c_for and creep_phi_for: by unit material, null if the basis
+// has none.
+export function creepLambdaCFor(basis, material) {
+  return Object.hasOwn(basis.creep_lambda_c, material) ? basis.creep_lambda_c[material] : null;
+}
+
+export function creepPhiFor(basis, material) {
+  return Object.hasOwn(basis.creep_phi_inf, material) ? basis.creep_phi_inf[material] : null;
 }
 
 // CodeBasis.gamma_m_for (lower-case m, BS 5628-1 γ_m): by manufacturing and construction control.
@@ -227,6 +252,8 @@ export const TABLE_BOUNDS = {
   gamma_M_ec6: [1.0, 5.0],
   gamma_m_bs: [1.0, 5.0],
   bearing_type_factors: [1.0, 3.0],
+  creep_lambda_c: [0.0, 60.0],
+  creep_phi_inf: [0.0, 5.0],
 };
 export const FLAGS = ["spreader_route_for_groups_2_to_4", "plain_partial_area_enhancement"];
 
@@ -308,6 +335,10 @@ export const SOURCES = {
   k_E: "E = 1000 f_k, EN 1996-1-1 3.7.2 [M]",
   e_mk_min_ratio: "e_mk ≥ 0.05 t, EN 1996-1-1 6.1.2.2 [M]",
   e_init_divisor: "e_init = h_ef/450, EN 1996-1-1 5.5.1.1 [M]",
+  creep_lambda_c:
+    "e_k = 0 up to h_ef/t_ef = λ_c, EN 1996-1-1 6.1.2.2(2): 15 recommended; clay (like " +
+    "natural stone) is not asked for e_k, so its λ_c is 27, the slenderness limit [M]",
+  creep_phi_inf: "final creep coefficient φ_∞, EN 1996-1-1 Table 3.8 [M]",
   gamma_m_bs: "BS 5628-1:1992 Table 4 [S]",
   bearing_type_factors: "1.25 / 1.5 / 2.0, BS 5628-1 clause 34 [P]",
   dispersion_depth_ratio: "0.4 h below the bearing, BS 5628-1 clause 34 [P]",

@@ -1,7 +1,8 @@
 // Mirrors sitecheck/bearing/checks.py: the checks of one bearing. Each returns a check
 // object with its steps and clause (see trace.js).
 
-import { isEc6 } from "./basis.js";
+import { creepLambdaCFor, creepPhiFor, isEc6 } from "./basis.js";
+import { InputError } from "./errors.js";
 import { number, utilisationText } from "./format.js";
 import {
   F_Rdu,
@@ -713,20 +714,37 @@ export function ec6MidHeight(inp, lay, pres, st, basis) {
     );
   } else {
     const eInit = h_ef / basis.e_init_divisor;
-    e_mk = pyMax(basis.e_mk_min_ratio * t, Math.abs(lay.eccentricity_across) / 2 + eInit);
+    const e_m = Math.abs(lay.eccentricity_across) / 2 + eInit;
+    steps.push(
+      makeStep(
+        "Eccentricity from the load at mid-height",
+        "e_m",
+        "|e|/2 + h_ef/450",
+        [
+          ["e", lay.eccentricity_across, "mm"],
+          ["h_ef", h_ef, "mm"],
+        ],
+        e_m,
+        "mm",
+        "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+        "M",
+      ),
+    );
+    const e_k = creepEccentricity(inp.masonry.material, h_ef, t_ef, t, e_m, basis, steps);
+    e_mk = pyMax(basis.e_mk_min_ratio * t, e_m + e_k);
     steps.push(
       makeStep(
         "Eccentricity at mid-height",
         "e_mk",
-        "max(0.05 t, |e|/2 + h_ef/450)",
+        "max(0.05 t, e_m + e_k)",
         [
           ["t", t, "mm"],
-          ["e", lay.eccentricity_across, "mm"],
-          ["h_ef", h_ef, "mm"],
+          ["e_m", e_m, "mm"],
+          ["e_k", e_k, "mm"],
         ],
         e_mk,
         "mm",
-        "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+        "EN 1996-1-1 6.1.2.2 eqn 6.6",
         "M",
       ),
     );
@@ -878,6 +896,58 @@ export function ec6MidHeight(inp, lay, pres, st, basis) {
     notes,
   );
   return [check, chosen, lengths[index]];
+}
+
+// e_k, EN 1996-1-1 6.1.2.2 eqn 6.8 [M]: none up to the unit material's λ_c (checks.py).
+function creepEccentricity(material, h_ef, t_ef, t, e_m, basis, steps) {
+  const lamC = creepLambdaCFor(basis, material);
+  const phiInf = creepPhiFor(basis, material);
+  if (lamC === null || phiInf === null) {
+    throw new InputError(
+      "masonry.material",
+      material,
+      "a unit material for which this code basis has a creep coefficient and λ_c",
+      "not-covered",
+    );
+  }
+  const sr = h_ef / t_ef;
+  if (sr <= lamC) {
+    steps.push(
+      makeStep(
+        "Creep eccentricity, none up to λ_c",
+        "e_k",
+        `0: h_ef/t_ef ≤ λ_c for ${material} units`,
+        [
+          ["h_ef/t_ef", sr, ""],
+          ["λ_c", lamC, ""],
+        ],
+        0.0,
+        "mm",
+        "EN 1996-1-1 6.1.2.2(2)",
+        "M",
+      ),
+    );
+    return 0.0;
+  }
+  const e_k = 0.002 * phiInf * sr * Math.sqrt(t * e_m);
+  steps.push(
+    makeStep(
+      "Creep eccentricity",
+      "e_k",
+      "0.002 φ_∞ (h_ef/t_ef) √(t e_m)",
+      [
+        ["φ_∞", phiInf, ""],
+        ["h_ef/t_ef", sr, ""],
+        ["λ_c", lamC, ""],
+        ["t", t, "mm"],
+      ],
+      e_k,
+      "mm",
+      "EN 1996-1-1 6.1.2.2 eqn 6.8",
+      "M",
+    ),
+  );
+  return e_k;
 }
 
 export function slenderness(inp, basis) {
