@@ -30,6 +30,7 @@ from .bearing import (
     basis_named,
     check_bearing,
 )
+from .bearing.inputs import PADSTONE_POSITIONS
 from .bearing.review import (
     Checklist,
     Measurements,
@@ -65,6 +66,12 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     "padstone_depth": ("padstone depth", "mm"),
     "padstone_concrete": ("concrete class, e.g. C25/30", ""),
     "padstone_f_ck": ("declared concrete strength f_ck, if it is to override the class", "N/mm²"),
+    "padstone_across": (
+        "where a padstone narrower than the wall sits across it: near-face, centred, "
+        "far-face, or its centre's offset from the wall's centre line in mm, + towards the far "
+        "face (empty: flush with the near face under a beam across the wall, centred in line)",
+        "",
+    ),
     "padstone_reinforced": (
         "yes if the padstone is reinforced (empty: no, plain concrete, as site padstones "
         "usually are; plain takes α_cc,pl)",
@@ -122,6 +129,10 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_padstone_depth": ("padstone depth as built", "mm"),
     "asbuilt_padstone_concrete": ("padstone concrete class as built", ""),
     "asbuilt_padstone_reinforced": ("yes or no: is the padstone reinforced", ""),
+    "asbuilt_padstone_across": (
+        "padstone's position across the wall as built, as padstone_across",
+        "",
+    ),
     "asbuilt_wall_thickness": ("wall thickness as built", "mm"),
     "asbuilt_a1": ("a1 as built", "mm"),
     "asbuilt_a2": ("a2 as built", "mm"),
@@ -171,6 +182,8 @@ FIELD_TO_COLUMN = {
     "padstone.concrete": "padstone_concrete",
     "padstone.f_ck": "padstone_f_ck",
     "padstone.reinforced": "padstone_reinforced",
+    "padstone.position_across": "padstone_across",
+    "padstone.offset_across": "padstone_across",
     "wall.thickness": "wall_thickness",
     "wall.height_to_bearing": "height_to_bearing",
     "wall.clear_height": "clear_height",
@@ -209,6 +222,8 @@ _ASBUILT_FIELD_TO_COLUMN = {
     "padstone.depth": "asbuilt_padstone_depth",
     "padstone.concrete": "asbuilt_padstone_concrete",
     "padstone.reinforced": "asbuilt_padstone_reinforced",
+    "padstone.position_across": "asbuilt_padstone_across",
+    "padstone.offset_across": "asbuilt_padstone_across",
     "wall.thickness": "asbuilt_wall_thickness",
     "wall.a1": "asbuilt_a1",
     "wall.a2": "asbuilt_a2",
@@ -611,6 +626,13 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
                 f_ck=_num(c, "padstone_f_ck"),
                 reinforced=_yes_no(c, "padstone_reinforced"),
             ),
+            **dict(
+                zip(
+                    ("position_across", "offset_across"),
+                    _padstone_across(c, "padstone_across"),
+                    strict=True,
+                )
+            ),
         )
     # An empty cell leaves the core's own default, so the defaults live in one place.
     design = BearingInput(
@@ -669,6 +691,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
     measurements = checklist = None
     if any(c.get(k) for k in ASBUILT_COLUMNS):
         present = _yes_no(c, "asbuilt_padstone")
+        built_across = _padstone_across(c, "asbuilt_padstone_across")
         measurements = Measurements(
             bearing_length=_num(c, "asbuilt_bearing_length"),
             flange_width=_num(c, "asbuilt_flange_width"),
@@ -680,6 +703,8 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             padstone_depth=_num(c, "asbuilt_padstone_depth"),
             padstone_concrete=c.get("asbuilt_padstone_concrete") or None,
             padstone_reinforced=_yes_no(c, "asbuilt_padstone_reinforced"),
+            padstone_position=built_across[0],
+            padstone_offset_across=built_across[1],
             wall_thickness=_num(c, "asbuilt_wall_thickness"),
             a1=_num(c, "asbuilt_a1"),
             a2=_num(c, "asbuilt_a2"),
@@ -702,7 +727,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
 
 
 PADSTONE_SIZE = ("padstone_length", "padstone_width", "padstone_depth")
-PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_reinforced")
+PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_reinforced", "padstone_across")
 ASBUILT_PADSTONE_SIZE = (
     "asbuilt_padstone_length",
     "asbuilt_padstone_width",
@@ -739,6 +764,7 @@ def _needed_together(c: dict[str, str]) -> None:
             *ASBUILT_PADSTONE_SIZE,
             "asbuilt_padstone_concrete",
             "asbuilt_padstone_reinforced",
+            "asbuilt_padstone_across",
         )
         if c.get(k)
     ]
@@ -758,6 +784,25 @@ def _needed_together(c: dict[str, str]) -> None:
                 f"required with {said}, as the design has no padstone: a padstone found on "
                 "site is given by its length, width and depth as built",
             )
+
+
+def _padstone_across(c: dict[str, str], column: str) -> tuple[str | None, float | None]:
+    """A padstone_across cell as (position, offset): a named position, or a number, the
+    offset of the padstone's centre from the wall's centre line."""
+    text = c.get(column, "")
+    if not text:
+        return None, None
+    named = text.strip().lower()
+    if named in PADSTONE_POSITIONS and named != "offset":
+        return named, None
+    if _number_text(text) is None:
+        raise _RowProblem(
+            column,
+            text,
+            "near-face, centred, far-face, or the padstone centre's offset from the wall's "
+            "centre line in mm",
+        )
+    return "offset", _num(c, column)
 
 
 def _given(**values):

@@ -418,6 +418,28 @@ def _named_checks() -> list[tuple[str, object, dict]]:
             ec6_uk_na(collar_joint_factor=0.75),
             _bearing(masonry={"collar_joint": True}),
         ),
+        # A padstone narrower than the wall, placed across it each way.
+        *(
+            (
+                f"ec6-padstone-{name}",
+                ec6,
+                _bearing(
+                    beam={"bearing_length": 100.0},
+                    padstone={"width": 140.0, "position_across": position, "offset_across": offset},
+                ),
+            )
+            for name, position, offset in (
+                ("near-face", "near-face", None),
+                ("centred", "centred", None),
+                ("far-face", "far-face", None),
+                ("offset", "offset", 25.5),
+            )
+        ),
+        (
+            "ec6-in-line-padstone-at-far-face",
+            ec6,
+            _bearing(beam=in_line, padstone={"width": 140.0, "position_across": "far-face"}),
+        ),
         ("bs-across-on-padstone", bs, _bearing(masonry=_BRICK)),
         ("bs-brick-20-m4-table-value", bs, _bearing(masonry=_BRICK, padstone=None)),
         (
@@ -546,6 +568,11 @@ def _random_input(rng: random.Random, ec6: bool) -> dict:
         else:
             pad["concrete"] = rng.choice(("C20/25", "C25/30", "C30/37", "C32/40", "C40/50"))
         pad["reinforced"] = rng.random() < 0.3
+        if width < t and rng.random() < 0.4:
+            position = rng.choice(("near-face", "centred", "far-face", "offset"))
+            pad["position_across"] = position
+            if position == "offset":
+                pad["offset_across"] = _offset(rng, (t - width) / 2)
         if orient == ACROSS:
             b_f = min(b_f, length)
             l_b = min(_length(rng, (90.0, 100.0, 125.0, 150.0, 215.0), 50.0, 300.0), width)
@@ -806,6 +833,24 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     add("fck-text", change("padstone", f_ck="thirty"))
     add("reinforced-text", change("padstone", reinforced="yes"))
     add("collar-joint-text", change("masonry", collar_joint="yes"))
+    narrow = {"width": 140.0}
+    add("padstone-position-unknown", change("padstone", **narrow, position_across="middle"))
+    add("padstone-offset-missing", change("padstone", **narrow, position_across="offset"))
+    add(
+        "padstone-offset-not-needed",
+        change("padstone", **narrow, position_across="centred", offset_across=10.0),
+    )
+    add(
+        "padstone-offset-off-wall",
+        _bearing(
+            beam={"bearing_length": 100.0},
+            padstone={**narrow, "position_across": "offset", "offset_across": 40.0},
+        ),
+    )
+    add(
+        "padstone-offset-text",
+        change("padstone", **narrow, position_across="offset", offset_across="left"),
+    )
     # Distances and offsets.
     add("a1-negative", change("wall", a1=-10.0))
     add("a2-text", change("wall", a2="far"))
@@ -883,7 +928,9 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     add("no-k-stone-group-3", change("masonry", material="manufactured stone", group=3))
     add(
         "no-creep-values-for-the-unit",
-        _bearing(wall={"thickness": 100.0}, padstone={"width": 100.0}, beam={"bearing_length": 90.0}),
+        _bearing(
+            wall={"thickness": 100.0}, padstone={"width": 100.0}, beam={"bearing_length": 90.0}
+        ),
         ec6_uk_na(creep_lambda_c={"clay": 27.0}).to_dict(),
     )
     add(

@@ -530,6 +530,29 @@ HAND_CASES: tuple[tuple[str, str, dict, dict, dict | None], ...] = (
     # A collar joint seen in the wall: EC6 takes 0.8 × K (from memory).
     ("ec6-across-pad", "collar-joint-found", {"collar_joint": True}, {}, None),
     ("ec6-across-pad", "no-collar-joint", {"collar_joint": False}, {}, None),
+    # The padstone's position across the wall, as found.
+    (
+        "ec6-across-pad",
+        "padstone-centred",
+        {"padstone_position": "centred", "padstone_width": 140.0},
+        {},
+        None,
+    ),
+    (
+        "ec6-across-pad",
+        "padstone-offset",
+        {"padstone_offset_across": 20.0, "padstone_width": 140.0},
+        {},
+        None,
+    ),
+    (
+        "ec6-across-pad",
+        "padstone-off-the-wall",
+        {"padstone_offset_across": 60.0, "padstone_width": 140.0},
+        {},
+        None,
+    ),
+    ("ec6-across-pad", "padstone-position-unknown", {"padstone_position": "middle"}, {}, None),
     (
         "ec6-across-fck",
         "concrete-with-sizes",
@@ -897,6 +920,50 @@ def _remedy_inputs() -> list[tuple[str, CodeBasis, BearingInput, dict]]:
         lambda d: _loaded(replace(d, padstone=None), 70_000.0),
     )
     add("in-line-overloaded", "ec6-inline-brick", lambda d: _loaded(d, 90_000.0))
+    # An offset typed in at the default position gets the same hint as one left empty.
+    add(
+        "in-line-offset-at-default",
+        "ec6-inline-brick",
+        lambda d: _loaded(
+            replace(
+                d,
+                beam=replace(
+                    d.beam,
+                    offset_along=(d.beam.bearing_length - d.padstone.length) / 2,
+                    offset_across=0.0,
+                ),
+            ),
+            90_000.0,
+        ),
+    )
+    add(
+        "across-offset-at-default",
+        "ec6-across-pad",
+        lambda d: _loaded(
+            replace(
+                d,
+                beam=replace(
+                    d.beam,
+                    offset_along=0.0,
+                    offset_across=(d.beam.bearing_length - d.padstone.width) / 2,
+                ),
+            ),
+            230_000.0,
+        ),
+    )
+    # A beam placed off its default, on a padstone placed off its default.
+    add(
+        "across-off-default-centred-padstone",
+        "ec6-across-pad",
+        lambda d: _loaded(
+            replace(
+                d,
+                beam=replace(d.beam, bearing_length=100.0, offset_across=-10.0),
+                padstone=replace(d.padstone, width=140.0, position_across="centred"),
+            ),
+            120_000.0,
+        ),
+    )
     add("in-line-bare-web-off", "ec6-inline-bare", lambda d: d)
     add("thin-wall", "ec6-across-aac", lambda d: _loaded(d, 45_000.0))
     add("small-pad-overloaded", "ec6-across-small-pad", lambda d: _loaded(d, 60_000.0))

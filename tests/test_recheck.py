@@ -485,3 +485,36 @@ def test_clay_units_take_no_creep_eccentricity_within_the_slenderness_limit():
     }
     assert steps["e_k"].value == 0.0 and "λ_c" in steps["e_k"].formula
     assert steps["e_mk"].value == pytest.approx(7.83333, rel=1e-5)
+
+
+# ---------------------------------------------------------------- a padstone narrower than the wall
+
+
+@pytest.mark.parametrize(
+    "position, offset, y0, e",
+    [
+        (None, None, 0.0, 57.5),
+        ("near-face", None, 0.0, 57.5),
+        ("centred", None, 37.5, 20.0),
+        ("far-face", None, 75.0, 17.5),
+        ("offset", 20.0, 57.5, 0.0),
+    ],
+)
+def test_where_a_narrow_padstone_sits_across_the_wall_moves_the_load(position, offset, y0, e):
+    """A 140 mm padstone in a 215 mm wall under a beam across it bearing 100 mm from the
+    padstone's near edge. By hand: the padstone's near edge y0 from the wall's near face is
+    0 (near face), (215 − 140)/2 = 37.5 (centred), 75 (far face) or 37.5 + 20 (offset +20);
+    the reaction sits at y0 + 50, so e = |y0 + 50 − 107.5| against t/4 = 53.75
+    (EN 1996-1-1 6.1.3, from memory): 57.5 fails at the near face, the others pass."""
+    base = across_on_padstone()
+    inp = replace(
+        base,
+        beam=replace(base.beam, bearing_length=100.0),
+        padstone=replace(
+            base.padstone, width=140.0, position_across=position, offset_across=offset
+        ),
+    )
+    r = check_bearing(inp, ec6_uk_na())
+    assert r.spread.support_y0 == pytest.approx(y0)
+    ecc = r.check("eccentricity")
+    assert ecc.demand == pytest.approx(e) and ecc.passed == (e <= 53.75)

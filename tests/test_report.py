@@ -597,7 +597,14 @@ def every_field(**changes) -> BearingInput:
             gamma_M=2.45,
         ),
         padstone=Padstone(
-            length=440.0, width=215.0, depth=140.0, concrete="C30/37", f_ck=28.5, reinforced=True
+            length=440.0,
+            width=200.0,
+            depth=140.0,
+            concrete="C30/37",
+            f_ck=28.5,
+            reinforced=True,
+            position_across="offset",
+            offset_across=3.25,
         ),
         bearing_type=2,
         e_mk=12.5,

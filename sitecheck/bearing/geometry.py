@@ -71,7 +71,7 @@ def footprint_layout(
         foot_across = min(
             foot_across, width
         )  # an in-line flange may overhang; it bears on the padstone
-        y0_in_wall = 0.0 if across else (t - width) / 2
+        y0_in_wall = padstone_y0(pad, width, t, across)
     else:
         length, width, depth = foot_along, t, 0.0
         y0_in_wall = 0.0
@@ -117,6 +117,21 @@ def footprint_layout(
             y0_in_wall + ry - t / 2,
         ),
     )
+
+
+def padstone_y0(pad: Padstone, width: float, t: float, across: bool) -> float:
+    """The near edge of a padstone ``width`` wide (the part over the wall) from the wall's
+    near face, where its position across the wall puts it."""
+    room = t - width
+    position = pad.position_across or ("near-face" if across else "centred")
+    if position == "near-face":
+        return 0.0
+    if position == "far-face":
+        return room
+    if position == "offset":
+        # Validation allowed half a millimetre of measurement rounding past either face.
+        return min(max(room / 2 + pad.offset_across, 0.0), room)
+    return room / 2
 
 
 class Pressure(NamedTuple):

@@ -12,7 +12,9 @@ Geometry convention (fixed here, used everywhere):
   coordinate: x = 0 is the padstone end from which ``a1`` is measured; y = 0 is the near
   face of the wall.
 * A padstone under a beam across the wall sits flush with the near face; one under a beam
-  in line with the wall is centred on the wall's thickness.
+  in line with the wall is centred on the wall's thickness. ``Padstone.position_across``
+  says otherwise: flush with the near face, centred, flush with the far face, or offset
+  (its centre ``offset_across`` from the wall's centre line, + towards the far face).
 * Offsets are of the footprint's centre from the support's centre. Left out, they follow
   the construction: flush with the near edge in the span direction, centred in the other.
 """
@@ -38,6 +40,7 @@ MATERIALS = (
 MORTARS = ("M2", "M4", "M6", "M12", "thin-layer")
 CONDITIONING = ("air-dried", "water-soaked")
 CONTROL_LEVELS = ("normal", "special")
+PADSTONE_POSITIONS = ("near-face", "centred", "far-face", "offset")
 
 
 @dataclass(frozen=True, slots=True)
@@ -73,6 +76,11 @@ class Padstone:
 
     ``reinforced`` False (the default) is plain concrete, as site padstones usually are,
     precast or cast in place: EN 1992-1-1 section 12 then takes α_cc,pl for f_cd.
+
+    ``position_across``: where a padstone narrower than the wall sits across it, one of
+    :data:`PADSTONE_POSITIONS`; None is as built in (flush with the near face under a beam
+    across the wall, centred under one in line with it). ``offset_across``: with "offset",
+    the padstone's centre from the wall's centre line, mm, + towards the far face.
     """
 
     length: float
@@ -81,6 +89,8 @@ class Padstone:
     concrete: str = "C25/30"
     f_ck: float | None = None
     reinforced: bool = False
+    position_across: str | None = None
+    offset_across: float | None = None
 
 
 @dataclass(frozen=True, slots=True)

@@ -43,6 +43,8 @@ class Measurements:
     padstone_depth: float | None = None
     padstone_concrete: str | None = None
     padstone_reinforced: bool | None = None
+    padstone_position: str | None = None
+    padstone_offset_across: float | None = None
     wall_thickness: float | None = None
     a1: float | None = None
     a2: float | None = None
@@ -154,6 +156,7 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
                 ("depth", m.padstone_depth),
                 ("concrete", m.padstone_concrete or None),
                 ("reinforced", m.padstone_reinforced),
+                *_position_measured(m),
             ),
         )
         if m.padstone_concrete and pad.f_ck is not None:
@@ -162,8 +165,8 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
     else:
         if m.padstone_concrete and pad is not None:
             pad = _rebuilt(pad, (("concrete", m.padstone_concrete), ("f_ck", None)))
-        if m.padstone_reinforced is not None and pad is not None:
-            pad = _measured(pad, (("reinforced", m.padstone_reinforced),))
+        if pad is not None:
+            pad = _measured(pad, (("reinforced", m.padstone_reinforced), *_position_measured(m)))
 
     wall = design.wall
     t_ef = wall.effective_thickness
@@ -202,6 +205,23 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
     return _rebuilt(design, (("beam", beam), ("padstone", pad), ("wall", wall), ("masonry", mas)))
 
 
+# The "offset" position clears nothing; any other clears a designed offset. Written as the
+# (field, value) pairs _measured takes, with a marker for "clear it".
+def _position_measured(m: Measurements) -> tuple:
+    position, offset = m.padstone_position or None, m.padstone_offset_across
+    if position is None and offset is None:
+        return ()
+    if position is None:
+        position = "offset"  # an offset measured says where the padstone is
+    return (
+        ("position_across", position),
+        ("offset_across", offset if position == "offset" else _CLEAR),
+    )
+
+
+_CLEAR = object()
+
+
 def _measured(obj, measured: tuple):
     """``obj`` with each measured (name, value) in its place, None being not measured; or
     ``obj`` itself when every measured value is its own: most measurements confirm the
@@ -211,6 +231,10 @@ def _measured(obj, measured: tuple):
         if value is None:
             continue
         current = getattr(obj, name)
+        if value is _CLEAR:
+            if current is not None:
+                changed.append((name, None))
+            continue
         # Often the very value the design holds: say so without a call.
         if value is not current and _differs(value, current):
             changed.append((name, value))
@@ -274,6 +298,8 @@ _DIMENSIONS = (
 FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
     "padstone_present": "Padstone present",
     "padstone_reinforced": "Padstone reinforced",
+    "padstone_position": "Padstone's position across the wall",
+    "padstone_offset_across": "Padstone offset from the wall's centre line",
     "masonry_group": "Unit group",
     "masonry_material": "Unit material",
     "mortar": "Mortar class",

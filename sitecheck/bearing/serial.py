@@ -99,6 +99,8 @@ _KINDS = {
     "masonry_group": int,
     "bearing_type": int,
     "reinforced": bool,
+    "position_across": str,
+    "padstone_position": str,
     "padstone_reinforced": bool,
     "unit_strength_is_normalised": bool,
     "shell_bedded": bool,

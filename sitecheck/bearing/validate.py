@@ -22,6 +22,7 @@ from .inputs import (
     MEMBERS,
     MORTARS,
     ORIENTATIONS,
+    PADSTONE_POSITIONS,
     REACTION_POSITIONS,
     BearingInput,
 )
@@ -124,6 +125,8 @@ def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
             else _plain(pad.f_ck, 8.0, 90.0)
         )
         and type(pad.reinforced) is bool
+        and pad.position_across is None
+        and pad.offset_across is None
     ):
         return False
     return (
@@ -273,6 +276,31 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
                 "true (reinforced) or false (plain concrete)",
                 "not-a-choice",
             )
+        if pad.position_across is not None and pad.position_across not in PADSTONE_POSITIONS:
+            yield _choice("padstone.position_across", pad.position_across, PADSTONE_POSITIONS)
+        elif pad.position_across == "offset" and pad.offset_across is None:
+            yield InputError(
+                "padstone.offset_across",
+                None,
+                "the padstone's centre from the wall's centre line, mm, for an offset position",
+                "missing",
+            )
+        elif pad.offset_across is not None and pad.position_across != "offset":
+            yield InputError(
+                "padstone.offset_across",
+                pad.offset_across,
+                "empty unless the padstone's position across the wall is offset",
+                "not-needed",
+            )
+        elif pad.offset_across is not None and (
+            not _is_number(pad.offset_across) or abs(pad.offset_across) > 2000
+        ):
+            yield InputError(
+                "padstone.offset_across",
+                pad.offset_across,
+                "an offset within ±2000 mm",
+                "out-of-range",
+            )
 
     if not _whole_in(inp.bearing_type, (1, 2, 3)):
         yield InputError(
@@ -365,6 +393,15 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             return
         sup_len, sup_wid = foot_along, t
 
+    if pad is not None and pad.position_across == "offset" and _is_number(pad.offset_across):
+        room = max(0.0, (t - min(pad.width, t)) / 2)
+        if abs(pad.offset_across) > room + tol:
+            yield InputError(
+                "padstone.offset_across",
+                pad.offset_across,
+                f"within ±{number(room)} mm so the padstone stays on the wall",
+                "off-wall",
+            )
     if beam.offset_along is not None and pad is not None:
         room = (sup_len - foot_along) / 2
         if abs(beam.offset_along) > room + tol:

@@ -164,6 +164,7 @@ class _Model:
     across: bool
     has_pad: bool
     pad_words: str  # the padstone's concrete: class, and plain or reinforced
+    pad_across: str  # where it sits across the wall, when the input says ("" as built in)
     L: float  # support length along
     W: float  # support width across
     d: float  # padstone depth (0: none)
@@ -202,6 +203,15 @@ class _Model:
     changed: frozenset = field(default_factory=frozenset)
 
 
+def _across_words(pad: dict | None) -> str:
+    position = None if pad is None else pad.get("position_across")
+    if position == "offset":
+        return f"offset {number(pad.get('offset_across') or 0.0, plus=True)}"
+    return {"near-face": "at near face", "centred": "centred", "far-face": "at far face"}.get(
+        position or "", ""
+    )
+
+
 def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
     sp = res["spread"]
     beam, wall, mas = inp["beam"], inp["wall"], inp.get("masonry") or {}
@@ -220,6 +230,7 @@ def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
         ec6=str(res.get("basis", "")).startswith("EC6"),
         across=across,
         has_pad=pad is not None,
+        pad_across=_across_words(pad),
         pad_words=""
         if pad is None
         else f"{pad.get('concrete') or ''} {'reinforced' if pad.get('reinforced') else 'plain'}".strip(),
@@ -814,7 +825,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
             max(py1, w1) + 16,
             ptop,
             top,
-            f"padstone {_mm(m.W)} × {_mm(m.d)}",
+            f"padstone {_mm(m.W)} × {_mm(m.d)}" + (f", {m.pad_across}" if m.pad_across else ""),
             role="dim-padstone-width",
             width_mm=m.W,
         )

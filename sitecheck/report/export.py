@@ -74,6 +74,10 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "padstone_depth": pad.get("depth"),
         "padstone_concrete": pad.get("concrete"),
         "padstone_f_ck": pad.get("f_ck"),
+        # A named position, or the offset of an offset one (the import reads either).
+        "padstone_across": pad.get("offset_across")
+        if pad.get("position_across") == "offset"
+        else pad.get("position_across"),
         "padstone_reinforced": pad.get("reinforced"),
         "wall_thickness": wall["thickness"],
         "height_to_bearing": wall["height_to_bearing"],

@@ -398,6 +398,8 @@ _COMPARED = (
     ("padstone_depth", ("padstone", "depth"), "mm"),
     ("padstone_concrete", ("padstone", "concrete"), ""),
     ("padstone_reinforced", ("padstone", "reinforced"), ""),
+    ("padstone_position", ("padstone", "position_across"), ""),
+    ("padstone_offset_across", ("padstone", "offset_across"), "mm"),
     ("wall_thickness", ("wall", "thickness"), "mm"),
     ("a1", ("wall", "a1"), "mm"),
     ("a2", ("wall", "a2"), "mm"),

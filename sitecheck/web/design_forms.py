@@ -185,6 +185,13 @@ REACTION_AT_CHOICES = [
     ("near-third", "Near third (flexible beam end)"),
 ]
 PADSTONE_CHOICES = [("yes", "Concrete padstone"), ("none", "No padstone")]
+PADSTONE_ACROSS_CHOICES = [
+    ("", "As built in: flush with the near face (beam across), centred (in line)"),
+    ("near-face", "Flush with the near face"),
+    ("centred", "Centred on the wall"),
+    ("far-face", "Flush with the far face"),
+    ("offset", "Offset from the wall's centre line, as given below"),
+]
 REINFORCED_CHOICES = [("plain", "Plain concrete (unreinforced)"), ("reinforced", "Reinforced")]
 GROUP_CHOICES = [(str(g), f"Group {g}") for g in (1, 2, 3, 4)]
 CATEGORY_CHOICES = [("I", "Category I"), ("II", "Category II")]
@@ -253,6 +260,16 @@ class BearingForm(FlaskForm):
     )
     padstone_f_ck = number_field(
         "Declared f_ck (N/mm²)", "Empty: from the strength class. Overrides the class if given."
+    )
+    padstone_across = _choice_field(
+        "Where the padstone sits across the wall",
+        PADSTONE_ACROSS_CHOICES,
+        "",
+        "For a padstone narrower than the wall: it moves the load across the wall (t/4).",
+    )
+    padstone_offset_across = number_field(
+        "Padstone offset from the wall's centre line (mm)",
+        "Its centre, + towards the far face. Only for an offset position.",
     )
     padstone_reinforced = _choice_field(
         "Padstone concrete",
@@ -347,6 +364,8 @@ SECTIONS = (
             "padstone_concrete",
             "padstone_f_ck",
             "padstone_reinforced",
+            "padstone_across",
+            "padstone_offset_across",
         ),
     ),
     (
@@ -390,6 +409,8 @@ SECTIONS = (
 FIELD_FOR = FIELD_TO_COLUMN | {
     "padstone.f_ck": "padstone_f_ck",
     "padstone.reinforced": "padstone_reinforced",
+    "padstone.position_across": "padstone_across",
+    "padstone.offset_across": "padstone_offset_across",
     "wall.effective_thickness": "effective_thickness",
     "masonry.unit_strength_is_normalised": "unit_strength_is_normalised",
     "masonry.conditioning": "conditioning",
@@ -446,6 +467,8 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
             f_ck=num("padstone_f_ck", "N/mm²"),
             # Anything but "reinforced" is plain: the cautious reading of an odd value.
             reinforced=form.padstone_reinforced.data == "reinforced",
+            position_across=form.padstone_across.data or None,
+            offset_across=num("padstone_offset_across"),
         )
 
     inp = BearingInput(
@@ -537,6 +560,8 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "padstone_concrete": pad.get("concrete", "C25/30") if pad else "C25/30",
         "padstone_f_ck": plain_number(pad.get("f_ck")) if pad else "",
         "padstone_reinforced": "reinforced" if pad and pad.get("reinforced") else "plain",
+        "padstone_across": (pad.get("position_across") or "") if pad else "",
+        "padstone_offset_across": plain_number(pad.get("offset_across")) if pad else "",
         "wall_thickness": plain_number(wall["thickness"]),
         "height_to_bearing": plain_number(wall["height_to_bearing"]),
         "clear_height": plain_number(wall.get("clear_height")),
@@ -566,6 +591,14 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "beta_s": plain_number(design.get("beta_s")),
     }
     return data
+
+
+def padstone_across_words(pad: dict) -> str:
+    """Where a stored padstone sits across the wall, in words."""
+    position = pad.get("position_across")
+    if position == "offset":
+        return f"centre {plain_number(pad.get('offset_across'))} mm from the wall's centre line"
+    return dict(PADSTONE_ACROSS_CHOICES).get(position or "", str(position)).lower()
 
 
 def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
@@ -621,6 +654,7 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
                         "Reinforcement",
                         "reinforced" if pad.get("reinforced") else "none: plain concrete",
                     ),
+                    ("Across the wall", padstone_across_words(pad)),
                 ],
             )
         )

@@ -42,6 +42,13 @@ PROVISIONAL_MAX = 8000  # a verdict with every review reason code fits easily
 PACKING_MAX_MM = 200.0
 
 YES, NO, NOT_SEEN = "yes", "no", ""
+# The padstone's positions across the wall (the core's PADSTONE_POSITIONS) in words.
+PADSTONE_POSITION_WORDS = {
+    "near-face": "flush with the near face",
+    "centred": "centred on the wall",
+    "far-face": "flush with the far face",
+    "offset": "offset, as measured below",
+}
 TRI_STATE = (SelectChoice(YES, "yes"), SelectChoice(NO, "no"), SelectChoice(NOT_SEEN, "not seen"))
 
 
@@ -99,6 +106,22 @@ SPECS: dict[str, FieldSpec] = {
             "tri",
             "Plain concrete unless the padstone or its delivery note shows reinforcement.",
             ("padstone", "reinforced"),
+        ),
+        FieldSpec(
+            "padstone_position",
+            "Padstone's position across the wall",
+            "select",
+            "For a padstone narrower than the wall.",
+            ("padstone", "position_across"),
+        ),
+        FieldSpec(
+            "padstone_offset_across",
+            "Padstone offset from the wall's centre line",
+            "number",
+            "mm",
+            "Its centre from the middle of the wall, + towards the far face: for an offset "
+            "position.",
+            ("padstone", "offset_across"),
         ),
         FieldSpec("wall_thickness", "Wall thickness", "number", "mm", design=("wall", "thickness")),
         FieldSpec(
@@ -160,6 +183,8 @@ MEASUREMENT_FIELDS = (
     "padstone_depth",
     "padstone_concrete",
     "padstone_reinforced",
+    "padstone_position",
+    "padstone_offset_across",
     "wall_thickness",
     "a1",
     "a2",
@@ -182,6 +207,8 @@ GROUPS = (
             "padstone_depth",
             "padstone_concrete",
             "padstone_reinforced",
+            "padstone_position",
+            "padstone_offset_across",
         ),
     ),
     ("Wall", ("wall_thickness", "a1", "a2")),
@@ -202,6 +229,8 @@ CORE_PATHS = (
         "padstone.concrete": "padstone_concrete",
         "padstone.f_ck": "padstone_concrete",
         "padstone.reinforced": "padstone_reinforced",
+        "padstone.position_across": "padstone_position",
+        "padstone.offset_across": "padstone_offset_across",
         "wall.thickness": "wall_thickness",
         # t_ef follows a measured wall thickness in proportion, so its complaint is about t.
         "wall.effective_thickness": "wall_thickness",
@@ -305,6 +334,15 @@ class RecordForm(FlaskForm):
     padstone_depth = _number("padstone_depth", "140")
     padstone_concrete = StringField(SPECS["padstone_concrete"].label)
     padstone_reinforced = TriStateField(SPECS["padstone_reinforced"].label)
+    padstone_position = ChoiceField(
+        SPECS["padstone_position"].label,
+        choices=[
+            SelectChoice("", "not checked"),
+            *(SelectChoice(v, w) for v, w in PADSTONE_POSITION_WORDS.items()),
+        ],
+        default="",
+    )
+    padstone_offset_across = _number("padstone_offset_across", "0")
     wall_thickness = _number("wall_thickness", "215")
     a1 = _number("a1", "900")
     a2 = _number("a2", "900")
@@ -514,6 +552,11 @@ def designed_text(design_input: dict, name: str) -> str:
             return "wall runs on"
         if name == "padstone_reinforced":
             return "no (plain concrete)"
+        if name == "padstone_position":
+            across = (design_input.get("beam") or {}).get("orientation", "across") == "across"
+            return PADSTONE_POSITION_WORDS["near-face" if across else "centred"]
+        if name == "padstone_offset_across":
+            return "none"
         if name == "collar_joint":
             return "inferred from the wall's thickness"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
@@ -532,6 +575,8 @@ def value_text(name: str, value) -> str:
         return "yes" if value else "no"
     if name == "masonry_group":
         return f"Group {value}"
+    if name == "padstone_position":
+        return PADSTONE_POSITION_WORDS.get(value, str(value))
     if isinstance(value, int | float):
         return quantity(value, spec.unit)
     return str(value)

@@ -143,11 +143,11 @@ def site_offline(site_id):
 
 
 def _choices() -> dict[str, list[tuple[str, str]]]:
-    from sitecheck.web.record_form import RecordForm
+    from sitecheck.web.record_form import SPECS, RecordForm
 
     form_class = RecordForm
     out = {}
-    for name in ("masonry_material", "masonry_group", "mortar"):
+    for name in (n for n, spec in SPECS.items() if spec.kind == "select"):
         field = getattr(form_class, name)
         out[name] = [(c.value, c.label) for c in field.kwargs["choices"]]
     return out

@@ -15,7 +15,7 @@ import { remedy } from "./bearing/remedy.js";
 export const MEASUREMENT_FIELDS = [
   "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
   "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete",
-  "padstone_reinforced", "wall_thickness",
+  "padstone_reinforced", "padstone_position", "padstone_offset_across", "wall_thickness",
   "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar", "collar_joint",
 ];
 export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
@@ -23,7 +23,7 @@ const TRI_STATE = new Set([
   "padstone_present", "padstone_reinforced", "collar_joint", "bedded", "cracks", "cut_units",
   "level",
 ]);
-const TEXT = new Set(["padstone_concrete", "masonry_material", "mortar"]);
+const TEXT = new Set(["padstone_concrete", "padstone_position", "masonry_material", "mortar"]);
 // The server's rule for typed numbers (sitecheck/web/record_form.py NumberField): spaces
 // dropped, a lone decimal comma read as a point, plain decimal digits only.
 const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;

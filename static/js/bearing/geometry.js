@@ -22,6 +22,17 @@ export function layout(inp) {
 
 // The layout of `beam` on `pad` (or on the bare wall of thickness t) with the position and
 // reaction given here rather than the beam's own.
+// geometry.py's padstone_y0: the near edge of the part of the padstone over the wall, from
+// the wall's near face, where its position across the wall puts it.
+export function padstoneY0(pad, width, t, across) {
+  const room = t - width;
+  const position = pad.position_across || (across ? "near-face" : "centred");
+  if (position === "near-face") return 0.0;
+  if (position === "far-face") return room;
+  if (position === "offset") return pyMin(pyMax(room / 2 + pad.offset_across, 0.0), room);
+  return room / 2;
+}
+
 export function footprintLayout(beam, pad, t, offsetAlong, offsetAcross, reactionAt) {
   const across = beam.orientation === ACROSS;
   const footAlong = across ? beam.flange_width : beam.bearing_length;
@@ -37,7 +48,7 @@ export function footprintLayout(beam, pad, t, offsetAlong, offsetAcross, reactio
     width = pyMin(pad.width, t);
     depth = pad.depth;
     footAcross = pyMin(footAcross, width); // an in-line flange may overhang the padstone
-    y0InWall = across ? 0.0 : (t - width) / 2;
+    y0InWall = padstoneY0(pad, width, t, across);
   } else {
     length = footAlong;
     width = t;

@@ -28,6 +28,8 @@ const NEW_PADSTONE = {
   concrete: "C25/30",
   f_ck: null,
   reinforced: false,
+  position_across: null,
+  offset_across: null,
 };
 
 function reason(code, severity, sentence, values = {}) {
@@ -58,6 +60,7 @@ export function asBuiltInput(design, m) {
       ["depth", m.padstone_depth],
       ["concrete", m.padstone_concrete || null],
       ["reinforced", m.padstone_reinforced],
+      ...positionMeasured(m),
     ]);
     if (m.padstone_concrete && pad.f_ck != null) {
       // The class seen on site replaces a declared f_ck.
@@ -67,8 +70,8 @@ export function asBuiltInput(design, m) {
     if (m.padstone_concrete && pad !== null) {
       pad = { ...pad, concrete: m.padstone_concrete, f_ck: null };
     }
-    if (m.padstone_reinforced != null && pad !== null) {
-      pad = measured(pad, [["reinforced", m.padstone_reinforced]]);
+    if (pad !== null) {
+      pad = measured(pad, [["reinforced", m.padstone_reinforced], ...positionMeasured(m)]);
     }
   }
 
@@ -104,9 +107,28 @@ function measured(part, values) {
   const out = { ...part };
   for (const [name, value] of values) {
     if (value === null || value === undefined) continue;
+    if (value === CLEAR) {
+      if (part[name] != null) out[name] = null;
+      continue;
+    }
     if (!Object.is(value, part[name])) out[name] = value;
   }
   return out;
+}
+
+// review.py's _position_measured: the padstone's position across the wall as measured; a
+// position other than "offset" clears a designed offset.
+const CLEAR = Symbol("clear");
+
+function positionMeasured(m) {
+  let position = m.padstone_position || null;
+  const offset = m.padstone_offset_across ?? null;
+  if (position === null && offset === null) return [];
+  if (position === null) position = "offset";
+  return [
+    ["position_across", position],
+    ["offset_across", position === "offset" ? offset : CLEAR],
+  ];
 }
 
 export function missingMeasurements(design, m, s) {
@@ -141,6 +163,8 @@ export const FIELD_LABELS = {
   ...Object.fromEntries(DIMENSIONS.map(([name, label]) => [name, label])),
   padstone_present: "Padstone present",
   padstone_reinforced: "Padstone reinforced",
+  padstone_position: "Padstone's position across the wall",
+  padstone_offset_across: "Padstone offset from the wall's centre line",
   masonry_group: "Unit group",
   masonry_material: "Unit material",
   mortar: "Mortar class",

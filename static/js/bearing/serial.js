@@ -23,6 +23,8 @@ export const MEASUREMENT_FIELDS = [
   "padstone_depth",
   "padstone_concrete",
   "padstone_reinforced",
+  "padstone_position",
+  "padstone_offset_across",
   "wall_thickness",
   "a1",
   "a2",
@@ -37,6 +39,7 @@ export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "le
 // Field → type, where not a float (serial.py's _KINDS, the names a record can hold).
 const KINDS = {
   padstone_concrete: "str",
+  padstone_position: "str",
   masonry_material: "str",
   mortar: "str",
   masonry_group: "int",

@@ -17,6 +17,7 @@ import {
   MEMBERS,
   MORTARS,
   ORIENTATIONS,
+  PADSTONE_POSITIONS,
   REACTION_POSITIONS,
 } from "./inputs.js";
 
@@ -165,6 +166,32 @@ export function* inputErrorsIter(inp, basis) {
         "not-a-choice",
       );
     }
+    const position = pad.position_across ?? null;
+    const offset = pad.offset_across ?? null;
+    if (position !== null && !PADSTONE_POSITIONS.includes(position)) {
+      yield choice("padstone.position_across", position, PADSTONE_POSITIONS);
+    } else if (position === "offset" && offset === null) {
+      yield new InputError(
+        "padstone.offset_across",
+        null,
+        "the padstone's centre from the wall's centre line, mm, for an offset position",
+        "missing",
+      );
+    } else if (offset !== null && position !== "offset") {
+      yield new InputError(
+        "padstone.offset_across",
+        offset,
+        "empty unless the padstone's position across the wall is offset",
+        "not-needed",
+      );
+    } else if (offset !== null && (!isNumber(offset) || Math.abs(offset) > 2000)) {
+      yield new InputError(
+        "padstone.offset_across",
+        offset,
+        "an offset within ±2000 mm",
+        "out-of-range",
+      );
+    }
   }
 
   if (![1, 2, 3].includes(inp.bearing_type)) {
@@ -284,6 +311,17 @@ function* geometryErrors(inp) {
     supWid = t;
   }
 
+  if (pad !== null && pad.position_across === "offset" && isNumber(pad.offset_across)) {
+    const room = pyMax(0.0, (t - pyMin(pad.width, t)) / 2);
+    if (Math.abs(pad.offset_across) > room + tol) {
+      yield new InputError(
+        "padstone.offset_across",
+        pad.offset_across,
+        `within ±${number(room)} mm so the padstone stays on the wall`,
+        "off-wall",
+      );
+    }
+  }
   if (beam.offset_along != null && pad !== null) {
     const room = (supLen - footAlong) / 2;
     if (Math.abs(beam.offset_along) > room + tol) {
@@ -541,4 +579,9 @@ function choice(name, value, choices) {
 // Python's min(a, b) for numbers: the first unless the second is strictly less.
 function pyMin(a, b) {
   return b < a ? b : a;
+}
+
+// Python's max(a, b) for numbers: the first unless the second is strictly greater.
+function pyMax(a, b) {
+  return b > a ? b : a;
 }
