@@ -518,3 +518,19 @@ def test_where_a_narrow_padstone_sits_across_the_wall_moves_the_load(position, o
     assert r.spread.support_y0 == pytest.approx(y0)
     ecc = r.check("eccentricity")
     assert ecc.demand == pytest.approx(e) and ecc.passed == (e <= 53.75)
+
+
+def test_bs5628_traces_write_f_k_over_gamma_m_and_cite_one_edition():
+    """BS 5628-1 has no f_d or γ_M: its design strength is f_k/γ_m, γ_m from Table 4 of the
+    1992 edition (the edition whose tables are coded here). No step of a BS 5628 re-check
+    may say f_d or γ_M, and every BS clause names that edition."""
+    r = check_bearing(brick_in_line_end(), bs5628())
+    steps = [*r.strengths.steps, *(s for c in r.checks for s in c.steps)]
+    written = " ".join(
+        f"{s.symbol} {s.formula} " + " ".join(str(i[0]) for i in s.inputs) for s in steps
+    )
+    assert "f_d" not in written and "γ_M" not in written
+    assert any(s.symbol == "f_k/γ_m" for s in r.strengths.steps)
+    clauses = {s.clause for s in steps} | {c.clause for c in r.checks}
+    bs = {c for c in clauses if "BS 5628" in c}
+    assert bs and all(c.startswith("BS 5628-1:1992 ") for c in bs), bs

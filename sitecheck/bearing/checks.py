@@ -914,7 +914,7 @@ def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
     h_ef = wall.effective_height or h
     t_ef = wall.effective_thickness or wall.thickness
     sr = h_ef / t_ef
-    clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1 clause 28"
+    clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1:1992 clause 28"
     step = make_step(
         "Slenderness ratio",
         "h_ef/t_ef",
@@ -951,7 +951,7 @@ def bs_masonry_bearing(
     title: str = "Local bearing on the masonry",
     kind: str = STRENGTH,
 ) -> Check:
-    """BS 5628-1 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing
+    """BS 5628-1:1992 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing
     types 1, 2 and 3 [P]. The type is the engineer's choice; the peak of the linear
     pressure is compared (for type 3 that is the elastic distribution the clause asks for;
     for types 1 and 2 it is the cautious reading where the load is off-centre [ours])."""
@@ -966,12 +966,12 @@ def bs_masonry_bearing(
             (("k", k, ""), ("f_k", st.f_k, "N/mm²"), ("γ_m", st.gamma_M, "")),
             cap,
             "N/mm²",
-            "BS 5628-1 clause 34",
+            "BS 5628-1:1992 clause 34",
             "P",
         )
     )
     return make_check(
-        code, title, kind, pres.sigma_max, cap, "N/mm²", "BS 5628-1 clause 34", "P", steps
+        code, title, kind, pres.sigma_max, cap, "N/mm²", "BS 5628-1:1992 clause 34", "P", steps
     )
 
 
@@ -979,7 +979,7 @@ def bs_dispersion(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
 ) -> tuple[Check, Reading, float]:
     """At 0.4 h below the bearing, the load dispersed at 45° from the bearing's edges plus
-    the other load ≤ β · f_k/γ_m per length of wall, BS 5628-1 clause 34 [P]; β from
+    the other load ≤ β · f_k/γ_m per length of wall, BS 5628-1:1992 clause 34 [P]; β from
     Annex B, β = 1.1(1 − 2 e_m/t), e_m = max(e_x, 0.6 e_x + e_a),
     e_a = t[(1/2400)(h_ef/t_ef)² − 0.015] [M]. Under a triangle of pressure the dispersion
     starts from both readings of the loaded length and the shorter (the higher utilisation)
@@ -999,7 +999,7 @@ def bs_dispersion(
             (("h", h, "mm"),),
             depth,
             "mm",
-            "BS 5628-1 clause 34",
+            "BS 5628-1:1992 clause 34",
             "P",
         )
     ]
@@ -1015,7 +1015,7 @@ def bs_dispersion(
                 (("loaded length", r.length, "mm"), ("a1", r.e1, "mm"), ("a2", r.e2, "mm")),
                 l_d,
                 "mm",
-                "BS 5628-1 clause 34",
+                "BS 5628-1:1992 clause 34",
                 "P",
             )
         )
@@ -1029,7 +1029,7 @@ def bs_dispersion(
                 (),
                 beta,
                 "",
-                "BS 5628-1 Table 7",
+                "BS 5628-1:1992 Table 7",
                 "ours",
             )
         )
@@ -1047,7 +1047,7 @@ def bs_dispersion(
                 (("t", t, "mm"), ("e", lay.eccentricity_across, "mm")),
                 e_x,
                 "mm",
-                "BS 5628-1 Annex B",
+                "BS 5628-1:1992 Appendix B",
                 "M",
             )
         )
@@ -1059,7 +1059,7 @@ def bs_dispersion(
                 (("e_m", e_m, "mm"), ("e_a", e_a, "mm"), ("h_ef/t_ef", sr, "")),
                 beta,
                 "",
-                "BS 5628-1 Annex B",
+                "BS 5628-1:1992 Appendix B",
                 "M",
             )
         )
@@ -1076,7 +1076,7 @@ def bs_dispersion(
                 (("N", n, "N"), ("l_d", lengths[r], "mm"), ("q", q, "N/mm")),
                 demand,
                 "N/mm",
-                "BS 5628-1 clause 34",
+                "BS 5628-1:1992 clause 34",
                 "P",
             )
         )
@@ -1092,7 +1092,7 @@ def bs_dispersion(
                 tuple((r.name, d, "N/mm") for d, r in worked),
                 demand,
                 "N/mm",
-                "BS 5628-1 clause 34",
+                "BS 5628-1:1992 clause 34",
                 "ours",
             )
         )
@@ -1111,7 +1111,7 @@ def bs_dispersion(
             (("β", beta, ""), ("t", t, "mm"), ("f_k", st.f_k, "N/mm²"), ("γ_m", st.gamma_M, "")),
             capacity,
             "N/mm",
-            "BS 5628-1 clause 32",
+            "BS 5628-1:1992 clause 32",
             "P",
         )
     )
@@ -1122,7 +1122,7 @@ def bs_dispersion(
         demand,
         capacity,
         "N/mm",
-        "BS 5628-1 clause 34",
+        "BS 5628-1:1992 clause 34",
         "P",
         steps,
         notes,

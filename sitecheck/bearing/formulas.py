@@ -74,7 +74,7 @@ def phi_m(h_ef: float, t_ef: float, e_mk: float, t: float, k_E: float = 1000.0) 
 
 
 def beta_bs5628(h_ef: float, t_ef: float, e_x: float, t: float) -> float:
-    """Capacity reduction factor for slenderness and eccentricity, BS 5628-1 Annex B [M]:
+    """Capacity reduction factor for slenderness and eccentricity, BS 5628-1:1992 Appendix B [M]:
     e_a = t[(1/2400)(h_ef/t_ef)² − 0.015], e_m = max(e_x, 0.6 e_x + e_a),
     β = 1.1 (1 − 2 e_m/t), not above 1.0.
     """

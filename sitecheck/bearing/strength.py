@@ -159,7 +159,7 @@ def masonry_strengths(
         steps.append(
             Step(
                 "Partial factor for masonry, as given",
-                "γ_M",
+                "γ_M" if ec6 else "γ_m",
                 "declared",
                 (),
                 gm,
@@ -213,18 +213,33 @@ def masonry_strengths(
         )
 
     fd = f_d(fk, gm)
-    steps.append(
-        Step(
-            "Design compressive strength of the masonry",
-            "f_d",
-            "f_k / γ_M",
-            (("f_k", fk, "N/mm²"), ("γ_M", gm, "")),
-            fd,
-            "N/mm²",
-            "EN 1996-1-1 2.4.1" if ec6 else "BS 5628-1 clause 27",
-            "S",
+    if ec6:
+        steps.append(
+            Step(
+                "Design compressive strength of the masonry",
+                "f_d",
+                "f_k / γ_M",
+                (("f_k", fk, "N/mm²"), ("γ_M", gm, "")),
+                fd,
+                "N/mm²",
+                "EN 1996-1-1 2.4.1",
+                "S",
+            )
         )
-    )
+    else:
+        # BS 5628-1 has no f_d: its design strength is written f_k/γ_m throughout.
+        steps.append(
+            Step(
+                "Design strength of the masonry",
+                "f_k/γ_m",
+                "f_k / γ_m",
+                (("f_k", fk, "N/mm²"), ("γ_m", gm, "")),
+                fd,
+                "N/mm²",
+                "BS 5628-1:1992 clause 27",
+                "P",
+            )
+        )
 
     fcd = None
     if pad is not None:

@@ -481,28 +481,28 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
             yield InputError(
                 "masonry.mortar",
                 mas.mortar,
-                "M2, M4, M6 or M12 for BS 5628-1 Table 2(a); give f_k for thin-layer mortar",
+                "M2, M4, M6 or M12 for BS 5628-1:1992 Table 2(a); give f_k for thin-layer mortar",
                 "not-covered",
             )
         if mas.unit_strength_is_normalised:
             yield InputError(
                 "masonry.unit_strength_is_normalised",
                 True,
-                "the unit's mean strength for BS 5628-1 Table 2(a), not a normalised one",
+                "the unit's mean strength for BS 5628-1:1992 Table 2(a), not a normalised one",
                 "not-covered",
             )
         if mas.unit_height is not None and mas.unit_height > 112.5:
             yield InputError(
                 "masonry.unit_height",
                 mas.unit_height,
-                "a brick (at most 112.5 mm high) for BS 5628-1 Table 2(a); for blocks give f_k",
+                "a brick (at most 112.5 mm high) for BS 5628-1:1992 Table 2(a); for blocks give f_k",
                 "not-covered",
             )
         if not 5.0 <= mas.unit_strength <= 100.0:
             yield InputError(
                 "masonry.unit_strength",
                 mas.unit_strength,
-                "5 to 100 N/mm², the range of BS 5628-1 Table 2(a)",
+                "5 to 100 N/mm², the range of BS 5628-1:1992 Table 2(a)",
                 "not-covered",
             )
         return

@@ -956,7 +956,7 @@ export function slenderness(inp, basis) {
   const h_ef = wall.effective_height || h;
   const t_ef = wall.effective_thickness || wall.thickness;
   const sr = h_ef / t_ef;
-  const clause = isEc6(basis) ? "EN 1996-1-1 5.5.1.4" : "BS 5628-1 clause 28";
+  const clause = isEc6(basis) ? "EN 1996-1-1 5.5.1.4" : "BS 5628-1:1992 clause 28";
   const step = makeStep(
     "Slenderness ratio",
     "h_ef/t_ef",
@@ -985,7 +985,7 @@ export function slenderness(inp, basis) {
 
 // ---------------------------------------------------------------- BS 5628-1
 
-// BS 5628-1 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing types
+// BS 5628-1:1992 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing types
 // 1, 2 and 3 [P]; the peak of the linear pressure is compared.
 export function bsMasonryBearing(
   inp,
@@ -1012,7 +1012,7 @@ export function bsMasonryBearing(
       ],
       cap,
       "N/mm²",
-      "BS 5628-1 clause 34",
+      "BS 5628-1:1992 clause 34",
       "P",
     ),
   );
@@ -1023,14 +1023,14 @@ export function bsMasonryBearing(
     pres.sigma_max,
     cap,
     "N/mm²",
-    "BS 5628-1 clause 34",
+    "BS 5628-1:1992 clause 34",
     "P",
     steps,
   );
 }
 
 // At 0.4 h below the bearing, the load dispersed at 45° plus the other load ≤ β · f_k/γ_m
-// per length of wall, BS 5628-1 clause 34 [P]; β from Annex B [M]. Returns [check, l_d].
+// per length of wall, BS 5628-1:1992 clause 34 [P]; β from Annex B [M]. Returns [check, l_d].
 export function bsDispersion(inp, lay, pres, st, basis) {
   const wall = inp.wall;
   const t = wall.thickness;
@@ -1047,7 +1047,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
       [["h", h, "mm"]],
       depth,
       "mm",
-      "BS 5628-1 clause 34",
+      "BS 5628-1:1992 clause 34",
       "P",
     ),
   ];
@@ -1066,7 +1066,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         ],
         lengths[i],
         "mm",
-        "BS 5628-1 clause 34",
+        "BS 5628-1:1992 clause 34",
         "P",
       ),
     );
@@ -1082,7 +1082,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         [],
         beta,
         "",
-        "BS 5628-1 Table 7",
+        "BS 5628-1:1992 Table 7",
         "ours",
       ),
     );
@@ -1103,7 +1103,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         ],
         e_x,
         "mm",
-        "BS 5628-1 Annex B",
+        "BS 5628-1:1992 Appendix B",
         "M",
       ),
     );
@@ -1119,7 +1119,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         ],
         beta,
         "",
-        "BS 5628-1 Annex B",
+        "BS 5628-1:1992 Appendix B",
         "M",
       ),
     );
@@ -1142,7 +1142,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         ],
         d,
         "N/mm",
-        "BS 5628-1 clause 34",
+        "BS 5628-1:1992 clause 34",
         "P",
       ),
     );
@@ -1159,7 +1159,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         worked.map(([d, r]) => [r.name, d, "N/mm"]),
         demand,
         "N/mm",
-        "BS 5628-1 clause 34",
+        "BS 5628-1:1992 clause 34",
         "ours",
       ),
     );
@@ -1184,7 +1184,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
       ],
       capacity,
       "N/mm",
-      "BS 5628-1 clause 32",
+      "BS 5628-1:1992 clause 32",
       "P",
     ),
   );
@@ -1195,7 +1195,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
     demand,
     capacity,
     "N/mm",
-    "BS 5628-1 clause 34",
+    "BS 5628-1:1992 clause 34",
     "P",
     steps,
     notes,

@@ -66,7 +66,7 @@ export function phiM(h_ef, t_ef, e_mk, t, k_E = 1000.0) {
   return pyMax(0.0, a1 * Math.exp((-u * u) / 2));
 }
 
-// Capacity reduction factor for slenderness and eccentricity, BS 5628-1 Annex B [M].
+// Capacity reduction factor for slenderness and eccentricity, BS 5628-1:1992 Appendix B [M].
 export function betaBs5628(h_ef, t_ef, e_x, t) {
   const sr = h_ef / t_ef;
   const e_a = t * ((sr * sr) / 2400 - 0.015);

@@ -169,7 +169,7 @@ export function masonryStrengths(mas, pad, basis, t = null) {
     steps.push(
       makeStep(
         "Partial factor for masonry, as given",
-        "γ_M",
+        ec6 ? "γ_M" : "γ_m",
         "declared",
         [],
         gm,
@@ -226,21 +226,40 @@ export function masonryStrengths(mas, pad, basis, t = null) {
   }
 
   const fd = fD(fk, gm);
-  steps.push(
-    makeStep(
-      "Design compressive strength of the masonry",
-      "f_d",
-      "f_k / γ_M",
-      [
-        ["f_k", fk, "N/mm²"],
-        ["γ_M", gm, ""],
-      ],
-      fd,
-      "N/mm²",
-      ec6 ? "EN 1996-1-1 2.4.1" : "BS 5628-1 clause 27",
-      "S",
-    ),
-  );
+  if (ec6) {
+    steps.push(
+      makeStep(
+        "Design compressive strength of the masonry",
+        "f_d",
+        "f_k / γ_M",
+        [
+          ["f_k", fk, "N/mm²"],
+          ["γ_M", gm, ""],
+        ],
+        fd,
+        "N/mm²",
+        "EN 1996-1-1 2.4.1",
+        "S",
+      ),
+    );
+  } else {
+    // BS 5628-1 has no f_d: its design strength is written f_k/γ_m throughout.
+    steps.push(
+      makeStep(
+        "Design strength of the masonry",
+        "f_k/γ_m",
+        "f_k / γ_m",
+        [
+          ["f_k", fk, "N/mm²"],
+          ["γ_m", gm, ""],
+        ],
+        fd,
+        "N/mm²",
+        "BS 5628-1:1992 clause 27",
+        "P",
+      ),
+    );
+  }
 
   let fcd = null;
   if (pad != null) {

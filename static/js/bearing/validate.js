@@ -428,7 +428,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.mortar",
         mas.mortar,
-        "M2, M4, M6 or M12 for BS 5628-1 Table 2(a); give f_k for thin-layer mortar",
+        "M2, M4, M6 or M12 for BS 5628-1:1992 Table 2(a); give f_k for thin-layer mortar",
         "not-covered",
       );
     }
@@ -436,7 +436,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.unit_strength_is_normalised",
         true,
-        "the unit's mean strength for BS 5628-1 Table 2(a), not a normalised one",
+        "the unit's mean strength for BS 5628-1:1992 Table 2(a), not a normalised one",
         "not-covered",
       );
     }
@@ -444,7 +444,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.unit_height",
         mas.unit_height,
-        "a brick (at most 112.5 mm high) for BS 5628-1 Table 2(a); for blocks give f_k",
+        "a brick (at most 112.5 mm high) for BS 5628-1:1992 Table 2(a); for blocks give f_k",
         "not-covered",
       );
     }
@@ -452,7 +452,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.unit_strength",
         mas.unit_strength,
-        "5 to 100 N/mm², the range of BS 5628-1 Table 2(a)",
+        "5 to 100 N/mm², the range of BS 5628-1:1992 Table 2(a)",
         "not-covered",
       );
     }
