@@ -78,7 +78,11 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
         "",
     ),
     "wall_thickness": ("wall (leaf) thickness t", "mm"),
-    "height_to_bearing": ("height from the wall's base to the bearing h_c", "mm"),
+    "height_to_bearing": (
+        "height h_c from the wall's base to the padstone's underside (with no padstone, the "
+        "beam's underside); not the level the beam sits at on the padstone",
+        "mm",
+    ),
     "clear_height": ("clear height h (empty: h_c)", "mm"),
     "effective_height": ("effective height h_ef (empty: h)", "mm"),
     "effective_thickness": ("effective thickness t_ef (empty: t)", "mm"),

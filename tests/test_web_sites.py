@@ -10,6 +10,7 @@ import csv
 import io
 import re
 import uuid
+from html import unescape
 
 import pytest
 from flask import url_for
@@ -934,3 +935,25 @@ def test_the_last_engineer_cannot_be_demoted_or_removed(client_as, db, site, peo
     assert store.role_of(db, user_id=me, site_id=site["id"]) == "viewer"
     r = post(client_as("inspector"), f"{s}/{people['inspector'].id}/remove")
     assert r.status_code == 409  # the only engineer again
+
+
+def test_the_height_is_asked_to_the_padstones_underside_with_a_drawing_and_said_in_the_trace(
+    client_as, db, site
+):
+    """Typing the beam's seating level instead of the padstone's underside overstates h_c:
+    the form names the height, explains it, and draws it; the calculation repeats it."""
+    c = client_as("engineer")
+    html = c.get(f"/sites/{site['id']}/bearings/new").data.decode()
+    field = unescape(re.search(r"<label for=\"height_to_bearing\">([^<]*)</label>", html).group(1))
+    assert field == "Height from the wall's base to the padstone's underside h_c (mm)"
+    hint = re.search(r'<figure class="field height-hint".*?</figure>', html, flags=re.S).group(0)
+    assert "<svg" in hint and "not to where the beam sits on the padstone" in unescape(hint)
+    assert 'style="' not in hint  # the CSP allows presentation attributes only
+    r = post(c, f"/sites/{site['id']}/bearings/new", GOOD | {"reference": "H-1"})
+    assert r.status_code == 302, all_error_fields(r.data)
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="H-1")
+    assert stored["design_result"]["notes"][0] == (
+        "h_c = 2,475 mm, from the wall's base to the padstone's underside (not to where the "
+        "beam sits on the padstone)."
+    )
+    assert "padstone's underside" in DESIGN_COLUMNS["height_to_bearing"][0]

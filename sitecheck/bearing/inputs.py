@@ -97,7 +97,9 @@ class Padstone:
 class Wall:
     """The wall under the bearing, mm.
 
-    height_to_bearing: h_c, from the wall's base to the level of the bearing.
+    height_to_bearing: h_c, from the wall's base to the padstone's underside (with no
+    padstone, to the beam's underside): where the load enters the masonry, not the level
+    the beam sits at on the padstone.
     clear_height: h (defaults to h_c); effective_height: h_ef (defaults to h);
     effective_thickness: t_ef (defaults to t).
     a1: along the wall from the support's x = 0 end to the wall's end or an opening edge.

@@ -186,7 +186,7 @@ REACTION_AT_CHOICES = [
 ]
 PADSTONE_CHOICES = [("yes", "Concrete padstone"), ("none", "No padstone")]
 PADSTONE_ACROSS_CHOICES = [
-    ("", "As built in: flush with the near face (beam across), centred (in line)"),
+    ("", "The usual place (see below)"),
     ("near-face", "Flush with the near face"),
     ("centred", "Centred on the wall"),
     ("far-face", "Flush with the far face"),
@@ -198,7 +198,7 @@ CATEGORY_CHOICES = [("I", "Category I"), ("II", "Category II")]
 EXECUTION_CHOICES = [("2", "Execution class 2"), ("1", "Execution class 1")]
 BEARING_TYPE_CHOICES = [(str(t), f"Type {t}") for t in (1, 2, 3)]
 COLLAR_JOINT_CHOICES = [
-    ("", "Inferred from the wall's thickness and the unit's width"),
+    ("", "Inferred (see below)"),
     ("yes", "Yes: a mortar joint parallel to the face"),
     ("no", "No"),
 ]
@@ -265,7 +265,8 @@ class BearingForm(FlaskForm):
         "Where the padstone sits across the wall",
         PADSTONE_ACROSS_CHOICES,
         "",
-        "For a padstone narrower than the wall: it moves the load across the wall (t/4).",
+        "For a padstone narrower than the wall. Usual: flush with the near face under a beam "
+        "across the wall, centred under one in line. It moves the load across the wall (t/4).",
     )
     padstone_offset_across = number_field(
         "Padstone offset from the wall's centre line (mm)",
@@ -281,7 +282,10 @@ class BearingForm(FlaskForm):
 
     # The wall
     wall_thickness = number_field("Wall (leaf) thickness t (mm)")
-    height_to_bearing = number_field("Height from the wall's base to the bearing h_c (mm)")
+    height_to_bearing = number_field(
+        "Height from the wall's base to the padstone's underside h_c (mm)",
+        "With no padstone, to the beam's underside. Not the level the beam sits at on the padstone: that is higher by the padstone's depth and overstates h_c.",
+    )
     clear_height = number_field("Clear height h (mm)", "Empty: h_c.")
     effective_height = number_field("Effective height h_ef (mm)", "Empty: h.")
     effective_thickness = number_field("Effective thickness t_ef (mm)", "Empty: t.")
@@ -447,7 +451,11 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
     flange_width = num("flange_width", required=True, what="the flange width")
     bearing_length = num("bearing_length", required=True, what="the bearing length")
     thickness = num("wall_thickness", required=True, what="the wall thickness")
-    height = num("height_to_bearing", required=True, what="the height to the bearing")
+    height = num(
+        "height_to_bearing",
+        required=True,
+        what="the height from the wall's base to the padstone's underside",
+    )
 
     padstone = None
     if form.padstone.data == "none":
@@ -598,7 +606,9 @@ def padstone_across_words(pad: dict) -> str:
     position = pad.get("position_across")
     if position == "offset":
         return f"centre {plain_number(pad.get('offset_across'))} mm from the wall's centre line"
-    return dict(PADSTONE_ACROSS_CHOICES).get(position or "", str(position)).lower()
+    if not position:
+        return "the usual place: flush with the near face (beam across), centred (in line)"
+    return dict(PADSTONE_ACROSS_CHOICES).get(position, str(position)).lower()
 
 
 def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
@@ -665,7 +675,10 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
             "Wall",
             [
                 ("Thickness t", mm(wall["thickness"])),
-                ("Height to the bearing h_c", mm(wall["height_to_bearing"])),
+                (
+                    "Height from the wall's base to the padstone's underside h_c",
+                    mm(wall["height_to_bearing"]),
+                ),
                 ("a1", mm(wall.get("a1"), "wall runs on")),
                 ("a2", mm(wall.get("a2"), "wall runs on")),
                 ("Clear height h", mm(wall.get("clear_height"), "= h_c")),

@@ -2,6 +2,7 @@
 
 import * as C from "./checks.js";
 import { isEc6 } from "./basis.js";
+import { number } from "./format.js";
 import { footprintLayout, layout, pressureUnder, readings } from "./geometry.js";
 import { IN_LINE } from "./inputs.js";
 import { masonryStrengths } from "./strength.js";
@@ -115,7 +116,12 @@ function governingOf(checks) {
 
 function assumptionNotes(inp) {
   const wall = inp.wall;
-  const notes = [];
+  const under = inp.padstone != null ? "the padstone's underside" : "the beam's underside";
+  // Said every time: the seating level typed by mistake moves the result (recheck.py).
+  const notes = [
+    `h_c = ${number(wall.height_to_bearing)} mm, from the wall's base to ${under} (not ` +
+      "to where the beam sits on the padstone).",
+  ];
   if (wall.clear_height == null) {
     notes.push("Clear height h taken as the height to the bearing h_c.");
   }
