@@ -104,15 +104,15 @@ SPECS: dict[str, FieldSpec] = {
             "padstone_reinforced",
             "Padstone reinforced",
             "tri",
-            "Plain concrete unless the padstone or its delivery note shows reinforcement.",
-            ("padstone", "reinforced"),
+            hint="Plain concrete unless the padstone or its delivery note shows reinforcement.",
+            design=("padstone", "reinforced"),
         ),
         FieldSpec(
             "padstone_position",
             "Padstone's position across the wall",
             "select",
-            "For a padstone narrower than the wall.",
-            ("padstone", "position_across"),
+            hint="For a padstone narrower than the wall.",
+            design=("padstone", "position_across"),
         ),
         FieldSpec(
             "padstone_offset_across",
@@ -155,8 +155,9 @@ SPECS: dict[str, FieldSpec] = {
             "collar_joint",
             "Collar joint in the wall",
             "tri",
-            "A mortar joint parallel to the wall's face, as in a one-brick wall of two leaves.",
-            ("masonry", "collar_joint"),
+            hint="A mortar joint parallel to the wall's face, as in a one-brick wall of two "
+            "leaves.",
+            design=("masonry", "collar_joint"),
         ),
         FieldSpec("bedded", "Padstone fully bedded on mortar", "tri"),
         FieldSpec(
