@@ -15,6 +15,7 @@ Pure: no I/O. The core's own messages use it too, so the phone's mirror prints t
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 SIGNIFICANT = 4
 
@@ -24,6 +25,7 @@ _SHOWN = {"N": ("kN", 1000.0), "N/mm": ("kN/m", 1.0)}
 NO_CAPACITY = "no capacity (fails)"
 
 
+@lru_cache(maxsize=4096)  # a site writes the same few heights and sizes in every trace
 def number(x: float, plus: bool = False) -> str:
     """``x`` to four significant figures (every whole digit kept), commas between
     thousands, no exponent; ``plus`` writes a + before a positive value."""

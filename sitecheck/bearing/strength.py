@@ -287,7 +287,7 @@ def masonry_strengths(
 # Strengths already worked out; see masonry_strengths_cached. Bounded, and emptied when
 # full: the masonries and concretes of one site are few.
 _STRENGTHS: dict[tuple, tuple[CodeBasis, Strengths]] = {}
-_STRENGTHS_LIMIT = 1024
+_STRENGTHS_LIMIT = 4096
 _MASONRY_VALUES = attrgetter(*(f.name for f in fields(Masonry)))
 
 
@@ -317,8 +317,9 @@ def masonry_strengths_cached(
         type(f_ck),
         reinforced,
         type(reinforced),
-        t,
-        type(t),
+        # The wall's thickness shows only where EC6 works f_k from K (the collar joint's
+        # step); elsewhere it would only split equal entries.
+        *((t, type(t)) if basis.is_ec6 and mas.f_k is None else ()),
     )
     try:
         found = _STRENGTHS.get(key)
