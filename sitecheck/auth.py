@@ -1,22 +1,22 @@
-"""Account primitives: password hashing and policy, session tokens, sign-in throttling.
+"""Account primitives: password hashing and policy, session and link tokens, log-in
+slowing, and where a log-in may send you afterwards.
 
 No Flask here: the sign-in views call these and ``sitecheck.store``.
 """
 
 import functools
 import hashlib
+import math
 import secrets
 import unicodedata
 from typing import NamedTuple
+from urllib.parse import unquote, urlsplit
 
 from werkzeug.security import check_password_hash, generate_password_hash
 
 PASSWORD_MIN = 10
 PASSWORD_MAX = 256
 HASH_METHOD = "scrypt"
-
-THROTTLE_LIMIT = 5
-THROTTLE_WINDOW_S = 15 * 60
 
 # Passwords people pick first. Length alone already refuses the shorter ones; the list is for
 # those long enough to pass it. Compared without case.
@@ -151,14 +151,88 @@ def new_session_token() -> SessionToken:
     return SessionToken(token=token, session_id=session_id_for(token))
 
 
-def throttle_delay(
-    failures: int, *, limit: int = THROTTLE_LIMIT, window_s: int = THROTTLE_WINDOW_S
-) -> int:
-    """Seconds to refuse sign-in for (answer 429 with Retry-After), given recent failures.
+class LinkToken(NamedTuple):
+    """A single-use link's ``token`` goes into the link; only ``token_hash`` is stored."""
 
-    No delay below ``limit`` failures in the window; at or above it, refuse until the window
-    has passed. That is an upper bound: failures age out one by one, so it may open sooner.
-    """
+    token: str
+    token_hash: str
+
+
+def new_link_token() -> LinkToken:
+    token = secrets.token_urlsafe(32)
+    return LinkToken(token=token, token_hash=link_token_hash(token))
+
+
+def link_token_hash(token: str) -> str:
+    return hashlib.sha256(token.encode("utf-8")).hexdigest()
+
+
+class ThrottleRule(NamedTuple):
+    """How failed log-ins slow the next try: the first ``free`` failures in the window cost
+    nothing; after them the next try waits ``first_wait_s`` from the last failure, doubling
+    with every further failure up to ``max_wait_s``. Never a lock: the wait always runs out."""
+
+    free: int
+    first_wait_s: int
+    max_wait_s: int
+
+
+# One account from one address: a person who forgot their password, or someone guessing it.
+# Only failures since that pair's last success count.
+ACCOUNT_AT_ADDRESS = ThrottleRule(free=5, first_wait_s=2, max_wait_s=15 * 60)
+# Any account from one address: someone trying many accounts. Generous, because a site
+# office, a firm's proxy or a phone network puts many honest people behind one address.
+ANY_ACCOUNT_AT_ADDRESS = ThrottleRule(free=30, first_wait_s=2, max_wait_s=5 * 60)
+# Failures older than this are forgotten (and pruned).
+THROTTLE_WINDOW_S = 15 * 60
+
+
+def throttle_wait(failures: int, since_last_failure_s: float, rule: ThrottleRule) -> int:
+    """Seconds still to wait before the next log-in may be tried (0: try now)."""
     if failures < 0:
         raise ValueError(f"failures {failures} is negative")
-    return 0 if failures < limit else window_s
+    if failures < rule.free:
+        return 0
+    # The exponent is bounded: a flood of failures must not build a huge integer.
+    doublings = min(failures - rule.free, 30)
+    wait = min(rule.max_wait_s, rule.first_wait_s * 2**doublings)
+    return max(0, math.ceil(wait - max(0.0, since_last_failure_s)))
+
+
+def wait_words(seconds: int) -> str:
+    """A wait as people say it: "20 seconds", "4 minutes"."""
+    if seconds < 90:
+        return f"{seconds} second{'' if seconds == 1 else 's'}"
+    minutes = math.ceil(seconds / 60)
+    return f"{minutes} minutes"
+
+
+def same_site_path(target: str | None) -> str | None:
+    """``target`` as a path on this site to go to after logging in, or None to go home.
+
+    Control characters and whitespace are removed first (browsers drop a tab or a newline
+    inside a URL, so ``/\t/evil.example`` reaches them as ``//evil.example``). Then only a
+    plain absolute path is kept: no scheme, no host, no backslash (browsers read it as a
+    slash) and no doubled slash in the path, neither as sent nor percent-decoded once more.
+    """
+    if not isinstance(target, str):
+        return None
+    kept = _without_invisibles(target)
+    for form in (kept, _without_invisibles(unquote(kept))):
+        parts = urlsplit(form)
+        if parts.scheme or parts.netloc or "\\" in form or not form.startswith("/"):
+            return None
+        # Not parts.path: urlsplit reads "///evil.example" as an empty host and drops the
+        # slashes that a browser would not.
+        path = form.split("?", 1)[0].split("#", 1)[0]
+        while "/./" in path:
+            path = path.replace("/./", "/")
+        if "//" in path:
+            return None
+    return kept
+
+
+def _without_invisibles(text: str) -> str:
+    return "".join(
+        c for c in text if not c.isspace() and unicodedata.category(c) not in ("Cc", "Cf")
+    )

@@ -59,11 +59,19 @@ def main(argv: list[str] | None = None) -> int:
     serve.add_argument("--threads", type=int, default=8)
 
     first = sub.add_parser(
-        "create-engineer", help="create an engineer's account (there are no default accounts)"
+        "create-engineer",
+        help="create an account that may make sites (there are no default accounts)",
     )
     first.add_argument("email")
     first.add_argument("name")
     first.add_argument("--db", default=None)
+
+    makers = sub.add_parser(
+        "may-make-sites", help="let an existing account make sites, or take that away"
+    )
+    makers.add_argument("email")
+    makers.add_argument("--take-away", action="store_true", help="take the permission away")
+    makers.add_argument("--db", default=None)
 
     demo = sub.add_parser("demo", help="build a fresh demo database (invented site) and serve it")
     demo.add_argument("--db", default="var/demo.db")
@@ -98,6 +106,8 @@ def main(argv: list[str] | None = None) -> int:
         return _serve(args.db, args.host, args.port, args.threads)
     if args.command == "create-engineer":
         return _create_engineer(args)
+    if args.command == "may-make-sites":
+        return _may_make_sites(args)
     if args.command == "record":
         return _record(args)
     if args.command == "demo":
@@ -216,7 +226,11 @@ def _create_engineer(args) -> int:
     db = store.open_db(app.config["DB_PATH"])
     try:
         user = store.create_user(
-            db, email=args.email, name=args.name, password_hash=auth.hash_password(password)
+            db,
+            email=args.email,
+            name=args.name,
+            password_hash=auth.hash_password(password),
+            may_make_sites=True,
         )
     except store.Conflict as e:
         print(f"sitecheck: {e}", file=sys.stderr)
@@ -224,6 +238,33 @@ def _create_engineer(args) -> int:
     finally:
         db.conn.close()
     print(f"Created {user['email']}: log in and make a site; you will be its engineer.")
+    return 0
+
+
+def _may_make_sites(args) -> int:
+    import os
+
+    from . import store
+
+    path = Path(args.db or os.environ.get("SITECHECK_DB") or "var/sitecheck.db")
+    if not path.is_file():
+        print(f"sitecheck: no database at {path}; give it with --db", file=sys.stderr)
+        return 2
+    db = store.open_db(path)
+    try:
+        user = store.get_user_by_email(db, args.email)
+        if user is None:
+            print(
+                f"sitecheck: no account for {args.email}; make one with "
+                "'sitecheck create-engineer', or invite them to a site first",
+                file=sys.stderr,
+            )
+            return 2
+        allowed = not args.take_away
+        store.set_may_make_sites(db, user_id=user["id"], allowed=allowed, by_user_id=None)
+    finally:
+        db.conn.close()
+    print(f"{user['email']} {'may' if allowed else 'may no longer'} make sites.")
     return 0
 
 

@@ -431,7 +431,11 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
         people = {}
         for role, (email, name, password) in DEMO_PEOPLE.items():
             u = store.create_user(
-                db, email=email, name=name, password_hash=auth.hash_password(password)
+                db,
+                email=email,
+                name=name,
+                password_hash=auth.hash_password(password),
+                may_make_sites=role == "engineer",
             )
             people[role] = u["id"]
         engineer = people["engineer"]

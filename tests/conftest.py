@@ -14,9 +14,7 @@ import pytest
 from sitecheck import auth, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
 from sitecheck.web import create_app
-from webkit import new_site
-
-PASSWORD = "correct horse battery"  # test accounts only
+from webkit import PASSWORD, new_site
 
 
 @dataclass
@@ -62,7 +60,11 @@ def people(db) -> dict[str, Person]:
     ):
         email = f"{role}@example.test"
         u = store.create_user(
-            db, email=email, name=name, password_hash=auth.hash_password(PASSWORD)
+            db,
+            email=email,
+            name=name,
+            password_hash=auth.hash_password(PASSWORD),
+            may_make_sites=role == "engineer",  # as `sitecheck create-engineer` makes one
         )
         out[role] = Person(u["id"], email, name, None if role == "outsider" else role)
     return out
@@ -105,5 +107,19 @@ def client_as(app, people):
         c = app.test_client()
         login(c, people[role])
         return c
+
+    return make
+
+
+@pytest.fixture
+def live_client(people):
+    """live_client(server, "inspector") → a liveserver.Client logged in as that person on a
+    real server (tests/liveserver.py)."""
+    from liveserver import Client
+
+    def make(server, role: str) -> Client:
+        client = Client(server.url)
+        client.log_in(people[role].email, PASSWORD)
+        return client
 
     return make

@@ -28,9 +28,13 @@ ROUTES = {
     "auth.login": "public",
     "auth.logout": "public",
     "auth.change_password": "login",
+    "auth.join": "public",
+    "sites.answer_invitation": "invitee",
     "review.queue": "login",
     "review.queue_json": "login",
-    "sites.new": "login",
+    "sites.new": "make-sites",
+    "sites.site_makers": "make-sites",
+    "sites.set_site_maker": "make-sites",
     "sites.show": "view",
     "sites.show_json": "view",
     "sites.bearing": "view",
@@ -47,6 +51,7 @@ ROUTES = {
     "sites.invite": "invite",
     "sites.change_role": "invite",
     "sites.remove_member": "invite",
+    "sites.withdraw_invitation": "invite",
     "inspect.bearings": "record",
     "inspect.bearings_json": "record",
     "inspect.record_form": "record",
@@ -61,6 +66,7 @@ ROUTES = {
     "release.site_json@GET": "view",
     "release.site_json@POST": "release",
     "release.reopen": "reopen",
+    "release.keep_release": "reopen",
     "release.history": "view",
     "release.history_json": "view",
     "record.site": "export",
@@ -140,7 +146,18 @@ def world(app, db, site, people):
             photos=photo_store(),
             user_id=people["inspector"].id,
         )
+    invitation = store.create_invitation(
+        db,
+        site_id=site["id"],
+        email=people["outsider"].email,
+        role="viewer",
+        invited_by=people["engineer"].id,
+        valid_s=3600,
+    )
     return {
+        "invitation_id": invitation["id"],
+        "answer": "decline",  # accepting would put the outsider on the site mid-walk
+        "token": "not-a-link-token-at-all",
         "site_id": site["id"],
         "bearing_id": bearing["id"],
         "record_uuid": record_uuid,
@@ -170,11 +187,17 @@ def test_every_route_is_in_the_table(app):
 
 def _expected(rule_need: str, role: str, json: bool) -> set[int]:
     if rule_need == "public":
-        return {200, 302, 400, 404, 405}  # public routes answer as they would anyone
+        return {200, 302, 400, 404, 405, 410}  # public routes answer as they would anyone
     if role == "anonymous":
         return {401} if json else {302}
     if rule_need == "login":
         return {200, 302, 400}  # an empty form is answered with its errors
+    if rule_need == "invitee":
+        # Only the invited address answers; anyone else hears of no such invitation.
+        return {302, 400} if role == "outsider" else {404}
+    if rule_need == "make-sites":
+        # A permission of the account: the fixture's engineer has it, nobody else.
+        return {200, 302, 400} if role == "engineer" else {403}
     if role == "outsider":
         return {404}
     if rule_need in MAY[role]:

@@ -80,16 +80,37 @@ def test_session_tokens_are_random_and_only_their_hash_is_stored():
     assert len(first.session_id) == 64 and first.token not in first.session_id
 
 
+RULE = auth.ThrottleRule(free=5, first_wait_s=2, max_wait_s=900)
+
+
 @pytest.mark.parametrize(
-    ("failures", "delay"),
-    [(0, 0), (1, 0), (4, 0), (5, 900), (6, 900), (50, 900)],
+    ("failures", "since_s", "wait"),
+    [
+        (0, 0, 0),
+        (4, 0, 0),  # the first five failures cost nothing
+        (5, 0, 2),
+        (5, 1.5, 1),  # counted from the last failure, rounded up
+        (5, 2, 0),
+        (6, 0, 4),  # doubling with each further failure
+        (9, 0, 32),
+        (13, 0, 512),
+        (14, 0, 900),  # up to the most
+        (10_000, 0, 900),  # a flood builds no huge number
+        (10_000, 900, 0),  # and never locks: the wait runs out
+    ],
 )
-def test_throttle_delay(failures, delay):
-    assert auth.throttle_delay(failures) == delay
+def test_throttle_wait_grows_and_runs_out(failures, since_s, wait):
+    assert auth.throttle_wait(failures, since_s, RULE) == wait
 
 
-def test_throttle_limits_can_be_set():
-    assert auth.throttle_delay(2, limit=3, window_s=60) == 0
-    assert auth.throttle_delay(3, limit=3, window_s=60) == 60
-    with pytest.raises(ValueError):
-        auth.throttle_delay(-1)
+def test_throttle_wait_refuses_a_negative_count():
+    with pytest.raises(ValueError, match="negative"):
+        auth.throttle_wait(-1, 0, RULE)
+
+
+@pytest.mark.parametrize(
+    ("seconds", "words"),
+    [(1, "1 second"), (2, "2 seconds"), (89, "89 seconds"), (90, "2 minutes"), (900, "15 minutes")],
+)
+def test_wait_words(seconds, words):
+    assert auth.wait_words(seconds) == words

@@ -174,3 +174,38 @@ def test_a_basis_value_for_the_run_is_used_and_a_non_physical_one_refused(tmp_pa
         assert main(["check", "--basis-value", value, str(path)]) == 2
         captured = capsys.readouterr()
         assert captured.out == "" and f"sitecheck: --basis-value: {field}" in captured.err
+
+
+def test_create_engineer_makes_an_account_that_may_make_sites(tmp_path, monkeypatch, capsys):
+    from sitecheck import store
+
+    db_path = tmp_path / "office.db"
+    monkeypatch.setattr("getpass.getpass", lambda prompt="": "lintels over the back door")
+    assert main(["create-engineer", "ann@firm.example", "Ann Example", "--db", str(db_path)]) == 0
+    assert "make a site" in capsys.readouterr().out
+    db = store.open_db(db_path)
+    try:
+        user = store.get_user_by_email(db, "ann@firm.example")
+        assert user["name"] == "Ann Example" and user["may_make_sites"] is True
+        store.create_user(db, email="bo@firm.example", name="Bo", password_hash="x")
+    finally:
+        db.conn.close()
+
+    assert main(["may-make-sites", "bo@firm.example", "--db", str(db_path)]) == 0
+    assert "bo@firm.example may make sites" in capsys.readouterr().out
+    assert main(["may-make-sites", "bo@firm.example", "--take-away", "--db", str(db_path)]) == 0
+    assert main(["may-make-sites", "nobody@firm.example", "--db", str(db_path)]) == 2
+    assert "no account for nobody@firm.example" in capsys.readouterr().err
+    db = store.open_db(db_path)
+    try:
+        assert store.get_user_by_email(db, "bo@firm.example")["may_make_sites"] is False
+        kinds = [k for (k,) in db.execute("SELECT kind FROM events WHERE kind LIKE 'may make%'")]
+    finally:
+        db.conn.close()
+    assert kinds == ["may make sites given", "may make sites taken away"]
+
+
+def test_create_engineer_refuses_a_weak_password(tmp_path, monkeypatch, capsys):
+    monkeypatch.setattr("getpass.getpass", lambda prompt="": "password123")
+    assert main(["create-engineer", "ann@firm.example", "Ann", "--db", str(tmp_path / "o.db")]) == 2
+    assert "first that anyone would try" in capsys.readouterr().err

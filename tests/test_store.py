@@ -190,6 +190,13 @@ def test_first_open_applies_every_migration_in_order(db):
     assert [m.name for m in store.MIGRATIONS.applied(db)] == [
         "m001_initial_schema",
         "m002_password_to_change",
+        "m003_may_make_sites",
+        "m004_outgoing_mail",
+        "m005_invitations",
+        "m006_single_use_links",
+        "m007_photo_files",
+        "m008_recorded_after_release",
+        "m009_record_jobs",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -210,6 +217,31 @@ def test_a_database_of_the_first_schema_is_brought_up_to_date_keeping_its_people
     try:
         user = store.get_user_by_email(db, "kept@example.test")
         assert user["name"] == "Kept" and user["must_change_password"] is False
+    finally:
+        db.close()
+
+
+def test_accounts_that_made_a_site_before_the_permission_keep_making_sites(tmp_path):
+    import sqlite_utils
+
+    path = tmp_path / "older.db"
+    older = sqlite_utils.Database(path)
+    store.MIGRATIONS.apply(older, stop_before="m003_may_make_sites")
+    for n, email in enumerate(("maker@example.test", "other@example.test"), start=1):
+        older.execute(
+            "INSERT INTO users (id, email, name, password_hash, created_at) VALUES (?, ?, ?, ?, ?)",
+            [n, email, email, "test-hash-not-real", "2026-01-05T09:00:00Z"],
+        )
+    older.execute(
+        "INSERT INTO sites (id, name, code_basis, review_settings, created_by, created_at)"
+        " VALUES ('s1', 'Old site', '{}', '{}', 1, '2026-01-05T09:00:00Z')"
+    )
+    older.conn.commit()
+    older.close()
+    db = store.open_db(path)
+    try:
+        assert store.get_user_by_email(db, "maker@example.test")["may_make_sites"] is True
+        assert store.get_user_by_email(db, "other@example.test")["may_make_sites"] is False
     finally:
         db.close()
 
@@ -265,7 +297,9 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 2
+        every = [m.name for m in store.MIGRATIONS.applied(db)]
+        assert count(db, "_sqlite_migrations") == len(every) == len(set(every))
+        assert store.MIGRATIONS.pending(db) == [] and every[0] == "m001_initial_schema"
     finally:
         db.close()
 
@@ -480,7 +514,7 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
         w.bearing,
         w.inspector,
         uuid=uuid.upper(),
-        measurements={"bearing_length_mm": 999},
+        # The server's own answer may differ (a later re-check); what was sent is the same.
         utilisation=1.5,
         blocking=2,
     )
@@ -489,6 +523,23 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
     assert second.row == first.row
     assert second.row["measurements"] == {"bearing_length_mm": 140}
     assert second.state == "within design"
+    assert count(w.db, "as_built_records") == 1
+    assert count(w.db, "events") == events
+
+
+def test_the_same_record_id_with_other_values_is_refused_naming_what_differs(world):
+    w = world
+    uuid = str(uuid_module.uuid4())
+    first = send_record(w.db, w.site, w.bearing, w.inspector, uuid=uuid)
+    events = count(w.db, "events")
+    with pytest.raises(store.SameIdOtherValues) as refused:
+        send_record(
+            w.db, w.site, w.bearing, w.inspector, uuid=uuid, measurements={"bearing_length_mm": 99}
+        )
+    assert refused.value.differs == ("measurements",)
+    assert "already stored with other values (measurements)" in str(refused.value)
+    assert isinstance(refused.value, store.UuidInUse)  # callers that know only the older error
+    assert store.get_record(w.db, site_id=w.site["id"], uuid=uuid) == first.row
     assert count(w.db, "as_built_records") == 1
     assert count(w.db, "events") == events
 
@@ -670,9 +721,12 @@ def test_photos_are_idempotent_and_scoped(world):
         "user_id": w.inspector["id"],
     }
     first = store.insert_photo(w.db, site_id=w.site["id"], **photo)
-    second = store.insert_photo(w.db, site_id=w.site["id"], **{**photo, "sha256": "d" * 64})
+    second = store.insert_photo(w.db, site_id=w.site["id"], **photo)
     assert first.created and not second.created
     assert second.row == first.row
+    # Another picture under the same id is not a resend.
+    with pytest.raises(store.SameIdOtherValues):
+        store.insert_photo(w.db, site_id=w.site["id"], **{**photo, "sha256": "d" * 64})
     other = store.create_site(
         w.db,
         name="Other",
@@ -780,29 +834,37 @@ def test_a_raw_token_is_never_stored_as_a_session_id(db):
         store.create_session(db, session_id=auth.new_session_token().token, user_id=user["id"])
 
 
-def test_sign_in_is_throttled_after_five_failures(db):
+def test_failed_log_ins_are_counted_per_account_at_an_address_and_per_address(db):
     def fail(email="ann@example.test", addr="10.0.0.1", at=T0):
         store.record_login_attempt(db, email=email, remote_addr=addr, ok=False, now=at)
 
     def failures(email="ann@example.test", addr="10.0.0.1"):
-        return store.recent_failures(
+        pair, address = store.failed_log_ins(
             db, email=email, remote_addr=addr, window_s=900, now=T0 + timedelta(minutes=1)
         )
+        return pair.count, address.count
 
     fail(at=T0 - timedelta(minutes=20))  # outside the window
+    fail(at=T0 - timedelta(minutes=2))  # before the success below: forgiven for the pair
     store.record_login_attempt(
-        db, email="ann@example.test", remote_addr="10.0.0.1", ok=True, now=T0
+        db, email="ann@example.test", remote_addr="10.0.0.1", ok=True, now=T0 - timedelta(minutes=1)
     )
     for _ in range(4):
         fail()
-    assert failures() == 4 and auth.throttle_delay(failures()) == 0
-    fail(addr="10.9.9.9")  # same account from elsewhere
-    assert failures() == 5 and auth.throttle_delay(failures()) == 900
+    assert failures() == (4, 5)
+    pair, _address = store.failed_log_ins(
+        db, email="ann@example.test", remote_addr="10.0.0.1", window_s=900, now=T0
+    )
+    assert pair.last_at == store.timestamp(T0)
+    # The same account from elsewhere counts there, not here.
+    fail(addr="10.9.9.9")
+    assert failures() == (4, 5)
+    assert failures(addr="10.9.9.9") == (1, 1)
     # Many accounts tried from one address count against that address.
     for n in range(5):
         fail(email=f"person{n}@example.test", addr="10.0.0.66")
-    assert failures(email="new@example.test", addr="10.0.0.66") == 5
-    assert failures(email="new@example.test", addr="10.0.0.2") == 0
+    assert failures(email="new@example.test", addr="10.0.0.66") == (0, 5)
+    assert failures(email="new@example.test", addr="10.0.0.2") == (0, 0)
     assert store.prune_login_attempts(db, older_than_s=900, now=T0 + timedelta(minutes=1)) == 1
 
 

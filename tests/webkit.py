@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+PASSWORD = "correct horse battery"  # the test accounts' password (tests only)
+
 
 def csrf_token(client) -> str:
     """A fresh token for the client's session, as the phone gets one before sending."""

@@ -3,6 +3,7 @@
 import re
 import sqlite3
 from datetime import datetime, timedelta
+from typing import NamedTuple
 
 import sqlite_utils
 
@@ -15,7 +16,7 @@ SESSION_ABSOLUTE_S = 7 * 24 * 3600
 # Writing last_seen_at on every request would turn every page view into a write.
 TOUCH_INTERVAL_S = 60
 
-_USER_COLUMNS = "id, email, name, disabled, must_change_password, created_at"
+_USER_COLUMNS = "id, email, name, disabled, must_change_password, may_make_sites, created_at"
 _SESSION_ID = re.compile(r"[0-9a-f]{64}")
 
 
@@ -41,9 +42,10 @@ def create_user(
     name: str,
     password_hash: str,
     must_change_password: bool = False,
+    may_make_sites: bool = False,
 ) -> dict:
-    """``must_change_password`` for a password someone else chose (an invitation): the
-    account must choose its own at its first log-in."""
+    """``must_change_password`` for a password someone else chose: the account must choose
+    its own at its first log-in. ``may_make_sites`` for an account that starts sites."""
     email = normalise_email(email)
     if "@" not in email:
         raise ValueError(f"email {email!r} has no '@'; give a full e-mail address")
@@ -52,13 +54,14 @@ def create_user(
     with transaction(db):
         try:
             cursor = db.execute(
-                "INSERT INTO users (email, name, password_hash, must_change_password, created_at)"
-                " VALUES (?, ?, ?, ?, ?)",
+                "INSERT INTO users (email, name, password_hash, must_change_password,"
+                " may_make_sites, created_at) VALUES (?, ?, ?, ?, ?, ?)",
                 [
                     email,
                     (name or "").strip(),
                     password_hash,
                     int(bool(must_change_password)),
+                    int(bool(may_make_sites)),
                     timestamp(),
                 ],
             )
@@ -69,7 +72,12 @@ def create_user(
                 ) from None
             raise
         user_id = cursor.lastrowid
-        add_event(db, kind="user created", user_id=user_id, after={"email": email})
+        add_event(
+            db,
+            kind="user created",
+            user_id=user_id,
+            after={"email": email, "may_make_sites": bool(may_make_sites)},
+        )
     return get_user_by_id(db, user_id)
 
 
@@ -129,6 +137,61 @@ def set_disabled(
         )
 
 
+def set_may_make_sites(
+    db: sqlite_utils.Database, *, user_id: int, allowed: bool, by_user_id: int | None
+) -> bool:
+    """Give or take away the permission to make sites; True if it changed."""
+    with transaction(db):
+        before = one(db, "SELECT may_make_sites FROM users WHERE id = ?", [user_id])
+        if before is None:
+            raise NotFound(f"No user with id {user_id}")
+        if before["may_make_sites"] == bool(allowed):
+            return False
+        db.execute(
+            "UPDATE users SET may_make_sites = ? WHERE id = ?", [int(bool(allowed)), user_id]
+        )
+        add_event(
+            db,
+            kind="may make sites given" if allowed else "may make sites taken away",
+            user_id=by_user_id,
+            before={"user": user_id, "may_make_sites": before["may_make_sites"]},
+            after={"user": user_id, "may_make_sites": bool(allowed)},
+        )
+    return True
+
+
+def people_sharing_sites(db: sqlite_utils.Database, user_id: int) -> list[dict]:
+    """Everyone on a site that ``user_id`` is on (``user_id`` too), with whether they may
+    make sites and the shared sites as "site name (role)" lines. No e-mail addresses."""
+    rows = many(
+        db,
+        """
+        SELECT u.id, u.name, u.disabled, u.may_make_sites, s.name AS site_name, m.role
+        FROM memberships mine
+        JOIN memberships m ON m.site_id = mine.site_id
+        JOIN users u ON u.id = m.user_id
+        JOIN sites s ON s.id = m.site_id
+        WHERE mine.user_id = ?
+        ORDER BY u.name COLLATE NOCASE, u.id, s.name COLLATE NOCASE
+        """,
+        [user_id],
+    )
+    people: dict[int, dict] = {}
+    for row in rows:
+        person = people.setdefault(
+            row["id"],
+            {
+                "id": row["id"],
+                "name": row["name"],
+                "disabled": row["disabled"],
+                "may_make_sites": row["may_make_sites"],
+                "sites": [],
+            },
+        )
+        person["sites"].append(f"{row['site_name']} ({row['role']})")
+    return list(people.values())
+
+
 def create_session(
     db: sqlite_utils.Database, *, session_id: str, user_id: int, now: datetime | None = None
 ) -> None:
@@ -156,7 +219,8 @@ def get_session_user(
     return one(
         db,
         """
-        SELECT u.id, u.email, u.name, u.disabled, u.must_change_password, u.created_at
+        SELECT u.id, u.email, u.name, u.disabled, u.must_change_password, u.may_make_sites,
+               u.created_at
         FROM sessions s JOIN users u ON u.id = s.user_id
         WHERE s.id = ? AND s.revoked_at IS NULL AND u.disabled = 0
           AND s.last_seen_at > ? AND s.created_at > ?
@@ -226,33 +290,52 @@ def record_login_attempt(
     )
 
 
-def recent_failures(
+class FailedLogIns(NamedTuple):
+    """Failed log-ins in the window, and when the latest was (UTC text, None if none)."""
+
+    count: int
+    last_at: str | None
+
+
+def failed_log_ins(
     db: sqlite_utils.Database,
     *,
     email: str,
     remote_addr: str,
     window_s: int,
     now: datetime | None = None,
-) -> int:
-    """Failed sign-ins in the window: the larger of the count for this e-mail and for this address.
+) -> tuple[FailedLogIns, FailedLogIns]:
+    """Failures of this account from this address since its last success there, and of any
+    account from this address, both within the window.
 
-    Counting per e-mail slows guessing one account from many addresses; counting per address
-    slows trying many accounts from one. Taking the larger, not the sum, keeps one person's
-    typos on a shared site connection from adding up with another's.
+    Nothing is counted per account across addresses: then a stranger anywhere could keep a
+    person out of their own account by failing on purpose.
     """
     since = timestamp((now or utc_now()) - timedelta(seconds=window_s))
     row = one(
         db,
         """
+        WITH pair AS (
+          SELECT at, ok FROM login_attempts
+          WHERE email = :email AND remote_addr = :addr AND at > :since
+        ),
+        last_ok AS (SELECT coalesce(max(at), '') AS at FROM pair WHERE ok = 1)
         SELECT
-          (SELECT count(*) FROM login_attempts WHERE email = :email AND at > :since AND ok = 0)
-            AS by_email,
-          (SELECT count(*) FROM login_attempts WHERE remote_addr = :addr AND at > :since AND ok = 0)
-            AS by_addr
+          (SELECT count(*) FROM pair WHERE ok = 0 AND at > (SELECT at FROM last_ok))
+            AS pair_count,
+          (SELECT max(at) FROM pair WHERE ok = 0 AND at > (SELECT at FROM last_ok))
+            AS pair_last,
+          (SELECT count(*) FROM login_attempts WHERE remote_addr = :addr AND at > :since
+             AND ok = 0) AS addr_count,
+          (SELECT max(at) FROM login_attempts WHERE remote_addr = :addr AND at > :since
+             AND ok = 0) AS addr_last
         """,
         {"email": normalise_email(email), "addr": remote_addr or "", "since": since},
     )
-    return max(row["by_email"], row["by_addr"])
+    return (
+        FailedLogIns(row["pair_count"], row["pair_last"]),
+        FailedLogIns(row["addr_count"], row["addr_last"]),
+    )
 
 
 def prune_login_attempts(

@@ -24,7 +24,16 @@ JSON_COLUMNS = frozenset(
     }
 )
 BOOL_COLUMNS = frozenset(
-    {"disabled", "must_change_password", "design_passed", "passed", "late", "ok", "older_revision"}
+    {
+        "disabled",
+        "must_change_password",
+        "may_make_sites",
+        "design_passed",
+        "passed",
+        "late",
+        "ok",
+        "older_revision",
+    }
 )
 
 

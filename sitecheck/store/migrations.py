@@ -287,6 +287,201 @@ def m002_password_to_change(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m003_may_make_sites(db: sqlite_utils.Database) -> None:
+    """Making sites becomes a permission of an account. Accounts that already made a site
+    keep the right they used (an upgrade must not stop an office's engineers); anyone else
+    gets it from ``sitecheck create-engineer`` or from an account that has it."""
+    db.execute(
+        "ALTER TABLE users ADD COLUMN may_make_sites INTEGER NOT NULL DEFAULT 0 "
+        "CHECK (may_make_sites IN (0, 1))"
+    )
+    db.execute("UPDATE users SET may_make_sites = 1 WHERE id IN (SELECT created_by FROM sites)")
+
+
+@MIGRATIONS()
+def m004_outgoing_mail(db: sqlite_utils.Database) -> None:
+    """Messages waiting to be sent, kept in the database so that an action never waits on
+    a mail server and a message survives a restart. ``claimed_until`` lets one process at a
+    time try a message; ``body`` is emptied once the message is sent or given up, since it
+    may carry a single-use link."""
+    db.execute(
+        """
+        CREATE TABLE outgoing_mail (
+            id INTEGER PRIMARY KEY,
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            to_addr TEXT NOT NULL CHECK (to_addr LIKE '%_@_%'),
+            subject TEXT NOT NULL,
+            body TEXT NOT NULL,
+            created_at TEXT NOT NULL,
+            attempts INTEGER NOT NULL DEFAULT 0 CHECK (attempts >= 0),
+            next_try_at TEXT,
+            claimed_until TEXT,
+            last_error TEXT,
+            sent_at TEXT,
+            gave_up_at TEXT,
+            CHECK (sent_at IS NULL OR gave_up_at IS NULL)
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX outgoing_mail_due ON outgoing_mail(next_try_at)")
+
+
+@MIGRATIONS()
+def m005_invitations(db: sqlite_utils.Database) -> None:
+    """An invitation is an offer, waiting until the invited person accepts or declines it;
+    nothing of the site is theirs before. One pending offer per address and site."""
+    db.execute(
+        f"""
+        CREATE TABLE invitations (
+            id TEXT PRIMARY KEY,
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            email TEXT NOT NULL CHECK (email = lower(email) AND email LIKE '%_@_%'),
+            role TEXT NOT NULL CHECK (role IN {_in(ROLES)}),
+            invited_by INTEGER NOT NULL REFERENCES users(id),
+            created_at TEXT NOT NULL,
+            expires_at TEXT NOT NULL,
+            state TEXT NOT NULL DEFAULT 'pending'
+                CHECK (state IN ('pending', 'accepted', 'declined', 'withdrawn')),
+            answered_at TEXT,
+            answered_by INTEGER REFERENCES users(id),
+            mail_id INTEGER REFERENCES outgoing_mail(id),
+            CHECK ((state = 'pending') = (answered_at IS NULL))
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE UNIQUE INDEX invitations_one_pending ON invitations(site_id, email) "
+        "WHERE state = 'pending'"
+    )
+    db.execute("CREATE INDEX invitations_email ON invitations(email, state)")
+
+
+@MIGRATIONS()
+def m006_single_use_links(db: sqlite_utils.Database) -> None:
+    """Links that prove an e-mail address: used once, until they expire. Only the sha256 of
+    the link's token is kept, so the database alone opens nothing. ``purpose`` says what a
+    link is for (an invitation now; a password reset may use the same table)."""
+    db.execute(
+        """
+        CREATE TABLE single_use_links (
+            id INTEGER PRIMARY KEY,
+            token_hash TEXT NOT NULL UNIQUE CHECK (length(token_hash) = 64),
+            purpose TEXT NOT NULL CHECK (length(purpose) > 0),
+            email TEXT NOT NULL CHECK (email = lower(email) AND email LIKE '%_@_%'),
+            invitation_id TEXT REFERENCES invitations(id),
+            created_at TEXT NOT NULL,
+            expires_at TEXT NOT NULL,
+            used_at TEXT
+        ) STRICT
+        """
+    )
+
+
+@MIGRATIONS()
+def m007_photo_files(db: sqlite_utils.Database) -> None:
+    """What a photo was uploaded as, so the same id sent with another picture is told apart
+    from a resend; and the hashes indexed, because a file is new (and may be removed when its
+    upload is refused) only if no row names it, which is asked inside every photo's
+    write transaction."""
+    db.execute(
+        "ALTER TABLE photos ADD COLUMN upload_sha256 TEXT "
+        "CHECK (upload_sha256 IS NULL OR length(upload_sha256) = 64)"
+    )
+    db.execute("CREATE INDEX photos_sha256 ON photos(sha256)")
+    db.execute("CREATE INDEX photos_thumb_sha256 ON photos(thumb_sha256)")
+
+
+@MIGRATIONS()
+def m008_recorded_after_release(db: sqlite_utils.Database) -> None:
+    """Evidence that arrives for a released bearing (a record, a photo) is kept and listed
+    for the engineer; the engineer answers by reopening or by keeping the release, with a
+    reason. Both tables are append-only: what came and what was said stay on the record."""
+    db.execute(
+        """
+        CREATE TABLE after_release_evidence (
+            id INTEGER PRIMARY KEY,
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            release_id INTEGER NOT NULL REFERENCES releases(id),
+            record_uuid TEXT NOT NULL REFERENCES as_built_records(uuid),
+            photo_uuid TEXT REFERENCES photos(uuid),
+            received_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE INDEX after_release_evidence_bearing ON after_release_evidence(bearing_id, id)"
+    )
+    db.execute(
+        """
+        CREATE TABLE releases_kept (
+            id INTEGER PRIMARY KEY,
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            release_id INTEGER NOT NULL REFERENCES releases(id),
+            engineer_id INTEGER NOT NULL REFERENCES users(id),
+            reason TEXT NOT NULL CHECK (length(trim(reason)) > 0),
+            evidence_up_to INTEGER NOT NULL,
+            created_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX releases_kept_bearing ON releases_kept(bearing_id, id)")
+    for statement in (
+        *_append_only("after_release_evidence", "evidence after release is append-only"),
+        *_append_only("releases_kept", "kept releases are append-only"),
+    ):
+        db.execute(statement)
+    # Records that arrived after a release before this table existed are listed too.
+    db.execute(
+        """
+        INSERT INTO after_release_evidence (bearing_id, release_id, record_uuid, received_at)
+        SELECT r.bearing_id,
+               (SELECT max(x.id) FROM releases x
+                WHERE x.bearing_id = r.bearing_id AND x.created_at <= r.received_at),
+               r.uuid, r.received_at
+        FROM as_built_records r
+        WHERE r.late = 1 AND EXISTS (
+            SELECT 1 FROM releases x
+            WHERE x.bearing_id = r.bearing_id AND x.created_at <= r.received_at
+        )
+        ORDER BY r.received_at, r.uuid
+        """
+    )
+
+
+@MIGRATIONS()
+def m009_record_jobs(db: sqlite_utils.Database) -> None:
+    """Site records made in the background, kept in the database rather than in files and
+    threads of one process, so that every server process sees the same jobs and a site has
+    one making at a time whichever process is asked."""
+    db.execute(
+        """
+        CREATE TABLE record_jobs (
+            id TEXT PRIMARY KEY CHECK (length(id) = 32),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            state TEXT NOT NULL
+                CHECK (state IN ('waiting', 'making', 'done', 'failed', 'stopped')),
+            bearings_done INTEGER NOT NULL DEFAULT 0,
+            bearings INTEGER NOT NULL DEFAULT 0,
+            current TEXT NOT NULL DEFAULT '',
+            started_by INTEGER REFERENCES users(id),
+            site_version TEXT NOT NULL,
+            created_at TEXT NOT NULL,
+            updated_at TEXT NOT NULL,
+            finished_at TEXT,
+            size_bytes INTEGER,
+            error TEXT
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE UNIQUE INDEX record_jobs_one_running ON record_jobs(site_id) "
+        "WHERE state IN ('waiting', 'making')"
+    )
+    db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, created_at)")
+    db.execute("CREATE INDEX record_jobs_started_by ON record_jobs(started_by, created_at)")
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

@@ -11,12 +11,15 @@ import os
 import secrets
 from pathlib import Path
 
-from flask import Flask, g, request
+from flask import Flask, current_app, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
+from werkzeug.middleware.proxy_fix import ProxyFix
 
-from sitecheck import store
-from sitecheck.photos import PhotoStore
-from sitecheck.web import compress
+from sitecheck import auth as accounts
+from sitecheck import services, store
+from sitecheck.mail import MailSender, MailSettings
+from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
+from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
 csrf = CSRFProtect()
@@ -26,6 +29,7 @@ CSP = (
     "connect-src 'self'; font-src 'self'; manifest-src 'self'; worker-src 'self'; "
     "object-src 'none'; base-uri 'none'; frame-ancestors 'none'; form-action 'self'"
 )
+HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
 def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
@@ -53,13 +57,45 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=os.environ.get("SITECHECK_SECURE_COOKIES") == "1",
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
-        LOGIN_FAILURE_LIMIT=5,
-        LOGIN_FAILURE_WINDOW_S=900,
+        # Site records (PDF) one person may start in an hour; handing out a finished one
+        # of an unchanged site, or joining one being made, is not counted.
+        RECORD_PDF_PER_HOUR=int(os.environ.get("SITECHECK_RECORD_PDF_PER_HOUR") or 10),
+        LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
+        LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
+        LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
+        TRUSTED_PROXIES=_trusted_proxies(os.environ.get("SITECHECK_TRUSTED_PROXIES")),
+        # MailSettings, or None for no mail (then invitation links are handed over).
+        MAIL=MailSettings.from_env(os.environ),
+        # Deliver queued mail from a background thread of this process.
+        MAIL_SENDER=True,
     )
     app.config.update(config)
+    proxies = _trusted_proxies(app.config["TRUSTED_PROXIES"])
+    if proxies:
+        # Each trusted proxy adds the address it received from to X-Forwarded-For; only that
+        # many entries from the right are believed, so a client cannot choose its own address
+        # by sending the header itself. The host is not taken from the proxy: links in
+        # e-mails use SITECHECK_BASE_URL.
+        app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies)
+    return_picture_memory_to_the_system()  # a server decodes pictures all day
+    photos = app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
-    db.conn.close()
-    app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    try:
+        # What a crash mid-upload left behind: temporary files, pictures no row names.
+        swept = services.sweep_photo_files(db, photos)
+    finally:
+        db.conn.close()
+    if swept.temporary_files or swept.orphan_files:
+        app.logger.warning(
+            "photo store: removed %d temporary and %d unnamed files left by a crash",
+            swept.temporary_files,
+            swept.orphan_files,
+        )
+    if app.config["MAIL"] is not None and app.config["MAIL_SENDER"]:
+        sender = MailSender(app.config["DB_PATH"], app.config["MAIL"])
+        app.extensions["mail_sender"] = sender
+        sender.start()
+    jsonbody.install(app)
     csrf.init_app(app)
 
     from sitecheck.web import auth, pages, review, sites
@@ -111,6 +147,10 @@ def _security_headers(response):
     h.setdefault("Referrer-Policy", "same-origin")
     h.setdefault("X-Frame-Options", "DENY")
     h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
+    if current_app.config["SESSION_COOKIE_SECURE"]:
+        # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
+        # so a phone on a site's open Wi-Fi is not talked down to plain HTTP.
+        h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
     if request.path.startswith("/static/") or request.path in ("/sw.js", "/manifest.webmanifest"):
         return response
     # A view that deliberately marks its response private (content-addressed photos) keeps
@@ -118,6 +158,23 @@ def _security_headers(response):
     if getattr(g, "user", None) is not None and not response.cache_control.private:
         h["Cache-Control"] = "no-store"
     return response
+
+
+def _trusted_proxies(value) -> int:
+    """How many proxies in front of sitecheck add X-Forwarded-For (SITECHECK_TRUSTED_PROXIES)."""
+    if value is None or value == "":
+        return 0
+    try:
+        count = int(value)
+    except (TypeError, ValueError):
+        count = -1
+    if count < 0 or count > 10:
+        raise ValueError(
+            f"SITECHECK_TRUSTED_PROXIES is {value!r}: give the number of proxies in front of "
+            "sitecheck that add X-Forwarded-For (0 when browsers reach it directly, 1 behind "
+            "one HTTPS proxy)"
+        )
+    return count
 
 
 def _secret_key_beside(db_path: Path) -> str:

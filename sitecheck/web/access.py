@@ -38,6 +38,24 @@ def site_for(site_id: str, action: str) -> tuple[dict, str]:
     return site, role
 
 
+def require_may_make_sites() -> None:
+    """Making sites is a permission of the account, not of a role on a site: without it,
+    403 and a "refused" event (a site's maker becomes its engineer, who may invite)."""
+    user = g.user
+    if user is None:
+        abort(401)
+    if user.get("may_make_sites"):
+        return
+    store.add_event(get_db(), kind="refused", user_id=user["id"], detail={"action": "make-sites"})
+    abort(
+        403,
+        description=(
+            "Your account may not make sites. Ask someone who may make sites to give you "
+            "that, or the engineer of a site to invite you to it."
+        ),
+    )
+
+
 def bearing_for(site: dict, bearing_id: str) -> dict:
     bearing = store.get_bearing(get_db(), site_id=site["id"], bearing_id=bearing_id)
     if bearing is None:
@@ -46,6 +64,8 @@ def bearing_for(site: dict, bearing_id: str) -> dict:
 
 
 ACTION_WORDS = {
+    "make-sites": "make sites",
+    "give-make-sites": "say who may make sites",
     "view": "see this site",
     "export": "export this site's record",
     "record": "record as-built values",

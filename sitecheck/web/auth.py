@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from datetime import datetime
 from functools import wraps
 
 from flask import (
@@ -10,6 +11,7 @@ from flask import (
     current_app,
     flash,
     g,
+    make_response,
     redirect,
     render_template,
     request,
@@ -17,7 +19,7 @@ from flask import (
     url_for,
 )
 from flask_wtf import FlaskForm
-from wtforms import EmailField, PasswordField
+from wtforms import EmailField, PasswordField, StringField
 from wtforms.validators import DataRequired, Length, Regexp
 
 from sitecheck import auth as accounts
@@ -71,13 +73,10 @@ def login_required(view):
             return redirect(
                 url_for("auth.login", next=request.full_path if request.method == "GET" else None)
             )
-        # A password someone else chose (shown on the inviter's screen) is changed before
-        # anything else. The phone's outbox (the API) still sends: nothing may wait on it.
+        # A password someone else set is changed before anything else. The phone's outbox
+        # (the API) still sends: nothing may wait on it.
         if g.user.get("must_change_password") and not api:
-            flash(
-                "Choose your own password before going on: the one you were given is shown "
-                "to whoever made your account."
-            )
+            flash("Choose your own password before going on: someone else knows this one.")
             return redirect(url_for("auth.change_password"))
         return view(*args, **kwargs)
 
@@ -131,20 +130,85 @@ def change_password():
     ), status
 
 
+class JoinForm(FlaskForm):
+    name = StringField("Your name", validators=[DataRequired("Enter your name."), Length(max=120)])
+    new = PasswordField("Choose a password", validators=[DataRequired(), Length(max=256)])
+    again = PasswordField("The password again", validators=[DataRequired(), Length(max=256)])
+
+
+@bp.route("/join/<token>", methods=["GET", "POST"])
+def join(token):
+    """A single-use invitation link: a new address makes its account here (proving the
+    address, since the link went to it); an address that has an account logs in instead."""
+    db = get_db()
+    token_hash = accounts.link_token_hash(token)
+    link = store.open_link(db, token_hash=token_hash, purpose=store.INVITATION)
+    if link is None:
+        return _join_page(None, None, 410)
+    invitation = store.get_invitation(db, link["invitation_id"]) if link["invitation_id"] else None
+    if store.get_user_by_email(db, link["email"]) is not None:
+        return _join_page(link, invitation, 200, has_account=True)
+    form = JoinForm()
+    if not form.validate_on_submit():
+        return _join_page(link, invitation, 400 if form.errors else 200, form=form)
+    if form.new.data != form.again.data:
+        form.again.errors.append("The two passwords differ. Type the same one twice.")
+    elif problem := accounts.password_problem(form.new.data, email=link["email"]):
+        form.new.errors.append(problem)
+    if form.errors.get("new") or form.again.errors:
+        return _join_page(link, invitation, 400, form=form)
+    try:
+        with store.transaction(db):
+            used = store.use_link(db, token_hash=token_hash, purpose=store.INVITATION)
+            if used is None:  # used by a second request a moment ago
+                raise store.NotFound("link used")
+            user = store.create_user(
+                db,
+                email=used["email"],
+                name=form.name.data.strip(),
+                password_hash=accounts.hash_password(form.new.data),
+            )
+    except store.NotFound:
+        return _join_page(None, None, 410)
+    except store.DuplicateEmail:
+        return _join_page(link, invitation, 409, has_account=True)
+    session_token = accounts.new_session_token()
+    store.create_session(db, session_id=session_token.session_id, user_id=user["id"])
+    store.add_event(db, kind="log-in", user_id=user["id"], detail={"by": "invitation link"})
+    session.clear()
+    session[SESSION_KEY] = session_token.token
+    session.permanent = True
+    flash("Your account is ready. Accept or decline the invitation below.")
+    return redirect(url_for("pages.home"))
+
+
+def _join_page(link, invitation, status: int, *, form=None, has_account=False):
+    response = make_response(
+        render_template(
+            "join.html",
+            link=link,
+            invitation=invitation,
+            form=form,
+            has_account=has_account,
+            min_length=accounts.PASSWORD_MIN,
+        ),
+        status,
+    )
+    # The link's token is in this page's address: keep it out of caches and Referer headers.
+    response.headers["Cache-Control"] = "no-store"
+    response.headers["Referrer-Policy"] = "no-referrer"
+    return response
+
+
 @bp.route("/login", methods=["GET", "POST"])
 def login():
     form = LoginForm()
     if form.validate_on_submit():
         db = get_db()
         email = form.email.data.strip().lower()
+        # The client's address as the trusted proxies give it (SITECHECK_TRUSTED_PROXIES).
         remote = request.remote_addr or "-"
-        cfg = current_app.config
-        failures = store.recent_failures(
-            db, email=email, remote_addr=remote, window_s=cfg["LOGIN_FAILURE_WINDOW_S"]
-        )
-        wait = accounts.throttle_delay(
-            failures, limit=cfg["LOGIN_FAILURE_LIMIT"], window_s=cfg["LOGIN_FAILURE_WINDOW_S"]
-        )
+        wait = _log_in_wait(db, email, remote)
         if wait:
             store.add_event(
                 db, kind="log-in throttled", detail={"email": email, "remote_addr": remote}
@@ -152,7 +216,11 @@ def login():
             body = render_template(
                 "login.html",
                 form=form,
-                error=f"Too many failed log-ins. Try again in {wait // 60} minutes.",
+                error=(
+                    "Too many failed log-ins from here. Wait "
+                    f"{accounts.wait_words(wait)}, then try again; each further failure "
+                    "makes the wait longer."
+                ),
             )
             return body, 429, {"Retry-After": str(wait)}
         cred = store.login_credentials(db, email)
@@ -175,12 +243,26 @@ def login():
         session.clear()  # a fresh cookie at log-in: no fixation
         session[SESSION_KEY] = token.token
         session.permanent = True
-        target = request.args.get("next") or ""
-        if not target.startswith("/") or target.startswith("//"):
-            target = url_for("pages.home")
-        return redirect(target)
+        return redirect(accounts.same_site_path(request.args.get("next")) or url_for("pages.home"))
     status = 400 if form.errors else 200
     return render_template("login.html", form=form, error=None), status
+
+
+def _log_in_wait(db, email: str, remote: str) -> int:
+    """Seconds before this account may be tried again from this address (0: now)."""
+    window = current_app.config["LOGIN_FAILURE_WINDOW_S"]
+    now = store.utc_now()
+    store.prune_login_attempts(db, older_than_s=window, now=now)
+    waits = [0]
+    for failed, rule in zip(
+        store.failed_log_ins(db, email=email, remote_addr=remote, window_s=window, now=now),
+        (current_app.config["LOG_IN_RULE_ACCOUNT"], current_app.config["LOG_IN_RULE_ADDRESS"]),
+        strict=True,
+    ):
+        if failed.last_at is not None:
+            since = (now - datetime.fromisoformat(failed.last_at)).total_seconds()
+            waits.append(accounts.throttle_wait(failed.count, since, rule))
+    return max(waits)
 
 
 @bp.post("/logout")

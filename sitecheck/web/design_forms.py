@@ -1057,11 +1057,6 @@ class InviteForm(FlaskForm):
             ),
         ],
     )
-    name = StringField(
-        "Name",
-        validators=[Optional(), Length(max=120)],
-        description="Used only if they have no account yet.",
-    )
     role = SelectField(
         "Role on this site", choices=options(ROLE_CHOICES), default=workflow.INSPECTOR
     )

@@ -5,7 +5,6 @@ from __future__ import annotations
 import math
 
 from flask import Blueprint, g, jsonify, render_template, request
-from flask_wtf import FlaskForm
 from markupsafe import Markup, escape
 
 from sitecheck import store, workflow
@@ -13,6 +12,7 @@ from sitecheck.bearing.format import number, quantity, utilisation
 from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
+from sitecheck.web.shapes import json_answer
 
 bp = Blueprint("pages", __name__)
 
@@ -35,10 +35,10 @@ def wants_json() -> bool:
 
 
 def render_page(template: str, status: int = 200, **context):
+    """The page as HTML, or at its ``.json`` address the page's declared shape for the
+    asker's role (sitecheck.web.shapes), never the whole context."""
     if wants_json():
-        data = {
-            k: v for k, v in context.items() if not isinstance(v, FlaskForm) and not callable(v)
-        }
+        data = json_answer(template, context, getattr(g, "role", None))
         data["caution"] = CAUTION
         return jsonify(_jsonable(data)), status
     return render_template(template, **context), status
@@ -62,7 +62,8 @@ def home():
     db = get_db()
     sites = store.sites_for_user(db, g.user["id"])
     queue = store.review_queue(db, user_id=g.user["id"])
-    return render_page("home.html", sites=sites, queue_count=len(queue))
+    invitations = store.open_invitations_for_email(db, email=g.user["email"])
+    return render_page("home.html", sites=sites, queue_count=len(queue), invitations=invitations)
 
 
 def error_page(error):

@@ -8,11 +8,11 @@ from __future__ import annotations
 
 import csv
 import io
-import secrets
 
 from flask import (
     Blueprint,
     Response,
+    abort,
     current_app,
     flash,
     g,
@@ -21,15 +21,17 @@ from flask import (
     request,
     url_for,
 )
+from flask_wtf import FlaskForm
 from werkzeug.exceptions import RequestEntityTooLarge
+from wtforms import HiddenField
+from wtforms.validators import AnyOf
 
-from sitecheck import auth as accounts
-from sitecheck import services, store, workflow
+from sitecheck import invitations, services, store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.bearing.inputs import MATERIALS
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
 from sitecheck.web import get_db
-from sitecheck.web.access import bearing_for, site_for
+from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
 from sitecheck.web.auth import login_required
 from sitecheck.web.design_forms import (
     BASIS_GROUPS,
@@ -92,6 +94,7 @@ def has_endpoint(name: str) -> bool:
 @bp.route("/sites/new", methods=["GET", "POST"])
 @login_required
 def new():
+    require_may_make_sites()
     form = SiteForm()
     if form.validate_on_submit():
         code_basis, review_settings = services.default_site_settings(form.basis.data)
@@ -106,6 +109,55 @@ def new():
         flash(f"Site “{site['name']}” created; you are its engineer.")
         return redirect(url_for("sites.show", site_id=site["id"]))
     return render_template("sites/new.html", form=form), 400 if form.errors else 200
+
+
+# --- who may make sites ------------------------------------------------------------------------
+
+
+class SiteMakerForm(FlaskForm):
+    allowed = HiddenField(validators=[AnyOf(("yes", "no"))])
+
+
+@bp.get("/may-make-sites")
+@login_required
+def site_makers():
+    require_may_make_sites()
+    return _site_makers_page(200)
+
+
+@bp.post("/may-make-sites/<int:user_id>")
+@login_required
+def set_site_maker(user_id):
+    require_may_make_sites()
+    db = get_db()
+    # Only people one shares a site with: the page lists no one else, and the answer for
+    # any other id is the same as for an id that does not exist.
+    person = next(
+        (p for p in store.people_sharing_sites(db, g.user["id"]) if p["id"] == user_id), None
+    )
+    if person is None:
+        return _site_makers_page(404, error="That person is not on any of your sites.")
+    form = SiteMakerForm()
+    if not form.validate():
+        return _site_makers_page(400, error="Send the form again from this page.")
+    allowed = form.allowed.data == "yes"
+    if user_id == g.user["id"] and not allowed:
+        return _site_makers_page(
+            409,
+            error="You cannot take this from yourself; ask another account that may make "
+            "sites, so that one always remains.",
+        )
+    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
+    name = person["name"] or "They"
+    flash(f"{name} may now make sites." if allowed else f"{name} may no longer make sites.")
+    return redirect(url_for("sites.site_makers"))
+
+
+def _site_makers_page(status: int, error: str | None = None):
+    people = store.people_sharing_sites(get_db(), g.user["id"])
+    return render_template(
+        "sites/makers.html", people=people, error=error, form=SiteMakerForm(formdata=None)
+    ), status
 
 
 # --- the site and its bearing schedule ----------------------------------------------------------
@@ -556,52 +608,92 @@ def invite(site_id):
         return _members_page(site, form, 400)
     db = get_db()
     email = store.normalise_email(form.email.data)
-    user = store.get_user_by_email(db, email)
-    role = form.role.data
-    if user is not None:
-        on_site = store.role_of(db, user_id=user["id"], site_id=site_id)
-        if on_site is not None:
-            add_error(
-                form.email,
-                f"{email} is already on this site as {on_site}; change their role in the "
-                "list instead.",
-            )
-            return _members_page(site, form, 409)
-        try:
-            store.add_membership(
-                db, user_id=user["id"], site_id=site_id, role=role, invited_by=g.user["id"]
-            )
-        except store.AlreadyMember as e:
-            add_error(form.email, str(e))
-            return _members_page(site, form, 409)
-        flash(f"{user['name'] or email} added to this site as {role}.")
-        return redirect(url_for("sites.members", site_id=site_id))
-    password = _one_time_password(email)
-    name = (form.name.data or "").strip() or email.split("@")[0]
-    try:
-        with store.transaction(db):
-            user = store.create_user(
-                db,
-                email=email,
-                name=name,
-                password_hash=accounts.hash_password(password),
-                must_change_password=True,
-            )
-            store.add_membership(
-                db, user_id=user["id"], site_id=site_id, role=role, invited_by=g.user["id"]
-            )
-    except store.DuplicateEmail:
-        add_error(form.email, f"An account for {email} was made a moment ago; send the form again.")
+    # Members' addresses are on this page for whoever may invite, so saying that one is
+    # already here tells nothing new; whether an address has an account elsewhere is never
+    # said (the answers below are the same either way).
+    member = next((m for m in store.members_of(db, site_id=site_id) if m["email"] == email), None)
+    if member is not None:
+        add_error(
+            form.email,
+            f"{email} is already on this site as {member['role']}; change their role in the "
+            "list instead.",
+        )
         return _members_page(site, form, 409)
-    new_account = {"email": email, "name": name, "role": role, "password": password}
-    return _members_page(site, InviteForm(formdata=None), 201, new_account=new_account)
+    mail = current_app.config["MAIL"]
+    invited = invitations.invite(
+        db,
+        site=site,
+        email=email,
+        role=form.role.data,
+        inviter=g.user,
+        mail=mail,
+        base_url=request.host_url,
+    )
+    until = invitations.utc_words(invited.invitation["expires_at"])
+    if mail is not None:
+        wake_mail_sender()
+        flash(
+            f"Invitation made for {email} as {form.role.data}. An e-mail telling them what to "
+            f"do next is on its way; the invitation waits for their answer until {until}."
+        )
+        return redirect(url_for("sites.members", site_id=site_id))
+    handover = {
+        "email": email,
+        "role": form.role.data,
+        "link": invited.handover_link,
+        "until": until,
+    }
+    return _members_page(site, InviteForm(formdata=None), 201, handover=handover)
 
 
-def _one_time_password(email: str) -> str:
-    while True:
-        password = secrets.token_urlsafe(12)
-        if accounts.password_problem(password, email=email) is None:
-            return password
+@bp.post("/sites/<site_id>/invitations/<invitation_id>/withdraw")
+@login_required
+def withdraw_invitation(site_id, invitation_id):
+    site, _role = site_for(site_id, "invite")
+    form = RemoveForm()
+    if not form.validate():
+        return _member_refusal(site, 400, "Send the form again.")
+    if not store.withdraw_invitation(
+        get_db(), invitation_id=invitation_id, site_id=site_id, by_user_id=g.user["id"]
+    ):
+        return _member_refusal(site, 404, "That invitation is not open on this site.")
+    flash("Invitation withdrawn; its link no longer works.")
+    return redirect(url_for("sites.members", site_id=site_id))
+
+
+def wake_mail_sender() -> None:
+    sender = current_app.extensions.get("mail_sender")
+    if sender is not None:
+        sender.wake()
+
+
+# --- invitations, as the invited person sees them -----------------------------------------------
+
+
+@bp.post("/invitations/<invitation_id>/<answer>")
+@login_required
+def answer_invitation(invitation_id, answer):
+    if answer not in ("accept", "decline"):
+        abort(404)
+    form = RemoveForm()
+    if not form.validate():
+        flash("Send your answer again from this page; nothing was changed.")
+        return redirect(url_for("pages.home"))
+    try:
+        invitation = store.answer_invitation(
+            get_db(),
+            invitation_id=invitation_id,
+            user_id=g.user["id"],
+            email=g.user["email"],
+            accept=answer == "accept",
+        )
+    except store.NotFound as closed:
+        abort(404, description=str(closed))
+    if answer == "decline":
+        flash(f"Invitation to {invitation['site_name']} declined.")
+        return redirect(url_for("pages.home"))
+    flash(f"You are on {invitation['site_name']} as {invitation['role']}.")
+    return redirect(url_for("sites.show", site_id=invitation["site_id"]))
 
 
 def _member_refusal(site: dict, status: int, message: str):
@@ -659,8 +751,9 @@ def remove_member(site_id, user_id):
     return redirect(url_for("sites.members", site_id=site_id))
 
 
-def _members_page(site: dict, invite_form, status: int, new_account=None, error=None):
+def _members_page(site: dict, invite_form, status: int, handover=None, error=None):
     db = get_db()
+    may_invite = workflow.allowed(g.role, "invite")
     people = [
         {
             "id": m["id"],
@@ -673,13 +766,48 @@ def _members_page(site: dict, invite_form, status: int, new_account=None, error=
         }
         for m in store.members_of(db, site_id=site["id"])
     ]
+    pending = (
+        [
+            {
+                "id": i["id"],
+                "email": i["email"],
+                "role": i["role"],
+                "invited_by": i["invited_by_name"],
+                "made_at": i["created_at"],
+                "expires_at": i["expires_at"],
+                "mail": _mail_words(i),
+            }
+            for i in store.open_invitations_for_site(db, site_id=site["id"])
+        ]
+        if may_invite
+        else []
+    )
     return render_page(
         "sites/members.html",
         status=status,
         site=_site_summary(site),
         members=people,
+        invitations=pending,
+        may_invite=may_invite,
         invite_form=invite_form,
         roles=list(workflow.ROLES),
-        new_account=new_account,
+        handover=handover,
         error=error,
     )
+
+
+def _mail_words(invitation: dict) -> str:
+    """How the invitation's e-mail went, in words for the inviter."""
+    if invitation["mail_id"] is None:
+        return "no e-mail: the link was handed over"
+    if invitation["mail_sent_at"]:
+        return "e-mail sent"
+    if invitation["mail_gave_up_at"]:
+        return f"e-mail could not be sent ({invitation['mail_error']}); invite them again"
+    if invitation["mail_attempts"]:
+        tries = invitation["mail_attempts"]
+        return (
+            f"e-mail not sent yet: {tries} tr{'y' if tries == 1 else 'ies'} failed "
+            f"({invitation['mail_error']}); trying again"
+        )
+    return "e-mail waiting to be sent"
