@@ -554,7 +554,11 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
         # Under a triangle of pressure the label says which reading of the loaded length
         # the wall's check kept (the shorter spread, the higher utilisation).
         f"{name} {_mm(m.spread_len)}"
-        + (f" ({m.spread_reading.removesuffix(' reading')})" if m.spread_reading else ""),
+        + (
+            f" ({m.spread_reading.removesuffix(' reading').replace('-', ' ')})"
+            if m.spread_reading
+            else ""
+        ),
         above=True,
         fill=MASONRY_SPREAD,
         role="spread-length",
