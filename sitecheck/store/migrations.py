@@ -482,6 +482,24 @@ def m009_record_jobs(db: sqlite_utils.Database) -> None:
     db.execute("CREATE INDEX record_jobs_started_by ON record_jobs(started_by, created_at)")
 
 
+UNMEASURABLE = ("covered", "no-access", "unsafe", "other")
+
+
+@MIGRATIONS()
+def m010_could_not_measure(db: sqlite_utils.Database) -> None:
+    """A record may say the bearing could not be measured, and why. Its kind is worked out
+    from that one column, so the two can never disagree; older records are 'measured'."""
+    db.execute(
+        "ALTER TABLE as_built_records ADD COLUMN why_not_measured TEXT "
+        f"CHECK (why_not_measured IS NULL OR why_not_measured IN {_in(UNMEASURABLE)})"
+    )
+    db.execute(
+        "ALTER TABLE as_built_records ADD COLUMN kind TEXT GENERATED ALWAYS AS "
+        "(CASE WHEN why_not_measured IS NULL THEN 'measured' ELSE 'could not measure' END) "
+        "VIRTUAL"
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 
