@@ -500,6 +500,22 @@ def m010_could_not_measure(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m011_leases(db: sqlite_utils.Database) -> None:
+    """Work that one process of several must do alone (sending the mail queue): whoever
+    holds a named lease until a time does it; a holder that dies lets it run out."""
+    db.execute(
+        """
+        CREATE TABLE leases (
+            name TEXT PRIMARY KEY CHECK (length(name) > 0),
+            holder TEXT NOT NULL CHECK (length(holder) > 0),
+            taken_at TEXT NOT NULL,
+            until TEXT NOT NULL
+        ) STRICT
+        """
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 
