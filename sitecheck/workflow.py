@@ -200,6 +200,67 @@ def state_after_revision(current_state: str, has_records: bool) -> str:
     return ENGINEER_TO_DECIDE
 
 
+# --- what comes first, and whose turn it is ------------------------------------------------------
+
+# How serious a bearing waiting for the engineer is, most serious first: its latest record
+# fails a check as built; or it passes but a blocking review reason stops the release; or
+# only advisory reasons remain (e.g. reopened after release).
+FAILING, BLOCKING, ADVISORY_ONLY = 0, 1, 2
+TIER_WORDS = {
+    FAILING: "fails as built",
+    BLOCKING: "blocking reasons",
+    ADVISORY_ONLY: "no blocking reason",
+}
+_FAILING_CHECK = "check-fails"
+
+
+def _blocks(reason: dict) -> bool:
+    return reason.get("severity") == "blocks"
+
+
+def reason_rank(reason: dict) -> tuple[int, float]:
+    """Failing checks first (the highest utilisation first), then the other blocking
+    reasons, then advisory ones; equal ranks keep the order the review found them in."""
+    if reason.get("code") == _FAILING_CHECK:
+        utilisation = (reason.get("values") or {}).get("utilisation")
+        if not isinstance(utilisation, (int, float)) or isinstance(utilisation, bool):
+            utilisation = float("inf")  # no capacity at all: the worst there is
+        return (0, -float(utilisation))
+    return (1, 0.0) if _blocks(reason) else (2, 0.0)
+
+
+def ordered_reasons(reasons: list[dict] | None) -> list[dict]:
+    return sorted(reasons or [], key=reason_rank)
+
+
+def queue_tier(passed: bool | None, reasons: list[dict] | None) -> int:
+    """FAILING, BLOCKING or ADVISORY_ONLY for a bearing waiting for the engineer."""
+    if passed is False or any(r.get("code") == _FAILING_CHECK for r in reasons or []):
+        return FAILING
+    if passed is None or any(_blocks(r) for r in reasons or []):
+        return BLOCKING
+    return ADVISORY_ONLY
+
+
+# Whose move it is in each state, in words for the release list and the site page.
+WHO_ACTS = {
+    AWAITING_SURVEY: ("inspector", "The inspector measures it as built."),
+    WITHIN_DESIGN: ("contractor", "The contractor may release it for closing up."),
+    ENGINEER_TO_DECIDE: ("engineer", "The engineer decides on it."),
+    ACCEPTED: ("contractor", "The contractor may release it for closing up."),
+    REMEDIAL: (
+        "contractor",
+        "The contractor does the remedial work; then the inspector measures it again.",
+    ),
+    RELEASED: ("nobody", "Nobody: it is released and locked."),
+}
+
+
+def who_acts(state: str) -> tuple[str, str]:
+    """(role, sentence): who must act next on a bearing in ``state``."""
+    return WHO_ACTS[_check_state(state)]
+
+
 def allowed(role: str | None, action: str) -> bool:
     """May someone with ``role`` on a site (None: not on it) do ``action`` there?"""
     if action not in PERMISSIONS:

@@ -194,6 +194,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m004_outgoing_mail",
         "m005_invitations",
         "m006_single_use_links",
+        "m007_notices",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -294,7 +295,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 6
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 7
     finally:
         db.close()
 

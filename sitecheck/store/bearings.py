@@ -893,15 +893,16 @@ def reopenings_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) 
 def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
     """Bearings waiting for this user's decision, across the sites where they are engineer.
 
-    Most serious first: highest utilisation of the latest record, then most blocking reasons,
-    then longest waiting. Each row is the bearing plus ``site_name``, ``utilisation``,
-    ``blocking``, ``measured_at`` and ``reasons`` of its latest record.
+    Highest utilisation of the latest record first, then most blocking reasons, then
+    longest waiting (the review page orders by severity on top of this). Each row is the
+    bearing plus ``site_name``, ``utilisation``, ``passed``, ``blocking``, ``measured_at``
+    and ``reasons`` of its latest record.
     """
     return many(
         db,
         """
-        SELECT b.*, s.name AS site_name, r.utilisation, r.blocking, r.measured_at, r.reasons,
-               r.design_revision < b.revision AS older_revision
+        SELECT b.*, s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at,
+               r.reasons, r.design_revision < b.revision AS older_revision
         FROM memberships m
         JOIN sites s ON s.id = m.site_id
         JOIN bearings b ON b.site_id = m.site_id

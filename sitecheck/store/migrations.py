@@ -378,6 +378,75 @@ def m006_single_use_links(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m007_notices(db: sqlite_utils.Database) -> None:
+    """Notices: who is told by e-mail that it is their turn, and when each person last
+    looked at a site (for "since you last looked").
+
+    ``notices`` are made from the audit trail by the mail sender, after ``notice_cursor``
+    (the last event read); the cursor starts at the newest event of the day this is applied,
+    so turning mail on never mails the whole past. A notice is pending until it goes into a
+    message (``mailed_at``, with the message's ``mail_id``) or is overtaken before that
+    (``dropped_at``: the bearing moved on). ``notices_off`` holds the kinds each person
+    turned off. Messages may carry a simple HTML part beside the plain text."""
+    db.execute(
+        """
+        CREATE TABLE notices (
+            id INTEGER PRIMARY KEY,
+            user_id INTEGER NOT NULL REFERENCES users(id),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            event_id INTEGER NOT NULL,
+            by_user_id INTEGER REFERENCES users(id),
+            words TEXT NOT NULL DEFAULT '',
+            created_at TEXT NOT NULL,
+            mail_id INTEGER REFERENCES outgoing_mail(id),
+            mailed_at TEXT,
+            dropped_at TEXT,
+            UNIQUE (user_id, event_id, kind),
+            CHECK (mailed_at IS NULL OR dropped_at IS NULL)
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE INDEX notices_waiting ON notices(user_id, id) "
+        "WHERE mailed_at IS NULL AND dropped_at IS NULL"
+    )
+    db.execute("CREATE INDEX notices_mailed ON notices(user_id, mailed_at)")
+    db.execute(
+        """
+        CREATE TABLE notice_cursor (
+            id INTEGER PRIMARY KEY CHECK (id = 1),
+            last_event_id INTEGER NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute(
+        "INSERT INTO notice_cursor (id, last_event_id) SELECT 1, coalesce(max(id), 0) FROM events"
+    )
+    db.execute(
+        """
+        CREATE TABLE notices_off (
+            user_id INTEGER NOT NULL REFERENCES users(id),
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            PRIMARY KEY (user_id, kind)
+        ) STRICT
+        """
+    )
+    db.execute(
+        """
+        CREATE TABLE site_visits (
+            user_id INTEGER NOT NULL REFERENCES users(id),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            looked_at TEXT NOT NULL,
+            PRIMARY KEY (user_id, site_id)
+        ) STRICT
+        """
+    )
+    db.execute("ALTER TABLE outgoing_mail ADD COLUMN html TEXT")
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

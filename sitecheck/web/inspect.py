@@ -32,7 +32,7 @@ from sitecheck.photos import IngestedPhoto, PhotoLimits, PhotoRejected, ingest_p
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.auth import login_required
-from sitecheck.web.pages import page_rule, render_page, wants_json
+from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
 from sitecheck.web.record_form import (
     GROUPS,
     MAX_PHOTOS,
@@ -75,6 +75,7 @@ def bearings(site_id):
         for b in rows
     ]
     to_survey = sum(1 for b in rows if b["state"] in _SURVEY_FIRST)
+    looked_now([site["id"]])
     return render_page(
         "inspect/bearings.html",
         site=_site_summary(site),

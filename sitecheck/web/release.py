@@ -13,7 +13,7 @@ from sitecheck.web import get_db
 from sitecheck.web.access import ACTION_WORDS, bearing_for, site_for
 from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import DECISION_LABELS, ReleaseForm, ReopenForm
-from sitecheck.web.pages import page_rule, render_page, wants_json
+from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
 from sitecheck.web.review import as_sentence, bearing_page, site_names, when
 
 bp = Blueprint("release", __name__)
@@ -29,6 +29,7 @@ def site(site_id):
     if request.method == "POST":
         return _release(site_id)
     found, _role = site_for(site_id, "view")
+    looked_now([found["id"]])
     return _release_page(found, ReleaseForm(formdata=None))
 
 

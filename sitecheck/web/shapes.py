@@ -73,7 +73,13 @@ _SITE = ("id", "name", "address", "basis", "created_at")
 @shape("home.html")
 def _home(c, _role):
     return {
-        "sites": pick_all(c["sites"], "id", "name", "address", "role"),
+        "sites": [
+            {
+                **pick(s, "id", "name", "address", "role"),
+                "since": pick_all(s.get("since"), "kind", "count", "words", "references"),
+            }
+            for s in c["sites"]
+        ],
         "queue_count": c["queue_count"],
         "invitations": pick_all(
             c.get("invitations"), "id", "site_name", "role", "invited_by_name", "expires_at"
@@ -94,14 +100,22 @@ def _queue(c, _role):
             "state",
             "utilisation",
             "has_record",
+            "tier",
+            "tier_words",
             "blocking",
             "first_reason",
+            "reasons",
             "older_revision",
             "measured_at",
             "waiting_since",
+            "new",
         ),
+        "waiting": c["waiting"],
         "is_engineer": c["is_engineer"],
         "sentence": c["sentence"],
+        "filters": c["filters"],
+        "site_options": c["site_options"],
+        "reason_options": c["reason_options"],
     }
 
 
@@ -116,6 +130,8 @@ def _site(c, role):
         "bearings": c["bearings"],  # rows the view already picked (_schedule_row)
         "counts": c["counts"],
         "failing_at_design": c["failing_at_design"],
+        "since": pick_all(c["since"], "kind", "count", "words", "references"),
+        "next_for_you": pick(c["next_for_you"], "count", "words", "url"),
     }
 
 
@@ -253,7 +269,14 @@ def _review(c, role):
         ),
         "records": pick_all(c["records"], *_RECORD),
         "history": pick_all(
-            c["history"], "what", "title", "at", "who", "signed_as", "text", "record_uuid"
+            c["history"],
+            "what",
+            "title",
+            "at",
+            "who",
+            "signed_as",
+            "text",
+            "record_uuid",
         ),
         "decision_kinds": c["decision_kinds"],
         "may_decide": c["may_decide"],
