@@ -200,6 +200,31 @@ def state_after_revision(current_state: str, has_records: bool) -> str:
     return ENGINEER_TO_DECIDE
 
 
+# --- accepting a bearing that fails as built ------------------------------------------------------
+
+# The reason for accepting a bearing that fails as built must be a full sentence: at least
+# this many words, ending with a full stop. The screen says so beside the box.
+SENTENCE_MIN_WORDS = 8
+FULL_SENTENCE_WORDS = (
+    f"a full sentence: at least {SENTENCE_MIN_WORDS} words, ending with a full stop"
+)
+
+
+def full_sentence_problem(text: str | None) -> str | None:
+    """Why ``text`` is not a full sentence in the sense above, or None if it is."""
+    text = (text or "").strip()
+    words = len(text.split())
+    if words < SENTENCE_MIN_WORDS:
+        return (
+            f"Write the reason as {FULL_SENTENCE_WORDS} (you wrote {words} "
+            f"word{'' if words == 1 else 's'}): accepting a bearing that fails as built "
+            "must say why it is safe."
+        )
+    if not text.endswith("."):
+        return f"End the reason with a full stop: it must be {FULL_SENTENCE_WORDS}."
+    return None
+
+
 # --- what comes first, and whose turn it is ------------------------------------------------------
 
 # How serious a bearing waiting for the engineer is, most serious first: its latest record

@@ -195,6 +195,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m005_invitations",
         "m006_single_use_links",
         "m007_notices",
+        "m008_decision_signatures",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -295,7 +296,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 7
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 8
     finally:
         db.close()
 

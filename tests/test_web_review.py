@@ -624,3 +624,71 @@ def test_after_a_decision_the_next_to_decide_opens_within_the_same_filters(
     assert "Nothing else waits for your decision with these filters now." in (
         engineer.get(r.headers["Location"]).data.decode()
     )
+
+
+# --- accepting a bearing that fails as built ---------------------------------------------------------
+
+
+def test_accepting_a_failing_bearing_needs_its_confirmation_and_a_full_sentence(
+    db, people, site, client_as
+):
+    fails_unmeasured(db, site, "GF-B1-E", people["inspector"])
+    b = bearing_named(db, site, "GF-B1-E")
+    engineer = client_as("engineer")
+    data = engineer.get(review_url(site, b, json=True)).get_json()
+    failing = data["failing"]
+    latest = data["latest"]
+    assert failing["check"] == latest["result"]["governing"]
+    assert failing["utilisation"] == latest["utilisation"] > 1
+    title, shown = failing["title"], f"{failing['utilisation']:.2f}"
+    page = engineer.get(review_url(site, b)).data.decode()
+    assert f"I accept GF-B1-E although {title} fails as built with utilisation {shown}." in page
+    assert "a full sentence: at least 8 words, ending with a full stop" in page
+
+    sentence = "The wall below is solid brick, checked by hand on site today."
+    attempts = [
+        ({"reason": sentence}, "confirm_failing", "tick the confirmation"),
+        (
+            {"reason": "Fine as it is, I checked.", "confirm_failing": "y"},
+            "reason",
+            "you wrote 6 words",
+        ),
+        (
+            {"reason": sentence[:-1], "confirm_failing": "y"},
+            "reason",
+            "End the reason with a full stop",
+        ),
+    ]
+    for change, field, says in attempts:
+        form = decide_form(engineer, site, b, kind="accept") | change
+        r = engineer.post(decision_url(site, b), data=form)
+        assert r.status_code == 400, change
+        html = r.data.decode()
+        assert re.search(f'data-error-for="{field}">[^<]*{says}', html), says
+        assert change["reason"] in html  # nothing typed is lost
+        assert store.decisions_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+
+    form = decide_form(engineer, site, b, kind="accept", reason=sentence) | {"confirm_failing": "y"}
+    assert engineer.post(decision_url(site, b), data=form).status_code == 302
+    (d,) = store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])
+    assert d["engineer_name"] == "Esme Engineer"
+    assert d["accepted_failing"] == failing
+    said = f"Accepted although it fails: {title}, utilisation {shown}"
+    history = engineer.get(review_url(site, b, json=True)).get_json()["history"]
+    assert [(h["title"], h["who"], h["text"]) for h in history] == [
+        (said, "Esme Engineer", sentence)
+    ]
+    site_history = engineer.get(f"/sites/{site['id']}/history").data.decode()
+    assert said.lower() in site_history
+
+
+def test_accepting_a_bearing_that_passes_asks_for_no_confirmation(db, people, site, client_as):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=120.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    engineer = client_as("engineer")
+    assert engineer.get(review_url(site, b, json=True)).get_json()["failing"] is None
+    assert "although" not in engineer.get(review_url(site, b)).data.decode()
+    form = decide_form(engineer, site, b, kind="accept", reason="Short but fine.")
+    assert engineer.post(decision_url(site, b), data=form).status_code == 302
+    (d,) = store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])
+    assert d["accepted_failing"] is None and d["engineer_name"] == "Esme Engineer"

@@ -21,6 +21,7 @@ JSON_COLUMNS = frozenset(
         "result",
         "reasons",
         "detail",
+        "accepted_failing",
     }
 )
 BOOL_COLUMNS = frozenset(

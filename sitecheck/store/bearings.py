@@ -715,13 +715,19 @@ def record_decision(
     reason: str,
     expected_state: str,
     new_state: str,
+    engineer_name: str | None = None,
+    accepted_failing: dict[str, Any] | None = None,
     now: datetime | None = None,
 ) -> dict:
     """Store the engineer's decision on the bearing's latest record and move its state.
 
     ``new_state`` is ``workflow.state_after_decision(kind)``. If a newer record arrived since
     the engineer looked, ``StaleState``: a decision must be about what is now the latest record.
+    ``engineer_name`` is kept as signed; ``accepted_failing`` (what fails, as the engineer
+    confirmed it) only with an acceptance.
     """
+    if accepted_failing is not None and kind != "accept":
+        raise ValueError("accepted_failing goes only with an acceptance")
     if kind not in DECISION_KINDS:
         raise ValueError(f"decision kind {kind!r} is not one of {', '.join(DECISION_KINDS)}")
     reason = required_text(reason, "The reason for the decision")
@@ -738,10 +744,20 @@ def record_decision(
         at = timestamp(now or utc_now())
         cursor = db.execute(
             """
-            INSERT INTO decisions (bearing_id, record_uuid, engineer_id, kind, reason, created_at)
-            VALUES (?, ?, ?, ?, ?, ?)
+            INSERT INTO decisions (bearing_id, record_uuid, engineer_id, kind, reason, created_at,
+                engineer_name, accepted_failing)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?)
             """,
-            [bearing_id, record_uuid, engineer_id, kind, reason, at],
+            [
+                bearing_id,
+                record_uuid,
+                engineer_id,
+                kind,
+                reason,
+                at,
+                engineer_name,
+                None if accepted_failing is None else to_json(accepted_failing),
+            ],
         )
         decision_id = cursor.lastrowid
         _move(
@@ -756,6 +772,8 @@ def record_decision(
                 "kind": kind,
                 "reason": reason,
                 "record_uuid": record_uuid,
+                **({"engineer_name": engineer_name} if engineer_name else {}),
+                **({"accepted_failing": accepted_failing} if accepted_failing else {}),
             },
         )
     return one(db, "SELECT * FROM decisions WHERE id = ?", [decision_id])

@@ -447,6 +447,19 @@ def m007_notices(db: sqlite_utils.Database) -> None:
     db.execute("ALTER TABLE outgoing_mail ADD COLUMN html TEXT")
 
 
+@MIGRATIONS()
+def m008_decision_signatures(db: sqlite_utils.Database) -> None:
+    """A decision keeps the engineer's name as it was when they decided (an account's name
+    may change later; the record must not), and an acceptance of a bearing that fails as
+    built keeps what failed (``accepted_failing``: the governing check, its title and the
+    utilisation the engineer confirmed). Older decisions have neither."""
+    db.execute("ALTER TABLE decisions ADD COLUMN engineer_name TEXT")
+    db.execute(
+        "ALTER TABLE decisions ADD COLUMN accepted_failing TEXT "
+        "CHECK (accepted_failing IS NULL OR json_valid(accepted_failing))"
+    )
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

@@ -7,7 +7,7 @@ follow later: a reason long enough to say something, a name that signs the relea
 from __future__ import annotations
 
 from flask_wtf import FlaskForm
-from wtforms import HiddenField, SelectMultipleField, StringField, TextAreaField
+from wtforms import BooleanField, HiddenField, SelectMultipleField, StringField, TextAreaField
 from wtforms.validators import AnyOf, DataRequired, InputRequired, Length, Regexp, ValidationError
 
 from sitecheck import workflow
@@ -78,6 +78,9 @@ class DecisionForm(FlaskForm):
         ],
     )
     reason = TextAreaField("Reason", filters=[_strip], validators=[written_reason("your decision")])
+    # Asked only when the latest record fails as built and the decision is to accept it;
+    # the page's label names the failing check and its utilisation.
+    confirm_failing = BooleanField("I accept this bearing although it fails as built")
 
     @property
     def hidden_errors(self) -> list[str]:

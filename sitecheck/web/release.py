@@ -14,7 +14,7 @@ from sitecheck.web.access import ACTION_WORDS, bearing_for, site_for
 from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import DECISION_LABELS, ReleaseForm, ReopenForm
 from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
-from sitecheck.web.review import as_sentence, bearing_page, site_names, when
+from sitecheck.web.review import as_sentence, bearing_page, decision_title, site_names, when
 
 bp = Blueprint("release", __name__)
 
@@ -213,6 +213,7 @@ def _event(e: dict, names, references: dict) -> dict:
 _NOTE_LABELS = {
     "kind": "decision",
     "reason": "reason",
+    "engineer_name": "signed as",
     "contractor_name": "signed as",
     "statement": "statement",
     "action": "tried to",
@@ -234,6 +235,9 @@ def _notes(extra: dict) -> list[str]:
         elif key == "action":
             value = ACTION_WORDS.get(value, value)
         lines.append(f"{label}: {_short(value)}")
+    failing = extra.get("accepted_failing")
+    if isinstance(failing, dict):
+        lines.insert(0, decision_title({"kind": "accept", "accepted_failing": failing}).lower())
     if extra.get("late"):
         lines.append("late: arrived after release; it moves nothing")
     elif extra.get("newest") is False:

@@ -227,7 +227,13 @@ def decide(site_id, bearing_id):
             kind=form.kind.data,
             reason=form.reason.data,
             engineer_id=g.user["id"],
+            engineer_name=g.user["name"],
+            confirmed_failing=bool(form.confirm_failing.data),
         )
+    except services.AcceptFailingRefused as refused:
+        # The engineer's words stay in the box; the message sits by the field to mend.
+        getattr(form, refused.field).errors = [str(refused)]
+        return bearing_page(site, found, decision_form=form, status=400)
     except (store.StaleState, workflow.WorkflowError) as error:
         fresh = bearing_for(site, bearing_id)
         keep = DecisionForm(formdata=None, kind=form.kind.data, reason=form.reason.data)
@@ -305,6 +311,8 @@ def bearing_page(
         "review/bearing.html",
         status=status,
         filters=_filters(),
+        failing=services.failing_as_built(latest),
+        sentence_rule=workflow.FULL_SENTENCE_WORDS,
         site={"id": site["id"], "name": site["name"]},
         role=g.role,
         bearing=_bearing_summary(b),
@@ -475,11 +483,12 @@ def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[di
         entries.append(
             {
                 "what": "decision",
-                "title": DECISION_LABELS.get(d["kind"], d["kind"]),
+                "title": decision_title(d),
                 "at": d["created_at"],
-                "who": names(d["engineer_id"]),
+                "who": d.get("engineer_name") or names(d["engineer_id"]),
                 "text": d["reason"],
                 "record_uuid": d["record_uuid"],
+                "accepted_failing": bool(d.get("accepted_failing")),
             }
         )
     for r in store.releases_for(db, site_id=site_id, bearing_id=bearing_id):
@@ -506,6 +515,19 @@ def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[di
         )
     entries.sort(key=lambda e: e["at"], reverse=True)
     return entries
+
+
+def decision_title(d: dict) -> str:
+    """A decision's title as the history, the PDF and the release list say it: an
+    acceptance of a bearing that fails as built says so, with what fails."""
+    failing = d.get("accepted_failing")
+    if failing:
+        u = failing.get("utilisation")
+        return (
+            f"Accepted although it fails: {failing.get('title')}, utilisation "
+            f"{'no capacity' if u is None else format(u, '.2f')}"
+        )
+    return DECISION_LABELS.get(d["kind"], d["kind"])
 
 
 class _Names:
