@@ -167,12 +167,19 @@ def can_release(state: str) -> bool:
     return _check_state(state) in RELEASABLE_STATES
 
 
-def release_refusal(state: str, *, reference: str | None = None) -> str | None:
-    """Why a bearing in ``state`` may not be released, as one sentence; None if it may."""
+def release_refusal(
+    state: str, *, reference: str | None = None, measure_again: bool = False
+) -> str | None:
+    """Why a bearing in ``state`` may not be released, as one sentence; None if it may.
+    ``measure_again``: it awaits survey because the engineer asked for it to be measured
+    again (it has records, so "no record yet" would be wrong)."""
     if can_release(state):
         return None
     subject = f"Bearing {reference}" if reference else "This bearing"
-    return f"{subject} is '{state}': {_NOT_RELEASABLE_BECAUSE[state]}"
+    because = _NOT_RELEASABLE_BECAUSE[state]
+    if measure_again and state == AWAITING_SURVEY:
+        because = "the engineer asked for it to be measured again."
+    return f"{subject} is '{state}': {because}"
 
 
 def reopen(*, state: str, role: str | None, reason: str) -> str:
@@ -279,6 +286,20 @@ WHO_ACTS = {
     ),
     RELEASED: ("nobody", "Nobody: it is released and locked."),
 }
+
+
+# The decision whose words stand for a bearing in each state: what the engineer asked for
+# and is still to be done, or why it may be closed up.
+_WORDS_STAND = {REMEDIAL: "remedial", AWAITING_SURVEY: "measure-again", ACCEPTED: "accept"}
+
+
+def standing_decision(state: str, decision: dict | None) -> dict | None:
+    """The bearing's latest decision if its words still stand in ``state`` (remedial work
+    not yet measured, a measure-again request not yet answered, an acceptance not yet
+    released); None otherwise."""
+    if decision is None or _WORDS_STAND.get(_check_state(state)) != decision.get("kind"):
+        return None
+    return decision
 
 
 def who_acts(state: str) -> tuple[str, str]:

@@ -897,6 +897,24 @@ def decisions_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -
     return _for_bearing(db, "decisions", site_id, bearing_id)
 
 
+def latest_decisions(db: sqlite_utils.Database, *, site_id: str) -> dict[str, dict]:
+    """Each bearing's newest decision on a site, by bearing id, with the engineer's name as
+    signed (or as the account is called, for a decision from before names were kept)."""
+    rows = many(
+        db,
+        """
+        SELECT d.*, coalesce(d.engineer_name, u.name) AS signed_by FROM decisions d
+        JOIN bearings b ON b.id = d.bearing_id LEFT JOIN users u ON u.id = d.engineer_id
+        WHERE b.site_id = ? AND d.id = (
+            SELECT d2.id FROM decisions d2 WHERE d2.bearing_id = d.bearing_id
+            ORDER BY d2.created_at DESC, d2.id DESC LIMIT 1
+        )
+        """,
+        [site_id],
+    )
+    return {row["bearing_id"]: row for row in rows}
+
+
 def releases_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
     return _for_bearing(db, "releases", site_id, bearing_id)
 

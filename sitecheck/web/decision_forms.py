@@ -123,3 +123,6 @@ class ReleaseForm(FlaskForm):
             ),
         ],
     )
+    # "yes" once the contractor has seen the filled-in release on its confirmation step;
+    # a first sending of a complete form only shows that step.
+    confirmed = HiddenField()

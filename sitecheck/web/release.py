@@ -43,6 +43,14 @@ def _release(site_id: str):
     # Every id is resolved before anything is released: an id from another site stops the
     # whole request (404) rather than leaving it half done.
     chosen = [bearing_for(found, bearing_id) for bearing_id in ids]
+    if form.confirmed.data != "yes":
+        # Complete, so now (and only now) the contractor sees exactly what they sign.
+        confirm = {
+            "bearings": [{"id": b["id"], "reference": b["reference"]} for b in chosen],
+            "contractor_name": form.contractor_name.data,
+            "statement": form.statement.data,
+        }
+        return _release_page(found, form, confirm=confirm)
     released, refused = [], []
     for b in chosen:
         try:
@@ -71,18 +79,32 @@ def _release(site_id: str):
     return _release_page(found, fresh, outcome=outcome, status=status)
 
 
-def _release_page(found: dict, form: ReleaseForm, *, outcome: dict | None = None, status=200):
+def _release_page(
+    found: dict,
+    form: ReleaseForm,
+    *,
+    outcome: dict | None = None,
+    confirm: dict | None = None,
+    status=200,
+):
     db = get_db()
     names = site_names(db, found["id"])
     ready, waiting, done = [], [], []
     selected = set(form.bearings.data or [])
+    decisions = store.latest_decisions(db, site_id=found["id"])
     for b in store.list_bearings(db, site_id=found["id"]):
+        actor, next_step = workflow.who_acts(b["state"])
         item = {
             "id": b["id"],
             "reference": b["reference"],
             "location": b["location"],
             "state": b["state"],
             "since": b["state_changed_at"],
+            "who_acts": actor,
+            "next_step": next_step,
+            "engineer_words": _engineer_words(
+                workflow.standing_decision(b["state"], decisions.get(b["id"]))
+            ),
         }
         if workflow.can_release(b["state"]):
             item["selected"] = b["id"] in selected
@@ -99,7 +121,12 @@ def _release_page(found: dict, form: ReleaseForm, *, outcome: dict | None = None
                 }
             done.append(item)
         else:
-            item["reason"] = workflow.release_refusal(b["state"], reference=b["reference"])
+            words = item["engineer_words"]
+            item["reason"] = workflow.release_refusal(
+                b["state"],
+                reference=b["reference"],
+                measure_again=words is not None and b["state"] == workflow.AWAITING_SURVEY,
+            )
             waiting.append(item)
     return render_page(
         "release/site.html",
@@ -111,9 +138,22 @@ def _release_page(found: dict, form: ReleaseForm, *, outcome: dict | None = None
         waiting=waiting,
         released=done,
         outcome=outcome,
+        confirm=confirm,
         form=form,
         when=when,
     )
+
+
+def _engineer_words(decision: dict | None) -> dict | None:
+    """The engineer's standing words on a bearing, as the release list shows them."""
+    if decision is None:
+        return None
+    return {
+        "title": decision_title(decision),
+        "text": decision["reason"],
+        "by": decision["signed_by"],
+        "at": decision["created_at"],
+    }
 
 
 @bp.post("/sites/<site_id>/bearings/<bearing_id>/reopen")

@@ -289,11 +289,13 @@ def _review(c, role):
 
 @shape("release/site.html")
 def _release(c, role):
-    item = ("id", "reference", "location", "state", "since")
+    item = ("id", "reference", "location", "state", "since", "who_acts", "next_step")
+    item += ("engineer_words",)
     return {
         "site": pick(c["site"], "id", "name"),
         "role": role,
         "may_release": c["may_release"],
+        "confirm": c["confirm"],
         "ready": pick_all(c["ready"], *item, "selected"),
         "waiting": pick_all(c["waiting"], *item, "reason"),
         "released": pick_all(c["released"], *item, "released_at", "signed_as", "by", "statement"),
