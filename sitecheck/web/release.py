@@ -14,7 +14,14 @@ from sitecheck.web.access import ACTION_WORDS, bearing_for, site_for
 from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import DECISION_LABELS, ReleaseForm, ReopenForm
 from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
-from sitecheck.web.review import as_sentence, bearing_page, decision_title, site_names, when
+from sitecheck.web.review import (
+    as_sentence,
+    bearing_page,
+    decision_title,
+    engineer_words,
+    site_names,
+    when,
+)
 
 bp = Blueprint("release", __name__)
 
@@ -102,7 +109,7 @@ def _release_page(
             "since": b["state_changed_at"],
             "who_acts": actor,
             "next_step": next_step,
-            "engineer_words": _engineer_words(
+            "engineer_words": engineer_words(
                 workflow.standing_decision(b["state"], decisions.get(b["id"]))
             ),
         }
@@ -142,18 +149,6 @@ def _release_page(
         form=form,
         when=when,
     )
-
-
-def _engineer_words(decision: dict | None) -> dict | None:
-    """The engineer's standing words on a bearing, as the release list shows them."""
-    if decision is None:
-        return None
-    return {
-        "title": decision_title(decision),
-        "text": decision["reason"],
-        "by": decision["signed_by"],
-        "at": decision["created_at"],
-    }
 
 
 @bp.post("/sites/<site_id>/bearings/<bearing_id>/reopen")

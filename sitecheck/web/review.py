@@ -530,6 +530,20 @@ def decision_title(d: dict) -> str:
     return DECISION_LABELS.get(d["kind"], d["kind"])
 
 
+def engineer_words(decision: dict | None) -> dict | None:
+    """The engineer's words of a decision (from ``store.latest_decisions``, which names the
+    signer), as the release list, the inspector's form and the site pack show them."""
+    if decision is None:
+        return None
+    return {
+        "kind": decision["kind"],
+        "title": decision_title(decision),
+        "text": decision["reason"],
+        "by": decision["signed_by"],
+        "at": decision["created_at"],
+    }
+
+
 class _Names:
     """People's names by id, looked up once per page. Someone no longer on the site is
     still named: what they did stays on the record."""

@@ -54,6 +54,7 @@ from sitecheck.web.record_form import (
     SPECS,
     designed_text,
 )
+from sitecheck.web.review import engineer_words
 
 bp = Blueprint("sync", __name__)
 
@@ -162,6 +163,7 @@ def pack(site_id):
     site, role = site_for(site_id, "record")
     basis = services.basis_for(site)
     bearings = []
+    decisions = store.latest_decisions(get_db(), site_id=site["id"])
     for b in store.list_bearings(get_db(), site_id=site["id"]):
         design_result = b["design_result"] or {}
         bearings.append(
@@ -179,6 +181,10 @@ def pack(site_id):
                 },
                 # Ready-made words beside each field, so the phone shows what the online form shows.
                 "designed": {name: designed_text(b["design_input"], name) for name in SPECS},
+                # What the engineer asked for, shown on the form with no signal too.
+                "engineer_words": engineer_words(
+                    workflow.standing_decision(b["state"], decisions.get(b["id"]))
+                ),
             }
         )
     response = jsonify(
