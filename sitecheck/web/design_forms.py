@@ -49,6 +49,17 @@ from sitecheck.bearing.inputs import (
 )
 from sitecheck.bearing.review import ReviewSettings
 from sitecheck.schedule import FIELD_TO_COLUMN
+from sitecheck.settings_words import (  # noqa: F401  (the settings page's words, re-exported)
+    BASIS_GROUPS,
+    BASIS_LABELS,
+    GAMMA_M_BS_ROWS,
+    GAMMA_M_EC6_ROWS,
+    K_MORTARS,
+    REVIEW_LABELS,
+    SPREADER_FLAG,
+    SPREADER_FLAG_LABEL,
+    source_tag,
+)
 
 # --- small parts -------------------------------------------------------------------------------
 
@@ -128,20 +139,6 @@ def parse_number(field, unit: str = "", *, required: bool = False, what: str = "
         add_error(field, "Expected a finite number.")
         return None
     return value
-
-
-def source_tag(text: str) -> tuple[str, str] | None:
-    """The source label at the end of a SOURCES entry, with the words the screen shows."""
-    for tag, words in (
-        ("[M]", "from memory: confirm against the standard before relying on it"),
-        ("[P]", "partly seen in a published source"),
-        ("[S]", "seen in a published source"),
-        ("[CP]", "common practice"),
-        ("[ours", "a choice of this tool"),
-    ):
-        if tag in text:
-            return tag.strip("[]"), words
-    return None
 
 
 def utc_text(value: str | None) -> str:
@@ -664,103 +661,54 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
 
 # Plausibility bounds of ours, to catch a slip (a percentage typed as a ratio, metres for
 # millimetres), not code limits: the engineer may set any value a standard could give.
-BASIS_SCALARS: dict[str, tuple[str, str, float, float]] = {
-    "gamma_c": ("Partial factor for concrete γ_c", "", 1.0, 3.0),
-    "alpha_cc": ("Long-term coefficient α_cc", "", 0.5, 1.0),
-    "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", "", 1.0, 5.0),
-    "padstone_spread_deg": ("Spread through the padstone", "°", 10.0, 80.0),
-    "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²", 1.0, 200.0),
-    "f_m_max": ("Greatest mortar strength f_m", "N/mm²", 1.0, 50.0),
-    "masonry_spread_deg": ("Spread through the masonry", "°", 10.0, 80.0),
-    "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", "", 0.05, 1.0),
-    "spreader_min_depth": ("Spreader: least depth", "mm", 0.0, 2000.0),
-    "spreader_length_factor": ("Spreader: least length, × bearing length", "", 0.0, 10.0),
-    "spreader_stress_factor": ("Spreader: stress limit, × f_d", "", 1.0, 3.0),
-    "max_eccentricity_ratio": ("Greatest eccentricity across the wall, × t", "", 0.01, 0.5),
-    "k_E": ("Modulus of elasticity, × f_k", "", 100.0, 5000.0),
-    "e_mk_min_ratio": ("Least mid-height eccentricity e_mk, × t", "", 0.0, 0.5),
-    "e_init_divisor": ("Initial eccentricity e_init = h_ef / …", "", 100.0, 2000.0),
-    "dispersion_depth_ratio": ("Depth of the dispersion check, × h", "", 0.1, 1.0),
-    "bs_min_eccentricity_ratio": ("Least eccentricity e_x, × t", "", 0.0, 0.5),
-    "slenderness_limit": ("Greatest slenderness h_ef / t_ef", "", 5.0, 60.0),
-    "min_bearing_beam": ("Least bearing of a steel beam", "mm", 0.0, 1000.0),
-    "min_bearing_lintel": ("Least end bearing of a lintel", "mm", 0.0, 1000.0),
-    "inline_flange_allowance": ("In line: flange may exceed t by", "mm", 0.0, 500.0),
-    "inline_padstone_min_length": ("In line: least padstone length", "mm", 0.0, 3000.0),
-    "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm", 0.0, 200.0),
+_BASIS_BOUNDS: dict[str, tuple[float, float]] = {
+    "gamma_c": (1.0, 3.0),
+    "alpha_cc": (0.5, 1.0),
+    "plb_limit_factor": (1.0, 5.0),
+    "padstone_spread_deg": (10.0, 80.0),
+    "f_b_max": (1.0, 200.0),
+    "f_m_max": (1.0, 50.0),
+    "masonry_spread_deg": (10.0, 80.0),
+    "beta_area_ratio_cap": (0.05, 1.0),
+    "spreader_min_depth": (0.0, 2000.0),
+    "spreader_length_factor": (0.0, 10.0),
+    "spreader_stress_factor": (1.0, 3.0),
+    "max_eccentricity_ratio": (0.01, 0.5),
+    "k_E": (100.0, 5000.0),
+    "e_mk_min_ratio": (0.0, 0.5),
+    "e_init_divisor": (100.0, 2000.0),
+    "dispersion_depth_ratio": (0.1, 1.0),
+    "bs_min_eccentricity_ratio": (0.0, 0.5),
+    "slenderness_limit": (5.0, 60.0),
+    "min_bearing_beam": (0.0, 1000.0),
+    "min_bearing_lintel": (0.0, 1000.0),
+    "inline_flange_allowance": (0.0, 500.0),
+    "inline_padstone_min_length": (0.0, 3000.0),
+    "inline_web_tolerance": (0.0, 200.0),
 }
-BASIS_GROUPS = (
-    (
-        "Concrete padstone (EN 1992-1-1)",
-        ("gamma_c", "alpha_cc", "plb_limit_factor", "padstone_spread_deg"),
-    ),
-    ("Masonry strength (EC6)", ("f_b_max", "f_m_max")),
-    (
-        "Concentrated loads (EC6 6.1.3)",
-        (
-            "masonry_spread_deg",
-            "beta_area_ratio_cap",
-            "spreader_min_depth",
-            "spreader_length_factor",
-            "spreader_stress_factor",
-            "max_eccentricity_ratio",
-        ),
-    ),
-    ("Mid-height (EC6 6.1.2 and Annex G)", ("k_E", "e_mk_min_ratio", "e_init_divisor")),
-    ("Local bearing (BS 5628-1)", ("dispersion_depth_ratio", "bs_min_eccentricity_ratio")),
-    ("Both code bases", ("slenderness_limit",)),
-    (
-        "Rules of the trade",
-        (
-            "min_bearing_beam",
-            "min_bearing_lintel",
-            "inline_flange_allowance",
-            "inline_padstone_min_length",
-            "inline_web_tolerance",
-        ),
-    ),
-)
-SPREADER_FLAG = "spreader_route_for_groups_2_to_4"
+# The words are the settings page's and the site record's (sitecheck.settings_words).
+BASIS_SCALARS: dict[str, tuple[str, str, float, float]] = {
+    name: (label, unit, *_BASIS_BOUNDS[name]) for name, (label, unit) in BASIS_LABELS.items()
+}
 K_BOUNDS = (0.1, 1.0)
 GAMMA_BOUNDS = (1.0, 5.0)
 BEARING_TYPE_BOUNDS = (1.0, 3.0)
-K_MORTARS = ("general", "thin-layer")
-GAMMA_M_EC6_ROWS = (
-    ("1|I", "Execution class 1, category I"),
-    ("1|II", "Execution class 1, category II"),
-    ("2|I", "Execution class 2, category I"),
-    ("2|II", "Execution class 2, category II"),
-)
-GAMMA_M_BS_ROWS = (
-    ("special|special", "Manufacturing special, construction special"),
-    ("special|normal", "Manufacturing special, construction normal"),
-    ("normal|special", "Manufacturing normal, construction special"),
-    ("normal|normal", "Manufacturing normal, construction normal"),
-)
 
+_REVIEW_BOUNDS = {
+    "threshold": (0.1, 1.0),
+    "rise_margin": (0.0, 1.0),
+    "tol_bearing_length": (0.0, 100.0),
+    "tol_flange_width": (0.0, 100.0),
+    "tol_padstone": (0.0, 100.0),
+    "tol_wall_thickness": (0.0, 100.0),
+    "tol_wall_thickness_ratio": (0.0, 0.5),
+    "tol_end_distance": (0.0, 500.0),
+    "tol_position": (0.0, 200.0),
+    "max_packing": (0.0, 100.0),
+}
 REVIEW_FIELDS: dict[str, tuple[str, str, float, float, str]] = {
-    "threshold": ("Utilisation above which the engineer looks", "", 0.1, 1.0, "[ours]"),
-    "rise_margin": ("Allowed rise of utilisation over the design's", "", 0.0, 1.0, "[ours]"),
-    "tol_bearing_length": ("Tolerance on bearing length", "mm", 0.0, 100.0, "[ours]"),
-    "tol_flange_width": ("Tolerance on flange width", "mm", 0.0, 100.0, "[ours]"),
-    "tol_padstone": ("Tolerance on padstone sizes", "mm", 0.0, 100.0, "[ours]"),
-    "tol_wall_thickness": (
-        "Tolerance on wall thickness",
-        "mm",
-        0.0,
-        100.0,
-        "±5 mm or ±5 %, EN 1996-2 [M]",
-    ),
-    "tol_wall_thickness_ratio": (
-        "Tolerance on wall thickness, × t",
-        "",
-        0.0,
-        0.5,
-        "±5 mm or ±5 %, EN 1996-2 [M]",
-    ),
-    "tol_end_distance": ("Tolerance on a1 and a2", "mm", 0.0, 500.0, "[ours]"),
-    "tol_position": ("Tolerance on the beam's position", "mm", 0.0, 200.0, "[ours]"),
-    "max_packing": ("Greatest packing under the beam", "mm", 0.0, 100.0, "[ours]"),
+    name: (label, unit, *_REVIEW_BOUNDS[name], source)
+    for name, (label, unit, source) in REVIEW_LABELS.items()
 }
 
 
@@ -789,7 +737,7 @@ def _build_settings_form() -> type[FlaskForm]:
             "Site name", validators=[DataRequired("Give the site a name."), Length(max=120)]
         ),
         "address": StringField("Address", validators=[Optional(), Length(max=300)]),
-        SPREADER_FLAG: BooleanField("Allow the spreader route for Groups 2 to 4"),
+        SPREADER_FLAG: BooleanField(SPREADER_FLAG_LABEL),
     }
     for name, (label, unit, _lo, _hi) in BASIS_SCALARS.items():
         attrs[name] = number_field(label + (f" ({unit})" if unit else ""))
