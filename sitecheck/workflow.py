@@ -33,6 +33,7 @@ Permissions (``allowed(role, action)``)::
     reopen             yes       no         no        no
     invite             yes       no         no        no
     release            no        no         yes       no
+    sign-off           yes       no         no        no
 
 Engineers may record (they often measure on a site visit) but may not release: the release
 for closing up is the contractor's signed act, and keeping it apart from the engineer's
@@ -59,6 +60,12 @@ VIEWER = "viewer"
 ROLES = (ENGINEER, INSPECTOR, CONTRACTOR, VIEWER)
 
 DECISION_KINDS = ("accept", "remedial", "measure-again")
+# Each decision as the screens, the notices and the site record name it.
+DECISION_LABELS = {
+    "accept": "Accept as built",
+    "remedial": "Remedial work",
+    "measure-again": "Measure again",
+}
 
 ACTIONS = (
     "view",
@@ -70,6 +77,7 @@ ACTIONS = (
     "reopen",
     "invite",
     "export",
+    "sign-off",
 )
 
 PERMISSIONS: dict[str, frozenset[str]] = {
@@ -82,6 +90,23 @@ PERMISSIONS: dict[str, frozenset[str]] = {
     "reopen": frozenset({ENGINEER}),
     "invite": frozenset({ENGINEER}),
     "release": frozenset({CONTRACTOR}),
+    "sign-off": frozenset({ENGINEER}),
+}
+
+# What each action is, in words, for "you may not ..." and the audit trail.
+ACTION_WORDS = {
+    "make-sites": "make sites",
+    "give-make-sites": "say who may make sites",
+    "view": "see this site",
+    "export": "export this site's record",
+    "record": "record as-built values",
+    "edit-site": "change the site's settings",
+    "edit-schedule": "change the bearing schedule",
+    "decide": "decide on bearings",
+    "reopen": "reopen a released bearing",
+    "invite": "invite people to the site",
+    "release": "release bearings for closing up",
+    "sign-off": "sign off the site record",
 }
 
 RELEASABLE_STATES = (WITHIN_DESIGN, ACCEPTED)

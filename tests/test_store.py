@@ -196,6 +196,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m006_single_use_links",
         "m007_notices",
         "m008_decision_signatures",
+        "m009_sign_offs",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -296,7 +297,7 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 8
+        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 9
     finally:
         db.close()
 

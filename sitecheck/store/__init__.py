@@ -120,6 +120,14 @@ from sitecheck.store.notices import (
     to_decide_counts,
     waiting_notices,
 )
+from sitecheck.store.sign_offs import (
+    NOT_A_CHANGE,
+    add_sign_off,
+    changes_since,
+    latest_sign_off,
+    sign_offs_for,
+    site_extent,
+)
 from sitecheck.store.sites import (
     add_membership,
     create_site,
@@ -134,6 +142,7 @@ from sitecheck.store.sites import (
 )
 
 __all__ = [
+    "NOT_A_CHANGE",
     "DECISION_KINDS",
     "EVENTS_PER_ROUND",
     "INVITATION",
@@ -160,11 +169,13 @@ __all__ = [
     "add_bearing",
     "add_event",
     "add_membership",
+    "add_sign_off",
     "answer_invitation",
     "apply_migrations",
     "attach_mail",
     "bearing_by_reference",
     "bearing_revisions",
+    "changes_since",
     "claim_due_mail",
     "create_invitation",
     "create_link",
@@ -189,6 +200,7 @@ __all__ = [
     "last_looked",
     "latest_decisions",
     "latest_record_summaries",
+    "latest_sign_off",
     "list_bearings",
     "login_credentials",
     "looked",
@@ -236,7 +248,9 @@ __all__ = [
     "set_password_hash",
     "set_role",
     "set_state",
+    "sign_offs_for",
     "since_last_looked",
+    "site_extent",
     "sites_for_user",
     "sites_named",
     "timestamp",

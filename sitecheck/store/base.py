@@ -22,6 +22,7 @@ JSON_COLUMNS = frozenset(
         "reasons",
         "detail",
         "accepted_failing",
+        "covers",
     }
 )
 BOOL_COLUMNS = frozenset(

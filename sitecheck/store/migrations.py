@@ -460,6 +460,30 @@ def m008_decision_signatures(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m009_sign_offs(db: sqlite_utils.Database) -> None:
+    """The engineer's sign-off of a site record: who signed (the name as signed), when,
+    the statement, and what it covers (``covers``: the bearings by state, the records and
+    photos, and the last history entry, as they were when it was signed). Append-only:
+    a later sign-off is a new row, and the record shows the newest."""
+    db.execute(
+        """
+        CREATE TABLE sign_offs (
+            id INTEGER PRIMARY KEY,
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            engineer_id INTEGER NOT NULL REFERENCES users(id),
+            engineer_name TEXT NOT NULL CHECK (length(trim(engineer_name)) > 0),
+            statement TEXT NOT NULL CHECK (length(trim(statement)) > 0),
+            covers TEXT NOT NULL CHECK (json_valid(covers)),
+            created_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX sign_offs_site ON sign_offs(site_id, id)")
+    for statement in _append_only("sign_offs", "sign-offs are append-only"):
+        db.execute(statement)
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 

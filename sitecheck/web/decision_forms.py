@@ -17,11 +17,7 @@ REASON_MAX = 4000
 NAME_MAX = 200
 STATEMENT_MAX = 2000
 
-DECISION_LABELS = {
-    "accept": "Accept as built",
-    "remedial": "Remedial work",
-    "measure-again": "Measure again",
-}
+DECISION_LABELS = workflow.DECISION_LABELS
 DECISION_HINTS = {
     "accept": "The bearing may be closed up as it is.",
     "remedial": "Work is needed; a new as-built record must follow.",
@@ -126,3 +122,27 @@ class ReleaseForm(FlaskForm):
     # "yes" once the contractor has seen the filled-in release on its confirmation step;
     # a first sending of a complete form only shows that step.
     confirmed = HiddenField()
+
+
+class SignOffForm(FlaskForm):
+    """The engineer's sign-off of the site record: the name it is signed with and the
+    statement; what it covers is taken by the server at the moment of signing."""
+
+    engineer_name = StringField(
+        "Your name, as you sign",
+        filters=[_strip],
+        validators=[
+            DataRequired("Write your name: the sign-off is signed with it."),
+            Length(max=NAME_MAX, message=f"Keep the name under {NAME_MAX} characters."),
+        ],
+    )
+    statement = TextAreaField(
+        "Statement",
+        filters=[_strip],
+        validators=[
+            DataRequired("Write the statement you are signing."),
+            Length(
+                max=STATEMENT_MAX, message=f"Keep the statement under {STATEMENT_MAX} characters."
+            ),
+        ],
+    )

@@ -11,6 +11,7 @@ from flask import Blueprint, current_app, flash, g, redirect, request, url_for
 
 from sitecheck import services, store, workflow
 from sitecheck.bearing.review import FIELD_LABELS
+from sitecheck.report.summary import CHECKLIST_QUESTIONS, decision_title
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.auth import login_required
@@ -449,13 +450,7 @@ def _value_text(value, unit: str) -> str:
     return f"{value} {unit}".strip()
 
 
-_CHECKLIST = (
-    ("bedded", "Padstone fully bedded on mortar", ""),
-    ("packing", "Packing under the beam", "mm"),
-    ("cracks", "Cracks in the masonry near the bearing", ""),
-    ("cut_units", "Cut or hollow units under the padstone", ""),
-    ("level", "Padstone level", ""),
-)
+_CHECKLIST = CHECKLIST_QUESTIONS
 
 
 def _checklist(answers: dict) -> list[dict]:
@@ -515,19 +510,6 @@ def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[di
         )
     entries.sort(key=lambda e: e["at"], reverse=True)
     return entries
-
-
-def decision_title(d: dict) -> str:
-    """A decision's title as the history, the PDF and the release list say it: an
-    acceptance of a bearing that fails as built says so, with what fails."""
-    failing = d.get("accepted_failing")
-    if failing:
-        u = failing.get("utilisation")
-        return (
-            f"Accepted although it fails: {failing.get('title')}, utilisation "
-            f"{'no capacity' if u is None else format(u, '.2f')}"
-        )
-    return DECISION_LABELS.get(d["kind"], d["kind"])
 
 
 def engineer_words(decision: dict | None) -> dict | None:
