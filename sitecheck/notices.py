@@ -97,6 +97,11 @@ def notices_for_event(event: dict, members: list[dict]):
     wanted: list[tuple[str, str]] = []  # (kind, words)
     if now == workflow.ENGINEER_TO_DECIDE and was != now:
         wanted.append((TO_DECIDE, ""))
+    elif event.get("kind") in ("record received", "photo received") and (
+        detail.get("late") or detail.get("after_release")
+    ):
+        # Evidence for a released bearing: the release stands, but the engineer must look.
+        wanted.append((TO_DECIDE, ""))
     if now in workflow.RELEASABLE_STATES and was not in workflow.RELEASABLE_STATES:
         wanted.append((RELEASABLE, ""))
     if event.get("kind") == "decision":
@@ -125,7 +130,7 @@ def still_holds(notice: dict) -> bool:
         return False
     state = notice["state"]
     if kind.code == TO_DECIDE:
-        return state == workflow.ENGINEER_TO_DECIDE
+        return state == workflow.ENGINEER_TO_DECIDE or bool(notice["after_release"])
     if kind.code == RELEASABLE:
         return state in workflow.RELEASABLE_STATES
     if kind.code == REMEDIAL:

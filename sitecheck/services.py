@@ -7,6 +7,7 @@ module decides what to call, in what order, and what to keep.
 
 from __future__ import annotations
 
+import contextlib
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
@@ -445,28 +446,135 @@ def reopen(db, *, site: dict, bearing: dict, role: str, reason: str, engineer_id
     )
 
 
+def keep_release(
+    db, *, site: dict, bearing: dict, role: str, reason: str, seen_up_to: int, engineer_id: int
+) -> dict:
+    """The engineer's answer to what was recorded after a release: the release stands."""
+    workflow.keep_release(state=bearing["state"], role=role, reason=reason)
+    return store.keep_release(
+        db,
+        site_id=site["id"],
+        bearing_id=bearing["id"],
+        engineer_id=engineer_id,
+        reason=reason,
+        seen_up_to=seen_up_to,
+    )
+
+
 def _finite(x: float) -> float | None:
     return x if x != float("inf") else None
 
 
+class _PhotoFiles:
+    """The files a photo upload brings, written inside the write transaction that stores
+    their rows, so that whether a file is new is decided while no other upload can write.
+
+    A file is new when no stored photo names it. Only new files are removed when the
+    upload is refused or fails; a file another photo already uses is never touched, so two
+    uploads of the same picture cannot remove each other's file. A crash after the files
+    are written and before the commit leaves files no row names, which the start-up sweep
+    (``sweep_photo_files``) removes; it never leaves a row without its file.
+    """
+
+    def __init__(self, db, photos):
+        self.db = db
+        self.photos = photos
+        self.new: list[str] = []
+
+    def keep(self, photo) -> None:
+        pictures = (
+            (photo.display_jpeg, photo.display_sha256),
+            (photo.thumbnail_jpeg, photo.thumbnail_sha256),
+        )
+        in_use = store.photo_files_in_use(self.db, [sha for _data, sha in pictures])
+        for data, sha in pictures:
+            if sha not in in_use and sha not in self.new:
+                self.new.append(sha)
+            self.photos.put(data)
+        self.photos.put_print(photo.display_sha256, photo.print_jpeg)  # removed with the picture
+
+    def remove_new(self) -> None:
+        for sha in self.new:
+            with contextlib.suppress(OSError, ValueError):
+                self.photos.delete(sha)
+        self.new.clear()
+
+
 def store_photo(
-    db, *, site: dict, record_uuid: str, photo, photos, user_id: int, uuid: str | None = None
+    db,
+    *,
+    site: dict,
+    record_uuid: str,
+    photo,
+    photos,
+    user_id: int,
+    uuid: str | None = None,
+    max_photos: int | None = None,
 ) -> store.Stored:
-    """Keep an ingested photo (sitecheck.photos.IngestedPhoto): both sizes on disk by their
-    hash and the print copy under the display picture's, then its facts in the database,
-    idempotent by the photo's UUID."""
-    photos.put(photo.display_jpeg)
-    photos.put(photo.thumbnail_jpeg)
-    photos.put_print(photo.display_sha256, photo.print_jpeg)
-    return add_photo_row(
-        db, site=site, record_uuid=record_uuid, photo=photo, user_id=user_id, uuid=uuid
-    )
+    """Keep an ingested photo (sitecheck.photos.IngestedPhoto): its facts in the database and
+    both sizes on disk by their hash (the print copy under the display picture's), all in one
+    write transaction, idempotent by the photo's UUID.
+
+    A refusal (an id already used, ``max_photos`` reached) leaves no file behind.
+    """
+    files = _PhotoFiles(db, photos)
+    with store.transaction(db):  # the write lock, held until the files are settled
+        try:
+            return add_photo_row(
+                db,
+                site=site,
+                record_uuid=record_uuid,
+                photo=photo,
+                user_id=user_id,
+                uuid=uuid,
+                max_photos=max_photos,
+                keep_files=lambda: files.keep(photo),
+            )
+        except BaseException:
+            files.remove_new()
+            raise
+
+
+def record_as_built_with_photos(
+    db, *, photos_store, photos: list, max_photos: int | None = None, **record
+) -> store.RecordStored:
+    """An as-built record and its photos, all kept or none (the online form sends them
+    together). The photos are stored only with a record this call created: a form sent again
+    shows the first record and brings no files."""
+    files = _PhotoFiles(db, photos_store)
+    with store.transaction(db):
+        try:
+            stored, _recheck = record_as_built(db, **record)
+            if stored.created:
+                for photo in photos:
+                    add_photo_row(
+                        db,
+                        site=record["site"],
+                        record_uuid=stored.row["uuid"],
+                        photo=photo,
+                        user_id=record["inspector_id"],
+                        max_photos=max_photos,
+                        keep_files=lambda photo=photo: files.keep(photo),
+                    )
+        except BaseException:
+            files.remove_new()
+            raise
+    return stored
 
 
 def add_photo_row(
-    db, *, site: dict, record_uuid: str, photo, user_id: int, uuid: str | None = None
+    db,
+    *,
+    site: dict,
+    record_uuid: str,
+    photo,
+    user_id: int,
+    uuid: str | None = None,
+    max_photos: int | None = None,
+    keep_files=None,
 ) -> store.Stored:
-    """The database row of a photo whose files are already stored."""
+    """The database row of a photo; ``keep_files`` writes its files once the store has
+    decided to keep it (see store.insert_photo)."""
     import uuid as uuidlib
 
     lat, lon = photo.gps if photo.gps else (None, None)
@@ -484,7 +592,41 @@ def add_photo_row(
         gps_lat=lat,
         gps_lon=lon,
         user_id=user_id,
+        upload_sha256=photo.original_sha256 or None,
+        max_photos=max_photos,
+        keep_files=keep_files,
     )
+
+
+@dataclass(frozen=True)
+class Swept:
+    temporary_files: int
+    orphan_files: int
+
+
+def sweep_photo_files(db, photos) -> Swept:
+    """Remove what a crash mid-upload leaves in the photo store: temporary files, and
+    pictures no photo row names (written, then the process died before its commit).
+
+    Run at start-up. Candidates are found without the lock (the store may be large); each is
+    removed only after it is found unnamed again inside a write transaction, where no upload
+    can be between writing a file and committing its row.
+    """
+    candidates: list[str] = []
+    batch: list[str] = []
+    for sha in photos.iter_all_shas():
+        batch.append(sha)
+        if len(batch) == 400:
+            candidates += sorted(set(batch) - store.photo_files_in_use(db, batch))
+            batch = []
+    candidates += sorted(set(batch) - store.photo_files_in_use(db, batch))
+    with store.transaction(db):
+        temporary = photos.remove_stale_temp_files(older_than_seconds=0)
+        orphans = sorted(set(candidates) - store.photo_files_in_use(db, candidates))
+        for sha in orphans:
+            with contextlib.suppress(OSError):
+                photos.delete(sha)
+    return Swept(temporary, len(orphans))
 
 
 def camera_time(capture_time: str | None) -> str | None:

@@ -8,7 +8,11 @@ States (the words shown on screen, always with a symbol, never colour alone)::
     any but released --newest record, no blocking reason-->  within design
     any but released --newest record, blocking reason(s)-->  engineer to decide
     any but released --older record (by measured time)-->    unchanged
-    released         --any record-->                         released (record marked late)
+    released         --any record or photo-->                released (kept, and listed for
+                                                             the engineer as recorded after
+                                                             release)
+    released         --keep the release (engineer, reason)-->released (what was listed is
+                                                             answered)
     decidable        --decision accept-->                    accepted
     decidable        --decision remedial-->                  remedial
     decidable        --decision measure again-->             awaiting survey
@@ -172,7 +176,8 @@ def state_after_record(
 
 
 def record_is_late(current_state: str) -> bool:
-    """A record that arrives after release is late: kept, shown, but it moves nothing."""
+    """A record that arrives after release is late: kept and listed for the engineer as
+    recorded after release, but it moves nothing."""
     return _check_state(current_state) == RELEASED
 
 
@@ -217,6 +222,21 @@ def reopen(*, state: str, role: str | None, reason: str) -> str:
     if not (reason or "").strip():
         raise WorkflowError("Write the reason for reopening; it stays on the record.")
     return ENGINEER_TO_DECIDE
+
+
+def keep_release(*, state: str, role: str | None, reason: str) -> str:
+    """The engineer keeps a release after looking at what was recorded since; the bearing
+    stays released. Raises WorkflowError if that is not allowed."""
+    _check_state(state)
+    if not allowed(role, "reopen"):
+        raise WorkflowError("Only the site's engineer answers what was recorded after a release.")
+    if state != RELEASED:
+        raise WorkflowError(
+            f"Only a released bearing has a release to keep; this one is '{state}'."
+        )
+    if not (reason or "").strip():
+        raise WorkflowError("Write the reason for keeping the release; it stays on the record.")
+    return RELEASED
 
 
 def state_after_revision(current_state: str, has_records: bool) -> str:

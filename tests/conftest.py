@@ -109,3 +109,17 @@ def client_as(app, people):
         return c
 
     return make
+
+
+@pytest.fixture
+def live_client(people):
+    """live_client(server, "inspector") → a liveserver.Client logged in as that person on a
+    real server (tests/liveserver.py)."""
+    from liveserver import Client
+
+    def make(server, role: str) -> Client:
+        client = Client(server.url)
+        client.log_in(people[role].email, PASSWORD)
+        return client
+
+    return make

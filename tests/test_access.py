@@ -67,6 +67,7 @@ ROUTES = {
     "release.site_json@GET": "view",
     "release.site_json@POST": "release",
     "release.reopen": "reopen",
+    "release.keep_release": "reopen",
     "release.history": "view",
     "release.history_json": "view",
     "record.site": "export",

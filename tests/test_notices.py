@@ -427,3 +427,55 @@ def test_a_notice_names_only_the_persons_own_sites():
         },
     }
     assert list(notices.notices_for_event(again, members)) == []
+
+
+def test_evidence_recorded_after_a_release_is_news_for_the_engineer(quiet_app):
+    """The release stands, but a record arriving for a released bearing puts it back in the
+    engineer's hands: a notice, and the header's count, until the engineer answers it."""
+    app = quiet_app
+    db = store.open_db(app.config["DB_PATH"])
+    from conftest import Person
+
+    from sitecheck import auth, services
+    from sitecheck.demo import schedule_csv
+
+    made = {}
+    for role in ("engineer", "inspector", "contractor"):
+        u = store.create_user(
+            db,
+            email=f"{role}@example.test",
+            name=role.title(),
+            password_hash=auth.hash_password("a long test password"),
+            may_make_sites=role == "engineer",
+        )
+        made[role] = Person(u["id"], u["email"], u["name"], role)
+    site = new_site(db, name="Invented Mill", created_by=made["engineer"].id)
+    for role in ("inspector", "contractor"):
+        store.add_membership(
+            db, user_id=made[role].id, site_id=site["id"], role=role, invited_by=made["engineer"].id
+        )
+    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
+    assert services.import_schedule(db, site=site, text=text, user_id=made["engineer"].id).ok
+    site = store.get_site(db, site["id"])
+    record(db, site, "GF-B1-E", made["inspector"], hours=2)
+    services.release(
+        db,
+        site=site,
+        bearing=bearing_named(db, site, "GF-B1-E"),
+        contractor_id=made["contractor"].id,
+        contractor_name="Contractor",
+        statement="Closed up.",
+    )
+    t0 = datetime.now(UTC)
+    notices.make_messages(db, BASE, now=t0)  # the contractor's "releasable" goes, nothing else
+    assert store.to_decide_counts(db, user_id=made["engineer"].id) == {"waiting": 0, "new": 0}
+
+    record(db, site, "GF-B1-E", made["inspector"], hours=0.5, bearing_length=60.0)
+    assert bearing_named(db, site, "GF-B1-E")["state"] == "released"
+    assert notices.make_messages(db, BASE, now=t0 + timedelta(minutes=1)) == 1
+    (to_addr, body) = db.execute(
+        "SELECT to_addr, body FROM outgoing_mail WHERE kind = 'notice' ORDER BY id DESC LIMIT 1"
+    ).fetchone()
+    assert to_addr == made["engineer"].email and "GF-B1-E" in body
+    assert store.to_decide_counts(db, user_id=made["engineer"].id) == {"waiting": 1, "new": 1}
+    db.conn.close()

@@ -12,6 +12,8 @@ import io
 import os
 import random
 import sys
+import threading
+import time
 import warnings
 from concurrent.futures import ThreadPoolExecutor
 from datetime import datetime
@@ -771,3 +773,109 @@ def test_package_imports_no_web_database_or_logging():
 def test_public_names_are_exported():
     for name in photos.__all__:
         assert hasattr(photos, name), name
+
+
+# --- memory: pictures decoded whole, and how many at once (issue 12, point 6) --------------------
+
+
+def test_a_small_png_of_seven_thousand_pixels_square_is_refused_before_it_is_decoded():
+    flood = flood_png(7000, 7000)  # a few kB to send, 49 megapixels to decode
+    assert len(flood) < 200_000
+    rejected = refusal(flood)
+    assert rejected.code == "too-many-pixels"
+    assert rejected.message.startswith("The photo is a PNG of 49.0 megapixels.")
+    assert "its limit is 24 megapixels (a JPEG may have up to 50)" in rejected.message
+    assert "Save or share it as a JPEG" in rejected.message
+
+
+def test_a_webp_is_read_whole_too_and_has_the_lower_limit():
+    limits = PhotoLimits(max_full_decode_pixels=10_000)
+    webp = encode(Image.new("RGB", (101, 100), RED), "WEBP", lossless=True)
+    rejected = refusal(webp, limits=limits)
+    assert rejected.code == "too-many-pixels"
+    assert rejected.message.startswith("The photo is a WebP of 0.0 megapixels.")
+    # The same pixels as a JPEG are decoded at a reduced size, and the JPEG limit applies.
+    assert ingest_photo(make_test_jpeg(101, 100), limits=limits).original_format == "JPEG"
+
+
+def test_a_large_transparent_png_is_laid_on_white_and_turned_upright_a_strip_at_a_time():
+    # 4000 x 1000: reduced by 2 on the way (see ingest._reduced_rgb), strips of 256 rows.
+    image = Image.new("RGBA", (4000, 1000), (*BLUE, 255))
+    image.paste((*RED, 0), (0, 0, 2000, 1000))  # left half transparent: white when laid
+    exif = Image.Exif()
+    exif[0x0112] = 6  # the camera was turned: the top of the picture is on its right
+    result = ingest_photo(encode(image, "PNG", exif=exif))
+    assert (result.original_width, result.original_height) == (4000, 1000)
+    assert (result.display_width, result.display_height) == (400, 1600)
+    shown = Image.open(io.BytesIO(result.display_jpeg))
+    # Turned a quarter clockwise: the picture's left half is now the top half.
+    top, bottom = shown.getpixel((200, 300)), shown.getpixel((200, 1300))
+    assert all(channel > 245 for channel in top), top
+    assert abs(bottom[0] - BLUE[0]) < 12 and abs(bottom[2] - BLUE[2]) < 12, bottom
+
+
+def test_no_more_pictures_are_processed_at_once_than_there_are_slots(monkeypatch):
+    inside, most = 0, 0
+    lock = threading.Lock()
+    real_decode = photos.ingest.decode_photo
+
+    def counting_decode(*args, **kwargs):
+        nonlocal inside, most
+        with lock:
+            inside += 1
+            most = max(most, inside)
+        try:
+            return real_decode(*args, **kwargs)
+        finally:
+            with lock:
+                inside -= 1
+
+    monkeypatch.setattr(photos.ingest, "decode_photo", counting_decode)
+    slots = photos.ingest._SLOTS.slots
+    pictures = [make_test_jpeg(900 + n, 700) for n in range(4 * slots + 2)]
+    with ThreadPoolExecutor(max_workers=len(pictures)) as pool:
+        done = list(pool.map(lambda data: ingest_photo(data, wait_s=None), pictures))
+    assert len(done) == len(pictures)
+    assert 1 <= most <= slots
+
+
+def test_when_every_slot_is_taken_and_enough_wait_an_upload_is_told_to_come_back():
+    slots = photos.ingest._SLOTS
+    release = threading.Event()
+    holding = threading.Barrier(slots.slots + 1)
+    kept = []
+
+    def hold():
+        with photos.processing_slot(wait_s=None):
+            holding.wait()
+            release.wait(60)
+
+    def ingest(wait_s):
+        kept.append(ingest_photo(make_test_jpeg(64, 48), wait_s=wait_s).original_format)
+
+    holders = [threading.Thread(target=hold) for _ in range(slots.slots)]
+    for t in holders:
+        t.start()
+    holding.wait()  # every slot is held
+    in_line = [threading.Thread(target=ingest, args=(60,)) for _ in range(slots.waiting_limit)]
+    # Work in the background (a site record's print copies) waits its turn however long.
+    background = threading.Thread(target=ingest, args=(None,))
+    try:
+        for t in in_line:
+            t.start()
+        for _ in range(500):  # until every upload is in line
+            if slots._waiting == len(in_line):
+                break
+            time.sleep(0.01)
+        assert slots._waiting == len(in_line)
+        with pytest.raises(photos.PhotosBusy) as busy:
+            ingest_photo(make_test_jpeg(64, 48))
+        assert busy.value.retry_after_s > 0
+        assert "busy with other photos" in busy.value.message
+        background.start()
+    finally:
+        release.set()
+        for t in [*holders, *in_line, background]:
+            if t.is_alive() or t.ident is not None:
+                t.join(60)
+    assert kept == ["JPEG"] * (len(in_line) + 1)

@@ -438,14 +438,18 @@ def _text(data: bytes) -> str:
 
 
 def test_the_pdf_parses_back_with_each_bearings_reference_utilisation_decision_and_release(
-    client_as, db, site, recorded
+    app, client_as, db, site, recorded
 ):
-    r = client_as("viewer").get(f"/sites/{site['id']}/record.pdf")
+    viewer = client_as("viewer")
+    _start(viewer, site["id"])
+    _finished(app, site["id"])
+    r = viewer.get(f"/sites/{site['id']}/record.pdf")
+    data, disposition = r.data, r.headers["Content-Disposition"]
+    r.close()
     assert r.status_code == 200 and r.mimetype == "application/pdf"
-    disposition = r.headers["Content-Disposition"]
-    assert disposition.startswith('attachment; filename="tanner-s-yard')
-    assert disposition.endswith('-site-record.pdf"')
-    text = _text(r.data)
+    assert disposition.startswith("attachment; filename=tanner-s-yard")
+    assert disposition.endswith("-site-record.pdf")
+    text = _text(data)
     assert "Site record" in text and "competent engineer" in text
     for b in store.list_bearings(db, site_id=site["id"]):
         assert f"Bearing {b['reference']}" in text
@@ -495,7 +499,8 @@ def test_the_record_page_links_every_download(client_as, site):
     r = client_as("contractor").get(f"/sites/{site['id']}/record")
     assert r.status_code == 200
     page = r.get_data(as_text=True)
-    for path in ("record.pdf", "export.zip", "export.json"):
+    assert f'action="/sites/{site["id"]}/record/pdf"' in page  # made in the background
+    for path in ("export.zip", "export.json"):
         assert f"/sites/{site['id']}/{path}" in page
     assert "competent engineer" in page
     r = client_as("viewer").get(f"/sites/{site['id']}/export.zip")
@@ -1034,22 +1039,26 @@ def test_a_record_that_could_not_be_made_says_why_plainly_and_can_be_started_aga
 
 
 def test_a_job_cut_off_by_a_restart_shows_as_stopped_and_does_not_block_a_new_one(
-    app, client_as, site, held
+    app, client_as, db, site, held
 ):
     record_jobs = app.extensions["record_jobs"]
-    an_hour_ago = (datetime.now(UTC) - timedelta(hours=1)).strftime("%Y-%m-%dT%H:%M:%SZ")
-    record_jobs._save(
-        jobs.Job(
-            id="ab" * 16,
-            site_id=site["id"],
-            state=jobs.MAKING,
-            bearings_done=5,
-            bearings=12,
-            current="GF-B3",
-            started_by=None,
-            created_at=an_hour_ago,
-            updated_at=an_hour_ago,
-        )
+    an_hour_ago = datetime.now(UTC) - timedelta(hours=1)
+    # A process began making the record an hour ago and was stopped part way.
+    cut_off, how = store.start_record_job(
+        db,
+        job_id="ab" * 16,
+        site_id=site["id"],
+        user_id=None,
+        version="an older site",
+        file_kept=lambda _job: False,
+        per_user=10,
+        window_s=3600,
+        stale_after_s=300,
+        now=an_hour_ago,
+    )
+    assert how == "started"
+    store.update_record_job(
+        db, cut_off["id"], state="making", bearings_done=5, bearings=12, now=an_hour_ago
     )
     viewer = client_as("viewer")
     html = viewer.get(f"/sites/{site['id']}/record/pdf").get_data(as_text=True)
@@ -1057,6 +1066,7 @@ def test_a_job_cut_off_by_a_restart_shows_as_stopped_and_does_not_block_a_new_on
     _start(viewer, site["id"])
     assert held.reached.wait(60)
     assert record_jobs.latest(site["id"]).id != "ab" * 16
+    assert store.get_record_job(db, "ab" * 16)["state"] == "stopped"
 
 
 def test_the_record_in_the_making_is_refused_to_anyone_not_on_the_site(
@@ -1085,19 +1095,24 @@ def test_the_record_in_the_making_is_refused_to_anyone_not_on_the_site(
     assert anonymous.get(f"/sites/{site['id']}/record/pdf.json").status_code == 401
 
 
-def test_a_large_site_is_offered_the_background_record_only(client_as, site, monkeypatch):
+def test_every_site_record_is_made_in_the_background_and_a_get_starts_nothing(
+    app, client_as, db, site
+):
     viewer = client_as("viewer")
-    small = viewer.get(f"/sites/{site['id']}/record").get_data(as_text=True)
-    assert f"/sites/{site['id']}/record.pdf" in small
-    monkeypatch.setattr(record_web, "DIRECT_PDF_MAX_BEARINGS", 3)
-    large = viewer.get(f"/sites/{site['id']}/record").get_data(as_text=True)
-    assert f"/sites/{site['id']}/record.pdf" not in large
-    assert f'action="/sites/{site["id"]}/record/pdf"' in large and "csrf_token" in large
-    assert "Make the site record (PDF)" in large
+    page = viewer.get(f"/sites/{site['id']}/record").get_data(as_text=True)
+    assert f'action="/sites/{site["id"]}/record/pdf"' in page and "csrf_token" in page
+    assert "Make the site record (PDF)" in page
+    # The old address of the PDF made inside the request leads to the progress page.
+    r = viewer.get(f"/sites/{site['id']}/record.pdf")
+    assert r.status_code == 302 and r.headers["Location"].endswith(
+        f"/sites/{site['id']}/record/pdf"
+    )
+    assert app.extensions["record_jobs"].jobs(site["id"]) == []
 
 
-def test_a_site_keeps_its_newest_job_and_its_newest_finished_record(tmp_path):
-    record_jobs = jobs.RecordJobs(tmp_path)
+def test_a_site_keeps_its_newest_job_and_its_newest_finished_record(app, db, site, tmp_path):
+    record_jobs = jobs.RecordJobs(tmp_path / "kept", app.config["DB_PATH"])
+    site_id = site["id"]
 
     def made(out, progress):
         progress(1, 1, "B1")
@@ -1108,16 +1123,19 @@ def test_a_site_keeps_its_newest_job_and_its_newest_finished_record(tmp_path):
         raise ValueError("the drawing of B1 could not be made")
 
     started = []
-    for make in (made, made, broken):
-        job, new = record_jobs.start("site-1", user_id=7, make=make)
-        assert new and record_jobs.wait(job.id, timeout=30)
+    for n, make in enumerate((made, made, broken)):
+        # Something changes on the site each time, so each asks for a new record.
+        store.add_event(db, kind="site note", site_id=site_id, detail={"n": n})
+        job, how = record_jobs.start(site_id, user_id=None, make=make)
+        assert how == "started" and record_jobs.wait(job.id, timeout=30)
         started.append(job)
     first, second, third = started
-    assert [j.id for j in record_jobs.jobs("site-1")] == [third.id, second.id]
-    assert record_jobs.latest("site-1").state == jobs.FAILED
-    assert "the drawing of B1 could not be made" in record_jobs.latest("site-1").error
-    assert record_jobs.latest_done("site-1").id == second.id
+    assert [j.id for j in record_jobs.jobs(site_id)] == [third.id, second.id, first.id]
+    assert record_jobs.latest(site_id).state == jobs.FAILED
+    assert "the drawing of B1 could not be made" in record_jobs.latest(site_id).error
+    assert record_jobs.latest_done(site_id).id == second.id
     assert record_jobs.pdf_path(second).read_bytes() == b"%PDF-1.4 stand-in"
+    # Only the newest job's files and the newest finished record are kept.
     assert not record_jobs.pdf_path(first).exists()
     assert record_jobs.jobs("site-2") == []  # each site's jobs are its own
     with pytest.raises(ValueError, match="site id"):

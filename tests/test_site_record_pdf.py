@@ -18,6 +18,7 @@ from html import unescape
 import pytest
 from PIL import Image
 from pypdf import PdfReader
+from test_report import _finished, _start
 from test_web_review import bearing_named, decide_form, decision_url, fails_unmeasured, record
 
 from sitecheck import services, store, workflow
@@ -42,9 +43,15 @@ def pages_of(data: bytes) -> list[str]:
 
 
 def the_pdf(client, site) -> bytes:
+    """The site record as a person gets it: made in the background, then downloaded."""
+    app = client.application
+    assert _start(client, site["id"]).status_code == 302
+    _finished(app, site["id"])
     r = client.get(f"/sites/{site['id']}/record.pdf")
+    data = r.data
+    r.close()
     assert r.status_code == 200 and r.mimetype == "application/pdf"
-    return r.data
+    return data
 
 
 @pytest.fixture

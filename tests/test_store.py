@@ -194,9 +194,12 @@ def test_first_open_applies_every_migration_in_order(db):
         "m004_outgoing_mail",
         "m005_invitations",
         "m006_single_use_links",
-        "m007_notices",
-        "m008_decision_signatures",
-        "m009_sign_offs",
+        "m007_photo_files",
+        "m008_recorded_after_release",
+        "m009_record_jobs",
+        "m010_notices",
+        "m011_decision_signatures",
+        "m012_sign_offs",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -297,7 +300,9 @@ def test_processes_opening_a_fresh_file_together_migrate_once(tmp_path):
     db = store.open_db(path)
     try:
         # Each migration once, however many processes raced to apply it.
-        assert count(db, "_sqlite_migrations") == len(store.MIGRATIONS.applied(db)) == 9
+        every = [m.name for m in store.MIGRATIONS.applied(db)]
+        assert count(db, "_sqlite_migrations") == len(every) == len(set(every))
+        assert store.MIGRATIONS.pending(db) == [] and every[0] == "m001_initial_schema"
     finally:
         db.close()
 
@@ -512,7 +517,7 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
         w.bearing,
         w.inspector,
         uuid=uuid.upper(),
-        measurements={"bearing_length_mm": 999},
+        # The server's own answer may differ (a later re-check); what was sent is the same.
         utilisation=1.5,
         blocking=2,
     )
@@ -521,6 +526,23 @@ def test_sending_a_record_twice_stores_it_once_and_returns_the_original(world):
     assert second.row == first.row
     assert second.row["measurements"] == {"bearing_length_mm": 140}
     assert second.state == "within design"
+    assert count(w.db, "as_built_records") == 1
+    assert count(w.db, "events") == events
+
+
+def test_the_same_record_id_with_other_values_is_refused_naming_what_differs(world):
+    w = world
+    uuid = str(uuid_module.uuid4())
+    first = send_record(w.db, w.site, w.bearing, w.inspector, uuid=uuid)
+    events = count(w.db, "events")
+    with pytest.raises(store.SameIdOtherValues) as refused:
+        send_record(
+            w.db, w.site, w.bearing, w.inspector, uuid=uuid, measurements={"bearing_length_mm": 99}
+        )
+    assert refused.value.differs == ("measurements",)
+    assert "already stored with other values (measurements)" in str(refused.value)
+    assert isinstance(refused.value, store.UuidInUse)  # callers that know only the older error
+    assert store.get_record(w.db, site_id=w.site["id"], uuid=uuid) == first.row
     assert count(w.db, "as_built_records") == 1
     assert count(w.db, "events") == events
 
@@ -702,9 +724,12 @@ def test_photos_are_idempotent_and_scoped(world):
         "user_id": w.inspector["id"],
     }
     first = store.insert_photo(w.db, site_id=w.site["id"], **photo)
-    second = store.insert_photo(w.db, site_id=w.site["id"], **{**photo, "sha256": "d" * 64})
+    second = store.insert_photo(w.db, site_id=w.site["id"], **photo)
     assert first.created and not second.created
     assert second.row == first.row
+    # Another picture under the same id is not a resend.
+    with pytest.raises(store.SameIdOtherValues):
+        store.insert_photo(w.db, site_id=w.site["id"], **{**photo, "sha256": "d" * 64})
     other = store.create_site(
         w.db,
         name="Other",

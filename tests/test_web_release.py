@@ -276,7 +276,7 @@ def test_a_record_arriving_after_release_is_kept_as_late_and_moves_nothing(
     data = client_as("engineer").get(review_url(site, b, json=True)).get_json()
     flagged = {r["uuid"]: r for r in data["records"]}[late]
     assert flagged["late"] is True and flagged["drives_state"] is False
-    assert "late: arrived after release" in client_as("engineer").get(review_url(site, b)).text
+    assert "⚠ recorded after release" in client_as("engineer").get(review_url(site, b)).text
 
 
 # --- reopening ----------------------------------------------------------------------------------

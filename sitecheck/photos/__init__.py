@@ -12,8 +12,11 @@ from .ingest import (
     IngestedPhoto,
     PhotoLimits,
     PhotoRejected,
+    PhotosBusy,
     decode_photo,
     ingest_photo,
+    processing_slot,
+    return_picture_memory_to_the_system,
 )
 from .printcopy import make_print_copy, print_copy
 from .stamp import stamp_caption
@@ -26,11 +29,14 @@ __all__ = [
     "PhotoLimits",
     "PhotoRejected",
     "PhotoStore",
+    "PhotosBusy",
     "decode_photo",
     "encode_jpeg",
     "ingest_photo",
     "make_print_copy",
     "print_copy",
+    "processing_slot",
+    "return_picture_memory_to_the_system",
     "read_capture_time",
     "read_gps",
     "stamp_caption",

@@ -8,9 +8,11 @@ the upload itself: what we store is a fresh JPEG of the pixels, upright, without
 from __future__ import annotations
 
 import contextlib
+import ctypes
 import hashlib
 import io
 import math
+import os
 import re
 import struct
 import threading
@@ -28,8 +30,11 @@ __all__ = [
     "IngestedPhoto",
     "PhotoLimits",
     "PhotoRejected",
+    "PhotosBusy",
     "decode_photo",
     "ingest_photo",
+    "processing_slot",
+    "return_picture_memory_to_the_system",
 ]
 
 ALLOWED_FORMATS = ("JPEG", "PNG", "WEBP")
@@ -53,6 +58,22 @@ _FORMATS_TEXT = "JPEG, PNG or WebP"
 _BOMB_PIXELS = re.compile(r"\((\d+) pixels\)")
 _SIXTEEN_BIT_MODES = ("I;16", "I;16L", "I;16B", "I;16N", "I")
 _WHITE = (255, 255, 255)
+
+# Decoded whole, never at a reduced size: the whole picture is in memory at once.
+_FULL_DECODE_FORMATS = ("PNG", "WEBP")
+# Rows of a large picture converted at a time on the way to its reduced copy.
+_STRIP_ROWS = 256
+# How an EXIF orientation turns a picture upright (the table ImageOps.exif_transpose uses).
+_UPRIGHT = {
+    2: Image.Transpose.FLIP_LEFT_RIGHT,
+    3: Image.Transpose.ROTATE_180,
+    4: Image.Transpose.FLIP_TOP_BOTTOM,
+    5: Image.Transpose.TRANSPOSE,
+    6: Image.Transpose.ROTATE_270,
+    7: Image.Transpose.TRANSVERSE,
+    8: Image.Transpose.ROTATE_90,
+}
+_ORIENTATION = 0x0112
 
 # One decode at a time per process. `warnings.catch_warnings` swaps process-wide state on
 # Python < 3.14, and two overlapping blocks in different threads can restore each other's
@@ -83,6 +104,101 @@ _AVIF_BRANDS = {b"avif", b"avis"}
 _ALLOWED_SIGNATURES = (b"\xff\xd8\xff", b"\x89PNG\r\n\x1a\n")
 
 
+class PhotosBusy(Exception):
+    """Every processing slot is taken and enough uploads already wait for one; the upload
+    was not looked at. Not a refusal: the same photo, sent again after ``retry_after_s``
+    seconds, is accepted as usual."""
+
+    def __init__(self, retry_after_s: int):
+        self.retry_after_s = retry_after_s
+        self.message = (
+            "The server is busy with other photos just now; nothing was stored. The photo "
+            f"is kept on the phone and sent again in about {retry_after_s} seconds."
+        )
+        super().__init__(self.message)
+
+
+class _Slots:
+    """At most one picture processed per core at once; a few more wait their turn.
+
+    A decoded picture is the largest thing the server holds (tens of MB), and decoding is
+    the longest work it does; several at once only share the same cores more slowly while
+    their memory adds up. Those that cannot start at once wait, up to ``waiting`` of them:
+    beyond that, or after ``wait_s``, an upload is told to come back (PhotosBusy), so a burst
+    of uploads never holds every server thread and log-in and pages still answer.
+    """
+
+    def __init__(self, slots: int, waiting: int):
+        self.slots = slots
+        self.waiting_limit = waiting
+        self._busy = 0
+        self._waiting = 0
+        self._changed = threading.Condition()
+
+    @contextlib.contextmanager
+    def hold(self, wait_s: float | None):
+        with self._changed:
+            if self._busy >= self.slots:
+                if wait_s is not None and self._waiting >= self.waiting_limit:
+                    raise PhotosBusy(_RETRY_AFTER_S)
+                self._waiting += 1
+                try:
+                    free = self._changed.wait_for(lambda: self._busy < self.slots, wait_s)
+                finally:
+                    self._waiting -= 1
+                if not free:
+                    raise PhotosBusy(_RETRY_AFTER_S)
+            self._busy += 1
+        try:
+            yield
+        finally:
+            with self._changed:
+                self._busy -= 1
+                self._changed.notify()
+
+
+def _cores() -> int:
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not Linux
+        return max(1, os.cpu_count() or 1)
+
+
+_RETRY_AFTER_S = 30
+# How long an upload waits for a slot before it is told to come back.
+WAIT_FOR_SLOT_S = 20.0
+_SLOTS = _Slots(_cores(), waiting=2 * _cores())
+
+
+def processing_slot(wait_s: float | None = WAIT_FOR_SLOT_S):
+    """Hold one of the process's picture slots while decoding or resizing a picture.
+
+    ``wait_s=None`` waits as long as it takes (work in the background, such as a site
+    record's print copies); otherwise PhotosBusy when too many already wait or none frees
+    within ``wait_s`` seconds.
+    """
+    return _SLOTS.hold(wait_s)
+
+
+def return_picture_memory_to_the_system() -> bool:
+    """Let the memory of a decoded picture go back to the system once it is freed.
+
+    Pillow holds a picture in 16 MB blocks. glibc's malloc serves such a block from mmap
+    and returns it on free, but raises its threshold for mmap after each free, so later
+    blocks come from the heap, which it keeps: a server that decoded a few large pictures
+    stayed hundreds of MB larger for good. A fixed threshold (which also turns the raising
+    off) keeps every block on mmap. True if set (glibc only; elsewhere nothing changes).
+    """
+    try:
+        libc = ctypes.CDLL("libc.so.6")
+    except OSError:
+        return False
+    return bool(libc.mallopt(_M_MMAP_THRESHOLD, 256 * 1024))
+
+
+_M_MMAP_THRESHOLD = -3  # glibc's malloc.h
+
+
 class PhotoRejected(Exception):
     """The upload is not a photo we accept; `message` says why in the inspector's words.
 
@@ -104,11 +220,17 @@ class PhotoLimits:
     """Bounds on the work one upload may cost, and the sizes we keep.
 
     50 megapixels admits a 48 MP phone photo and stays below Pillow's own bomb threshold
-    (about 89 MP), so our message, not Pillow's, is what an inspector normally sees.
+    (about 89 MP), so our message, not Pillow's, is what an inspector normally sees. A JPEG
+    that large is decoded at a reduced size (1/2 to 1/8), so it never costs its full size in
+    memory. PNG and WebP cannot be: they are decoded whole, up to 4 bytes a pixel, so their
+    limit is lower. 24 megapixels is above any phone screenshot or camera PNG in use and
+    keeps one decode under 100 MB; a 0.16 MB PNG of 7000 x 7000 pixels (49 MP) is refused
+    before any pixel is decoded.
     """
 
     max_bytes: int = 15_000_000
     max_pixels: int = 50_000_000
+    max_full_decode_pixels: int = 24_000_000
     display_long_edge: int = 1600
     thumbnail_long_edge: int = 320
     # The site record prints each photo 56 mm wide: a 3:4 upright photo at 448 px is then
@@ -120,6 +242,7 @@ class PhotoLimits:
         for name in (
             "max_bytes",
             "max_pixels",
+            "max_full_decode_pixels",
             "display_long_edge",
             "thumbnail_long_edge",
             "print_long_edge",
@@ -177,6 +300,8 @@ class IngestedPhoto:
     original_format: str
     capture_time: str | None
     gps: tuple[float, float] | None
+    # The upload's own hash: the same photo id sent again is a resend only with these bytes.
+    original_sha256: str = ""
 
     def as_record(self) -> dict[str, Any]:
         """The facts about the photo without the pictures, ready for a database row."""
@@ -212,23 +337,38 @@ class DecodedPhoto:
     icc_profile: bytes | None
 
 
-def ingest_photo(data: bytes, *, limits: PhotoLimits = PhotoLimits()) -> IngestedPhoto:
+def ingest_photo(
+    data: bytes,
+    *,
+    limits: PhotoLimits = PhotoLimits(),
+    wait_s: float | None = WAIT_FOR_SLOT_S,
+) -> IngestedPhoto:
     """Check an upload and make the display picture, thumbnail and print copy we store.
 
-    Raises PhotoRejected for anything that is not an acceptable photo. The same bytes always
-    give the same output bytes, so a photo sent twice is stored once.
+    Raises PhotoRejected for anything that is not an acceptable photo, and PhotosBusy when
+    the server is too busy to start on it (see processing_slot; the upload was not looked
+    at). The same bytes always give the same output bytes, so a photo sent twice is stored
+    once.
     """
-    decoded = decode_photo(data, limits=limits, draft_long_edge=limits.display_long_edge)
-    display = _resize(decoded.image, limits.display_long_edge)
-    display = _to_srgb(display, decoded.icc_profile)
-    thumbnail = _resize(display, limits.thumbnail_long_edge)
-    printed = _resize(display, limits.print_long_edge)
-    display_jpeg = encode_jpeg(display, quality=limits.jpeg_quality)
-    thumbnail_jpeg = encode_jpeg(thumbnail, quality=limits.jpeg_quality)
-    # A picture already small enough prints as the display file itself, byte for byte.
-    print_jpeg = (
-        display_jpeg if printed is display else encode_jpeg(printed, quality=limits.jpeg_quality)
-    )
+    if not isinstance(data, bytes | bytearray | memoryview):
+        raise TypeError(f"ingest_photo expects bytes; got {type(data).__name__}.")
+    _check_byte_size(data, limits)
+    # The header is read inside the slot too: reading it takes the decode lock, and a
+    # request may wait for a lock only where the slots count it.
+    with processing_slot(wait_s):
+        decoded = decode_photo(data, limits=limits, draft_long_edge=limits.display_long_edge)
+        display = _resize(decoded.image, limits.display_long_edge)
+        display = _to_srgb(display, decoded.icc_profile)
+        thumbnail = _resize(display, limits.thumbnail_long_edge)
+        printed = _resize(display, limits.print_long_edge)
+        display_jpeg = encode_jpeg(display, quality=limits.jpeg_quality)
+        thumbnail_jpeg = encode_jpeg(thumbnail, quality=limits.jpeg_quality)
+        # A picture already small enough prints as the display file itself, byte for byte.
+        print_jpeg = (
+            display_jpeg
+            if printed is display
+            else encode_jpeg(printed, quality=limits.jpeg_quality)
+        )
     return IngestedPhoto(
         display_jpeg=display_jpeg,
         thumbnail_jpeg=thumbnail_jpeg,
@@ -249,6 +389,7 @@ def ingest_photo(data: bytes, *, limits: PhotoLimits = PhotoLimits()) -> Ingeste
         original_format=decoded.original_format,
         capture_time=decoded.capture_time,
         gps=decoded.gps,
+        original_sha256=hashlib.sha256(data).hexdigest(),
     )
 
 
@@ -262,7 +403,9 @@ def decode_photo(
 
     `draft_long_edge` lets a JPEG decode at 1/2, 1/4 or 1/8 scale when the result will be
     shrunk to that size anyway, and the resize then starts from a smaller picture; together
-    this cuts the time to ingest a 12 MP photo by about 40 %.
+    this cuts the time to ingest a 12 MP photo by about 40 %. A PNG or WebP is decoded whole,
+    then reduced strip by strip (see _reduced_rgb), so the only full-size picture in memory
+    is the decoded one, never a converted copy of it.
 
     Warnings are caught for the decode only: Pillow's DecompressionBombWarning becomes a
     refusal, and its other warnings (odd EXIF, odd palettes) are not the inspector's concern.
@@ -296,7 +439,12 @@ def decode_photo(
         capture_time = read_capture_time(exif)
         gps = read_gps(exif)
         icc_profile = image.info.get("icc_profile")
-        rgb = _to_rgb(_upright(image))
+        factor = _reduction(image.size, draft_long_edge)
+        if image.format in _FULL_DECODE_FORMATS and factor > 1:
+            rgb = _upright_by(_reduced_rgb(image, factor), exif)
+        else:
+            rgb = _to_rgb(_upright(image))
+        del image  # the decoded picture: the largest thing held, and not needed again
     return DecodedPhoto(
         image=rgb,
         original_width=original_size[0],
@@ -306,6 +454,39 @@ def decode_photo(
         gps=gps,
         icc_profile=icc_profile if isinstance(icc_profile, bytes) and icc_profile else None,
     )
+
+
+def _reduction(size: tuple[int, int], long_edge: int | None) -> int:
+    """The whole-pixel factor a picture can be reduced by and keep its long edge at least
+    `long_edge`, as a JPEG's reduced decode keeps it; the resize to the exact size follows."""
+    if long_edge is None:
+        return 1
+    return max(1, max(size) // long_edge)
+
+
+def _reduced_rgb(image: Image.Image, factor: int) -> Image.Image:
+    """The picture as RGB on white, reduced by `factor`, converted a strip at a time.
+
+    Palette, 16-bit and transparent pictures need a converted copy before they can be laid
+    on white, and the copy of a whole picture is as large as the picture again (more, for a
+    palette). Strips a multiple of `factor` rows high reduce exactly as the whole would.
+    """
+    width, height = image.size
+    out = Image.new("RGB", (-(-width // factor), -(-height // factor)), _WHITE)
+    rows = factor * max(1, _STRIP_ROWS // factor)
+    for top in range(0, height, rows):
+        strip = _to_rgb(image.crop((0, top, width, min(height, top + rows))))
+        out.paste(strip.reduce(factor), (0, top // factor))
+    return out
+
+
+def _upright_by(image: Image.Image, exif: Image.Exif) -> Image.Image:
+    """Turn a picture made from another (a reduced copy) as the original's EXIF says."""
+    try:
+        method = _UPRIGHT.get(int(exif.get(_ORIENTATION, 1)))
+    except (TypeError, ValueError):
+        method = None
+    return image.transpose(method) if method is not None else image
 
 
 def _check_byte_size(data: bytes, limits: PhotoLimits) -> None:
@@ -340,6 +521,8 @@ def _open(data: bytes, limits: PhotoLimits) -> Image.Image:
         raise PhotoRejected("damaged", "The image file declares no pixels; it is damaged.")
     if width * height > _effective_max_pixels(limits):
         raise _too_many_pixels(width * height, limits)
+    if image.format in _FULL_DECODE_FORMATS and width * height > limits.max_full_decode_pixels:
+        raise _too_many_pixels_to_decode_whole(image.format, width * height, limits)
     return image
 
 
@@ -359,6 +542,18 @@ def _too_many_pixels(pixels: int | None, limits: PhotoLimits) -> PhotoRejected:
     return PhotoRejected(
         "too-many-pixels",
         f"{stated} Lower the camera's resolution or resize the photo on the phone.",
+    )
+
+
+def _too_many_pixels_to_decode_whole(fmt: str, pixels: int, limits: PhotoLimits) -> PhotoRejected:
+    name = "WebP" if fmt == "WEBP" else fmt
+    whole = f"{limits.max_full_decode_pixels / 1e6:g} megapixels"
+    jpeg = f"{_effective_max_pixels(limits) / 1e6:g}"
+    return PhotoRejected(
+        "too-many-pixels",
+        f"The photo is a {name} of {pixels / 1e6:.1f} megapixels. A {name} is read whole, so "
+        f"its limit is {whole} (a JPEG may have up to {jpeg}). Save or share it as a JPEG, "
+        "or resize it on the phone.",
     )
 
 
@@ -422,9 +617,12 @@ def _to_rgb(image: Image.Image) -> Image.Image:
         image = image.convert("I").point(lambda value: value * (1 / 256)).convert("L")
     has_alpha = image.mode in ("RGBA", "LA", "PA", "RGBa", "La") or "transparency" in image.info
     if has_alpha:
-        rgba = image.convert("RGBA")
-        background = Image.new("RGBA", rgba.size, (*_WHITE, 255))
-        return Image.alpha_composite(background, rgba).convert("RGB")
+        # Pasted through its own alpha onto white: one RGB picture and the alpha channel
+        # beside the original, where compositing on an RGBA background needed three copies.
+        rgba = image if image.mode == "RGBA" else image.convert("RGBA")
+        flat = Image.new("RGB", rgba.size, _WHITE)
+        flat.paste(rgba, mask=rgba.getchannel("A"))
+        return flat
     if image.mode != "RGB":
         return image.convert("RGB")
     return image

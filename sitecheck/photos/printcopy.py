@@ -9,7 +9,7 @@ from __future__ import annotations
 import contextlib
 
 from .encode import encode_jpeg, fit_within
-from .ingest import PhotoLimits, _resize, decode_photo
+from .ingest import PhotoLimits, _resize, decode_photo, processing_slot
 from .store import PhotoStore
 
 __all__ = ["make_print_copy", "print_copy"]
@@ -29,14 +29,18 @@ def make_print_copy(
     rather than a broken picture in the PDF. A picture already small enough is returned as
     it is, as an upload would have kept it.
     """
-    decoded = decode_photo(display_jpeg, limits=limits, draft_long_edge=limits.print_long_edge)
-    # The file's own size, not the decoded one: a draft decode may already have shrunk it.
-    stored_size = (decoded.original_width, decoded.original_height)
-    if fit_within(stored_size, limits.print_long_edge) == stored_size:
-        if decoded.original_format == "JPEG":
-            return bytes(display_jpeg)
-        return encode_jpeg(decoded.image, quality=limits.jpeg_quality)
-    return encode_jpeg(_resize(decoded.image, limits.print_long_edge), quality=limits.jpeg_quality)
+    # Made in the background (a site record), so it waits its turn however long it takes.
+    with processing_slot(wait_s=None):
+        decoded = decode_photo(display_jpeg, limits=limits, draft_long_edge=limits.print_long_edge)
+        # The file's own size, not the decoded one: a draft decode may already have shrunk it.
+        stored_size = (decoded.original_width, decoded.original_height)
+        if fit_within(stored_size, limits.print_long_edge) == stored_size:
+            if decoded.original_format == "JPEG":
+                return bytes(display_jpeg)
+            return encode_jpeg(decoded.image, quality=limits.jpeg_quality)
+        return encode_jpeg(
+            _resize(decoded.image, limits.print_long_edge), quality=limits.jpeg_quality
+        )
 
 
 def print_copy(

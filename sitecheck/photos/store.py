@@ -142,6 +142,26 @@ class PhotoStore:
                 ):
                     yield sha
 
+    def iter_all_shas(self) -> Iterator[str]:
+        """Every picture's SHA-256, and that of every print copy kept (a print copy can
+        outlive its picture after a crash), each once."""
+        yield from self.iter_shas()
+        prints = self.root / _PRINT_DIR
+        if not prints.is_dir():
+            return
+        for directory in sorted(prints.iterdir()):
+            if not (_FANOUT.fullmatch(directory.name) and directory.is_dir()):
+                continue
+            for file in sorted(directory.iterdir()):
+                sha = file.name.removesuffix(_SUFFIX)
+                if (
+                    file.name.endswith(_SUFFIX)
+                    and _SHA256_HEX.fullmatch(sha)
+                    and sha[:2] == directory.name
+                    and not self.path_for(sha).is_file()
+                ):
+                    yield sha
+
     def remove_stale_temp_files(self, *, older_than_seconds: float = 3600.0) -> int:
         """Delete temporary files left by a crash mid-write; returns how many were removed.
 

@@ -24,6 +24,8 @@ class BearingRecord:
     decisions: list[dict]
     releases: list[dict]
     reopenings: list[dict]
+    # The engineer's answers keeping the release after evidence recorded since.
+    releases_kept: list[dict] = field(default_factory=list)
 
     @property
     def latest(self) -> dict | None:
@@ -86,6 +88,7 @@ def iter_bearings(db, site_id: str) -> Iterator[BearingRecord]:
             decisions=store.decisions_for(db, site_id=site_id, bearing_id=b["id"]),
             releases=store.releases_for(db, site_id=site_id, bearing_id=b["id"]),
             reopenings=store.reopenings_for(db, site_id=site_id, bearing_id=b["id"]),
+            releases_kept=store.releases_kept_for(db, site_id=site_id, bearing_id=b["id"]),
         )
 
 
@@ -102,6 +105,7 @@ def collect(db, site_id: str) -> SiteRecord:
         ids.update(d["engineer_id"] for d in br.decisions)
         ids.update(r["contractor_id"] for r in br.releases)
         ids.update(r["engineer_id"] for r in br.reopenings)
+        ids.update(k["engineer_id"] for k in br.releases_kept)
     sign_offs = store.sign_offs_for(db, site_id=site_id)
     ids.update(s["engineer_id"] for s in sign_offs)
     return SiteRecord(

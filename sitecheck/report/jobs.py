@@ -1,43 +1,61 @@
 """Making a site record (PDF) in the background, with progress a page can show.
 
-A long site's record takes tens of seconds: too long for one request with nothing to see.
-A job runs on a thread of the server and writes its state to a small JSON file beside the
-PDF it is making; pages read that file. So every server thread (or process) sees the same
-state, and a job cut off by a restart shows as stopped rather than running for ever.
+A long site's record takes tens of seconds: too long for one request with nothing to see,
+and a request that makes a PDF holds a server thread and a core while it does. Every site
+record is made here, on a thread of the server, one at a time per process (``workers``).
 
-Files: ``<folder>/<site id>/<job id>.json`` and ``<job id>.pdf``. A site has one job at a
-time (starting another while one runs joins it), and keeps its newest job and its newest
-finished record; older ones are removed when a job ends.
+The jobs themselves live in the database (sitecheck.store.record_jobs), so every server
+process sees the same jobs: a site has one making at a time whichever process is asked, a
+finished record is handed out again while nothing on the site has changed, and a person may
+start only so many makings an hour. A job whose process stopped (a restart) stops being
+updated and shows as stopped; the next request starts afresh.
+
+Files: ``<folder>/<site id>/<job id>.pdf`` (``.part`` while being written). A site keeps
+the files of its newest job and its newest finished record; older ones are removed when a
+job ends.
 """
 
 from __future__ import annotations
 
 import contextlib
-import json
+import functools
+import hashlib
 import logging
 import os
 import re
-import tempfile
 import threading
 import time
 import uuid
 from collections.abc import Callable
-from dataclasses import asdict, dataclass, replace
+from dataclasses import asdict, dataclass, fields, replace
 from datetime import UTC, datetime
 from pathlib import Path
 
+import sitecheck
 from sitecheck import store
 from sitecheck.report.collect import collect
 from sitecheck.report.pdf import BEFORE_BEARINGS, write_pdf
+from sitecheck.store.record_jobs import STOPPED_BY_RESTART
 
-__all__ = ["DONE", "FAILED", "MAKING", "STOPPED", "WAITING", "Job", "RecordJobs", "site_record"]
+__all__ = [
+    "DONE",
+    "FAILED",
+    "MAKING",
+    "STOPPED",
+    "WAITING",
+    "Job",
+    "RecordJobs",
+    "TooManyRecords",
+    "site_record",
+]
 
 WAITING, MAKING, DONE, FAILED, STOPPED = "waiting", "making", "done", "failed", "stopped"
 RUNNING = (WAITING, MAKING)
+TooManyRecords = store.TooManyRecords
 
-# Progress is written at most this often (and always at the last bearing): one small file
+# Progress is written at most this often (and always at the last bearing): one database
 # write per bearing would cost more than some bearings' pages.
-_WRITE_EVERY_S = 0.2
+_WRITE_EVERY_S = 0.5
 # A waiting job says it is alive this often, so a job waiting behind a long one in another
 # process is not taken for one stopped by a restart.
 _HEARTBEAT_S = 30.0
@@ -52,13 +70,9 @@ Progress = Callable[[int, int, str], None]
 Make = Callable[[Path, Progress], None]
 
 
-def _now() -> str:
-    return datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
-
-
 @dataclass(frozen=True)
 class Job:
-    """One making of a site's record, as its state file holds it."""
+    """One making of a site's record, as its row holds it."""
 
     id: str
     site_id: str
@@ -67,13 +81,12 @@ class Job:
     bearings: int
     current: str
     started_by: int | None
+    site_version: str
     created_at: str
     updated_at: str
     finished_at: str | None = None
     size_bytes: int | None = None
     error: str | None = None
-    # Orders jobs started within the same second (the times above are to the second).
-    started_ns: int = 0
 
     @property
     def running(self) -> bool:
@@ -82,21 +95,64 @@ class Job:
     def as_dict(self) -> dict:
         return asdict(self) | {"running": self.running}
 
+    @classmethod
+    def from_row(cls, row: dict) -> Job:
+        return cls(**{f.name: row[f.name] for f in fields(cls)})
+
+
+@functools.cache
+def _report_code() -> str:
+    """The code that lays a record out: a record made by other code is not reused."""
+    digest = hashlib.sha256(getattr(sitecheck, "__version__", "").encode())
+    for path in sorted(Path(__file__).parent.glob("*.py")):
+        digest.update(path.name.encode() + b"\0" + path.read_bytes())
+    return digest.hexdigest()
+
+
+def _seconds_since(moment: str) -> float:
+    try:
+        then = datetime.fromisoformat(moment.replace("Z", "+00:00"))
+    except ValueError:
+        return float("inf")
+    return (datetime.now(UTC) - then).total_seconds()
+
 
 class RecordJobs:
-    """The jobs of every site under one folder, and the threads of this process making them.
+    """The site records made under one folder, on the database at ``db_path``, and the
+    threads of this process making them.
 
     ``workers`` records are made at once by this process; more wait their turn (each holds
-    a few hundred MB at its peak, and the server has other work).
+    a few hundred MB at its peak, and the server has other work). A person may start
+    ``per_user`` makings in ``window_s`` seconds; joining a making under way, or being handed
+    a finished record of an unchanged site, costs nothing and is not counted.
     """
 
-    def __init__(self, folder: str | os.PathLike, *, workers: int = 1, stale_after_s=300.0):
+    def __init__(
+        self,
+        folder: str | os.PathLike,
+        db_path: str | os.PathLike,
+        *,
+        workers: int = 1,
+        stale_after_s: float = 300.0,
+        per_user: int = 10,
+        window_s: float = 3600.0,
+    ):
         self.folder = Path(folder)
+        self.db_path = db_path
         self.stale_after_s = stale_after_s
+        self.per_user = per_user
+        self.window_s = window_s
         self._slots = threading.BoundedSemaphore(workers)
-        self._lock = threading.RLock()
-        self._alive: set[str] = set()
+        self._lock = threading.Lock()
         self._threads: dict[str, threading.Thread] = {}
+
+    @contextlib.contextmanager
+    def _db(self):
+        db = store.open_db(self.db_path)
+        try:
+            yield db
+        finally:
+            db.conn.close()
 
     # --- reading ----------------------------------------------------------------------------
 
@@ -106,24 +162,16 @@ class RecordJobs:
         return self.folder / site_id
 
     def pdf_path(self, job: Job) -> Path:
+        if not _ID.fullmatch(job.id):
+            raise ValueError(f"A job id is 32 hex digits; got {job.id!r:.80}.")
         return self.site_folder(job.site_id) / f"{job.id}.pdf"
 
     def jobs(self, site_id: str) -> list[Job]:
-        """Every job kept for the site, newest first."""
-        folder = self.site_folder(site_id)
-        if not folder.is_dir():
-            return []
-        found = []
-        for path in folder.glob("*.json"):
-            if not _ID.fullmatch(path.stem):
-                continue
-            try:
-                job = Job(**json.loads(path.read_text(encoding="utf-8")))
-            except (OSError, ValueError, TypeError):
-                continue  # being replaced this instant, or not ours
-            if job.site_id == site_id and job.id == path.stem:
-                found.append(self._as_seen(job))
-        return sorted(found, key=lambda j: (j.created_at, j.started_ns), reverse=True)
+        """Every making of the site's record, newest first."""
+        self.site_folder(site_id)  # refuses an odd id before it reaches the database
+        with self._db() as db:
+            rows = store.record_jobs_for_site(db, site_id=site_id)
+        return [self._as_seen(Job.from_row(r)) for r in rows]
 
     def latest(self, site_id: str) -> Job | None:
         found = self.jobs(site_id)
@@ -136,58 +184,57 @@ class RecordJobs:
             None,
         )
 
+    def current(self, site_id: str) -> Job | None:
+        """The newest finished record if nothing on the site has changed since it was made."""
+        done = self.latest_done(site_id)
+        if done is None:
+            return None
+        with self._db() as db:
+            return done if done.site_version == self.version(db, site_id) else None
+
+    def version(self, db, site_id: str) -> str:
+        """What a record is made from: the site as it is now, and the code that lays it out."""
+        return hashlib.sha256(
+            (store.site_version(db, site_id) + _report_code()).encode()
+        ).hexdigest()
+
     def _as_seen(self, job: Job) -> Job:
-        """A job no thread is making any more (the server stopped) is shown as stopped."""
-        if not job.running:
+        """A job no process is making any more (its server stopped) is shown as stopped."""
+        if not job.running or _seconds_since(job.updated_at) <= self.stale_after_s:
             return job
-        with self._lock:
-            if job.id in self._alive:
-                return job
-        try:
-            age = time.time() - datetime.fromisoformat(job.updated_at).timestamp()
-        except ValueError:
-            age = float("inf")
-        if age <= self.stale_after_s:
-            return job  # another process may be making it
-        return replace(
-            job,
-            state=STOPPED,
-            error="Making it stopped part way, most likely because the server was restarted. "
-            "Nothing was kept; start it again.",
-        )
+        return replace(job, state=STOPPED, error=STOPPED_BY_RESTART)
 
     # --- making -----------------------------------------------------------------------------
 
-    def start(self, site_id: str, *, user_id: int | None, make: Make) -> tuple[Job, bool]:
-        """Start making the site's record, or join the job already making it.
+    def start(self, site_id: str, *, user_id: int | None, make: Make) -> tuple[Job, str]:
+        """Start making the site's record, join the making under way, or hand out the
+        finished record of an unchanged site.
 
-        Returns the job and whether this call started it.
+        Returns the job and "started", "joined" or "reused"; raises TooManyRecords when
+        ``user_id`` may not start another making yet.
         """
-        with self._lock:
-            current = self.latest(site_id)
-            if current is not None and current.running:
-                return current, False
-            now = _now()
-            job = Job(
-                id=uuid.uuid4().hex,
+        self.site_folder(site_id)
+        with self._db() as db:
+            row, how = store.start_record_job(
+                db,
+                job_id=uuid.uuid4().hex,
                 site_id=site_id,
-                state=WAITING,
-                bearings_done=0,
-                bearings=0,
-                current="",
-                started_by=user_id,
-                created_at=now,
-                updated_at=now,
-                started_ns=time.time_ns(),
+                user_id=user_id,
+                version=self.version(db, site_id),
+                file_kept=lambda done: self.pdf_path(Job.from_row(done)).is_file(),
+                per_user=self.per_user,
+                window_s=self.window_s,
+                stale_after_s=self.stale_after_s,
             )
-            self._save(job)
-            self._alive.add(job.id)
+        job = Job.from_row(row)
+        if how == "started":
             thread = threading.Thread(
                 target=self._run, args=(job, make), name=f"site-record-{job.id[:8]}", daemon=True
             )
-            self._threads[job.id] = thread
-        thread.start()
-        return job, True
+            with self._lock:
+                self._threads[job.id] = thread
+            thread.start()
+        return job, how
 
     def wait(self, job_id: str, timeout: float | None = None) -> bool:
         """Wait for a job of this process to end; True if it has (for tests and the CLI)."""
@@ -201,74 +248,60 @@ class RecordJobs:
     def _run(self, job: Job, make: Make) -> None:
         part = self.pdf_path(job).with_suffix(".part")
         try:
-            while not self._slots.acquire(timeout=_HEARTBEAT_S):
-                job = self._save(replace(job, updated_at=_now()))
+            with self._db() as db:
+                while not self._slots.acquire(timeout=_HEARTBEAT_S):
+                    store.update_record_job(db, job.id)  # still waiting, still alive
             try:
-                job = self._save(replace(job, state=MAKING, updated_at=_now()))
-                last_write = 0.0
-
-                def progress(done: int, total: int, what: str) -> None:
-                    nonlocal job, last_write
-                    job = replace(
-                        job, bearings_done=done, bearings=total, current=what, updated_at=_now()
-                    )
-                    if done >= total or time.monotonic() - last_write >= _WRITE_EVERY_S:
-                        self._save(job)
-                        last_write = time.monotonic()
-
-                make(part, progress)
-                final = self.pdf_path(job)
-                os.replace(part, final)
-                job = self._save(
-                    replace(
-                        job,
-                        state=DONE,
-                        bearings_done=job.bearings,
-                        current="",
-                        updated_at=_now(),
-                        finished_at=_now(),
-                        size_bytes=final.stat().st_size,
-                    )
-                )
+                self._make(job, make, part)
             finally:
                 self._slots.release()
         except Exception as error:
             log.exception("making the site record of site %s failed", job.site_id)
             with contextlib.suppress(OSError):
                 part.unlink(missing_ok=True)
-            with contextlib.suppress(OSError):
-                self._save(
-                    replace(
-                        job,
-                        state=FAILED,
-                        updated_at=_now(),
-                        finished_at=_now(),
-                        error=_plain_error(job, error),
-                    )
+            with contextlib.suppress(Exception), self._db() as db:
+                seen = Job.from_row(store.get_record_job(db, job.id))
+                now = _now()
+                store.update_record_job(
+                    db, job.id, state=FAILED, finished_at=now, error=_plain_error(seen, error)
                 )
         finally:
             with self._lock:
-                self._alive.discard(job.id)
-            with contextlib.suppress(OSError):
+                self._threads.pop(job.id, None)
+            with contextlib.suppress(OSError, ValueError):
                 self._prune(job.site_id)
 
-    def _save(self, job: Job) -> Job:
-        folder = self.site_folder(job.site_id)
-        folder.mkdir(parents=True, exist_ok=True)
-        descriptor, temp = tempfile.mkstemp(dir=folder, prefix=".state-", suffix=".tmp")
-        try:
-            with os.fdopen(descriptor, "w", encoding="utf-8") as file:
-                json.dump(asdict(job), file)
-            # Readers see the old state or the new one, never half of one.
-            os.replace(temp, folder / f"{job.id}.json")
-        except BaseException:
-            with contextlib.suppress(OSError):
-                os.unlink(temp)
-            raise
-        return job
+    def _make(self, job: Job, make: Make, part: Path) -> None:
+        with self._db() as db:
+            store.update_record_job(db, job.id, state=MAKING)
+            last_write = 0.0
+
+            def progress(done: int, total: int, what: str) -> None:
+                nonlocal last_write
+                if done >= total or time.monotonic() - last_write >= _WRITE_EVERY_S:
+                    store.update_record_job(
+                        db, job.id, bearings_done=done, bearings=total, current=what
+                    )
+                    last_write = time.monotonic()
+
+            part.parent.mkdir(parents=True, exist_ok=True)
+            make(part, progress)
+            final = self.pdf_path(job)
+            os.replace(part, final)
+            made = Job.from_row(store.get_record_job(db, job.id))
+            store.update_record_job(
+                db,
+                job.id,
+                state=DONE,
+                bearings_done=made.bearings,
+                current="",
+                finished_at=_now(),
+                size_bytes=final.stat().st_size,
+            )
 
     def _prune(self, site_id: str) -> None:
-        """Keep the newest job, the newest finished record and anything still running."""
+        """Keep the files of the newest job, the newest finished record and anything running;
+        remove the rest (older records, and files a stopped process left)."""
         jobs = self.jobs(site_id)
         keep = {jobs[0].id} if jobs else set()
         keep |= {j.id for j in jobs if j.running}
@@ -276,12 +309,16 @@ class RecordJobs:
         if done:
             keep.add(done.id)
         folder = self.site_folder(site_id)
-        for j in jobs:
-            if j.id in keep:
-                continue
-            for suffix in (".pdf", ".part", ".json"):
+        if not folder.is_dir():
+            return
+        for path in folder.iterdir():
+            if path.suffix in (".pdf", ".part", ".json") and path.stem not in keep:
                 with contextlib.suppress(FileNotFoundError):
-                    (folder / f"{j.id}{suffix}").unlink()
+                    path.unlink()
+
+
+def _now() -> str:
+    return store.timestamp()
 
 
 def _plain_error(job: Job, error: Exception) -> str:

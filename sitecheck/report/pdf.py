@@ -800,6 +800,15 @@ def _history(pdf: _Doc, rec: SiteRecord, br: BearingRecord) -> None:
         (r["created_at"], "Reopened", rec.name(r["engineer_id"]), r["reason"])
         for r in br.reopenings
     ]
+    items += [
+        (
+            k["created_at"],
+            "Release kept after later evidence",
+            rec.name(k["engineer_id"]),
+            k["reason"],
+        )
+        for k in br.releases_kept
+    ]
     if not items:
         pdf.para("None.")
         return
@@ -814,6 +823,14 @@ def _history(pdf: _Doc, rec: SiteRecord, br: BearingRecord) -> None:
         pdf.para(
             f"{len(br.records)} as-built records are kept for this bearing; the newest by "
             "measured time sets the state. All are in the data export.",
+            8,
+        )
+    after = sum(1 for r in br.records if r["late"])
+    if after:
+        pdf.para(
+            f"{after} as-built record{' was' if after == 1 else 's were'} recorded after a "
+            "release; each is listed for the engineer, who reopens the bearing or keeps the "
+            "release.",
             8,
         )
 

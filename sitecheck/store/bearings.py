@@ -10,6 +10,7 @@ if the bearing moved meanwhile, ``StaleState`` is raised), or, where the new sta
 what is stored at that moment, take the rule itself (``state_after_record``).
 """
 
+import json
 import sqlite3
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
@@ -31,7 +32,14 @@ from sitecheck.store.base import (
     transaction,
     utc_now,
 )
-from sitecheck.store.errors import DuplicateReference, NotFound, StaleState, UuidInUse
+from sitecheck.store.errors import (
+    DuplicateReference,
+    NotFound,
+    SameIdOtherValues,
+    StaleState,
+    TooManyPhotos,
+    UuidInUse,
+)
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import DECISION_KINDS, STATES
 
@@ -417,10 +425,13 @@ def insert_record(
 ) -> RecordStored:
     """Store an as-built record once per client UUID, and move the bearing's state.
 
-    Sending the same UUID again returns the row first stored, ``created=False``, and changes
-    nothing. The same UUID for another bearing or inspector raises ``UuidInUse`` without
-    revealing the stored row. A record arriving after release is stored with ``late`` set and
-    leaves the bearing released. ``state_after_record`` is ``workflow.state_after_record``:
+    Sending the same UUID again with the same values returns the row first stored,
+    ``created=False``, and changes nothing; with other values it raises ``SameIdOtherValues``
+    naming the fields that differ. The same UUID for another bearing or inspector raises
+    ``UuidInUse`` without revealing the stored row. A record arriving after release is stored
+    with ``late`` set, leaves the bearing released, and is listed for the engineer as
+    recorded after release (``after_release_evidence``) until the engineer reopens the
+    bearing or keeps its release. ``state_after_record`` is ``workflow.state_after_record``:
     it is called with (state, blocking, record is newest) inside the transaction, so two
     records arriving together cannot both decide from the same old state.
     """
@@ -471,6 +482,22 @@ def insert_record(
                     "This record's UUID is already used by another record; the phone must make "
                     "a new UUID for each record"
                 )
+            sent = {
+                "design_revision": design_revision,
+                "measured_at": measured,
+                "measurements": measurements,
+                "checklist": checklist or {},
+                "notes": (notes or "").strip(),
+            }
+            differs = tuple(name for name, value in sent.items() if not _same(value, row[name]))
+            if differs:
+                raise SameIdOtherValues(
+                    "An as-built record with this id was already stored with other values ("
+                    + ", ".join(_FIELD_WORDS[name] for name in differs)
+                    + "). These values were not stored: record the bearing again from them, "
+                    "which gives the record a new id.",
+                    differs,
+                )
             return RecordStored(
                 row=get_record(db, site_id=site_id, uuid=uuid),
                 created=False,
@@ -483,6 +510,8 @@ def insert_record(
             [bearing_id],
         )
         is_newest = newest["uuid"] == uuid
+        if late:
+            _add_after_release(db, bearing_id, record_uuid=uuid, received=received)
         detail = {
             "record_uuid": uuid,
             "newest": is_newest,
@@ -525,6 +554,22 @@ def insert_record(
                 detail=detail,
             )
     return RecordStored(row=get_record(db, site_id=site_id, uuid=uuid), created=True, state=state)
+
+
+_FIELD_WORDS = {
+    "design_revision": "design revision",
+    "measured_at": "time measured",
+    "measurements": "measurements",
+    "checklist": "checklist",
+    "notes": "notes",
+}
+
+
+def _same(sent: Any, stored: Any) -> bool:
+    """Equal as stored JSON, strictly: 1 and true, or 100 and 100.0, are not the same value."""
+    return json.dumps(json.loads(to_json(sent)), sort_keys=True) == json.dumps(
+        stored, sort_keys=True
+    )
 
 
 _RECORD_COLUMNS = """
@@ -605,8 +650,20 @@ def insert_photo(
     gps_lat: float | None,
     gps_lon: float | None,
     user_id: int,
+    upload_sha256: str | None = None,
+    max_photos: int | None = None,
+    keep_files: Callable[[], None] | None = None,
 ) -> Stored:
-    """Store a photo's facts once per client UUID (the file itself is stored by its sha256)."""
+    """Store a photo's facts once per client UUID (the file itself is stored by its sha256).
+
+    Everything is decided inside one write transaction, in this order: the same UUID again
+    with the same upload returns the row first stored (``created=False``) and writes nothing;
+    the same UUID for another record raises ``UuidInUse``, with another picture
+    ``SameIdOtherValues``; a record that already has ``max_photos`` raises ``TooManyPhotos``.
+    Only then is ``keep_files`` called (it writes the picture's files) and the row inserted,
+    so a refused photo never writes a file, and two uploads at once cannot both be the last
+    one a record may take.
+    """
     uuid = canonical_uuid(uuid)
     record_uuid = canonical_uuid(record_uuid, field="record_uuid")
     captured = None if captured_at is None else parse_timestamp(captured_at, field="captured_at")
@@ -616,12 +673,37 @@ def insert_photo(
             raise NotFound(
                 "No such as-built record on this site; send the record before its photos"
             )
-        cursor = db.execute(
+        row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
+        if row is not None:
+            if row["record_uuid"] != record_uuid:
+                raise UuidInUse(
+                    "This photo's UUID is already used by another photo; the phone must make a "
+                    "new UUID for each photo"
+                )
+            if _other_picture(row, upload_sha256, sha256):
+                raise SameIdOtherValues(
+                    "A photo with this id was already stored with another picture. This "
+                    "picture was not stored: add it to the record again, which gives it a new "
+                    "id.",
+                    ("picture",),
+                )
+            return Stored(row=row, created=False)
+        if max_photos is not None:
+            count = one(
+                db, "SELECT count(*) AS n FROM photos WHERE record_uuid = ?", [record_uuid]
+            )["n"]
+            if count >= max_photos:
+                raise TooManyPhotos(
+                    f"At most {max_photos} photos for one as-built record; this record has "
+                    f"{count} already, so this photo was not stored."
+                )
+        if keep_files is not None:
+            keep_files()
+        db.execute(
             """
             INSERT INTO photos (uuid, record_uuid, sha256, thumb_sha256, width, height, size_bytes,
-                captured_at, gps_lat, gps_lon, created_at)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-            ON CONFLICT (uuid) DO NOTHING
+                captured_at, gps_lat, gps_lon, created_at, upload_sha256)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             """,
             [
                 uuid,
@@ -635,25 +717,75 @@ def insert_photo(
                 gps_lat,
                 gps_lon,
                 timestamp(),
+                upload_sha256,
             ],
         )
-        created = cursor.rowcount == 1
         row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
-        if not created and row["record_uuid"] != record_uuid:
-            raise UuidInUse(
-                "This photo's UUID is already used by another photo; the phone must make a new "
-                "UUID for each photo"
-            )
-        if created:
-            add_event(
+        detail = {"photo_uuid": uuid, "record_uuid": record_uuid, "sha256": sha256}
+        state = one(db, "SELECT state FROM bearings WHERE id = ?", [record["bearing_id"]])
+        if state["state"] == RELEASED:
+            # Kept, and listed for the engineer: the release may rest on this very record.
+            _add_after_release(
                 db,
-                kind="photo received",
-                user_id=user_id,
-                site_id=site_id,
-                bearing_id=record["bearing_id"],
-                detail={"photo_uuid": uuid, "record_uuid": record_uuid, "sha256": sha256},
+                record["bearing_id"],
+                record_uuid=record_uuid,
+                photo_uuid=uuid,
+                received=row["created_at"],
             )
-    return Stored(row=row, created=created)
+            detail["after_release"] = True
+        add_event(
+            db,
+            kind="photo received",
+            user_id=user_id,
+            site_id=site_id,
+            bearing_id=record["bearing_id"],
+            detail=detail,
+        )
+    return Stored(row=row, created=True)
+
+
+def _add_after_release(
+    db, bearing_id: str, *, record_uuid: str, received: str, photo_uuid: str | None = None
+) -> None:
+    release = one(db, "SELECT max(id) AS id FROM releases WHERE bearing_id = ?", [bearing_id])
+    db.execute(
+        """
+        INSERT INTO after_release_evidence (bearing_id, release_id, record_uuid, photo_uuid,
+            received_at)
+        VALUES (?, ?, ?, ?, ?)
+        """,
+        [bearing_id, release["id"], record_uuid, photo_uuid, received],
+    )
+
+
+def _other_picture(row: dict, upload_sha256: str | None, sha256: str) -> bool:
+    # Rows stored before uploads were hashed compare by the picture kept, which the same
+    # upload always gives again.
+    if row["upload_sha256"] is not None and upload_sha256 is not None:
+        return row["upload_sha256"] != upload_sha256
+    return row["sha256"] != sha256
+
+
+def photo_files_in_use(db: sqlite_utils.Database, shas: Iterable[str]) -> set[str]:
+    """Which of these picture hashes a stored photo names (as its picture or thumbnail).
+
+    Across every site: files are shared by content, so a file is free to remove only when
+    no row anywhere names it.
+    """
+    wanted = list(dict.fromkeys(shas))
+    found: set[str] = set()
+    for start in range(0, len(wanted), 400):
+        batch = wanted[start : start + 400]
+        marks = placeholders(batch)
+        found.update(
+            r["sha"]
+            for r in db.query(
+                f"SELECT sha256 AS sha FROM photos WHERE sha256 IN ({marks}) "
+                f"UNION SELECT thumb_sha256 FROM photos WHERE thumb_sha256 IN ({marks})",
+                [*batch, *batch],
+            )
+        )
+    return found
 
 
 def get_photo(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
@@ -923,29 +1055,151 @@ def reopenings_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) 
     return _for_bearing(db, "reopenings", site_id, bearing_id)
 
 
+# --- evidence recorded after release ----------------------------------------------------------
+
+# Evidence for bearing b (alias) not yet answered: recorded since its current release, and
+# after the last time the engineer kept that release. Reopening ends the release, so it
+# answers everything recorded before it.
+_OPEN_EVIDENCE = """
+    e.bearing_id = b.id AND b.state = 'released'
+    AND e.release_id = (SELECT max(x.id) FROM releases x WHERE x.bearing_id = b.id)
+    AND e.id > coalesce(
+        (SELECT max(k.evidence_up_to) FROM releases_kept k
+         WHERE k.bearing_id = b.id AND k.release_id = e.release_id), 0)
+"""
+
+
+def after_release_evidence(
+    db: sqlite_utils.Database, *, site_id: str, bearing_id: str
+) -> list[dict]:
+    """What was recorded for a released bearing since its release and not yet answered by
+    the engineer, oldest first: one row per record (``photo_uuid`` None) or photo, with the
+    record's inspector, times, utilisation and verdict. Empty for a bearing not released."""
+    return many(
+        db,
+        f"""
+        SELECT e.id, e.release_id, e.record_uuid, e.photo_uuid, e.received_at,
+               r.measured_at, r.inspector_id, r.utilisation, r.passed, r.blocking,
+               r.reasons, p.width, p.height, p.captured_at
+        FROM after_release_evidence e
+        JOIN bearings b ON b.id = e.bearing_id
+        JOIN as_built_records r ON r.uuid = e.record_uuid
+        LEFT JOIN photos p ON p.uuid = e.photo_uuid
+        WHERE b.site_id = ? AND b.id = ? AND {_OPEN_EVIDENCE}
+        ORDER BY e.id
+        """,
+        [site_id, bearing_id],
+    )
+
+
+def keep_release(
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    bearing_id: str,
+    engineer_id: int,
+    reason: str,
+    seen_up_to: int,
+    now: datetime | None = None,
+) -> dict:
+    """The engineer has looked at what was recorded after release and keeps the release.
+
+    ``seen_up_to`` is the newest evidence the engineer saw (its id): if more arrived since,
+    ``StaleState``, so a release is never kept over evidence nobody looked at.
+    """
+    reason = required_text(reason, "The reason for keeping the release")
+    with transaction(db):
+        bearing = _bearing(db, site_id, bearing_id)
+        if bearing["state"] != RELEASED:
+            raise StaleState(
+                f"Bearing {bearing['reference']} is now '{bearing['state']}', not released; "
+                "reload it and look again"
+            )
+        waiting = after_release_evidence(db, site_id=site_id, bearing_id=bearing_id)
+        if not waiting:
+            raise StaleState(
+                f"Nothing recorded after the release of bearing {bearing['reference']} waits "
+                "for an answer; reload it and look again"
+            )
+        if waiting[-1]["id"] != seen_up_to:
+            raise StaleState(
+                f"More was recorded for bearing {bearing['reference']} after its release since "
+                "the page was opened; look at it and answer again"
+            )
+        at = timestamp(now or utc_now())
+        cursor = db.execute(
+            """
+            INSERT INTO releases_kept (bearing_id, release_id, engineer_id, reason,
+                evidence_up_to, created_at)
+            VALUES (?, ?, ?, ?, ?, ?)
+            """,
+            [bearing_id, waiting[-1]["release_id"], engineer_id, reason, seen_up_to, at],
+        )
+        kept_id = cursor.lastrowid
+        add_event(
+            db,
+            kind="release kept",
+            user_id=engineer_id,
+            site_id=site_id,
+            bearing_id=bearing_id,
+            detail={
+                "release_kept": kept_id,
+                "reason": reason,
+                "records": sorted({w["record_uuid"] for w in waiting if not w["photo_uuid"]}),
+                "photos": [w["photo_uuid"] for w in waiting if w["photo_uuid"]],
+            },
+        )
+    return one(db, "SELECT * FROM releases_kept WHERE id = ?", [kept_id])
+
+
+def releases_kept_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+    """The engineer's answers keeping a bearing's release after later evidence, oldest first."""
+    return _for_bearing(db, "releases_kept", site_id, bearing_id)
+
+
 # --- queues -------------------------------------------------------------------------------------
 
 
 def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
-    """Bearings waiting for this user's decision, across the sites where they are engineer.
+    """Bearings waiting for this user's decision, across the sites where they are engineer:
+    those 'engineer to decide', and released ones with evidence recorded after release that
+    the engineer has not answered yet.
 
-    Highest utilisation of the latest record first, then most blocking reasons, then
-    longest waiting (the review page orders by severity on top of this). Each row is the
-    bearing plus ``site_name``, ``utilisation``, ``passed``, ``blocking``, ``measured_at``
-    and ``reasons`` of its latest record.
+    Highest utilisation first (of the latest record, or of the worst record after release),
+    then most blocking reasons, then longest waiting (the review page orders by severity on
+    top of this). Each row is the bearing plus ``site_name``, ``utilisation``, ``passed``,
+    ``blocking``, ``measured_at`` and ``reasons`` of its latest record, and
+    ``records_after_release``, ``photos_after_release``, ``worst_after_release``,
+    ``first_after_release`` (None when nothing is waiting).
     """
     return many(
         db,
-        """
+        f"""
         SELECT b.*, s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at,
-               r.reasons, r.design_revision < b.revision AS older_revision
+               r.reasons, r.design_revision < b.revision AS older_revision,
+               ev.records_after_release, ev.photos_after_release, ev.worst_after_release,
+               ev.first_after_release
         FROM memberships m
         JOIN sites s ON s.id = m.site_id
         JOIN bearings b ON b.site_id = m.site_id
         LEFT JOIN as_built_records r ON r.uuid = b.latest_record_uuid
-        WHERE m.user_id = ? AND m.role = 'engineer' AND b.state = 'engineer to decide'
-        ORDER BY r.utilisation DESC NULLS LAST, r.blocking DESC NULLS LAST,
-                 b.state_changed_at ASC, b.id
+        LEFT JOIN (
+            SELECT e.bearing_id,
+                   count(CASE WHEN e.photo_uuid IS NULL THEN 1 END) AS records_after_release,
+                   count(e.photo_uuid) AS photos_after_release,
+                   max(CASE WHEN e.photo_uuid IS NULL THEN er.utilisation END)
+                       AS worst_after_release,
+                   min(e.received_at) AS first_after_release
+            FROM after_release_evidence e
+            JOIN bearings b ON b.id = e.bearing_id
+            JOIN as_built_records er ON er.uuid = e.record_uuid
+            WHERE {_OPEN_EVIDENCE}
+            GROUP BY e.bearing_id
+        ) ev ON ev.bearing_id = b.id
+        WHERE m.user_id = ? AND m.role = 'engineer'
+          AND (b.state = 'engineer to decide' OR ev.bearing_id IS NOT NULL)
+        ORDER BY coalesce(ev.worst_after_release, r.utilisation) DESC NULLS LAST,
+                 r.blocking DESC NULLS LAST, b.state_changed_at ASC, b.id
         """,
         [user_id],
     )

@@ -379,7 +379,111 @@ def m006_single_use_links(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m007_notices(db: sqlite_utils.Database) -> None:
+def m007_photo_files(db: sqlite_utils.Database) -> None:
+    """What a photo was uploaded as, so the same id sent with another picture is told apart
+    from a resend; and the hashes indexed, because a file is new (and may be removed when its
+    upload is refused) only if no row names it, which is asked inside every photo's
+    write transaction."""
+    db.execute(
+        "ALTER TABLE photos ADD COLUMN upload_sha256 TEXT "
+        "CHECK (upload_sha256 IS NULL OR length(upload_sha256) = 64)"
+    )
+    db.execute("CREATE INDEX photos_sha256 ON photos(sha256)")
+    db.execute("CREATE INDEX photos_thumb_sha256 ON photos(thumb_sha256)")
+
+
+@MIGRATIONS()
+def m008_recorded_after_release(db: sqlite_utils.Database) -> None:
+    """Evidence that arrives for a released bearing (a record, a photo) is kept and listed
+    for the engineer; the engineer answers by reopening or by keeping the release, with a
+    reason. Both tables are append-only: what came and what was said stay on the record."""
+    db.execute(
+        """
+        CREATE TABLE after_release_evidence (
+            id INTEGER PRIMARY KEY,
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            release_id INTEGER NOT NULL REFERENCES releases(id),
+            record_uuid TEXT NOT NULL REFERENCES as_built_records(uuid),
+            photo_uuid TEXT REFERENCES photos(uuid),
+            received_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE INDEX after_release_evidence_bearing ON after_release_evidence(bearing_id, id)"
+    )
+    db.execute(
+        """
+        CREATE TABLE releases_kept (
+            id INTEGER PRIMARY KEY,
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            release_id INTEGER NOT NULL REFERENCES releases(id),
+            engineer_id INTEGER NOT NULL REFERENCES users(id),
+            reason TEXT NOT NULL CHECK (length(trim(reason)) > 0),
+            evidence_up_to INTEGER NOT NULL,
+            created_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX releases_kept_bearing ON releases_kept(bearing_id, id)")
+    for statement in (
+        *_append_only("after_release_evidence", "evidence after release is append-only"),
+        *_append_only("releases_kept", "kept releases are append-only"),
+    ):
+        db.execute(statement)
+    # Records that arrived after a release before this table existed are listed too.
+    db.execute(
+        """
+        INSERT INTO after_release_evidence (bearing_id, release_id, record_uuid, received_at)
+        SELECT r.bearing_id,
+               (SELECT max(x.id) FROM releases x
+                WHERE x.bearing_id = r.bearing_id AND x.created_at <= r.received_at),
+               r.uuid, r.received_at
+        FROM as_built_records r
+        WHERE r.late = 1 AND EXISTS (
+            SELECT 1 FROM releases x
+            WHERE x.bearing_id = r.bearing_id AND x.created_at <= r.received_at
+        )
+        ORDER BY r.received_at, r.uuid
+        """
+    )
+
+
+@MIGRATIONS()
+def m009_record_jobs(db: sqlite_utils.Database) -> None:
+    """Site records made in the background, kept in the database rather than in files and
+    threads of one process, so that every server process sees the same jobs and a site has
+    one making at a time whichever process is asked."""
+    db.execute(
+        """
+        CREATE TABLE record_jobs (
+            id TEXT PRIMARY KEY CHECK (length(id) = 32),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            state TEXT NOT NULL
+                CHECK (state IN ('waiting', 'making', 'done', 'failed', 'stopped')),
+            bearings_done INTEGER NOT NULL DEFAULT 0,
+            bearings INTEGER NOT NULL DEFAULT 0,
+            current TEXT NOT NULL DEFAULT '',
+            started_by INTEGER REFERENCES users(id),
+            site_version TEXT NOT NULL,
+            created_at TEXT NOT NULL,
+            updated_at TEXT NOT NULL,
+            finished_at TEXT,
+            size_bytes INTEGER,
+            error TEXT
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE UNIQUE INDEX record_jobs_one_running ON record_jobs(site_id) "
+        "WHERE state IN ('waiting', 'making')"
+    )
+    db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, created_at)")
+    db.execute("CREATE INDEX record_jobs_started_by ON record_jobs(started_by, created_at)")
+
+
+@MIGRATIONS()
+def m010_notices(db: sqlite_utils.Database) -> None:
     """Notices: who is told by e-mail that it is their turn, and when each person last
     looked at a site (for "since you last looked").
 
@@ -448,7 +552,7 @@ def m007_notices(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m008_decision_signatures(db: sqlite_utils.Database) -> None:
+def m011_decision_signatures(db: sqlite_utils.Database) -> None:
     """A decision keeps the engineer's name as it was when they decided (an account's name
     may change later; the record must not), and an acceptance of a bearing that fails as
     built keeps what failed (``accepted_failing``: the governing check, its title and the
@@ -461,7 +565,7 @@ def m008_decision_signatures(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m009_sign_offs(db: sqlite_utils.Database) -> None:
+def m012_sign_offs(db: sqlite_utils.Database) -> None:
     """The engineer's sign-off of a site record: who signed (the name as signed), when,
     the statement, and what it covers (``covers``: the bearings by state, the records and
     photos, and the last history entry, as they were when it was signed). Append-only:

@@ -19,6 +19,7 @@ from datetime import datetime, timedelta
 import sqlite_utils
 
 from sitecheck.store.base import many, one, placeholders, timestamp, transaction, utc_now
+from sitecheck.store.bearings import _OPEN_EVIDENCE
 
 # At most one notice message per person in this many seconds; the first after a quiet spell
 # goes at once, later ones wait and go together.
@@ -105,7 +106,7 @@ def waiting_notices(db: sqlite_utils.Database, *, now: datetime | None = None) -
     quiet_since = _quiet_since(now or utc_now())
     return many(
         db,
-        """
+        f"""
         SELECT n.id, n.user_id, n.site_id, n.bearing_id, n.kind, n.words, n.created_at,
                n.event_id, by.name AS by_name,
                u.email, u.name AS user_name, u.disabled,
@@ -115,7 +116,9 @@ def waiting_notices(db: sqlite_utils.Database, *, now: datetime | None = None) -
                (SELECT d.kind FROM decisions d WHERE d.bearing_id = b.id
                 ORDER BY d.created_at DESC, d.id DESC LIMIT 1) AS last_decision,
                (SELECT count(*) FROM notices_off o
-                WHERE o.user_id = n.user_id AND o.kind = n.kind) AS turned_off
+                WHERE o.user_id = n.user_id AND o.kind = n.kind) AS turned_off,
+               EXISTS (SELECT 1 FROM after_release_evidence e WHERE {_OPEN_EVIDENCE})
+                   AS after_release
         FROM notices n
         JOIN users u ON u.id = n.user_id
         JOIN sites s ON s.id = n.site_id
@@ -326,14 +329,19 @@ def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
     and how many of them arrived since they last looked."""
     row = one(
         db,
-        """
-        SELECT count(*) AS waiting,
-               coalesce(sum(b.state_changed_at > coalesce(v.looked_at, m.created_at)), 0)
-                   AS new
-        FROM memberships m
-        JOIN bearings b ON b.site_id = m.site_id AND b.state = 'engineer to decide'
-        LEFT JOIN site_visits v ON v.user_id = m.user_id AND v.site_id = m.site_id
-        WHERE m.user_id = ? AND m.role = 'engineer'
+        f"""
+        SELECT count(*) AS waiting, coalesce(sum(since > looked), 0) AS new FROM (
+            SELECT coalesce(v.looked_at, m.created_at) AS looked,
+                   CASE WHEN b.state = 'engineer to decide' THEN b.state_changed_at
+                        ELSE (SELECT min(e.received_at) FROM after_release_evidence e
+                              WHERE {_OPEN_EVIDENCE}) END AS since
+            FROM memberships m
+            JOIN bearings b ON b.site_id = m.site_id
+            LEFT JOIN site_visits v ON v.user_id = m.user_id AND v.site_id = m.site_id
+            WHERE m.user_id = ? AND m.role = 'engineer'
+              AND (b.state = 'engineer to decide' OR (b.state = 'released' AND EXISTS (
+                  SELECT 1 FROM after_release_evidence e WHERE {_OPEN_EVIDENCE})))
+        )
         """,
         [user_id],
     )

@@ -16,10 +16,10 @@ from flask_wtf.csrf import CSRFError, CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
 from sitecheck import auth as accounts
-from sitecheck import store
+from sitecheck import services, store
 from sitecheck.mail import MailSender, MailSettings
-from sitecheck.photos import PhotoStore
-from sitecheck.web import compress
+from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
+from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
 csrf = CSRFProtect()
@@ -57,6 +57,9 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=os.environ.get("SITECHECK_SECURE_COOKIES") == "1",
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
+        # Site records (PDF) one person may start in an hour; handing out a finished one
+        # of an unchanged site, or joining one being made, is not counted.
+        RECORD_PDF_PER_HOUR=int(os.environ.get("SITECHECK_RECORD_PDF_PER_HOUR") or 10),
         LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
         LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
         LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
@@ -74,13 +77,25 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         # by sending the header itself. The host is not taken from the proxy: links in
         # e-mails use SITECHECK_BASE_URL.
         app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies)
+    return_picture_memory_to_the_system()  # a server decodes pictures all day
+    photos = app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
-    db.conn.close()
-    app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
+    try:
+        # What a crash mid-upload left behind: temporary files, pictures no row names.
+        swept = services.sweep_photo_files(db, photos)
+    finally:
+        db.conn.close()
+    if swept.temporary_files or swept.orphan_files:
+        app.logger.warning(
+            "photo store: removed %d temporary and %d unnamed files left by a crash",
+            swept.temporary_files,
+            swept.orphan_files,
+        )
     if app.config["MAIL"] is not None and app.config["MAIL_SENDER"]:
         sender = MailSender(app.config["DB_PATH"], app.config["MAIL"])
         app.extensions["mail_sender"] = sender
         sender.start()
+    jsonbody.install(app)
     csrf.init_app(app)
 
     from sitecheck.web import auth, pages, review, sites

@@ -1,4 +1,5 @@
-"""The forms behind the engineer's decision, the reopening and the release for closing up.
+"""The forms behind the engineer's decision, the reopening, keeping a release after later
+evidence, and the release for closing up.
 
 Every one of these acts stays on the record for good, so each asks for words a reader can
 follow later: a reason long enough to say something, a name that signs the release.
@@ -86,6 +87,19 @@ class DecisionForm(FlaskForm):
 class ReopenForm(FlaskForm):
     reason = TextAreaField(
         "Reason for reopening", filters=[_strip], validators=[written_reason("reopening")]
+    )
+
+
+class KeepReleaseForm(FlaskForm):
+    # The newest evidence the engineer saw travels with the form: anything recorded after it
+    # makes the store refuse, so a release is never kept over what nobody looked at.
+    seen_up_to = HiddenField(
+        validators=[DataRequired(_STALE_FORM), Regexp(r"^[0-9]{1,18}$", 0, _STALE_FORM)]
+    )
+    reason = TextAreaField(
+        "Reason for keeping the release",
+        filters=[_strip],
+        validators=[written_reason("keeping the release")],
     )
 
 

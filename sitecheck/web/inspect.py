@@ -7,8 +7,6 @@ once per client-made UUID: a second send of the same form shows the first result
 
 from __future__ import annotations
 
-import contextlib
-
 from flask import (
     Blueprint,
     Response,
@@ -28,7 +26,13 @@ from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.review import Measurements, as_built_input, missing_measurements
 from sitecheck.bearing.serial import measurements_from_dict
-from sitecheck.photos import IngestedPhoto, PhotoLimits, PhotoRejected, ingest_photo
+from sitecheck.photos import (
+    IngestedPhoto,
+    PhotoLimits,
+    PhotoRejected,
+    PhotosBusy,
+    ingest_photo,
+)
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.auth import login_required
@@ -337,50 +341,34 @@ def _check_photos(form, chosen) -> list[IngestedPhoto]:
                 *form.photos.errors,
                 f"Photo {number} ({name}): {rejected.message}",
             ]
+        except PhotosBusy:
+            form.photos.errors = [
+                *form.photos.errors,
+                "The server is busy with other photos just now; nothing was stored. Send "
+                "the form again in a minute.",
+            ]
+            break
     return accepted
 
 
 def _store(db, site, bearing, form, revision, photos):
-    """Files first (content-addressed, so a crash leaves only unreferenced files), then the
-    record and its photo rows in one transaction."""
-    ps = photo_store()
-    new_files = []
-    try:
-        for p in photos:
-            for data, sha in (
-                (p.display_jpeg, p.display_sha256),
-                (p.thumbnail_jpeg, p.thumbnail_sha256),
-            ):
-                if not ps.exists(sha):
-                    new_files.append(sha)
-                ps.put(data)
-            ps.put_print(p.display_sha256, p.print_jpeg)  # deleted with the display file
-        with store.transaction(db):
-            stored, _recheck = services.record_as_built(
-                db,
-                site=site,
-                bearing=bearing,
-                uuid=form.record_uuid.data,
-                measured_at=form.measured_at.data.strip(),
-                design_revision=revision,
-                measurements=form.measurements(),
-                checklist=form.checklist(),
-                notes=form.notes.data or "",
-                inspector_id=g.user["id"],
-                provisional=form.provisional_verdict(),
-            )
-            if stored.created:
-                for p in photos:
-                    services.add_photo_row(
-                        db, site=site, record_uuid=stored.row["uuid"], photo=p, user_id=g.user["id"]
-                    )
-    except BaseException:
-        # Only files this request brought in; a file another record shares stays.
-        for sha in new_files:
-            with contextlib.suppress(OSError, ValueError):
-                ps.delete(sha)
-        raise
-    return stored
+    """The record and its photos in one transaction, files included (see services)."""
+    return services.record_as_built_with_photos(
+        db,
+        photos_store=photo_store(),
+        photos=photos,
+        max_photos=MAX_PHOTOS,
+        site=site,
+        bearing=bearing,
+        uuid=form.record_uuid.data,
+        measured_at=form.measured_at.data.strip(),
+        design_revision=revision,
+        measurements=form.measurements(),
+        checklist=form.checklist(),
+        notes=form.notes.data or "",
+        inspector_id=g.user["id"],
+        provisional=form.provisional_verdict(),
+    )
 
 
 def _design_at(db, site, bearing, revision: int) -> dict:

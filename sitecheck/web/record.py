@@ -4,15 +4,18 @@ and the drawing of a bearing that the review, result and bearing pages include.
 Everyone on a site may export its record ('export'); anyone else gets 404, as for every
 other page of the site.
 
-A small site's PDF is made inside the request that asks for it. A larger one is made in
-the background (sitecheck.report.jobs): the record page starts it, a progress page shows
-how many bearings are done, refreshing itself without JavaScript and polling its .json
-with it, and offers the file when it is ready. The file is kept under the app's folder.
+Every PDF is made in the background (sitecheck.report.jobs), never inside a request: a
+request that made one held a server thread and a core for seconds, and eight at once slowed
+log-in for everyone. The record page starts it (or joins the making under way, or hands out
+the last one while nothing on the site has changed), a progress page shows how many
+bearings are done, refreshing itself without JavaScript and polling its .json with it, and
+offers the file when it is ready. A person may start only so many makings an hour. The files
+are kept under the app's folder.
 """
 
 from __future__ import annotations
 
-from datetime import datetime
+from datetime import UTC, datetime
 from pathlib import Path
 
 from flask import (
@@ -21,6 +24,7 @@ from flask import (
     current_app,
     flash,
     g,
+    make_response,
     redirect,
     render_template,
     send_file,
@@ -30,10 +34,10 @@ from markupsafe import Markup
 
 from sitecheck import store, workflow
 from sitecheck.bearing import InputError
-from sitecheck.report import export, pdf
+from sitecheck.report import export
 from sitecheck.report.collect import collect
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
-from sitecheck.report.jobs import RecordJobs, site_record
+from sitecheck.report.jobs import RecordJobs, TooManyRecords, site_record
 from sitecheck.report.summary import DEFAULT_SIGN_OFF, covers_words
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
@@ -43,9 +47,6 @@ from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("record", __name__)
 
-# Up to this many bearings the PDF is made while the download waits (a few seconds); more,
-# and the page offers only the background making with its progress.
-DIRECT_PDF_MAX_BEARINGS = 40
 # How often the progress page asks again, without JavaScript and with it.
 REFRESH_SECONDS = 2
 
@@ -72,10 +73,13 @@ DOWNLOADS = (
 @bp.record_once
 def _install_jobs(state) -> None:
     """One set of background jobs per app, their files beside the database and photos
-    (``RECORD_DIR`` to put them elsewhere)."""
+    (``RECORD_DIR`` to put them elsewhere). ``RECORD_PDF_PER_HOUR``: how many makings one
+    person may start in an hour."""
     app = state.app
     folder = app.config.get("RECORD_DIR") or Path(app.config["DB_PATH"]).parent / "records"
-    app.extensions["record_jobs"] = RecordJobs(folder)
+    app.extensions["record_jobs"] = RecordJobs(
+        folder, app.config["DB_PATH"], per_user=app.config["RECORD_PDF_PER_HOUR"]
+    )
 
 
 def record_jobs() -> RecordJobs:
@@ -105,7 +109,7 @@ def _record_page(found: dict, role: str, form: SignOffForm | None = None, status
     site_id = found["id"]
     db = get_db()
     bearings = store.list_bearings(db, site_id=site_id)
-    direct = len(bearings) <= DIRECT_PDF_MAX_BEARINGS
+    jobs = record_jobs()
     may_sign = workflow.allowed(role, "sign-off")
     if may_sign and form is None:
         form = SignOffForm(formdata=None, engineer_name=g.user["name"], statement=DEFAULT_SIGN_OFF)
@@ -122,11 +126,12 @@ def _record_page(found: dict, role: str, form: SignOffForm | None = None, status
         pdf={
             "label": "Site record (PDF)",
             "hint": PDF_HINT,
-            "href": url_for("record.pdf_file", site_id=site_id) if direct else None,
             "make": url_for("record.make_pdf", site_id=site_id),
             "progress": url_for("record.pdf_progress", site_id=site_id),
         },
-        making=_job_summary(db, record_jobs().latest(site_id)),
+        making=_job_summary(db, jobs.latest(site_id)),
+        # The last record made, if nothing on the site has changed since: no need to wait.
+        current=_job_summary(db, jobs.current(site_id)),
         downloads=[
             {"kind": k, "label": label, "href": url_for(endpoint, site_id=site_id), "hint": hint}
             for k, label, endpoint, hint in DOWNLOADS
@@ -175,43 +180,70 @@ def _sign_off_summary(db, site_id: str) -> dict | None:
 @bp.get("/sites/<site_id>/record.pdf")
 @login_required
 def pdf_file(site_id):
-    """The PDF made while the request waits: for a small site, or a script that can wait."""
+    """The site record made from the site as it is now, if one was made since the last
+    change; otherwise the progress page, where it is made (a GET starts nothing)."""
     found, _role = site_for(site_id, "export")
-    data = pdf.pdf_bytes(collect(get_db(), site_id), photo_store=photo_store())
-    return _download(data, "application/pdf", safe_filename(found["name"], "-site-record.pdf"))
+    job = record_jobs().current(site_id)
+    if job is None:
+        flash(
+            "Site records are made in the background: make one from what the site holds now, "
+            "and download it when it is ready."
+        )
+        return redirect(url_for("record.pdf_progress", site_id=site_id))
+    return _send_pdf(found, job)
 
 
 @bp.post("/sites/<site_id>/record/pdf")
 @login_required
 def make_pdf(site_id):
-    """Start making the site record in the background, or join the making already under way."""
+    """Start making the site record in the background, join the making under way, or hand
+    out the last one made if nothing on the site has changed since."""
     site_for(site_id, "export")
-    _job, started = record_jobs().start(
-        site_id,
-        user_id=g.user["id"],
-        make=site_record(current_app.config["DB_PATH"], site_id, photo_store=photo_store()),
-    )
-    if not started:
+    try:
+        job, how = record_jobs().start(
+            site_id,
+            user_id=g.user["id"],
+            make=site_record(current_app.config["DB_PATH"], site_id, photo_store=photo_store()),
+        )
+    except TooManyRecords as refused:
+        return _progress_page(site_id, message=str(refused), status=429, retry_at=refused.retry_at)
+    if how == "joined":
         flash("The site record is already being made; its progress is below.")
+    elif how == "reused":
+        flash(
+            f"Nothing on the site has changed since the site record made {_when(job.finished_at)}"
+            "; it is ready below."
+        )
     return redirect(url_for("record.pdf_progress", site_id=site_id))
 
 
 @page_rule(bp, "/sites/<site_id>/record/pdf")
 @login_required
 def pdf_progress(site_id):
+    return _progress_page(site_id)
+
+
+def _progress_page(site_id, *, message=None, status=200, retry_at=None):
     found, _role = site_for(site_id, "export")
     jobs = record_jobs()
     db = get_db()
     job = _job_summary(db, jobs.latest(site_id))
     made = _job_summary(db, jobs.latest_done(site_id))
-    return render_page(
+    response = render_page(
         "record/pdf.html",
+        status=status,
         site={"id": found["id"], "name": found["name"]},
         job=job,
         made=made,
+        message=message,
         make=url_for("record.make_pdf", site_id=site_id),
         refresh_seconds=REFRESH_SECONDS if job and job["running"] else None,
     )
+    if retry_at is not None:
+        response = make_response(response)
+        wait = datetime.fromisoformat(retry_at.replace("Z", "+00:00")) - datetime.now(UTC)
+        response.headers["Retry-After"] = str(max(1, int(wait.total_seconds()) + 1))
+    return response
 
 
 @bp.get("/sites/<site_id>/record/pdf/file")
@@ -219,19 +251,26 @@ def pdf_progress(site_id):
 def made_pdf(site_id):
     """The newest site record made in the background; none yet, and the page says so."""
     found, _role = site_for(site_id, "export")
-    jobs = record_jobs()
-    job = jobs.latest_done(site_id)
+    job = record_jobs().latest_done(site_id)
     if job is None:
         flash("No site record has been made here yet: make one first.")
         return redirect(url_for("record.pdf_progress", site_id=site_id))
-    made = datetime.fromisoformat(job.finished_at or job.created_at)
+    return _send_pdf(found, job)
+
+
+def _send_pdf(found: dict, job) -> Response:
+    made = datetime.fromisoformat((job.finished_at or job.created_at).replace("Z", "+00:00"))
     return send_file(
-        jobs.pdf_path(job),
+        record_jobs().pdf_path(job),
         mimetype="application/pdf",
         as_attachment=True,
         download_name=safe_filename(found["name"], "-site-record.pdf", made),
         conditional=False,
     )
+
+
+def _when(ts: str | None) -> str:
+    return f"{ts[:10]} {ts[11:16]} UTC" if ts else ""
 
 
 def _job_summary(db, job) -> dict | None:
@@ -243,6 +282,8 @@ def _job_summary(db, job) -> dict | None:
         "started_by_name": who["name"] if who else "someone no longer on sitecheck",
         "percent": round(100 * job.bearings_done / job.bearings) if job.bearings else 0,
         "status": _status(job),
+        "created_text": _when(job.created_at),
+        "finished_text": _when(job.finished_at),
         "download": url_for("record.made_pdf", site_id=job.site_id)
         if job.state == "done"
         else None,

@@ -1,4 +1,5 @@
-"""Release for closing up (the hold point), reopening, and a site's audit trail.
+"""Release for closing up (the hold point), reopening or keeping a release after later
+evidence, and a site's audit trail.
 
 Each bearing is released in its own transaction: one refused bearing (its state changed
 meanwhile) leaves the others released, and the page says which is which.
@@ -12,7 +13,12 @@ from sitecheck import services, store, workflow
 from sitecheck.web import get_db
 from sitecheck.web.access import ACTION_WORDS, bearing_for, site_for
 from sitecheck.web.auth import login_required
-from sitecheck.web.decision_forms import DECISION_LABELS, ReleaseForm, ReopenForm
+from sitecheck.web.decision_forms import (
+    DECISION_LABELS,
+    KeepReleaseForm,
+    ReleaseForm,
+    ReopenForm,
+)
 from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
 from sitecheck.web.review import (
     as_sentence,
@@ -181,6 +187,42 @@ def reopen(site_id, bearing_id):
     return redirect(url_for("review.bearing", site_id=found["id"], bearing_id=bearing_id))
 
 
+@bp.post("/sites/<site_id>/bearings/<bearing_id>/keep-release")
+@login_required
+def keep_release(site_id, bearing_id):
+    """The engineer has looked at what was recorded after the release, and the release
+    stands; what was listed leaves the queue, and the reason stays on the record."""
+    found, role = site_for(site_id, "reopen")
+    b = bearing_for(found, bearing_id)
+    if b["state"] != workflow.RELEASED:
+        message = (
+            f"Only a released bearing has a release to keep; {b['reference']} is '{b['state']}'."
+        )
+        return bearing_page(found, b, message=message, status=409)
+    form = KeepReleaseForm()
+    if not form.validate_on_submit():
+        return bearing_page(found, b, keep_form=form, status=400)
+    try:
+        services.keep_release(
+            get_db(),
+            site=found,
+            bearing=b,
+            role=role,
+            reason=form.reason.data,
+            seen_up_to=int(form.seen_up_to.data),
+            engineer_id=g.user["id"],
+        )
+    except (workflow.WorkflowError, store.StaleState) as error:
+        fresh = bearing_for(found, bearing_id)
+        keep = KeepReleaseForm(formdata=None, reason=form.reason.data)
+        return bearing_page(found, fresh, keep_form=keep, message=as_sentence(error), status=409)
+    flash(
+        f"The release of bearing {b['reference']} is kept; what was recorded after it stays "
+        "on the record with your reason."
+    )
+    return redirect(url_for("review.bearing", site_id=found["id"], bearing_id=bearing_id))
+
+
 @page_rule(bp, "/sites/<site_id>/history")
 @login_required
 def history(site_id):
@@ -273,8 +315,8 @@ def _notes(extra: dict) -> list[str]:
     failing = extra.get("accepted_failing")
     if isinstance(failing, dict):
         lines.insert(0, decision_title({"kind": "accept", "accepted_failing": failing}).lower())
-    if extra.get("late"):
-        lines.append("late: arrived after release; it moves nothing")
+    if extra.get("late") or extra.get("after_release"):
+        lines.append("recorded after release: kept and listed for the engineer; it moves nothing")
     elif extra.get("newest") is False:
         lines.append("measured before the latest record; it does not drive the state")
     return lines

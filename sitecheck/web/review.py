@@ -19,6 +19,7 @@ from sitecheck.web.decision_forms import (
     DECISION_HINTS,
     DECISION_LABELS,
     DecisionForm,
+    KeepReleaseForm,
     ReopenForm,
 )
 from sitecheck.web.pages import looked_now, page_rule, render_page
@@ -76,7 +77,7 @@ def queue_items(db, user_id: int, *, new=frozenset()) -> list[dict]:
     items.sort(
         key=lambda i: (
             i["tier"],
-            -(i["utilisation"] if i["utilisation"] is not None else float("inf")),
+            -_worst(i),
             -i["blocking"],
             i["waiting_since"],
             i["bearing_id"],
@@ -85,11 +86,23 @@ def queue_items(db, user_id: int, *, new=frozenset()) -> list[dict]:
     return items
 
 
+def _worst(item: dict) -> float:
+    """The utilisation a queue item is ordered by: the worst recorded after a release, else
+    the latest record's; no capacity at all counts as the worst there is."""
+    u = item["worst_after_release"] if item["after_release"] else item["utilisation"]
+    return float("inf") if u is None else u
+
+
 def _queue_item(row: dict, new) -> dict:
     reasons = workflow.ordered_reasons(row.get("reasons"))
     first = reasons[0] if reasons else None
     has_record = row["latest_record_uuid"] is not None
     tier = workflow.queue_tier(bool(row["passed"]) if has_record else None, reasons)
+    worst_late = row["worst_after_release"]
+    if row["state"] == workflow.RELEASED:
+        # Released, with evidence recorded since: it waits as blocking, or as failing when
+        # a record after the release fails (its utilisation is the one that counts).
+        tier = workflow.FAILING if worst_late is not None and worst_late > 1 else workflow.BLOCKING
     return {
         "site_id": row["site_id"],
         "site_name": row["site_name"],
@@ -109,9 +122,25 @@ def _queue_item(row: dict, new) -> dict:
         ],
         "older_revision": bool(row["older_revision"]),
         "measured_at": row["measured_at"],
-        "waiting_since": row["state_changed_at"],
+        # Released bearings wait from the first thing recorded after their release.
+        "waiting_since": row["first_after_release"] or row["state_changed_at"],
+        # Released, and something was recorded since: the engineer reopens or keeps it.
+        "after_release": _after_release_counts(row),
+        "worst_after_release": row["worst_after_release"],
         "new": row["id"] in new,
     }
+
+
+def _after_release_counts(row: dict) -> dict | None:
+    records, photos = row["records_after_release"], row["photos_after_release"]
+    if not records and not photos:
+        return None
+    parts = [
+        f"{n} {word}{'' if n == 1 else 's'}"
+        for n, word in ((records, "record"), (photos, "photo"))
+        if n
+    ]
+    return {"records": records or 0, "photos": photos or 0, "text": " and ".join(parts)}
 
 
 def _filters() -> dict:
@@ -277,12 +306,17 @@ def bearing_page(
     *,
     decision_form: DecisionForm | None = None,
     reopen_form: ReopenForm | None = None,
+    keep_form: KeepReleaseForm | None = None,
     message: str | None = None,
     status: int = 200,
 ):
-    """The review page of one bearing; the release blueprint renders it too (reopening)."""
+    """The review page of one bearing; the release blueprint renders it too (reopening,
+    keeping a release)."""
     db = get_db()
     records = store.records_for_bearing(db, site_id=site["id"], bearing_id=b["id"])
+    after_release = _after_release(
+        site["id"], store.after_release_evidence(db, site_id=site["id"], bearing_id=b["id"])
+    )
     latest = next((r for r in records if r["uuid"] == b["latest_record_uuid"]), None)
     names = _Names(db, site["id"])
 
@@ -300,6 +334,11 @@ def bearing_page(
     may_reopen = workflow.allowed(g.role, "reopen") and b["state"] == workflow.RELEASED
     if may_reopen and reopen_form is None:
         reopen_form = ReopenForm(formdata=None)
+    may_keep = may_reopen and bool(after_release)
+    if may_keep:
+        keep_form = keep_form or KeepReleaseForm(formdata=None)
+        # Always the newest evidence now on the page, even when the engineer's words are kept.
+        keep_form.seen_up_to.data = str(after_release[-1]["id"])
 
     photos = []
     if latest is not None:
@@ -333,11 +372,39 @@ def bearing_page(
         # Booleans for JSON readers: the forms themselves are not sent as data.
         may_decide=may_decide,
         may_reopen=may_reopen,
+        may_keep_release=may_keep,
+        after_release=after_release,
         decision_form=decision_form if may_decide else None,
         reopen_form=reopen_form if may_reopen else None,
+        keep_form=keep_form if may_keep else None,
         message=message,
         when=when,
     )
+
+
+def _after_release(site_id: str, rows: list[dict]) -> list[dict]:
+    """What was recorded after the release and waits for the engineer, oldest first."""
+    names = _Names(get_db(), site_id)
+    out = []
+    for e in rows:
+        item = {
+            "id": e["id"],
+            "kind": "photo" if e["photo_uuid"] else "record",
+            "record_uuid": e["record_uuid"],
+            "received_at": e["received_at"],
+            "measured_at": e["measured_at"],
+            "inspector": names(e["inspector_id"]),
+            "utilisation": e["utilisation"],
+            "passed": bool(e["passed"]),
+            "blocking": e["blocking"],
+            "record_url": url_for("inspect.result", site_id=site_id, record_uuid=e["record_uuid"])
+            if "inspect.result" in current_app.view_functions
+            else None,
+        }
+        if e["photo_uuid"]:
+            item |= _photo(site_id, {**e, "uuid": e["photo_uuid"]})
+        out.append(item)
+    return out
 
 
 def _remedy_hint(site: dict, b: dict, latest: dict | None) -> str | None:
@@ -472,7 +539,7 @@ def _checklist(answers: dict) -> list[dict]:
 
 
 def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[dict]:
-    """Decisions, releases and reopenings of one bearing, newest first."""
+    """Decisions, releases, kept releases and reopenings of one bearing, newest first."""
     entries = []
     for d in store.decisions_for(db, site_id=site_id, bearing_id=bearing_id):
         entries.append(
@@ -496,6 +563,16 @@ def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[di
                 "signed_as": r["contractor_name"],
                 "text": r["statement"],
                 "record_uuid": r["record_uuid"],
+            }
+        )
+    for k in store.releases_kept_for(db, site_id=site_id, bearing_id=bearing_id):
+        entries.append(
+            {
+                "what": "release kept",
+                "title": "Release kept after what was recorded since",
+                "at": k["created_at"],
+                "who": names(k["engineer_id"]),
+                "text": k["reason"],
             }
         )
     for o in store.reopenings_for(db, site_id=site_id, bearing_id=bearing_id):

@@ -3,14 +3,17 @@ photos it sends from its unsent outbox, and the offline shell (service worker, o
 
 Every answer is JSON with a status the phone acts on without reading the words:
 
-- 200/201: stored (201 the first time, 200 for the same UUID again, with the first answer);
-  the phone deletes its copy only now.
-- 400: the request itself is malformed (not JSON, no file part, a stale CSRF token); the phone
-  fetches a new token and tries again, or keeps the item.
+- 200/201: stored (201 the first time, 200 for the same UUID with the same values again, with
+  the first answer); the phone deletes its copy only now. The same UUID with other values is
+  a 409: those values were not stored, and the phone keeps them on its refused list.
+- 400: the request itself is malformed (not JSON, JSON too large or too deep, no file part, a
+  stale CSRF token); the phone fetches a new token and tries again after a stale token, and
+  otherwise moves the item to its refused list.
 - 401: logged out; the phone keeps the item until its person logs in again.
 - 403/404/409/422: refused for good; the phone moves the item to its visible refused list
   with ``error`` (a sentence) and ``code`` / ``field``.
-- 5xx or no answer: the phone keeps the item and tries again later.
+- 5xx or no answer: the phone keeps the item and tries again later (503 with Retry-After:
+  too many photos arrived at once; nothing was stored).
 """
 
 from __future__ import annotations
@@ -39,11 +42,12 @@ from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.review import as_built_input
 from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
-from sitecheck.photos import PhotoRejected, ingest_photo
+from sitecheck.photos import PhotoRejected, PhotosBusy, ingest_photo
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
 from sitecheck.web.auth import login_required
+from sitecheck.web.jsonbody import JsonRefused, read_json
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
     GROUPS,
@@ -213,7 +217,10 @@ def pack(site_id):
 @bp.post("/api/records")
 @login_required
 def post_record():
-    data = request.get_json(silent=True)
+    try:
+        data = read_json(request)
+    except JsonRefused as refused:
+        return jsonify(error=refused.message, code=refused.code), 400
     if not isinstance(data, dict):
         return jsonify(error="Send the as-built record as a JSON object.", code="not-json"), 400
     try:
@@ -245,6 +252,13 @@ def post_record():
         return refused.response()
     except InputError as error:
         return _input_error(error)
+    except store.SameIdOtherValues as error:
+        return (
+            jsonify(
+                error=str(error), field="uuid", code="same-id-other-values", differs=error.differs
+            ),
+            409,
+        )
     except store.UuidInUse as error:
         return jsonify(error=str(error), field="uuid", code="uuid-in-use"), 409
     except ValueError as error:  # the store's own refusals, e.g. a design revision it never had
@@ -267,6 +281,8 @@ def _answer(site, stored) -> dict:
             for r in row["reasons"]
         ],
         "url": url_for("inspect.result", site_id=site["id"], record_uuid=row["uuid"]),
+        # The bearing was released before this arrived: kept, and listed for the engineer.
+        "after_release": bool(row["late"]),
     }
 
 
@@ -427,6 +443,8 @@ def post_photo(record_uuid):
         captured = _moment(captured, "captured_at") if captured else None
     except Refused as refused:
         return refused.response()
+    # A cheap answer before the picture is decoded; the store counts again, with the write
+    # lock held, when it keeps the photo (several uploads may be on their way at once).
     if store.get_photo(db, site_id=site["id"], uuid=photo_uuid) is None:
         already = store.photos_for_record(db, site_id=site["id"], record_uuid=record["uuid"])
         if len(already) >= MAX_PHOTOS:
@@ -441,6 +459,11 @@ def post_photo(record_uuid):
         photo = ingest_photo(upload.read())
     except PhotoRejected as rejected:
         return jsonify(error=rejected.message, code=rejected.code), 422
+    except PhotosBusy as busy:
+        # A 5xx: the phone keeps the photo and sends it again later, as it should.
+        response = jsonify(error=busy.message, code="busy")
+        response.headers["Retry-After"] = str(busy.retry_after_s)
+        return response, 503
     if captured and services.camera_time(photo.capture_time) is None:
         # The phone re-encodes the picture to save space, which drops the camera's EXIF; it
         # reads the camera's time first and sends it, always with its zone. A time in the
@@ -455,7 +478,12 @@ def post_photo(record_uuid):
             photos=photo_store(),
             user_id=g.user["id"],
             uuid=photo_uuid,
+            max_photos=MAX_PHOTOS,
         )
+    except store.TooManyPhotos as error:
+        return jsonify(error=str(error), code="too-many-photos"), 422
+    except store.SameIdOtherValues as error:
+        return jsonify(error=str(error), field="photo_uuid", code="same-id-other-values"), 409
     except store.UuidInUse as error:
         return jsonify(error=str(error), field="photo_uuid", code="uuid-in-use"), 409
     status = 201 if stored.created else 200

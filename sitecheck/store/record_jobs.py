@@ -1,0 +1,183 @@
+"""The making of site records (PDF) in the background: one row per making, in the database
+so that every server process sees the same jobs.
+
+A site has at most one job waiting or being made at a time (a unique index says so, whatever
+process asks); a finished record is reused while the site has not changed (``site_version``);
+and one person may start only so many makings an hour.
+"""
+
+import hashlib
+import json
+from collections.abc import Callable
+from datetime import datetime, timedelta
+
+import sqlite_utils
+
+from sitecheck.store.base import many, one, timestamp, transaction, utc_now
+from sitecheck.store.errors import Conflict
+
+RUNNING = ("waiting", "making")
+JOB_STATES = ("waiting", "making", "done", "failed", "stopped")
+STOPPED_BY_RESTART = (
+    "Making it stopped part way, most likely because the server was restarted. Nothing was "
+    "kept; start it again."
+)
+
+
+class TooManyRecords(Conflict):
+    """This person has started as many site records as one person may in the window."""
+
+    def __init__(self, message: str, retry_at: str):
+        super().__init__(message)
+        self.retry_at = retry_at
+
+
+def site_version(db: sqlite_utils.Database, site_id: str) -> str:
+    """A digest that changes whenever anything a site record shows changes.
+
+    Every change to a site's bearings, records, photos, decisions, releases and members
+    writes an event on the site (and the record prints the events), so the newest event
+    stands for all of them; the site's own row and its members' names are added because
+    they print too.
+    """
+    site = one(
+        db,
+        "SELECT name, address, code_basis, review_settings FROM sites WHERE id = ?",
+        [site_id],
+    )
+    newest = one(db, "SELECT max(id) AS id FROM events WHERE site_id = ?", [site_id])
+    members = [
+        (r["id"], r["name"], r["role"])
+        for r in db.query(
+            "SELECT u.id, u.name, m.role FROM memberships m JOIN users u ON u.id = m.user_id "
+            "WHERE m.site_id = ? ORDER BY u.id",
+            [site_id],
+        )
+    ]
+    text = json.dumps([site, newest["id"] if newest else None, members], sort_keys=True)
+    return hashlib.sha256(text.encode()).hexdigest()
+
+
+def _stale_before(stale_after_s: float, now: datetime | None) -> str:
+    return timestamp((now or utc_now()) - timedelta(seconds=stale_after_s))
+
+
+def start_record_job(
+    db: sqlite_utils.Database,
+    *,
+    job_id: str,
+    site_id: str,
+    user_id: int | None,
+    version: str,
+    file_kept: Callable[[dict], bool],
+    per_user: int,
+    window_s: float,
+    stale_after_s: float,
+    now: datetime | None = None,
+) -> tuple[dict, str]:
+    """Start making a site's record, join the making under way, or reuse a finished one.
+
+    Returns the job row and what happened: "started" (a new row ``job_id``, waiting),
+    "joined" (the site's record is being made), "reused" (the newest finished record was made
+    from this same ``version`` of the site and ``file_kept`` says its file is still there).
+    A job left running by a process that stopped (not updated for ``stale_after_s``) is
+    marked stopped first. Raises TooManyRecords if ``user_id`` started ``per_user`` makings in
+    the last ``window_s`` seconds. All in one write transaction, so two processes asking at
+    once start one job between them.
+    """
+    moment = now or utc_now()
+    at = timestamp(moment)
+    with transaction(db):
+        db.execute(
+            f"""
+            UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
+            WHERE site_id = ? AND state IN {RUNNING} AND updated_at < ?
+            """,
+            [STOPPED_BY_RESTART, at, site_id, _stale_before(stale_after_s, moment)],
+        )
+        running = one(
+            db,
+            f"SELECT * FROM record_jobs WHERE site_id = ? AND state IN {RUNNING}",
+            [site_id],
+        )
+        if running is not None:
+            return running, "joined"
+        done = one(
+            db,
+            "SELECT * FROM record_jobs WHERE site_id = ? AND state = 'done' "
+            "ORDER BY created_at DESC, id DESC LIMIT 1",
+            [site_id],
+        )
+        if done is not None and done["site_version"] == version and file_kept(done):
+            return done, "reused"
+        if user_id is not None:
+            since = timestamp(moment - timedelta(seconds=window_s))
+            mine = many(
+                db,
+                "SELECT created_at FROM record_jobs WHERE started_by = ? AND created_at >= ? "
+                "ORDER BY created_at",
+                [user_id, since],
+            )
+            if len(mine) >= per_user:
+                oldest = datetime.fromisoformat(mine[0]["created_at"].replace("Z", "+00:00"))
+                retry_at = timestamp(oldest + timedelta(seconds=window_s))
+                raise TooManyRecords(
+                    f"You have started {len(mine)} site records in the last "
+                    f"{_duration(window_s)}, the most one person may. The newest finished "
+                    f"record stays available; you can start another after {retry_at[11:16]} "
+                    "UTC.",
+                    retry_at,
+                )
+        db.execute(
+            """
+            INSERT INTO record_jobs (id, site_id, state, started_by, site_version, created_at,
+                updated_at)
+            VALUES (?, ?, 'waiting', ?, ?, ?, ?)
+            """,
+            [job_id, site_id, user_id, version, at, at],
+        )
+    return get_record_job(db, job_id), "started"
+
+
+def _duration(seconds: float) -> str:
+    if seconds % 3600 == 0:
+        hours = int(seconds // 3600)
+        return "hour" if hours == 1 else f"{hours} hours"
+    return f"{seconds / 60:g} minutes"
+
+
+_PROGRESS_FIELDS = frozenset(
+    {"state", "bearings_done", "bearings", "current", "finished_at", "size_bytes", "error"}
+)
+
+
+def update_record_job(
+    db: sqlite_utils.Database, job_id: str, *, now: datetime | None = None, **fields
+) -> dict:
+    """Write a job's progress (and its heartbeat, ``updated_at``)."""
+    unknown = set(fields) - _PROGRESS_FIELDS
+    if unknown:
+        raise ValueError(f"record job fields {sorted(unknown)} are not ones a job updates")
+    if "state" in fields and fields["state"] not in JOB_STATES:
+        raise ValueError(f"record job state {fields['state']!r} is not one of {JOB_STATES}")
+    names = sorted(fields)
+    assignments = ", ".join(f"{name} = ?" for name in names)
+    with transaction(db):
+        db.execute(
+            f"UPDATE record_jobs SET {assignments}, updated_at = ? WHERE id = ?",
+            [*(fields[n] for n in names), timestamp(now or utc_now()), job_id],
+        )
+    return get_record_job(db, job_id)
+
+
+def get_record_job(db: sqlite_utils.Database, job_id: str) -> dict | None:
+    return one(db, "SELECT * FROM record_jobs WHERE id = ?", [job_id])
+
+
+def record_jobs_for_site(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
+    """A site's makings, newest first."""
+    return many(
+        db,
+        "SELECT * FROM record_jobs WHERE site_id = ? ORDER BY created_at DESC, id DESC",
+        [site_id],
+    )
