@@ -10,16 +10,18 @@ Real app, real SQLite file; every address and site is invented.
 from __future__ import annotations
 
 import uuid
+from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
 import pytest
 from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
+from test_web_review import login as log_in_as
 
 from sitecheck import mail, notices, store
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
 from smtp_local import LocalMailServer, free_port
-from webkit import csrf_token, new_site
+from webkit import PASSWORD, csrf_token, new_site
 
 BASE = "http://sitecheck.firm.example"
 
@@ -44,6 +46,20 @@ def app(tmp_path, smtp):
     app = create_app(tmp_path / "site.db", TESTING=True, MAIL=settings(smtp.port))
     yield app
     app.extensions["mail_sender"].stop()
+
+
+@dataclass
+class Person:
+    """Someone made by a test here (tests/conftest.py's fixtures make their own)."""
+
+    id: int
+    email: str
+    name: str
+    role: str | None
+
+
+def login(client, person: Person) -> None:
+    log_in_as(client, person.email, PASSWORD)
 
 
 def send_record(client, site, bearing, **measurements) -> str:
@@ -166,11 +182,8 @@ def test_a_mail_server_that_is_down_neither_fails_nor_loses_the_action(tmp_path,
 @pytest.fixture
 def db_path_people(tmp_path):
     """An app whose mail server is not there (a free port nobody listens on)."""
-    from conftest import Person, login
-
     from sitecheck import auth, services
     from sitecheck.demo import schedule_csv
-    from webkit import PASSWORD
 
     app = create_app(tmp_path / "down.db", TESTING=True, MAIL=settings(free_port()))
     db = store.open_db(app.config["DB_PATH"])
@@ -234,11 +247,8 @@ def test_at_most_one_message_a_quarter_hour_with_what_waited_grouped_and_nothing
 ):
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from conftest import Person
-
     from sitecheck import auth, services
     from sitecheck.demo import schedule_csv
-    from webkit import PASSWORD
 
     eng = store.create_user(
         db,
@@ -322,11 +332,8 @@ def services_decide(db, site, bearing, engineer_id):
 def test_each_person_turns_each_kind_off_on_their_own_page(quiet_app):
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from conftest import Person, login
-
     from sitecheck import auth, services
     from sitecheck.demo import schedule_csv
-    from webkit import PASSWORD
 
     made = {}
     for role in ("engineer", "inspector", "contractor", "viewer"):
@@ -434,8 +441,6 @@ def test_evidence_recorded_after_a_release_is_news_for_the_engineer(quiet_app):
     engineer's hands: a notice, and the header's count, until the engineer answers it."""
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from conftest import Person
-
     from sitecheck import auth, services
     from sitecheck.demo import schedule_csv
 
@@ -478,4 +483,43 @@ def test_evidence_recorded_after_a_release_is_news_for_the_engineer(quiet_app):
     ).fetchone()
     assert to_addr == made["engineer"].email and "GF-B1-E" in body
     assert store.to_decide_counts(db, user_id=made["engineer"].id) == {"waiting": 1, "new": 1}
+    db.conn.close()
+
+
+def test_switching_mail_on_later_mails_nothing_of_the_past(quiet_app, tmp_path):
+    """Events from while no sender looked (mail off, or the demo builder) are not news: the
+    first sender to look after a long gap starts from the newest event."""
+    app = quiet_app
+    db = store.open_db(app.config["DB_PATH"])
+    from sitecheck import auth, services
+    from sitecheck.demo import schedule_csv
+
+    eng = store.create_user(
+        db,
+        email="esme@example.test",
+        name="Esme Engineer",
+        password_hash=auth.hash_password(PASSWORD),
+        may_make_sites=True,
+    )
+    site = new_site(db, name="Invented Mill", created_by=eng["id"])
+    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
+    assert services.import_schedule(db, site=site, text=text, user_id=eng["id"]).ok
+    site = store.get_site(db, site["id"])
+    inspector = Person(eng["id"], eng["email"], eng["name"], "engineer")
+    t0 = datetime.now(UTC)
+    assert notices.make_messages(db, BASE, now=t0) == 0
+    record(db, site, "FF-B5", inspector)  # recorded by the engineer: no notice to themself
+    # Eleven minutes on, with nobody looking meanwhile: the past is skipped.
+    other = store.create_user(db, email="sam@example.test", name="Sam", password_hash="x" * 20)
+    store.add_membership(
+        db, user_id=other["id"], site_id=site["id"], role="engineer", invited_by=eng["id"]
+    )
+    record(db, site, "GF-B1-W", inspector, bearing_length=120.0)
+    assert notices.make_messages(db, BASE, now=t0 + timedelta(minutes=11)) == 0
+    assert db.execute("SELECT count(*) FROM notices").fetchone()[0] == 0
+    # From then on, as usual.
+    record(db, site, "GF-B2-N", inspector, bearing_length=60.0)
+    assert notices.make_messages(db, BASE, now=t0 + timedelta(minutes=12)) == 1
+    (to_addr,) = db.execute("SELECT to_addr FROM outgoing_mail WHERE kind = 'notice'").fetchone()
+    assert to_addr == "sam@example.test"
     db.conn.close()

@@ -117,7 +117,10 @@ def test_the_engineer_signs_off_in_the_app_and_the_pdf_carries_it_until_somethin
 ):
     engineer = client_as("engineer")
     page = engineer.get(f"/sites/{worked['id']}/record").data.decode()
-    assert "Not signed off yet" in page and "Signing now covers:" in page
+    assert (
+        "Not signed off yet" in page
+        and "Signing now covers the site record as it stands now: " in page
+    )
     url = f"/sites/{worked['id']}/record/sign-off"
     # A sign-off without a name is refused, keeping the statement, and nothing is kept.
     r = engineer.post(

@@ -91,14 +91,14 @@ def who_must_act(counts: dict[str, int]) -> list[dict]:
     return list(out.values())
 
 
-def covers_words(covers: dict) -> str:
-    """What a sign-off covers, in one sentence."""
+def covers_words(covers: dict, lead: str = "The site record as it stood when signed") -> str:
+    """What a sign-off covers (or would cover, with another ``lead``), in one sentence."""
     states = covers.get("states") or {}
     counts = {state: states.get(state, 0) for state in workflow.STATES}
     last = covers.get("last_event_at")
     until = f" up to {_when(last)}" if last else ""
     return (
-        f"The site record as it stood when signed: {counts_words(counts)}; "
+        f"{lead}: {counts_words(counts)}; "
         f"{plural(covers.get('records', 0), 'as-built record')} with "
         f"{plural(covers.get('photos', 0), 'photo')}; the history{until}."
     )

@@ -488,8 +488,9 @@ def m010_notices(db: sqlite_utils.Database) -> None:
     looked at a site (for "since you last looked").
 
     ``notices`` are made from the audit trail by the mail sender, after ``notice_cursor``
-    (the last event read); the cursor starts at the newest event of the day this is applied,
-    so turning mail on never mails the whole past. A notice is pending until it goes into a
+    (the last event read, and when a sender last looked: ``checked_at``); the cursor starts
+    at the newest event, and a sender that finds nobody looked for a while (mail was off)
+    starts from the newest event again, so turning mail on never mails the past. A notice is pending until it goes into a
     message (``mailed_at``, with the message's ``mail_id``) or is overtaken before that
     (``dropped_at``: the bearing moved on). ``notices_off`` holds the kinds each person
     turned off. Messages may carry a simple HTML part beside the plain text."""
@@ -522,12 +523,14 @@ def m010_notices(db: sqlite_utils.Database) -> None:
         """
         CREATE TABLE notice_cursor (
             id INTEGER PRIMARY KEY CHECK (id = 1),
-            last_event_id INTEGER NOT NULL
+            last_event_id INTEGER NOT NULL,
+            checked_at TEXT NOT NULL
         ) STRICT
         """
     )
     db.execute(
-        "INSERT INTO notice_cursor (id, last_event_id) SELECT 1, coalesce(max(id), 0) FROM events"
+        "INSERT INTO notice_cursor (id, last_event_id, checked_at) "
+        "SELECT 1, coalesce(max(id), 0), strftime('%Y-%m-%dT%H:%M:%fZ', 'now') FROM events"
     )
     db.execute(
         """

@@ -24,6 +24,10 @@ from sitecheck.store.bearings import _OPEN_EVIDENCE
 # At most one notice message per person in this many seconds; the first after a quiet spell
 # goes at once, later ones wait and go together.
 QUIET_S = 15 * 60
+# A sender that finds no sender looked for this long takes it that mail was off (or the
+# events came from a command, such as the demo builder): what happened meanwhile is not news
+# to mail, and "since you last looked" shows it. A running sender looks every half minute.
+NOTICE_GAP_S = 10 * 60
 # Events read per round: a long backlog (mail switched on after a busy week) is worked
 # through a slice at a time, each slice in its own short transaction.
 EVENTS_PER_ROUND = 500
@@ -33,11 +37,6 @@ NoticeRule = Callable[[dict, list[dict]], Iterable[tuple[int, str, str, int | No
 
 
 # --- from the audit trail to notices -------------------------------------------------------------
-
-
-def notice_cursor(db: sqlite_utils.Database) -> int:
-    row = one(db, "SELECT last_event_id FROM notice_cursor WHERE id = 1")
-    return row["last_event_id"] if row else 0
 
 
 def derive_notices(
@@ -50,9 +49,15 @@ def derive_notices(
     """Read the events after the cursor (up to ``limit``), keep the notices ``rule`` finds
     in them, and move the cursor past them, all in one transaction: two processes doing
     this at once each read a different slice. Returns how many events were read."""
-    at = timestamp(now or utc_now())
+    moment = now or utc_now()
+    at = timestamp(moment)
     with transaction(db):
-        after = notice_cursor(db)
+        cursor = one(db, "SELECT last_event_id, checked_at FROM notice_cursor WHERE id = 1")
+        db.execute("UPDATE notice_cursor SET checked_at = ? WHERE id = 1", [at])
+        if cursor["checked_at"] < timestamp(moment - timedelta(seconds=NOTICE_GAP_S)):
+            skip_notices(db)
+            return 0
+        after = cursor["last_event_id"]
         events = many(db, "SELECT * FROM events WHERE id > ? ORDER BY id LIMIT ?", [after, limit])
         members: dict[str, list[dict]] = {}
         for event in events:
@@ -85,6 +90,15 @@ def derive_notices(
                 "UPDATE notice_cursor SET last_event_id = ? WHERE id = 1", [events[-1]["id"]]
             )
     return len(events)
+
+
+def skip_notices(db: sqlite_utils.Database) -> None:
+    """Move the notice cursor past every event so far: what happened until now is not news
+    to mail (the demo builder's invented past, or events while mail was off)."""
+    db.execute(
+        "UPDATE notice_cursor SET last_event_id = (SELECT coalesce(max(id), 0) FROM events) "
+        "WHERE id = 1"
+    )
 
 
 def _is_off(db, user_id: int, kind: str) -> bool:

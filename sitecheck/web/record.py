@@ -117,7 +117,9 @@ def _record_page(found: dict, role: str, form: SignOffForm | None = None, status
         "record/site.html",
         status=status,
         sign_off=_sign_off_summary(db, site_id),
-        would_cover=covers_words(store.site_extent(db, site_id=site_id)),
+        would_cover=covers_words(
+            store.site_extent(db, site_id=site_id), "the site record as it stands now"
+        ),
         may_sign=may_sign,
         sign_off_form=form if may_sign else None,
         site={"id": found["id"], "name": found["name"], "address": found["address"]},
