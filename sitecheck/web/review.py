@@ -64,7 +64,6 @@ def queue():
         filters=chosen,
         site_options=_site_options(mine, everything),
         reason_options=_reason_options(everything),
-        tier_words=workflow.TIER_WORDS,
         when=when,
     )
 
