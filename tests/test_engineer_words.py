@@ -50,3 +50,22 @@ def test_the_site_pack_carries_the_engineers_standing_words_for_the_phone(
     record(db, site, "GF-B2-N", people["inspector"], hours=0.1)
     pack = client_as("inspector").get(f"/api/sites/{site['id']}/pack").get_json()
     assert {b["reference"]: b["engineer_words"] for b in pack["bearings"]}["GF-B2-N"] is None
+
+
+def test_the_inspector_reads_the_engineers_words_on_the_bearings_form(db, people, site, client_as):
+    asked(db, site, people)
+    inspector = client_as("inspector")
+    for reference, words, title in (
+        ("GF-B2-N", AGAIN, "Measure again"),
+        ("GF-B1-W", REMEDIAL, "Remedial work"),
+    ):
+        b = bearing_named(db, site, reference)
+        page = inspector.get(f"/sites/{site['id']}/bearings/{b['id']}/record").data.decode()
+        box = page.split("data-engineer-words")[1].split("</section>")[0]
+        assert f"{title}: the engineer's words" in box and words in box
+        assert "Esme Engineer" in box
+    b = bearing_named(db, site, "FF-B5")
+    assert (
+        "data-engineer-words"
+        not in inspector.get(f"/sites/{site['id']}/bearings/{b['id']}/record").data.decode()
+    )

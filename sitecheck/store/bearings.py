@@ -1029,20 +1029,24 @@ def decisions_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -
     return _for_bearing(db, "decisions", site_id, bearing_id)
 
 
-def latest_decisions(db: sqlite_utils.Database, *, site_id: str) -> dict[str, dict]:
-    """Each bearing's newest decision on a site, by bearing id, with the engineer's name as
-    signed (or as the account is called, for a decision from before names were kept)."""
+def latest_decisions(
+    db: sqlite_utils.Database, *, site_id: str, bearing_id: str | None = None
+) -> dict[str, dict]:
+    """Each bearing's newest decision on a site (or only ``bearing_id``'s), by bearing id,
+    with the engineer's name as signed (or as the account is called, for a decision from
+    before names were kept)."""
+    one_bearing = "AND b.id = ?" if bearing_id else ""
     rows = many(
         db,
-        """
+        f"""
         SELECT d.*, coalesce(d.engineer_name, u.name) AS signed_by FROM decisions d
         JOIN bearings b ON b.id = d.bearing_id LEFT JOIN users u ON u.id = d.engineer_id
-        WHERE b.site_id = ? AND d.id = (
+        WHERE b.site_id = ? {one_bearing} AND d.id = (
             SELECT d2.id FROM decisions d2 WHERE d2.bearing_id = d.bearing_id
             ORDER BY d2.created_at DESC, d2.id DESC LIMIT 1
         )
         """,
-        [site_id],
+        [site_id, *([bearing_id] if bearing_id else [])],
     )
     return {row["bearing_id"]: row for row in rows}
 

@@ -47,6 +47,7 @@ from sitecheck.web.record_form import (
     designed_text,
     when_text,
 )
+from sitecheck.web.review import engineer_words
 
 bp = Blueprint("inspect", __name__)
 
@@ -288,7 +289,15 @@ def _form_page(site, bearing, form, *, general=(), status=200):
         total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
         older_form=_older_form(form, bearing),
         verdict_context=services.mirror_context(site, design_input),
+        engineer_words=_engineer_words(site, bearing),
     )
+
+
+def _engineer_words(site, bearing) -> dict | None:
+    """What the engineer asked for on this bearing, if it still stands (measure again,
+    remedial work), to show above the form."""
+    decision = store.latest_decisions(get_db(), site_id=site["id"], bearing_id=bearing["id"])
+    return engineer_words(workflow.standing_decision(bearing["state"], decision.get(bearing["id"])))
 
 
 def _has_errors(form) -> bool:

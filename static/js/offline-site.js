@@ -77,6 +77,7 @@ function openForm(b) {
   clearErrors();
   form.querySelector("[data-form-title]").textContent = `As-built record: ${b.reference}`;
   form.querySelector("[data-form-location]").textContent = b.location || "";
+  showEngineerWords(b.engineer_words);
   for (const p of form.querySelectorAll("[data-designed-for]")) {
     const text = b.designed[p.dataset.designedFor];
     p.textContent = text ? `designed: ${text}` : "";
@@ -87,6 +88,19 @@ function openForm(b) {
   listSection.hidden = true;
   form.hidden = false;
   form.querySelector("h2").scrollIntoView();
+}
+
+// What the engineer asked for on this bearing (measure again, remedial work), from the site
+// pack, so the inspector reads it in the basement as they would online.
+function showEngineerWords(words) {
+  const box = form.querySelector("[data-engineer-words]");
+  box.hidden = !words;
+  if (!words) return;
+  box.dataset.kind = words.kind;
+  box.querySelector("[data-engineer-words-title]").textContent = `${words.title}: the engineer's words`;
+  box.querySelector("[data-engineer-words-text]").textContent = words.text;
+  box.querySelector("[data-engineer-words-by]").textContent =
+    `${words.by}, ${words.at.slice(0, 16).replace("T", " ")} UTC (as of the site pack)`;
 }
 
 // "Record again" from the refused list: the form for the same bearing, filled with what was

@@ -12,7 +12,7 @@ import sqlite3
 
 from playwright.sync_api import expect
 
-from phone import log_in, open_site
+from phone import keep_site, log_in, open_site
 from sitecheck.demo import SITE_NAME
 
 
@@ -80,3 +80,42 @@ def test_the_contractor_and_inspector_see_since_they_last_looked_and_their_next_
     shoot("inspector-site")
     next_step.get_by_role("link").tap()
     expect(page).to_have_url(re.compile(r"/inspect$"))
+
+
+def test_the_inspector_reads_the_engineers_words_on_the_form_online_and_offline(
+    page, context, live_server, shoot
+):
+    """GF-B2-S is waiting for remedial work, in the engineer's words (the demo's decision)."""
+    with sqlite3.connect(live_server.db_path) as con:
+        site_id, bearing_id = con.execute(
+            "SELECT b.site_id, b.id FROM bearings b JOIN sites s ON s.id = b.site_id "
+            "WHERE s.name = ? AND b.reference = 'GF-B2-S'",
+            [SITE_NAME],
+        ).fetchone()
+        (words,) = con.execute(
+            "SELECT reason FROM decisions WHERE bearing_id = ? ORDER BY id DESC LIMIT 1",
+            [bearing_id],
+        ).fetchone()
+    keep_site(page, site_id)
+    page.goto(f"/sites/{site_id}/bearings/{bearing_id}/record")
+    online = page.locator("[data-engineer-words]")
+    expect(online).to_contain_text("Remedial work: the engineer's words")
+    expect(online).to_contain_text(words)
+    shoot("online-form")
+
+    page.goto(f"/sites/{site_id}/offline")
+    expect(page.locator("body")).to_have_attribute("data-pack-ready", "1")
+    context.set_offline(True)
+    page.reload()
+    expect(page.locator("body")).to_have_attribute("data-pack-ready", "1")
+    page.locator("li[data-bearing]", has_text="GF-B2-S").first.locator("button").tap()
+    offline = page.locator("form[data-offline-form] [data-engineer-words]")
+    expect(offline).to_be_visible()
+    expect(offline).to_contain_text(words)
+    expect(offline).to_contain_text("(as of the site pack)")
+    shoot("offline-form")
+    # Another bearing, with nothing asked of it: no box.
+    page.get_by_role("button", name="Back to the bearings").tap()
+    page.locator("li[data-bearing]", has_text="FF-B6").first.locator("button").tap()
+    expect(offline).to_be_hidden()
+    context.set_offline(False)
