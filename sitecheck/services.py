@@ -26,6 +26,7 @@ from sitecheck.bearing.review import (
     ReviewReason,
     ReviewSettings,
     as_built_input,
+    could_not_measure,
     review,
     settings_from_dict,
 )
@@ -184,12 +185,21 @@ class Recheck:
         return sum(1 for r in self.reasons if r.severity == BLOCKS)
 
 
-def recheck(site: dict, bearing: dict, measurements: dict, checklist: dict) -> Recheck:
-    """The server's authoritative re-check of one as-built record against the current design."""
+def recheck(
+    site: dict, bearing: dict, measurements: dict, checklist: dict, why_not_measured=None
+) -> Recheck:
+    """The server's authoritative re-check of one as-built record against the current design.
+
+    A record of a bearing that could not be measured (``why_not_measured`` set) re-checks
+    the design as it stands, with the core's could-not-measure review in place of the
+    comparison: there is nothing built to compare."""
     basis = basis_for(site)
     design = design_of(bearing)
     m = measurements_from_dict(measurements)
     c = checklist_from_dict(checklist)
+    if why_not_measured is not None:
+        reasons = could_not_measure(why_not_measured, m, c, settings_for(site))
+        return Recheck(design, check_bearing(design, basis), reasons)
     built = as_built_input(design, m)
     result = check_bearing(built, basis)
     design_result = check_bearing(design, basis)
@@ -211,13 +221,15 @@ def record_as_built(
     inspector_id: int,
     now: datetime | None = None,
     provisional: object = None,
+    why_not_measured: str | None = None,
 ) -> tuple[store.RecordStored, Recheck]:
     """Re-check and store one as-built record, idempotently by the phone's UUID.
 
     ``provisional`` is the verdict the phone's mirror of the core showed while the values
     were typed, if it sent one; the server's answer is stored and wins, and a difference is
-    written as an event so that a drifting mirror is found."""
-    rc = recheck(site, bearing, measurements, checklist)
+    written as an event so that a drifting mirror is found. ``why_not_measured`` makes it a
+    record of a bearing that could not be measured (see :func:`recheck`)."""
+    rc = recheck(site, bearing, measurements, checklist, why_not_measured)
     reasons = list(rc.reasons)
     if design_revision < bearing["revision"]:
         reasons.insert(
@@ -261,6 +273,7 @@ def record_as_built(
         blocking=blocking,
         state_after_record=workflow.state_after_record,
         now=now,
+        why_not_measured=why_not_measured,
     )
     # A phone that measured against an older revision checked another design: the server's
     # answer differs for that reason, and the older-revision reason already says so.

@@ -41,6 +41,7 @@ from .bearing.review import (
     ReviewSettings,
     as_built_input,
     blocking,
+    could_not_measure,
     review,
     settings_from_dict,
 )
@@ -346,7 +347,7 @@ def as_designed(design: BearingInput) -> dict:
 
 
 def record_expectation(
-    design: BearingInput, measurements, checklist, basis: CodeBasis, settings
+    design: BearingInput, measurements, checklist, basis: CodeBasis, settings, why=None
 ) -> dict:
     """What the server makes of one as-built record, in the order
     :func:`sitecheck.services.recheck` works: the measured values read and merged, the
@@ -354,6 +355,8 @@ def record_expectation(
 
     ``as_built`` is the merged input (None when the measurements could not be read);
     ``error`` the core's refusal, if any, after which there is no result and no reason.
+    ``why`` makes it a record of a bearing that could not be measured: the design stands as
+    built and the could-not-measure review replaces the comparison.
     """
     out = {
         "as_built": None,
@@ -366,6 +369,14 @@ def record_expectation(
     try:
         m = measurements_from_dict(measurements)
         c = checklist_from_dict(checklist)
+        if why is not None:
+            s = settings_from_dict(settings) if settings else ReviewSettings()
+            reasons = could_not_measure(why, m, c, s)
+            out["as_built"] = input_to_dict(design)
+            out["result"] = out["design_result"]
+            out["reasons"] = [r.as_dict() for r in reasons]
+            out["blocking"] = blocking(reasons)
+            return out
         built = as_built_input(design, m)
         out["as_built"] = input_to_dict(built)
         result = check_bearing(built, basis)
@@ -388,19 +399,23 @@ def review_case(
     measurements,
     checklist,
     settings=None,
+    why=None,
 ) -> dict:
     # The design as the server holds it: stored as a dict and read back.
     design = input_from_dict(input_to_dict(design))
     settings = ReviewSettings().as_dict() if settings is None else settings
-    return {
+    case = {
         "id": case_id,
         "basis": basis.to_dict(),
         "settings": settings,
         "design": input_to_dict(design),
         "measurements": measurements,
         "checklist": checklist,
-        "expect": record_expectation(design, measurements, checklist, basis, settings),
+        "expect": record_expectation(design, measurements, checklist, basis, settings, why),
     }
+    if why is not None:
+        case["why"] = why
+    return case
 
 
 # --- review cases fixed by hand -----------------------------------------------------------
@@ -671,6 +686,25 @@ RAW_CASES: tuple[tuple[str, str, object, object, dict | None], ...] = (
 )
 
 
+# Bearings that could not be measured: (design, case, why, measurements, checklist).
+UNMEASURED_CASES: tuple[tuple[str, str, str, object, object], ...] = (
+    ("ec6-across-pad", "not-measurable-covered", "covered", {}, {}),
+    (
+        "bs-across-pad",
+        "not-measurable-cracks-seen",
+        "no-access",
+        {},
+        {"cracks": True, "packing": 12.0},
+    ),
+    ("ec6-inline-end", "not-measurable-nothing-said", "unsafe", None, None),
+    ("ec6-across-bare", "not-measurable-other", "other", {"padstone_present": None}, {}),
+    ("ec6-across-pad", "not-measurable-but-measured", "no-access", {"bearing_length": 150.0}, {}),
+    ("ec6-across-pad", "not-measurable-why-unknown", "too dark", {}, {}),
+    ("ec6-across-pad", "not-measurable-unreadable", "covered", {"wall_thickness": "x"}, {}),
+    ("ec6-across-pad", "not-measurable-bad-setting", "covered", {}, {}),
+)
+
+
 def _measure(design: BearingInput, changes: dict) -> dict:
     m = as_designed(design)
     for name, value in changes.items():
@@ -698,6 +732,12 @@ def _hand_cases() -> list[dict]:
     for name, case, measurements, checklist, settings in RAW_CASES:
         basis, design = design_named(name)
         out.append(review_case(f"{name}/{case}", basis, design, measurements, checklist, settings))
+    for name, case, why, measurements, checklist in UNMEASURED_CASES:
+        basis, design = design_named(name)
+        settings = {"thresold": 0.8} if case.endswith("bad-setting") else None
+        out.append(
+            review_case(f"{name}/{case}", basis, design, measurements, checklist, settings, why)
+        )
     return out
 
 

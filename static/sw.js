@@ -19,7 +19,11 @@ const SHELL = [
   "/static/js/outbox.js",
   "/static/js/photos.js",
   "/static/js/unsent.js",
-  "/static/js/offline-site.js",
+  // The as-built form, online and offline: drafts, refusals in words, the survey list.
+  "/static/js/capture.js",
+  "/static/js/messages.js",
+  "/static/js/survey.js",
+  "/phone-words.js", // written by the server: the form's labels, the trace's glossary
   // The phone's mirror of the core: the as-built form's provisional verdict, with no signal.
   "/static/js/verdict.js",
   "/static/js/bearing/basis.js",
@@ -43,6 +47,7 @@ const SHELL = [
 ];
 // Pages never kept: they belong to a moment (log-in) or change the session.
 const NEVER_KEPT = new Set(["/login", "/logout"]);
+const RECORD_FORM = /^\/sites\/[^/]+\/bearings\/[^/]+\/record$/;
 
 self.addEventListener("install", (event) => {
   event.waitUntil(
@@ -72,14 +77,16 @@ async function pageFirstFromNetwork(request, url) {
     }
     return response;
   } catch (error) {
+    const site = url.pathname.match(/^\/sites\/([^/]+)\//);
+    const offline = site && (await caches.match(`/sites/${site[1]}/offline`, { ignoreVary: true }));
+    // "Record as built" with no signal: the site's offline page, which opens that bearing's
+    // form from the site pack (a copy of the online form kept from an earlier visit may hold
+    // an older design).
+    if (offline && RECORD_FORM.test(url.pathname)) return offline;
     const kept = await caches.match(request, { ignoreVary: true });
     if (kept) return kept;
-    // Any page of a kept site falls back to that site's offline page.
-    const site = url.pathname.match(/^\/sites\/([^/]+)\//);
-    if (site) {
-      const offline = await caches.match(`/sites/${site[1]}/offline`, { ignoreVary: true });
-      if (offline) return offline;
-    }
+    // Any other page of a kept site falls back to that site's offline page.
+    if (offline) return offline;
     return (await caches.match("/offline", { ignoreVary: true })) || Response.error();
   }
 }
@@ -104,7 +111,7 @@ self.addEventListener("fetch", (event) => {
   if (url.pathname.startsWith("/api/")) return;
   if (request.mode === "navigate") {
     event.respondWith(pageFirstFromNetwork(request, url));
-  } else if (url.pathname.startsWith("/static/")) {
+  } else if (url.pathname.startsWith("/static/") || url.pathname === "/phone-words.js") {
     event.respondWith(assetFirstFromCache(request));
   }
 });

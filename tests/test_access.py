@@ -84,6 +84,7 @@ ROUTES = {
     "sync.service_worker": "public",
     "sync.offline": "public",
     "sync.refused": "public",
+    "sync.words_module": "public",  # the form's labels and the trace's glossary, no data
     "sync.site_offline": "record",
     "sync.pack": "record",
     "sync.post_record": "login",  # the site is in the body: an empty body is refused first

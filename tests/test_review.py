@@ -12,14 +12,17 @@ import pytest
 
 from bearings import across_on_padstone, brick_in_line_end
 from sitecheck.bearing import Masonry, Padstone, bs5628, check_bearing, ec6_uk_na
+from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.remedy import remedy
 from sitecheck.bearing.review import (
     ADVISORY,
     BLOCKS,
+    UNMEASURABLE,
     Checklist,
     Measurements,
     ReviewSettings,
     as_built_input,
+    could_not_measure,
     review,
     settings_from_dict,
 )
@@ -142,6 +145,27 @@ def test_checklist_reasons():
     assert {"not-bedded", "packing-thick", "cracks", "cut-units", "not-level"} <= set(codes)
     codes, _ = _review(checklist=Checklist(packing=8.0))
     assert "packing-thick" not in codes
+
+
+def test_a_bearing_that_could_not_be_measured_blocks_release_with_its_reason():
+    for why, words in UNMEASURABLE:
+        (reason,) = could_not_measure(why, Measurements(), Checklist())
+        assert (reason.code, reason.severity) == ("could-not-measure", BLOCKS)
+        assert words in reason.sentence and dict(reason.values) == {"why": why}
+    # What the checklist did see still counts.
+    reasons = could_not_measure("no-access", Measurements(), Checklist(cracks=True))
+    assert [r.code for r in reasons] == ["could-not-measure", "cracks"]
+
+
+def test_a_could_not_measure_record_with_a_measured_value_is_refused_naming_it():
+    with pytest.raises(InputError) as refused:
+        could_not_measure("covered", Measurements(wall_thickness=215.0), Checklist())
+    assert refused.value.field == "measurements.wall_thickness"
+    assert refused.value.code == "measured-but-not-measurable"
+    with pytest.raises(InputError) as unknown:
+        could_not_measure("too dark", Measurements(), Checklist())
+    assert (unknown.value.field, unknown.value.code) == ("why_not_measured", "bad-choice")
+    assert "covered, no-access, unsafe, other" in unknown.value.expected
 
 
 def test_weaker_and_unverified_masonry():

@@ -197,9 +197,10 @@ def test_first_open_applies_every_migration_in_order(db):
         "m007_photo_files",
         "m008_recorded_after_release",
         "m009_record_jobs",
-        "m010_notices",
-        "m011_decision_signatures",
-        "m012_sign_offs",
+        "m010_could_not_measure",
+        "m011_notices",
+        "m012_decision_signatures",
+        "m013_sign_offs",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -545,6 +546,50 @@ def test_the_same_record_id_with_other_values_is_refused_naming_what_differs(wor
     assert store.get_record(w.db, site_id=w.site["id"], uuid=uuid) == first.row
     assert count(w.db, "as_built_records") == 1
     assert count(w.db, "events") == events
+
+
+def test_a_record_of_a_bearing_that_could_not_be_measured_is_its_own_kind(world):
+    w = world
+    measured = send_record(w.db, w.site, w.bearing, w.inspector)
+    assert (measured.row["kind"], measured.row["why_not_measured"]) == ("measured", None)
+    unmeasured = store.insert_record(
+        w.db,
+        site_id=w.site["id"],
+        uuid=str(uuid_module.uuid4()),
+        bearing_id=w.bearing["id"],
+        design_revision=1,
+        inspector_id=w.inspector["id"],
+        measured_at=T0 + timedelta(hours=1),
+        measurements={},
+        checklist={},
+        notes="Behind the new stud wall.",
+        result={"utilisation": 0.5},
+        reasons=[{"code": "could-not-measure"}],
+        utilisation=0.5,
+        passed=True,
+        blocking=1,
+        state_after_record=workflow.state_after_record,
+        why_not_measured="covered",
+    )
+    assert (unmeasured.row["kind"], unmeasured.row["why_not_measured"]) == (
+        "could not measure",
+        "covered",
+    )
+    assert unmeasured.state == "engineer to decide"
+    # Only the core's codes: anything else is refused by the database itself.
+    with pytest.raises(sqlite3.IntegrityError, match="CHECK"):
+        w.db.execute(
+            "INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id, "
+            "measured_at, received_at, measurements, result, passed, blocking, why_not_measured) "
+            "VALUES (?, ?, 1, ?, ?, ?, '{}', '{}', 1, 1, 'too dark')",
+            [
+                str(uuid_module.uuid4()),
+                w.bearing["id"],
+                w.inspector["id"],
+                "2026-01-01T00:00:00Z",
+                "2026-01-01T00:00:00Z",
+            ],
+        )
 
 
 def test_a_uuid_already_used_for_another_bearing_is_refused(world):

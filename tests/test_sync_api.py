@@ -17,7 +17,9 @@ import pytest
 
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from sitecheck import services, store, workflow
+from sitecheck.web import sync
 from sitecheck.web.assets import shell_digest
+from sitecheck.web.inspect import survey_order
 from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
 from webkit import csrf_token
 
@@ -85,8 +87,10 @@ def test_site_pack_holds_every_bearing_with_its_design(client_as, db, site):
     assert pack["role"] == "inspector"
     assert datetime.fromisoformat(pack["generated_at"]).tzinfo is not None
     assert pack["generated_at"].endswith("Z")
-    expected = store.list_bearings(db, site_id=site["id"])
+    # In survey order, each with its place by reference for the phone to rank them again.
+    expected = survey_order(store.list_bearings(db, site_id=site["id"]))
     assert [b["id"] for b in pack["bearings"]] == [b["id"] for b in expected]
+    assert [b["order"] for b in pack["bearings"]] == [b["order"] for b in expected]
     first, row = pack["bearings"][0], expected[0]
     assert first["reference"] == row["reference"] and first["revision"] == row["revision"]
     assert first["state"] == row["state"] and first["location"] == row["location"]
@@ -137,6 +141,48 @@ def test_record_is_stored_once_and_a_resend_gets_the_first_answer(client_as, db,
     assert again.get_json() == {**answer, "created": False}
     assert _count(db, body["uuid"]) == 1
     assert client.get(answer["url"]).status_code == 200
+
+
+def test_a_bearing_that_could_not_be_measured_is_stored_as_its_own_kind(
+    client_as, db, site, bearing
+):
+    client = client_as("inspector")
+    body = _record(site, bearing, measurements={}, why_not_measured="no-access")
+    body["checklist"] = {}
+    r = _send(client, body)
+    assert r.status_code == 201, r.get_json()
+    answer = r.get_json()
+    assert answer["state"] == "engineer to decide"
+    assert [x["code"] for x in answer["reasons"]] == ["could-not-measure"]
+    row = db.execute(
+        "SELECT kind, why_not_measured, blocking FROM as_built_records WHERE uuid = ?",
+        [body["uuid"]],
+    ).fetchone()
+    assert tuple(row) == ("could not measure", "no-access", 1)
+
+
+@pytest.mark.parametrize(
+    ("changes", "field", "code"),
+    [
+        (
+            {"why_not_measured": "covered"},
+            "measurements.bearing_length",
+            "measured-but-not-measurable",
+        ),
+        ({"why_not_measured": "too dark", "measurements": {}}, "why_not_measured", "bad-choice"),
+        ({"why_not_measured": "other", "measurements": {}, "notes": ""}, "notes", "why-in-notes"),
+        ({"why_not_measured": 3, "measurements": {}}, "why_not_measured", "not-text"),
+    ],
+    ids=["with-measurements", "unknown-why", "other-without-notes", "not-text"],
+)
+def test_a_could_not_measure_record_the_core_refuses_is_refused_with_its_field(
+    client_as, db, site, bearing, changes, field, code
+):
+    body = _record(site, bearing, **changes)
+    r = _send(client_as("inspector"), body)
+    assert r.status_code == 422
+    assert (r.get_json()["field"], r.get_json()["code"]) == (field, code)
+    assert _count(db, body["uuid"]) == 0
 
 
 def _differed(db, site, record_uuid) -> list[dict]:
@@ -401,7 +447,14 @@ def test_the_service_worker_is_served_from_the_root(app):
     assert r.headers["Cache-Control"] == "no-cache"
     text = r.get_data(as_text=True)
     assert "const SHELL" in text
-    assert f'const VERSION = "{shell_digest()}";' in text
+    # The words module the server writes is part of the shell, and of its version.
+    assert f'const VERSION = "{shell_digest(sync._words_module())}";' in text
+    assert '"/phone-words.js"' in text
+    words = app.test_client().get("/phone-words.js")
+    assert words.mimetype == "text/javascript" and "export const PHONE_WORDS" in words.get_data(
+        as_text=True
+    )
+    words.close()
     again = app.test_client().get("/sw.js", headers={"If-None-Match": r.headers["ETag"]})
     assert again.status_code == 304
     r.close()

@@ -139,10 +139,14 @@ def test_each_case_is_what_the_server_makes_of_the_record(review_cases):
         assert expect["design_result"] == check_bearing(design, basis).as_dict(), case["id"]
         if expect["error"] is not None:
             with pytest.raises(InputError) as refused:
-                services.recheck(site, bearing, case["measurements"], case["checklist"])
+                services.recheck(
+                    site, bearing, case["measurements"], case["checklist"], case.get("why")
+                )
             assert refused.value.as_dict() == expect["error"], case["id"]
             continue
-        rc = services.recheck(site, bearing, case["measurements"], case["checklist"])
+        rc = services.recheck(
+            site, bearing, case["measurements"], case["checklist"], case.get("why")
+        )
         assert input_to_dict(rc.as_built) == expect["as_built"], case["id"]
         assert rc.result.as_dict() == expect["result"], case["id"]
         assert [r.as_dict() for r in rc.reasons] == expect["reasons"], case["id"]

@@ -8,7 +8,7 @@ import json
 import re
 import uuid
 from dataclasses import replace
-from datetime import datetime
+from datetime import UTC, datetime
 from pathlib import Path
 
 import pytest
@@ -144,20 +144,25 @@ def test_the_list_puts_bearings_to_survey_first_with_a_button_each(client_as, db
     page = inspector.get(f"/sites/{site['id']}/inspect")
     assert page.status_code == 200
     html = page.get_data(as_text=True)
-    states = re.findall(r'data-state="([^"]+)"', html)
+    cards = re.findall(r'data-state="([^"]+)" data-order="\d+" data-design-passed="(yes|no)"', html)
+    # A bearing whose design fails is not for survey: last, with no button, not counted.
+    passing = [state for state, passed in cards if passed == "yes"]
+    failing = [state for state, passed in cards if passed == "no"]
+    assert failing and cards[-len(failing) :] == [(s, "no") for s in failing]
+    states = passing
     first_other = states.index("within design")
     assert set(states[:first_other]) <= {"awaiting survey", "remedial"}
     assert states.index("remedial") > max(i for i, s in enumerate(states) if s == "awaiting survey")
     assert states[-1] == "within design"
-    assert (
-        html.count('>Record as built<span class="visually-hidden">')
-        == len(states)
-        == len(store.list_bearings(db, site_id=site["id"]))
-    )
+    assert len(cards) == len(store.list_bearings(db, site_id=site["id"]))
+    assert html.count('>Record as built<span class="visually-hidden">') == len(passing)
+    awaiting = sum(1 for s in passing if s in ("awaiting survey", "remedial"))
+    assert f"{awaiting} bearings to measure" in html
+    assert "not for survey: the design fails and is being revised" in html
     assert "✓</span> within design" in html and "✗</span> remedial" in html
 
     data = inspector.get(f"/sites/{site['id']}/inspect.json").get_json()
-    assert [b["state"] for b in data["bearings"]] == states
+    assert [(b["state"], "yes" if b["design_passed"] else "no") for b in data["bearings"]] == cards
     done = next(b for b in data["bearings"] if b["id"] == measured["id"])
     assert done["latest_record_url"].startswith(f"/sites/{site['id']}/records/")
 
@@ -175,7 +180,11 @@ def test_the_form_shows_design_values_and_phone_friendly_inputs(client_as, db, s
     )
     hidden = open_form(inspector, site, bearing)
     assert uuid.UUID(hidden["record_uuid"]).version == 4
-    assert datetime.fromisoformat(hidden["measured_at"]).tzinfo is not None
+    # The date-time picker's own format, in UTC (the page says so until its script runs).
+    picked = datetime.fromisoformat(hidden["measured_at"]).replace(tzinfo=UTC)
+    assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d", hidden["measured_at"])
+    assert abs((datetime.now(UTC) - picked).total_seconds()) < 120
+    assert 'type="datetime-local"' in html and "in UTC" in html
     assert hidden["design_revision"] == "1"
     assert "style=" not in html and "onclick" not in html
     # Scripts only from our own server (the CSP allows no inline script): the page script,
@@ -183,7 +192,8 @@ def test_the_form_shows_design_values_and_phone_friendly_inputs(client_as, db, s
     assert re.findall(r"<script[^>]*>", html) == [
         '<script src="/static/app.js" defer>',
         '<script type="application/json" id="verdict-context">',
-        '<script type="module" src="/static/js/verdict.js">',
+        '<script type="application/json" id="capture-context">',
+        '<script type="module" src="/static/js/capture.js">',
     ]
     context = json.loads(html.split('id="verdict-context">')[1].split("</script>")[0])
     assert set(context) == {"design", "basis", "settings"}
@@ -419,7 +429,7 @@ def test_other_bad_fields_name_what_was_expected(client_as, db, app, site):
         "packing": "-3",
         "masonry_group": "7",
         "bedded": "maybe",
-        "measured_at": "2026-03-02 10:15",
+        "measured_at": "02/03/2026 10:15",
         "padstone_concrete": "C99",
     }
     r = post_record(inspector, site, bearing, data)
@@ -428,7 +438,7 @@ def test_other_bad_fields_name_what_was_expected(client_as, db, app, site):
     assert "Packing under the beam: -3 mm is not accepted" in field_errors(html, "packing")[0]
     assert "Unit group: choose one of the listed values" in field_errors(html, "masonry_group")[0]
     assert "choose yes, no or not seen" in field_errors(html, "bedded")[0]
-    assert "has no time zone" in field_errors(html, "measured_at")[0]
+    assert "is not a date and time" in field_errors(html, "measured_at")[0]
     assert counts(db, app) == before
 
 
@@ -751,3 +761,41 @@ def test_a_form_sent_without_javascript_has_no_phone_verdict_to_compare(client_a
     r = post_record(inspector, site, bearing, {"padstone_length": "300"})
     assert r.status_code == 302
     assert _events(db, site, services.PHONE_VERDICT_DIFFERED) == []
+
+
+# --- could not measure ----------------------------------------------------------------------------
+
+
+def test_without_javascript_a_bearing_that_could_not_be_measured_goes_to_the_engineer(
+    client_as, db, app, site
+):
+    inspector = client_as("inspector")
+    bearing = bearing_named(db, site)
+    r = post_record(
+        inspector, site, bearing, {"why_not_measured": "unsafe", "notes": "Scaffold down."}
+    )
+    assert r.status_code == 302
+    html = inspector.get(r.headers["Location"]).get_data(as_text=True)
+    assert "Could not measure: not safe to reach" in html
+    assert "Could not be measured (not safe to reach)" in html
+    row = db.execute(
+        "SELECT kind, why_not_measured FROM as_built_records ORDER BY received_at DESC LIMIT 1"
+    ).fetchone()
+    assert tuple(row) == ("could not measure", "unsafe")
+    assert bearing_named(db, site)["state"] == "engineer to decide"
+
+
+def test_could_not_measure_with_a_measured_value_is_refused_on_that_field(client_as, db, app, site):
+    inspector = client_as("inspector")
+    bearing = bearing_named(db, site)
+    before = counts(db, app)
+    r = post_record(
+        inspector, site, bearing, {"why_not_measured": "covered", "wall_thickness": "215"}
+    )
+    assert r.status_code == 400
+    (error,) = field_errors(r.get_data(as_text=True), "wall_thickness")
+    assert "Wall thickness: 215 mm is not accepted; expected nothing measured" in error
+    other = post_record(inspector, site, bearing, {"why_not_measured": "other"})
+    assert other.status_code == 400
+    assert "say what it is in the notes" in other.get_data(as_text=True)
+    assert counts(db, app) == before

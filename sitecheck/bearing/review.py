@@ -17,6 +17,7 @@ from operator import attrgetter
 
 from .basis import BS5628, CodeBasis
 from .checks import is_spreader
+from .errors import InputError
 from .inputs import Beam, BearingInput, Masonry, Padstone, Wall
 from .trace import INFORMATIVE, BearingResult
 
@@ -99,8 +100,6 @@ def settings_from_dict(data: dict) -> ReviewSettings:
     clean = {}
     for key, value in data.items():
         if key not in known:
-            from .errors import InputError
-
             raise InputError(f"review.{key}", value, "a known review setting", "unknown-field")
         clean[key] = tuple(value) if key.startswith("required") else float(value)
     return ReviewSettings(**clean)
@@ -380,7 +379,8 @@ def _spreader_lost(
             ReviewReason(
                 "spreader-lost",
                 BLOCKS,
-                "The design's padstone counted as a spreader (1.5 f_d); as built it is too "
+                "The design's padstone counted as a spreader (design strength raised to 1.5 f_d); "
+                "as built it is too "
                 "shallow, too short or narrower than the wall to count as one.",
                 (),
             )
@@ -507,8 +507,8 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
             ReviewReason(
                 "masonry-weaker",
                 BLOCKS,
-                f"The masonry is weaker than designed: {_describe(am)} (f_k {afk:.2f} N/mm²) "
-                f"against {_describe(dm)} (f_k {dfk:.2f} N/mm²).",
+                f"The masonry is weaker than designed: {_describe(am)} (characteristic strength "
+                f"f_k {afk:.2f} N/mm²) against {_describe(dm)} (f_k {dfk:.2f} N/mm²).",
                 (("design_f_k", dfk), ("as_built_f_k", afk)),
             )
         )
@@ -518,7 +518,7 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
                 "masonry-unverified",
                 BLOCKS,
                 f"The masonry differs from the design ({_describe(am)} against {_describe(dm)}), "
-                f"whose f_k of {dfk:.2f} N/mm² was declared: the re-check keeps it, so confirm it holds.",
+                f"whose characteristic strength f_k of {dfk:.2f} N/mm² was declared: the re-check keeps it, so confirm it holds.",
                 (("design_f_k", dfk),),
             )
         )
@@ -613,3 +613,44 @@ def _bearing_type_reasons(design, as_built, design_result, s) -> list[ReviewReas
 
 def blocking(reasons: tuple[ReviewReason, ...]) -> int:
     return sum(1 for r in reasons if r.severity == BLOCKS)
+
+
+# Why a bearing could not be measured: a code of ours and the words the screens use.
+UNMEASURABLE = (
+    ("covered", "already covered up"),
+    ("no-access", "no access to it"),
+    ("unsafe", "not safe to reach"),
+    ("other", "another reason, given in the notes"),
+)
+
+
+def could_not_measure(
+    why: str, m: Measurements, checklist: Checklist, s: ReviewSettings = ReviewSettings()
+) -> tuple[ReviewReason, ...]:
+    """The review of a record saying the bearing could not be measured (``why`` a code of
+    :data:`UNMEASURABLE`): nothing on site confirms the bearing, so it goes to the engineer
+    and blocks release, with whatever the checklist did see.
+
+    Such a record carries no measured value: one that did would be read as measured in part,
+    so it is refused, naming the value, rather than kept under the wrong outcome."""
+    words = dict(UNMEASURABLE).get(why)
+    if words is None:
+        codes = ", ".join(code for code, _ in UNMEASURABLE)
+        raise InputError("why_not_measured", why, f"one of: {codes}", "bad-choice")
+    for f in fields(Measurements):
+        value = getattr(m, f.name)
+        if value is not None:
+            raise InputError(
+                f"measurements.{f.name}",
+                value,
+                "nothing measured on a bearing that could not be measured: clear the value, "
+                "or record the bearing as measured",
+                "measured-but-not-measurable",
+            )
+    reason = ReviewReason(
+        "could-not-measure",
+        BLOCKS,
+        f"Could not be measured ({words}): nothing on site confirms this bearing as built.",
+        (("why", why),),
+    )
+    return (reason, *_checklist_reasons(checklist, s))

@@ -422,6 +422,7 @@ def insert_record(
     blocking: int,
     state_after_record: Callable[[str, int, bool], str],
     now: datetime | None = None,
+    why_not_measured: str | None = None,
 ) -> RecordStored:
     """Store an as-built record once per client UUID, and move the bearing's state.
 
@@ -452,8 +453,8 @@ def insert_record(
             """
             INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id,
                 measured_at, received_at, measurements, checklist, notes, result, reasons,
-                utilisation, passed, blocking, late)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+                utilisation, passed, blocking, late, why_not_measured)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             ON CONFLICT (uuid) DO NOTHING
             """,
             [
@@ -472,6 +473,7 @@ def insert_record(
                 int(bool(passed)),
                 blocking,
                 int(late),
+                why_not_measured,
             ],
         )
         created = cursor.rowcount == 1
@@ -488,6 +490,7 @@ def insert_record(
                 "measurements": measurements,
                 "checklist": checklist or {},
                 "notes": (notes or "").strip(),
+                "why_not_measured": why_not_measured,
             }
             differs = tuple(name for name, value in sent.items() if not _same(value, row[name]))
             if differs:
@@ -557,6 +560,7 @@ def insert_record(
 
 
 _FIELD_WORDS = {
+    "why_not_measured": "whether it could be measured",
     "design_revision": "design revision",
     "measured_at": "time measured",
     "measurements": "measurements",

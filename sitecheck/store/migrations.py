@@ -482,8 +482,26 @@ def m009_record_jobs(db: sqlite_utils.Database) -> None:
     db.execute("CREATE INDEX record_jobs_started_by ON record_jobs(started_by, created_at)")
 
 
+UNMEASURABLE = ("covered", "no-access", "unsafe", "other")
+
+
 @MIGRATIONS()
-def m010_notices(db: sqlite_utils.Database) -> None:
+def m010_could_not_measure(db: sqlite_utils.Database) -> None:
+    """A record may say the bearing could not be measured, and why. Its kind is worked out
+    from that one column, so the two can never disagree; older records are 'measured'."""
+    db.execute(
+        "ALTER TABLE as_built_records ADD COLUMN why_not_measured TEXT "
+        f"CHECK (why_not_measured IS NULL OR why_not_measured IN {_in(UNMEASURABLE)})"
+    )
+    db.execute(
+        "ALTER TABLE as_built_records ADD COLUMN kind TEXT GENERATED ALWAYS AS "
+        "(CASE WHEN why_not_measured IS NULL THEN 'measured' ELSE 'could not measure' END) "
+        "VIRTUAL"
+    )
+
+
+@MIGRATIONS()
+def m011_notices(db: sqlite_utils.Database) -> None:
     """Notices: who is told by e-mail that it is their turn, and when each person last
     looked at a site (for "since you last looked").
 
@@ -555,7 +573,7 @@ def m010_notices(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m011_decision_signatures(db: sqlite_utils.Database) -> None:
+def m012_decision_signatures(db: sqlite_utils.Database) -> None:
     """A decision keeps the engineer's name as it was when they decided (an account's name
     may change later; the record must not), and an acceptance of a bearing that fails as
     built keeps what failed (``accepted_failing``: the governing check, its title and the
@@ -568,7 +586,7 @@ def m011_decision_signatures(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m012_sign_offs(db: sqlite_utils.Database) -> None:
+def m013_sign_offs(db: sqlite_utils.Database) -> None:
     """The engineer's sign-off of a site record: who signed (the name as signed), when,
     the statement, and what it covers (``covers``: the bearings by state, the records and
     photos, and the last history entry, as they were when it was signed). Append-only:

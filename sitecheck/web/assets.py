@@ -27,10 +27,10 @@ STATIC_DIR = _find("static")
 
 
 _SHELL_PATTERNS = ("*.js", "*.css", "*.png", "*.webmanifest")
-_SHELL_TEMPLATES = ("base.html", "_macros.html", "offline")
+_SHELL_TEMPLATES = ("base.html", "_macros.html", "offline", "inspect/_fields.html")
 
 
-def shell_digest() -> str:
+def shell_digest(*extra: str) -> str:
     """A digest of every file the phone's offline shell is made of: the service worker
     carries it as its version, so a change to any of them reaches every phone (a new
     worker installs, fetches the new shell and drops the old) without anyone having to
@@ -45,6 +45,8 @@ def shell_digest() -> str:
         for p in path.rglob("*.html") if path.is_dir() else [path]:
             files[f"templates/{p.relative_to(TEMPLATE_DIR)}"] = p
     digest = hashlib.sha256()
+    for text in extra:  # shell files the server writes itself (the phone's words)
+        digest.update(text.encode())
     for label in sorted(files):
         digest.update(label.encode())
         digest.update(files[label].read_bytes())

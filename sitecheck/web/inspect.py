@@ -7,6 +7,8 @@ once per client-made UUID: a second send of the same form shows the first result
 
 from __future__ import annotations
 
+import re
+
 from flask import (
     Blueprint,
     Response,
@@ -24,8 +26,14 @@ from werkzeug.exceptions import RequestEntityTooLarge
 from sitecheck import services, store, workflow
 from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
-from sitecheck.bearing.review import Measurements, as_built_input, missing_measurements
-from sitecheck.bearing.serial import measurements_from_dict
+from sitecheck.bearing.review import (
+    UNMEASURABLE,
+    Measurements,
+    as_built_input,
+    could_not_measure,
+    missing_measurements,
+)
+from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
 from sitecheck.photos import (
     IngestedPhoto,
     PhotoLimits,
@@ -53,16 +61,50 @@ bp = Blueprint("inspect", __name__)
 
 PHOTO_SIZES = ("display", "thumb")
 # Measuring first: a bearing nobody has measured, or one that needs measuring again after
-# remedial work, is what the inspector came for.
-_SURVEY_FIRST = {workflow.AWAITING_SURVEY: 0, workflow.REMEDIAL: 1}
+# remedial work, is what the inspector came for. A bearing whose design fails is not for
+# survey at all: its design is being revised. The phone ranks them the same way
+# (static/js/survey.js), from the state it last heard of.
+SURVEY_RANK = {workflow.AWAITING_SURVEY: 0, workflow.REMEDIAL: 1}
+OTHER_RANK, DESIGN_FAILS_RANK = 2, 3
+NEXT_OFFERED = 12  # bearings after this one the form page names, for "next to measure"
+
+
+def survey_rank(bearing: dict) -> int:
+    if not bearing["design_passed"]:
+        return DESIGN_FAILS_RANK
+    return SURVEY_RANK.get(bearing["state"], OTHER_RANK)
+
+
+def natural_key(text: str) -> tuple:
+    """GF-B2 before GF-B10: digits compared as numbers, the rest without case."""
+    return tuple(
+        (1, int(part), "") if part.isdigit() else (0, 0, part.lower())
+        for part in re.split(r"(\d+)", text)
+        if part
+    )
+
+
+def survey_order(rows: list[dict]) -> list[dict]:
+    """The bearings in survey order, each with ``order``: its place by reference alone,
+    which the phone keeps to rank them again as states change."""
+    by_reference = sorted(rows, key=lambda b: natural_key(b["reference"]))
+    for n, b in enumerate(by_reference):
+        b["order"] = n
+    return sorted(by_reference, key=lambda b: (survey_rank(b), b["order"]))
+
+
+def matches(bearing: dict, query: str) -> bool:
+    """Every word of the search is in the reference or the location (level, grid, room)."""
+    text = f"{bearing['reference']} {bearing.get('location') or ''}".lower()
+    return all(word in text for word in query.lower().split())
 
 
 @page_rule(bp, "/sites/<site_id>/inspect")
 @login_required
 def bearings(site_id):
     site, _role = site_for(site_id, "record")
-    rows = store.list_bearings(get_db(), site_id=site["id"])
-    rows.sort(key=lambda b: (_SURVEY_FIRST.get(b["state"], 2), b["reference"].lower()))
+    rows = survey_order(store.list_bearings(get_db(), site_id=site["id"]))
+    query = (request.args.get("q") or "").strip()[:100]
     items = [
         {
             "id": b["id"],
@@ -70,6 +112,9 @@ def bearings(site_id):
             "location": b["location"],
             "state": b["state"],
             "revision": b["revision"],
+            "order": b["order"],
+            "design_passed": bool(b["design_passed"]),
+            "shown": matches(b, query),
             "record_url": url_for("inspect.record_form", site_id=site["id"], bearing_id=b["id"]),
             "latest_record_url": (
                 url_for("inspect.result", site_id=site["id"], record_uuid=b["latest_record_uuid"])
@@ -79,13 +124,16 @@ def bearings(site_id):
         }
         for b in rows
     ]
-    to_survey = sum(1 for b in rows if b["state"] in _SURVEY_FIRST)
+    to_survey = sum(1 for b in rows if survey_rank(b) < OTHER_RANK)
     looked_now([site["id"]])
     return render_page(
         "inspect/bearings.html",
         site=_site_summary(site),
         bearings=items,
         to_survey=to_survey,
+        query=query,
+        shown=sum(1 for b in items if b["shown"]),
+        design_fails=sum(1 for b in rows if not b["design_passed"]),
     )
 
 
@@ -124,13 +172,9 @@ def record_form(site_id, bearing_id):
     if revision is not None:
         # Fields that did not parse are left out (the design stands in), so the core can
         # still point at every other field in the same answer.
-        design = services.design_of(bearing)
-        try:
-            built = as_built_input(design, measurements_from_dict(form.measurements()))
-            problems = list(input_errors(built, services.basis_for(site)))
-        except InputError as error:
-            problems = [error]
-        general += form.add_core_errors(problems, bearing["design_input"])
+        general += form.add_core_errors(
+            _core_problems(site, bearing, form), bearing["design_input"]
+        )
 
     if general or _has_errors(form):
         if chosen:
@@ -197,6 +241,7 @@ def result(site_id, record_uuid):
             "received_at": record["received_at"],
             "measured_text": when_text(record["measured_at"]),
             "received_text": when_text(record["received_at"]),
+            "kind": record["kind"],
             "inspector": inspector["name"] if inspector else "unknown",
             "notes": record["notes"],
             "measurements": record["measurements"],
@@ -210,6 +255,7 @@ def result(site_id, record_uuid):
             "late": bool(record["late"]),
             "sets_state": bearing["latest_record_uuid"] == record["uuid"],
         },
+        not_measured=dict(UNMEASURABLE).get(record["why_not_measured"]),
         comparison=comparison(design_input, record["measurements"]),
         checklist=checklist_rows(record["checklist"]),
         photos=photos,
@@ -272,6 +318,19 @@ def _form_page(site, bearing, form, *, general=(), status=200):
     # With nothing measured yet, the fields the review would call "not measured" are the
     # ones a record needs to go straight to 'within design'.
     needed = set(missing_measurements(design, Measurements(), services.settings_for(site)))
+    rows = survey_order(store.list_bearings(get_db(), site_id=site["id"]))
+    here = next((n for n, b in enumerate(rows) if b["id"] == bearing["id"]), 0)
+    # The next bearings to measure after this one, in survey order, for the phone to offer
+    # once this record is kept (it skips any it already holds unsent).
+    upcoming = [
+        {
+            "id": b["id"],
+            "reference": b["reference"],
+            "url": url_for("inspect.record_form", site_id=site["id"], bearing_id=b["id"]),
+        }
+        for b in rows[here + 1 :] + rows[:here]
+        if survey_rank(b) < OTHER_RANK
+    ][:NEXT_OFFERED]
     return render_page(
         "inspect/record_form.html",
         status=status,
@@ -288,7 +347,17 @@ def _form_page(site, bearing, form, *, general=(), status=200):
         photo_mb=PhotoLimits().max_bytes // 1_000_000,
         total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
         older_form=_older_form(form, bearing),
+        design_fails=not bearing["design_passed"],
         verdict_context=services.mirror_context(site, design_input),
+        capture={
+            "site_id": site["id"],
+            "site_name": site["name"],
+            "bearing_id": bearing["id"],
+            "reference": bearing["reference"],
+            "revision": bearing["revision"],
+            "survey_url": url_for("inspect.bearings", site_id=site["id"]),
+            "next": upcoming,
+        },
         engineer_words=_engineer_words(site, bearing),
     )
 
@@ -298,6 +367,19 @@ def _engineer_words(site, bearing) -> dict | None:
     remedial work), to show above the form."""
     decision = store.latest_decisions(get_db(), site_id=site["id"], bearing_id=bearing["id"])
     return engineer_words(workflow.standing_decision(bearing["state"], decision.get(bearing["id"])))
+
+
+def _core_problems(site, bearing, form) -> list[InputError]:
+    """What the core refuses in the typed values, as the server's re-check would meet it."""
+    try:
+        measured = measurements_from_dict(form.measurements())
+        if form.why:
+            could_not_measure(form.why, measured, checklist_from_dict(form.checklist()))
+            return []
+        built = as_built_input(services.design_of(bearing), measured)
+        return list(input_errors(built, services.basis_for(site)))
+    except InputError as error:
+        return [error]
 
 
 def _has_errors(form) -> bool:
@@ -370,13 +452,14 @@ def _store(db, site, bearing, form, revision, photos):
         site=site,
         bearing=bearing,
         uuid=form.record_uuid.data,
-        measured_at=form.measured_at.data.strip(),
+        measured_at=form.measured_at_utc,
         design_revision=revision,
         measurements=form.measurements(),
         checklist=form.checklist(),
         notes=form.notes.data or "",
         inspector_id=g.user["id"],
         provisional=form.provisional_verdict(),
+        why_not_measured=form.why,
     )
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from datetime import UTC, datetime
 
 from flask import Blueprint, g, jsonify, render_template, request
 from markupsafe import Markup, escape
@@ -12,6 +13,7 @@ from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
 from sitecheck.web.shapes import json_answer
+from sitecheck.web.symbols import DRAWING_KEY, words_for
 
 bp = Blueprint("pages", __name__)
 
@@ -132,6 +134,9 @@ def install_template_helpers(app) -> None:
             "util": utilisation_text,
             "mm": lambda x: "—" if x is None else f"{x:g}",
             "allowed": lambda action: workflow.allowed(getattr(g, "role", None), action),
+            "symbol_words": words_for,
+            "drawing_key": DRAWING_KEY,
+            "local_time": local_time,
             "decide_counts": _decide_counts,
         }
 
@@ -150,6 +155,27 @@ def state_badge(state: str) -> Markup:
     return Markup(
         '<span class="state {cls}"><span aria-hidden="true">{sym}</span> {label}</span>'
     ).format(cls=b.css_class, sym=b.symbol, label=escape(b.label))
+
+
+def utc_words(stamp: str) -> str:
+    """A stored time in UTC, as the page says it before the phone puts it in its own zone."""
+    try:
+        moment = datetime.fromisoformat(str(stamp).replace("Z", "+00:00"))
+    except ValueError:
+        return str(stamp)
+    if moment.tzinfo is None:
+        moment = moment.replace(tzinfo=UTC)
+    return moment.astimezone(UTC).strftime("%-d %b %Y, %H:%M UTC")
+
+
+def local_time(stamp) -> Markup:
+    """A stored UTC time for a page: in UTC as written, and in the phone's own time and zone
+    once its script runs (static/js/messages.js)."""
+    if not stamp:
+        return Markup("—")
+    return Markup('<time datetime="{iso}" data-local>{words}</time>').format(
+        iso=str(stamp), words=utc_words(stamp)
+    )
 
 
 def utilisation_text(u) -> str:

@@ -33,6 +33,7 @@ from wtforms.validators import StopValidation, ValidationError
 
 from sitecheck.bearing import InputError
 from sitecheck.bearing.inputs import MATERIALS, MORTARS
+from sitecheck.bearing.review import UNMEASURABLE
 
 MAX_PHOTOS = 8
 NOTES_MAX = 4000
@@ -197,6 +198,13 @@ CORE_PATHS = (
     | {f"checklist.{n}": n for n in CHECKLIST_FIELDS}
 )
 
+# "Could you measure it?": measured (the empty answer), or why not, in the core's codes.
+WHY_NOT_MEASURED = "why_not_measured"
+OUTCOME_CHOICES = (
+    SelectChoice("", "yes, measured"),
+    *(SelectChoice(code, f"no: {words}") for code, words in UNMEASURABLE),
+)
+
 _NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)")
 _UNIT_WORDS = {"mm": "millimetres", "N/mm²": "N/mm²"}
 
@@ -308,8 +316,13 @@ class RecordForm(FlaskForm):
     cracks = TriStateField(SPECS["cracks"].label)
     cut_units = TriStateField(SPECS["cut_units"].label)
     level = TriStateField(SPECS["level"].label)
+    why_not_measured = RadioField(
+        "Could you measure it?", choices=list(OUTCOME_CHOICES), default=""
+    )
     notes = TextAreaField("Notes")
     photos = MultipleFileField("Photos")
+    # The phone's date-time picker: local time without a zone. Without JavaScript the page
+    # fills it in UTC and says so; with it, the phone sends the moment with its zone.
     measured_at = StringField("Measured at")
     record_uuid = HiddenField()
     design_revision = HiddenField()
@@ -320,7 +333,7 @@ class RecordForm(FlaskForm):
     def start(self, bearing: dict, now: datetime | None = None) -> None:
         """Fill a fresh form: a new record UUID, the time now, the design it is measured against."""
         self.record_uuid.data = str(uuid_module.uuid4())
-        self.measured_at.data = iso_now(now)
+        self.measured_at.data = picker_now(now)
         self.design_revision.data = str(bearing["revision"])
 
     def renew_uuid(self) -> None:
@@ -342,6 +355,17 @@ class RecordForm(FlaskForm):
                 f"{PACKING_MAX_MM:g} mm."
             )
 
+    def validate_why_not_measured(self, field):
+        if field.data == "other" and not (self.notes.data or "").strip():
+            raise ValidationError(
+                "Could you measure it: you chose another reason; say what it is in the notes."
+            )
+
+    @property
+    def why(self) -> str | None:
+        """Why the bearing could not be measured (a core code), None when it was measured."""
+        return self.why_not_measured.data or None
+
     def validate_notes(self, field):
         if len(field.data or "") > NOTES_MAX:
             raise ValidationError(
@@ -351,20 +375,20 @@ class RecordForm(FlaskForm):
 
     def validate_measured_at(self, field):
         text = (field.data or "").strip()
-        example = iso_now()
+        example = picker_now().replace("T", " ")
         if not text:
             raise ValidationError(f"Measured at: give the time you measured, e.g. {example} (UTC).")
         try:
-            moment = datetime.fromisoformat(text)
+            moment = datetime.fromisoformat(text.replace("Z", "+00:00"))
         except ValueError:
             raise ValidationError(
-                f"Measured at: “{text[:40]}” is not a date and time; write it like {example}."
+                f"Measured at: “{text[:40]}” is not a date and time; choose it with the "
+                f"picker, or write it like {example}."
             ) from None
+        # The picker gives no zone; the page says its time is UTC when no script set it.
         if moment.tzinfo is None:
-            raise ValidationError(
-                f"Measured at: “{text[:40]}” has no time zone; add Z for UTC or an offset "
-                f"such as +01:00, like {example}."
-            )
+            moment = moment.replace(tzinfo=UTC)
+        self.measured_at_utc = iso_now(moment)
 
     def validate_record_uuid(self, field):
         try:
@@ -424,6 +448,9 @@ class RecordForm(FlaskForm):
         unparsed = {name for name in SPECS if self[name].errors}
         for error in errors:
             name = CORE_PATHS.get(error.field)
+            if error.field == WHY_NOT_MEASURED:
+                general.append(f"Could you measure it: expected {error.expected}.")
+                continue
             if name is None:
                 general.append(
                     f"The design itself cannot be re-checked ({error.field} = {error.value!r}: "
@@ -491,7 +518,7 @@ def designed_text(design_input: dict, name: str) -> str:
         if name == "a2":
             return "wall runs on"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
-            return f"f_k {design_input['masonry']['f_k']:g} N/mm² declared"
+            return f"characteristic strength f_k {design_input['masonry']['f_k']:g} N/mm² declared"
         if spec.kind == "tri" or name == "packing":
             return ""
         return "not given"
@@ -558,6 +585,11 @@ def iso_now(now: datetime | None = None) -> str:
     return (now or datetime.now(UTC)).astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
+def picker_now(now: datetime | None = None) -> str:
+    """Now in UTC as a date-time picker holds it (no seconds, no zone)."""
+    return (now or datetime.now(UTC)).astimezone(UTC).strftime("%Y-%m-%dT%H:%M")
+
+
 def when_text(stamp: str | None) -> str:
     """A stored UTC time as people read it."""
     if not stamp:
@@ -569,3 +601,59 @@ def when_text(stamp: str | None) -> str:
     if moment.tzinfo is None:
         return moment.strftime("%d %b %Y %H:%M") + " (camera time)"
     return moment.astimezone(UTC).strftime("%d %b %Y %H:%M UTC")
+
+
+# What the core may refuse in a bearing's design (not in anything measured), in words: the
+# phone names it this way when a design cannot be re-checked, never by its path.
+DESIGN_WORDS = {
+    "load.reaction": "the end reaction",
+    "load.wall_load": "the other load on the wall",
+    "beam.orientation": "which way the beam spans",
+    "beam.member": "beam or lintel",
+    "beam.reaction_at": "where the reaction acts",
+    "wall.height_to_bearing": "the height to the bearing",
+    "wall.clear_height": "the clear height",
+    "wall.effective_height": "the effective height",
+    "masonry.conditioning": "how the units were tested",
+    "masonry.unit_category": "the unit category",
+    "masonry.execution_class": "the execution class",
+    "masonry.manufacturing_control": "the manufacturing control",
+    "masonry.construction_control": "the construction control",
+    "masonry.gamma_M": "the masonry's partial factor",
+    "masonry.f_k": "the declared masonry strength",
+    "masonry.unit_height": "the unit height",
+    "masonry.unit_width": "the unit width",
+    "masonry.unit_strength_is_normalised": "whether the unit strength is normalised",
+    "bearing_type": "the bearing type",
+    "e_mk": "the eccentricity at mid-height",
+    "phi_m": "the reduction factor at mid-height",
+    "beta_s": "the capacity reduction factor",
+    "basis": "the code basis",
+    "design": "the design",
+}
+
+
+def phone_words() -> dict:
+    """The words the phone puts in its messages (static/js/messages.js): each field's label
+    and unit, the core's paths each field answers for, the design's paths in words, and why
+    a bearing could not be measured. Written into the pages, so they have one source."""
+    labels = {name: {"label": s.label, "unit": s.unit} for name, s in SPECS.items()}
+    labels |= {
+        WHY_NOT_MEASURED: {"label": "Could you measure it", "unit": ""},
+        "notes": {"label": "Notes", "unit": ""},
+        "measured_at": {"label": "Measured at", "unit": ""},
+        "photos": {"label": "Photos", "unit": ""},
+    }
+    paths = dict(CORE_PATHS) | {
+        WHY_NOT_MEASURED: WHY_NOT_MEASURED,
+        "notes": "notes",
+        "measured_at": "measured_at",
+    }
+    return {
+        "labels": labels,
+        "paths": paths,
+        "design": DESIGN_WORDS,
+        # Where each field's designed value sits in the design input (designed_value()).
+        "designed_at": {name: list(s.design) for name, s in SPECS.items() if s.design},
+        "why": dict(UNMEASURABLE),
+    }

@@ -369,10 +369,13 @@ def _survey(c, _role):
             "location",
             "state",
             "revision",
+            "order",
+            "design_passed",
             "record_url",
             "latest_record_url",
         ),
         "to_survey": c["to_survey"],
+        "design_fails": c["design_fails"],
     }
 
 
@@ -393,7 +396,9 @@ def _result(c, _role):
             "notes",
             "measurements",
             "checklist",
+            "kind",
         ),
+        "not_measured": c["not_measured"],
         "result": c["result"],
         "reasons": c["reasons"],
         "blocking": c["blocking"],

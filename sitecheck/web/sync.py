@@ -19,6 +19,7 @@ Every answer is JSON with a status the phone acts on without reading the words:
 from __future__ import annotations
 
 import dataclasses
+import json
 import math
 import re
 import uuid as uuid_module
@@ -40,13 +41,14 @@ from werkzeug.exceptions import NotFound
 from sitecheck import services, store, workflow
 from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
-from sitecheck.bearing.review import as_built_input
+from sitecheck.bearing.review import as_built_input, could_not_measure
 from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
-from sitecheck.photos import PhotoRejected, PhotosBusy, ingest_photo
+from sitecheck.photos import PhotoLimits, PhotoRejected, PhotosBusy, ingest_photo
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
 from sitecheck.web.auth import login_required
+from sitecheck.web.inspect import survey_order
 from sitecheck.web.jsonbody import JsonRefused, read_json
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
@@ -56,9 +58,12 @@ from sitecheck.web.record_form import (
     NOTES_MAX,
     PACKING_MAX_MM,
     SPECS,
+    RecordForm,
     designed_text,
+    phone_words,
 )
 from sitecheck.web.review import engineer_words
+from sitecheck.web.symbols import SYMBOL_WORDS
 
 bp = Blueprint("sync", __name__)
 
@@ -74,6 +79,8 @@ RECORD_KEYS = frozenset(
         "notes",
         # The verdict the phone's mirror showed; compared, never trusted (see services).
         "provisional",
+        # Set when the bearing could not be measured: why, as a code of the core's.
+        "why_not_measured",
     }
 )
 
@@ -98,7 +105,7 @@ def service_worker():
     its version set to a digest of the shell's files (see :func:`shell_digest`)."""
     version = current_app.extensions.get("shell_digest")
     if version is None:  # once per process: the files do not change under a running server
-        version = current_app.extensions["shell_digest"] = shell_digest()
+        version = current_app.extensions["shell_digest"] = shell_digest(_words_module())
     text = (STATIC_DIR / "sw.js").read_text(encoding="utf-8")
     text, found = SW_VERSION.subn(f'const VERSION = "{version}";', text, count=1)
     if not found:
@@ -111,6 +118,25 @@ def service_worker():
 
 
 SW_VERSION = re.compile(r'^const VERSION = "[^"]*";$', flags=re.M)
+
+
+def _words_module() -> str:
+    return (
+        "// Written by the server (sitecheck/web/sync.py) from the form's own labels and the\n"
+        "// trace's glossary, so the phone's messages have one source. Part of the offline shell.\n"
+        f"export const PHONE_WORDS = {json.dumps(phone_words(), ensure_ascii=False)};\n"
+        f"export const SYMBOL_WORDS = {json.dumps(SYMBOL_WORDS, ensure_ascii=False)};\n"
+    )
+
+
+@bp.get("/phone-words.js")
+def words_module():
+    """The words the phone's messages and traces use (record_form.phone_words, the symbol
+    glossary), as a module the service worker keeps with the shell: one download, not a
+    copy in every page."""
+    response = Response(_words_module(), mimetype="text/javascript")
+    response.headers["Cache-Control"] = "no-cache"
+    return response
 
 
 @bp.get("/offline")
@@ -136,8 +162,11 @@ def site_offline(site_id):
         site={"id": site["id"], "name": site["name"]},
         groups=GROUPS,
         specs=SPECS,
-        choices=_choices(),
+        # The online form's fields, unfilled: the phone fills them from the site pack.
+        form=RecordForm(meta={"csrf": False}, formdata=None),
         max_photos=MAX_PHOTOS,
+        photo_mb=PhotoLimits().max_bytes // 1_000_000,
+        total_mb=(current_app.config.get("MAX_CONTENT_LENGTH") or 0) // (1024 * 1024),
         # The phone draws each state's badge (symbol and words) from the same table as the
         # online pages, so a state is never shown by colour alone there either.
         badges={
@@ -145,17 +174,6 @@ def site_offline(site_id):
             for state, b in workflow.STATE_BADGES.items()
         },
     )
-
-
-def _choices() -> dict[str, list[tuple[str, str]]]:
-    from sitecheck.web.record_form import RecordForm
-
-    form_class = RecordForm
-    out = {}
-    for name in ("masonry_material", "masonry_group", "mortar"):
-        field = getattr(form_class, name)
-        out[name] = [(c.value, c.label) for c in field.kwargs["choices"]]
-    return out
 
 
 # --- the site pack ----------------------------------------------------------------------------
@@ -168,7 +186,9 @@ def pack(site_id):
     basis = services.basis_for(site)
     bearings = []
     decisions = store.latest_decisions(get_db(), site_id=site["id"])
-    for b in store.list_bearings(get_db(), site_id=site["id"]):
+    # In survey order, with each bearing's place by reference, so the phone ranks them again
+    # as their states change just as the survey list does.
+    for b in survey_order(store.list_bearings(get_db(), site_id=site["id"])):
         design_result = b["design_result"] or {}
         bearings.append(
             {
@@ -177,6 +197,7 @@ def pack(site_id):
                 "location": b["location"],
                 "state": b["state"],
                 "revision": b["revision"],
+                "order": b["order"],
                 "design_input": b["design_input"],
                 "design": {
                     "utilisation": _finite(b["design_utilisation"]),
@@ -247,6 +268,7 @@ def post_record():
             notes=fields["notes"],
             inspector_id=g.user["id"],
             provisional=fields["provisional"],
+            why_not_measured=fields["why_not_measured"],
         )
     except Refused as refused:
         return refused.response()
@@ -362,6 +384,12 @@ def _record_fields(data: dict) -> dict:
     if len(notes) > NOTES_MAX:
         raise Refused("notes", "too-long", f"Notes: at most {NOTES_MAX} characters.")
     out["notes"] = notes
+    why = data.get("why_not_measured")
+    if why is not None and not isinstance(why, str):
+        raise Refused("why_not_measured", "not-text", "why_not_measured must be text or null.")
+    if why == "other" and not notes.strip():
+        raise Refused("notes", "why-in-notes", "Notes: say why the bearing could not be measured.")
+    out["why_not_measured"] = why
     # Never a reason to refuse a record: an odd verdict is itself what the server reports.
     out["provisional"] = data.get("provisional")
     return out
@@ -370,7 +398,10 @@ def _record_fields(data: dict) -> dict:
 def _check_against_core(site, bearing, fields) -> None:
     """Typed JSON first, then the core's physical sense, before anything is stored."""
     measurements = measurements_from_dict(fields["measurements"])
-    checklist_from_dict(fields["checklist"])
+    checklist = checklist_from_dict(fields["checklist"])
+    if fields["why_not_measured"] is not None:
+        could_not_measure(fields["why_not_measured"], measurements, checklist)
+        return
     built = as_built_input(services.design_of(bearing), measurements)
     for error in input_errors(built, services.basis_for(site)):
         raise error

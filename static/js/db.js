@@ -4,12 +4,14 @@
 //   packs    site packs kept for offline use, by site id
 //   outbox   unsent as-built records with their photos, by record uuid
 //   refused  records (or photos) the server refused for good, with its reason
+//   drafts   what is typed into an as-built form, with its photos, by person and bearing
+//            (version 2): kept from the first keystroke until the record is in the outbox
 //
 // An upgrade only ever adds: each step runs for every version the phone skipped, and no
 // store is dropped, because an outbox lost in an upgrade is a bearing closed up unchecked.
 
 export const DB_NAME = "sitecheck";
-export const DB_VERSION = 1;
+export const DB_VERSION = 2;
 
 function upgrade(db, oldVersion) {
   switch (oldVersion) {
@@ -19,6 +21,9 @@ function upgrade(db, oldVersion) {
       outbox.createIndex("created", "created");
       db.createObjectStore("refused", { keyPath: "uuid" });
     }
+    // falls through
+    case 1:
+      db.createObjectStore("drafts", { keyPath: "key" });
     // falls through: later versions add their steps below, never a delete
   }
 }

@@ -4,7 +4,7 @@
 // by moving, in the same transaction, to the refused list where the person can see it.
 // No answer or a 5xx keeps it and tries again later; a stale token is renewed and retried.
 
-import { count, get, getAll, outboxInOrder, put, putIfPresent, writeAll } from "./db.js";
+import { count, get, getAll, outboxInOrder, putIfPresent, writeAll } from "./db.js";
 
 const RETRY_FIRST_MS = 5000;
 const RETRY_MOST_MS = 5 * 60 * 1000;
@@ -26,11 +26,15 @@ export const refusedItems = () => getAll("refused");
 
 // Keep a new record. Resolves once IndexedDB has committed it; throws (e.g. QuotaExceededError)
 // with nothing half kept, since the record and its photos are one value in one transaction.
-export async function keep(item) {
+// The draft it was typed in (`draftKey`) is deleted in that same transaction: the values are
+// in the draft or in the outbox, never in neither.
+export async function keep(item, { draftKey = null } = {}) {
   item.created = Date.now() * 1000 + (sequence++ % 1000); // keeps the order of quick saves
   item.record_sent = false;
   item.attempts = 0;
-  await put("outbox", item);
+  const changes = [["outbox", item]];
+  if (draftKey) changes.push(["drafts", null, draftKey]);
+  await writeAll(changes);
   document.body.dataset.lastSaved = item.uuid;
   announce({ kind: "saved", uuid: item.uuid });
   if (navigator.onLine) sync("saved");
@@ -209,6 +213,7 @@ async function sendItem(item, token) {
   }
   await writeAll([["outbox", null, item.uuid]]);
   document.body.dataset.lastSent = item.uuid;
+  await noteState(item);
   announce({
     kind: "sent",
     uuid: item.uuid,
@@ -219,12 +224,33 @@ async function sendItem(item, token) {
   return "sent";
 }
 
+// The bearing's state as the server last said it, in the kept site pack: the survey list
+// shows it with no signal. Only ever later news: a pack downloaded after the answer wins.
+async function noteState(item) {
+  const answer = item.answer;
+  if (!answer || !answer.state) return;
+  try {
+    const pack = await get("packs", item.site_id);
+    const bearing = pack && pack.bearings.find((b) => b.id === item.bearing_id);
+    if (!bearing) return;
+    bearing.state = answer.state;
+    bearing.last_answer = { uuid: answer.uuid, url: answer.url, at: new Date().toISOString() };
+    await putIfPresent("packs", pack, item.site_id);
+  } catch (error) {
+    console.warn("sitecheck: the site pack could not be brought up to date:", error);
+  }
+}
+
+// What is kept of a refusal: the server's whole answer (its sentence, the field and what it
+// expected), from which the phone words it for the person (messages.js); the status only
+// to tell kinds of refusal apart, never to show.
 function refusal(item, status, body, extra = {}) {
   return {
     ...item,
     kind: "record",
     status,
-    reason: (body && body.error) || `The server answered ${status}.`,
+    answer: body && typeof body === "object" ? body : null,
+    reason: (body && body.error) || "",
     code: (body && (body.code || body.field)) || "",
     refused_at: new Date().toISOString(),
     ...extra,

@@ -3,6 +3,9 @@
 // list of kept sites and the refused list's own page.
 
 import { getAll, put } from "./db.js";
+// The words of messages and times are fetched only by a page that shows some (the log-in
+// page shows none, and a phone's first load should not carry them twice).
+const words = () => import("./messages.js");
 import { counts, refusedItems, sync } from "./outbox.js";
 
 const PAGES_CACHE = "sitecheck-pages"; // shared with sw.js
@@ -44,6 +47,7 @@ function text(tag, className, content) {
 async function showRefusedPage() {
   const list = document.querySelector("[data-refused-all]");
   if (!list) return;
+  const { labelOf, localTime, refusalSentence } = await words();
   let items;
   try {
     items = await refusedItems();
@@ -60,9 +64,9 @@ async function showRefusedPage() {
     li.append(
       text("strong", "refused-what", `✗ ${what}`),
       text("span", "muted", item.site_name || ""),
-      text("p", "refused-reason", `${item.status}: ${item.reason}`),
+      text("p", "refused-reason", refusalSentence(item)),
       text("p", "muted refused-when",
-        `measured ${item.record ? item.record.measured_at : "?"} · refused ${age(item.refused_at)}`),
+        `measured ${item.record ? localTime(item.record.measured_at) : "at a time not kept"} · refused ${age(item.refused_at)}`),
     );
     if (item.record && item.kind !== "photo") {
       // The values are kept so they can be recorded again without going back to the bearing.
@@ -72,7 +76,8 @@ async function showRefusedPage() {
       dl.className = "values";
       const values = { ...item.record.measurements, ...item.record.checklist };
       for (const [name, value] of Object.entries(values)) {
-        dl.append(text("dt", "", name.replaceAll("_", " ")), text("dd", "", String(value)));
+        const shown = value === true ? "yes" : value === false ? "no" : String(value);
+        dl.append(text("dt", "", labelOf(name) || "another value"), text("dd", "", shown));
       }
       details.append(dl);
       if (item.record.notes) details.append(text("p", "notes", item.record.notes));
@@ -173,16 +178,19 @@ function guardLogOut() {
       if (form.dataset.confirmed) return;
       event.preventDefault();
       let n = { unsent: 0, refused: 0 };
+      let drafts = 0;
       try {
         n = await counts();
+        drafts = (await getAll("drafts")).length;
       } catch (error) {
         /* no IndexedDB: nothing to lose */
       }
-      const waiting = n.unsent + n.refused;
+      const waiting = n.unsent + n.refused + drafts;
+      const draftWords = drafts ? ` and ${drafts} draft(s) not yet kept as records` : "";
       if (
         waiting === 0 ||
         window.confirm(
-          `${n.unsent} unsent and ${n.refused} refused record(s) are on this phone only. ` +
+          `${n.unsent} unsent and ${n.refused} refused record(s)${draftWords} are on this phone only. ` +
             "Logging out deletes them from this phone for good. Log out anyway?",
         )
       ) {
@@ -209,6 +217,9 @@ for (const button of document.querySelectorAll("[data-send-now]")) {
 }
 guardLogOut();
 showCounts();
+if (document.querySelector("time[data-local]")) {
+  words().then((m) => m.showLocalTimes()).catch(() => {});
+}
 showRefusedPage();
 showPackAges().catch(() => {});
 if (document.querySelector("[data-persist]")) askToKeep().catch(() => {});

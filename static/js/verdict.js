@@ -11,6 +11,8 @@ import { basisFromDict, ec6UkNa } from "./bearing/basis.js";
 import { formatFixed, formatG } from "./bearing/format.js";
 import { recheckRecord } from "./bearing/record.js";
 import { remedy } from "./bearing/remedy.js";
+import { SYMBOL_WORDS } from "/phone-words.js";
+import { coreSentence, designSentence, designedValue, fieldOf } from "./messages.js";
 
 export const MEASUREMENT_FIELDS = [
   "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
@@ -45,9 +47,11 @@ function valueOf(form, name) {
   return field.value ?? "";
 }
 
-/** The measurements and checklist the form holds now, as the server would read them, and
- * the fields whose text is not a number (left out, as the server leaves them out). */
+/** The measurements and checklist the form holds now, as the server would read them, the
+ * fields whose text is not a number (left out, as the server leaves them out), and why the
+ * bearing could not be measured (null when it was). */
 export function readForm(form) {
+  const why = valueOf(form, "why_not_measured") || null;
   const measurements = {};
   const checklist = {};
   const unreadable = [];
@@ -67,9 +71,11 @@ export function readForm(form) {
       else if (parsed.value !== null) target[name] = parsed.value;
     }
   };
+  // Read even when the bearing could not be measured: the core refuses a measured value on
+  // such a record, and the phone says so rather than drop what was typed.
   for (const name of MEASUREMENT_FIELDS) put(measurements, name);
   for (const name of CHECKLIST_FIELDS) put(checklist, name);
-  return { measurements, checklist, unreadable };
+  return { measurements, checklist, unreadable, why };
 }
 
 function el(tag, attrs = {}, ...children) {
@@ -109,39 +115,50 @@ function checkTitle(result, code) {
   return found ? found.title : code;
 }
 
-function stepsTable(steps) {
+// A symbol beside plain words (sitecheck/web/symbols.py words_for): the glossary's, else
+// the label of the step that works it out.
+function wordsFor(symbol, steps, words = SYMBOL_WORDS) {
+  if (words && words[symbol]) return words[symbol];
+  const step = steps.find((s) => s.symbol === symbol);
+  return step ? String(step.label).toLowerCase() : "";
+}
+
+function stepsTable(steps, words) {
   const body = el("tbody");
   for (const s of steps) {
     const inputs = s.inputs.length
       ? el("span", { class: "muted" }, s.inputs
-        .map(([sym, v, unit]) => `${sym} = ${typeof v === "string" ? v : g4(v)} ${unit}`)
+        .map(([sym, v, unit]) => {
+          const w = wordsFor(sym, steps, words);
+          return `${w ? `${w} ` : ""}${sym} = ${typeof v === "string" ? v : g4(v)} ${unit}`;
+        })
         .join("; "))
       : null;
     body.append(el("tr", {},
-      el("td", {}, s.label),
-      el("td", {}, el("code", {}, `${s.symbol} = ${s.formula}`), inputs ? el("br") : null, inputs),
-      el("td", { class: "num" }, el("strong", {}, g4(s.value)), ` ${s.unit}`),
-      el("td", { class: "clause" }, `${s.clause} [${s.source}]`)));
+      el("td", { class: "title" }, s.label),
+      el("td", { "data-label": "Worked out" }, el("code", {}, `${s.symbol} = ${s.formula}`), inputs ? el("br") : null, inputs),
+      el("td", { class: "num", "data-label": "Value" }, el("strong", {}, g4(s.value)), ` ${s.unit}`),
+      el("td", { class: "clause", "data-label": "Clause" }, `${s.clause} [${s.source}]`)));
   }
-  return el("div", { class: "scroll" }, el("table", {}, body));
+  return el("div", { class: "scroll" }, el("table", { class: "steps stacks" }, body));
 }
 
 /** The full calculation, as the server's pages show it, for showing the contractor why.
  * Built when first opened: dozens of table rows on every keystroke would cost a slow phone
  * more than the re-check itself. */
-export function traceDetails(result, open = false) {
+export function traceDetails(result, open = false, words = SYMBOL_WORDS) {
   const details = el("details", { class: "trace", "data-phone-trace": "" },
-    el("summary", {}, `Full calculation (${result.basis})`));
+    el("summary", {}, el("span", {}, `Full calculation (${result.basis})`)));
   let filled = false;
   const fill = () => {
     if (filled || !details.open) return;
     filled = true;
     for (const note of result.notes) details.append(el("p", { class: "muted" }, note));
-    details.append(el("h3", {}, "Materials"), stepsTable(result.strengths.steps));
+    details.append(el("h3", {}, "Materials"), stepsTable(result.strengths.steps, words));
     for (const c of result.checks) {
       details.append(el("h3", {}, `${c.title} — ${utilisationText(c.utilisation)} ${c.passed ? "✓" : "✗"}`));
       for (const note of c.notes) details.append(el("p", { class: "muted" }, note));
-      details.append(stepsTable(c.steps));
+      details.append(stepsTable(c.steps, words));
     }
     details.append(el("p", { class: "muted" },
       "Source labels: S seen in a published source · P partly seen · M from memory, confirm " +
@@ -178,15 +195,15 @@ function reasonList(reasons) {
   return el("ul", { class: "reasons" }, ...reasons.map((r) => el("li",
     { class: r.severity, "data-code": r.code },
     el("strong", {}, r.severity === "blocks" ? "Blocks release:" : "Note:"),
-    ` ${r.sentence} `, el("span", { class: "muted" }, `(${r.code})`))));
+    ` ${r.sentence}`)));
 }
 
 /** What the mirror says about the form's values now: the outcome object the panel shows
  * and the verdict sent with the record. Pure apart from the clock. */
-export function provisionalOutcome(context, measurements, checklist) {
+export function provisionalOutcome(context, measurements, checklist, why = null) {
   const started = performance.now();
   const outcome = recheckRecord(
-    context.design, measurements, checklist, context.basis, context.settings,
+    context.design, measurements, checklist, context.basis, context.settings, why,
   );
   return { outcome, ms: performance.now() - started };
 }
@@ -212,37 +229,67 @@ function setBar(bar, text, verdict) {
   bar.hidden = false;
 }
 
-function renderBar(bar, outcome) {
-  if (!bar) return;
-  if (outcome.error) {
-    setBar(bar, "Provisional: ✗ cannot re-check yet (see below)", "cannot");
-    return;
-  }
-  const result = outcome.result;
-  const ok = result.passed && !outcome.blocking;
-  const word = ok ? "✓ within design" : !result.passed ? "✗ fails as built" : "? needs the engineer";
-  setBar(bar, `Provisional: ${word} · utilisation ${utilisationText(result.utilisation)}`,
-    ok ? "pass" : "review");
+// The verdict in one word, with a symbol: "fails" and "needs the engineer" differ in
+// colour, symbol and word; before anything is measured it is neutral.
+export function verdictKind(outcome, nothingYet = false, why = null) {
+  if (outcome.error) return "cannot";
+  if (why) return "unmeasured";
+  if (nothingYet) return "none";
+  if (!outcome.result.passed) return "fails";
+  return outcome.blocking ? "review" : "pass";
 }
 
-function render(panel, outcome, unreadable, ms, basis) {
+const BAR_WORDS = {
+  none: "○ not measured yet",
+  pass: "✓ within design",
+  review: "? needs the engineer",
+  fails: "✗ fails as built",
+  cannot: "✗ cannot re-check yet (see below)",
+  unmeasured: "? could not measure: goes to the engineer",
+};
+
+function renderBar(bar, outcome, kind) {
+  if (!bar) return;
+  const tail = ["pass", "review", "fails"].includes(kind)
+    ? ` · utilisation ${utilisationText(outcome.result.utilisation)}` : "";
+  setBar(bar, `Provisional: ${BAR_WORDS[kind]}${tail}`, kind);
+}
+
+// The core's refusal in the inspector's words: the field's label, the value typed, what is
+// expected (messages.js), never the core's path.
+function refusalText(form, error, design) {
+  const name = fieldOf(error.field);
+  if (!name) return designSentence(error);
+  const field = form && form.elements.namedItem(name);
+  const typed = field && "value" in field ? field.value : "";
+  const designed = designedValue(design, name) === null ? ""
+    : form?.querySelector(`[data-designed-for="${name}"]`)?.textContent.replace(/^designed: /, "") || "";
+  return coreSentence(name, error, typed, designed);
+}
+
+function render(panel, outcome, unreadable, ms, ctx, kind, form) {
   const traceWasOpen = Boolean(panel.querySelector("[data-phone-trace]")?.open);
   const parts = [el("p", { class: "provisional-label" },
     el("strong", {}, "Provisional"),
     " — worked out on this phone from the values above; the server's re-check confirms it when the record is sent.")];
-  if (outcome.error) {
-    const e = outcome.error;
-    parts.push(el("p", { class: "verdict fail", "data-verdict": "cannot" },
-      `✗ Cannot re-check yet: ${e.message || `${e.field} = ${e.value}: expected ${e.expected}`}`));
+  if (kind === "none") {
+    parts.push(el("p", { class: "verdict none", "data-verdict": "none" },
+      "○ Not measured yet: the verdict appears as you type the values you measure."));
+  } else if (kind === "unmeasured") {
+    parts.push(el("p", { class: "verdict review", "data-verdict": "unmeasured" },
+      "? Could not measure: the record goes to the engineer, who decides what happens next."));
+    parts.push(el("h3", {}, "Review reasons"), reasonList(outcome.reasons));
+  } else if (outcome.error) {
+    parts.push(el("p", { class: "verdict fails", "data-verdict": "cannot" },
+      `✗ Cannot re-check yet: ${refusalText(form, outcome.error, ctx.design)}`));
   } else {
     const result = outcome.result;
-    const ok = result.passed && !outcome.blocking;
-    const word = ok ? "✓ Within design" : !result.passed ? "✗ Fails as built" : "? Needs the engineer";
-    parts.push(el("p", { class: `verdict ${ok ? "pass" : "fail"}`, "data-verdict": ok ? "pass" : "review" },
+    const word = { pass: "✓ Within design", review: "? Needs the engineer", fails: "✗ Fails as built" }[kind];
+    parts.push(el("p", { class: `verdict ${kind}`, "data-verdict": kind },
       `${word} — governing: ${checkTitle(result, result.governing)}, utilisation ${utilisationText(result.utilisation)}`));
     if (!result.passed) {
       parts.push(el("p", { class: "remedy-hint", "data-remedy-hint": "" },
-        el("strong", {}, "What would pass: "), remedyText(outcome, basis),
+        el("strong", {}, "What would pass: "), remedyText(outcome, ctx.basis),
         ". The engineer decides what is done."));
     }
     parts.push(el("h3", {}, "Review reasons"), reasonList(outcome.reasons));
@@ -261,16 +308,16 @@ function render(panel, outcome, unreadable, ms, basis) {
 export function attachVerdict(form, panel, context, bar = null) {
   const hidden = form.elements.namedItem("provisional");
   const labels = {};
-  for (const label of form.querySelectorAll("label[for], legend")) {
-    const name = label.getAttribute("for") || label.closest("fieldset")?.id?.replace(/^field-/, "");
-    if (name && !labels[name]) labels[name] = label.textContent.replace(/\s+/g, " ").replace(/ needed$/, "").trim();
+  for (const label of form.querySelectorAll("[data-label]")) {
+    const name = label.closest("[data-field]")?.dataset.field;
+    if (name && !labels[name]) labels[name] = label.dataset.label;
   }
   let last = null;
   const update = (event) => {
-    const { measurements, checklist, unreadable } = readForm(form);
+    const { measurements, checklist, unreadable, why } = readForm(form);
     // A field's change event follows its input events when it loses focus; re-drawing the
     // same verdict then would swap the panel under a finger tapping it.
-    const key = JSON.stringify([measurements, checklist, unreadable]);
+    const key = JSON.stringify([measurements, checklist, unreadable, why]);
     if (event && key === last) return null;
     last = key;
     const ctx = typeof context === "function" ? context() : context;
@@ -278,7 +325,7 @@ export function attachVerdict(form, panel, context, bar = null) {
     let outcome;
     let ms = 0;
     try {
-      ({ outcome, ms } = provisionalOutcome(ctx, measurements, checklist));
+      ({ outcome, ms } = provisionalOutcome(ctx, measurements, checklist, why));
     } catch (error) {
       // A fault in the mirror must never stop the inspector recording: say so and carry on.
       console.error("sitecheck: the phone's re-check failed:", error);
@@ -287,9 +334,12 @@ export function attachVerdict(form, panel, context, bar = null) {
       if (hidden) hidden.value = JSON.stringify({ engine: "phone mirror", failed: String(error).slice(0, 200) });
       return null;
     }
+    const nothingYet = !unreadable.length && !Object.keys(measurements).length &&
+      !Object.keys(checklist).length;
+    const kind = verdictKind(outcome, nothingYet, why);
     render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || u.name })), ms,
-      ctx.basis);
-    renderBar(bar, outcome);
+      ctx, kind, form);
+    renderBar(bar, outcome, kind);
     const verdict = verdictOf(outcome);
     if (hidden) hidden.value = verdict ? JSON.stringify(verdict) : "";
     panel.dataset.verdictReady = "1";
@@ -319,11 +369,4 @@ export function serverAgrees(provisional, answer) {
     JSON.stringify(codes) === JSON.stringify(provisional.reasons);
 }
 
-// On the online as-built form the context is in the page; the offline page attaches itself.
-const contextNode = document.getElementById("verdict-context");
-if (contextNode) {
-  const form = document.querySelector("form.record-form");
-  const panel = document.querySelector("[data-provisional-verdict]");
-  const bar = document.querySelector("[data-verdict-bar]");
-  if (form && panel) attachVerdict(form, panel, JSON.parse(contextNode.textContent), bar);
-}
+

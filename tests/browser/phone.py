@@ -243,3 +243,50 @@ def _serve(db_path: str, port: int, die_after_acks: int, csrf_time_limit: int) -
 
 if __name__ == "__main__" and sys.argv[1:2] == ["serve"]:
     _serve(sys.argv[2], int(sys.argv[3]), int(sys.argv[4]), int(sys.argv[5]))
+
+
+# --- the as-built form online, through the phone's outbox -----------------------------------------
+
+
+def open_record_form(page: Page, site_id: str, bearing_id: str) -> None:
+    """The online as-built form of one bearing, once its script has read any draft."""
+    page.goto(f"/sites/{site_id}/bearings/{bearing_id}/record")
+    expect(page.locator("body")).to_have_attribute("data-capture-ready", "1")
+
+
+def fill_as_designed(page: Page, design: dict, *, photo: bytes | None = None) -> None:
+    """Type the designed values in, as an inspector would who found it built as drawn."""
+    page.fill("#bearing_length", f"{design['beam']['bearing_length']:g}")
+    pad = design.get("padstone")
+    page.check(f"input[name=padstone_present][value={'yes' if pad else 'no'}]")
+    if pad:
+        page.fill("#padstone_length", f"{pad['length']:g}")
+        page.fill("#padstone_width", f"{pad['width']:g}")
+        page.fill("#padstone_depth", f"{pad['depth']:g}")
+    page.fill("#wall_thickness", f"{design['wall']['thickness']:g}")
+    if design["wall"]["a1"] is not None:
+        page.fill("#a1", f"{design['wall']['a1']:g}")
+    page.select_option("#masonry_group", str(design["masonry"]["group"]))
+    page.check("input[name=bedded][value=yes]")
+    if photo is not None:
+        page.set_input_files(
+            "#photos", files=[{"name": "IMG_2001.jpg", "mimeType": "image/jpeg", "buffer": photo}]
+        )
+        expect(page.locator("[data-photo-list] li")).to_have_count(1)
+
+
+# What the phone holds as drafts, without the photo bytes.
+DRAFTS = """async () => {
+  const db = await new Promise((ok, no) => {
+    const r = indexedDB.open("sitecheck");
+    r.onsuccess = () => ok(r.result);
+    r.onerror = () => no(r.error);
+  });
+  const all = await new Promise((ok) => {
+    const r = db.transaction("drafts").objectStore("drafts").getAll();
+    r.onsuccess = () => ok(r.result);
+  });
+  db.close();
+  return all.map((d) => ({key: d.key, bearing_id: d.bearing_id, values: d.values,
+    photos: d.photos.map((p) => ({uuid: p.uuid, size: p.blob.size})), updated_at: d.updated_at}));
+}"""

@@ -115,7 +115,7 @@ def test_the_inspector_reads_the_engineers_words_on_the_form_online_and_offline(
     expect(offline).to_contain_text("(as of the site pack)")
     shoot("offline-form")
     # Another bearing, with nothing asked of it: no box.
-    page.get_by_role("button", name="Back to the bearings").tap()
+    page.locator("form[data-offline-form] [data-form-cancel]").tap()
     page.locator("li[data-bearing]", has_text="FF-B6").first.locator("button").tap()
     expect(offline).to_be_hidden()
     context.set_offline(False)

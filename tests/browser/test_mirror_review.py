@@ -22,7 +22,7 @@ async (cases) => {
   const { recheckRecord } = await import("/static/js/bearing/record.js");
   return cases.map((c) => {
     try {
-      return recheckRecord(c.design, c.measurements, c.checklist, c.basis, c.settings);
+      return recheckRecord(c.design, c.measurements, c.checklist, c.basis, c.settings, c.why ?? null);
     } catch (error) {
       return { crashed: `${error.name}: ${error.message}\\n${error.stack}` };
     }

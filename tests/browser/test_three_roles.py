@@ -43,8 +43,10 @@ def test_inspector_records_engineer_decides_contractor_releases(page, live_serve
     page.set_input_files("#photos", str(photo))
     shoot("inspector-form")
     page.get_by_role("button", name="Send and re-check").tap()
+    # Through the phone's outbox, with its photo, then the server's re-check.
+    page.wait_for_url("**/records/**")
     verdict = page.locator("[data-verdict]")
-    expect(verdict).to_have_attribute("data-verdict", "review")
+    expect(verdict).to_have_attribute("data-verdict", "fails")
     expect(page.locator(".reasons")).to_contain_text("Minimum lintel end bearing")
     expect(page.locator(".photos img")).to_have_count(1)
     shoot("inspector-verdict")

@@ -16,7 +16,7 @@ import { basisFromDict, ec6UkNa } from "./basis.js";
 import { InputError } from "./errors.js";
 import { withDefaults } from "./inputs.js";
 import { checkBearing } from "./recheck.js";
-import { asBuiltInput, blocking, review } from "./review.js";
+import { asBuiltInput, blocking, couldNotMeasure, review } from "./review.js";
 import {
   DEFAULT_SETTINGS,
   checklistFromDict,
@@ -26,8 +26,9 @@ import {
 
 // design: the bearing's design input as input_to_dict writes it; measurements and checklist
 // as the record holds them; basis: CodeBasis.to_dict() of the site (null: EC6 + UK NA);
-// settings: ReviewSettings.as_dict() of the site (null or empty: the defaults).
-export function recheckRecord(design, measurements, checklist, basis, settings) {
+// settings: ReviewSettings.as_dict() of the site (null or empty: the defaults);
+// whyNotMeasured: for a bearing that could not be measured, its code (review.js UNMEASURABLE).
+export function recheckRecord(design, measurements, checklist, basis, settings, whyNotMeasured = null) {
   // services.basis_for and settings_for: a site with none holds the defaults.
   const codeBasis = basis ? basisFromDict(basis) : ec6UkNa();
   const designInput = withDefaults(design);
@@ -48,6 +49,12 @@ export function recheckRecord(design, measurements, checklist, basis, settings) 
   try {
     m = measurementsFromDict(measurements);
     c = checklistFromDict(checklist);
+    if (whyNotMeasured !== null && whyNotMeasured !== undefined) {
+      // Nothing built to compare: the design as it stands, and the could-not-measure review.
+      s = hasSettings(settings) ? settingsFromDict(settings) : DEFAULT_SETTINGS;
+      const reasons = couldNotMeasure(whyNotMeasured, m, c, s);
+      return { ...out, as_built: designInput, result: designResult, reasons, blocking: blocking(reasons) };
+    }
     built = asBuiltInput(designInput, m);
     out.as_built = built;
     result = checkBearing(built, codeBasis);

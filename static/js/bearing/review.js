@@ -13,8 +13,9 @@
 
 import { BS5628 } from "./basis.js";
 import { isSpreader } from "./checks.js";
+import { InputError } from "./errors.js";
 import { formatFixed, formatG, pyStr } from "./format.js";
-import { DEFAULT_SETTINGS } from "./serial.js";
+import { DEFAULT_SETTINGS, MEASUREMENT_FIELDS } from "./serial.js";
 
 export const BLOCKS = "blocks";
 export const ADVISORY = "advisory";
@@ -251,7 +252,8 @@ function spreaderLost(design, asBuilt, basis) {
       reason(
         "spreader-lost",
         BLOCKS,
-        "The design's padstone counted as a spreader (1.5 f_d); as built it is too " +
+        "The design's padstone counted as a spreader (design strength raised to 1.5 f_d); " +
+          "as built it is too " +
           "shallow, too short or narrower than the wall to count as one.",
       ),
     ];
@@ -378,7 +380,7 @@ function materialReasons(design, designResult, asBuilt, result) {
         "masonry-weaker",
         BLOCKS,
         `The masonry is weaker than designed: ${describe(am)} ` +
-          `(f_k ${formatFixed(afk, 2)} N/mm²) ` +
+          `(characteristic strength f_k ${formatFixed(afk, 2)} N/mm²) ` +
           `against ${describe(dm)} (f_k ${formatFixed(dfk, 2)} N/mm²).`,
         { design_f_k: dfk, as_built_f_k: afk },
       ),
@@ -389,7 +391,7 @@ function materialReasons(design, designResult, asBuilt, result) {
         "masonry-unverified",
         BLOCKS,
         `The masonry differs from the design (${describe(am)} against ${describe(dm)}), ` +
-          `whose f_k of ${formatFixed(dfk, 2)} N/mm² was declared: ` +
+          `whose characteristic strength f_k of ${formatFixed(dfk, 2)} N/mm² was declared: ` +
           "the re-check keeps it, so confirm it holds.",
         { design_f_k: dfk },
       ),
@@ -489,4 +491,44 @@ function bearingTypeReasons(design, asBuilt, designResult, s) {
 
 export function blocking(reasons) {
   return reasons.filter((r) => r.severity === BLOCKS).length;
+}
+
+// Why a bearing could not be measured: a code of ours and the words the screens use.
+export const UNMEASURABLE = [
+  ["covered", "already covered up"],
+  ["no-access", "no access to it"],
+  ["unsafe", "not safe to reach"],
+  ["other", "another reason, given in the notes"],
+];
+
+// The review of a record saying the bearing could not be measured: it goes to the engineer
+// and blocks release, with whatever the checklist saw. A measured value on such a record is
+// refused, naming it.
+export function couldNotMeasure(why, m, checklist, s = DEFAULT_SETTINGS) {
+  const found = UNMEASURABLE.find(([code]) => code === why);
+  if (!found) {
+    const codes = UNMEASURABLE.map(([code]) => code).join(", ");
+    throw new InputError("why_not_measured", why, `one of: ${codes}`, "bad-choice");
+  }
+  for (const name of MEASUREMENT_FIELDS) {
+    const value = m[name] ?? null;
+    if (value !== null) {
+      throw new InputError(
+        `measurements.${name}`,
+        value,
+        "nothing measured on a bearing that could not be measured: clear the value, " +
+          "or record the bearing as measured",
+        "measured-but-not-measurable",
+      );
+    }
+  }
+  return [
+    reason(
+      "could-not-measure",
+      BLOCKS,
+      `Could not be measured (${found[1]}): nothing on site confirms this bearing as built.`,
+      { why },
+    ),
+    ...checklistReasons(checklist, s),
+  ];
 }
