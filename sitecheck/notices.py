@@ -154,6 +154,21 @@ def link_for(notice: dict) -> str:
 
 
 SETTINGS_PATH = "/notices"
+# Bearings listed by name per site and kind in one message; the rest are counted, with the
+# page that lists them all (a morning's records can put hundreds in one message).
+LISTED_PER_KIND = 20
+
+
+def list_link(notice: dict) -> str:
+    """The page listing every bearing of this notice's site and kind."""
+    site = notice["site_id"]
+    if notice["kind"] == TO_DECIDE:
+        return f"/review?site={site}"
+    if notice["kind"] == RELEASABLE or (
+        notice["kind"] == REMEDIAL and notice["role_now"] == workflow.CONTRACTOR
+    ):
+        return f"/sites/{site}/release"
+    return f"/sites/{site}/inspect"
 
 
 def _utilisation(u) -> str:
@@ -214,13 +229,20 @@ def compose(person: dict, notices: list[dict], base_url: str) -> tuple[str, str,
             kind = KINDS[code]
             text.append(f"{kind.heading} ({len(by_bearing)}):")
             html.append(f"<h3>{escape(kind.heading)} ({len(by_bearing)})</h3><ul>")
-            for n in by_bearing.values():
+            listed = list(by_bearing.values())
+            for n in listed[:LISTED_PER_KIND]:
                 url = base_url + link_for(n)
                 text.append(f"- {line_for(n)}")
                 text.append(f"  {url}")
                 html.append(
                     f'<li>{escape(line_for(n))}<br><a href="{escape(url)}">{escape(url)}</a></li>'
                 )
+            if len(listed) > LISTED_PER_KIND:
+                more = f"and {len(listed) - LISTED_PER_KIND} more, all listed at"
+                url = base_url + list_link(listed[0])
+                text.append(f"- {more}")
+                text.append(f"  {url}")
+                html.append(f'<li>{escape(more)} <a href="{escape(url)}">{escape(url)}</a></li>')
             html.append("</ul>")
             text.append("")
     policy = (

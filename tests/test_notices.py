@@ -523,3 +523,29 @@ def test_switching_mail_on_later_mails_nothing_of_the_past(quiet_app, tmp_path):
     (to_addr,) = db.execute("SELECT to_addr FROM outgoing_mail WHERE kind = 'notice'").fetchone()
     assert to_addr == "sam@example.test"
     db.conn.close()
+
+
+def test_a_message_names_at_most_twenty_bearings_a_kind_and_links_to_the_rest():
+    """A morning's records can put hundreds of bearings in one message: the first twenty
+    are named, the rest counted, with the page that lists them all."""
+    rows = [
+        {
+            "site_id": "s1",
+            "site_name": "Invented Mill",
+            "bearing_id": f"b{n}",
+            "reference": f"B{n:03d}",
+            "location": "",
+            "kind": "to-decide",
+            "role_now": "engineer",
+            "passed": True,
+            "utilisation": 0.95,
+            "reasons": [],
+            "state": "engineer to decide",
+        }
+        for n in range(25)
+    ]
+    subject, text, html = notices.compose({"user_name": "Esme"}, rows, BASE)
+    assert subject == "sitecheck: 25 bearings need you on Invented Mill"
+    assert "B019" in text and "B020" not in text
+    assert f"- and 5 more, all listed at\n  {BASE}/review?site=s1" in text
+    assert f'href="{BASE}/review?site=s1"' in html

@@ -1175,7 +1175,8 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
 
     Highest utilisation first (of the latest record, or of the worst record after release),
     then most blocking reasons, then longest waiting (the review page orders by severity on
-    top of this). Each row is the bearing plus ``site_name``, ``utilisation``, ``passed``,
+    top of this). Each row is the bearing (without its design and trace, which a queue of a
+    thousand would read for nothing) plus ``site_name``, ``utilisation``, ``passed``,
     ``blocking``, ``measured_at`` and ``reasons`` of its latest record, and
     ``records_after_release``, ``photos_after_release``, ``worst_after_release``,
     ``first_after_release`` (None when nothing is waiting).
@@ -1183,7 +1184,9 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
     return many(
         db,
         f"""
-        SELECT b.*, s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at,
+        SELECT b.id, b.site_id, b.reference, b.location, b.revision, b.state,
+               b.state_changed_at, b.latest_record_uuid,
+               s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at,
                r.reasons, r.design_revision < b.revision AS older_revision,
                ev.records_after_release, ev.photos_after_release, ev.worst_after_release,
                ev.first_after_release

@@ -570,6 +570,13 @@ def m011_notices(db: sqlite_utils.Database) -> None:
         """
     )
     db.execute("ALTER TABLE outgoing_mail ADD COLUMN html TEXT")
+    # "Since you last looked" reads a site's bearings changed after a moment, and the header
+    # counts those waiting for the engineer: from these indexes alone, without reading each
+    # bearing's row (its design and trace make it large).
+    db.execute(
+        "CREATE INDEX bearings_site_changed ON bearings(site_id, state_changed_at, state, id)"
+    )
+    db.execute("CREATE INDEX bearings_state_changed ON bearings(state, site_id, state_changed_at)")
 
 
 @MIGRATIONS()

@@ -310,20 +310,24 @@ def since_last_looked(
     )
     where_site = "AND m.site_id = ?" if site_id else ""
     params: list = [user_id] + ([site_id] if site_id else [])
+    # The kind is worked out from the index alone (site, changed, state, id), so only the
+    # bearings that count are read whole. Each of the person's sites with when they last looked first, so that the bearings are
+    # read by the (site, changed) index from that moment on only.
     return many(
         db,
         f"""
-        SELECT * FROM (
-            SELECT b.site_id, b.id AS bearing_id, b.reference, b.state_changed_at AS at,
-                   coalesce(v.looked_at, m.created_at) AS looked_at,
-                   CASE {cases} END AS kind
+        WITH mine AS MATERIALIZED (
+            SELECT m.site_id, m.role, coalesce(v.looked_at, m.created_at) AS looked_at
             FROM memberships m
-            JOIN bearings b ON b.site_id = m.site_id
             LEFT JOIN site_visits v ON v.user_id = m.user_id AND v.site_id = m.site_id
             WHERE m.user_id = ? {where_site}
-              AND b.state_changed_at > coalesce(v.looked_at, m.created_at)
-        ) WHERE kind IS NOT NULL
-        ORDER BY site_id, reference COLLATE NOCASE
+        )
+        SELECT b.site_id, b.id AS bearing_id, b.reference, b.state_changed_at AS at,
+               m.looked_at, CASE {cases} END AS kind
+        FROM mine m
+        JOIN bearings b ON b.site_id = m.site_id AND b.state_changed_at > m.looked_at
+        WHERE (CASE {cases} END) IS NOT NULL
+        ORDER BY b.site_id, b.reference COLLATE NOCASE
         """,
         params,
     )

@@ -62,12 +62,12 @@ def _jsonable(value):
 def home():
     db = get_db()
     sites = store.sites_for_user(db, g.user["id"])
-    queue = store.review_queue(db, user_id=g.user["id"])
     invitations = store.open_invitations_for_email(db, email=g.user["email"])
     since = since_you_looked(store.since_last_looked(db, user_id=g.user["id"]))
     for s in sites:
         s["since"] = since.get(s["id"], [])
-    return render_page("home.html", sites=sites, queue_count=len(queue), invitations=invitations)
+    queue_count = store.to_decide_counts(db, user_id=g.user["id"])["waiting"]
+    return render_page("home.html", sites=sites, queue_count=queue_count, invitations=invitations)
 
 
 # A kind's references listed by name; past this many the count says the rest.
