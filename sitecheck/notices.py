@@ -271,13 +271,13 @@ def make_messages(db, base_url: str, *, now: datetime | None = None) -> int:
     for n in store.waiting_notices(db, now=now):
         by_person.setdefault(n["user_id"], []).append(n)
     queued = 0
-    for _user_id, notices in by_person.items():
-        holding = [n for n in notices if still_holds(n)]
-        overtaken = [n["id"] for n in notices if not still_holds(n)]
+    for theirs in by_person.values():
+        holding = [n for n in theirs if still_holds(n)]
+        overtaken = [n["id"] for n in theirs if not still_holds(n)]
         with store.transaction(db):
             # Claimed here, under the write lock: another process that read the same
             # notices finds them taken and sends nothing.
-            ids = [n["id"] for n in notices]
+            ids = [n["id"] for n in theirs]
             if not store.notices_still_waiting(db, ids=ids, now=now):
                 continue
             store.notices_dropped(db, ids=overtaken, now=now)
