@@ -501,7 +501,23 @@ def m010_could_not_measure(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m011_notices(db: sqlite_utils.Database) -> None:
+def m011_leases(db: sqlite_utils.Database) -> None:
+    """Work that one process of several must do alone (sending the mail queue): whoever
+    holds a named lease until a time does it; a holder that dies lets it run out."""
+    db.execute(
+        """
+        CREATE TABLE leases (
+            name TEXT PRIMARY KEY CHECK (length(name) > 0),
+            holder TEXT NOT NULL CHECK (length(holder) > 0),
+            taken_at TEXT NOT NULL,
+            until TEXT NOT NULL
+        ) STRICT
+        """
+    )
+
+
+@MIGRATIONS()
+def m012_notices(db: sqlite_utils.Database) -> None:
     """Notices: who is told by e-mail that it is their turn, and when each person last
     looked at a site (for "since you last looked").
 
@@ -580,7 +596,7 @@ def m011_notices(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m012_decision_signatures(db: sqlite_utils.Database) -> None:
+def m013_decision_signatures(db: sqlite_utils.Database) -> None:
     """A decision keeps the engineer's name as it was when they decided (an account's name
     may change later; the record must not), and an acceptance of a bearing that fails as
     built keeps what failed (``accepted_failing``: the governing check, its title and the
@@ -593,7 +609,7 @@ def m012_decision_signatures(db: sqlite_utils.Database) -> None:
 
 
 @MIGRATIONS()
-def m013_sign_offs(db: sqlite_utils.Database) -> None:
+def m014_sign_offs(db: sqlite_utils.Database) -> None:
     """The engineer's sign-off of a site record: who signed (the name as signed), when,
     the statement, and what it covers (``covers``: the bearings by state, the records and
     photos, and the last history entry, as they were when it was signed). Append-only:
