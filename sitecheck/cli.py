@@ -7,7 +7,8 @@ import json
 import sys
 from pathlib import Path
 
-from .bearing import BASES, EC6_UK, basis_named
+from .bearing import BASES, EC6_UK, InputError, basis_named
+from .bearing.format import utilisation
 from .bearing.remedy import remedy
 from .bearing.review import BLOCKS
 from .config import ConfigError, Settings, load_settings
@@ -37,6 +38,15 @@ def main(argv: list[str] | None = None) -> int:
     )
     check.add_argument(
         "--no-hints", action="store_true", help="skip the remedy hints for failing bearings"
+    )
+    check.add_argument(
+        "--basis-value",
+        action="append",
+        default=[],
+        metavar="NAME=VALUE",
+        help="a value of the --basis code basis for this run, e.g. alpha_cc=1.0, "
+        "gamma_M_ec6.2|I=2.5 or bearing_type_factors=1.25,1.5,2 (repeatable); a value that "
+        "makes no physical sense is refused by name",
     )
 
     sub.add_parser("columns", help="list the schedule's columns")
@@ -587,7 +597,42 @@ def verdict(outcome: RowOutcome) -> str:
     return "within design"
 
 
+def _basis_overrides(name: str, items: list[str]) -> dict:
+    """``--basis-value`` items as overrides of the named basis. Only the shape is read
+    here; whether a value makes sense is the core's call (it names the value it refuses)."""
+    defaults = basis_named(name).to_dict()
+    out: dict = {}
+    for item in items:
+        key, sep, text = item.partition("=")
+        key, text = key.strip(), text.strip()
+        if not sep or not key:
+            raise InputError("--basis-value", item, "NAME=VALUE, e.g. alpha_cc=1.0", "bad-shape")
+        table, dot, entry = key.partition(".")
+        if dot and isinstance(defaults.get(table), dict):
+            out.setdefault(table, dict(defaults[table]))[entry] = _typed_text(text)
+        elif key == "bearing_type_factors":
+            out[key] = [_typed_text(part) for part in text.split(",")]
+        else:
+            out[key] = _typed_text(text)
+    return out
+
+
+def _typed_text(text: str) -> object:
+    """A number where the text is one, true/false for yes/no words, else the text."""
+    try:
+        return float(text)
+    except ValueError:
+        pass
+    words = {"yes": True, "true": True, "no": False, "false": False}
+    return words.get(text.lower(), text)
+
+
 def _check(args) -> int:
+    try:
+        basis = basis_named(args.basis, **_basis_overrides(args.basis, args.basis_value))
+    except InputError as e:
+        print(f"sitecheck: --basis-value: {e}", file=sys.stderr)
+        return 2
     try:
         data = args.schedule.read_bytes()
     except OSError as e:
@@ -598,7 +643,7 @@ def _check(args) -> int:
         print(f"sitecheck: {message}", file=sys.stderr)
         return 2
     parsed = read_schedule(data, args.basis)
-    outcomes, errors = recheck_rows(parsed, basis_named(args.basis))
+    outcomes, errors = recheck_rows(parsed, basis)
     hints = {}
     if not args.no_hints:
         for o in outcomes:
@@ -633,7 +678,8 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
     for o in outcomes:
         r = o.current
         g = r.governing_check
-        util = "  n/a " if r.utilisation == float("inf") else f"{r.utilisation:6.2f}"
+        # No capacity at all is a failure and reads as one (never "n/a").
+        util = f"{utilisation(r.utilisation):>6}"
         codes = ", ".join(reason.code for reason in o.reasons) or "-"
         print(
             f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}"

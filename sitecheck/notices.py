@@ -25,6 +25,7 @@ from datetime import datetime
 from html import escape
 
 from sitecheck import store, workflow
+from sitecheck.bearing.format import utilisation as _utilisation
 from sitecheck.cli import CAUTION
 
 TO_DECIDE = "to-decide"
@@ -169,10 +170,6 @@ def list_link(notice: dict) -> str:
     ):
         return f"/sites/{site}/release"
     return f"/sites/{site}/inspect"
-
-
-def _utilisation(u) -> str:
-    return "no capacity (fails)" if u is None else f"{u:.2f}"
 
 
 def line_for(notice: dict) -> str:

@@ -21,6 +21,7 @@ from sitecheck.bearing import (
     check_bearing,
     ec6_uk_na,
 )
+from sitecheck.bearing.format import utilisation as format_utilisation
 from sitecheck.bearing.remedy import Remedy, remedy
 from sitecheck.bearing.review import (
     BLOCKS,
@@ -397,7 +398,7 @@ def decide(
         if not confirmed_failing:
             raise AcceptFailingRefused(
                 f"Bearing {bearing['reference']} fails as built ({failing['title']}, "
-                f"utilisation {_utilisation_words(failing['utilisation'])}): tick the "
+                f"utilisation {format_utilisation(failing['utilisation'])}): tick the "
                 "confirmation that you accept it although it fails.",
                 "confirm_failing",
             )
@@ -417,10 +418,6 @@ def decide(
         engineer_name=engineer_name,
         accepted_failing=failing,
     )
-
-
-def _utilisation_words(u: float | None) -> str:
-    return "no capacity" if u is None else f"{u:.2f}"
 
 
 def release(

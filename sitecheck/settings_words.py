@@ -12,10 +12,12 @@ from __future__ import annotations
 BASIS_LABELS: dict[str, tuple[str, str]] = {
     "gamma_c": ("Partial factor for concrete γ_c", ""),
     "alpha_cc": ("Long-term coefficient α_cc", ""),
+    "alpha_cc_pl": ("Long-term coefficient for plain concrete α_cc,pl", ""),
     "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", ""),
     "padstone_spread_deg": ("Spread through the padstone", "°"),
     "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²"),
     "f_m_max": ("Greatest mortar strength f_m", "N/mm²"),
+    "collar_joint_factor": ("Factor on K for a wall with a collar joint", ""),
     "masonry_spread_deg": ("Spread through the masonry", "°"),
     "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", ""),
     "spreader_min_depth": ("Spreader: least depth", "mm"),
@@ -35,12 +37,28 @@ BASIS_LABELS: dict[str, tuple[str, str]] = {
     "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm"),
 }
 
+# The code basis's yes/no values, with their question; shown as ticks in their group.
+BASIS_FLAGS: dict[str, str] = {
+    "spreader_route_for_groups_2_to_4": "Allow the spreader route for Groups 2 to 4",
+    "plain_partial_area_enhancement": (
+        "Allow the partially loaded area enhancement √(A_c1/A_c0) for plain padstones"
+    ),
+}
+
+# The settings page's groups, scalars and yes/no values together, in its order.
 BASIS_GROUPS = (
     (
         "Concrete padstone (EN 1992-1-1)",
-        ("gamma_c", "alpha_cc", "plb_limit_factor", "padstone_spread_deg"),
+        (
+            "gamma_c",
+            "alpha_cc",
+            "alpha_cc_pl",
+            "plain_partial_area_enhancement",
+            "plb_limit_factor",
+            "padstone_spread_deg",
+        ),
     ),
-    ("Masonry strength (EC6)", ("f_b_max", "f_m_max")),
+    ("Masonry strength (EC6)", ("f_b_max", "f_m_max", "collar_joint_factor")),
     (
         "Concentrated loads (EC6 6.1.3)",
         (
@@ -49,6 +67,7 @@ BASIS_GROUPS = (
             "spreader_min_depth",
             "spreader_length_factor",
             "spreader_stress_factor",
+            "spreader_route_for_groups_2_to_4",
             "max_eccentricity_ratio",
         ),
     ),
@@ -67,15 +86,19 @@ BASIS_GROUPS = (
     ),
 )
 
-# The yes/no value of the code basis, and its question on the settings page.
-SPREADER_FLAG = "spreader_route_for_groups_2_to_4"
-SPREADER_FLAG_LABEL = "Allow the spreader route for Groups 2 to 4"
+# The creep tables of EC6 6.1.2.2, one row per unit material: name → heading.
+CREEP_TABLES = (
+    ("creep_lambda_c", "λ_c, slenderness up to which e_k = 0"),
+    ("creep_phi_inf", "Final creep coefficient φ_∞"),
+)
 
 # Tables of the code basis: name → heading, as the settings page's legends say them.
 TABLE_TITLES = {
     "k_values": "K for f_k = K f_b^0.7 f_m^0.3 (EC6)",
     "gamma_M_ec6": "Partial factor γ_M for masonry (EC6)",
     "gamma_m_bs": "Partial factor γ_m for material (BS 5628-1)",
+    # Both creep tables (CREEP_TABLES) under one heading, a column each.
+    "creep_lambda_c": "Creep eccentricity e_k at mid-height (EC6 6.1.2.2)",
     "bearing_type_factors": "Local bearing factors by bearing type (BS 5628-1)",
 }
 K_MORTARS = ("general", "thin-layer")

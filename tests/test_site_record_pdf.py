@@ -25,10 +25,11 @@ from sitecheck import services, store, workflow
 from sitecheck.bearing import SOURCES, CodeBasis
 from sitecheck.bearing.review import ReviewSettings
 from sitecheck.settings_words import (
+    BASIS_FLAGS,
     BASIS_LABELS,
+    CREEP_TABLES,
     REQUIRED_LABELS,
     REVIEW_LABELS,
-    SPREADER_FLAG,
     TABLE_TITLES,
 )
 from webkit import csrf_token
@@ -187,9 +188,10 @@ def test_code_basis_and_review_settings_read_as_the_settings_page_with_units_and
 
 def test_every_value_of_the_code_basis_and_review_settings_has_the_screens_words(client_as, site):
     for f in dataclasses.fields(CodeBasis):
-        if f.name in ("name", SPREADER_FLAG):
+        if f.name == "name":
             continue
-        assert f.name in BASIS_LABELS or f.name in TABLE_TITLES, f.name
+        worded = (BASIS_LABELS, BASIS_FLAGS, TABLE_TITLES, dict(CREEP_TABLES))
+        assert any(f.name in words for words in worded), f.name
         assert f.name in SOURCES, f.name
     for f in dataclasses.fields(ReviewSettings):
         assert f.name in REVIEW_LABELS or f.name in REQUIRED_LABELS, f.name
@@ -259,3 +261,12 @@ def test_every_page_renders_at_print_size_with_nothing_past_the_margins(
             ):
                 assert grey.crop(box).getextrema()[0] > 240, f"{path.name}: ink in margin {box}"
             assert grey.getextrema()[0] < 100, f"{path.name} is blank"
+
+
+def test_no_number_in_the_record_is_written_with_an_exponent(worked, client_as):
+    """Every figure goes through the core's one formatter: 11,000 mm², never 1.1e+04."""
+    text = " ".join(pages_of(the_pdf(client_as("viewer"), worked)))
+    assert not re.search(r"\d(\.\d+)?[eE][+-]?\d", text), re.search(
+        r".{40}\d(\.\d+)?[eE][+-]?\d.{20}", text
+    )
+    assert re.search(r"\d,\d{3}", text)  # thousands are separated, as the trade writes them

@@ -24,6 +24,7 @@ from fpdf.enums import XPos, YPos
 
 from sitecheck import workflow
 from sitecheck.bearing import SOURCES, basis_named
+from sitecheck.bearing.format import quantity, utilisation
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.cli import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
@@ -40,15 +41,15 @@ from sitecheck.report.summary import (
     who_must_act,
 )
 from sitecheck.settings_words import (
+    BASIS_FLAGS,
     BASIS_GROUPS,
     BASIS_LABELS,
+    CREEP_TABLES,
     GAMMA_M_BS_ROWS,
     GAMMA_M_EC6_ROWS,
     K_MORTARS,
     REQUIRED_LABELS,
     REVIEW_LABELS,
-    SPREADER_FLAG,
-    SPREADER_FLAG_LABEL,
     TABLE_TITLES,
 )
 
@@ -79,6 +80,7 @@ _PLAIN = {
     "Φ": "Phi",
     "λ": "lambda",
     "√": "sqrt",
+    "∞": "infinity",
     "≤": "<=",
     "≥": ">=",
     "≠": "!=",
@@ -124,9 +126,7 @@ def plain(text: str) -> str:
 
 
 def _util(u) -> str:
-    if u is None or (isinstance(u, float) and not math.isfinite(u)):
-        return "no capacity"
-    return f"{u:.2f}"
+    return utilisation(u)
 
 
 def _when(stamp: str | None) -> str:
@@ -140,8 +140,7 @@ def _v(x, unit: str = "") -> str:
         return "—"
     if isinstance(x, bool):
         return "yes" if x else "no"
-    text = f"{x:.4g}" if isinstance(x, float) else str(x)
-    return f"{text} {unit}".strip()
+    return quantity(x, unit)
 
 
 class _Doc(FPDF):
@@ -462,17 +461,12 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
         for name in names:
             if name not in code:
                 continue
-            label, unit = BASIS_LABELS[name]
-            rows.append([label, _with_unit(code[name], unit), _source(name), changed(name)])
-        if title.startswith("Concentrated loads") and SPREADER_FLAG in code:
-            rows.append(
-                [
-                    SPREADER_FLAG_LABEL,
-                    _v(bool(code[SPREADER_FLAG])),
-                    _source(SPREADER_FLAG),
-                    changed(SPREADER_FLAG),
-                ]
-            )
+            if name in BASIS_FLAGS:
+                label, used = BASIS_FLAGS[name], _v(bool(code[name]))
+            else:
+                label, unit = BASIS_LABELS[name]
+                used = _with_unit(code[name], unit)
+            rows.append([label, used, _source(name), changed(name)])
         if rows:
             pdf.h2(title)
             pdf.grid(["value", "used", "default from", ""], rows, widths, size=7.5)
@@ -507,6 +501,19 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
                 [100, 30],
                 size=7.5,
             )
+    creep = [(name, words, code.get(name) or {}) for name, words in CREEP_TABLES]
+    materials = list(dict.fromkeys(m for _n, _w, table in creep for m in table))
+    if materials:
+        pdf.keep(45)
+        pdf.h2(TABLE_TITLES["creep_lambda_c"])
+        for name, _words, _table in creep:
+            pdf.para(f"Default from: {_source(name)}. {changed(name)}", 7.5)
+        pdf.grid(
+            ["unit", *(words for _n, words, _t in creep)],
+            [[m, *(_v(table.get(m)) for _n, _w, table in creep)] for m in materials],
+            [60, 60, 60],
+            size=7.5,
+        )
     factors = code.get("bearing_type_factors") or []
     if factors:
         pdf.keep(35)
@@ -614,6 +621,9 @@ _COMPARED = (
     ("padstone_width", ("padstone", "width"), "mm"),
     ("padstone_depth", ("padstone", "depth"), "mm"),
     ("padstone_concrete", ("padstone", "concrete"), ""),
+    ("padstone_reinforced", ("padstone", "reinforced"), ""),
+    ("padstone_position", ("padstone", "position_across"), ""),
+    ("padstone_offset_across", ("padstone", "offset_across"), "mm"),
     ("wall_thickness", ("wall", "thickness"), "mm"),
     ("a1", ("wall", "a1"), "mm"),
     ("a2", ("wall", "a2"), "mm"),
@@ -621,6 +631,7 @@ _COMPARED = (
     ("masonry_group", ("masonry", "group"), ""),
     ("unit_strength", ("masonry", "unit_strength"), "N/mm²"),
     ("mortar", ("masonry", "mortar"), ""),
+    ("collar_joint", ("masonry", "collar_joint"), ""),
 )
 _EXTRA_LABELS = {
     "offset_along": "Beam offset along the wall",
@@ -840,8 +851,8 @@ def _checks(pdf: _Doc, heading: str, result: dict, *, trace: bool) -> None:
     rows = [
         [
             c["title"] + (" (for information)" if c["kind"] == "informative" else ""),
-            f"{c['demand']:.3g} {c['unit']}",
-            f"{c['capacity']:.3g} {c['unit']}",
+            quantity(c["demand"], c["unit"]),
+            quantity(c["capacity"], c["unit"]),
             _util(c["utilisation"]),
             "✓ passes" if c["passed"] else "✗ fails",
             c["clause"],

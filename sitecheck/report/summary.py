@@ -6,6 +6,7 @@ these, so they are said once, here.
 from __future__ import annotations
 
 from sitecheck import workflow
+from sitecheck.bearing.format import utilisation
 
 # The statement offered to the engineer signing off a site record; they may change it.
 DEFAULT_SIGN_OFF = (
@@ -38,10 +39,9 @@ def decision_title(d: dict) -> str:
     acceptance of a bearing that fails as built says so, with what fails."""
     failing = d.get("accepted_failing")
     if failing:
-        u = failing.get("utilisation")
         return (
             f"Accepted although it fails: {failing.get('title')}, utilisation "
-            f"{'no capacity' if u is None else format(u, '.2f')}"
+            f"{utilisation(failing.get('utilisation'))}"
         )
     return workflow.DECISION_LABELS.get(d["kind"], d["kind"])
 
