@@ -17,7 +17,8 @@ import pytest
 from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
 from test_web_review import login as log_in_as
 
-from sitecheck import mail, notices, store
+from sitecheck import auth, mail, notices, services, store
+from sitecheck.demo import schedule_csv
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
 from smtp_local import LocalMailServer, free_port
@@ -60,6 +61,45 @@ class Person:
 
 def login(client, person: Person) -> None:
     log_in_as(client, person.email, PASSWORD)
+
+
+NAMES = {
+    "engineer": "Esme Engineer",
+    "inspector": "Ivo Inspector",
+    "contractor": "Cora Contractor",
+    "viewer": "Vic Viewer",
+}
+
+
+def make_people(db, *roles: str) -> dict[str, Person]:
+    """One invented person per role, as `sitecheck create-engineer` and invitations make
+    them (the engineer may make sites)."""
+    made = {}
+    for role in roles:
+        u = store.create_user(
+            db,
+            email=f"{role}@example.test",
+            name=NAMES[role],
+            password_hash=auth.hash_password(PASSWORD),
+            may_make_sites=role == "engineer",
+        )
+        made[role] = Person(u["id"], u["email"], u["name"], role)
+    return made
+
+
+def invented_site(db, people: dict[str, Person], name: str = "Invented Mill") -> dict:
+    """A site made by the engineer, everyone else on it in their role, with the demo's
+    schedule (EC6 rows)."""
+    engineer = people["engineer"].id
+    site = new_site(db, name=name, created_by=engineer)
+    for role, person in people.items():
+        if role != "engineer":
+            store.add_membership(
+                db, user_id=person.id, site_id=site["id"], role=role, invited_by=engineer
+            )
+    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
+    assert services.import_schedule(db, site=site, text=text, user_id=engineer).ok
+    return store.get_site(db, site["id"])
 
 
 def send_record(client, site, bearing, **measurements) -> str:
@@ -182,38 +222,17 @@ def test_a_mail_server_that_is_down_neither_fails_nor_loses_the_action(tmp_path,
 @pytest.fixture
 def db_path_people(tmp_path):
     """An app whose mail server is not there (a free port nobody listens on)."""
-    from sitecheck import auth, services
-    from sitecheck.demo import schedule_csv
-
     app = create_app(tmp_path / "down.db", TESTING=True, MAIL=settings(free_port()))
     db = store.open_db(app.config["DB_PATH"])
-    people = {}
-    for role, name in (("engineer", "Esme Engineer"), ("inspector", "Ivo Inspector")):
-        u = store.create_user(
-            db,
-            email=f"{role}@example.test",
-            name=name,
-            password_hash=auth.hash_password(PASSWORD),
-            may_make_sites=role == "engineer",
-        )
-        people[role] = Person(u["id"], u["email"], name, role)
-    site = new_site(db, name="Invented Mill", created_by=people["engineer"].id)
-    store.add_membership(
-        db,
-        user_id=people["inspector"].id,
-        site_id=site["id"],
-        role="inspector",
-        invited_by=people["engineer"].id,
-    )
-    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
-    assert services.import_schedule(db, site=site, text=text, user_id=people["engineer"].id).ok
+    people = make_people(db, "engineer", "inspector")
+    site = invented_site(db, people)
 
     def client_as(role):
         c = app.test_client()
         login(c, people[role])
         return c
 
-    yield app, db, store.get_site(db, site["id"]), people, client_as
+    yield app, db, site, people, client_as
     app.extensions["mail_sender"].stop()
     db.conn.close()
 
@@ -247,29 +266,9 @@ def test_at_most_one_message_a_quarter_hour_with_what_waited_grouped_and_nothing
 ):
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from sitecheck import auth, services
-    from sitecheck.demo import schedule_csv
-
-    eng = store.create_user(
-        db,
-        email="esme@example.test",
-        name="Esme Engineer",
-        password_hash=auth.hash_password(PASSWORD),
-        may_make_sites=True,
-    )
-    ins = store.create_user(
-        db, email="ivo@example.test", name="Ivo Inspector", password_hash="x" * 20
-    )
-    inspector = Person(ins["id"], ins["email"], ins["name"], "inspector")
-    sites = []
-    for name in ("Invented Mill", "Invented Wharf"):
-        s = new_site(db, name=name, created_by=eng["id"])
-        store.add_membership(
-            db, user_id=ins["id"], site_id=s["id"], role="inspector", invited_by=eng["id"]
-        )
-        text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
-        assert services.import_schedule(db, site=s, text=text, user_id=eng["id"]).ok
-        sites.append(store.get_site(db, s["id"]))
+    people = make_people(db, "engineer", "inspector")
+    eng, inspector = people["engineer"], people["inspector"]
+    sites = [invented_site(db, people, name) for name in ("Invented Mill", "Invented Wharf")]
     mill, wharf = sites
     t0 = datetime.now(UTC)
 
@@ -286,7 +285,7 @@ def test_at_most_one_message_a_quarter_hour_with_what_waited_grouped_and_nothing
     assert store.next_notice_due_at(db) == store.timestamp(at(15))
     # ... and this one is decided before its message goes: it is left out.
     b = bearing_named(db, mill, "GF-B2-N")
-    services_decide(db, mill, b, eng["id"])
+    services_decide(db, mill, b, eng.id)
     # Only the inspector hears now (of the remedial work: their first message); the
     # engineer's quarter hour is not over.
     assert notices.make_messages(db, BASE, now=at(14.9)) == 1
@@ -301,7 +300,7 @@ def test_at_most_one_message_a_quarter_hour_with_what_waited_grouped_and_nothing
         server.stop()
     (remedial,) = to(messages, inspector)
     assert "Remedial work" in text_of(remedial) and "GF-B2-N" in text_of(remedial)
-    first, second = [m for m in messages if m["To"] == "esme@example.test"]
+    first, second = to(messages, eng)
     assert "FF-B5" in text_of(first) and "GF-B1-W" not in text_of(first)
     later = text_of(second)
     assert second["Subject"] == "sitecheck: 2 bearings need you on 2 sites"
@@ -317,8 +316,6 @@ def test_at_most_one_message_a_quarter_hour_with_what_waited_grouped_and_nothing
 
 
 def services_decide(db, site, bearing, engineer_id):
-    from sitecheck import services
-
     services.decide(
         db,
         site=site,
@@ -332,31 +329,8 @@ def services_decide(db, site, bearing, engineer_id):
 def test_each_person_turns_each_kind_off_on_their_own_page(quiet_app):
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from sitecheck import auth, services
-    from sitecheck.demo import schedule_csv
-
-    made = {}
-    for role in ("engineer", "inspector", "contractor", "viewer"):
-        u = store.create_user(
-            db,
-            email=f"{role}@example.test",
-            name=role.title(),
-            password_hash=auth.hash_password(PASSWORD),
-            may_make_sites=role == "engineer",
-        )
-        made[role] = Person(u["id"], u["email"], u["name"], role)
-    site = new_site(db, name="Invented Mill", created_by=made["engineer"].id)
-    for role in ("inspector", "contractor", "viewer"):
-        store.add_membership(
-            db,
-            user_id=made[role].id,
-            site_id=site["id"],
-            role=role,
-            invited_by=made["engineer"].id,
-        )
-    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
-    assert services.import_schedule(db, site=site, text=text, user_id=made["engineer"].id).ok
-    site = store.get_site(db, site["id"])
+    made = make_people(db, "engineer", "inspector", "contractor", "viewer")
+    site = invented_site(db, made)
 
     inspector = app.test_client()
     login(inspector, made["inspector"])
@@ -375,9 +349,7 @@ def test_each_person_turns_each_kind_off_on_their_own_page(quiet_app):
     record(db, site, "FF-B5", made["inspector"])
     notices.make_messages(db, BASE)
     b = bearing_named(db, site, "FF-B5")
-    from sitecheck import services as s
-
-    s.decide(
+    services.decide(
         db,
         site=site,
         bearing=b,
@@ -441,27 +413,8 @@ def test_evidence_recorded_after_a_release_is_news_for_the_engineer(quiet_app):
     engineer's hands: a notice, and the header's count, until the engineer answers it."""
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from sitecheck import auth, services
-    from sitecheck.demo import schedule_csv
-
-    made = {}
-    for role in ("engineer", "inspector", "contractor"):
-        u = store.create_user(
-            db,
-            email=f"{role}@example.test",
-            name=role.title(),
-            password_hash=auth.hash_password("a long test password"),
-            may_make_sites=role == "engineer",
-        )
-        made[role] = Person(u["id"], u["email"], u["name"], role)
-    site = new_site(db, name="Invented Mill", created_by=made["engineer"].id)
-    for role in ("inspector", "contractor"):
-        store.add_membership(
-            db, user_id=made[role].id, site_id=site["id"], role=role, invited_by=made["engineer"].id
-        )
-    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
-    assert services.import_schedule(db, site=site, text=text, user_id=made["engineer"].id).ok
-    site = store.get_site(db, site["id"])
+    made = make_people(db, "engineer", "inspector", "contractor")
+    site = invented_site(db, made)
     record(db, site, "GF-B1-E", made["inspector"], hours=2)
     services.release(
         db,
@@ -491,28 +444,16 @@ def test_switching_mail_on_later_mails_nothing_of_the_past(quiet_app, tmp_path):
     first sender to look after a long gap starts from the newest event."""
     app = quiet_app
     db = store.open_db(app.config["DB_PATH"])
-    from sitecheck import auth, services
-    from sitecheck.demo import schedule_csv
-
-    eng = store.create_user(
-        db,
-        email="esme@example.test",
-        name="Esme Engineer",
-        password_hash=auth.hash_password(PASSWORD),
-        may_make_sites=True,
-    )
-    site = new_site(db, name="Invented Mill", created_by=eng["id"])
-    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
-    assert services.import_schedule(db, site=site, text=text, user_id=eng["id"]).ok
-    site = store.get_site(db, site["id"])
-    inspector = Person(eng["id"], eng["email"], eng["name"], "engineer")
+    people = make_people(db, "engineer")
+    site = invented_site(db, people)
+    inspector = people["engineer"]  # the engineer measures: no notice to themself
     t0 = datetime.now(UTC)
     assert notices.make_messages(db, BASE, now=t0) == 0
     record(db, site, "FF-B5", inspector)  # recorded by the engineer: no notice to themself
     # Eleven minutes on, with nobody looking meanwhile: the past is skipped.
     other = store.create_user(db, email="sam@example.test", name="Sam", password_hash="x" * 20)
     store.add_membership(
-        db, user_id=other["id"], site_id=site["id"], role="engineer", invited_by=eng["id"]
+        db, user_id=other["id"], site_id=site["id"], role="engineer", invited_by=inspector.id
     )
     record(db, site, "GF-B1-W", inspector, bearing_length=120.0)
     assert notices.make_messages(db, BASE, now=t0 + timedelta(minutes=11)) == 0
