@@ -82,8 +82,9 @@ def measured(app, db, site, people):
         site=site,
         bearing=deciding,
         kind="accept",
-        reason="Checked as built; accepted (invented).",
+        reason="Checked on site as built and accepted by the engineer (invented).",
         engineer_id=people["engineer"].id,
+        confirmed_failing=True,
     )
     releasing = store.get_bearing(db, site_id=site["id"], bearing_id=deciding["id"])
     services.release(
@@ -382,7 +383,7 @@ def test_jobs_made_before_exports_existed_are_pdfs_after_the_migration(tmp_path)
 
     path = tmp_path / "older.db"
     older = sqlite_utils.Database(path)
-    store.MIGRATIONS.apply(older, stop_before="m012_record_job_kinds")
+    store.MIGRATIONS.apply(older, stop_before="m015_record_job_kinds")
     older.conn.executescript(
         """
         INSERT INTO users (id, email, name, password_hash, created_at)

@@ -77,10 +77,24 @@ class SiteRecord:
     # whole site has.
     selection: store.Selection | None = None
     site_bearings: int | None = None
+    sign_offs: list[dict] = field(default_factory=list)  # the engineer's, oldest first
+    # The whole site's history, which a sign-off covers (a part's own is ``events``).
+    site_events: Iterable[dict] | None = None
 
     @property
     def partial(self) -> bool:
         return self.selection is not None and not self.selection.whole
+
+    @property
+    def sign_off(self) -> dict | None:
+        """The newest sign-off: the one the record carries."""
+        return self.sign_offs[-1] if self.sign_offs else None
+
+    def changes_since(self, sign_off: dict) -> list[dict]:
+        """History entries that changed the record after the sign-off covered it."""
+        last = sign_off["covers"].get("last_event_id") or 0
+        every = self.site_events if self.site_events is not None else self.events
+        return [e for e in every if e["id"] > last and e["kind"] not in store.NOT_A_CHANGE]
 
     def name(self, user_id: int | None) -> str:
         if user_id is None:
@@ -125,6 +139,11 @@ def collect(db, site_id: str, selection: store.Selection | None = None) -> SiteR
         lookup=lambda user_id: store.get_user_by_id(db, user_id),
         selection=selection,
         site_bearings=store.count_bearings(db, site_id=site_id),
+        sign_offs=store.sign_offs_for(db, site_id=site_id),
+        site_events=Walk(
+            lambda: store.site_events(db, site_id=site_id),
+            store.count_events(db, site_id=site_id),
+        ),
     )
 
 

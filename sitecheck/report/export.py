@@ -17,10 +17,13 @@ import csv
 import io
 import json
 import os
+import re
 import tempfile
+import unicodedata
 import zipfile
 from collections.abc import Callable, Iterable
 from dataclasses import fields
+from datetime import UTC, datetime
 from decimal import Decimal
 from pathlib import Path
 from typing import BinaryIO, TextIO
@@ -43,6 +46,17 @@ LINE_END = "\r\n"
 
 # progress(done, total, what): called after each bearing, and at the end.
 Progress = Callable[[int, int, str], None]
+
+
+def file_name(name: str, suffix: str, when: datetime | None = None) -> str:
+    """A file name any system accepts, made from the site's name and a date (today, unless
+    `when` says): ``tanner-s-yard-block-c-2026-03-02-data.json``."""
+    plain = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
+    slug = re.sub(r"[^A-Za-z0-9]+", "-", plain).strip("-").lower()[:40].strip("-") or "site"
+    return f"{slug}-{when or datetime.now(UTC):%Y-%m-%d}{suffix}"
+
+
+JSON_SUFFIX = "-data.json"
 
 
 def _number(x: int | float) -> str:
@@ -467,7 +481,7 @@ def csv_zip(rec: SiteRecord) -> bytes:
     return buffer.getvalue()
 
 
-def _csv_text(header: list[str], rows: Iterable[list]) -> str:
+def _table(header: list[str], rows: Iterable[list]) -> str:
     out = io.StringIO()
     w = csv.writer(out, lineterminator=LINE_END)
     w.writerow(header)
@@ -488,7 +502,7 @@ def schedule_csv(rec: SiteRecord) -> str:
 
 def records_csv(rec: SiteRecord) -> str:
     """records.csv's text (without the byte-order mark the zip's copy has)."""
-    return _csv_text(RECORDS_HEADER, (row for br in rec.bearings for row in records_rows(rec, br)))
+    return _table(RECORDS_HEADER, (row for br in rec.bearings for row in records_rows(rec, br)))
 
 
 # --- JSON -----------------------------------------------------------------------------------
@@ -708,8 +722,11 @@ def write_json(
         rec.name(e["user_id"])
         put(("\n" if first else ",\n") + _dumps(_without(e, "site_id")))
         first = False
+    for signed in rec.sign_offs:
+        rec.name(signed["engineer_id"])
     people = {str(k): v for k, v in sorted(rec.names.items())}
     put('\n],\n"people":' + _dumps(people))
+    put(',\n"sign_offs":' + _dumps(rec.sign_offs))
     put(',\n"texts":' + _dumps(texts.as_dict()) + "\n}\n")
 
 

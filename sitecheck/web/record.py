@@ -16,8 +16,6 @@ are kept under the app's folder.
 
 from __future__ import annotations
 
-import re
-import unicodedata
 from datetime import UTC, datetime
 from pathlib import Path
 
@@ -43,12 +41,15 @@ from wtforms.validators import Length, Optional
 
 from sitecheck import store, workflow
 from sitecheck.bearing import InputError
+from sitecheck.report import export
 from sitecheck.report.collect import selection_words
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
 from sitecheck.report.jobs import KINDS, RecordJobs, TooManyRecords, data_export, site_record
+from sitecheck.report.summary import DEFAULT_SIGN_OFF, covers_words
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
 from sitecheck.web.auth import login_required
+from sitecheck.web.decision_forms import SignOffForm
 from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("record", __name__)
@@ -194,10 +195,8 @@ def record_jobs() -> RecordJobs:
 
 def safe_filename(name: str, suffix: str, when: datetime | None = None) -> str:
     """A file name any system accepts, made from the site's name and a date (today, unless
-    `when` says)."""
-    plain = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
-    slug = re.sub(r"[^A-Za-z0-9]+", "-", plain).strip("-").lower()[:40].strip("-") or "site"
-    return f"{slug}-{when or datetime.now(UTC):%Y-%m-%d}{suffix}"
+    `when` says); the PDF names the data export by the same rule."""
+    return export.file_name(name, suffix, when)
 
 
 @page_rule(bp, "/sites/<site_id>/record")
@@ -207,13 +206,31 @@ def site(site_id):
     return _record_page(found, role)
 
 
-def _record_page(found: dict, role: str, part_form: PartForm | None = None, status: int = 200):
+def _record_page(
+    found: dict,
+    role: str,
+    *,
+    sign_off_form=None,
+    part_form: PartForm | None = None,
+    status: int = 200,
+):
     site_id = found["id"]
     db = get_db()
     jobs = record_jobs()
+    may_sign = workflow.allowed(role, "sign-off")
+    if may_sign and sign_off_form is None:
+        sign_off_form = SignOffForm(
+            formdata=None, engineer_name=g.user["name"], statement=DEFAULT_SIGN_OFF
+        )
     return render_page(
         "record/site.html",
         status=status,
+        sign_off=_sign_off_summary(db, site_id),
+        would_cover=covers_words(
+            store.site_extent(db, site_id=site_id), "the site record as it stands now"
+        ),
+        may_sign=may_sign,
+        sign_off_form=sign_off_form if may_sign else None,
         site={"id": found["id"], "name": found["name"], "address": found["address"]},
         role=role,
         bearing_count=store.count_bearings(db, site_id=site_id),
@@ -221,6 +238,44 @@ def _record_page(found: dict, role: str, part_form: PartForm | None = None, stat
         part_form=part_form or PartForm(formdata=None),
         part_make=url_for("record.make_file", site_id=site_id, kind="pdf"),
     )
+
+
+@bp.post("/sites/<site_id>/record/sign-off")
+@login_required
+def sign_off(site_id):
+    """The engineer signs the site record off as it stands now; the next PDF carries it."""
+    found, role = site_for(site_id, "sign-off")
+    form = SignOffForm()
+    if not form.validate_on_submit():
+        return _record_page(found, role, sign_off_form=form, status=400)
+    signed = store.add_sign_off(
+        get_db(),
+        site_id=site_id,
+        engineer_id=g.user["id"],
+        engineer_name=form.engineer_name.data,
+        statement=form.statement.data,
+    )
+    flash(
+        f"Signed off by {signed['engineer_name']}. The site record made from now on carries "
+        "this sign-off on its first page."
+    )
+    return redirect(url_for("record.site", site_id=site_id))
+
+
+def _sign_off_summary(db, site_id: str) -> dict | None:
+    """The newest sign-off, what it covers in words, and how much changed since."""
+    signed = store.latest_sign_off(db, site_id=site_id)
+    if signed is None:
+        return None
+    return {
+        "engineer_name": signed["engineer_name"],
+        "statement": signed["statement"],
+        "signed_at": signed["created_at"],
+        "covers": covers_words(signed["covers"]),
+        "changes_since": store.changes_since(
+            db, site_id=site_id, event_id=signed["covers"].get("last_event_id")
+        ),
+    }
 
 
 def _file_card(db, jobs: RecordJobs, site_id: str, kind: str) -> dict:
@@ -270,7 +325,7 @@ def make_file(site_id, kind):
         form = PartForm()
         if not form.validate_on_submit():
             _date_message(form)
-            return _record_page(found, role, form, status=400)
+            return _record_page(found, role, part_form=form, status=400)
         selection = form.selection()
         if selection.whole:
             selection = None

@@ -62,6 +62,7 @@ from sitecheck.web.record_form import (
     designed_text,
     phone_words,
 )
+from sitecheck.web.review import engineer_words
 from sitecheck.web.symbols import SYMBOL_WORDS
 
 bp = Blueprint("sync", __name__)
@@ -184,6 +185,7 @@ def pack(site_id):
     site, role = site_for(site_id, "record")
     basis = services.basis_for(site)
     bearings = []
+    decisions = store.latest_decisions(get_db(), site_id=site["id"])
     # In survey order, with each bearing's place by reference, so the phone ranks them again
     # as their states change just as the survey list does.
     for b in survey_order(store.list_bearings(get_db(), site_id=site["id"])):
@@ -204,6 +206,10 @@ def pack(site_id):
                 },
                 # Ready-made words beside each field, so the phone shows what the online form shows.
                 "designed": {name: designed_text(b["design_input"], name) for name in SPECS},
+                # What the engineer asked for, shown on the form with no signal too.
+                "engineer_words": engineer_words(
+                    workflow.standing_decision(b["state"], decisions.get(b["id"]))
+                ),
             }
         )
     response = jsonify(
