@@ -436,3 +436,22 @@ def test_work_folders_an_export_left_behind_are_removed_after_a_day(app, db, sit
     assert how == "started" and record_jobs.wait(job.id, timeout=120)
     assert record_jobs.latest(site["id"], "csv").state == "done"
     assert not old.exists() and fresh.is_dir()
+
+
+def test_a_light_walk_is_the_same_bearings_without_their_calculations(db, site, measured):
+    """The record's lists (by state, decision, time) walk the site light; what they get is
+    the full walk's rows without the design and calculations, and nothing else missing."""
+    full = [b for batch in store.bearing_batches(db, site_id=site["id"]) for b in batch]
+    light = [
+        b for batch in store.bearing_batches(db, site_id=site["id"], light=True) for b in batch
+    ]
+    heavy = store.record_reads.HEAVY
+    assert len(light) == len(full) == len(measured)
+    for whole, lean in zip(full, light, strict=True):
+        assert lean["bearing"] == {k: v for k, v in whole["bearing"].items() if k not in heavy}
+        assert lean["records"] == [
+            {k: v for k, v in r.items() if k not in heavy} for r in whole["records"]
+        ]
+        assert heavy.isdisjoint(lean["bearing"]) and "design_result" in whole["bearing"]
+        for kept in ("photos", "decisions", "releases", "reopenings", "releases_kept"):
+            assert lean[kept] == whole[kept]

@@ -80,6 +80,13 @@ class SiteRecord:
     sign_offs: list[dict] = field(default_factory=list)  # the engineer's, oldest first
     # The whole site's history, which a sign-off covers (a part's own is ``events``).
     site_events: Iterable[dict] | None = None
+    # The same bearings read light: without their design and calculations (store.HEAVY),
+    # for what lists them by state, decision or time. A walk of these costs a fraction.
+    lines: Iterable[BearingRecord] | None = None
+
+    @property
+    def bearing_lines(self) -> Iterable[BearingRecord]:
+        return self.lines if self.lines is not None else self.bearings
 
     @property
     def partial(self) -> bool:
@@ -107,10 +114,10 @@ class SiteRecord:
 
 
 def iter_bearings(
-    db, site_id: str, selection: store.Selection | None = None
+    db, site_id: str, selection: store.Selection | None = None, *, light: bool = False
 ) -> Iterator[BearingRecord]:
     """One bearing at a time, read a batch at a time, so a long site is never held at once."""
-    for batch in store.bearing_batches(db, site_id=site_id, selection=selection):
+    for batch in store.bearing_batches(db, site_id=site_id, selection=selection, light=light):
         for b in batch:
             yield BearingRecord(**b)
 
@@ -140,6 +147,10 @@ def collect(db, site_id: str, selection: store.Selection | None = None) -> SiteR
         selection=selection,
         site_bearings=store.count_bearings(db, site_id=site_id),
         sign_offs=store.sign_offs_for(db, site_id=site_id),
+        lines=Walk(
+            lambda: iter_bearings(db, site_id, selection, light=True),
+            store.count_bearings(db, site_id=site_id, selection=selection),
+        ),
         site_events=Walk(
             lambda: store.site_events(db, site_id=site_id),
             store.count_events(db, site_id=site_id),

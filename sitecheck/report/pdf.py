@@ -337,7 +337,7 @@ def _first_page(pdf: _Doc, rec: SiteRecord) -> None:
     _part_note(pdf, rec)
     _sign_off_block(pdf, rec)
 
-    counts = state_counts([br.bearing["state"] for br in rec.bearings])
+    counts = state_counts([br.bearing["state"] for br in rec.bearing_lines])
     pdf.h2("Bearings by state")
     pdf.grid(
         ["state", "bearings"],
@@ -355,7 +355,7 @@ def _first_page(pdf: _Doc, rec: SiteRecord) -> None:
         for act in acts:
             refs = [
                 br.bearing["reference"]
-                for br in rec.bearings
+                for br in rec.bearing_lines
                 if br.bearing["state"] in act["states"]
             ]
             listed = ", ".join(refs[:LISTED_ON_FIRST_PAGE])
@@ -364,7 +364,7 @@ def _first_page(pdf: _Doc, rec: SiteRecord) -> None:
             rows.append([f"the {act['role']}", "; ".join(act["what"]) + ".", listed])
         pdf.grid(["who", "must", "bearings"], rows, [26, 84, 70], size=8)
     failing = [
-        (br, d) for br in rec.bearings for d in br.decisions[-1:] if d.get("accepted_failing")
+        (br, d) for br in rec.bearing_lines for d in br.decisions[-1:] if d.get("accepted_failing")
     ]
     if failing:
         pdf.h2("Accepted although they fail as built")
@@ -951,9 +951,10 @@ def _prepared_photos(rec: SiteRecord, photo_store, ahead: int = 4):
                 for p in br.photos.get(r["uuid"], [])
             ]
 
-        upcoming = iter(rec.bearings)
+        # Light: only the records and photos are needed here, not the calculations.
+        upcoming = iter(rec.bearing_lines)
         pending = deque(submit(br) for br in islice(upcoming, ahead))
-        for _br in rec.bearings:
+        while pending:
             nxt = next(upcoming, None)
             if nxt is not None:
                 pending.append(submit(nxt))
@@ -1016,10 +1017,10 @@ def _appendix(pdf: _Doc, rec: SiteRecord) -> None:
         "The identifiers, hashes and values before and after each entry are in the data "
         "export (JSON)."
     )
-    refs = {br.bearing["id"]: br.bearing["reference"] for br in rec.bearings}
+    refs = {br.bearing["id"]: br.bearing["reference"] for br in rec.bearing_lines}
     words = Words(
         name=rec.name,
-        measured={r["uuid"]: r["measured_at"] for br in rec.bearings for r in br.records},
+        measured={r["uuid"]: r["measured_at"] for br in rec.bearing_lines for r in br.records},
     )
     after = {e["id"] for e in rec.changes_since(rec.sign_off)} if rec.sign_off else set()
     rows = [

@@ -15,7 +15,7 @@ from datetime import date, timedelta
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, placeholders
+from sitecheck.store.base import decode_row, many, one, placeholders
 from sitecheck.store.bearings import _NEWEST_FIRST, _RECORD_COLUMNS
 from sitecheck.store.migrations import STATES
 
@@ -23,6 +23,9 @@ from sitecheck.store.migrations import STATES
 # batch's decoded calculations (about 100 KB a bearing as Python objects) stay a few tens of MB.
 BATCH = 200
 EVENTS_BATCH = 2000
+# What a light walk leaves out: the design and the calculations, most of a bearing's bytes
+# and nearly all the time spent reading it.
+HEAVY = frozenset({"design_input", "design_result", "result", "reasons"})
 # What a bearing's history holds that a date range can pick it by: each table's time.
 _DATED = (
     ("as_built_records", "measured_at"),
@@ -167,9 +170,10 @@ def bearing_batches(
     site_id: str,
     size: int | None = None,
     selection: Selection | None = None,
+    light: bool = False,
 ) -> Iterator[list[dict]]:
     """The site's bearings (those ``selection`` keeps) in reference order, ``size`` at a
-    time, each as a dict:
+    time, each as a dict (``light``: without the design and the calculations, HEAVY):
 
     ``bearing`` (its row), ``records`` (newest by measured time first), ``photos`` (record
     uuid → its photos, in the order received), ``decisions``, ``releases``, ``reopenings``,
@@ -181,15 +185,16 @@ def bearing_batches(
     where, values = (selection or Selection()).where()
     after: tuple[str, str] | None = None
     while True:
+        rows = _rows_light if light else many
         if after is None:
-            bearings = many(
+            bearings = rows(
                 db,
                 f"SELECT b.* FROM bearings b WHERE b.site_id = ? AND {where} "
                 "ORDER BY b.reference, b.id LIMIT ?",
                 [site_id, *values, size],
             )
         else:
-            bearings = many(
+            bearings = rows(
                 db,
                 f"SELECT b.* FROM bearings b WHERE b.site_id = ? AND {where} "
                 "AND (b.reference, b.id) > (?, ?) ORDER BY b.reference, b.id LIMIT ?",
@@ -197,16 +202,25 @@ def bearing_batches(
             )
         if not bearings:
             return
-        yield _with_their_rows(db, site_id, bearings)
+        yield _with_their_rows(db, site_id, bearings, rows)
         if len(bearings) < size:
             return
         after = (bearings[-1]["reference"], bearings[-1]["id"])
 
 
-def _with_their_rows(db: sqlite_utils.Database, site_id: str, bearings: list[dict]) -> list[dict]:
+def _rows_light(db: sqlite_utils.Database, sql: str, params) -> list[dict]:
+    return [
+        decode_row({k: v for k, v in row.items() if k not in HEAVY})
+        for row in db.query(sql, params)
+    ]
+
+
+def _with_their_rows(
+    db: sqlite_utils.Database, site_id: str, bearings: list[dict], rows=many
+) -> list[dict]:
     ids = [b["id"] for b in bearings]
     marks = placeholders(ids)
-    records = many(
+    records = rows(
         db,
         f"""
         SELECT {_RECORD_COLUMNS} FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
