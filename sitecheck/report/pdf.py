@@ -13,7 +13,7 @@ import io
 import math
 import os
 from collections import deque
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from concurrent.futures import ThreadPoolExecutor
 from itertools import islice
 from pathlib import Path
@@ -225,7 +225,7 @@ class _Doc(PackedPages):
             self.text(self.l_margin, self.get_y() + 0.78 * lh, line)
             self.set_y(self.get_y() + lh)
 
-    def grid(self, header: list[str], rows: list[list[str]], widths: list[float], size=8.0):
+    def grid(self, header: list[str], rows: Iterable[list[str]], widths: list[float], size=8.0):
         """A table that breaks across pages and repeats its heading.
 
         fpdf2's own table lays text out a character at a time, which costs seconds per
@@ -1023,7 +1023,8 @@ def _appendix(pdf: _Doc, rec: SiteRecord) -> None:
         measured={r["uuid"]: r["measured_at"] for br in rec.bearing_lines for r in br.records},
     )
     after = {e["id"] for e in rec.changes_since(rec.sign_off)} if rec.sign_off else set()
-    rows = [
+    # Laid out as they are read: a long site's trail is never held whole.
+    rows = (
         [
             _when(e["at"]),
             rec.name(e["user_id"]),
@@ -1031,7 +1032,7 @@ def _appendix(pdf: _Doc, rec: SiteRecord) -> None:
             ("After the sign-off: " if e["id"] in after else "") + sentence(e, words),
         ]
         for e in rec.events
-    ]
+    )
     pdf.grid(["when", "who", "bearing", "what happened"], rows, [25, 32, 23, 100], size=7)
 
 
