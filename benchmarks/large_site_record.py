@@ -268,7 +268,14 @@ def main() -> int:
         child(*args.child)
         return 0
 
-    from large_site import built_site
+    try:
+        from large_site import built_site
+    except ImportError:
+        print(
+            "benchmarks/large_site.py (issue 13, part A: the large sites' builder) is needed",
+            file=sys.stderr,
+        )
+        return 3
 
     only = set(args.only.split(","))
     sizes = [int(s) for s in args.sizes.split(",")]
