@@ -198,6 +198,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m008_recorded_after_release",
         "m009_record_jobs",
         "m010_could_not_measure",
+        "m011_results_stored_once",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -540,7 +541,7 @@ def test_the_same_record_id_with_other_values_is_refused_naming_what_differs(wor
     assert refused.value.differs == ("measurements",)
     assert "already stored with other values (measurements)" in str(refused.value)
     assert isinstance(refused.value, store.UuidInUse)  # callers that know only the older error
-    assert store.get_record(w.db, site_id=w.site["id"], uuid=uuid) == first.row
+    assert store.record_line(w.db, site_id=w.site["id"], uuid=uuid) == first.row
     assert count(w.db, "as_built_records") == 1
     assert count(w.db, "events") == events
 
@@ -578,7 +579,7 @@ def test_a_record_of_a_bearing_that_could_not_be_measured_is_its_own_kind(world)
         w.db.execute(
             "INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id, "
             "measured_at, received_at, measurements, result, passed, blocking, why_not_measured) "
-            "VALUES (?, ?, 1, ?, ?, ?, '{}', '{}', 1, 1, 'too dark')",
+            "VALUES (?, ?, 1, ?, ?, ?, '{}', X'789C', 1, 1, 'too dark')",
             [
                 str(uuid_module.uuid4()),
                 w.bearing["id"],

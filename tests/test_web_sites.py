@@ -499,7 +499,7 @@ def test_the_bearing_page_shows_design_records_decisions_and_history(client_as, 
 
     data = client_as("engineer").get(url + ".json").get_json()
     assert data["bearing"]["reference"] == "GF-B1-E" and data["bearing"]["revision"] == 1
-    assert data["result"]["governing"] == bearing["design_result"]["governing"]
+    assert data["result"]["governing"] == bearing["design_governing"]
     record = data["records"][0]
     assert record["inspector"] == people["inspector"].name
     assert record["measured_at"].startswith("2026-03-02T09:30:00")
@@ -521,7 +521,7 @@ def test_adding_a_bearing_by_form_checks_it_at_once(client_as, db, site, people)
     assert c.get(url).status_code == 200
     r = post(c, url, GOOD)
     assert r.status_code == 302, all_error_fields(r.data)
-    stored = store.bearing_by_reference(db, site_id=site["id"], reference="T-1")
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="T-1", with_result=True)
     assert r.headers["Location"].endswith(f"/bearings/{stored['id']}")
     assert stored["design_input"]["load"]["reaction"] == pytest.approx(40_000.0)  # kN → N
     assert stored["design_input"]["padstone"]["length"] == 440.0
@@ -627,7 +627,9 @@ def input_value(html: bytes, name: str) -> str | None:
 
 def test_revising_a_bearing_makes_a_new_checked_revision(client_as, db, site):
     c = client_as("engineer")
-    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    bearing = store.bearing_by_reference(
+        db, site_id=site["id"], reference="GF-B1-E", with_result=True
+    )
     url = f"/sites/{site['id']}/bearings/{bearing['id']}/revise"
     form = c.get(url)
     assert form.status_code == 200
@@ -636,7 +638,7 @@ def test_revising_a_bearing_makes_a_new_checked_revision(client_as, db, site):
     data = _form_values(form.data) | {"reaction_kN": "70"}
     r = post(c, url, data)
     assert r.status_code == 302, all_error_fields(r.data)
-    revised = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
+    revised = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"], with_result=True)
     assert revised["revision"] == 2
     assert revised["design_input"]["load"]["reaction"] == pytest.approx(70_000.0)
     assert revised["design_input"]["padstone"] == bearing["design_input"]["padstone"]
@@ -679,7 +681,9 @@ def test_a_good_schedule_imports_every_bearing_with_its_design_result(client_as,
     assert r.status_code == 200
     assert "✓ 3 bearings added".encode() in r.data
     for i in range(1, 4):
-        b = store.bearing_by_reference(db, site_id=site["id"], reference=f"IMP-{i}")
+        b = store.bearing_by_reference(
+            db, site_id=site["id"], reference=f"IMP-{i}", with_result=True
+        )
         assert b is not None and b["design_result"]["checks"]
         assert b["design_input"]["load"]["reaction"] == pytest.approx(40_000.0)
 
@@ -806,7 +810,9 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
     }
     r = post(c, f"/sites/{site['id']}/bearings/new", clay)
     assert r.status_code == 302, all_error_fields(r.data)
-    stored = store.bearing_by_reference(db, site_id=site["id"], reference="CLAY-1")
+    stored = store.bearing_by_reference(
+        db, site_id=site["id"], reference="CLAY-1", with_result=True
+    )
     strengths = stored["design_result"]["strengths"]
     # f_cd = α_cc f_ck / γ_c, EN 1992-1-1 eqn 3.15: C25/30 with α_cc = 1.0, γ_c = 1.5.
     assert strengths["f_cd"] == pytest.approx(1.0 * 25 / 1.5)
@@ -820,7 +826,9 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
         design=services.design_of(stored),
         user_id=stored["created_by"],
     )
-    default_fk = default["design_result"]["strengths"]["f_k"]
+    default_fk = store.get_bearing(
+        db, site_id=site["id"], bearing_id=default["id"], with_result=True
+    )["design_result"]["strengths"]["f_k"]
     assert strengths["f_k"] / default_fk == pytest.approx(0.6 / 0.5)
 
 

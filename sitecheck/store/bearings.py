@@ -24,6 +24,7 @@ from sitecheck.store.base import (
     many,
     new_id,
     one,
+    pack_json,
     parse_timestamp,
     placeholders,
     required_text,
@@ -156,9 +157,9 @@ def add_bearing(
             db.execute(
                 """
                 INSERT INTO bearings (id, site_id, reference, location, revision, design_input,
-                    design_result, design_utilisation, design_passed, state, state_changed_at,
-                    created_by, created_at)
-                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?)
+                    design_governing, design_governing_title, design_utilisation, design_passed,
+                    state, state_changed_at, created_by, created_at)
+                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?)
                 """,
                 [
                     bearing_id,
@@ -166,7 +167,7 @@ def add_bearing(
                     reference,
                     (location or "").strip(),
                     to_json(design_input),
-                    to_json(design_result),
+                    *governing_of(design_result),
                     utilisation,
                     int(bool(passed)),
                     now,
@@ -227,13 +228,21 @@ def _insert_revision(
             revision,
             (location or "").strip(),
             to_json(design_input),
-            to_json(design_result),
+            pack_json(design_result),
             utilisation,
             int(bool(passed)),
             user_id,
             at,
         ],
     )
+
+
+def governing_of(result: dict[str, Any]) -> tuple[str | None, str | None]:
+    """The governing check's code and title in a calculation's result, kept beside the
+    packed trace so that lists need not unpack it."""
+    code = result.get("governing")
+    title = next((c.get("title") for c in result.get("checks", ()) if c.get("code") == code), None)
+    return code, title
 
 
 def revise_bearing(
@@ -270,15 +279,16 @@ def revise_bearing(
         now = timestamp()
         db.execute(
             """
-            UPDATE bearings SET revision = ?, location = ?, design_input = ?, design_result = ?,
-                design_utilisation = ?, design_passed = ?
+            UPDATE bearings SET revision = ?, location = ?, design_input = ?,
+                design_governing = ?, design_governing_title = ?, design_utilisation = ?,
+                design_passed = ?
             WHERE id = ?
             """,
             [
                 revision,
                 location,
                 to_json(design_input),
-                to_json(design_result),
+                *governing_of(design_result),
                 utilisation,
                 int(bool(passed)),
                 bearing_id,
@@ -314,15 +324,33 @@ def revise_bearing(
     return get_bearing(db, site_id=site_id, bearing_id=bearing_id)
 
 
-def get_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> dict | None:
+# A bearing with its current design result, which is kept on its design revision only.
+_WITH_RESULT = """
+    SELECT b.*, v.design_result FROM bearings b
+    JOIN bearing_revisions v ON v.bearing_id = b.id AND v.revision = b.revision
+"""
+
+
+def get_bearing(
+    db: sqlite_utils.Database, *, site_id: str, bearing_id: str, with_result: bool = False
+) -> dict | None:
+    """A bearing; ``with_result`` adds its current ``design_result`` (the whole trace, to
+    show the calculation: every other use has the governing check, utilisation and verdict
+    in the bearing's own columns)."""
+    if with_result:
+        return one(db, f"{_WITH_RESULT} WHERE b.id = ? AND b.site_id = ?", [bearing_id, site_id])
     return one(db, "SELECT * FROM bearings WHERE id = ? AND site_id = ?", [bearing_id, site_id])
 
 
-def bearing_by_reference(db: sqlite_utils.Database, *, site_id: str, reference: str) -> dict | None:
-    """Find by reference, ignoring case and surrounding spaces (as the schedule import needs)."""
+def bearing_by_reference(
+    db: sqlite_utils.Database, *, site_id: str, reference: str, with_result: bool = False
+) -> dict | None:
+    """Find by reference, ignoring case and surrounding spaces (as the schedule import needs);
+    ``with_result`` as for :func:`get_bearing`."""
+    select = _WITH_RESULT if with_result else "SELECT b.* FROM bearings b"
     return one(
         db,
-        "SELECT * FROM bearings WHERE site_id = ? AND reference = ?",
+        f"{select} WHERE b.site_id = ? AND b.reference = ?",
         [site_id, (reference or "").strip()],
     )
 
@@ -330,11 +358,13 @@ def bearing_by_reference(db: sqlite_utils.Database, *, site_id: str, reference: 
 def list_bearings(
     db: sqlite_utils.Database, *, site_id: str, states: Iterable[str] | None = None
 ) -> list[dict]:
-    """A site's bearings by reference, optionally only those in the given states."""
+    """A site's bearings by reference, each with its whole design result, optionally only
+    those in the given states: for the site record and the data export. Lists use
+    :func:`bearing_lines`, which unpacks nothing."""
     if states is None:
         return many(
             db,
-            "SELECT * FROM bearings WHERE site_id = ? ORDER BY reference, id",
+            f"{_WITH_RESULT} WHERE b.site_id = ? ORDER BY b.reference, b.id",
             [site_id],
         )
     wanted = [_state(s) for s in states]
@@ -343,8 +373,8 @@ def list_bearings(
     return many(
         db,
         f"""
-        SELECT * FROM bearings WHERE site_id = ? AND state IN ({placeholders(wanted)})
-        ORDER BY reference, id
+        {_WITH_RESULT} WHERE b.site_id = ? AND b.state IN ({placeholders(wanted)})
+        ORDER BY b.reference, b.id
         """,
         [site_id, *wanted],
     )
@@ -452,9 +482,9 @@ def insert_record(
         cursor = db.execute(
             """
             INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id,
-                measured_at, received_at, measurements, checklist, notes, result, reasons,
-                utilisation, passed, blocking, late, why_not_measured)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+                measured_at, received_at, measurements, checklist, notes, result, governing,
+                reasons, utilisation, passed, blocking, late, why_not_measured)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             ON CONFLICT (uuid) DO NOTHING
             """,
             [
@@ -467,7 +497,8 @@ def insert_record(
                 to_json(measurements),
                 to_json(checklist or {}),
                 (notes or "").strip(),
-                to_json(result),
+                pack_json(result),
+                result.get("governing"),
                 to_json(reasons),
                 utilisation,
                 int(bool(passed)),
@@ -477,8 +508,8 @@ def insert_record(
             ],
         )
         created = cursor.rowcount == 1
-        row = one(db, "SELECT * FROM as_built_records WHERE uuid = ?", [uuid])
         if not created:
+            row = one(db, f"SELECT {_RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
             if row["bearing_id"] != bearing_id or row["inspector_id"] != inspector_id:
                 raise UuidInUse(
                     "This record's UUID is already used by another record; the phone must make "
@@ -502,7 +533,7 @@ def insert_record(
                     differs,
                 )
             return RecordStored(
-                row=get_record(db, site_id=site_id, uuid=uuid),
+                row=record_line(db, site_id=site_id, uuid=uuid),
                 created=False,
                 state=bearing["state"],
             )
@@ -556,7 +587,7 @@ def insert_record(
                 bearing_id=bearing_id,
                 detail=detail,
             )
-    return RecordStored(row=get_record(db, site_id=site_id, uuid=uuid), created=True, state=state)
+    return RecordStored(row=record_line(db, site_id=site_id, uuid=uuid), created=True, state=state)
 
 
 _FIELD_WORDS = {
@@ -580,6 +611,32 @@ _RECORD_COLUMNS = """
     r.*, b.site_id,
     r.design_revision < b.revision AS older_revision
 """
+
+
+# A record without its packed result: what a list or an answer shows of it.
+_RECORD_LINE = """
+    r.uuid, r.bearing_id, r.design_revision, r.inspector_id, r.measured_at, r.received_at,
+    r.measurements, r.checklist, r.notes, r.governing, r.reasons, r.utilisation, r.passed,
+    r.blocking, r.late, r.why_not_measured, r.kind
+"""
+
+
+def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
+    """One record as :func:`get_record` gives it, but for its ``result``: the governing check
+    (``governing``), utilisation, verdict and reasons are columns of their own."""
+    try:
+        uuid = canonical_uuid(uuid)
+    except ValueError:
+        return None
+    return one(
+        db,
+        f"""
+        SELECT {_RECORD_LINE}, b.site_id, r.design_revision < b.revision AS older_revision
+        FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
+        WHERE r.uuid = ? AND b.site_id = ?
+        """,
+        [uuid, site_id],
+    )
 
 
 def get_record(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:

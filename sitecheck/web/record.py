@@ -293,7 +293,7 @@ def bearing_drawing(bearing_id: str) -> Markup:
     if site is None:
         return Markup("")
     db = get_db()
-    b = store.get_bearing(db, site_id=site["id"], bearing_id=bearing_id)
+    b = store.get_bearing(db, site_id=site["id"], bearing_id=bearing_id, with_result=True)
     if b is None:
         return Markup("")
     record = (

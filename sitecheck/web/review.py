@@ -194,7 +194,9 @@ def bearing_page(
         site={"id": site["id"], "name": site["name"]},
         role=g.role,
         bearing=_bearing_summary(b),
-        design_result=b["design_result"],
+        design_result=store.get_bearing(
+            db, site_id=site["id"], bearing_id=b["id"], with_result=True
+        )["design_result"],
         latest=_record(latest, names, b) if latest else None,
         remedy_hint=_remedy_hint(site, b, latest),
         comparison=_compare(b["design_input"], latest["measurements"]) if latest else [],

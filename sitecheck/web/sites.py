@@ -226,7 +226,7 @@ def _schedule_row(bearing: dict, record: dict | None) -> dict:
 @login_required
 def bearing(site_id, bearing_id):
     site, role = site_for(site_id, "view")
-    b = bearing_for(site, bearing_id)
+    b = bearing_for(site, bearing_id, with_result=True)
     db = get_db()
     names = _Names(db)
     records = [

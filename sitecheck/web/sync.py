@@ -291,7 +291,7 @@ def _answer(site, stored) -> dict:
         "state": stored.state,
         "passed": bool(row["passed"]),
         "utilisation": _finite(row["utilisation"]),
-        "governing": (row["result"] or {}).get("governing"),
+        "governing": row["governing"],
         "reasons": [
             {"code": r["code"], "severity": r["severity"], "sentence": r["sentence"]}
             for r in row["reasons"]
