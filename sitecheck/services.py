@@ -8,6 +8,8 @@ module decides what to call, in what order, and what to keep.
 from __future__ import annotations
 
 import contextlib
+import functools
+import json
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
@@ -50,15 +52,28 @@ def default_site_settings(basis_name: str | None = None) -> tuple[dict, dict]:
 
 
 def basis_for(site: dict) -> CodeBasis:
-    return basis_from_dict(site["code_basis"]) if site.get("code_basis") else ec6_uk_na()
+    if not site.get("code_basis"):
+        return ec6_uk_na()
+    return _basis_from_text(json.dumps(site["code_basis"], sort_keys=True))
 
 
 def settings_for(site: dict) -> ReviewSettings:
-    return (
-        settings_from_dict(site["review_settings"])
-        if site.get("review_settings")
-        else ReviewSettings()
-    )
+    if not site.get("review_settings"):
+        return ReviewSettings()
+    return _settings_from_text(json.dumps(site["review_settings"], sort_keys=True))
+
+
+# A site's basis and settings are read on every record its phones send; rebuilding them
+# from their dicts each time cost more than the text they are kept as. Both are frozen, so
+# one copy serves every thread; a refusal (InputError) is never kept.
+@functools.lru_cache(maxsize=64)
+def _basis_from_text(text: str) -> CodeBasis:
+    return basis_from_dict(json.loads(text))
+
+
+@functools.lru_cache(maxsize=64)
+def _settings_from_text(text: str) -> ReviewSettings:
+    return settings_from_dict(json.loads(text))
 
 
 def mirror_settings(site: dict) -> dict:

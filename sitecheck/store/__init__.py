@@ -1,6 +1,7 @@
 """The only code in sitecheck that speaks SQL.
 
-Open one connection per request or thread with ``open_db(path)``; every function takes it as
+Open one connection per thread with ``open_db(path)`` (or ``connect(path)`` where the schema
+is known to be up to date: a server migrates once at start); every function takes it as
 its first argument and the rest as keyword arguments. JSON columns come back as Python values,
 0/1 flags as booleans, times as UTC ISO 8601 text ending in 'Z'. Every change that writes more
 than one row runs in one transaction; wrap several calls in ``transaction(db)`` to make them one.
@@ -64,7 +65,7 @@ from sitecheck.store.bearings import (
     revise_bearing,
     set_state,
 )
-from sitecheck.store.connection import open_db
+from sitecheck.store.connection import connect, open_db
 from sitecheck.store.errors import (
     AlreadyMember,
     Conflict,
@@ -164,6 +165,7 @@ __all__ = [
     "bearing_by_reference",
     "bearing_revisions",
     "claim_due_mail",
+    "connect",
     "create_invitation",
     "create_link",
     "create_session",

@@ -210,7 +210,8 @@ def get_session_user(
     absolute_s: int = SESSION_ABSOLUTE_S,
     now: datetime | None = None,
 ) -> dict | None:
-    """The signed-in user, or None if the session is unknown, revoked, expired or disabled."""
+    """The signed-in user, or None if the session is unknown, revoked, expired or disabled;
+    ``session_seen_at`` is when the session was last marked as used (see touch_session)."""
     try:
         session_id = _session_id(session_id)
     except ValueError:
@@ -220,7 +221,7 @@ def get_session_user(
         db,
         """
         SELECT u.id, u.email, u.name, u.disabled, u.must_change_password, u.may_make_sites,
-               u.created_at
+               u.created_at, s.last_seen_at AS session_seen_at
         FROM sessions s JOIN users u ON u.id = s.user_id
         WHERE s.id = ? AND s.revoked_at IS NULL AND u.disabled = 0
           AND s.last_seen_at > ? AND s.created_at > ?
@@ -239,9 +240,12 @@ def touch_session(
     *,
     now: datetime | None = None,
     min_interval_s: int = TOUCH_INTERVAL_S,
+    seen_at: str | None = None,
 ) -> bool:
     """Move last_seen_at forward (at most once a minute); True if it was written."""
     now = now or utc_now()
+    if seen_at is not None and seen_at > timestamp(now - timedelta(seconds=min_interval_s)):
+        return False  # marked within the minute: no write (most requests)
     cursor = db.execute(
         """
         UPDATE sessions SET last_seen_at = ?

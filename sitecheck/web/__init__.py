@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import os
 import secrets
+import threading
 from pathlib import Path
 
 from flask import Flask, current_app, g, request
@@ -57,6 +58,9 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=os.environ.get("SITECHECK_SECURE_COOKIES") == "1",
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
+        # The cookie outlives the server-side session it names (31 days against at most 7),
+        # so signing it again on every answer (the phone's outbox sends many) buys nothing.
+        SESSION_REFRESH_EACH_REQUEST=False,
         # Site records (PDF) one person may start in an hour; handing out a finished one
         # of an unchanged site, or joining one being made, is not counted.
         RECORD_PDF_PER_HOUR=int(os.environ.get("SITECHECK_RECORD_PDF_PER_HOUR") or 10),
@@ -109,7 +113,7 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         app.register_blueprint(module.bp)
 
     app.before_request(auth.load_user)
-    app.teardown_appcontext(_close_db)
+    app.teardown_appcontext(_end_request_db)
     app.after_request(_security_headers)
     compress.install(app)
     app.register_error_handler(CSRFError, pages.csrf_error)
@@ -119,13 +123,44 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     return app
 
 
-def get_db():
-    """This request's connection (SQLite connections must not cross threads)."""
-    if "db" not in g:
-        from flask import current_app
+class _ThreadConnection(threading.local):
+    """Each server thread's own connection, kept from one request to the next.
 
-        g.db = store.open_db(current_app.config["DB_PATH"])
-    return g.db
+    Opening a connection per request cost more than a small request's own work: the pragmas,
+    and on closing the last connection a WAL checkpoint written out in the request's time.
+    A connection never crosses threads (sqlite3 forbids it) nor processes: a worker forked
+    from a process that had one opens its own, and leaves the parent's untouched (closing a
+    connection inherited across fork can undo the parent's locks). One per thread at most:
+    asked for another file, the thread closes the one it had.
+    """
+
+    db = None
+    path: str | None = None
+    pid: int | None = None
+
+
+_thread = _ThreadConnection()
+
+
+def get_db():
+    """This thread's connection to the app's database (the schema was brought up to date
+    when the app was made)."""
+    path = current_app.config["DB_PATH"]
+    if _thread.db is not None and (_thread.path != path or _thread.pid != os.getpid()):
+        if _thread.pid != os.getpid():
+            # Another process's connection: keep it referenced, never close it here.
+            _FORKED_AWAY.append(_thread.db)
+        else:
+            _thread.db.conn.close()
+        _thread.db = None
+    if _thread.db is None:
+        _thread.db = store.connect(path)
+        _thread.path, _thread.pid = path, os.getpid()
+    g.db = _thread.db
+    return _thread.db
+
+
+_FORKED_AWAY: list = []
 
 
 def photo_store() -> PhotoStore:
@@ -134,10 +169,12 @@ def photo_store() -> PhotoStore:
     return current_app.extensions["photo_store"]
 
 
-def _close_db(_exc) -> None:
+def _end_request_db(_exc) -> None:
+    # The connection stays open for the thread's next request; nothing a request began may
+    # stay open in it (a view that failed inside a transaction has rolled it back already).
     db = g.pop("db", None)
-    if db is not None:
-        db.conn.close()
+    if db is not None and db.conn.in_transaction:
+        db.conn.execute("ROLLBACK")
 
 
 def _security_headers(response):

@@ -59,7 +59,8 @@ def load_user() -> None:
     if user is None:
         session.pop(SESSION_KEY, None)
         return
-    store.touch_session(db, sid)
+    # Given when it was last marked, the store writes only once a minute, not every request.
+    store.touch_session(db, sid, seen_at=user.pop("session_seen_at"))
     g.user = user
 
 

@@ -39,10 +39,7 @@ from flask import (
 from werkzeug.exceptions import NotFound
 
 from sitecheck import services, store, workflow
-from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
-from sitecheck.bearing.review import as_built_input, could_not_measure
-from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
 from sitecheck.photos import PhotoLimits, PhotoRejected, PhotosBusy, ingest_photo
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
@@ -249,7 +246,8 @@ def post_record():
     bearing = bearing_for(site, fields["bearing_id"])
     db = get_db()
     try:
-        _check_against_core(site, bearing, fields)
+        # The re-check refuses input that makes no physical sense (InputError) before
+        # anything is stored, with the same first error a separate look would find.
         stored, _recheck = services.record_as_built(
             db,
             site=site,
@@ -387,18 +385,6 @@ def _record_fields(data: dict) -> dict:
     # Never a reason to refuse a record: an odd verdict is itself what the server reports.
     out["provisional"] = data.get("provisional")
     return out
-
-
-def _check_against_core(site, bearing, fields) -> None:
-    """Typed JSON first, then the core's physical sense, before anything is stored."""
-    measurements = measurements_from_dict(fields["measurements"])
-    checklist = checklist_from_dict(fields["checklist"])
-    if fields["why_not_measured"] is not None:
-        could_not_measure(fields["why_not_measured"], measurements, checklist)
-        return
-    built = as_built_input(services.design_of(bearing), measurements)
-    for error in input_errors(built, services.basis_for(site)):
-        raise error
 
 
 def _input_error(error: InputError):
