@@ -36,6 +36,8 @@ BOOL_COLUMNS = frozenset(
         "late",
         "ok",
         "older_revision",
+        "latest_passed",
+        "latest_older_revision",
     }
 )
 

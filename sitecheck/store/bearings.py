@@ -28,6 +28,7 @@ from sitecheck.store.base import (
     parse_timestamp,
     placeholders,
     required_text,
+    rows,
     timestamp,
     to_json,
     transaction,
@@ -196,7 +197,7 @@ def add_bearing(
         )
         add_event(
             db,
-            kind="bearing added",
+            kind=BEARING_ADDED,
             user_id=user_id,
             site_id=site_id,
             bearing_id=bearing_id,
@@ -378,6 +379,196 @@ def list_bearings(
         """,
         [site_id, *wanted],
     )
+
+
+# --- lists: what a page of many bearings shows, never a trace -----------------------------------
+
+_LINE = """
+    b.id, b.reference, b.location, b.state, b.revision, b.design_utilisation, b.design_passed,
+    b.design_governing, b.design_governing_title, b.latest_record_uuid, b.state_changed_at
+"""
+_LATEST = """
+    r.measured_at AS latest_measured_at, r.utilisation AS latest_utilisation,
+    r.passed AS latest_passed, r.blocking AS latest_blocking,
+    r.design_revision < b.revision AS latest_older_revision
+"""
+
+
+def _line_filter(
+    site_id: str, states: Iterable[str] | None, words: Iterable[str]
+) -> tuple[str, list]:
+    """WHERE for a site's bearings in ``states`` whose reference or location holds every one
+    of ``words`` (compared as Python lowers text, as the survey list's search does)."""
+    where, params = ["b.site_id = ?"], [site_id]
+    if states is not None:
+        wanted = [_state(s) for s in states]
+        where.append(f"b.state IN ({placeholders(wanted)})" if wanted else "0")
+        params += wanted
+    for word in words:
+        where.append("instr(sitecheck_lower(b.reference || ' ' || b.location), ?) > 0")
+        params.append(word.lower())
+    return " AND ".join(where), params
+
+
+def bearing_lines(
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    states: Iterable[str] | None = None,
+    words: Iterable[str] = (),
+    with_latest: bool = False,
+    limit: int | None = None,
+    offset: int = 0,
+) -> list[dict]:
+    """A site's bearings by reference, as a list shows them: the governing check's code and
+    title, the design's utilisation and verdict, and with ``with_latest`` the latest record's
+    ``latest_measured_at``, ``latest_utilisation``, ``latest_passed``, ``latest_blocking``
+    and ``latest_older_revision`` (None when nothing was recorded). Only those in ``states``
+    and matching every one of ``words``, if given; ``limit`` and ``offset`` give one page."""
+    where, params = _line_filter(site_id, states, list(words))
+    latest = f", {_LATEST}" if with_latest else ""
+    join = "LEFT JOIN as_built_records r ON r.uuid = b.latest_record_uuid" if with_latest else ""
+    page = ""
+    if limit is not None:
+        page = "LIMIT ? OFFSET ?"
+        params += [limit, offset]
+    return many(
+        db,
+        f"SELECT {_LINE}{latest} FROM bearings b {join} WHERE {where} "
+        f"ORDER BY b.reference, b.id {page}",
+        params,
+    )
+
+
+def count_bearing_lines(
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    states: Iterable[str] | None = None,
+    words: Iterable[str] = (),
+) -> int:
+    """How many bearings :func:`bearing_lines` would list with no page."""
+    where, params = _line_filter(site_id, states, list(words))
+    return one(db, f"SELECT count(*) AS n FROM bearings b WHERE {where}", params)["n"]
+
+
+def bearing_counts(db: sqlite_utils.Database, *, site_id: str) -> dict:
+    """A site's bearings counted: ``states`` (every state, 0 where none) and
+    ``failing_at_design``."""
+    counts = dict.fromkeys(STATES, 0)
+    failing = 0
+    for row in rows(
+        db,
+        "SELECT state, count(*) AS n, sum(design_passed = 0) AS failing FROM bearings "
+        "WHERE site_id = ? GROUP BY state",
+        [site_id],
+    ):
+        counts[row["state"]] = row["n"]
+        failing += row["failing"]
+    return {"states": counts, "failing_at_design": failing}
+
+
+# --- the site pack: what the phone keeps, and what changed since it last asked ----------------
+
+BEARING_ADDED = "bearing added"  # the event of a new bearing (add_bearing writes it)
+
+
+@dataclass(frozen=True)
+class PackRows:
+    """A site's bearings for the site pack, as of ``version``.
+
+    ``full``: ``bearings`` holds every bearing; otherwise only those changed since the
+    version the phone holds, and ``removed`` the ids it holds that are gone. Each bearing
+    carries its design input as stored (``design_input_json``, text): bearings of one design
+    share it, and ``designs`` decodes each distinct text once.
+    """
+
+    version: str
+    full: bool
+    bearings: list[dict]
+    removed: list[str]
+    designs: dict[str, dict]
+
+
+_PACK_LINE = """
+    b.id, b.reference, b.location, b.state, b.revision, b.design_input AS design_input_json,
+    b.design_utilisation, b.design_passed, b.design_governing
+"""
+
+
+def pack_rows(db: sqlite_utils.Database, *, site_id: str, since: str | None = None) -> PackRows:
+    """The site pack's bearings: all of them, or, given the ``version`` of a pack the phone
+    holds, those changed since.
+
+    A version names the site's newest event when the pack was made, by id and time. Every
+    change to a bearing writes an event on it, so the bearings changed since are those with
+    a later event. The whole pack is sent instead when the version is not one of this
+    site's events as written (a database restored from a backup, a pack from elsewhere) and
+    when a bearing was added since (every bearing's place in the survey order may move).
+    Read in one snapshot, so the version and the rows agree.
+    """
+    outer = db.conn.in_transaction
+    if not outer:
+        db.conn.execute("BEGIN")
+    try:
+        newest = one(
+            db, "SELECT id, at FROM events WHERE site_id = ? ORDER BY id DESC LIMIT 1", [site_id]
+        )
+        version = f"{newest['id']}.{newest['at']}" if newest else "0."
+        changed = _changed_since(db, site_id, since) if since else None
+        if changed is None:
+            lines = many(
+                db,
+                f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? ORDER BY b.id",
+                [site_id],
+            )
+            removed: list[str] = []
+        else:
+            lines = []
+            for start in range(0, len(changed), 400):
+                batch = changed[start : start + 400]
+                lines += many(
+                    db,
+                    f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? "
+                    f"AND b.id IN ({placeholders(batch)})",
+                    [site_id, *batch],
+                )
+            found = {line["id"] for line in lines}
+            removed = [bid for bid in changed if bid not in found]
+    finally:
+        if not outer:
+            db.conn.execute("COMMIT")
+    designs = {text: json.loads(text) for text in {line["design_input_json"] for line in lines}}
+    return PackRows(version, changed is None, lines, removed, designs)
+
+
+def _changed_since(db, site_id: str, since: str) -> list[str] | None:
+    """Ids of the bearings with an event after the version ``since``, or None when the whole
+    pack must be sent (see :func:`pack_rows`)."""
+    event_id, _dot, at = since.partition(".")
+    if not event_id.isdigit():
+        return None
+    if event_id == "0" and not at:
+        known = True  # the phone's pack was made before the site had any event
+    else:
+        known = one(
+            db,
+            "SELECT 1 AS x FROM events WHERE id = ? AND site_id = ? AND at = ?",
+            [int(event_id), site_id, at],
+        )
+    if not known:
+        return None
+    changed = many(
+        db,
+        """
+        SELECT bearing_id, max(kind = ?) AS added FROM events
+        WHERE site_id = ? AND id > ? AND bearing_id IS NOT NULL GROUP BY bearing_id
+        """,
+        [BEARING_ADDED, site_id, int(event_id)],
+    )
+    if any(row["added"] for row in changed):
+        return None
+    return sorted(row["bearing_id"] for row in changed)
 
 
 def bearing_revisions(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
@@ -1192,7 +1383,8 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
 
     Most serious first: highest utilisation (of the latest record, or of the worst record
     after release), then most blocking reasons, then longest waiting. Each row is the
-    bearing plus ``site_name``, ``utilisation``, ``blocking``, ``measured_at`` and
+    bearing's own columns a list shows (no design input or result) plus ``site_name``,
+    ``utilisation``, ``passed``, ``blocking``, ``measured_at`` and
     ``reasons`` of its latest record, and ``records_after_release``,
     ``photos_after_release``, ``worst_after_release``, ``first_after_release`` (None when
     nothing is waiting).
@@ -1200,7 +1392,9 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
     return many(
         db,
         f"""
-        SELECT b.*, s.name AS site_name, r.utilisation, r.blocking, r.measured_at, r.reasons,
+        SELECT b.id, b.site_id, b.reference, b.location, b.state, b.state_changed_at,
+               b.revision, b.latest_record_uuid, b.design_utilisation, b.design_passed,
+               s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at, r.reasons,
                r.design_revision < b.revision AS older_revision,
                ev.records_after_release, ev.photos_after_release, ev.worst_after_release,
                ev.first_after_release

@@ -40,10 +40,17 @@ def connect(path: str | Path) -> sqlite_utils.Database:
         # loss, and the phone deletes its copy of a record once we acknowledge it.
         db.execute("PRAGMA synchronous = FULL")
         _use_wal(db)
+        # Searches compare text lowered as Python lowers it (SQLite's lower() knows ASCII
+        # only), so a search on a page and on the phone find the same bearings.
+        db.conn.create_function("sitecheck_lower", 1, _lower, deterministic=True)
     except BaseException:
         db.close()
         raise
     return db
+
+
+def _lower(text: str | None) -> str | None:
+    return None if text is None else str(text).lower()
 
 
 def _use_wal(db: sqlite_utils.Database) -> None:

@@ -21,10 +21,12 @@ from sitecheck.web.decision_forms import (
     KeepReleaseForm,
     ReopenForm,
 )
-from sitecheck.web.pages import page_rule, render_page
+from sitecheck.web.pages import listing, page_rule, render_page
 from sitecheck.web.record_form import MEASUREMENT_FIELDS, SPECS, designed_value
 
 bp = Blueprint("review", __name__)
+
+QUEUE_PAGE = 50  # bearings the queue shows at once
 
 
 # --- the queue ----------------------------------------------------------------------------------
@@ -37,7 +39,9 @@ def queue():
     user_id = g.user["id"]
     is_engineer = any(s["role"] == workflow.ENGINEER for s in store.sites_for_user(db, user_id))
     rows = store.review_queue(db, user_id=user_id) if is_engineer else []
-    items = [_queue_item(r) for r in rows]
+    # Most serious first over the whole queue; a page of it is shown.
+    page = listing(len(rows), QUEUE_PAGE)
+    items = [_queue_item(r) for r in rows[page.offset : page.offset + page.size]]
     if not is_engineer:
         sentence = "Only a site's engineer decides on bearings, and you are not the engineer on any site, so there is nothing here for you."
     elif not items:
@@ -45,7 +49,12 @@ def queue():
     else:
         sentence = None
     return render_page(
-        "review/queue.html", items=items, is_engineer=is_engineer, sentence=sentence, when=when
+        "review/queue.html",
+        items=items,
+        is_engineer=is_engineer,
+        sentence=sentence,
+        when=when,
+        listing=page,
     )
 
 

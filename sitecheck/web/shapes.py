@@ -104,6 +104,7 @@ def _queue(c, _role):
         ),
         "is_engineer": c["is_engineer"],
         "sentence": c["sentence"],
+        "listing": c["listing"].as_dict(),
     }
 
 
@@ -118,6 +119,9 @@ def _site(c, role):
         "bearings": c["bearings"],  # rows the view already picked (_schedule_row)
         "counts": c["counts"],
         "failing_at_design": c["failing_at_design"],
+        # Which page of the schedule this is, and the state and search that chose it.
+        "listing": c["listing"].as_dict(),
+        "chosen": c["chosen"],
     }
 
 
@@ -349,6 +353,10 @@ def _survey(c, _role):
         ),
         "to_survey": c["to_survey"],
         "design_fails": c["design_fails"],
+        "query": c["query"],
+        "shown": c["shown"],
+        "total": c["total"],
+        "listing": c["listing"].as_dict(),
     }
 
 

@@ -63,7 +63,7 @@ from sitecheck.web.design_forms import (
     source_tag,
     utc_text,
 )
-from sitecheck.web.pages import page_rule, render_page
+from sitecheck.web.pages import listing, page_rule, render_page, search_words
 
 bp = Blueprint("sites", __name__)
 
@@ -161,24 +161,47 @@ def _site_makers_page(status: int, error: str | None = None):
 # --- the site and its bearing schedule ----------------------------------------------------------
 
 
+SCHEDULE_PAGE = 100  # rows of the bearing schedule a page shows
+
+
 @page_rule(bp, "/sites/<site_id>")
 @login_required
 def show(site_id):
     site, role = site_for(site_id, "view")
     db = get_db()
-    bearings = store.list_bearings(db, site_id=site_id)
-    latest = store.latest_record_summaries(db, site_id=site_id)
-    rows = [_schedule_row(b, latest.get(b["id"])) for b in bearings]
-    counts = {state: 0 for state in workflow.STATES}
-    for row in rows:
-        counts[row["state"]] += 1
+    counted = store.bearing_counts(db, site_id=site_id)
+    # A site of thousands of bearings is listed a page at a time, by state and by search,
+    # all worked out by the store: no row of another page is read.
+    state = request.args.get("state")
+    states = [state] if state in workflow.STATES else None
+    query, words = search_words()
+    matching = (
+        sum(counted["states"].values())
+        if states is None and not words
+        else store.count_bearing_lines(db, site_id=site_id, states=states, words=words)
+    )
+    page = listing(matching, SCHEDULE_PAGE)
+    rows = [
+        _schedule_row(b)
+        for b in store.bearing_lines(
+            db,
+            site_id=site_id,
+            states=states,
+            words=words,
+            with_latest=True,
+            limit=page.size,
+            offset=page.offset,
+        )
+    ]
     return render_page(
         "sites/show.html",
         site=_site_summary(site),
         role=role,
         bearings=rows,
-        counts=counts,
-        failing_at_design=sum(1 for r in rows if not r["design_passed"]),
+        counts=counted["states"],
+        failing_at_design=counted["failing_at_design"],
+        listing=page,
+        chosen={"state": states[0] if states else None, "q": query},
     )
 
 
@@ -192,29 +215,27 @@ def _site_summary(site: dict) -> dict:
     }
 
 
-def _schedule_row(bearing: dict, record: dict | None) -> dict:
-    result = bearing["design_result"] or {}
-    governing = result.get("governing")
-    title = next((c["title"] for c in result.get("checks", []) if c["code"] == governing), None)
+def _schedule_row(line: dict) -> dict:
+    """One row of the schedule from the store's line of a bearing (no trace is read)."""
     return {
-        "id": bearing["id"],
-        "reference": bearing["reference"],
-        "location": bearing["location"],
-        "state": bearing["state"],
-        "revision": bearing["revision"],
-        "design_utilisation": bearing["design_utilisation"],
-        "design_passed": bearing["design_passed"],
-        "governing": governing,
-        "governing_title": title,
+        "id": line["id"],
+        "reference": line["reference"],
+        "location": line["location"],
+        "state": line["state"],
+        "revision": line["revision"],
+        "design_utilisation": line["design_utilisation"],
+        "design_passed": line["design_passed"],
+        "governing": line["design_governing"],
+        "governing_title": line["design_governing_title"],
         "latest": None
-        if record is None
+        if line["latest_record_uuid"] is None
         else {
-            "uuid": record["uuid"],
-            "measured_at": record["measured_at"],
-            "utilisation": record["utilisation"],
-            "passed": record["passed"],
-            "blocking": record["blocking"],
-            "older_revision": record["older_revision"],
+            "uuid": line["latest_record_uuid"],
+            "measured_at": line["latest_measured_at"],
+            "utilisation": line["latest_utilisation"],
+            "passed": line["latest_passed"],
+            "blocking": line["latest_blocking"],
+            "older_revision": line["latest_older_revision"],
         },
     }
 

@@ -19,6 +19,7 @@ Every answer is JSON with a status the phone acts on without reading the words:
 from __future__ import annotations
 
 import dataclasses
+import hashlib
 import json
 import math
 import re
@@ -178,31 +179,56 @@ def site_offline(site_id):
 @bp.get("/api/sites/<site_id>/pack")
 @login_required
 def pack(site_id):
+    """The site pack: the site's code basis and review settings in full, and its bearings.
+
+    The phone says which pack it holds (``?since=`` the ``version`` of its last one) and is
+    sent only the bearings changed since (``full`` false), with ``removed`` the ones gone;
+    otherwise, or when that cannot be told, every bearing (``full`` true). Bearings of one
+    design share it: each names its design (``design``, a key of ``designs``), which holds
+    the design input, the words shown beside each field and the design's verdict."""
     site, role = site_for(site_id, "record")
-    basis = services.basis_for(site)
-    bearings = []
-    # In survey order, with each bearing's place by reference, so the phone ranks them again
-    # as their states change just as the survey list does.
-    for b in survey_order(store.list_bearings(get_db(), site_id=site["id"])):
-        design_result = b["design_result"] or {}
-        bearings.append(
-            {
-                "id": b["id"],
-                "reference": b["reference"],
-                "location": b["location"],
-                "state": b["state"],
-                "revision": b["revision"],
-                "order": b["order"],
-                "design_input": b["design_input"],
-                "design": {
-                    "utilisation": _finite(b["design_utilisation"]),
-                    "passed": bool(b["design_passed"]),
-                    "governing": design_result.get("governing"),
-                },
-                # Ready-made words beside each field, so the phone shows what the online form shows.
-                "designed": {name: designed_text(b["design_input"], name) for name in SPECS},
-            }
+    since = (request.args.get("since") or "").strip()[:80] or None
+    found = store.pack_rows(get_db(), site_id=site["id"], since=since)
+    designs: dict[str, dict] = {}
+    keys: dict[tuple, str] = {}
+    for b in found.bearings:
+        summary = (
+            b["design_input_json"],
+            _finite(b["design_utilisation"]),
+            bool(b["design_passed"]),
+            b["design_governing"],
         )
+        if summary not in keys:
+            keys[summary] = _design_key(summary)
+            design_input = found.designs[b["design_input_json"]]
+            designs[keys[summary]] = {
+                "input": design_input,
+                # Ready-made words beside each field, so the phone shows what the online
+                # form shows.
+                "designed": {name: designed_text(design_input, name) for name in SPECS},
+                "utilisation": summary[1],
+                "passed": summary[2],
+                "governing": summary[3],
+            }
+        b["design_key"] = keys[summary]
+    # A whole pack is in survey order, with each bearing's place by reference, so the phone
+    # ranks them again as their states change just as the survey list does. A bearing's
+    # place changes only when bearings are added, and then the whole pack is sent.
+    rows = survey_order(found.bearings) if found.full else found.bearings
+    bearings = [
+        {
+            "id": b["id"],
+            "reference": b["reference"],
+            "location": b["location"],
+            "state": b["state"],
+            "revision": b["revision"],
+            **({"order": b["order"]} if found.full else {}),
+            "design": b["design_key"],
+            "design_passed": bool(b["design_passed"]),
+        }
+        for b in rows
+    ]
+    basis = services.basis_for(site)
     response = jsonify(
         site={
             "id": site["id"],
@@ -217,10 +243,20 @@ def pack(site_id):
         role=role,
         user=g.user["id"],
         generated_at=datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        version=found.version,
+        full=found.full,
         bearings=bearings,
+        removed=found.removed,
+        designs=designs,
     )
     response.headers["Cache-Control"] = "no-store"
     return response
+
+
+def _design_key(summary: tuple) -> str:
+    # The same design gets the same key in every pack, so a later pack's bearings can name
+    # a design the phone already holds.
+    return hashlib.sha256(json.dumps(summary).encode()).hexdigest()[:12]
 
 
 # --- as-built records -------------------------------------------------------------------------
