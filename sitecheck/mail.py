@@ -5,7 +5,8 @@ action's own transaction) and wakes the sender; the sender, a background thread,
 it over SMTP and retries with a growing pause when the server is down. So a mail server that
 is slow or away never fails or slows what someone did in the app.
 
-Settings (all from the environment; no SITECHECK_SMTP_HOST means no mail at all):
+Settings (from the environment or the data folder's sitecheck.toml, see sitecheck.config; no
+SITECHECK_SMTP_HOST means no mail at all):
 
 - SITECHECK_SMTP_HOST, SITECHECK_SMTP_PORT (587; 465 means TLS from the first byte)
 - SITECHECK_SMTP_USER, SITECHECK_SMTP_PASSWORD (both or neither)
@@ -20,8 +21,11 @@ is never sent to a server that offers no encryption.
 
 from __future__ import annotations
 
+import contextlib
 import logging
+import os
 import smtplib
+import socket
 import ssl
 import threading
 from collections.abc import Mapping
@@ -43,8 +47,13 @@ LONGEST_PAUSE_S = 3600
 MOST_TRIES = 40
 # How long a sender holds a message it is trying; past that another process may try it.
 CLAIM_S = 120
-# A sender with nothing due looks again this often (other processes queue too).
-IDLE_LOOK_S = 30.0
+# A sender with nothing due looks again this often (other processes queue too, and only
+# the sender holding the lease sends, so another process's new message waits for this).
+IDLE_LOOK_S = 5.0
+# Of the senders of all worker processes, the one holding this lease sends; it renews it
+# every round. Another takes over within a lease's time if the holder stops.
+SENDER_LEASE = "mail sender"
+SENDER_LEASE_S = 120.0
 
 
 class MailSettingsError(ValueError):
@@ -199,6 +208,7 @@ def send_due(db_path: str, settings: MailSettings, *, now: datetime | None = Non
                 )
             else:
                 store.mail_sent(db, message["id"], now=now)
+                log.info("mail %s (%s) sent", message["id"], message["kind"])
                 sent += 1
     finally:
         db.conn.close()
@@ -206,11 +216,14 @@ def send_due(db_path: str, settings: MailSettings, *, now: datetime | None = Non
 
 
 class MailSender:
-    """The background thread that delivers the queue; one per app process."""
+    """The background thread that delivers the queue. Every app process has one; of these,
+    only the one holding the sender's lease in the database sends (a message is also
+    claimed before it is tried, so even two senders would never send it twice)."""
 
     def __init__(self, db_path: str, settings: MailSettings):
         self.db_path = db_path
         self.settings = settings
+        self.holder = f"{socket.gethostname()}:{os.getpid()}:{id(self):x}"
         self._wake = threading.Event()
         self._stop = threading.Event()
         self._thread: threading.Thread | None = None
@@ -219,6 +232,10 @@ class MailSender:
         if self._thread is None:
             self._thread = threading.Thread(target=self._run, name="sitecheck-mail", daemon=True)
             self._thread.start()
+
+    def alive(self) -> bool:
+        """Whether its thread runs (for the health check)."""
+        return self._thread is not None and self._thread.is_alive()
 
     def wake(self) -> None:
         """Something was queued: look now rather than at the next idle look."""
@@ -232,15 +249,39 @@ class MailSender:
             self._thread = None
 
     def _run(self) -> None:
-        while not self._stop.is_set():
-            self._wake.clear()
+        try:
+            while not self._stop.is_set():
+                self._wake.clear()
+                try:
+                    if self._holds_lease():
+                        send_due(self.db_path, self.settings)
+                        wait = self._seconds_to_next()
+                    else:
+                        wait = IDLE_LOOK_S  # and try for the lease again
+                except Exception:  # the sender must outlive any one bad round
+                    log.exception("mail sender: a round failed; trying again shortly")
+                    wait = FIRST_PAUSE_S
+                self._wake.wait(wait)
+        finally:
+            self._give_up_lease()
+
+    def _holds_lease(self) -> bool:
+        db = store.open_db(self.db_path)
+        try:
+            return store.take_lease(
+                db, name=SENDER_LEASE, holder=self.holder, lease_s=SENDER_LEASE_S
+            )
+        finally:
+            db.conn.close()
+
+    def _give_up_lease(self) -> None:
+        # A clean stop frees the lease at once, so another process need not wait it out.
+        with contextlib.suppress(Exception):
+            db = store.open_db(self.db_path)
             try:
-                send_due(self.db_path, self.settings)
-                wait = self._seconds_to_next()
-            except Exception:  # the sender must outlive any one bad round
-                log.exception("mail sender: a round failed; trying again shortly")
-                wait = FIRST_PAUSE_S
-            self._wake.wait(wait)
+                store.release_lease(db, name=SENDER_LEASE, holder=self.holder)
+            finally:
+                db.conn.close()
 
     def _seconds_to_next(self) -> float:
         db = store.open_db(self.db_path)

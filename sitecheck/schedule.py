@@ -30,6 +30,7 @@ from .bearing import (
     basis_named,
     check_bearing,
 )
+from .bearing.inputs import PADSTONE_POSITIONS
 from .bearing.review import (
     Checklist,
     Measurements,
@@ -65,9 +66,23 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     "padstone_depth": ("padstone depth", "mm"),
     "padstone_concrete": ("concrete class, e.g. C25/30", ""),
     "padstone_f_ck": ("declared concrete strength f_ck, if it is to override the class", "N/mm²"),
-    "padstone_precast": ("yes (precast) or no (cast in place) (empty: yes)", ""),
+    "padstone_across": (
+        "where a padstone narrower than the wall sits across it: near-face, centred, "
+        "far-face, or its centre's offset from the wall's centre line in mm, + towards the far "
+        "face (empty: flush with the near face under a beam across the wall, centred in line)",
+        "",
+    ),
+    "padstone_reinforced": (
+        "yes if the padstone is reinforced (empty: no, plain concrete, as site padstones "
+        "usually are; plain takes α_cc,pl)",
+        "",
+    ),
     "wall_thickness": ("wall (leaf) thickness t", "mm"),
-    "height_to_bearing": ("height from the wall's base to the bearing h_c", "mm"),
+    "height_to_bearing": (
+        "height h_c from the wall's base to the padstone's underside (with no padstone, the "
+        "beam's underside); not the level the beam sits at on the padstone",
+        "mm",
+    ),
     "clear_height": ("clear height h (empty: h_c)", "mm"),
     "effective_height": ("effective height h_ef (empty: h)", "mm"),
     "effective_thickness": ("effective thickness t_ef (empty: t)", "mm"),
@@ -91,6 +106,11 @@ DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
     ),
     "mortar": ("M2, M4, M6, M12 or thin-layer", ""),
     "shell_bedded": ("yes if the units are shell bedded (empty: no)", ""),
+    "collar_joint": (
+        "yes if the wall has a mortar joint parallel to its face, as a one-brick wall does "
+        "(EC6: 0.8 × K); no if not (empty: yes when the wall is at least twice the unit's width)",
+        "",
+    ),
     "f_k": ("characteristic strength, if declared (overrides the unit route)", "N/mm²"),
     "gamma_M": ("partial factor, if it is to override the basis's", ""),
     "execution_class": ("EC6 execution class 1 or 2", ""),
@@ -112,6 +132,11 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_padstone_width": ("padstone width as built", "mm"),
     "asbuilt_padstone_depth": ("padstone depth as built", "mm"),
     "asbuilt_padstone_concrete": ("padstone concrete class as built", ""),
+    "asbuilt_padstone_reinforced": ("yes or no: is the padstone reinforced", ""),
+    "asbuilt_padstone_across": (
+        "padstone's position across the wall as built, as padstone_across",
+        "",
+    ),
     "asbuilt_wall_thickness": ("wall thickness as built", "mm"),
     "asbuilt_a1": ("a1 as built", "mm"),
     "asbuilt_a2": ("a2 as built", "mm"),
@@ -119,6 +144,7 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_unit_group": ("unit group as built", ""),
     "asbuilt_unit_strength": ("unit strength as built", "N/mm²"),
     "asbuilt_mortar": ("mortar class as built", ""),
+    "asbuilt_collar_joint": ("yes or no: a collar joint in the wall as built", ""),
     "asbuilt_bedded": ("yes or no: padstone fully bedded on mortar", ""),
     "asbuilt_packing": ("packing thickness under the beam (0: none)", "mm"),
     "asbuilt_cracks": ("yes or no: cracks near the bearing", ""),
@@ -126,6 +152,14 @@ ASBUILT_COLUMNS: dict[str, tuple[str, str]] = {
     "asbuilt_level": ("yes or no: padstone level", ""),
 }
 COLUMNS = DESIGN_COLUMNS | ASBUILT_COLUMNS
+# Columns earlier versions read and this one does not, with why: a schedule that has one
+# still imports, and says the column was not read.
+RETIRED_COLUMNS = {
+    "padstone_precast": (
+        "precast or cast in place changes no check; a padstone is plain concrete unless "
+        "padstone_reinforced says yes"
+    ),
+}
 REQUIRED_COLUMNS = (
     "reference",
     "reaction_kN",
@@ -151,7 +185,9 @@ FIELD_TO_COLUMN = {
     "padstone.depth": "padstone_depth",
     "padstone.concrete": "padstone_concrete",
     "padstone.f_ck": "padstone_f_ck",
-    "padstone.precast": "padstone_precast",
+    "padstone.reinforced": "padstone_reinforced",
+    "padstone.position_across": "padstone_across",
+    "padstone.offset_across": "padstone_across",
     "wall.thickness": "wall_thickness",
     "wall.height_to_bearing": "height_to_bearing",
     "wall.clear_height": "clear_height",
@@ -168,6 +204,7 @@ FIELD_TO_COLUMN = {
     "masonry.conditioning": "unit_conditioning",
     "masonry.mortar": "mortar",
     "masonry.shell_bedded": "shell_bedded",
+    "masonry.collar_joint": "collar_joint",
     "masonry.f_k": "f_k",
     "masonry.gamma_M": "gamma_M",
     "masonry.execution_class": "execution_class",
@@ -188,6 +225,9 @@ _ASBUILT_FIELD_TO_COLUMN = {
     "padstone.width": "asbuilt_padstone_width",
     "padstone.depth": "asbuilt_padstone_depth",
     "padstone.concrete": "asbuilt_padstone_concrete",
+    "padstone.reinforced": "asbuilt_padstone_reinforced",
+    "padstone.position_across": "asbuilt_padstone_across",
+    "padstone.offset_across": "asbuilt_padstone_across",
     "wall.thickness": "asbuilt_wall_thickness",
     "wall.a1": "asbuilt_a1",
     "wall.a2": "asbuilt_a2",
@@ -195,6 +235,7 @@ _ASBUILT_FIELD_TO_COLUMN = {
     "masonry.group": "asbuilt_unit_group",
     "masonry.unit_strength": "asbuilt_unit_strength",
     "masonry.mortar": "asbuilt_mortar",
+    "masonry.collar_joint": "asbuilt_collar_joint",
 }
 
 
@@ -397,6 +438,9 @@ def parse_schedule(text: str, default_basis: str | None = None) -> Parsed:
     if errors:
         return Parsed((), tuple(errors))
     unknown = [h.strip() for h, n in zip(header, names, strict=True) if n is None and h.strip()]
+    retired = [h for h in unknown if h.lower() in RETIRED_COLUMNS]
+    unknown = [h for h in unknown if h not in retired]
+    notes += [f"Column {h} is no longer read: {RETIRED_COLUMNS[h.lower()]}." for h in retired]
     notes += _mistyped_names(unknown)
     rows: list[ScheduleRow] = []
     seen: dict[str, int] = {}
@@ -584,7 +628,14 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             **_given(
                 concrete=c.get("padstone_concrete") or None,
                 f_ck=_num(c, "padstone_f_ck"),
-                precast=_yes_no(c, "padstone_precast"),
+                reinforced=_yes_no(c, "padstone_reinforced"),
+            ),
+            **dict(
+                zip(
+                    ("position_across", "offset_across"),
+                    _padstone_across(c, "padstone_across"),
+                    strict=True,
+                )
             ),
         )
     # An empty cell leaves the core's own default, so the defaults live in one place.
@@ -625,6 +676,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
                 mortar=c.get("mortar") or None,
                 f_k=_num(c, "f_k"),
                 shell_bedded=_yes_no(c, "shell_bedded"),
+                collar_joint=_yes_no(c, "collar_joint"),
                 unit_category=c.get("unit_category") or None,
                 execution_class=_int(c, "execution_class"),
                 manufacturing_control=c.get("manufacturing_control") or None,
@@ -643,6 +695,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
     measurements = checklist = None
     if any(c.get(k) for k in ASBUILT_COLUMNS):
         present = _yes_no(c, "asbuilt_padstone")
+        built_across = _padstone_across(c, "asbuilt_padstone_across")
         measurements = Measurements(
             bearing_length=_num(c, "asbuilt_bearing_length"),
             flange_width=_num(c, "asbuilt_flange_width"),
@@ -653,6 +706,9 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             padstone_width=_num(c, "asbuilt_padstone_width"),
             padstone_depth=_num(c, "asbuilt_padstone_depth"),
             padstone_concrete=c.get("asbuilt_padstone_concrete") or None,
+            padstone_reinforced=_yes_no(c, "asbuilt_padstone_reinforced"),
+            padstone_position=built_across[0],
+            padstone_offset_across=built_across[1],
             wall_thickness=_num(c, "asbuilt_wall_thickness"),
             a1=_num(c, "asbuilt_a1"),
             a2=_num(c, "asbuilt_a2"),
@@ -660,6 +716,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
             masonry_group=_int(c, "asbuilt_unit_group"),
             unit_strength=_num(c, "asbuilt_unit_strength"),
             mortar=c.get("asbuilt_mortar") or None,
+            collar_joint=_yes_no(c, "asbuilt_collar_joint"),
         )
         checklist = Checklist(
             bedded=_yes_no(c, "asbuilt_bedded"),
@@ -674,7 +731,7 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
 
 
 PADSTONE_SIZE = ("padstone_length", "padstone_width", "padstone_depth")
-PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_precast")
+PADSTONE_DETAILS = ("padstone_concrete", "padstone_f_ck", "padstone_reinforced", "padstone_across")
 ASBUILT_PADSTONE_SIZE = (
     "asbuilt_padstone_length",
     "asbuilt_padstone_width",
@@ -705,7 +762,16 @@ def _needed_together(c: dict[str, str]) -> None:
                     "padstone_depth are empty); or give the padstone's size",
                 )
     present = _yes_no(c, "asbuilt_padstone")
-    built = [k for k in (*ASBUILT_PADSTONE_SIZE, "asbuilt_padstone_concrete") if c.get(k)]
+    built = [
+        k
+        for k in (
+            *ASBUILT_PADSTONE_SIZE,
+            "asbuilt_padstone_concrete",
+            "asbuilt_padstone_reinforced",
+            "asbuilt_padstone_across",
+        )
+        if c.get(k)
+    ]
     if present is False and built:
         raise _RowProblem(
             built[0],
@@ -722,6 +788,25 @@ def _needed_together(c: dict[str, str]) -> None:
                 f"required with {said}, as the design has no padstone: a padstone found on "
                 "site is given by its length, width and depth as built",
             )
+
+
+def _padstone_across(c: dict[str, str], column: str) -> tuple[str | None, float | None]:
+    """A padstone_across cell as (position, offset): a named position, or a number, the
+    offset of the padstone's centre from the wall's centre line."""
+    text = c.get(column, "")
+    if not text:
+        return None, None
+    named = text.strip().lower()
+    if named in PADSTONE_POSITIONS and named != "offset":
+        return named, None
+    if _number_text(text) is None:
+        raise _RowProblem(
+            column,
+            text,
+            "near-face, centred, far-face, or the padstone centre's offset from the wall's "
+            "centre line in mm",
+        )
+    return "offset", _num(c, column)
 
 
 def _given(**values):

@@ -10,6 +10,7 @@ from __future__ import annotations
 import contextlib
 import functools
 import json
+import time
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
@@ -568,14 +569,17 @@ class Swept:
     orphan_files: int
 
 
-def sweep_photo_files(db, photos) -> Swept:
+def sweep_photo_files(db, photos, *, older_than_s: float = 0.0) -> Swept:
     """Remove what a crash mid-upload leaves in the photo store: temporary files, and
     pictures no photo row names (written, then the process died before its commit).
 
-    Run at start-up. Candidates are found without the lock (the store may be large); each is
-    removed only after it is found unnamed again inside a write transaction, where no upload
-    can be between writing a file and committing its row.
+    Run at start-up (everything such, ``older_than_s`` 0) and by ``sitecheck maintain``
+    while serving (only files older than ``older_than_s``). Candidates are found without the
+    lock (the store may be large); each is removed only after it is found unnamed again
+    inside a write transaction, where no upload can be between writing a file and
+    committing its row.
     """
+    cutoff = time.time() - older_than_s
     candidates: list[str] = []
     batch: list[str] = []
     for sha in photos.iter_all_shas():
@@ -584,13 +588,24 @@ def sweep_photo_files(db, photos) -> Swept:
             candidates += sorted(set(batch) - store.photo_files_in_use(db, batch))
             batch = []
     candidates += sorted(set(batch) - store.photo_files_in_use(db, batch))
+    if older_than_s > 0:
+        candidates = [sha for sha in candidates if _last_written(photos, sha) < cutoff]
     with store.transaction(db):
-        temporary = photos.remove_stale_temp_files(older_than_seconds=0)
+        temporary = photos.remove_stale_temp_files(older_than_seconds=older_than_s)
         orphans = sorted(set(candidates) - store.photo_files_in_use(db, candidates))
         for sha in orphans:
             with contextlib.suppress(OSError):
                 photos.delete(sha)
     return Swept(temporary, len(orphans))
+
+
+def _last_written(photos, sha: str) -> float:
+    """When the picture or its print copy was last written (the later of the two)."""
+    times = []
+    for path in (photos.path_for(sha), photos.print_path_for(sha)):
+        with contextlib.suppress(FileNotFoundError):
+            times.append(path.stat().st_mtime)
+    return max(times, default=0.0)
 
 
 def camera_time(capture_time: str | None) -> str | None:

@@ -350,6 +350,96 @@ def _named_checks() -> list[tuple[str, object, dict]]:
             ec6,
             _bearing(wall={"effective_thickness": 180.0, "clear_height": 2600.0}, wall_load=35.0),
         ),
+        # End bearings under a triangle: both readings of the loaded length, each governing
+        # somewhere (the hand examples of tests/test_recheck.py).
+        (
+            "ec6-end-bearing-whole-window-governs",
+            ec6,
+            _bearing(
+                reaction=58_000.0,
+                beam={"orientation": IN_LINE, "flange_width": 150.0},
+                wall={"a1": 0.0},
+                masonry={"f_k": 5.0, "gamma_M": 2.5, "unit_strength": None},
+                padstone={"length": 300.0, "depth": 215.0},
+            ),
+        ),
+        (
+            "ec6-end-bearing-spreader-both-readings",
+            ec6,
+            _bearing(
+                beam={"orientation": IN_LINE, "flange_width": 150.0},
+                wall={"a1": 25.0, "a2": 60.0},
+                padstone={"length": 1000.0, "depth": 250.0},
+            ),
+        ),
+        (
+            "bs-end-bearing-contact-governs",
+            bs,
+            _bearing(
+                reaction=60_000.0,
+                wall_load=166.0,
+                beam={"orientation": IN_LINE, "flange_width": 150.0},
+                wall={"a1": 0.0},
+                masonry={"material": "clay", "f_k": 7.0, "gamma_M": 3.5, "unit_strength": None},
+                padstone={"length": 300.0, "depth": 215.0},
+                bearing_type=3,
+                beta_s=0.5,
+            ),
+        ),
+        # Plain and reinforced padstones under a concentric in-line load, where an
+        # enlargement fits: plain takes none unless the basis allows it.
+        (
+            "ec6-plain-padstone-no-enhancement",
+            ec6,
+            _bearing(beam={**in_line, "offset_along": 0.0}, padstone={"depth": 215.0}),
+        ),
+        (
+            "ec6-plain-padstone-enhancement-allowed",
+            ec6_uk_na(plain_partial_area_enhancement=True, alpha_cc_pl=0.8),
+            _bearing(beam={**in_line, "offset_along": 0.0}, padstone={"depth": 215.0}),
+        ),
+        (
+            "ec6-reinforced-padstone",
+            ec6,
+            _bearing(
+                beam={**in_line, "offset_along": 0.0},
+                padstone={"depth": 215.0, "reinforced": True},
+            ),
+        ),
+        # The longitudinal (collar) joint: inferred from a one-brick wall, given, refused.
+        ("ec6-one-brick-wall-joint-inferred", ec6, _bearing(masonry=_BRICK)),
+        (
+            "ec6-one-brick-wall-no-joint-given",
+            ec6,
+            _bearing(masonry={**_BRICK, "collar_joint": False}),
+        ),
+        (
+            "ec6-block-wall-joint-given",
+            ec6_uk_na(collar_joint_factor=0.75),
+            _bearing(masonry={"collar_joint": True}),
+        ),
+        # A padstone narrower than the wall, placed across it each way.
+        *(
+            (
+                f"ec6-padstone-{name}",
+                ec6,
+                _bearing(
+                    beam={"bearing_length": 100.0},
+                    padstone={"width": 140.0, "position_across": position, "offset_across": offset},
+                ),
+            )
+            for name, position, offset in (
+                ("near-face", "near-face", None),
+                ("centred", "centred", None),
+                ("far-face", "far-face", None),
+                ("offset", "offset", 25.5),
+            )
+        ),
+        (
+            "ec6-in-line-padstone-at-far-face",
+            ec6,
+            _bearing(beam=in_line, padstone={"width": 140.0, "position_across": "far-face"}),
+        ),
         ("bs-across-on-padstone", bs, _bearing(masonry=_BRICK)),
         ("bs-brick-20-m4-table-value", bs, _bearing(masonry=_BRICK, padstone=None)),
         (
@@ -454,6 +544,7 @@ def _random_basis(rng: random.Random, ec6: bool):
             {"masonry_spread_deg": 50.0, "padstone_spread_deg": 40.0},
             {"gamma_M_ec6": {"1|I": 2.0, "1|II": 2.2, "2|I": 2.5, "2|II": 2.8}},
             {"k_values": {**ec6_uk_na().to_dict()["k_values"], "clay|1|general": 0.55}},
+            {"creep_lambda_c": {m: 12.0 for m in _MATERIALS}, "creep_phi_inf": {"clay": 0.5}},
         )
     )
     return ec6_uk_na(**overrides) if ec6 else bs5628(**overrides)
@@ -476,7 +567,12 @@ def _random_input(rng: random.Random, ec6: bool) -> dict:
             pad["concrete"] = "declared"
         else:
             pad["concrete"] = rng.choice(("C20/25", "C25/30", "C30/37", "C32/40", "C40/50"))
-        pad["precast"] = rng.random() < 0.7
+        pad["reinforced"] = rng.random() < 0.3
+        if width < t and rng.random() < 0.4:
+            position = rng.choice(("near-face", "centred", "far-face", "offset"))
+            pad["position_across"] = position
+            if position == "offset":
+                pad["offset_across"] = _offset(rng, (t - width) / 2)
         if orient == ACROSS:
             b_f = min(b_f, length)
             l_b = min(_length(rng, (90.0, 100.0, 125.0, 150.0, 215.0), 50.0, 300.0), width)
@@ -567,6 +663,8 @@ def _common_masonry(rng: random.Random, masonry: dict) -> dict:
     masonry["manufacturing_control"] = rng.choice(("normal", "special"))
     masonry["construction_control"] = rng.choice(("normal", "special"))
     masonry["shell_bedded"] = rng.random() < 0.08
+    if rng.random() < 0.15:
+        masonry["collar_joint"] = rng.random() < 0.5
     return masonry
 
 
@@ -694,7 +792,7 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
         ("beam", "flange_width", 0.133, 1200.0),
         ("beam", "bearing_length", 0.15, 1500.0),
         ("wall", "thickness", 9.0, 1100.0),
-        ("wall", "height_to_bearing", 2.015625, 31000.0),
+        ("wall", "height_to_bearing", 2.0625, 31000.0),
         ("wall", "clear_height", 2.4, 40000.0),
         ("wall", "effective_height", 0.0025, 70000.0),
         ("wall", "effective_thickness", 0.2, 1001.0),
@@ -733,6 +831,26 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
         add(f"concrete-read-{concrete}", data)
     add("fck-out-of-range", change("padstone", f_ck=95.0))
     add("fck-text", change("padstone", f_ck="thirty"))
+    add("reinforced-text", change("padstone", reinforced="yes"))
+    add("collar-joint-text", change("masonry", collar_joint="yes"))
+    narrow = {"width": 140.0}
+    add("padstone-position-unknown", change("padstone", **narrow, position_across="middle"))
+    add("padstone-offset-missing", change("padstone", **narrow, position_across="offset"))
+    add(
+        "padstone-offset-not-needed",
+        change("padstone", **narrow, position_across="centred", offset_across=10.0),
+    )
+    add(
+        "padstone-offset-off-wall",
+        _bearing(
+            beam={"bearing_length": 100.0},
+            padstone={**narrow, "position_across": "offset", "offset_across": 40.0},
+        ),
+    )
+    add(
+        "padstone-offset-text",
+        change("padstone", **narrow, position_across="offset", offset_across="left"),
+    )
     # Distances and offsets.
     add("a1-negative", change("wall", a1=-10.0))
     add("a2-text", change("wall", a2="far"))
@@ -809,6 +927,13 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     add("no-k-aac-group-2", change("masonry", material="autoclaved aerated concrete", group=2))
     add("no-k-stone-group-3", change("masonry", material="manufactured stone", group=3))
     add(
+        "no-creep-values-for-the-unit",
+        _bearing(
+            wall={"thickness": 100.0}, padstone={"width": 100.0}, beam={"bearing_length": 90.0}
+        ),
+        ec6_uk_na(creep_lambda_c={"clay": 27.0}).to_dict(),
+    )
+    add(
         "no-gamma-for-class",
         change("masonry", execution_class=1),
         ec6_uk_na(gamma_M_ec6={"2|I": 2.7, "2|II": 3.0}).to_dict(),
@@ -829,4 +954,25 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     out.append(("basis-unknown-value", {**ec6, "colour": "red"}, _full(_bearing())))
     out.append(("basis-unknown-name", {**ec6, "name": "BS 8110"}, _full(_bearing())))
     out.append(("basis-unknown-among-known", {"k_E": 900.0, "beta": 1.0}, _full(_bearing())))
+    # Values of a known basis that make no physical sense, each refused by name.
+    for name, changes in (
+        ("gamma-c-zero", {"gamma_c": 0.0}),
+        ("alpha-cc-text", {"alpha_cc": "0.85"}),
+        ("k-e-infinite", {"k_E": float("inf")}),
+        ("slenderness-limit-true", {"slenderness_limit": True}),
+        ("spreader-flag-text", {"spreader_route_for_groups_2_to_4": "yes"}),
+        ("k-value-too-large", {"k_values": {**ec6["k_values"], "clay|1|general": 5.0}}),
+        ("gamma-m-true", {"gamma_M_ec6": {**ec6["gamma_M_ec6"], "2|I": True}}),
+        ("bearing-type-factors-two", {"bearing_type_factors": [1.25, 1.5]}),
+        ("bearing-type-factor-zero", {"bearing_type_factors": [1.25, 0.0, 2.0]}),
+        ("alpha-cc-pl-zero", {"alpha_cc_pl": 0.0}),
+        ("plain-enhancement-text", {"plain_partial_area_enhancement": "no"}),
+    ):
+        out.append((f"basis-{name}", {**ec6, **changes}, _full(_bearing())))
+    # Whole-number choices given as true, and an eccentricity the wall cannot carry.
+    add("group-true", change("masonry", group=True))
+    add("execution-class-true", change("masonry", execution_class=True))
+    add("bearing-type-true", change("top", bearing_type=True))
+    add("e-mk-infinite", change("top", e_mk=float("inf")))
+    add("e-mk-half-the-wall", change("top", e_mk=107.5))
     return out

@@ -156,7 +156,7 @@ def designs() -> list[tuple[str, CodeBasis, BearingInput]]:
                 beam=Beam(flange_width=133.0, bearing_length=150.0, offset_along=20.0),
                 wall=Wall(thickness=215.0, height_to_bearing=2700.0, a1=250.0, a2=1200.0),
                 masonry=Masonry(f_k=4.5),
-                padstone=replace(PAD_440_215_140, concrete="C30/37", precast=False),
+                padstone=replace(PAD_440_215_140, concrete="C30/37", reinforced=True),
             ),
         ),
         (
@@ -223,7 +223,7 @@ def designs() -> list[tuple[str, CodeBasis, BearingInput]]:
                 beam=Beam(flange_width=171.0, bearing_length=200.0),
                 wall=Wall(thickness=300.0, height_to_bearing=3000.0, a1=600.0),
                 masonry=_block(17.5),
-                padstone=Padstone(length=440.0, width=250.0, depth=140.0, precast=False),
+                padstone=Padstone(length=440.0, width=250.0, depth=140.0, reinforced=True),
             ),
         ),
         (
@@ -538,6 +538,36 @@ HAND_CASES: tuple[tuple[str, str, dict, dict, dict | None], ...] = (
     ("ec6-across-declared", "concrete-lower-case", {"padstone_concrete": "c25/30"}, {}, None),
     ("ec6-across-pad", "concrete-blank", {"padstone_concrete": ""}, {}, None),
     ("ec6-across-pad", "concrete-unknown", {"padstone_concrete": "C99"}, {}, None),
+    # Plain or reinforced (EN 1992-1-1 section 12 takes α_cc,pl for plain concrete).
+    ("ec6-across-declared", "built-plain", {"padstone_reinforced": False}, {}, None),
+    ("ec6-across-pad", "built-reinforced", {"padstone_reinforced": True}, {}, None),
+    ("ec6-across-bare", "reinforced-but-no-padstone", {"padstone_reinforced": True}, {}, None),
+    # A collar joint seen in the wall: EC6 takes 0.8 × K (from memory).
+    ("ec6-across-pad", "collar-joint-found", {"collar_joint": True}, {}, None),
+    ("ec6-across-pad", "no-collar-joint", {"collar_joint": False}, {}, None),
+    # The padstone's position across the wall, as found.
+    (
+        "ec6-across-pad",
+        "padstone-centred",
+        {"padstone_position": "centred", "padstone_width": 140.0},
+        {},
+        None,
+    ),
+    (
+        "ec6-across-pad",
+        "padstone-offset",
+        {"padstone_offset_across": 20.0, "padstone_width": 140.0},
+        {},
+        None,
+    ),
+    (
+        "ec6-across-pad",
+        "padstone-off-the-wall",
+        {"padstone_offset_across": 60.0, "padstone_width": 140.0},
+        {},
+        None,
+    ),
+    ("ec6-across-pad", "padstone-position-unknown", {"padstone_position": "middle"}, {}, None),
     (
         "ec6-across-fck",
         "concrete-with-sizes",
@@ -798,6 +828,7 @@ def _random_measurements(rng: random.Random, design: BearingInput) -> dict:
             lambda: {"padstone_width": near(pad.width, (4, 15, 75))},
             lambda: {"padstone_depth": near(pad.depth, (6, 12, 40))},
             lambda: {"padstone_concrete": rng.choice(STANDARD_CLASSES)},
+            lambda: {"padstone_reinforced": rng.random() < 0.5},
             lambda: NO_PADSTONE,
         ]
     else:
@@ -929,6 +960,50 @@ def _remedy_inputs() -> list[tuple[str, CodeBasis, BearingInput, dict]]:
         lambda d: _loaded(replace(d, padstone=None), 70_000.0),
     )
     add("in-line-overloaded", "ec6-inline-brick", lambda d: _loaded(d, 90_000.0))
+    # An offset typed in at the default position gets the same hint as one left empty.
+    add(
+        "in-line-offset-at-default",
+        "ec6-inline-brick",
+        lambda d: _loaded(
+            replace(
+                d,
+                beam=replace(
+                    d.beam,
+                    offset_along=(d.beam.bearing_length - d.padstone.length) / 2,
+                    offset_across=0.0,
+                ),
+            ),
+            90_000.0,
+        ),
+    )
+    add(
+        "across-offset-at-default",
+        "ec6-across-pad",
+        lambda d: _loaded(
+            replace(
+                d,
+                beam=replace(
+                    d.beam,
+                    offset_along=0.0,
+                    offset_across=(d.beam.bearing_length - d.padstone.width) / 2,
+                ),
+            ),
+            230_000.0,
+        ),
+    )
+    # A beam placed off its default, on a padstone placed off its default.
+    add(
+        "across-off-default-centred-padstone",
+        "ec6-across-pad",
+        lambda d: _loaded(
+            replace(
+                d,
+                beam=replace(d.beam, bearing_length=100.0, offset_across=-10.0),
+                padstone=replace(d.padstone, width=140.0, position_across="centred"),
+            ),
+            120_000.0,
+        ),
+    )
     add("in-line-bare-web-off", "ec6-inline-bare", lambda d: d)
     add("thin-wall", "ec6-across-aac", lambda d: _loaded(d, 45_000.0))
     add("small-pad-overloaded", "ec6-across-small-pad", lambda d: _loaded(d, 60_000.0))

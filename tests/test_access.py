@@ -25,6 +25,7 @@ ROUTES = {
     "pages.home_json": "login",
     "pages.api_csrf": "public",
     "pages.manifest": "public",
+    "health.healthz": "public",
     "auth.login": "public",
     "auth.logout": "public",
     "auth.change_password": "login",
@@ -35,6 +36,9 @@ ROUTES = {
     "sites.new": "make-sites",
     "sites.site_makers": "make-sites",
     "sites.set_site_maker": "make-sites",
+    "people.people": "make-sites",
+    "people.act": "make-sites",
+    "people.new_password": "public",
     "sites.show": "view",
     "sites.show_json": "view",
     "sites.bearing": "view",
@@ -165,6 +169,7 @@ def world(app, db, site, people):
         "photo_uuid": stored.row["uuid"],
         "size": "thumb",
         "user_id": people["viewer"].id,
+        "action": "new-password",
         "filename": "app.css",
     }
 

@@ -152,6 +152,30 @@ def test_core_is_pure(path):
             )
 
 
+def test_a_basis_value_for_the_run_is_used_and_a_non_physical_one_refused(tmp_path, capsys):
+    path = tmp_path / "s.csv"
+    path.write_text(
+        "reference,reaction_kN,flange_width,bearing_length,wall_thickness,height_to_bearing,"
+        "padstone_length,padstone_width,padstone_depth,padstone_reinforced,f_k\n"
+        "P1,40,133,150,215,2400,440,215,140,yes,4.0\n",
+        encoding="utf-8",
+    )
+    assert main(["check", "--json", "--basis-value", "alpha_cc=1.0", str(path)]) == 0
+    data = json.loads(capsys.readouterr().out)
+    # f_cd = α_cc f_ck / γ_c, EN 1992-1-1 eqn 3.15: C25/30 with α_cc = 1.0, γ_c = 1.5.
+    assert data["bearings"][0]["design"]["strengths"]["f_cd"] == pytest.approx(25 / 1.5)
+    for value, field in (
+        ("gamma_c=0", "basis.gamma_c"),
+        ("alpha_cc=nan", "basis.alpha_cc"),
+        ("gamma_M_ec6.2|I=abc", "basis.gamma_M_ec6.2|I"),
+        ("colour=red", "basis.colour"),
+        ("alpha_cc", "--basis-value"),
+    ):
+        assert main(["check", "--basis-value", value, str(path)]) == 2
+        captured = capsys.readouterr()
+        assert captured.out == "" and f"sitecheck: --basis-value: {field}" in captured.err
+
+
 def test_create_engineer_makes_an_account_that_may_make_sites(tmp_path, monkeypatch, capsys):
     from sitecheck import store
 

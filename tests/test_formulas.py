@@ -12,7 +12,7 @@ import math
 import pytest
 from structuralcodes.codes import ec2_2004
 
-from sitecheck.bearing import InputError, Masonry, bs5628, ec6_uk_na
+from sitecheck.bearing import InputError, Masonry, Padstone, bs5628, ec6_uk_na
 from sitecheck.bearing.formulas import F_Rdu, beta_bs5628, beta_ec6, linear_pressure, phi_m
 from sitecheck.bearing.strength import delta, f_cd, f_k_bs5628, f_k_ec6, masonry_strengths
 
@@ -30,6 +30,26 @@ def test_f_cd_uk_value_for_c25_30():
     # EN 1992-1-1 eqn 3.15 with the UK NA's alpha_cc = 0.85 and gamma_c = 1.5 (Table 2.1N):
     # 0.85 × 25 / 1.5 = 14.1667 N/mm², worked by hand.
     assert f_cd(25, 0.85, 1.5) == pytest.approx(14.16667, rel=1e-5)
+
+
+@pytest.mark.parametrize("alpha_cc_pl", [0.6, 0.8])
+def test_plain_concrete_f_cd_is_eqn_3_15_with_alpha_cc_pl(alpha_cc_pl):
+    """EN 1992-1-1 12.3.1: plain concrete takes α_cc,pl in eqn 3.15; 0.8 recommended,
+    0.6 in the UK NA (both from memory). C25/30: 0.6 × 25/1.5 = 10.0 and 0.8 × 25/1.5
+    = 13.333 N/mm² by hand; the reference library's fcd gives the same with that α."""
+    pad = Padstone(length=440.0, width=215.0, depth=140.0)  # plain, the default
+    s = masonry_strengths(Masonry(f_k=4.0), pad, ec6_uk_na(alpha_cc_pl=alpha_cc_pl))
+    assert s.f_cd == pytest.approx(alpha_cc_pl * 25 / 1.5, rel=1e-12)
+    assert s.f_cd == pytest.approx(ec2_2004.fcd(25, alpha_cc_pl, 1.5), rel=1e-12)
+    assert s.steps[-1].symbol == "f_cd,pl" and s.steps[-1].source == "M"
+
+
+def test_plain_is_the_default_and_the_uk_alpha_cc_pl_is_a_visible_basis_value():
+    from sitecheck.bearing import SOURCES
+
+    assert Padstone(length=440.0, width=215.0, depth=140.0).reinforced is False
+    assert ec6_uk_na().alpha_cc_pl == 0.6  # UK NA, from memory
+    assert "[M]" in SOURCES["alpha_cc_pl"] and "0.8" in SOURCES["alpha_cc_pl"]
 
 
 def test_partially_loaded_area_published_check_value():
@@ -109,6 +129,21 @@ def test_beta_area_ratio_is_capped_at_0_45():
     assert beta_ec6(0.0, 2400.0, 80_000.0, 100_000.0) == pytest.approx(1.005)
     # The lower bound 1.0 cannot bind once the ratio is capped (methods note §8).
     assert beta_ec6(0.0, 2400.0, 100_000.0, 100_000.0) > 1.0
+
+
+def test_beta_for_a_wall_that_runs_on_is_never_below_a_wall_with_an_end_near():
+    """A bearing low on a wall (h_c = 600 mm) with the area ratio at its cap, 0.45. By hand,
+    EN 1996-1-1 eqn 6.10 with its limits (from memory):
+    an opening 1200 mm away: (1 + 0.3 × 1200/600)(1.5 − 1.1 × 0.45) = 1.6 × 1.005 = 1.608,
+    capped at min(1.25 + 1200/1200, 1.5) = 1.5;
+    the same wall running on, read as a1 = h_c (the old reading):
+    (1 + 0.3)(1.005) = 1.3065, worse than with the opening. A wall that runs on has
+    a1 → ∞ and takes the upper limit, 1.5 (methods note §8)."""
+    with_opening = beta_ec6(1200.0, 600.0, 45_000.0, 100_000.0)
+    assert with_opening == pytest.approx(1.5)
+    running_on = beta_ec6(None, 600.0, 45_000.0, 100_000.0)
+    assert running_on == pytest.approx(1.5) and running_on >= with_opening
+    assert beta_ec6(600.0, 600.0, 45_000.0, 100_000.0) == pytest.approx(1.3065)
 
 
 def test_beta_formula_between_its_limits():
@@ -208,9 +243,14 @@ def test_ec6_partial_factors_uk_na(execution_class, category, gamma):
 
 
 def test_shape_factor_for_a_standard_brick():
-    # δ = 0.85 for a 65 mm high, 102.5 mm wide brick (methods note, seen in a public
-    # source, quoted to two decimals); our interpolation of EN 772-1 Table A.1 gives 0.845.
-    assert round(delta(65.0, 102.5) + 1e-12, 2) == 0.85
+    """A 65 mm high, 102.5 mm wide brick falls between two cells of EN 772-1 Table A.1
+    (from memory): 65 high × 100 wide → 0.85 (the value the methods note saw quoted for a
+    standard brick) and 65 high × 150 wide → 0.75. Linear interpolation between them
+    (EN 772-1 Annex A allows it, from memory) gives, by hand,
+    0.85 + (0.75 − 0.85) × (102.5 − 100)/(150 − 100) = 0.85 − 0.005 = 0.845."""
+    assert delta(65.0, 100.0) == pytest.approx(0.85)
+    assert delta(65.0, 150.0) == pytest.approx(0.75)
+    assert delta(65.0, 102.5) == pytest.approx(0.845, abs=1e-12)
 
 
 def test_shape_factor_table_cells():
@@ -279,3 +319,45 @@ def test_thin_layer_exponent():
     )
     assert masonry_strengths(m, None, ec6_uk_na()).f_k == pytest.approx(0.80 * 3.6**0.85)
     assert math.isclose(0.80 * 3.6**0.85, 2.37, rel_tol=0.01)
+
+
+# ---------------------------------------------------------------- longitudinal (collar) joint
+
+
+_BRICK = dict(
+    material="clay", group=1, unit_strength=20.0, unit_height=65.0, unit_width=102.5, mortar="M4"
+)
+
+
+def _joint_step(strengths):
+    return next(s for s in strengths.steps if s.symbol == "k_joint")
+
+
+def test_a_one_brick_wall_takes_0_8_k_for_its_collar_joint():
+    """EN 1996-1-1 3.6.1.2(1) (from memory): K × 0.8 where the wall has a mortar joint
+    parallel to its face. Inferred for a 215 mm wall of 102.5 mm wide bricks (two units
+    wide). By hand: f_b = δ f_u = 0.845 × 20 = 16.9; K = 0.50 (UK NA clay Group 1, from
+    memory) → 0.40; f_k = 0.40 × 16.9^0.7 × 4^0.3 = 0.40 × 7.2364 × 1.51572 = 4.3874 N/mm²,
+    0.8 of the 5.4842 of a half-brick wall."""
+    one_brick = masonry_strengths(Masonry(**_BRICK), None, ec6_uk_na(), 215.0)
+    half_brick = masonry_strengths(Masonry(**_BRICK), None, ec6_uk_na(), 102.5)
+    assert one_brick.f_k == pytest.approx(4.3874, rel=1e-4)
+    assert half_brick.f_k == pytest.approx(5.4842, rel=1e-4)
+    assert one_brick.f_k == pytest.approx(0.8 * half_brick.f_k, rel=1e-12)
+    assert _joint_step(one_brick).value == 0.8 and "inferred" in str(_joint_step(one_brick).inputs)
+    assert _joint_step(half_brick).value == 1.0
+
+
+def test_the_collar_joint_given_overrides_the_inference_and_unknown_assumes_none():
+    given_no = Masonry(**_BRICK, collar_joint=False)
+    assert _joint_step(masonry_strengths(given_no, None, ec6_uk_na(), 215.0)).value == 1.0
+    given_yes = Masonry(**_BRICK, collar_joint=True)
+    assert _joint_step(masonry_strengths(given_yes, None, ec6_uk_na(), 102.5)).value == 0.8
+    # A normalised strength with no unit size: the width is unknown, none is assumed, and
+    # the trace says so and how to say otherwise.
+    block = Masonry(unit_strength=10.0, unit_strength_is_normalised=True)
+    step = _joint_step(masonry_strengths(block, None, ec6_uk_na(), 215.0))
+    assert step.value == 1.0 and "not given" in step.formula
+    # A declared f_k is not worked from K: no joint step at all.
+    declared = masonry_strengths(Masonry(f_k=4.0), None, ec6_uk_na(), 215.0)
+    assert not any(s.symbol == "k_joint" for s in declared.steps)

@@ -105,8 +105,10 @@ def test_drawn_padstone_wall_and_beam_match_the_inputs_at_the_drawings_scale():
 def test_the_peak_pressure_label_is_the_results_sigma_max_as_rounded_on_it():
     _inp, result, root = _drawn(across_on_padstone())
     label = _role(root, "peak-pressure")[0]
-    shown = f"{result['spread']['sigma_max']:.2f}"
-    assert label.get("data-shown") == shown
+    shown = label.get("data-shown")
+    # Four significant figures, the one formatter's rule: 0.6757, not 0.68 or 6.757e-01.
+    assert len(shown.replace("0.", "", 1).lstrip("0")) == 4 and "e" not in shown
+    assert float(shown) == pytest.approx(result["spread"]["sigma_max"], rel=5e-4)
     assert f"σ_max {shown} N/mm²" in label.text
     pressure = _role(root, "pressure")[0]
     assert pressure.get("data-distribution") == result["spread"]["distribution"]
@@ -548,7 +550,7 @@ def test_the_record_command_writes_the_pdf_with_a_progress_bar(app, db, site, tm
 # before them leaves them out.
 NEWER_COLUMNS = (
     "padstone_f_ck",
-    "padstone_precast",
+    "padstone_reinforced",
     "effective_thickness",
     "unit_strength_normalised",
     "unit_conditioning",
@@ -592,6 +594,7 @@ def every_field(**changes) -> BearingInput:
             mortar="M6",
             f_k=4.3,
             shell_bedded=True,
+            collar_joint=True,
             unit_category="II",
             execution_class=1,
             manufacturing_control="special",
@@ -599,7 +602,14 @@ def every_field(**changes) -> BearingInput:
             gamma_M=2.45,
         ),
         padstone=Padstone(
-            length=440.0, width=215.0, depth=140.0, concrete="C30/37", f_ck=28.5, precast=False
+            length=440.0,
+            width=200.0,
+            depth=140.0,
+            concrete="C30/37",
+            f_ck=28.5,
+            reinforced=True,
+            position_across="offset",
+            offset_across=3.25,
         ),
         bearing_type=2,
         e_mk=12.5,
@@ -781,7 +791,7 @@ def test_a_schedule_written_before_the_newer_columns_imports_as_before():
     assert [r.design for r in a.rows] == [r.design for r in b.rows]
     first = b.rows[0].design
     # The core's defaults (sitecheck/bearing/inputs.py), not values of the schedule's own.
-    assert first.padstone.precast is True and first.padstone.f_ck is None
+    assert first.padstone.reinforced is False and first.padstone.f_ck is None
     assert first.masonry.conditioning == "air-dried" and first.masonry.shell_bedded is False
     assert first.masonry.manufacturing_control == "normal" and first.e_mk is None
 
@@ -804,7 +814,17 @@ def _one_row(**cells) -> str:
     "cells, column, says",
     [
         ({"padstone_f_ck": "30"}, "padstone_f_ck", "the row has no padstone"),
-        ({"padstone_precast": "no"}, "padstone_precast", "the row has no padstone"),
+        ({"padstone_reinforced": "no"}, "padstone_reinforced", "the row has no padstone"),
+        (
+            {
+                "padstone_length": "440",
+                "padstone_width": "215",
+                "padstone_depth": "140",
+                "padstone_reinforced": "steel",
+            },
+            "padstone_reinforced",
+            "yes or no",
+        ),
         ({"shell_bedded": "perhaps"}, "shell_bedded", "yes or no"),
         ({"unit_strength_normalised": "2"}, "unit_strength_normalised", "yes or no"),
         ({"e_mk": "twelve"}, "e_mk", "a number in mm"),

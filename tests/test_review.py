@@ -11,7 +11,7 @@ from dataclasses import replace
 import pytest
 
 from bearings import across_on_padstone, brick_in_line_end
-from sitecheck.bearing import Masonry, Padstone, bs5628, check_bearing, ec6_uk_na
+from sitecheck.bearing import Load, Masonry, Padstone, bs5628, check_bearing, ec6_uk_na
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.remedy import remedy
 from sitecheck.bearing.review import (
@@ -217,3 +217,47 @@ def test_remedy_finds_the_shortest_bearing():
     # e ≤ t/4 needs the reaction within 53.75 of the centre: l_b/2 ≥ 107.5 − 53.75 → l_b ≥ 107.5,
     # so in 5 mm steps from 100 (the trade minimum): 110 mm.
     assert hint.bearing_length == 110.0
+
+
+@pytest.mark.parametrize("basis", [ec6_uk_na(), bs5628()], ids=["ec6", "bs5628"])
+def test_an_offset_typed_at_the_default_position_gives_the_same_hint(basis):
+    """A user who types the position the beam would take anyway (flush with the span end
+    of an in-line padstone, web on the centre line; flush with the near face across) means
+    the same bearing: the hint must not change. Lengthening a typed bearing used to push it
+    off its padstone, so the hint read "redesign"."""
+    inline = brick_in_line_end(load=Load(reaction=120_000.0))
+    typed = replace(
+        inline,
+        beam=replace(
+            inline.beam,
+            offset_along=(inline.beam.bearing_length - inline.padstone.length) / 2,
+            offset_across=0.0,
+        ),
+    )
+    assert remedy(typed, basis) == remedy(inline, basis)
+    across = across_on_padstone(
+        padstone=None, beam=replace(across_on_padstone().beam, bearing_length=100.0)
+    )
+    typed = replace(across, beam=replace(across.beam, offset_across=(100.0 - 215.0) / 2))
+    assert remedy(typed, basis) == remedy(across, basis)
+
+
+def test_a_beam_placed_off_its_default_stays_put_when_a_new_padstone_is_tried():
+    # 100 mm bearing 10 mm nearer the face than flush would be, on a 140 mm padstone centred
+    # in a 215 mm wall: the flange's centre is 37.5 + 70 − 10 = 97.5 mm from the near face.
+    # The hint's padstones are laid centred as the old one was, and the beam keeps that place.
+    inp = across_on_padstone(load=Load(reaction=120_000.0))
+    inp = replace(
+        inp,
+        beam=replace(inp.beam, bearing_length=100.0, offset_across=-10.0),
+        padstone=replace(inp.padstone, width=140.0, position_across="centred"),
+    )
+    hint = remedy(inp, ec6_uk_na())
+    assert hint.padstone is not None
+    from sitecheck.bearing.remedy import _with_padstone
+
+    tried = _with_padstone(
+        inp, hint.padstone.length, hint.padstone.width, hint.padstone.depth, "C25/30"
+    )
+    result = check_bearing(tried, ec6_uk_na())
+    assert result.spread.support_y0 + result.spread.reaction_y == pytest.approx(97.5)

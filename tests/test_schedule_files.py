@@ -406,7 +406,7 @@ def test_the_readme_says_which_columns_are_needed_together():
         "padstone_length",
         "padstone_concrete",
         "padstone_f_ck",
-        "padstone_precast",
+        "padstone_reinforced",
         "unit_strength",
         "unit_height",
         "unit_width",
@@ -491,3 +491,23 @@ def test_a_workbook_uploaded_is_refused_saying_so(client_as, db, site):
     )
     assert r.status_code == 400 and _refused(r.data) == [(0, "")]
     assert b"spreadsheet workbook" in r.data and b"whole file" in r.data
+
+
+def test_an_older_schedule_with_the_precast_column_imports_and_says_it_was_not_read(
+    tmp_path, capsys
+):
+    from sitecheck.cli import main
+
+    text = (
+        "reference,reaction_kN,flange_width,bearing_length,wall_thickness,height_to_bearing,"
+        "padstone_length,padstone_width,padstone_depth,padstone_precast,f_k\n"
+        "P1,40,133,150,215,2400,440,215,140,yes,4.0\n"
+    )
+    parsed = parse_schedule(text)
+    assert not parsed.errors and not parsed.unknown_columns
+    assert parsed.rows[0].design.padstone.reinforced is False
+    assert any("padstone_precast is no longer read" in n for n in parsed.notes)
+    path = tmp_path / "old.csv"
+    path.write_text(text, encoding="utf-8")
+    assert main(["check", str(path)]) == 0
+    assert "padstone_precast is no longer read" in capsys.readouterr().out

@@ -198,7 +198,8 @@ def test_first_open_applies_every_migration_in_order(db):
         "m008_recorded_after_release",
         "m009_record_jobs",
         "m010_could_not_measure",
-        "m011_results_stored_once",
+        "m011_leases",
+        "m012_results_stored_once",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
@@ -1185,3 +1186,29 @@ def test_latest_record_summaries_hold_the_record_that_sets_each_state(world):
     assert latest["passed"] is True and latest["older_revision"] is False
     assert "result" not in latest and "reasons" not in latest  # the heavy columns stay out
     assert second["id"] not in summaries
+
+
+def test_a_lease_is_one_holders_until_it_runs_out_or_is_given_up(db):
+    from datetime import timedelta
+
+    now = store.utc_now()
+    assert store.take_lease(db, name="mail sender", holder="a", lease_s=60, now=now)
+    assert not store.take_lease(db, name="mail sender", holder="b", lease_s=60, now=now)
+    later = now + timedelta(seconds=30)
+    assert store.take_lease(db, name="mail sender", holder="a", lease_s=60, now=later)  # renewed
+    held = store.lease_holder(db, name="mail sender", now=later)
+    assert held["holder"] == "a" and held["taken_at"] == store.timestamp(now)
+    # a's renewal holds it to later + 60 s; after that, b may take it.
+    assert not store.take_lease(
+        db, name="mail sender", holder="b", lease_s=60, now=now + timedelta(seconds=89)
+    )
+    assert store.take_lease(
+        db, name="mail sender", holder="b", lease_s=60, now=now + timedelta(seconds=91)
+    )
+    store.release_lease(db, name="mail sender", holder="a")  # not a's any more: nothing
+    assert (
+        store.lease_holder(db, name="mail sender", now=now + timedelta(seconds=92))["holder"] == "b"
+    )
+    store.release_lease(db, name="mail sender", holder="b")
+    assert store.lease_holder(db, name="mail sender") is None
+    assert store.take_lease(db, name="mail sender", holder="c", lease_s=60)

@@ -18,6 +18,7 @@ from sitecheck.bearing import (
     ec6_uk_na,
     input_errors,
 )
+from sitecheck.bearing.basis import SCALAR_BOUNDS
 
 
 def _refusal(inp, basis=None):
@@ -149,3 +150,76 @@ def test_an_offset_that_is_not_a_number_is_reported_not_raised():
     )
     problems = list(input_errors(inp, ec6_uk_na()))
     assert [p.field for p in problems] == ["beam.offset_across"]
+
+
+# --- the code basis, checked like the inputs ------------------------------------------------
+
+
+def test_every_value_of_a_basis_is_checked():
+    from dataclasses import fields
+
+    from sitecheck.bearing.basis import FLAGS, TABLE_BOUNDS, CodeBasis
+
+    covered = {"name", *FLAGS, *SCALAR_BOUNDS, *TABLE_BOUNDS}
+    assert {f.name for f in fields(CodeBasis)} == covered
+
+
+@pytest.mark.parametrize("name", sorted(SCALAR_BOUNDS))
+@pytest.mark.parametrize(
+    "value, code",
+    [
+        (float("nan"), "not-a-number"),
+        (float("inf"), "not-a-number"),
+        (True, "not-a-number"),
+        ("1.5", "not-a-number"),
+        (-1.0, "out-of-range"),
+        (1e6, "out-of-range"),
+    ],
+    ids=["nan", "inf", "true", "text", "negative", "huge"],
+)
+def test_a_non_physical_basis_value_is_refused_by_name(name, value, code):
+    with pytest.raises(InputError) as e:
+        ec6_uk_na(**{name: value})
+    assert e.value.field == f"basis.{name}" and e.value.code == code
+
+
+def test_the_issues_examples_of_a_non_physical_basis():
+    for changes, field in (
+        ({"gamma_c": 0}, "basis.gamma_c"),
+        ({"alpha_cc": float("nan")}, "basis.alpha_cc"),
+        ({"gamma_M_ec6": {"2|I": 0.0}}, "basis.gamma_M_ec6.2|I"),
+        ({"bearing_type_factors": [1.25, 1.5]}, "basis.bearing_type_factors"),
+        ({"spreader_route_for_groups_2_to_4": "yes"}, "basis.spreader_route_for_groups_2_to_4"),
+    ):
+        with pytest.raises(InputError) as e:
+            bs5628(**changes)
+        assert e.value.field == field, changes
+
+
+@pytest.mark.parametrize("group", [1.0, True, 2.5, 0, 5])
+def test_a_group_that_is_not_a_whole_number_1_to_4_gets_the_plain_error(group):
+    inp = across_on_padstone(masonry=replace(across_on_padstone().masonry, group=group))
+    e = _refusal(inp)
+    assert (e.field, e.expected) == ("masonry.group", "a whole number 1 to 4")
+
+
+def test_whole_number_choices_refuse_true_and_floats():
+    base = across_on_padstone()
+    assert _refusal(replace(base, bearing_type=True)).field == "bearing_type"
+    assert _refusal(replace(base, bearing_type=1.0)).field == "bearing_type"
+    e = _refusal(replace(base, masonry=replace(base.masonry, execution_class=True)))
+    assert e.field == "masonry.execution_class"
+
+
+@pytest.mark.parametrize("e_mk", [float("inf"), float("nan"), 107.5, 200.0, -0.5])
+def test_an_eccentricity_the_wall_cannot_carry_is_refused(e_mk):
+    # At e_mk = t/2 the EC6 Annex G factor A1 = 1 − 2 e_mk/t is 0 (from memory): a 215 mm
+    # wall has nothing left at 107.5 mm.
+    e = _refusal(replace(across_on_padstone(), e_mk=e_mk))
+    assert e.field == "e_mk" and e.code == "out-of-range"
+    assert "107.5 mm" in e.expected
+
+
+def test_an_eccentricity_just_inside_half_the_wall_is_taken():
+    result = check_bearing(replace(across_on_padstone(), e_mk=107.0), ec6_uk_na())
+    assert result.check("mid-height").capacity > 0

@@ -182,8 +182,10 @@ def test_every_error_the_core_can_raise_has_a_case(fresh):
 def test_error_cases_include_the_metres_hint_and_the_formula_limits(fresh):
     by_id = {c["id"]: c for c in fresh["errors"]}
     hint = by_id["error-wall-height_to_bearing-metres"]["expect"][0]
-    # 2.015625 m is an exact binary fraction: Python's format rounds its tie to even.
-    assert hint["code"] == "looks-like-metres" and "did you mean 2015.62 mm?" in hint["expected"]
+    # 2.0625 m and 2062.5 mm are exact binary fractions and ties at four significant figures:
+    # the one formatter rounds them to even, as Python does, with commas between thousands.
+    assert hint["code"] == "looks-like-metres"
+    assert "2.062 looks like metres: did you mean 2,062 mm?" in hint["expected"]
     only_formula = [c for c in fresh["errors"] if not c["expect"]]
     assert len(only_formula) >= 5, "errors only a formula raises (no K value, δ table, f_b)"
     assert all(c["raises"]["code"] == "not-covered" for c in only_formula)

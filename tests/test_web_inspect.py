@@ -763,6 +763,28 @@ def test_a_form_sent_without_javascript_has_no_phone_verdict_to_compare(client_a
     assert _events(db, site, services.PHONE_VERDICT_DIFFERED) == []
 
 
+def test_the_new_as_built_fields_show_what_was_designed():
+    from bearings import across_on_padstone
+    from sitecheck.bearing.serial import input_to_dict
+    from sitecheck.web.record_form import SPECS, designed_text
+
+    plain = input_to_dict(across_on_padstone())
+    assert designed_text(plain, "padstone_reinforced") == "no"
+    assert designed_text(plain, "padstone_position") == "flush with the near face"
+    assert designed_text(plain, "collar_joint") == "inferred from the wall's thickness"
+    built = input_to_dict(across_on_padstone())
+    built["padstone"] |= {"reinforced": True, "position_across": "offset", "offset_across": 10.0}
+    built["masonry"]["collar_joint"] = True
+    assert designed_text(built, "padstone_reinforced") == "yes"
+    assert designed_text(built, "padstone_position") == "offset, as measured below"
+    assert designed_text(built, "padstone_offset_across") == "10 mm"
+    assert designed_text(built, "collar_joint") == "yes"
+    # Hints are words, and where the design value lives is a path into the input.
+    for name in ("padstone_reinforced", "padstone_position", "collar_joint"):
+        assert SPECS[name].unit == "" and isinstance(SPECS[name].hint, str)
+        assert SPECS[name].design is not None
+
+
 # --- could not measure ----------------------------------------------------------------------------
 
 

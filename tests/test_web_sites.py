@@ -10,6 +10,7 @@ import csv
 import io
 import re
 import uuid
+from html import unescape
 
 import pytest
 from flask import url_for
@@ -22,7 +23,7 @@ from sitecheck.bearing import SOURCES, basis_from_dict
 from sitecheck.bearing.review import settings_from_dict
 from sitecheck.schedule import DESIGN_COLUMNS
 
-# An invented bearing that passes at design: a 133 mm flange on a 440 × 215 × 140 precast
+# An invented bearing that passes at design: a 133 mm flange on a 440 × 215 × 140 plain
 # padstone on a 215 mm aggregate concrete block wall.
 GOOD = {
     "reference": "T-1",
@@ -42,7 +43,7 @@ GOOD = {
     "padstone_depth": "140",
     "padstone_concrete": "C25/30",
     "padstone_f_ck": "",
-    "padstone_precast": "precast",
+    "padstone_reinforced": "plain",
     "wall_thickness": "215",
     "height_to_bearing": "2475",
     "clear_height": "",
@@ -786,7 +787,13 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
     c = client_as("engineer")
     url = f"/sites/{site['id']}/settings"
     data = _form_values(c.get(url).data)
-    data |= {"alpha_cc": "1.0", "k_clay_1_general": "0.6", "threshold": "0.8"}
+    data |= {
+        "alpha_cc": "1.0",
+        "alpha_cc_pl": "0.8",
+        "plain_partial_area_enhancement": "y",
+        "k_clay_1_general": "0.6",
+        "threshold": "0.8",
+    }
     r = post(c, url, data)
     assert r.status_code == 302, all_error_fields(r.data)
     saved = store.get_site(db, site["id"])
@@ -797,6 +804,7 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
     assert basis.k_value("clay", 4, "thin-layer") is None  # and empty cells stay empty
     assert basis.gamma_M_for(2, "I") == 2.7 and basis.name == site["code_basis"]["name"]
     assert basis.spreader_route_for_groups_2_to_4 is False
+    assert basis.alpha_cc_pl == 0.8 and basis.plain_partial_area_enhancement is True
     assert review.threshold == 0.8 and review.required == services.settings_for(site).required
     kinds = [e["kind"] for e in store.events_for(db, site_id=site["id"])]
     assert "site settings changed" in kinds
@@ -814,8 +822,16 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
         db, site_id=site["id"], reference="CLAY-1", with_result=True
     )
     strengths = stored["design_result"]["strengths"]
-    # f_cd = α_cc f_ck / γ_c, EN 1992-1-1 eqn 3.15: C25/30 with α_cc = 1.0, γ_c = 1.5.
-    assert strengths["f_cd"] == pytest.approx(1.0 * 25 / 1.5)
+    # The padstone is plain: f_cd,pl = α_cc,pl f_ck / γ_c (EN 1992-1-1 12.3.1 with eqn 3.15):
+    # C25/30 with the site's α_cc,pl = 0.8, γ_c = 1.5.
+    assert strengths["f_cd"] == pytest.approx(0.8 * 25 / 1.5)
+    reinforced = GOOD | {"reference": "R-1", "padstone_reinforced": "reinforced"}
+    r = post(c, f"/sites/{site['id']}/bearings/new", reinforced)
+    assert r.status_code == 302, all_error_fields(r.data)
+    stored_r = store.bearing_by_reference(db, site_id=site["id"], reference="R-1")
+    # Reinforced: f_cd = α_cc f_ck / γ_c, EN 1992-1-1 eqn 3.15, with α_cc = 1.0.
+    assert stored_r["design_result"]["strengths"]["f_cd"] == pytest.approx(1.0 * 25 / 1.5)
+    assert stored_r["design_input"]["padstone"]["reinforced"] is True
     # f_k = K f_b^0.7 f_m^0.3, EN 1996-1-1 eqn 3.1, is in proportion to K: 0.6 here
     # against the default 0.50 for clay Group 1 (UK NA, from memory).
     default = services.add_bearing(
@@ -979,3 +995,25 @@ def test_the_last_engineer_cannot_be_demoted_or_removed(client_as, db, site, peo
     assert store.role_of(db, user_id=me, site_id=site["id"]) == "viewer"
     r = post(client_as("inspector"), f"{s}/{people['inspector'].id}/remove")
     assert r.status_code == 409  # the only engineer again
+
+
+def test_the_height_is_asked_to_the_padstones_underside_with_a_drawing_and_said_in_the_trace(
+    client_as, db, site
+):
+    """Typing the beam's seating level instead of the padstone's underside overstates h_c:
+    the form names the height, explains it, and draws it; the calculation repeats it."""
+    c = client_as("engineer")
+    html = c.get(f"/sites/{site['id']}/bearings/new").data.decode()
+    field = unescape(re.search(r"<label for=\"height_to_bearing\">([^<]*)</label>", html).group(1))
+    assert field == "Height from the wall's base to the padstone's underside h_c (mm)"
+    hint = re.search(r'<figure class="field height-hint".*?</figure>', html, flags=re.S).group(0)
+    assert "<svg" in hint and "not to where the beam sits on the padstone" in unescape(hint)
+    assert 'style="' not in hint  # the CSP allows presentation attributes only
+    r = post(c, f"/sites/{site['id']}/bearings/new", GOOD | {"reference": "H-1"})
+    assert r.status_code == 302, all_error_fields(r.data)
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="H-1")
+    assert stored["design_result"]["notes"][0] == (
+        "h_c = 2,475 mm, from the wall's base to the padstone's underside (not to where the "
+        "beam sits on the padstone)."
+    )
+    assert "padstone's underside" in DESIGN_COLUMNS["height_to_bearing"][0]

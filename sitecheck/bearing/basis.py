@@ -9,7 +9,12 @@ sets a pass/fail limit is a field here, shown to the engineer and overridable pe
 
 from __future__ import annotations
 
+import math
+from collections.abc import Iterator
 from dataclasses import dataclass, field, fields, replace
+
+from .errors import InputError
+from .format import number
 
 EC6_UK = "EC6 + UK NA"
 BS5628 = "BS 5628-1"
@@ -90,6 +95,9 @@ class CodeBasis:
     # Concrete padstone, EN 1992-1-1 3.1.6 and 6.7.
     gamma_c: float = 1.5
     alpha_cc: float = 0.85
+    # Plain (unreinforced) padstones, EN 1992-1-1 section 12.
+    alpha_cc_pl: float = 0.6
+    plain_partial_area_enhancement: bool = False
     plb_limit_factor: float = 3.0
     padstone_spread_deg: float = 45.0
     # EC6 masonry strength.
@@ -98,6 +106,7 @@ class CodeBasis:
     )
     f_b_max: float = 75.0
     f_m_max: float = 20.0
+    collar_joint_factor: float = 0.8
     gamma_M_ec6: tuple[tuple[str, float], ...] = (
         ("1|I", 2.3),
         ("1|II", 2.6),
@@ -116,6 +125,22 @@ class CodeBasis:
     k_E: float = 1000.0
     e_mk_min_ratio: float = 0.05
     e_init_divisor: float = 450.0
+    # Creep eccentricity e_k at mid-height, EN 1996-1-1 6.1.2.2, by unit material: none up
+    # to the slenderness λ_c, φ_∞ the final creep coefficient above it.
+    creep_lambda_c: tuple[tuple[str, float], ...] = (
+        ("aggregate concrete", 15.0),
+        ("autoclaved aerated concrete", 15.0),
+        ("calcium silicate", 15.0),
+        ("clay", 27.0),
+        ("manufactured stone", 15.0),
+    )
+    creep_phi_inf: tuple[tuple[str, float], ...] = (
+        ("aggregate concrete", 1.5),
+        ("autoclaved aerated concrete", 1.0),
+        ("calcium silicate", 1.5),
+        ("clay", 1.0),
+        ("manufactured stone", 1.5),
+    )
     # BS 5628-1 local bearing and dispersion.
     gamma_m_bs: tuple[tuple[str, float], ...] = (
         ("special|special", 2.5),
@@ -135,6 +160,12 @@ class CodeBasis:
     inline_padstone_min_length: float = 200.0
     inline_web_tolerance: float = 10.0
 
+    def __post_init__(self) -> None:
+        # A basis is checked once, when it is made: every check then trusts it. A γ_c of
+        # 0 or an α_cc that is not a number would otherwise reach a formula.
+        for problem in basis_errors(self):
+            raise problem
+
     @property
     def is_ec6(self) -> bool:
         return self.name == EC6_UK
@@ -149,6 +180,12 @@ class CodeBasis:
     def gamma_M_for(self, execution_class: int, category: str) -> float | None:
         return dict(self.gamma_M_ec6).get(f"{execution_class}|{category}")
 
+    def creep_lambda_c_for(self, material: str) -> float | None:
+        return dict(self.creep_lambda_c).get(material)
+
+    def creep_phi_for(self, material: str) -> float | None:
+        return dict(self.creep_phi_inf).get(material)
+
     def gamma_m_for(self, manufacturing: str, construction: str) -> float | None:
         return dict(self.gamma_m_bs).get(f"{manufacturing}|{construction}")
 
@@ -161,7 +198,7 @@ class CodeBasis:
         return out
 
 
-_TABLE_FIELDS = ("k_values", "gamma_M_ec6", "gamma_m_bs")
+_TABLE_FIELDS = ("k_values", "gamma_M_ec6", "gamma_m_bs", "creep_lambda_c", "creep_phi_inf")
 
 
 def ec6_uk_na(**overrides) -> CodeBasis:
@@ -180,8 +217,6 @@ def basis_named(name: str, **overrides) -> CodeBasis:
         return ec6_uk_na(**overrides)
     if name == BS5628:
         return bs5628(**overrides)
-    from .errors import InputError
-
     raise InputError("basis", name, f"one of {', '.join(BASES)}", "bad-choice")
 
 
@@ -193,32 +228,135 @@ def basis_from_dict(data: dict) -> CodeBasis:
 
 
 def _coerce(overrides: dict) -> dict:
+    """Tables given as dicts become the basis's sorted tuples; numbers stay as given (a
+    text or a NaN is the validation's to name, not a float() call's to crash on)."""
     known = {f.name for f in fields(CodeBasis)}
     out = {}
     for key, value in overrides.items():
         if key not in known or key == "name":
-            from .errors import InputError
-
             raise InputError(f"basis.{key}", value, "a known code-basis value", "unknown-field")
         if key in _TABLE_FIELDS and isinstance(value, dict):
-            value = tuple(sorted((str(k), float(v)) for k, v in value.items()))
-        elif key == "bearing_type_factors":
-            value = tuple(float(v) for v in value)
+            value = tuple(sorted((str(k), _as_float(v)) for k, v in value.items()))
+        elif key == "bearing_type_factors" and isinstance(value, (list, tuple)):
+            value = tuple(_as_float(v) for v in value)
         out[key] = value
     return out
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+
+def _as_float(value: object) -> object:
+    return float(value) if _is_number(value) else value
+
+
+# Bounds of each value of a basis: generous, so that any value a standard or national
+# annex could give fits, and narrow enough to refuse the non-physical (a partial factor of
+# 0, a spread of 0°) and slips (a percentage typed as a ratio) [ours]. The settings form
+# applies the same bounds, so a site's stored basis always reads back.
+SCALAR_BOUNDS: dict[str, tuple[float, float]] = {
+    "gamma_c": (1.0, 3.0),
+    "alpha_cc": (0.5, 1.0),
+    "alpha_cc_pl": (0.3, 1.0),
+    "plb_limit_factor": (1.0, 5.0),
+    "padstone_spread_deg": (10.0, 80.0),
+    "f_b_max": (1.0, 200.0),
+    "f_m_max": (1.0, 50.0),
+    "collar_joint_factor": (0.5, 1.0),
+    "masonry_spread_deg": (10.0, 80.0),
+    "beta_area_ratio_cap": (0.05, 1.0),
+    "spreader_min_depth": (0.0, 2000.0),
+    "spreader_length_factor": (0.0, 10.0),
+    "spreader_stress_factor": (1.0, 3.0),
+    "max_eccentricity_ratio": (0.01, 0.5),
+    "k_E": (100.0, 5000.0),
+    "e_mk_min_ratio": (0.0, 0.5),
+    "e_init_divisor": (100.0, 2000.0),
+    "dispersion_depth_ratio": (0.1, 1.0),
+    "bs_min_eccentricity_ratio": (0.0, 0.5),
+    "slenderness_limit": (5.0, 60.0),
+    "min_bearing_beam": (0.0, 1000.0),
+    "min_bearing_lintel": (0.0, 1000.0),
+    "inline_flange_allowance": (0.0, 500.0),
+    "inline_padstone_min_length": (0.0, 3000.0),
+    "inline_web_tolerance": (0.0, 200.0),
+}
+TABLE_BOUNDS: dict[str, tuple[float, float]] = {
+    "k_values": (0.1, 1.0),
+    "gamma_M_ec6": (1.0, 5.0),
+    "gamma_m_bs": (1.0, 5.0),
+    "bearing_type_factors": (1.0, 3.0),
+    "creep_lambda_c": (0.0, 60.0),
+    "creep_phi_inf": (0.0, 5.0),
+}
+FLAGS = ("spreader_route_for_groups_2_to_4", "plain_partial_area_enhancement")
+
+
+def basis_errors(basis: CodeBasis) -> Iterator[InputError]:
+    """Every value of ``basis`` that makes no physical sense, in the order of its fields,
+    each an :class:`InputError` naming ``basis.<field>``."""
+    for f in fields(CodeBasis):
+        name, value = f.name, getattr(basis, f.name)
+        field = f"basis.{name}"
+        if name == "name":
+            if value not in BASES:
+                yield InputError("basis", value, f"one of {', '.join(BASES)}", "bad-choice")
+        elif name in FLAGS:
+            if not isinstance(value, bool):
+                yield InputError(field, value, "true or false", "not-a-choice")
+        elif name in SCALAR_BOUNDS:
+            yield from _bounded(field, value, *SCALAR_BOUNDS[name])
+        elif name == "bearing_type_factors":
+            if not isinstance(value, tuple) or len(value) != 3:
+                yield InputError(
+                    field, value, "three factors, for bearing types 1, 2 and 3", "bad-shape"
+                )
+                continue
+            for i, v in enumerate(value, start=1):
+                yield from _bounded(f"{field}.{i}", v, *TABLE_BOUNDS[name])
+        elif name in TABLE_BOUNDS:
+            if not isinstance(value, tuple) or not all(
+                isinstance(row, tuple) and len(row) == 2 and isinstance(row[0], str)
+                for row in value
+            ):
+                yield InputError(field, value, "a table of named values", "bad-shape")
+                continue
+            for key, v in value:
+                yield from _bounded(f"{field}.{key}", v, *TABLE_BOUNDS[name])
+
+
+def _bounded(field: str, value: object, least: float, greatest: float) -> Iterator[InputError]:
+    if not _is_number(value) or value != value or value in (math.inf, -math.inf):
+        yield InputError(field, value, "a finite number", "not-a-number")
+    elif not least <= value <= greatest:
+        yield InputError(
+            field,
+            value,
+            f"{number(least)} to {number(greatest)} for this code basis",
+            "out-of-range",
+        )
 
 
 # Where each default comes from, for the screens and the site record.
 SOURCES: dict[str, str] = {
     "gamma_c": "1.5, EN 1992-1-1 Table 2.1N, persistent situations [S]",
     "alpha_cc": "0.85, UK NA to EN 1992-1-1 (EN recommends 1.0) [S]",
+    "alpha_cc_pl": "0.6 for plain concrete, UK NA to EN 1992-1-1 12.3.1 (EN recommends 0.8) [M]",
+    "plain_partial_area_enhancement": (
+        "off: a plain padstone takes no √(A_c1/A_c0) enhancement, as nothing carries the "
+        "transverse tension EN 1992-1-1 6.7(4) asks reinforcement for [ours, cautious]"
+    ),
     "plb_limit_factor": "3.0, EN 1992-1-1 6.7 eqn 6.63 [S]",
     "padstone_spread_deg": "45° dispersion through the padstone [CP]",
     "k_values": "EN 1996-1-1 Table 3.3 / UK NA Table NA.4 [M]: confirm against the NA",
     "f_b_max": "75 N/mm², EN 1996-1-1 3.6.1.2 [M]",
     "f_m_max": "min(20, 2 f_b) N/mm², EN 1996-1-1 3.6.1.2 [M]",
+    "collar_joint_factor": (
+        "0.8 × K where the wall has a mortar joint parallel to its face, EN 1996-1-1 3.6.1.2 [M]"
+    ),
     "gamma_M_ec6": "UK NA to EN 1996-1-1 Table NA.1 [M]",
-    "masonry_spread_deg": "60° (EC6 6.1.3) [P] or 45° (BS 5628-1) [P]",
+    "masonry_spread_deg": "60° (EC6 6.1.3) [P] or 45° (BS 5628-1:1992) [P]",
     "beta_area_ratio_cap": "A_b/A_ef ≤ 0.45, EN 1996-1-1 6.1.3 [M]",
     "spreader_min_depth": "> 200 mm, EN 1996-1-1 6.1.3 [M]",
     "spreader_length_factor": "> 3 × bearing length, EN 1996-1-1 6.1.3 [M]",
@@ -228,11 +366,16 @@ SOURCES: dict[str, str] = {
     "k_E": "E = 1000 f_k, EN 1996-1-1 3.7.2 [M]",
     "e_mk_min_ratio": "e_mk ≥ 0.05 t, EN 1996-1-1 6.1.2.2 [M]",
     "e_init_divisor": "e_init = h_ef/450, EN 1996-1-1 5.5.1.1 [M]",
+    "creep_lambda_c": (
+        "e_k = 0 up to h_ef/t_ef = λ_c, EN 1996-1-1 6.1.2.2(2): 15 recommended; clay (like "
+        "natural stone) is not asked for e_k, so its λ_c is 27, the slenderness limit [M]"
+    ),
+    "creep_phi_inf": "final creep coefficient φ_∞, EN 1996-1-1 Table 3.8 [M]",
     "gamma_m_bs": "BS 5628-1:1992 Table 4 [S]",
-    "bearing_type_factors": "1.25 / 1.5 / 2.0, BS 5628-1 clause 34 [P]",
-    "dispersion_depth_ratio": "0.4 h below the bearing, BS 5628-1 clause 34 [P]",
-    "bs_min_eccentricity_ratio": "e_x ≥ 0.05 t, BS 5628-1 Annex B [M]",
-    "slenderness_limit": "h_ef/t_ef ≤ 27, EN 1996-1-1 5.5.1.4 and BS 5628-1 [M]",
+    "bearing_type_factors": "1.25 / 1.5 / 2.0, BS 5628-1:1992 clause 34 [P]",
+    "dispersion_depth_ratio": "0.4 h below the bearing, BS 5628-1:1992 clause 34 [P]",
+    "bs_min_eccentricity_ratio": "e_x ≥ 0.05 t, BS 5628-1:1992 Appendix B [M]",
+    "slenderness_limit": "h_ef/t_ef ≤ 27, EN 1996-1-1 5.5.1.4 and BS 5628-1:1992 clause 28 [M]",
     "min_bearing_beam": "100 mm steel bearing, NHBC Standards 6.5.5 [S]",
     "min_bearing_lintel": "150 mm lintel end bearing [CP]",
     "inline_flange_allowance": "flange ≤ t + 50 mm, NHBC Standards 6.5.5 [S]",

@@ -5,8 +5,10 @@ from __future__ import annotations
 import math
 
 from .basis import CodeBasis
+from .errors import InputError
+from .format import number, utilisation
 from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
-from .geometry import Layout, Pressure, end_distances, spread_length
+from .geometry import Layout, Pressure, Reading, readings, spread_length, worse
 from .inputs import ACROSS, IN_LINE, BearingInput, Masonry, Wall
 from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check, make_step
 
@@ -141,6 +143,10 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
     than 3 × and no more than the depth beyond A_c0's. A beam bearing from one face leaves
     no room for a concentric enlargement, so F_Rdu = A_c0 · f_cd: we keep that honest
     answer rather than relax the similarity rule.
+
+    A plain padstone (f_cd from α_cc,pl) takes no enhancement either unless the code basis
+    allows it: 6.7(4) asks for reinforcement to carry the transverse tension the spread
+    sets up, and plain concrete has none [ours, the cautious reading].
     """
     b1 = lay.x1 - lay.x0
     d1 = lay.y1 - lay.y0
@@ -154,9 +160,12 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
         2 * min(cx, lay.length - cx) / b1,
         2 * min(cy, lay.width - cy) / d1,
     )
-    k = max(1.0, min(k_limits))
+    k_fits = max(1.0, min(k_limits))
+    plain = not inp.padstone.reinforced
+    k = 1.0 if plain and not basis.plain_partial_area_enhancement else k_fits
     a_c1 = k * k * a_c0
     fcd = st.f_cd
+    fcd_symbol = "f_cd,pl" if plain else "f_cd"
     f_rdu = F_Rdu(a_c0, a_c1, fcd, basis.plb_limit_factor)
     n = inp.load.reaction
     steps = [
@@ -175,11 +184,34 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "k",
             "min(3, 1 + h/b_1, 1 + h/d_1, room along, room across), ≥ 1",
             (("h", h, "mm"), ("room along", k_limits[3], ""), ("room across", k_limits[4], "")),
-            k,
+            k_fits,
             "",
             "EN 1992-1-1 6.7(3), Figure 6.29",
             "S",
         ),
+    ]
+    if plain:
+        steps.append(
+            make_step(
+                "Scale taken for plain concrete",
+                "k",
+                "1 (no reinforcement for the transverse tension)"
+                if k == 1.0 and k_fits > 1.0 + 1e-12
+                else "as it fits",
+                (
+                    (
+                        "allowed by the code basis",
+                        "yes" if basis.plain_partial_area_enhancement else "no",
+                        "",
+                    ),
+                ),
+                k,
+                "",
+                "EN 1992-1-1 6.7(4)",
+                "ours",
+            )
+        )
+    steps += [
         make_step(
             "Largest distribution area",
             "A_c1",
@@ -194,7 +226,7 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
             "Resistance of the padstone under the flange",
             "F_Rdu",
             "A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0",
-            (("A_c0", a_c0, "mm²"), ("f_cd", fcd, "N/mm²"), ("A_c1", a_c1, "mm²")),
+            (("A_c0", a_c0, "mm²"), (fcd_symbol, fcd, "N/mm²"), ("A_c1", a_c1, "mm²")),
             f_rdu,
             "N",
             "EN 1992-1-1 6.7 eqn 6.63",
@@ -202,10 +234,21 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
         ),
     ]
     notes = []
-    if k <= 1.0 + 1e-12:
+    if k_fits <= 1.0 + 1e-12:
         notes.append(
             "No concentric enlargement fits in the padstone (the flange bears from its edge), "
             "so no enhancement is taken: F_Rdu = A_c0 · f_cd."
+        )
+    elif k == 1.0:
+        notes.append(
+            "The padstone is plain concrete: no enhancement is taken (F_Rdu = A_c0 · f_cd,pl), "
+            "as EN 1992-1-1 6.7(4) asks for reinforcement to carry the transverse tension. "
+            "The site's code basis may allow it (plain_partial_area_enhancement)."
+        )
+    if plain:
+        notes.append(
+            "Plain (unreinforced) padstone, as site padstones usually are unless the design "
+            "says reinforced: f_cd,pl = α_cc,pl · f_ck / γ_c (EN 1992-1-1 section 12)."
         )
     return make_check(
         "padstone-bearing",
@@ -234,24 +277,22 @@ def ec6_masonry_bearing(
     code: str = "masonry-bearing",
     title: str = "Masonry under the concentrated load",
     kind: str = STRENGTH,
-) -> tuple[Check, float, float | None, float | None]:
+) -> Check:
     """EN 1996-1-1 6.1.3: σ under the load ≤ β · f_d (eqns 6.9–6.10) [P; details M].
 
     β = (1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef), 1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5), with
     A_b/A_ef not above 0.45 and A_ef = l_efm · t, l_efm spreading at 60° down to h_c/2.
     β = 1.0 for Group 2–4 units or shell bedding. Through a stiff spreader (width t, depth
     > 200 mm, length > 3 × the bearing length) σ ≤ 1.5 f_d instead. The peak of the linear
-    pressure is compared, so an end bearing is not averaged away.
-
-    Returns the check, l_efm and the effective end distances.
+    pressure is compared, so an end bearing is not averaged away. Under a triangle of
+    pressure β is worked on both readings of the loaded length and the lower kept
+    (:func:`~.geometry.readings`).
     """
     wall = inp.wall
-    e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
-    check, l_efm = ec6_bearing_with_ends(
+    return ec6_bearing_on_readings(
         inp.masonry,
         wall,
-        e1,
-        e2,
+        readings(lay, pres, wall.a1, wall.a2),
         pres,
         st,
         basis,
@@ -262,14 +303,34 @@ def ec6_masonry_bearing(
         title=title,
         kind=kind,
     )
-    return check, l_efm, e1, e2
 
 
-def ec6_bearing_with_ends(
+def _named(label: str, reading: Reading) -> str:
+    return f"{label}, {reading.name}" if reading.name else label
+
+
+def _governing_reading_note(what: str, worked: list[tuple[float, Reading]], chosen: Reading) -> str:
+    shown = "; ".join(f"{r.name} {utilisation(u)}" for u, r in worked)
+    head = (
+        "Under the triangle of pressure the codes do not say which loaded length to take: "
+        f"{what} was worked on both (utilisation: {shown})"
+    )
+    if all(u == worked[0][0] for u, _ in worked):
+        return f"{head}; both give the same (the wall's end cuts the spread of each alike)."
+    return f"{head} and the {chosen.name}, with the higher utilisation, governs."
+
+
+def l_efm_of(reading: Reading, h_c: float, basis: CodeBasis) -> float:
+    """Effective length at mid-height: the loaded length spread at 60° (EC6) down to
+    h_c/2 on each side, each side cut by the wall's end, EN 1996-1-1 6.1.3 Figure 6.2 [P]."""
+    s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
+    return spread_length(reading.length, reading.e1, reading.e2, s60)
+
+
+def ec6_bearing_on_readings(
     mas: Masonry,
     wall: Wall,
-    e1: float | None,
-    e2: float | None,
+    reads: tuple[Reading, ...],
     pres: Pressure,
     st: Strengths,
     basis: CodeBasis,
@@ -280,110 +341,94 @@ def ec6_bearing_with_ends(
     code: str,
     title: str,
     kind: str,
-) -> tuple[Check, float]:
-    """:func:`ec6_masonry_bearing` once the loaded area's end distances ``e1``, ``e2`` and
-    the spreader (its description, or None) are known; ``on_padstone`` says whether a
-    padstone carries the load. The direct-bearing check places the beam straight on the
-    masonry this way without building an input for it. Returns the check and l_efm.
-    """
+) -> Check:
+    """:func:`ec6_masonry_bearing` once the readings of the loaded length and the spreader
+    (its description, or None) are known; ``on_padstone`` says whether a padstone carries
+    the load. The direct-bearing check places the beam straight on the masonry this way
+    without building an input for it."""
     t, h_c = wall.thickness, wall.height_to_bearing
-    width, contact = pres.width, pres.contact_length
-    s60 = (h_c / 2) / math.tan(math.radians(basis.masonry_spread_deg))
-    l_efm = spread_length(contact, e1, e2, s60)
-    a_b = width * contact  # pres.area
-    a_ef = l_efm * t
-    steps.append(
-        make_step(
-            "Loaded area on the masonry",
-            "A_b",
-            "W · contact length",
-            (("W", width, "mm"), ("contact", contact, "mm")),
-            a_b,
-            "mm²",
-            "EN 1996-1-1 6.1.3",
-            "P",
-        )
-    )
-    steps.append(
-        make_step(
-            "Effective length at mid-height of the wall below",
-            "l_efm",
-            "contact + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
-            (("h_c", h_c, "mm"), ("a1", e1, "mm"), ("a2", e2, "mm")),
-            l_efm,
-            "mm",
-            "EN 1996-1-1 6.1.3, Figure 6.2",
-            "P",
-        )
-    )
-    notes: list[str] = []
-    # The nearer end of the wall, if any.
-    if e1 is None:
-        near = e2
-    elif e2 is None:
-        near = e1
-    else:
-        near = min(e1, e2)
+    width = pres.width
     enhanced = mas.group == 1 and not mas.shell_bedded
-    if enhanced:
-        ratio_raw = a_b / a_ef
-        ratio = min(ratio_raw, basis.beta_area_ratio_cap)
-        a1 = near if near is not None else h_c  # a wall running on both ways: a1/h_c ≥ 0.5
-        beta_raw = (1 + 0.3 * a1 / h_c) * (1.5 - 1.1 * ratio)
-        beta_max = beta_ec6_upper(a1, h_c)
-        beta = beta_ec6(a1, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
+    spreader_allowed = spreader is not None and (enhanced or basis.spreader_route_for_groups_2_to_4)
+    notes: list[str] = []
+    worked: list[tuple[float, Reading]] = []
+    factors: dict[Reading, tuple[float, str, float]] = {}
+    runs_on = False
+    for r in reads:
+        a_b = width * r.length
+        l_efm = l_efm_of(r, h_c, basis)
+        a_ef = l_efm * t
         steps.append(
             make_step(
-                "Area ratio, capped",
-                "A_b/A_ef",
-                "min(A_b / (l_efm · t), 0.45)",
-                (("A_b", a_b, "mm²"), ("A_ef", a_ef, "mm²"), ("uncapped", ratio_raw, "")),
-                ratio,
-                "",
-                "EN 1996-1-1 6.1.3(3)",
-                "M",
-            )
-        )
-        steps.append(
-            make_step(
-                "Enhancement factor for concentrated loads",
-                "β",
-                "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
-                (("a1", a1, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
-                beta_raw,
-                "",
-                "EN 1996-1-1 6.1.3 eqn 6.10",
+                _named("Loaded area on the masonry", r),
+                "A_b",
+                "W · loaded length",
+                (("W", width, "mm"), ("loaded length", r.length, "mm")),
+                a_b,
+                "mm²",
+                "EN 1996-1-1 6.1.3",
                 "P",
             )
         )
         steps.append(
             make_step(
-                "β within its limits",
-                "β",
-                "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
-                (("upper", beta_max, ""),),
-                beta,
-                "",
-                "EN 1996-1-1 6.1.3(3)",
-                "M",
+                _named("Effective length at mid-height of the wall below", r),
+                "l_efm",
+                "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+                (("h_c", h_c, "mm"), ("a1", r.e1, "mm"), ("a2", r.e2, "mm")),
+                l_efm,
+                "mm",
+                "EN 1996-1-1 6.1.3, Figure 6.2",
+                "P",
             )
         )
-        if near is None:
-            notes.append(
-                "The wall runs on both ways: a1 is taken large, so β reaches its upper limit when the area ratio allows."
-            )
-    else:
-        beta = 1.0
+        # The nearer end of the wall, if any.
+        if r.e1 is None:
+            near = r.e2
+        elif r.e2 is None:
+            near = r.e1
+        else:
+            near = min(r.e1, r.e2)
+        if enhanced:
+            beta = _ec6_beta_steps(r, near, h_c, a_b, a_ef, basis, steps)
+            runs_on = runs_on or near is None
+        else:
+            beta = 1.0
+        factor, route = beta, "β"
+        if spreader_allowed and basis.spreader_stress_factor > factor:
+            factor, route = basis.spreader_stress_factor, "spreader"
+        factors[r] = (factor, route, a_b)
+        worked.append((pres.sigma_max / (factor * st.f_d), r))
+    if not enhanced:
         why = "shell-bedded" if mas.shell_bedded else f"Group {mas.group} units"
         steps.append(
             make_step(
                 f"No enhancement for {why}", "β", "1.0", (), 1.0, "", "EN 1996-1-1 6.1.3(2)", "M"
             )
         )
-    factor, route = beta, "β"
-    if spreader is not None and (enhanced or basis.spreader_route_for_groups_2_to_4):
-        if basis.spreader_stress_factor > factor:
-            factor, route = basis.spreader_stress_factor, "spreader"
+    _, chosen = worse(worked)
+    factor, route, a_b = factors[chosen]
+    if len(reads) > 1:
+        steps.append(
+            make_step(
+                "Factor kept: the lower of the two readings (the higher utilisation)",
+                "β" if route == "β" else "factor",
+                "min(whole window, contact length)",
+                tuple((r.name, factors[r][0], "") for r in reads),
+                factor,
+                "",
+                "EN 1996-1-1 6.1.3",
+                "ours",
+            )
+        )
+        notes.append(_governing_reading_note("β", worked, chosen))
+    if runs_on:
+        notes.append(
+            "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its "
+            "upper limit, 1.5, never less than the same wall with an end nearby."
+        )
+    if spreader_allowed:
+        if route == "spreader":
             notes.append(f"The padstone is a spreader ({spreader}): σ ≤ 1.5 f_d applies.")
     elif on_padstone:
         notes.append(
@@ -414,10 +459,77 @@ def ec6_bearing_with_ends(
             "P",
         )
     )
-    check = make_check(
+    return make_check(
         code, title, kind, pres.sigma_max, cap, "N/mm²", "EN 1996-1-1 6.1.3", "P", steps, notes
     )
-    return check, l_efm
+
+
+def _ec6_beta_steps(
+    r: Reading,
+    near: float | None,
+    h_c: float,
+    a_b: float,
+    a_ef: float,
+    basis: CodeBasis,
+    steps: list[Step],
+) -> float:
+    """β of one reading, each step of it in the trace."""
+    ratio_raw = a_b / a_ef
+    ratio = min(ratio_raw, basis.beta_area_ratio_cap)
+    beta = beta_ec6(near, h_c, a_b, a_ef, basis.beta_area_ratio_cap)
+    steps.append(
+        make_step(
+            _named("Area ratio, capped", r),
+            "A_b/A_ef",
+            "min(A_b / (l_efm · t), 0.45)",
+            (("A_b", a_b, "mm²"), ("A_ef", a_ef, "mm²"), ("uncapped", ratio_raw, "")),
+            ratio,
+            "",
+            "EN 1996-1-1 6.1.3(3)",
+            "M",
+        )
+    )
+    if near is None:
+        # No end near: a1 → ∞. The formula and its upper limit both pass 1.5, so β is
+        # 1.5: a wall that runs on is never worse than one with an end nearby.
+        steps.append(
+            make_step(
+                _named("Enhancement factor, the wall running on both ways", r),
+                "β",
+                "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
+                (("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+                beta,
+                "",
+                "EN 1996-1-1 6.1.3(3)",
+                "M",
+            )
+        )
+        return beta
+    steps.append(
+        make_step(
+            _named("Enhancement factor for concentrated loads", r),
+            "β",
+            "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+            (("a1", near, "mm"), ("h_c", h_c, "mm"), ("A_b/A_ef", ratio, "")),
+            (1 + 0.3 * near / h_c) * (1.5 - 1.1 * ratio),
+            "",
+            "EN 1996-1-1 6.1.3 eqn 6.10",
+            "P",
+        )
+    )
+    steps.append(
+        make_step(
+            _named("β within its limits", r),
+            "β",
+            "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+            (("upper", beta_ec6_upper(near, h_c), ""),),
+            beta,
+            "",
+            "EN 1996-1-1 6.1.3(3)",
+            "M",
+        )
+    )
+    return beta
 
 
 def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
@@ -426,7 +538,11 @@ def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
         return None
     pad = inp.padstone
     bearing_along = _bearing_along(inp)
-    return f"width t, depth {pad.depth:g} > {basis.spreader_min_depth:g} mm, length {pad.length:g} > {basis.spreader_length_factor:g} × {bearing_along:g} mm"
+    return (
+        f"width t, depth {number(pad.depth)} > {number(basis.spreader_min_depth)} mm, "
+        f"length {number(pad.length)} > {number(basis.spreader_length_factor)} × "
+        f"{number(bearing_along)} mm"
+    )
 
 
 def is_spreader(inp: BearingInput, basis: CodeBasis) -> bool:
@@ -550,13 +666,18 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
 
 
 def ec6_mid_height(
-    inp: BearingInput, lay: Layout, st: Strengths, l_efm: float, basis: CodeBasis
-) -> Check:
+    inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
+) -> tuple[Check, Reading, float]:
     """At mid-height below the bearing: N_Ed/l_efm + other load ≤ Φ_m · t · f_d, EN 1996-1-1
     6.1.2 with Φ_m from Annex G [M]: Φ_m = A1 e^(−u²/2), A1 = 1 − 2 e_mk/t,
     u = (λ − 0.063)/(0.73 − 1.17 e_mk/t), λ = (h_ef/t_ef)·√(f_k/E), E = 1000 f_k.
-    e_mk defaults to max(0.05 t, |e|/2 + h_ef/450): half the top eccentricity at mid-height
-    of a pinned wall [CP] plus the initial eccentricity."""
+    e_mk defaults to max(0.05 t, e_m + e_k) with e_m = |e|/2 + h_ef/450: half the top
+    eccentricity at mid-height of a pinned wall [CP] plus the initial eccentricity, and the
+    creep eccentricity e_k = 0.002 φ_∞ (h_ef/t_ef) √(t e_m) (eqn 6.8) above the slenderness
+    λ_c, zero up to it (6.1.2.2(2), λ_c and φ_∞ by unit material from the code basis, [M]).
+    Under a triangle of pressure l_efm
+    is worked on both readings of the loaded length and the shorter (the higher
+    utilisation) kept. Returns the check, the reading that governs and its l_efm."""
     wall = inp.wall
     t = wall.thickness
     h = wall.clear_height or wall.height_to_bearing
@@ -579,16 +700,30 @@ def ec6_mid_height(
         )
     else:
         e_init = h_ef / basis.e_init_divisor
-        e_mk = max(basis.e_mk_min_ratio * t, abs(lay.eccentricity_across) / 2 + e_init)
+        e_m = abs(lay.eccentricity_across) / 2 + e_init
+        steps.append(
+            make_step(
+                "Eccentricity from the load at mid-height",
+                "e_m",
+                "|e|/2 + h_ef/450",
+                (("e", lay.eccentricity_across, "mm"), ("h_ef", h_ef, "mm")),
+                e_m,
+                "mm",
+                "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+                "M",
+            )
+        )
+        e_k = _creep_eccentricity(inp.masonry.material, h_ef, t_ef, t, e_m, basis, steps)
+        e_mk = max(basis.e_mk_min_ratio * t, e_m + e_k)
         steps.append(
             make_step(
                 "Eccentricity at mid-height",
                 "e_mk",
-                "max(0.05 t, |e|/2 + h_ef/450)",
-                (("t", t, "mm"), ("e", lay.eccentricity_across, "mm"), ("h_ef", h_ef, "mm")),
+                "max(0.05 t, e_m + e_k)",
+                (("t", t, "mm"), ("e_m", e_m, "mm"), ("e_k", e_k, "mm")),
                 e_mk,
                 "mm",
-                "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+                "EN 1996-1-1 6.1.2.2 eqn 6.6",
                 "M",
             )
         )
@@ -637,20 +772,64 @@ def ec6_mid_height(
         )
     n = inp.load.reaction
     q = inp.load.wall_load
-    demand = n / l_efm + q
     capacity = phi * t * st.f_d
-    steps.append(
-        make_step(
-            "Load per length at mid-height",
-            "n_Ed",
-            "N_Ed / l_efm + other load",
-            (("N_Ed", n, "N"), ("l_efm", l_efm, "mm"), ("q", q, "N/mm")),
-            demand,
-            "N/mm",
-            "EN 1996-1-1 6.1.3(4)",
-            "P",
+    worked: list[tuple[float, Reading]] = []
+    lengths: dict[Reading, float] = {}
+    for r in readings(lay, pres, wall.a1, wall.a2):
+        l_efm = lengths[r] = l_efm_of(r, wall.height_to_bearing, basis)
+        demand = n / l_efm + q
+        steps.append(
+            make_step(
+                _named("Effective length at mid-height", r),
+                "l_efm",
+                "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+                (
+                    ("loaded length", r.length, "mm"),
+                    ("h_c", wall.height_to_bearing, "mm"),
+                    ("a1", r.e1, "mm"),
+                    ("a2", r.e2, "mm"),
+                ),
+                l_efm,
+                "mm",
+                "EN 1996-1-1 6.1.3, Figure 6.2",
+                "P",
+            )
         )
-    )
+        steps.append(
+            make_step(
+                _named("Load per length at mid-height", r),
+                "n_Ed",
+                "N_Ed / l_efm + other load",
+                (("N_Ed", n, "N"), ("l_efm", l_efm, "mm"), ("q", q, "N/mm")),
+                demand,
+                "N/mm",
+                "EN 1996-1-1 6.1.3(4)",
+                "P",
+            )
+        )
+        worked.append((demand, r))
+    demand, chosen = worse(worked)
+    notes = []
+    if len(worked) > 1:
+        steps.append(
+            make_step(
+                "Load per length kept: the higher of the two readings",
+                "n_Ed",
+                "max(whole window, contact length)",
+                tuple((r.name, d, "N/mm") for d, r in worked),
+                demand,
+                "N/mm",
+                "EN 1996-1-1 6.1.3(4)",
+                "ours",
+            )
+        )
+        notes.append(
+            _governing_reading_note(
+                "l_efm",
+                [(d / capacity if capacity > 0 else math.inf, r) for d, r in worked],
+                chosen,
+            )
+        )
     steps.append(
         make_step(
             "Resistance per length at mid-height",
@@ -663,7 +842,7 @@ def ec6_mid_height(
             "P",
         )
     )
-    return make_check(
+    check = make_check(
         "mid-height",
         "Wall at mid-height below the bearing",
         STRENGTH,
@@ -673,7 +852,60 @@ def ec6_mid_height(
         "EN 1996-1-1 6.1.2",
         "M",
         steps,
+        notes,
     )
+    return check, chosen, lengths[chosen]
+
+
+def _creep_eccentricity(
+    material: str,
+    h_ef: float,
+    t_ef: float,
+    t: float,
+    e_m: float,
+    basis: CodeBasis,
+    steps: list[Step],
+) -> float:
+    """e_k, EN 1996-1-1 6.1.2.2 eqn 6.8 [M]: 0.002 φ_∞ (h_ef/t_ef) √(t e_m) above the unit
+    material's λ_c, zero up to it, each step in the trace."""
+    lam_c = basis.creep_lambda_c_for(material)
+    phi_inf = basis.creep_phi_for(material)
+    if lam_c is None or phi_inf is None:
+        raise InputError(
+            "masonry.material",
+            material,
+            "a unit material for which this code basis has a creep coefficient and λ_c",
+            "not-covered",
+        )
+    sr = h_ef / t_ef
+    if sr <= lam_c:
+        steps.append(
+            make_step(
+                "Creep eccentricity, none up to λ_c",
+                "e_k",
+                f"0: h_ef/t_ef ≤ λ_c for {material} units",
+                (("h_ef/t_ef", sr, ""), ("λ_c", lam_c, "")),
+                0.0,
+                "mm",
+                "EN 1996-1-1 6.1.2.2(2)",
+                "M",
+            )
+        )
+        return 0.0
+    e_k = 0.002 * phi_inf * sr * math.sqrt(t * e_m)
+    steps.append(
+        make_step(
+            "Creep eccentricity",
+            "e_k",
+            "0.002 φ_∞ (h_ef/t_ef) √(t e_m)",
+            (("φ_∞", phi_inf, ""), ("h_ef/t_ef", sr, ""), ("λ_c", lam_c, ""), ("t", t, "mm")),
+            e_k,
+            "mm",
+            "EN 1996-1-1 6.1.2.2 eqn 6.8",
+            "M",
+        )
+    )
+    return e_k
 
 
 def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
@@ -682,7 +914,7 @@ def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
     h_ef = wall.effective_height or h
     t_ef = wall.effective_thickness or wall.thickness
     sr = h_ef / t_ef
-    clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1 clause 28"
+    clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1:1992 clause 28"
     step = make_step(
         "Slenderness ratio",
         "h_ef/t_ef",
@@ -719,7 +951,7 @@ def bs_masonry_bearing(
     title: str = "Local bearing on the masonry",
     kind: str = STRENGTH,
 ) -> Check:
-    """BS 5628-1 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing
+    """BS 5628-1:1992 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing
     types 1, 2 and 3 [P]. The type is the engineer's choice; the peak of the linear
     pressure is compared (for type 3 that is the elastic distribution the clause asks for;
     for types 1 and 2 it is the cautious reading where the load is off-centre [ours])."""
@@ -734,31 +966,31 @@ def bs_masonry_bearing(
             (("k", k, ""), ("f_k", st.f_k, "N/mm²"), ("γ_m", st.gamma_M, "")),
             cap,
             "N/mm²",
-            "BS 5628-1 clause 34",
+            "BS 5628-1:1992 clause 34",
             "P",
         )
     )
     return make_check(
-        code, title, kind, pres.sigma_max, cap, "N/mm²", "BS 5628-1 clause 34", "P", steps
+        code, title, kind, pres.sigma_max, cap, "N/mm²", "BS 5628-1:1992 clause 34", "P", steps
     )
 
 
 def bs_dispersion(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
-) -> tuple[Check, float]:
+) -> tuple[Check, Reading, float]:
     """At 0.4 h below the bearing, the load dispersed at 45° from the bearing's edges plus
-    the other load ≤ β · f_k/γ_m per length of wall, BS 5628-1 clause 34 [P]; β from
+    the other load ≤ β · f_k/γ_m per length of wall, BS 5628-1:1992 clause 34 [P]; β from
     Annex B, β = 1.1(1 − 2 e_m/t), e_m = max(e_x, 0.6 e_x + e_a),
-    e_a = t[(1/2400)(h_ef/t_ef)² − 0.015] [M]."""
+    e_a = t[(1/2400)(h_ef/t_ef)² − 0.015] [M]. Under a triangle of pressure the dispersion
+    starts from both readings of the loaded length and the shorter (the higher utilisation)
+    is kept. Returns the check, the reading that governs and its dispersed length."""
     wall = inp.wall
     t = wall.thickness
     h = wall.clear_height or wall.height_to_bearing
     h_ef = wall.effective_height or h
     t_ef = wall.effective_thickness or t
     depth = basis.dispersion_depth_ratio * h
-    e1, e2 = end_distances(lay, pres, wall.a1, wall.a2)
     each = depth * math.tan(math.radians(basis.masonry_spread_deg))
-    l_d = spread_length(pres.contact_length, e1, e2, each)
     steps = [
         make_step(
             "Depth of the check below the bearing",
@@ -767,20 +999,26 @@ def bs_dispersion(
             (("h", h, "mm"),),
             depth,
             "mm",
-            "BS 5628-1 clause 34",
+            "BS 5628-1:1992 clause 34",
             "P",
-        ),
-        make_step(
-            "Length the load has spread over at that depth",
-            "l_d",
-            "contact + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
-            (("a1", e1, "mm"), ("a2", e2, "mm")),
-            l_d,
-            "mm",
-            "BS 5628-1 clause 34",
-            "P",
-        ),
+        )
     ]
+    lengths: dict[Reading, float] = {}
+    reads = readings(lay, pres, wall.a1, wall.a2)
+    for r in reads:
+        l_d = lengths[r] = spread_length(r.length, r.e1, r.e2, each)
+        steps.append(
+            make_step(
+                _named("Length the load has spread over at that depth", r),
+                "l_d",
+                "loaded length + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
+                (("loaded length", r.length, "mm"), ("a1", r.e1, "mm"), ("a2", r.e2, "mm")),
+                l_d,
+                "mm",
+                "BS 5628-1:1992 clause 34",
+                "P",
+            )
+        )
     if inp.beta_s is not None:
         beta = float(inp.beta_s)
         steps.append(
@@ -791,7 +1029,7 @@ def bs_dispersion(
                 (),
                 beta,
                 "",
-                "BS 5628-1 Table 7",
+                "BS 5628-1:1992 Table 7",
                 "ours",
             )
         )
@@ -809,7 +1047,7 @@ def bs_dispersion(
                 (("t", t, "mm"), ("e", lay.eccentricity_across, "mm")),
                 e_x,
                 "mm",
-                "BS 5628-1 Annex B",
+                "BS 5628-1:1992 Appendix B",
                 "M",
             )
         )
@@ -821,25 +1059,50 @@ def bs_dispersion(
                 (("e_m", e_m, "mm"), ("e_a", e_a, "mm"), ("h_ef/t_ef", sr, "")),
                 beta,
                 "",
-                "BS 5628-1 Annex B",
+                "BS 5628-1:1992 Appendix B",
                 "M",
             )
         )
     n, q = inp.load.reaction, inp.load.wall_load
-    demand = n / l_d + q
     capacity = beta * t * st.f_k / st.gamma_M
-    steps.append(
-        make_step(
-            "Load per length at 0.4 h",
-            "n",
-            "N / l_d + other load",
-            (("N", n, "N"), ("l_d", l_d, "mm"), ("q", q, "N/mm")),
-            demand,
-            "N/mm",
-            "BS 5628-1 clause 34",
-            "P",
+    worked: list[tuple[float, Reading]] = []
+    for r in reads:
+        demand = n / lengths[r] + q
+        steps.append(
+            make_step(
+                _named("Load per length at 0.4 h", r),
+                "n",
+                "N / l_d + other load",
+                (("N", n, "N"), ("l_d", lengths[r], "mm"), ("q", q, "N/mm")),
+                demand,
+                "N/mm",
+                "BS 5628-1:1992 clause 34",
+                "P",
+            )
         )
-    )
+        worked.append((demand, r))
+    demand, chosen = worse(worked)
+    notes = []
+    if len(worked) > 1:
+        steps.append(
+            make_step(
+                "Load per length kept: the higher of the two readings",
+                "n",
+                "max(whole window, contact length)",
+                tuple((r.name, d, "N/mm") for d, r in worked),
+                demand,
+                "N/mm",
+                "BS 5628-1:1992 clause 34",
+                "ours",
+            )
+        )
+        notes.append(
+            _governing_reading_note(
+                "the dispersion",
+                [(d / capacity if capacity > 0 else math.inf, r) for d, r in worked],
+                chosen,
+            )
+        )
     steps.append(
         make_step(
             "Resistance per length",
@@ -848,7 +1111,7 @@ def bs_dispersion(
             (("β", beta, ""), ("t", t, "mm"), ("f_k", st.f_k, "N/mm²"), ("γ_m", st.gamma_M, "")),
             capacity,
             "N/mm",
-            "BS 5628-1 clause 32",
+            "BS 5628-1:1992 clause 32",
             "P",
         )
     )
@@ -859,11 +1122,12 @@ def bs_dispersion(
         demand,
         capacity,
         "N/mm",
-        "BS 5628-1 clause 34",
+        "BS 5628-1:1992 clause 34",
         "P",
         steps,
+        notes,
     )
-    return check, l_d
+    return check, chosen, lengths[chosen]
 
 
 ORIENTATION_TITLES = {ACROSS: "across the wall", IN_LINE: "in line with the wall"}

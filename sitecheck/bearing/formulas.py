@@ -38,18 +38,27 @@ def linear_pressure(P: float, B: float, L: float, e: float) -> tuple[str, float,
     return "triangle", 2 * P / (B * c), 0.0, c
 
 
-def beta_ec6(a1: float, h_c: float, A_b: float, A_ef: float, area_ratio_cap: float = 0.45) -> float:
+def beta_ec6(
+    a1: float | None, h_c: float, A_b: float, A_ef: float, area_ratio_cap: float = 0.45
+) -> float:
     """Enhancement factor for concentrated loads, EN 1996-1-1 6.1.3 eqn 6.10 [P; limits M]:
     β = (1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef), A_b/A_ef ≤ 0.45,
     1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5).
+
+    ``a1`` None is a wall that runs on, with no end or opening near: a1 → ∞, where both
+    the formula and its upper limit grow past 1.5 (1.5 − 1.1 A_b/A_ef stays positive), so
+    β = 1.5. β never falls as a1 grows: a wall that runs on is never worse than one with
+    an end nearby [ours, the methods note's rule].
     """
+    if a1 is None:
+        return 1.5
     ratio = min(A_b / A_ef, area_ratio_cap)
     raw = (1 + 0.3 * a1 / h_c) * (1.5 - 1.1 * ratio)
     return min(max(raw, 1.0), min(1.25 + a1 / (2 * h_c), 1.5))
 
 
-def beta_ec6_upper(a1: float, h_c: float) -> float:
-    return min(1.25 + a1 / (2 * h_c), 1.5)
+def beta_ec6_upper(a1: float | None, h_c: float) -> float:
+    return 1.5 if a1 is None else min(1.25 + a1 / (2 * h_c), 1.5)
 
 
 def phi_m(h_ef: float, t_ef: float, e_mk: float, t: float, k_E: float = 1000.0) -> float:
@@ -65,7 +74,7 @@ def phi_m(h_ef: float, t_ef: float, e_mk: float, t: float, k_E: float = 1000.0) 
 
 
 def beta_bs5628(h_ef: float, t_ef: float, e_x: float, t: float) -> float:
-    """Capacity reduction factor for slenderness and eccentricity, BS 5628-1 Annex B [M]:
+    """Capacity reduction factor for slenderness and eccentricity, BS 5628-1:1992 Appendix B [M]:
     e_a = t[(1/2400)(h_ef/t_ef)² − 0.015], e_m = max(e_x, 0.6 e_x + e_a),
     β = 1.1 (1 − 2 e_m/t), not above 1.0.
     """

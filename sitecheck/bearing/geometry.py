@@ -71,7 +71,7 @@ def footprint_layout(
         foot_across = min(
             foot_across, width
         )  # an in-line flange may overhang; it bears on the padstone
-        y0_in_wall = 0.0 if across else (t - width) / 2
+        y0_in_wall = padstone_y0(pad, width, t, across)
     else:
         length, width, depth = foot_along, t, 0.0
         y0_in_wall = 0.0
@@ -117,6 +117,21 @@ def footprint_layout(
             y0_in_wall + ry - t / 2,
         ),
     )
+
+
+def padstone_y0(pad: Padstone, width: float, t: float, across: bool) -> float:
+    """The near edge of a padstone ``width`` wide (the part over the wall) from the wall's
+    near face, where its position across the wall puts it."""
+    room = t - width
+    position = pad.position_across or ("near-face" if across else "centred")
+    if position == "near-face":
+        return 0.0
+    if position == "far-face":
+        return room
+    if position == "offset":
+        # Validation allowed half a millimetre of measurement rounding past either face.
+        return min(max(room / 2 + pad.offset_across, 0.0), room)
+    return room / 2
 
 
 class Pressure(NamedTuple):
@@ -253,14 +268,57 @@ def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[S
     return _new_tuple(Pressure, (wx0, wx1, wy0, wy1, rigid, kind, e, smax, smin, cx0, cx1))
 
 
-def end_distances(
+WHOLE_WINDOW = "whole-window reading"
+CONTACT_LENGTH = "contact-length reading"
+
+
+class Reading(NamedTuple):
+    """One reading of the loaded length on the masonry: its name ("" where there is only
+    one), its ends in the support's frame and the wall's end distances from them."""
+
+    name: str
+    x0: float
+    x1: float
+    e1: float | None
+    e2: float | None
+
+    @property
+    def length(self) -> float:
+        return self.x1 - self.x0
+
+
+def readings(
     lay: Layout, pres: Pressure, a1: float | None, a2: float | None
-) -> tuple[float | None, float | None]:
-    """Distances from the ends of the loaded area on the masonry to the wall's ends:
-    what carries the load sets a1 and a2, not the padstone's nominal ends."""
-    e1 = None if a1 is None else a1 + pres.contact_x0
-    e2 = None if a2 is None else a2 + (lay.length - pres.contact_x1)
-    return e1, e2
+) -> tuple[Reading, ...]:
+    """The loaded length on the masonry, read each way the codes leave open.
+
+    Under a uniform or trapezoidal pressure the whole window is in contact: one reading.
+    Under a triangle the codes are silent on whether the loaded length is the whole window
+    (the padstone's length when it acts as rigid, else the dispersed window) or the
+    contact length c = 3 (L/2 − e) at the loaded end; each check is worked both ways and
+    keeps the higher utilisation [ours, the methods note's rule].
+    """
+
+    def reading(name: str, x0: float, x1: float) -> Reading:
+        e1 = None if a1 is None else a1 + x0
+        e2 = None if a2 is None else a2 + (lay.length - x1)
+        return _new_tuple(Reading, (name, x0, x1, e1, e2))
+
+    if pres.distribution != "triangle":
+        return (reading("", pres.window_x0, pres.window_x1),)
+    return (
+        reading(WHOLE_WINDOW, pres.window_x0, pres.window_x1),
+        reading(CONTACT_LENGTH, pres.contact_x0, pres.contact_x1),
+    )
+
+
+def worse(candidates: list[tuple[float, Reading]]) -> tuple[float, Reading]:
+    """The (utilisation, reading) with the higher utilisation; on a tie the first."""
+    best = candidates[0]
+    for candidate in candidates[1:]:
+        if candidate[0] > best[0]:
+            best = candidate
+    return best
 
 
 def spread_length(loaded: float, e1: float | None, e2: float | None, each_side: float) -> float:

@@ -12,7 +12,9 @@ Geometry convention (fixed here, used everywhere):
   coordinate: x = 0 is the padstone end from which ``a1`` is measured; y = 0 is the near
   face of the wall.
 * A padstone under a beam across the wall sits flush with the near face; one under a beam
-  in line with the wall is centred on the wall's thickness.
+  in line with the wall is centred on the wall's thickness. ``Padstone.position_across``
+  says otherwise: flush with the near face, centred, flush with the far face, or offset
+  (its centre ``offset_across`` from the wall's centre line, + towards the far face).
 * Offsets are of the footprint's centre from the support's centre. Left out, they follow
   the construction: flush with the near edge in the span direction, centred in the other.
 """
@@ -38,6 +40,7 @@ MATERIALS = (
 MORTARS = ("M2", "M4", "M6", "M12", "thin-layer")
 CONDITIONING = ("air-dried", "water-soaked")
 CONTROL_LEVELS = ("normal", "special")
+PADSTONE_POSITIONS = ("near-face", "centred", "far-face", "offset")
 
 
 @dataclass(frozen=True, slots=True)
@@ -69,21 +72,34 @@ class Beam:
 
 @dataclass(frozen=True, slots=True)
 class Padstone:
-    """A concrete spreader under the beam, mm. ``f_ck`` (N/mm²) overrides the class."""
+    """A concrete spreader under the beam, mm. ``f_ck`` (N/mm²) overrides the class.
+
+    ``reinforced`` False (the default) is plain concrete, as site padstones usually are,
+    precast or cast in place: EN 1992-1-1 section 12 then takes α_cc,pl for f_cd.
+
+    ``position_across``: where a padstone narrower than the wall sits across it, one of
+    :data:`PADSTONE_POSITIONS`; None is as built in (flush with the near face under a beam
+    across the wall, centred under one in line with it). ``offset_across``: with "offset",
+    the padstone's centre from the wall's centre line, mm, + towards the far face.
+    """
 
     length: float
     width: float
     depth: float
     concrete: str = "C25/30"
     f_ck: float | None = None
-    precast: bool = True
+    reinforced: bool = False
+    position_across: str | None = None
+    offset_across: float | None = None
 
 
 @dataclass(frozen=True, slots=True)
 class Wall:
     """The wall under the bearing, mm.
 
-    height_to_bearing: h_c, from the wall's base to the level of the bearing.
+    height_to_bearing: h_c, from the wall's base to the padstone's underside (with no
+    padstone, to the beam's underside): where the load enters the masonry, not the level
+    the beam sits at on the padstone.
     clear_height: h (defaults to h_c); effective_height: h_ef (defaults to h);
     effective_thickness: t_ef (defaults to t).
     a1: along the wall from the support's x = 0 end to the wall's end or an opening edge.
@@ -107,6 +123,10 @@ class Masonry:
     unit's height and least horizontal dimension (normalised here), or the normalised
     strength ``f_b`` with ``unit_strength_is_normalised``. ``gamma_M`` overrides the code
     basis's partial factor.
+
+    ``collar_joint``: whether the wall has a mortar joint parallel to its face (a
+    longitudinal or collar joint, as in a one-brick wall), which takes 0.8 × K in EC6 eqn
+    3.1. None infers it from the wall's thickness and the unit's width.
     """
 
     material: str = "aggregate concrete"
@@ -119,6 +139,7 @@ class Masonry:
     mortar: str = "M4"
     f_k: float | None = None
     shell_bedded: bool = False
+    collar_joint: bool | None = None
     unit_category: str = "I"
     execution_class: int = 2
     manufacturing_control: str = "normal"

@@ -8,7 +8,8 @@ from itertools import permutations
 
 from .basis import CodeBasis
 from .errors import InputError
-from .geometry import layout
+from .format import number, utilisation
+from .geometry import layout, padstone_y0
 from .inputs import ACROSS, BearingInput, Padstone
 from .recheck import check_bearing
 
@@ -36,13 +37,13 @@ class Remedy:
         if self.padstone is not None:
             p = self.padstone
             parts.append(
-                f"a {p.length:g} x {p.width:g} x {p.depth:g} mm {p.concrete} padstone passes "
-                f"(util. {self.padstone_utilisation:.2f})"
+                f"a {number(p.length)} x {number(p.width)} x {number(p.depth)} mm {p.concrete} "
+                f"padstone passes (util. {utilisation(self.padstone_utilisation)})"
             )
         if self.bearing_length is not None:
             parts.append(
-                f"a bearing of {self.bearing_length:g} mm passes "
-                f"(util. {self.bearing_utilisation:.2f})"
+                f"a bearing of {number(self.bearing_length)} mm passes "
+                f"(util. {utilisation(self.bearing_utilisation)})"
             )
         return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
 
@@ -60,6 +61,7 @@ class Remedy:
             "padstone_utilisation": self.padstone_utilisation,
             "bearing_length": self.bearing_length,
             "bearing_utilisation": self.bearing_utilisation,
+            "words": self.describe(),
         }
 
 
@@ -70,9 +72,47 @@ def remedy(
     classes: tuple[str, ...] = STANDARD_CLASSES,
     step: float = 5.0,
 ) -> Remedy:
+    # An offset typed in that says what leaving it empty says is the same bearing, and must
+    # get the same hint: both searches then move the beam with its support.
+    inp = as_built_in(inp)
     pad, pad_u = smallest_padstone(inp, basis, sizes, classes)
     length, length_u = shortest_bearing(inp, basis, step)
     return Remedy(pad, pad_u, length, length_u)
+
+
+def default_offsets(inp: BearingInput) -> tuple[float | None, float]:
+    """The footprint's offsets from its support's centre (along, across) where none is
+    given, as :func:`~.geometry.footprint_layout` places it: along, centred under a beam
+    across the wall and flush with the span end under one in line (None with no padstone,
+    where it is not read); across, flush with the near face under a beam across the wall,
+    centred under one in line."""
+    beam, pad, t = inp.beam, inp.padstone, inp.wall.thickness
+    across = beam.orientation == ACROSS
+    foot_along = beam.flange_width if across else beam.bearing_length
+    foot_across = beam.bearing_length if across else beam.flange_width
+    width = t if pad is None else min(pad.width, t)
+    if pad is None:
+        along = None
+    else:
+        along = 0.0 if across else (foot_along - pad.length) / 2
+        foot_across = min(foot_across, width)
+    return along, (foot_across - width) / 2 if across else 0.0
+
+
+def as_built_in(inp: BearingInput) -> BearingInput:
+    """``inp`` with each beam offset that equals where the beam sits by default left out."""
+    beam = inp.beam
+    if beam.offset_along is None and beam.offset_across is None:
+        return inp
+    d_along, d_across = default_offsets(inp)
+    along, across = beam.offset_along, beam.offset_across
+    if along is not None and (d_along is None or abs(along - d_along) <= 1e-9):
+        along = None
+    if across is not None and abs(across - d_across) <= 1e-9:
+        across = None
+    if (along, across) == (beam.offset_along, beam.offset_across):
+        return inp
+    return replace(inp, beam=replace(beam, offset_along=along, offset_across=across))
 
 
 def _placements(inp: BearingInput, sizes) -> list[tuple[float, float, float]]:
@@ -114,7 +154,23 @@ def _with_padstone(
         beam = replace(inp.beam, offset_along=None)
     if (a1 is not None and a1 < 0) or (a2 is not None and a2 < 0):
         return None
-    pad = Padstone(length=L, width=B, depth=h, concrete=concrete)
+    # Laid where the old one lay across the wall; a bare bearing's takes the default.
+    old_pad = inp.padstone
+    pad = Padstone(
+        length=L,
+        width=B,
+        depth=h,
+        concrete=concrete,
+        position_across=None if old_pad is None else old_pad.position_across,
+        offset_across=None if old_pad is None else old_pad.offset_across,
+    )
+    if beam.offset_across is not None:
+        # A beam placed off its default stays where it is in the wall.
+        t = wall.thickness
+        y_abs = old.y0_in_wall + old.width / 2 + beam.offset_across
+        width = min(B, t)
+        y0 = padstone_y0(pad, width, t, inp.beam.orientation == ACROSS)
+        beam = replace(beam, offset_across=y_abs - (y0 + width / 2))
     return replace(inp, padstone=pad, beam=beam, wall=replace(wall, a1=a1, a2=a2))
 
 
@@ -133,6 +189,17 @@ def smallest_padstone(inp, basis, sizes=STANDARD_PADSTONES, classes=STANDARD_CLA
     return None, None
 
 
+def _lengthened(beam, pad: Padstone | None, length: float):
+    """The beam bearing ``length``, its near edge where it was: the end a beam across the
+    wall comes in at the near face, the span end of one in line."""
+    grow = length - beam.bearing_length
+    if beam.orientation == ACROSS and beam.offset_across is not None:
+        return replace(beam, bearing_length=length, offset_across=beam.offset_across + grow / 2)
+    if beam.orientation != ACROSS and beam.offset_along is not None and pad is not None:
+        return replace(beam, bearing_length=length, offset_along=beam.offset_along + grow / 2)
+    return replace(beam, bearing_length=length)
+
+
 def shortest_bearing(inp: BearingInput, basis: CodeBasis, step: float = 5.0):
     """The shortest bearing, from the present one up in ``step`` mm, that passes."""
     beam, pad = inp.beam, inp.padstone
@@ -146,7 +213,7 @@ def shortest_bearing(inp: BearingInput, basis: CodeBasis, step: float = 5.0):
     least = basis.min_bearing_lintel if beam.member == "lintel" else basis.min_bearing_beam
     length = max(least, beam.bearing_length)
     while length <= room + 1e-9:
-        candidate = replace(inp, beam=replace(beam, bearing_length=length))
+        candidate = replace(inp, beam=_lengthened(beam, inp.padstone, length))
         try:
             result = check_bearing(candidate, basis)
         except InputError:

@@ -18,6 +18,7 @@ from operator import attrgetter
 from .basis import BS5628, CodeBasis
 from .checks import is_spreader
 from .errors import InputError
+from .format import number, utilisation
 from .inputs import Beam, BearingInput, Masonry, Padstone, Wall
 from .trace import INFORMATIVE, BearingResult
 
@@ -42,6 +43,9 @@ class Measurements:
     padstone_width: float | None = None
     padstone_depth: float | None = None
     padstone_concrete: str | None = None
+    padstone_reinforced: bool | None = None
+    padstone_position: str | None = None
+    padstone_offset_across: float | None = None
     wall_thickness: float | None = None
     a1: float | None = None
     a2: float | None = None
@@ -49,6 +53,7 @@ class Measurements:
     masonry_group: int | None = None
     unit_strength: float | None = None
     mortar: str | None = None
+    collar_joint: bool | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -149,13 +154,18 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
                 ("width", m.padstone_width),
                 ("depth", m.padstone_depth),
                 ("concrete", m.padstone_concrete or None),
+                ("reinforced", m.padstone_reinforced),
+                *_position_measured(m),
             ),
         )
         if m.padstone_concrete and pad.f_ck is not None:
             # The class seen on site replaces a declared f_ck.
             pad = _rebuilt(pad, (("f_ck", None),))
-    elif m.padstone_concrete and pad is not None:
-        pad = _rebuilt(pad, (("concrete", m.padstone_concrete), ("f_ck", None)))
+    else:
+        if m.padstone_concrete and pad is not None:
+            pad = _rebuilt(pad, (("concrete", m.padstone_concrete), ("f_ck", None)))
+        if pad is not None:
+            pad = _measured(pad, (("reinforced", m.padstone_reinforced), *_position_measured(m)))
 
     wall = design.wall
     t_ef = wall.effective_thickness
@@ -181,6 +191,7 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
             ("group", m.masonry_group),
             ("mortar", m.mortar),
             ("unit_strength", m.unit_strength),
+            ("collar_joint", m.collar_joint),
         ),
     )
     if (
@@ -193,6 +204,23 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
     return _rebuilt(design, (("beam", beam), ("padstone", pad), ("wall", wall), ("masonry", mas)))
 
 
+# The "offset" position clears nothing; any other clears a designed offset. Written as the
+# (field, value) pairs _measured takes, with a marker for "clear it".
+def _position_measured(m: Measurements) -> tuple:
+    position, offset = m.padstone_position or None, m.padstone_offset_across
+    if position is None and offset is None:
+        return ()
+    if position is None:
+        position = "offset"  # an offset measured says where the padstone is
+    return (
+        ("position_across", position),
+        ("offset_across", offset if position == "offset" else _CLEAR),
+    )
+
+
+_CLEAR = object()
+
+
 def _measured(obj, measured: tuple):
     """``obj`` with each measured (name, value) in its place, None being not measured; or
     ``obj`` itself when every measured value is its own: most measurements confirm the
@@ -202,6 +230,10 @@ def _measured(obj, measured: tuple):
         if value is None:
             continue
         current = getattr(obj, name)
+        if value is _CLEAR:
+            if current is not None:
+                changed.append((name, None))
+            continue
         # Often the very value the design holds: say so without a call.
         if value is not current and _differs(value, current):
             changed.append((name, value))
@@ -264,10 +296,14 @@ _DIMENSIONS = (
 
 FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
     "padstone_present": "Padstone present",
+    "padstone_reinforced": "Padstone reinforced",
+    "padstone_position": "Padstone's position across the wall",
+    "padstone_offset_across": "Padstone offset from the wall's centre line",
     "masonry_group": "Unit group",
     "masonry_material": "Unit material",
     "mortar": "Mortar class",
     "unit_strength": "Unit strength",
+    "collar_joint": "Collar joint in the wall",
 }
 
 
@@ -299,7 +335,7 @@ def review(
                 ReviewReason(
                     "check-fails",
                     BLOCKS,
-                    f"{c.title} fails as built (utilisation {_fmt_util(c.utilisation)}).",
+                    f"{c.title} fails as built ({_utilisation_phrase(c.utilisation)}).",
                     (("check", c.code), ("utilisation", c.utilisation)),
                 )
             )
@@ -308,7 +344,8 @@ def review(
             ReviewReason(
                 "above-threshold",
                 BLOCKS,
-                f"Utilisation {result.utilisation:.2f} is above the site's review threshold {s.threshold:.2f}.",
+                f"Utilisation {utilisation(result.utilisation)} is above the site's review threshold "
+                f"{utilisation(s.threshold)}.",
                 (("utilisation", result.utilisation), ("threshold", s.threshold)),
             )
         )
@@ -318,8 +355,9 @@ def review(
             ReviewReason(
                 "utilisation-rise",
                 BLOCKS,
-                f"Utilisation rose from {design_result.utilisation:.2f} as designed to "
-                f"{_fmt_util(result.utilisation)} as built, more than the allowed {s.rise_margin:.2f}.",
+                f"Utilisation rose from {utilisation(design_result.utilisation)} as designed to "
+                f"{utilisation(result.utilisation)} as built, more than the allowed "
+                f"{utilisation(s.rise_margin)}.",
                 (
                     ("design", design_result.utilisation),
                     ("as_built", result.utilisation),
@@ -367,8 +405,8 @@ def review(
     return tuple(out)
 
 
-def _fmt_util(u: float) -> str:
-    return "unbounded" if u == math.inf else f"{u:.2f}"
+def _utilisation_phrase(u: float) -> str:
+    return "no capacity" if u == math.inf else f"utilisation {utilisation(u)}"
 
 
 def _spreader_lost(
@@ -414,7 +452,8 @@ def _dimension_reasons(
             ReviewReason(
                 f"{slug}-off",
                 BLOCKS if worse else ADVISORY,
-                f"{label} is {a:g} mm as built against {d:g} mm designed ({abs(diff):g} mm {word}; tolerance {tol:g} mm).",
+                f"{label} is {number(a)} mm as built against {number(d)} mm designed "
+                f"({number(abs(diff))} mm {word}; tolerance {number(tol)} mm).",
                 (("design", d), ("as_built", a), ("tolerance", tol)),
             )
         )
@@ -478,8 +517,8 @@ def _position_reasons(
             ReviewReason(
                 f"{slug}-off",
                 BLOCKS if worse else ADVISORY,
-                f"{label} is {av:+.0f} mm from the centre as built against {dv:+.0f} mm designed "
-                f"(tolerance {s.tol_position:g} mm).",
+                f"{label} is {number(av, plus=True)} mm from the centre as built against "
+                f"{number(dv, plus=True)} mm designed (tolerance {number(s.tol_position)} mm).",
                 (("design", dv), ("as_built", av), ("tolerance", s.tol_position)),
             )
         )
@@ -487,8 +526,9 @@ def _position_reasons(
 
 
 def _describe(m: Masonry) -> str:
-    strength = f" {m.unit_strength:g} N/mm²" if m.unit_strength is not None else ""
-    return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar"
+    strength = f" {number(m.unit_strength)} N/mm²" if m.unit_strength is not None else ""
+    joint = ", with a collar joint" if m.collar_joint else ""
+    return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar{joint}"
 
 
 def _material_reasons(design, design_result, as_built, result) -> list[ReviewReason]:
@@ -508,7 +548,7 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
                 "masonry-weaker",
                 BLOCKS,
                 f"The masonry is weaker than designed: {_describe(am)} (characteristic strength "
-                f"f_k {afk:.2f} N/mm²) against {_describe(dm)} (f_k {dfk:.2f} N/mm²).",
+                f"f_k {number(afk)} N/mm²) against {_describe(dm)} (f_k {number(dfk)} N/mm²).",
                 (("design_f_k", dfk), ("as_built_f_k", afk)),
             )
         )
@@ -518,7 +558,8 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
                 "masonry-unverified",
                 BLOCKS,
                 f"The masonry differs from the design ({_describe(am)} against {_describe(dm)}), "
-                f"whose characteristic strength f_k of {dfk:.2f} N/mm² was declared: the re-check keeps it, so confirm it holds.",
+                f"whose characteristic strength f_k of {number(dfk)} N/mm² was declared: the "
+                "re-check keeps it, so confirm it holds.",
                 (("design_f_k", dfk),),
             )
         )
@@ -537,7 +578,8 @@ def _material_reasons(design, design_result, as_built, result) -> list[ReviewRea
             ReviewReason(
                 "concrete-weaker",
                 BLOCKS,
-                f"The padstone concrete is weaker than designed (f_cd {ac:.1f} against {dc:.1f} N/mm²).",
+                f"The padstone concrete is weaker than designed (f_cd {number(ac)} against "
+                f"{number(dc)} N/mm²).",
                 (("design_f_cd", dc), ("as_built_f_cd", ac)),
             )
         )
@@ -555,7 +597,8 @@ def _checklist_reasons(c: Checklist, s: ReviewSettings) -> list[ReviewReason]:
             ReviewReason(
                 "packing-thick",
                 BLOCKS,
-                f"Packing under the beam is {c.packing:g} mm thick; more than {s.max_packing:g} mm needs the engineer.",
+                f"Packing under the beam is {number(c.packing)} mm thick; more than "
+                f"{number(s.max_packing)} mm needs the engineer.",
                 (("packing", c.packing), ("limit", s.max_packing)),
             )
         )

@@ -13,6 +13,10 @@ from .inputs import Beam, BearingInput, Load, Masonry, Padstone, Wall
 from .review import Checklist, Measurements
 
 _PARTS = {"load": Load, "beam": Beam, "wall": Wall, "masonry": Masonry, "padstone": Padstone}
+# Inputs this version no longer has, still found in designs stored before it (and in site
+# packs on phones): read and dropped, as nothing is computed from them. ``precast`` was
+# carried but used by no check; a padstone is now plain unless ``reinforced``.
+_RETIRED = {"padstone": ("precast",)}
 _TOP_LEVEL = ("bearing_type", "e_mk", "phi_m", "beta_s")
 
 
@@ -35,6 +39,8 @@ def input_from_dict(data: dict) -> BearingInput:
                 parts[name] = None
                 continue
             raise InputError(name, None, f"the {name} of the bearing", "missing")
+        if isinstance(value, dict) and name in _RETIRED:
+            value = {k: v for k, v in value.items() if k not in _RETIRED[name]}
         parts[name] = _build(cls, value, name)
     top = {}
     for name in _TOP_LEVEL:
@@ -92,9 +98,13 @@ _KINDS = {
     "execution_class": int,
     "masonry_group": int,
     "bearing_type": int,
-    "precast": bool,
+    "reinforced": bool,
+    "position_across": str,
+    "padstone_position": str,
+    "padstone_reinforced": bool,
     "unit_strength_is_normalised": bool,
     "shell_bedded": bool,
+    "collar_joint": bool,
     "padstone_present": bool,
     "bedded": bool,
     "cracks": bool,

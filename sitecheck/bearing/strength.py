@@ -10,9 +10,10 @@ from operator import attrgetter
 
 from .basis import BS_FK_TABLE, BS_UNIT_STRENGTHS, MORTAR_DESIGNATION, MORTAR_STRENGTH, CodeBasis
 from .errors import InputError
+from .format import number
 from .inputs import Masonry, Padstone
 from .trace import Step, Strengths
-from .validate import concrete_class_fck
+from .validate import concrete_class_fck, wall_tolerance
 
 # EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
 # (columns), for normalising a declared mean strength [M]; None where the table is blank.
@@ -55,8 +56,8 @@ def delta(unit_height: float, unit_width: float) -> float:
         raise InputError(
             "masonry.unit_width",
             unit_width,
-            f"a unit size inside EN 772-1 Table A.1 (a {unit_height:g} mm high unit that is "
-            f"{unit_width:g} mm wide falls in a blank cell); give the normalised strength f_b",
+            f"a unit size inside EN 772-1 Table A.1 (a {number(unit_height)} mm high unit that is "
+            f"{number(unit_width)} mm wide falls in a blank cell); give the normalised strength f_b",
             "not-covered",
         )
     fh = (h - h0) / (h1 - h0)
@@ -113,8 +114,12 @@ def f_cd(f_ck: float, alpha_cc: float, gamma_c: float) -> float:
     return alpha_cc * f_ck / gamma_c
 
 
-def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> Strengths:
-    """f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace."""
+def masonry_strengths(
+    mas: Masonry, pad: Padstone | None, basis: CodeBasis, t: float | None = None
+) -> Strengths:
+    """f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace. ``t``, the
+    wall's thickness, tells whether it has a longitudinal joint where the input leaves
+    that to be inferred."""
     steps: list[Step] = []
     ec6 = basis.is_ec6
     if mas.f_k is not None:
@@ -132,7 +137,7 @@ def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> S
             )
         )
     elif ec6:
-        fk = _f_k_from_units_ec6(mas, basis, steps)
+        fk = _f_k_from_units_ec6(mas, basis, steps, t)
     else:
         designation = MORTAR_DESIGNATION[mas.mortar]
         fk = f_k_bs5628(float(mas.unit_strength), designation)
@@ -154,7 +159,7 @@ def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> S
         steps.append(
             Step(
                 "Partial factor for masonry, as given",
-                "γ_M",
+                "γ_M" if ec6 else "γ_m",
                 "declared",
                 (),
                 gm,
@@ -208,46 +213,87 @@ def masonry_strengths(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> S
         )
 
     fd = f_d(fk, gm)
-    steps.append(
-        Step(
-            "Design compressive strength of the masonry",
-            "f_d",
-            "f_k / γ_M",
-            (("f_k", fk, "N/mm²"), ("γ_M", gm, "")),
-            fd,
-            "N/mm²",
-            "EN 1996-1-1 2.4.1" if ec6 else "BS 5628-1 clause 27",
-            "S",
+    if ec6:
+        steps.append(
+            Step(
+                "Design compressive strength of the masonry",
+                "f_d",
+                "f_k / γ_M",
+                (("f_k", fk, "N/mm²"), ("γ_M", gm, "")),
+                fd,
+                "N/mm²",
+                "EN 1996-1-1 2.4.1",
+                "S",
+            )
         )
-    )
+    else:
+        # BS 5628-1 has no f_d: its design strength is written f_k/γ_m throughout.
+        steps.append(
+            Step(
+                "Design strength of the masonry",
+                "f_k/γ_m",
+                "f_k / γ_m",
+                (("f_k", fk, "N/mm²"), ("γ_m", gm, "")),
+                fd,
+                "N/mm²",
+                "BS 5628-1:1992 clause 27",
+                "P",
+            )
+        )
 
     fcd = None
     if pad is not None:
         fck = float(pad.f_ck) if pad.f_ck is not None else concrete_class_fck(pad.concrete)
-        fcd = f_cd(fck, basis.alpha_cc, basis.gamma_c)
-        steps.append(
-            Step(
-                "Design compressive strength of the padstone concrete",
-                "f_cd",
-                "α_cc · f_ck / γ_c",
-                (("α_cc", basis.alpha_cc, ""), ("f_ck", fck, "N/mm²"), ("γ_c", basis.gamma_c, "")),
-                fcd,
-                "N/mm²",
-                "EN 1992-1-1 3.1.6 eqn 3.15",
-                "S",
+        if pad.reinforced:
+            fcd = f_cd(fck, basis.alpha_cc, basis.gamma_c)
+            steps.append(
+                Step(
+                    "Design compressive strength of the padstone concrete (reinforced)",
+                    "f_cd",
+                    "α_cc · f_ck / γ_c",
+                    (
+                        ("α_cc", basis.alpha_cc, ""),
+                        ("f_ck", fck, "N/mm²"),
+                        ("γ_c", basis.gamma_c, ""),
+                    ),
+                    fcd,
+                    "N/mm²",
+                    "EN 1992-1-1 3.1.6 eqn 3.15",
+                    "S",
+                )
             )
-        )
+        else:
+            # Plain concrete, as site padstones usually are: section 12 takes α_cc,pl.
+            fcd = f_cd(fck, basis.alpha_cc_pl, basis.gamma_c)
+            steps.append(
+                Step(
+                    "Design compressive strength of the padstone concrete (plain)",
+                    "f_cd,pl",
+                    "α_cc,pl · f_ck / γ_c",
+                    (
+                        ("α_cc,pl", basis.alpha_cc_pl, ""),
+                        ("f_ck", fck, "N/mm²"),
+                        ("γ_c", basis.gamma_c, ""),
+                    ),
+                    fcd,
+                    "N/mm²",
+                    "EN 1992-1-1 12.3.1 with eqn 3.15",
+                    "M",
+                )
+            )
     return Strengths(fk, gm, fd, fcd, tuple(steps))
 
 
 # Strengths already worked out; see masonry_strengths_cached. Bounded, and emptied when
 # full: the masonries and concretes of one site are few.
 _STRENGTHS: dict[tuple, tuple[CodeBasis, Strengths]] = {}
-_STRENGTHS_LIMIT = 1024
+_STRENGTHS_LIMIT = 4096
 _MASONRY_VALUES = attrgetter(*(f.name for f in fields(Masonry)))
 
 
-def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasis) -> Strengths:
+def masonry_strengths_cached(
+    mas: Masonry, pad: Padstone | None, basis: CodeBasis, t: float | None = None
+) -> Strengths:
     """:func:`masonry_strengths` for validated input, remembered: a site re-checks many
     bearings on the same masonry and concrete, and the result is immutable.
 
@@ -257,7 +303,9 @@ def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasi
     and the bases in use are a few long-lived objects. Each entry holds its basis, so its
     identity cannot pass to another object while the entry lives.
     """
-    concrete, f_ck = (None, None) if pad is None else (pad.concrete, pad.f_ck)
+    concrete, f_ck, reinforced = (
+        (None, None, None) if pad is None else (pad.concrete, pad.f_ck, pad.reinforced)
+    )
     values = _MASONRY_VALUES(mas)
     key = (
         id(basis),
@@ -267,21 +315,40 @@ def masonry_strengths_cached(mas: Masonry, pad: Padstone | None, basis: CodeBasi
         type(concrete),
         f_ck,
         type(f_ck),
+        reinforced,
+        type(reinforced),
+        # The wall's thickness shows only where EC6 works f_k from K (the collar joint's
+        # step); elsewhere it would only split equal entries.
+        *((t, type(t)) if basis.is_ec6 and mas.f_k is None else ()),
     )
     try:
         found = _STRENGTHS.get(key)
     except TypeError:  # an unhashable value: work it out, and let that say what is wrong
-        return masonry_strengths(mas, pad, basis)
+        return masonry_strengths(mas, pad, basis, t)
     if found is not None and found[0] is basis:
         return found[1]
-    result = masonry_strengths(mas, pad, basis)
+    result = masonry_strengths(mas, pad, basis, t)
     if len(_STRENGTHS) >= _STRENGTHS_LIMIT:
         _STRENGTHS.clear()
     _STRENGTHS[key] = (basis, result)
     return result
 
 
-def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> float:
+def collar_joint(mas: Masonry, t: float | None) -> tuple[bool, str]:
+    """Whether the wall has a mortar joint parallel to its face, and how that is known:
+    "given"; "inferred" from a wall at least two units wide (t ≥ 2 × the unit's least
+    horizontal dimension, give or take the wall's tolerance) [ours]; or "unknown" where the
+    unit's width is not given, when none is assumed and the trace says so."""
+    if mas.collar_joint is not None:
+        return bool(mas.collar_joint), "given"
+    if t is None or mas.unit_width is None:
+        return False, "unknown"
+    return t + wall_tolerance(t) >= 2 * mas.unit_width, "inferred"
+
+
+def _f_k_from_units_ec6(
+    mas: Masonry, basis: CodeBasis, steps: list[Step], t: float | None
+) -> float:
     fu = float(mas.unit_strength)
     if mas.unit_strength_is_normalised:
         fb = fu
@@ -329,8 +396,8 @@ def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> fl
         raise InputError(
             "masonry.unit_strength",
             mas.unit_strength,
-            f"a normalised strength f_b of at most {basis.f_b_max:g} N/mm² for EN 1996-1-1 "
-            f"eqn 3.1 (this unit gives {fb:.1f}); give f_k directly",
+            f"a normalised strength f_b of at most {number(basis.f_b_max)} N/mm² for EN 1996-1-1 "
+            f"eqn 3.1 (this unit gives {number(fb)}); give f_k directly",
             "not-covered",
         )
     thin = mas.mortar == "thin-layer"
@@ -356,6 +423,42 @@ def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> fl
             "M",
         )
     )
+    joint, how = collar_joint(mas, t)
+    factor = basis.collar_joint_factor if joint else 1.0
+    why = {
+        ("given", True): "× 0.8: the wall has a mortar joint parallel to its face (as given)",
+        ("given", False): "1: no mortar joint parallel to the wall's face (as given)",
+        ("inferred", True): "× 0.8: a wall at least two units wide (t ≥ 2 × unit width) has one",
+        ("inferred", False): "1: a wall less than two units wide has no such joint",
+        ("unknown", False): "1: the unit's width is not given, so none is assumed; say if "
+        "the wall has a collar joint",
+    }[how, joint]
+    steps.append(
+        Step(
+            "Longitudinal (collar) mortar joint",
+            "k_joint",
+            why,
+            (("t", t, "mm"), ("unit width", mas.unit_width, "mm"), ("joint", how, "")),
+            factor,
+            "",
+            "EN 1996-1-1 3.6.1.2(1)",
+            "M",
+        )
+    )
+    if joint:
+        K = K * factor
+        steps.append(
+            Step(
+                "Constant for a wall with a longitudinal joint",
+                "K",
+                "k_joint · K",
+                (("k_joint", factor, ""),),
+                K,
+                "",
+                "EN 1996-1-1 3.6.1.2(1)",
+                "M",
+            )
+        )
     if thin:
         exponent = 0.70 if (mas.material == "clay" and mas.group > 1) else 0.85
         fk = f_k_thin_layer(K, fb, exponent)
@@ -363,7 +466,7 @@ def _f_k_from_units_ec6(mas: Masonry, basis: CodeBasis, steps: list[Step]) -> fl
             Step(
                 "Characteristic compressive strength, thin-layer mortar",
                 "f_k",
-                f"K · f_b^{exponent:g}",
+                f"K · f_b^{number(exponent)}",
                 (("K", K, ""), ("f_b", fb, "N/mm²")),
                 fk,
                 "N/mm²",

@@ -168,6 +168,12 @@ class Spread:
     masonry_spread_deg: float
     spread_depth: float  # depth below the bearing where the spread length is checked
     spread_length: float  # l_efm (EC6) or the 45° dispersed length (BS 5628)
+    # The loaded length that spread starts from, on the reading that governs the wall's
+    # check below (a1_eff and a2_eff are from its ends), and that reading's name ("" where
+    # the whole window is in contact, so there is only one).
+    spread_x0: float
+    spread_x1: float
+    spread_reading: str
 
     def as_dict(self) -> dict:
         return {name: getattr(self, name) for name in self.__slots__}

@@ -7,11 +7,13 @@ slip of units; they are not code limits.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterator
 from functools import lru_cache
 
 from .basis import BS5628, MORTAR_DESIGNATION, CodeBasis
 from .errors import InputError
+from .format import number
 from .inputs import (
     ACROSS,
     CONDITIONING,
@@ -20,6 +22,7 @@ from .inputs import (
     MEMBERS,
     MORTARS,
     ORIENTATIONS,
+    PADSTONE_POSITIONS,
     REACTION_POSITIONS,
     BearingInput,
 )
@@ -121,6 +124,9 @@ def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
             if pad.f_ck is None
             else _plain(pad.f_ck, 8.0, 90.0)
         )
+        and type(pad.reinforced) is bool
+        and pad.position_across is None
+        and pad.offset_across is None
     ):
         return False
     return (
@@ -128,8 +134,8 @@ def _plain_values(inp: BearingInput, basis: CodeBasis) -> bool:
         and beam.member in MEMBERS
         and beam.reaction_at in REACTION_POSITIONS
         and _plain_masonry(inp, basis)
-        and inp.bearing_type in (1, 2, 3)
-        and (inp.e_mk is None or (type(inp.e_mk) is float and inp.e_mk >= 0))
+        and _whole_in(inp.bearing_type, (1, 2, 3))
+        and (inp.e_mk is None or (type(inp.e_mk) is float and 0 <= inp.e_mk < t / 2))
         and (inp.phi_m is None or (type(inp.phi_m) is float and 0 < inp.phi_m <= 1))
         and (inp.beta_s is None or (type(inp.beta_s) is float and 0 < inp.beta_s <= 1))
     )
@@ -140,16 +146,18 @@ def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
     mas = inp.masonry
     if not (
         mas.material in MATERIALS
-        and mas.group in (1, 2, 3, 4)
+        and _whole_in(mas.group, (1, 2, 3, 4))
         and mas.mortar in MORTARS
         and mas.conditioning in CONDITIONING
         and mas.unit_category in ("I", "II")
-        and mas.execution_class in (1, 2)
+        and _whole_in(mas.execution_class, (1, 2))
         and mas.manufacturing_control in CONTROL_LEVELS
         and mas.construction_control in CONTROL_LEVELS
     ):
         return False
     if mas.gamma_M is not None and not _plain(mas.gamma_M, 1.0, 5.0):
+        return False
+    if mas.collar_joint is not None and type(mas.collar_joint) is not bool:
         return False
     if mas.f_k is not None:
         return _plain(mas.f_k, 0.5, 40.0)
@@ -261,13 +269,56 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
                 "a concrete class such as C25/30, or a declared f_ck",
                 "bad-choice",
             )
+        if not isinstance(pad.reinforced, bool):
+            yield InputError(
+                "padstone.reinforced",
+                pad.reinforced,
+                "true (reinforced) or false (plain concrete)",
+                "not-a-choice",
+            )
+        if pad.position_across is not None and pad.position_across not in PADSTONE_POSITIONS:
+            yield _choice("padstone.position_across", pad.position_across, PADSTONE_POSITIONS)
+        elif pad.position_across == "offset" and pad.offset_across is None:
+            yield InputError(
+                "padstone.offset_across",
+                None,
+                "the padstone's centre from the wall's centre line, mm, for an offset position",
+                "missing",
+            )
+        elif pad.offset_across is not None and pad.position_across != "offset":
+            yield InputError(
+                "padstone.offset_across",
+                pad.offset_across,
+                "empty unless the padstone's position across the wall is offset",
+                "not-needed",
+            )
+        elif pad.offset_across is not None and (
+            not _is_number(pad.offset_across) or abs(pad.offset_across) > 2000
+        ):
+            yield InputError(
+                "padstone.offset_across",
+                pad.offset_across,
+                "an offset within ±2000 mm",
+                "out-of-range",
+            )
 
-    if inp.bearing_type not in (1, 2, 3):
+    if not _whole_in(inp.bearing_type, (1, 2, 3)):
         yield InputError(
             "bearing_type", inp.bearing_type, "BS 5628-1 bearing type 1, 2 or 3", "bad-choice"
         )
-    if inp.e_mk is not None and (not _is_number(inp.e_mk) or inp.e_mk < 0):
-        yield InputError("e_mk", inp.e_mk, "an eccentricity of 0 mm or more", "out-of-range")
+    if inp.e_mk is not None:
+        t = wall.thickness
+        half = t / 2 if _is_number(t) and 0 < t < math.inf else None
+        if not _is_number(inp.e_mk) or not 0 <= inp.e_mk < (math.inf if half is None else half):
+            # At e_mk = t/2 the factor 1 − 2 e_mk/t is 0: the wall has no capacity left.
+            yield InputError(
+                "e_mk",
+                inp.e_mk,
+                "a finite eccentricity of 0 mm or more"
+                if half is None
+                else f"0 mm or more and less than half the wall's thickness ({number(half)} mm)",
+                "out-of-range",
+            )
     for name, value in (("phi_m", inp.phi_m), ("beta_s", inp.beta_s)):
         if value is not None and (not _is_number(value) or not 0 < value <= 1):
             yield InputError(name, value, "a factor above 0 and at most 1", "out-of-range")
@@ -295,7 +346,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "padstone.width",
                 pad.width,
-                f"no wider than the wall ({t:g} mm, give or take {wall_tolerance(t):g} mm); "
+                f"no wider than the wall ({number(t)} mm, give or take {number(wall_tolerance(t))} mm); "
                 "a padstone overhanging the wall is not covered",
                 "wider-than-wall",
             )
@@ -305,7 +356,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.bearing_length",
                 beam.bearing_length,
-                f"no longer than the padstone it sits on ({span_room:g} mm)",
+                f"no longer than the padstone it sits on ({number(span_room)} mm)",
                 "longer-than-padstone",
             )
             return
@@ -316,7 +367,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.flange_width",
                 beam.flange_width,
-                f"no wider than the padstone under it ({pad.length:g} mm)",
+                f"no wider than the padstone under it ({number(pad.length)} mm)",
                 "off-padstone",
             )
             return
@@ -328,7 +379,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.flange_width",
                 beam.flange_width,
-                f"no wider than the wall ({t:g} mm) for a beam in line with it and no padstone",
+                f"no wider than the wall ({number(t)} mm) for a beam in line with it and no padstone",
                 "wider-than-wall",
             )
             return
@@ -336,19 +387,28 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.bearing_length",
                 beam.bearing_length,
-                f"no longer than the wall is thick ({t:g} mm)",
+                f"no longer than the wall is thick ({number(t)} mm)",
                 "longer-than-wall",
             )
             return
         sup_len, sup_wid = foot_along, t
 
+    if pad is not None and pad.position_across == "offset" and _is_number(pad.offset_across):
+        room = max(0.0, (t - min(pad.width, t)) / 2)
+        if abs(pad.offset_across) > room + tol:
+            yield InputError(
+                "padstone.offset_across",
+                pad.offset_across,
+                f"within ±{number(room)} mm so the padstone stays on the wall",
+                "off-wall",
+            )
     if beam.offset_along is not None and pad is not None:
         room = (sup_len - foot_along) / 2
         if abs(beam.offset_along) > room + tol:
             yield InputError(
                 "beam.offset_along",
                 beam.offset_along,
-                f"within ±{room:g} mm so the flange stays wholly on the padstone",
+                f"within ±{number(room)} mm so the flange stays wholly on the padstone",
                 "off-padstone",
             )
     if beam.offset_across is not None:
@@ -358,7 +418,7 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             yield InputError(
                 "beam.offset_across",
                 beam.offset_across,
-                f"within ±{room:g} mm so the flange stays wholly on the {what}",
+                f"within ±{number(room)} mm so the flange stays wholly on the {what}",
                 "off-padstone" if pad is not None else "off-wall",
             )
 
@@ -367,8 +427,8 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
     mas = inp.masonry
     if mas.material not in MATERIALS:
         yield _choice("masonry.material", mas.material, MATERIALS)
-    if mas.group not in (1, 2, 3, 4):
-        yield InputError("masonry.group", mas.group, "unit Group 1, 2, 3 or 4", "bad-choice")
+    if not _whole_in(mas.group, (1, 2, 3, 4)):
+        yield InputError("masonry.group", mas.group, "a whole number 1 to 4", "bad-choice")
     if mas.mortar not in MORTARS:
         yield _choice("masonry.mortar", mas.mortar, MORTARS)
     if mas.conditioning not in CONDITIONING:
@@ -377,7 +437,7 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
         yield InputError(
             "masonry.unit_category", mas.unit_category, "category I or II", "bad-choice"
         )
-    if mas.execution_class not in (1, 2):
+    if not _whole_in(mas.execution_class, (1, 2)):
         yield InputError(
             "masonry.execution_class", mas.execution_class, "execution class 1 or 2", "bad-choice"
         )
@@ -387,6 +447,13 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
     ):
         if value not in CONTROL_LEVELS:
             yield _choice(name, value, CONTROL_LEVELS)
+    if mas.collar_joint is not None and not isinstance(mas.collar_joint, bool):
+        yield InputError(
+            "masonry.collar_joint",
+            mas.collar_joint,
+            "true (a mortar joint parallel to the wall's face), false, or empty to infer it",
+            "not-a-choice",
+        )
     if mas.gamma_M is not None and (not _is_number(mas.gamma_M) or not 1.0 <= mas.gamma_M <= 5.0):
         yield InputError(
             "masonry.gamma_M", mas.gamma_M, "a partial factor from 1.0 to 5.0", "out-of-range"
@@ -414,28 +481,28 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
             yield InputError(
                 "masonry.mortar",
                 mas.mortar,
-                "M2, M4, M6 or M12 for BS 5628-1 Table 2(a); give f_k for thin-layer mortar",
+                "M2, M4, M6 or M12 for BS 5628-1:1992 Table 2(a); give f_k for thin-layer mortar",
                 "not-covered",
             )
         if mas.unit_strength_is_normalised:
             yield InputError(
                 "masonry.unit_strength_is_normalised",
                 True,
-                "the unit's mean strength for BS 5628-1 Table 2(a), not a normalised one",
+                "the unit's mean strength for BS 5628-1:1992 Table 2(a), not a normalised one",
                 "not-covered",
             )
         if mas.unit_height is not None and mas.unit_height > 112.5:
             yield InputError(
                 "masonry.unit_height",
                 mas.unit_height,
-                "a brick (at most 112.5 mm high) for BS 5628-1 Table 2(a); for blocks give f_k",
+                "a brick (at most 112.5 mm high) for BS 5628-1:1992 Table 2(a); for blocks give f_k",
                 "not-covered",
             )
         if not 5.0 <= mas.unit_strength <= 100.0:
             yield InputError(
                 "masonry.unit_strength",
                 mas.unit_strength,
-                "5 to 100 N/mm², the range of BS 5628-1 Table 2(a)",
+                "5 to 100 N/mm², the range of BS 5628-1:1992 Table 2(a)",
                 "not-covered",
             )
         return
@@ -478,6 +545,12 @@ def _class_fck(concrete: str) -> float | None:
     return f_ck
 
 
+def _whole_in(value: object, choices: tuple[int, ...]) -> bool:
+    """A whole number among ``choices``, as an int: 1.0 and True are not Group 1 (Python
+    counts both equal to 1, and a table look-up or the trace would show them otherwise)."""
+    return type(value) is int and value in choices
+
+
 def _is_number(value: object) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool) and value == value
 
@@ -487,23 +560,30 @@ def _length_problem(
 ) -> InputError | None:
     least, greatest = bounds or _LENGTHS[name]
     if value is None:
-        return InputError(name, None, f"a length of {least:g} to {greatest:g} mm", "missing")
+        return InputError(
+            name, None, f"a length of {number(least)} to {number(greatest)} mm", "missing"
+        )
     if not _is_number(value):
-        return InputError(name, value, f"a length in mm, {least:g} to {greatest:g}", "not-a-number")
+        return InputError(
+            name, value, f"a length in mm, {number(least)} to {number(greatest)}", "not-a-number"
+        )
     if value <= 0:
         return InputError(
-            name, value, f"a positive length, {least:g} to {greatest:g} mm", "not-positive"
+            name,
+            value,
+            f"a positive length, {number(least)} to {number(greatest)} mm",
+            "not-positive",
         )
     if value < least / 10 or (value < least and value < 10):
         return InputError(
             name,
             value,
-            f"millimetres ({least:g} to {greatest:g} mm); {value:g} looks like metres: "
-            f"did you mean {value * 1000:g} mm?",
+            f"millimetres ({number(least)} to {number(greatest)} mm); {number(value)} looks like metres: "
+            f"did you mean {number(value * 1000)} mm?",
             "looks-like-metres",
         )
     if not least <= value <= greatest:
-        return InputError(name, value, f"{least:g} to {greatest:g} mm", "out-of-range")
+        return InputError(name, value, f"{number(least)} to {number(greatest)} mm", "out-of-range")
     return None
 
 

@@ -170,6 +170,21 @@ WAIT_FOR_SLOT_S = 20.0
 _SLOTS = _Slots(_cores(), waiting=2 * _cores())
 
 
+def share_cores_with(processes: int) -> int:
+    """Take this process's share of the cores when ``processes`` server processes run on one
+    machine (``sitecheck serve``'s workers), so that the machine as a whole still works on one
+    picture per core; returns the slots this process now has (at least one).
+
+    Only the work is shared: as many uploads as before may wait in each process, since a
+    waiting upload holds its bytes but no decoded picture, and a worker told to refuse
+    sooner would send phones away while the other worker's slot frees up.
+    """
+    global _SLOTS
+    share = max(1, _cores() // max(1, processes))
+    _SLOTS = _Slots(share, waiting=2 * _cores())
+    return share
+
+
 def processing_slot(wait_s: float | None = WAIT_FOR_SLOT_S):
     """Hold one of the process's picture slots while decoding or resizing a picture.
 

@@ -18,6 +18,8 @@ import math
 from dataclasses import dataclass, field
 from xml.sax.saxutils import escape, quoteattr
 
+from sitecheck.bearing.format import number
+
 VIEW_W = 640.0
 FONT = 22.0  # × 320 / VIEW_W = 11 px on the narrowest phone we design for
 MARGIN = 24.0
@@ -47,7 +49,7 @@ def _n(x: float) -> str:
 
 
 def _mm(x: float | None) -> str:
-    return "—" if x is None else f"{x:.0f}"
+    return "—" if x is None else number(x)
 
 
 def _attrs(data: dict) -> str:
@@ -161,6 +163,8 @@ class _Model:
     ec6: bool
     across: bool
     has_pad: bool
+    pad_words: str  # the padstone's concrete: class, and plain or reinforced
+    pad_across: str  # where it sits across the wall, when the input says ("" as built in)
     L: float  # support length along
     W: float  # support width across
     d: float  # padstone depth (0: none)
@@ -180,6 +184,9 @@ class _Model:
     win_x1: float
     cx0: float
     cx1: float
+    sx0: float  # the loaded length the masonry spread starts from (its governing reading)
+    sx1: float
+    spread_reading: str
     rigid: bool
     distribution: str
     ecc: float
@@ -194,6 +201,15 @@ class _Model:
     unit_len: float
     reaction: float
     changed: frozenset = field(default_factory=frozenset)
+
+
+def _across_words(pad: dict | None) -> str:
+    position = None if pad is None else pad.get("position_across")
+    if position == "offset":
+        return f"offset {number(pad.get('offset_across') or 0.0, plus=True)}"
+    return {"near-face": "at near face", "centred": "centred", "far-face": "at far face"}.get(
+        position or "", ""
+    )
 
 
 def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
@@ -214,6 +230,10 @@ def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
         ec6=str(res.get("basis", "")).startswith("EC6"),
         across=across,
         has_pad=pad is not None,
+        pad_across=_across_words(pad),
+        pad_words=""
+        if pad is None
+        else f"{pad.get('concrete') or ''} {'reinforced' if pad.get('reinforced') else 'plain'}".strip(),
         L=L,
         W=W,
         d=float(sp["support_depth"]),
@@ -235,6 +255,10 @@ def _model(inp: dict, res: dict, changed=frozenset()) -> _Model:
         win_x1=float(sp["window_x1"]),
         cx0=float(sp["contact_x0"]),
         cx1=float(sp["contact_x1"]),
+        # Results stored before both readings were worked spread from the contact length.
+        sx0=float(sp.get("spread_x0", sp["contact_x0"])),
+        sx1=float(sp.get("spread_x1", sp["contact_x1"])),
+        spread_reading=str(sp.get("spread_reading") or ""),
         rigid=bool(sp["rigid"]),
         distribution=str(sp["distribution"]),
         ecc=float(sp["eccentricity"]),
@@ -268,15 +292,15 @@ def _masonry_reach(m: _Model) -> tuple[float, float, float, float]:
     """Left and right ends of the masonry spread at the check depth, and the depths at
     which each spread line meets a wall end (or the check depth)."""
     each = m.depth / math.tan(math.radians(m.theta)) if m.theta > 0 else 0.0
-    left = m.cx0 - each
-    right = m.cx1 + each
+    left = m.sx0 - each
+    right = m.sx1 + each
     zl = zr = m.depth
     if m.a1 is not None and left < -m.a1:
         left = -m.a1
-        zl = (m.cx0 + m.a1) * math.tan(math.radians(m.theta))
+        zl = (m.sx0 + m.a1) * math.tan(math.radians(m.theta))
     if m.a2 is not None and right > m.L + m.a2:
         right = m.L + m.a2
-        zr = (m.L + m.a2 - m.cx1) * math.tan(math.radians(m.theta))
+        zr = (m.L + m.a2 - m.sx1) * math.tan(math.radians(m.theta))
     return left, right, zl, zr
 
 
@@ -386,6 +410,16 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
             depth_mm=m.d,
             changed=pad_changed or None,
         )
+        # Its concrete, where it fits inside: plain concrete is the usual site padstone and
+        # takes a lower design strength (EN 1992-1-1 section 12).
+        if _text_w(m.pad_words) + 8 < px1 - px0 and top - ptop > FONT + 4:
+            c.text(
+                (px0 + px1) / 2,
+                (ptop + top) / 2 + FONT / 3,
+                m.pad_words,
+                role="padstone-concrete",
+                reinforced=" reinforced" in f" {m.pad_words}",
+            )
         for start, direction in ((m.foot_x0, -1), (m.foot_x1, 1)):
             c.poly(
                 _pad_spread_line(m, start, direction, c),
@@ -432,7 +466,7 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
     c.arrow_down(
         rx, ptop - bh - 4, 50, stroke=INK, role="reaction", x_mm=m.rx, n_ed_kn=m.reaction / 1000
     )
-    c.text(rx + 10, ptop - bh - 24, f"N_Ed {m.reaction / 1000:.0f} kN", anchor="start")
+    c.text(rx + 10, ptop - bh - 24, f"N_Ed {number(m.reaction / 1000)} kN", anchor="start")
 
     # Dimensions above: the padstone length (or the footprint with no padstone), and a1.
     dim_y = ptop - bh - 54 - 12
@@ -487,14 +521,14 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
     # The spread in the masonry down to the check depth, and the length it gives there.
     sl, sr, zl, zr = _masonry_reach(m)
     c.poly(
-        [(c.sx(m.cx0), top), (c.sx(sl), c.sy(zl)), (c.sx(sl), c.sy(m.depth))],
+        [(c.sx(m.sx0), top), (c.sx(sl), c.sy(zl)), (c.sx(sl), c.sy(m.depth))],
         stroke=MASONRY_SPREAD,
         width=2.5,
         role="masonry-spread",
         angle_deg=m.theta,
     )
     c.poly(
-        [(c.sx(m.cx1), top), (c.sx(sr), c.sy(zr)), (c.sx(sr), c.sy(m.depth))],
+        [(c.sx(m.sx1), top), (c.sx(sr), c.sy(zr)), (c.sx(sr), c.sy(m.depth))],
         stroke=MASONRY_SPREAD,
         width=2.5,
         role="masonry-spread",
@@ -517,11 +551,19 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
         c.sx(sl),
         c.sx(sr),
         dy,
-        f"{name} {_mm(m.spread_len)}",
+        # Under a triangle of pressure the label says which reading of the loaded length
+        # the wall's check kept (the shorter spread, the higher utilisation).
+        f"{name} {_mm(m.spread_len)}"
+        + (
+            f" ({m.spread_reading.removesuffix(' reading').replace('-', ' ')})"
+            if m.spread_reading
+            else ""
+        ),
         above=True,
         fill=MASONRY_SPREAD,
         role="spread-length",
         length_mm=m.spread_len,
+        reading=m.spread_reading or None,
     )
     where = "h_c/2" if m.ec6 else "0.4 h"
     c.text(
@@ -638,7 +680,7 @@ def _pressure(c: _Canvas, m: _Model, band_top: float, changed: frozenset) -> flo
     )
     px = x0 if (m.ecc < 0 or m.distribution == "uniform") else x1
     changed_mark = " ≠" if "sigma_max" in changed else ""
-    label = f"σ_max {m.sigma_max:.2f} N/mm²{changed_mark}"
+    label = f"σ_max {number(m.sigma_max)} N/mm²{changed_mark}"
     w = _text_w(label)
     tx = min(max(px, MARGIN + w / 2), VIEW_W - MARGIN - w / 2)
     c.text(
@@ -648,7 +690,7 @@ def _pressure(c: _Canvas, m: _Model, band_top: float, changed: frozenset) -> flo
         fill=CHANGED if changed_mark else INK,
         role="peak-pressure",
         sigma_max_n_mm2=m.sigma_max,
-        shown=f"{m.sigma_max:.2f}",
+        shown=number(m.sigma_max),
     )
     kind = {"uniform": "uniform", "trapezoid": "trapezoid", "triangle": "triangle"}.get(
         m.distribution, m.distribution
@@ -787,7 +829,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
             max(py1, w1) + 16,
             ptop,
             top,
-            f"padstone {_mm(m.W)} × {_mm(m.d)}",
+            f"padstone {_mm(m.W)} × {_mm(m.d)}" + (f", {m.pad_across}" if m.pad_across else ""),
             role="dim-padstone-width",
             width_mm=m.W,
         )
@@ -795,7 +837,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
     ey = c.sy(below * 0.45)
     c.line(cl, ey, ry, ey, stroke=MASONRY_SPREAD, width=2.0, role="eccentricity", e_mm=e)
     c.line(ry, ptop, ry, ey, stroke=MASONRY_SPREAD, width=1.0, dash="4 4")
-    label = f"e {abs(e):.0f} (t/4 = {m.t / 4:.0f})"
+    label = f"e {number(abs(e))} (t/4 = {number(m.t / 4)})"
     c.text(
         max(w1, ry) + 12,
         ey + FONT / 3,
@@ -882,6 +924,12 @@ _COMPARED = (
     ),
     ("padstone_width", "padstone width", lambda i, r: (i.get("padstone") or {}).get("width"), "mm"),
     ("padstone_depth", "padstone depth", lambda i, r: (i.get("padstone") or {}).get("depth"), "mm"),
+    (
+        "padstone_reinforced",
+        "padstone reinforced",
+        lambda i, r: None if i.get("padstone") is None else bool(i["padstone"].get("reinforced")),
+        "",
+    ),
     ("bearing_length", "bearing length", lambda i, r: i["beam"]["bearing_length"], "mm"),
     ("flange_width", "flange width", lambda i, r: i["beam"]["flange_width"], "mm"),
     ("offset_along", "offset along", lambda i, r: i["beam"].get("offset_along"), "mm"),
@@ -918,7 +966,7 @@ def _value_text(v, unit: str) -> str:
     if v is False:
         return "no"
     if isinstance(v, float):
-        return f"{v:g}{' ' + unit if unit else ''}"
+        return f"{number(v)}{' ' + unit if unit else ''}"
     return f"{v}{' ' + unit if unit else ''}"
 
 

@@ -74,7 +74,11 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "padstone_depth": pad.get("depth"),
         "padstone_concrete": pad.get("concrete"),
         "padstone_f_ck": pad.get("f_ck"),
-        "padstone_precast": pad.get("precast"),
+        # A named position, or the offset of an offset one (the import reads either).
+        "padstone_across": pad.get("offset_across")
+        if pad.get("position_across") == "offset"
+        else pad.get("position_across"),
+        "padstone_reinforced": pad.get("reinforced"),
         "wall_thickness": wall["thickness"],
         "height_to_bearing": wall["height_to_bearing"],
         "clear_height": wall.get("clear_height"),
@@ -91,6 +95,7 @@ def schedule_row(reference: str, location: str, basis: str, design: dict) -> dic
         "unit_conditioning": mas.get("conditioning"),
         "mortar": mas.get("mortar"),
         "shell_bedded": mas.get("shell_bedded"),
+        "collar_joint": mas.get("collar_joint"),
         "f_k": mas.get("f_k"),
         "gamma_M": mas.get("gamma_M"),
         "execution_class": mas.get("execution_class"),

@@ -23,6 +23,7 @@ import hashlib
 import logging
 import os
 import re
+import tempfile
 import threading
 import time
 import uuid
@@ -203,6 +204,33 @@ class RecordJobs:
         if not job.running or _seconds_since(job.updated_at) <= self.stale_after_s:
             return job
         return replace(job, state=STOPPED, error=STOPPED_BY_RESTART)
+
+    def problem(self) -> str | None:
+        """For the health check: why this process's background making is not well, or None.
+
+        Unwell means the records folder cannot be written, or a job this process is making
+        has not moved for ``stale_after_s`` (a waiting job says it is alive every 30 s, a
+        making one at least at every bearing).
+        """
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            with tempfile.NamedTemporaryFile(dir=self.folder, prefix=".health-", suffix=".tmp"):
+                pass
+        except OSError as error:
+            return f"the site records folder cannot be written ({error.strerror or error})"
+        with self._lock:
+            mine = [job_id for job_id, thread in self._threads.items() if thread.is_alive()]
+        if not mine:
+            return None
+        with self._db() as db:
+            for job_id in mine:
+                row = store.get_record_job(db, job_id)
+                if row is None or not Job.from_row(row).running:
+                    continue
+                age = _seconds_since(row["updated_at"])
+                if age > self.stale_after_s:
+                    return f"a site record has not moved for {age:.0f} s"
+        return None
 
     # --- making -----------------------------------------------------------------------------
 

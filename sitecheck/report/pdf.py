@@ -24,6 +24,7 @@ from fpdf.enums import XPos, YPos
 
 from sitecheck import workflow
 from sitecheck.bearing import SOURCES
+from sitecheck.bearing.format import number, quantity, utilisation
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.cli import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
@@ -62,6 +63,7 @@ _PLAIN = {
     "Φ": "Phi",
     "λ": "lambda",
     "√": "sqrt",
+    "∞": "infinity",
     "≤": "<=",
     "≥": ">=",
     "≠": "!=",
@@ -107,9 +109,7 @@ def plain(text: str) -> str:
 
 
 def _util(u) -> str:
-    if u is None or (isinstance(u, float) and not math.isfinite(u)):
-        return "no capacity"
-    return f"{u:.2f}"
+    return utilisation(u)
 
 
 def _when(stamp: str | None) -> str:
@@ -123,8 +123,7 @@ def _v(x, unit: str = "") -> str:
         return "—"
     if isinstance(x, bool):
         return "yes" if x else "no"
-    text = f"{x:.4g}" if isinstance(x, float) else str(x)
-    return f"{text} {unit}".strip()
+    return quantity(x, unit)
 
 
 class _Doc(FPDF):
@@ -314,9 +313,9 @@ def _cover(pdf: _Doc, rec: SiteRecord) -> None:
         if key == "name":
             continue
         if isinstance(value, dict):
-            value = "; ".join(f"{k} {v:g}" for k, v in value.items())
+            value = "; ".join(f"{k} {number(v)}" for k, v in value.items())
         elif isinstance(value, list):
-            value = " / ".join(f"{v:g}" for v in value)
+            value = " / ".join(number(v) for v in value)
         rows.append([key, _v(value), SOURCES.get(key, "set for this site")])
     pdf.grid(["value", "used", "source"], rows, [45, 60, 75], size=7.5)
     pdf.h2("Review settings")
@@ -398,6 +397,9 @@ _COMPARED = (
     ("padstone_width", ("padstone", "width"), "mm"),
     ("padstone_depth", ("padstone", "depth"), "mm"),
     ("padstone_concrete", ("padstone", "concrete"), ""),
+    ("padstone_reinforced", ("padstone", "reinforced"), ""),
+    ("padstone_position", ("padstone", "position_across"), ""),
+    ("padstone_offset_across", ("padstone", "offset_across"), "mm"),
     ("wall_thickness", ("wall", "thickness"), "mm"),
     ("a1", ("wall", "a1"), "mm"),
     ("a2", ("wall", "a2"), "mm"),
@@ -405,6 +407,7 @@ _COMPARED = (
     ("masonry_group", ("masonry", "group"), ""),
     ("unit_strength", ("masonry", "unit_strength"), "N/mm²"),
     ("mortar", ("masonry", "mortar"), ""),
+    ("collar_joint", ("masonry", "collar_joint"), ""),
 )
 _EXTRA_LABELS = {
     "offset_along": "Beam offset along the wall",
@@ -619,8 +622,8 @@ def _checks(pdf: _Doc, heading: str, result: dict, *, trace: bool) -> None:
     rows = [
         [
             c["title"] + (" (for information)" if c["kind"] == "informative" else ""),
-            f"{c['demand']:.3g} {c['unit']}",
-            f"{c['capacity']:.3g} {c['unit']}",
+            quantity(c["demand"], c["unit"]),
+            quantity(c["capacity"], c["unit"]),
             _util(c["utilisation"]),
             "✓ passes" if c["passed"] else "✗ fails",
             c["clause"],

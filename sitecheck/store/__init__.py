@@ -17,6 +17,7 @@ from sitecheck.store.accounts import (
     get_session_user,
     get_user_by_email,
     get_user_by_id,
+    list_users,
     login_credentials,
     normalise_email,
     people_sharing_sites,
@@ -88,10 +89,12 @@ from sitecheck.store.events import add_event, events_for, events_for_user
 from sitecheck.store.invitations import (
     INVITATION,
     LINK_PURPOSES,
+    PASSWORD_RESET,
     answer_invitation,
     attach_mail,
     create_invitation,
     create_link,
+    expire_links,
     get_invitation,
     open_invitations_for_email,
     open_invitations_for_site,
@@ -99,6 +102,7 @@ from sitecheck.store.invitations import (
     use_link,
     withdraw_invitation,
 )
+from sitecheck.store.leases import clear_leases, lease_holder, release_lease, take_lease
 from sitecheck.store.mail import (
     claim_due_mail,
     mail_failed,
@@ -134,10 +138,33 @@ from sitecheck.store.sites import (
     sites_named,
     update_site_settings,
 )
+from sitecheck.store.upkeep import (
+    applied_migrations,
+    copy_database,
+    database_problem,
+    integrity_problems,
+    known_migrations,
+    photo_files_named,
+    replace_database,
+    row_counts,
+)
 
 __all__ = [
+    "clear_leases",
+    "lease_holder",
+    "release_lease",
+    "take_lease",
+    "applied_migrations",
+    "copy_database",
+    "database_problem",
+    "integrity_problems",
+    "known_migrations",
+    "photo_files_named",
+    "replace_database",
+    "row_counts",
     "DECISION_KINDS",
     "INVITATION",
+    "PASSWORD_RESET",
     "LINK_PURPOSES",
     "MIGRATIONS",
     "RELEASABLE_STATES",
@@ -177,6 +204,7 @@ __all__ = [
     "count_bearing_lines",
     "create_invitation",
     "create_link",
+    "expire_links",
     "create_session",
     "create_site",
     "create_user",
@@ -198,6 +226,7 @@ __all__ = [
     "keep_release",
     "latest_record_summaries",
     "list_bearings",
+    "list_users",
     "login_credentials",
     "mail_failed",
     "mail_sent",

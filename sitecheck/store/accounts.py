@@ -119,15 +119,17 @@ def set_password_hash(
 
 def set_disabled(
     db: sqlite_utils.Database, *, user_id: int, disabled: bool, by_user_id: int | None
-) -> None:
-    """Disable or enable an account; disabling also revokes its sessions at once."""
+) -> int:
+    """Disable or enable an account; disabling also revokes its sessions at once.
+
+    Returns how many live sessions were ended. ``by_user_id`` None: from the command line.
+    """
     with transaction(db):
         before = one(db, "SELECT disabled FROM users WHERE id = ?", [user_id])
         if before is None:
             raise NotFound(f"No user with id {user_id}")
         db.execute("UPDATE users SET disabled = ? WHERE id = ?", [int(bool(disabled)), user_id])
-        if disabled:
-            revoke_all_sessions_for_user(db, user_id)
+        ended = revoke_all_sessions_for_user(db, user_id) if disabled else 0
         add_event(
             db,
             kind="user disabled" if disabled else "user enabled",
@@ -135,6 +137,21 @@ def set_disabled(
             before={"user": user_id, "disabled": before["disabled"]},
             after={"user": user_id, "disabled": bool(disabled)},
         )
+    return ended
+
+
+def list_users(db: sqlite_utils.Database) -> list[dict]:
+    """Every account for the command line: its state, how many sites it is on and when it
+    last logged in (the newest session's start), by e-mail."""
+    return many(
+        db,
+        f"""
+        SELECT {", ".join("u." + c for c in _USER_COLUMNS.split(", "))},
+          (SELECT count(*) FROM memberships m WHERE m.user_id = u.id) AS sites,
+          (SELECT max(s.created_at) FROM sessions s WHERE s.user_id = u.id) AS last_login_at
+        FROM users u ORDER BY u.email
+        """,
+    )
 
 
 def set_may_make_sites(

@@ -13,7 +13,8 @@ from sitecheck.store.sites import add_membership, role_of
 
 # What a single-use link may be for. A new purpose is a new word here; the table takes it.
 INVITATION = "invitation"
-LINK_PURPOSES = (INVITATION,)
+PASSWORD_RESET = "password reset"
+LINK_PURPOSES = (INVITATION, PASSWORD_RESET)
 
 _NOT_OPEN = (
     "This invitation is no longer open: it was answered, withdrawn or has expired. Ask the "
@@ -323,3 +324,19 @@ def use_link(
         return None
     keys = ("id", "purpose", "email", "invitation_id", "created_at", "expires_at")
     return dict(zip(keys, rows[0], strict=True))
+
+
+def expire_links(
+    db: sqlite_utils.Database, *, email: str, purpose: str, now: datetime | None = None
+) -> int:
+    """End every unused link of ``purpose`` for ``email`` (a newer one replaces them);
+    returns how many were still open."""
+    at = timestamp(now or utc_now())
+    cursor = db.execute(
+        """
+        UPDATE single_use_links SET expires_at = ?
+        WHERE email = ? AND purpose = ? AND used_at IS NULL AND expires_at > ?
+        """,
+        [at, _email(email), _purpose(purpose), at],
+    )
+    return cursor.rowcount

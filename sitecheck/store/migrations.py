@@ -502,6 +502,22 @@ def m010_could_not_measure(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m011_leases(db: sqlite_utils.Database) -> None:
+    """Work that one process of several must do alone (sending the mail queue): whoever
+    holds a named lease until a time does it; a holder that dies lets it run out."""
+    db.execute(
+        """
+        CREATE TABLE leases (
+            name TEXT PRIMARY KEY CHECK (length(name) > 0),
+            holder TEXT NOT NULL CHECK (length(holder) > 0),
+            taken_at TEXT NOT NULL,
+            until TEXT NOT NULL
+        ) STRICT
+        """
+    )
+
+
 def _released_lock_trigger(compared: tuple[str, ...]) -> str:
     """The lock on a released bearing: the one way out is a reopening, with a reopenings row
     made since the release, a state other than 'released' and none of ``compared`` changed."""
@@ -556,7 +572,7 @@ _GOVERNING_TITLE = """(
 
 
 @MIGRATIONS()
-def m011_results_stored_once(db: sqlite_utils.Database) -> None:
+def m012_results_stored_once(db: sqlite_utils.Database) -> None:
     """Each calculation is stored once, packed. A bearing's design result (about 12 KB of
     trace) was kept on the bearing and again on its design revision, and each record's
     result beside it: three traces a bearing, 42 KB of database with one record. Now the

@@ -7,9 +7,11 @@ SQL.
 
 from __future__ import annotations
 
+import logging
 import os
 import secrets
 import threading
+import time
 from pathlib import Path
 
 from flask import Flask, current_app, g, request
@@ -17,13 +19,15 @@ from flask_wtf.csrf import CSRFError, CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
 from sitecheck import auth as accounts
-from sitecheck import services, store
+from sitecheck import logs, services, store
+from sitecheck.config import Settings, load_settings
 from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
 from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
 
 csrf = CSRFProtect()
+request_log = logging.getLogger(logs.REQUEST_LOGGER)
 
 CSP = (
     "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data: blob:; "
@@ -33,45 +37,63 @@ CSP = (
 HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
-def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
-    """Build the app on one SQLite file (created and migrated if new).
+def create_app(
+    db_path: str | os.PathLike | None = None,
+    *,
+    settings: Settings | None = None,
+    **config,
+) -> Flask:
+    """Build the app on one data folder (its database created and migrated if new).
 
-    ``db_path`` defaults to ``$SITECHECK_DB`` or ``var/sitecheck.db``. Photos live beside the
-    database in ``photos/`` unless ``PHOTO_DIR`` is given.
+    ``settings`` are those in force (:func:`sitecheck.config.load_settings`); without them
+    they are loaded from the environment and the data folder's ``sitecheck.toml``. A
+    ``db_path`` alone names the database, and its folder is the data folder (photos, records
+    and key beside it). ``config`` overrides Flask settings (tests).
     """
+    if settings is None:
+        if db_path is not None:
+            database = Path(db_path).resolve()
+            settings = load_settings(home=database.parent, overrides={"database": database})
+        else:
+            settings = load_settings()
     app = Flask(
         "sitecheck",
         template_folder=str(TEMPLATE_DIR),
         static_folder=str(STATIC_DIR),
         static_url_path="/static",
     )
-    path = Path(db_path or os.environ.get("SITECHECK_DB") or "var/sitecheck.db").resolve()
-    path.parent.mkdir(parents=True, exist_ok=True)
+    settings.database.parent.mkdir(parents=True, exist_ok=True)
+    app.extensions["settings"] = settings
     app.config.update(
-        DB_PATH=str(path),
-        PHOTO_DIR=str(path.parent / "photos"),
-        SECRET_KEY=os.environ.get("SITECHECK_SECRET_KEY") or _secret_key_beside(path),
-        MAX_CONTENT_LENGTH=40 * 1024 * 1024,
+        DATA_HOME=str(settings.home),
+        DB_PATH=str(settings.database),
+        PHOTO_DIR=str(settings.photos),
+        RECORD_DIR=str(settings.records),
+        SECRET_KEY=settings.secret_key or _secret_key_in(settings.secret_key_file),
+        MAX_CONTENT_LENGTH=settings.max_request_mb * 1024 * 1024,
         MAX_FORM_MEMORY_SIZE=1024 * 1024,
         SESSION_COOKIE_NAME="sitecheck",
         SESSION_COOKIE_HTTPONLY=True,
         SESSION_COOKIE_SAMESITE="Lax",
-        SESSION_COOKIE_SECURE=os.environ.get("SITECHECK_SECURE_COOKIES") == "1",
+        SESSION_COOKIE_SECURE=settings.secure_cookies,
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
         # The cookie outlives the server-side session it names (31 days against at most 7),
         # so signing it again on every answer (the phone's outbox sends many) buys nothing.
         SESSION_REFRESH_EACH_REQUEST=False,
         # Site records (PDF) one person may start in an hour; handing out a finished one
         # of an unchanged site, or joining one being made, is not counted.
-        RECORD_PDF_PER_HOUR=int(os.environ.get("SITECHECK_RECORD_PDF_PER_HOUR") or 10),
+        RECORD_PDF_PER_HOUR=settings.record_pdf_per_hour,
         LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
         LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
         LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
-        TRUSTED_PROXIES=_trusted_proxies(os.environ.get("SITECHECK_TRUSTED_PROXIES")),
+        TRUSTED_PROXIES=settings.trusted_proxies,
         # MailSettings, or None for no mail (then invitation links are handed over).
-        MAIL=MailSettings.from_env(os.environ),
-        # Deliver queued mail from a background thread of this process.
+        MAIL=MailSettings.from_env(settings.mail_environment()),
+        # Deliver queued mail from a background thread of this process (the one process
+        # holding the sender's lease sends; see sitecheck.mail).
         MAIL_SENDER=True,
+        MIN_FREE_DISK_MB=settings.min_free_disk_mb,
+        SWEEP_AT_START=True,
     )
     app.config.update(config)
     proxies = _trusted_proxies(app.config["TRUSTED_PROXIES"])
@@ -86,10 +108,11 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front
     try:
         # What a crash mid-upload left behind: temporary files, pictures no row names.
-        swept = services.sweep_photo_files(db, photos)
+        # Under `sitecheck serve` the process that starts the workers does it once for all.
+        swept = services.sweep_photo_files(db, photos) if app.config["SWEEP_AT_START"] else None
     finally:
         db.conn.close()
-    if swept.temporary_files or swept.orphan_files:
+    if swept and (swept.temporary_files or swept.orphan_files):
         app.logger.warning(
             "photo store: removed %d temporary and %d unnamed files left by a crash",
             swept.temporary_files,
@@ -102,9 +125,11 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
     jsonbody.install(app)
     csrf.init_app(app)
 
-    from sitecheck.web import auth, pages, review, sites
+    from sitecheck.web import auth, health, pages, people, review, sites
 
+    app.register_blueprint(health.bp)
     app.register_blueprint(auth.bp)
+    app.register_blueprint(people.bp)
     app.register_blueprint(pages.bp)
     app.register_blueprint(sites.bp)
     app.register_blueprint(review.bp)
@@ -112,7 +137,9 @@ def create_app(db_path: str | os.PathLike | None = None, **config) -> Flask:
         module = __import__(f"sitecheck.web.{name}", fromlist=["bp"])
         app.register_blueprint(module.bp)
 
+    app.before_request(_start_clock)
     app.before_request(auth.load_user)
+    app.after_request(_log_request)
     app.teardown_appcontext(_end_request_db)
     app.after_request(_security_headers)
     compress.install(app)
@@ -177,6 +204,33 @@ def _end_request_db(_exc) -> None:
         db.conn.execute("ROLLBACK")
 
 
+def _start_clock() -> None:
+    g.request_started = time.perf_counter()
+
+
+def _log_request(response):
+    """One line per request: what was asked, the answer, how long it took, and by whom."""
+    started = g.get("request_started")
+    ms = round((time.perf_counter() - started) * 1000, 1) if started else None
+    path = logs.safe_path(request.path, request.query_string.decode("latin-1"))
+    user = getattr(g, "user", None)
+    request_log.info(
+        "%s %s %s %s ms",
+        request.method,
+        path,
+        response.status_code,
+        ms,
+        extra={
+            "method": request.method,
+            "path": path,
+            "status": response.status_code,
+            "ms": ms,
+            "user": user["id"] if user else None,
+        },
+    )
+    return response
+
+
 def _security_headers(response):
     h = response.headers
     h.setdefault("Content-Security-Policy", CSP)
@@ -214,11 +268,11 @@ def _trusted_proxies(value) -> int:
     return count
 
 
-def _secret_key_beside(db_path: Path) -> str:
-    """One key per deployment, kept beside the database, so every worker process signs
+def _secret_key_in(key_file: Path) -> str:
+    """One key per deployment, kept in the data folder, so every worker process signs
     cookies alike and a restart keeps people logged in."""
-    key_file = db_path.parent / "secret_key"
     if not key_file.exists():
+        key_file.parent.mkdir(parents=True, exist_ok=True)
         try:
             fd = os.open(key_file, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
         except FileExistsError:

@@ -41,6 +41,7 @@ from sitecheck.bearing import (
     basis_named,
     input_errors,
 )
+from sitecheck.bearing.basis import SCALAR_BOUNDS, TABLE_BOUNDS
 from sitecheck.bearing.inputs import (
     CONDITIONING,
     CONTROL_LEVELS,
@@ -184,11 +185,23 @@ REACTION_AT_CHOICES = [
     ("near-third", "Near third (flexible beam end)"),
 ]
 PADSTONE_CHOICES = [("yes", "Concrete padstone"), ("none", "No padstone")]
-PRECAST_CHOICES = [("precast", "Precast"), ("cast", "Cast in place")]
+PADSTONE_ACROSS_CHOICES = [
+    ("", "The usual place (see below)"),
+    ("near-face", "Flush with the near face"),
+    ("centred", "Centred on the wall"),
+    ("far-face", "Flush with the far face"),
+    ("offset", "Offset from the wall's centre line, as given below"),
+]
+REINFORCED_CHOICES = [("plain", "Plain concrete (unreinforced)"), ("reinforced", "Reinforced")]
 GROUP_CHOICES = [(str(g), f"Group {g}") for g in (1, 2, 3, 4)]
 CATEGORY_CHOICES = [("I", "Category I"), ("II", "Category II")]
 EXECUTION_CHOICES = [("2", "Execution class 2"), ("1", "Execution class 1")]
 BEARING_TYPE_CHOICES = [(str(t), f"Type {t}") for t in (1, 2, 3)]
+COLLAR_JOINT_CHOICES = [
+    ("", "Inferred (see below)"),
+    ("yes", "Yes: a mortar joint parallel to the face"),
+    ("no", "No"),
+]
 
 
 def _choice_field(label: str, choices, default: str, hint: str = "") -> SelectField:
@@ -248,11 +261,31 @@ class BearingForm(FlaskForm):
     padstone_f_ck = number_field(
         "Declared f_ck (N/mm²)", "Empty: from the strength class. Overrides the class if given."
     )
-    padstone_precast = _choice_field("Padstone made", PRECAST_CHOICES, "precast")
+    padstone_across = _choice_field(
+        "Where the padstone sits across the wall",
+        PADSTONE_ACROSS_CHOICES,
+        "",
+        "For a padstone narrower than the wall. Usual: flush with the near face under a beam "
+        "across the wall, centred under one in line. It moves the load across the wall (t/4).",
+    )
+    padstone_offset_across = number_field(
+        "Padstone offset from the wall's centre line (mm)",
+        "Its centre, + towards the far face. Only for an offset position.",
+    )
+    padstone_reinforced = _choice_field(
+        "Padstone concrete",
+        REINFORCED_CHOICES,
+        "plain",
+        "Site padstones, precast or cast in place, are usually plain: plain is taken unless "
+        "you choose reinforced, and its strength uses α_cc,pl (EN 1992-1-1 section 12).",
+    )
 
     # The wall
     wall_thickness = number_field("Wall (leaf) thickness t (mm)")
-    height_to_bearing = number_field("Height from the wall's base to the bearing h_c (mm)")
+    height_to_bearing = number_field(
+        "Height from the wall's base to the padstone's underside h_c (mm)",
+        "With no padstone, to the beam's underside. Not the level the beam sits at on the padstone: that is higher by the padstone's depth and overstates h_c.",
+    )
     clear_height = number_field("Clear height h (mm)", "Empty: h_c.")
     effective_height = number_field("Effective height h_ef (mm)", "Empty: h.")
     effective_thickness = number_field("Effective thickness t_ef (mm)", "Empty: t.")
@@ -278,6 +311,13 @@ class BearingForm(FlaskForm):
         "Characteristic strength f_k (N/mm²)", "Only if declared; overrides the unit route."
     )
     shell_bedded = BooleanField("Units shell bedded")
+    collar_joint = _choice_field(
+        "Collar (longitudinal) joint in the wall",
+        COLLAR_JOINT_CHOICES,
+        "",
+        "A wall two units wide, such as a one-brick wall, has one: EC6 then takes 0.8 × K. "
+        "Inferred: yes when the wall is at least twice the unit's width.",
+    )
     unit_category = _choice_field("Unit category (EC6)", CATEGORY_CHOICES, "I")
     execution_class = _choice_field("Execution class (EC6)", EXECUTION_CHOICES, "2")
     manufacturing_control = _choice_field(
@@ -327,7 +367,9 @@ SECTIONS = (
             "padstone_depth",
             "padstone_concrete",
             "padstone_f_ck",
-            "padstone_precast",
+            "padstone_reinforced",
+            "padstone_across",
+            "padstone_offset_across",
         ),
     ),
     (
@@ -355,6 +397,7 @@ SECTIONS = (
             "mortar",
             "f_k",
             "shell_bedded",
+            "collar_joint",
             "unit_category",
             "execution_class",
             "manufacturing_control",
@@ -369,11 +412,14 @@ SECTIONS = (
 # form uses the same names), plus the fields only the form offers.
 FIELD_FOR = FIELD_TO_COLUMN | {
     "padstone.f_ck": "padstone_f_ck",
-    "padstone.precast": "padstone_precast",
+    "padstone.reinforced": "padstone_reinforced",
+    "padstone.position_across": "padstone_across",
+    "padstone.offset_across": "padstone_offset_across",
     "wall.effective_thickness": "effective_thickness",
     "masonry.unit_strength_is_normalised": "unit_strength_is_normalised",
     "masonry.conditioning": "conditioning",
     "masonry.shell_bedded": "shell_bedded",
+    "masonry.collar_joint": "collar_joint",
     "masonry.manufacturing_control": "manufacturing_control",
     "masonry.construction_control": "construction_control",
     "e_mk": "e_mk",
@@ -405,7 +451,11 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
     flange_width = num("flange_width", required=True, what="the flange width")
     bearing_length = num("bearing_length", required=True, what="the bearing length")
     thickness = num("wall_thickness", required=True, what="the wall thickness")
-    height = num("height_to_bearing", required=True, what="the height to the bearing")
+    height = num(
+        "height_to_bearing",
+        required=True,
+        what="the height from the wall's base to the padstone's underside",
+    )
 
     padstone = None
     if form.padstone.data == "none":
@@ -423,7 +473,10 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
             depth=num("padstone_depth", required=True, what="the padstone depth"),
             concrete=(form.padstone_concrete.data or "").strip().upper() or "C25/30",
             f_ck=num("padstone_f_ck", "N/mm²"),
-            precast=form.padstone_precast.data != "cast",
+            # Anything but "reinforced" is plain: the cautious reading of an odd value.
+            reinforced=form.padstone_reinforced.data == "reinforced",
+            position_across=form.padstone_across.data or None,
+            offset_across=num("padstone_offset_across"),
         )
 
     inp = BearingInput(
@@ -460,6 +513,7 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
             mortar=form.mortar.data,
             f_k=num("f_k", "N/mm²"),
             shell_bedded=bool(form.shell_bedded.data),
+            collar_joint={"yes": True, "no": False}.get(form.collar_joint.data),
             unit_category=form.unit_category.data,
             execution_class=_whole(form.execution_class.data),
             manufacturing_control=form.manufacturing_control.data,
@@ -513,7 +567,9 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "padstone_depth": plain_number(pad["depth"]) if pad else "",
         "padstone_concrete": pad.get("concrete", "C25/30") if pad else "C25/30",
         "padstone_f_ck": plain_number(pad.get("f_ck")) if pad else "",
-        "padstone_precast": "cast" if pad and pad.get("precast") is False else "precast",
+        "padstone_reinforced": "reinforced" if pad and pad.get("reinforced") else "plain",
+        "padstone_across": (pad.get("position_across") or "") if pad else "",
+        "padstone_offset_across": plain_number(pad.get("offset_across")) if pad else "",
         "wall_thickness": plain_number(wall["thickness"]),
         "height_to_bearing": plain_number(wall["height_to_bearing"]),
         "clear_height": plain_number(wall.get("clear_height")),
@@ -531,6 +587,7 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "mortar": mas.get("mortar", "M4"),
         "f_k": plain_number(mas.get("f_k")),
         "shell_bedded": bool(mas.get("shell_bedded")),
+        "collar_joint": {True: "yes", False: "no"}.get(mas.get("collar_joint"), ""),
         "unit_category": mas.get("unit_category", "I"),
         "execution_class": str(mas.get("execution_class", 2)),
         "manufacturing_control": mas.get("manufacturing_control", "normal"),
@@ -542,6 +599,16 @@ def form_data_from_design(design: dict, location: str = "", revision: int | None
         "beta_s": plain_number(design.get("beta_s")),
     }
     return data
+
+
+def padstone_across_words(pad: dict) -> str:
+    """Where a stored padstone sits across the wall, in words."""
+    position = pad.get("position_across")
+    if position == "offset":
+        return f"centre {plain_number(pad.get('offset_across'))} mm from the wall's centre line"
+    if not position:
+        return "the usual place: flush with the near face (beam across), centred (in line)"
+    return dict(PADSTONE_ACROSS_CHOICES).get(position, str(position)).lower()
 
 
 def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
@@ -593,7 +660,11 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
                     ),
                     ("Concrete", pad.get("concrete") or "—"),
                     ("Declared f_ck", mpa(pad.get("f_ck"), "from the class")),
-                    ("Made", "cast in place" if pad.get("precast") is False else "precast"),
+                    (
+                        "Reinforcement",
+                        "reinforced" if pad.get("reinforced") else "none: plain concrete",
+                    ),
+                    ("Across the wall", padstone_across_words(pad)),
                 ],
             )
         )
@@ -604,7 +675,10 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
             "Wall",
             [
                 ("Thickness t", mm(wall["thickness"])),
-                ("Height to the bearing h_c", mm(wall["height_to_bearing"])),
+                (
+                    "Height from the wall's base to the padstone's underside h_c",
+                    mm(wall["height_to_bearing"]),
+                ),
                 ("a1", mm(wall.get("a1"), "wall runs on")),
                 ("a2", mm(wall.get("a2"), "wall runs on")),
                 ("Clear height h", mm(wall.get("clear_height"), "= h_c")),
@@ -631,6 +705,12 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
                 ("Mortar", mas.get("mortar") or "—"),
                 ("Declared f_k", mpa(mas.get("f_k"), "from the units and mortar")),
                 ("Shell bedded", "yes" if mas.get("shell_bedded") else "no"),
+                (
+                    "Collar joint",
+                    {True: "yes", False: "no"}.get(
+                        mas.get("collar_joint"), "inferred from the wall's thickness"
+                    ),
+                ),
                 (
                     "Category / execution class",
                     f"{mas.get('unit_category')} / {mas.get('execution_class')}",
@@ -662,39 +742,51 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
 
 # --- site settings: the code basis and the review settings -------------------------------------
 
-# Plausibility bounds of ours, to catch a slip (a percentage typed as a ratio, metres for
-# millimetres), not code limits: the engineer may set any value a standard could give.
+# What each scalar of the code basis is called on the form; its bounds are the core's
+# (sitecheck.bearing.basis.SCALAR_BOUNDS), so a value the form takes the core takes too.
+BASIS_LABELS: dict[str, tuple[str, str]] = {
+    "gamma_c": ("Partial factor for concrete γ_c", ""),
+    "alpha_cc": ("Long-term coefficient α_cc", ""),
+    "alpha_cc_pl": ("Long-term coefficient for plain concrete α_cc,pl", ""),
+    "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", ""),
+    "padstone_spread_deg": ("Spread through the padstone", "°"),
+    "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²"),
+    "f_m_max": ("Greatest mortar strength f_m", "N/mm²"),
+    "collar_joint_factor": ("Factor on K for a wall with a collar joint", ""),
+    "masonry_spread_deg": ("Spread through the masonry", "°"),
+    "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", ""),
+    "spreader_min_depth": ("Spreader: least depth", "mm"),
+    "spreader_length_factor": ("Spreader: least length, × bearing length", ""),
+    "spreader_stress_factor": ("Spreader: stress limit, × f_d", ""),
+    "max_eccentricity_ratio": ("Greatest eccentricity across the wall, × t", ""),
+    "k_E": ("Modulus of elasticity, × f_k", ""),
+    "e_mk_min_ratio": ("Least mid-height eccentricity e_mk, × t", ""),
+    "e_init_divisor": ("Initial eccentricity e_init = h_ef / …", ""),
+    "dispersion_depth_ratio": ("Depth of the dispersion check, × h", ""),
+    "bs_min_eccentricity_ratio": ("Least eccentricity e_x, × t", ""),
+    "slenderness_limit": ("Greatest slenderness h_ef / t_ef", ""),
+    "min_bearing_beam": ("Least bearing of a steel beam", "mm"),
+    "min_bearing_lintel": ("Least end bearing of a lintel", "mm"),
+    "inline_flange_allowance": ("In line: flange may exceed t by", "mm"),
+    "inline_padstone_min_length": ("In line: least padstone length", "mm"),
+    "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm"),
+}
 BASIS_SCALARS: dict[str, tuple[str, str, float, float]] = {
-    "gamma_c": ("Partial factor for concrete γ_c", "", 1.0, 3.0),
-    "alpha_cc": ("Long-term coefficient α_cc", "", 0.5, 1.0),
-    "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", "", 1.0, 5.0),
-    "padstone_spread_deg": ("Spread through the padstone", "°", 10.0, 80.0),
-    "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²", 1.0, 200.0),
-    "f_m_max": ("Greatest mortar strength f_m", "N/mm²", 1.0, 50.0),
-    "masonry_spread_deg": ("Spread through the masonry", "°", 10.0, 80.0),
-    "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", "", 0.05, 1.0),
-    "spreader_min_depth": ("Spreader: least depth", "mm", 0.0, 2000.0),
-    "spreader_length_factor": ("Spreader: least length, × bearing length", "", 0.0, 10.0),
-    "spreader_stress_factor": ("Spreader: stress limit, × f_d", "", 1.0, 3.0),
-    "max_eccentricity_ratio": ("Greatest eccentricity across the wall, × t", "", 0.01, 0.5),
-    "k_E": ("Modulus of elasticity, × f_k", "", 100.0, 5000.0),
-    "e_mk_min_ratio": ("Least mid-height eccentricity e_mk, × t", "", 0.0, 0.5),
-    "e_init_divisor": ("Initial eccentricity e_init = h_ef / …", "", 100.0, 2000.0),
-    "dispersion_depth_ratio": ("Depth of the dispersion check, × h", "", 0.1, 1.0),
-    "bs_min_eccentricity_ratio": ("Least eccentricity e_x, × t", "", 0.0, 0.5),
-    "slenderness_limit": ("Greatest slenderness h_ef / t_ef", "", 5.0, 60.0),
-    "min_bearing_beam": ("Least bearing of a steel beam", "mm", 0.0, 1000.0),
-    "min_bearing_lintel": ("Least end bearing of a lintel", "mm", 0.0, 1000.0),
-    "inline_flange_allowance": ("In line: flange may exceed t by", "mm", 0.0, 500.0),
-    "inline_padstone_min_length": ("In line: least padstone length", "mm", 0.0, 3000.0),
-    "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm", 0.0, 200.0),
+    name: (label, unit, *SCALAR_BOUNDS[name]) for name, (label, unit) in BASIS_LABELS.items()
 }
 BASIS_GROUPS = (
     (
         "Concrete padstone (EN 1992-1-1)",
-        ("gamma_c", "alpha_cc", "plb_limit_factor", "padstone_spread_deg"),
+        (
+            "gamma_c",
+            "alpha_cc",
+            "alpha_cc_pl",
+            "plain_partial_area_enhancement",
+            "plb_limit_factor",
+            "padstone_spread_deg",
+        ),
     ),
-    ("Masonry strength (EC6)", ("f_b_max", "f_m_max")),
+    ("Masonry strength (EC6)", ("f_b_max", "f_m_max", "collar_joint_factor")),
     (
         "Concentrated loads (EC6 6.1.3)",
         (
@@ -703,6 +795,7 @@ BASIS_GROUPS = (
             "spreader_min_depth",
             "spreader_length_factor",
             "spreader_stress_factor",
+            "spreader_route_for_groups_2_to_4",
             "max_eccentricity_ratio",
         ),
     ),
@@ -720,10 +813,27 @@ BASIS_GROUPS = (
         ),
     ),
 )
-SPREADER_FLAG = "spreader_route_for_groups_2_to_4"
-K_BOUNDS = (0.1, 1.0)
-GAMMA_BOUNDS = (1.0, 5.0)
-BEARING_TYPE_BOUNDS = (1.0, 3.0)
+# The code basis's yes/no values, shown as ticks in their group above.
+BASIS_FLAGS: dict[str, str] = {
+    "spreader_route_for_groups_2_to_4": "Allow the spreader route for Groups 2 to 4",
+    "plain_partial_area_enhancement": (
+        "Allow the partially loaded area enhancement √(A_c1/A_c0) for plain padstones"
+    ),
+}
+# The creep tables of EC6 6.1.2.2, one row per unit material.
+CREEP_TABLES = (
+    ("creep_lambda_c", "λ_c, slenderness up to which e_k = 0"),
+    ("creep_phi_inf", "Final creep coefficient φ_∞"),
+)
+
+
+def creep_field_name(table: str, material: str) -> str:
+    return f"{table}_{_slug(material)}"
+
+
+K_BOUNDS = TABLE_BOUNDS["k_values"]
+GAMMA_BOUNDS = TABLE_BOUNDS["gamma_M_ec6"]
+BEARING_TYPE_BOUNDS = TABLE_BOUNDS["bearing_type_factors"]
 K_MORTARS = ("general", "thin-layer")
 GAMMA_M_EC6_ROWS = (
     ("1|I", "Execution class 1, category I"),
@@ -789,7 +899,7 @@ def _build_settings_form() -> type[FlaskForm]:
             "Site name", validators=[DataRequired("Give the site a name."), Length(max=120)]
         ),
         "address": StringField("Address", validators=[Optional(), Length(max=300)]),
-        SPREADER_FLAG: BooleanField("Allow the spreader route for Groups 2 to 4"),
+        **{name: BooleanField(label) for name, label in BASIS_FLAGS.items()},
     }
     for name, (label, unit, _lo, _hi) in BASIS_SCALARS.items():
         attrs[name] = number_field(label + (f" ({unit})" if unit else ""))
@@ -804,6 +914,9 @@ def _build_settings_form() -> type[FlaskForm]:
         attrs[gamma_field_name("gamma_m_bs", key)] = number_field(f"γ_m, {label}")
     for i in (1, 2, 3):
         attrs[f"bearing_type_factor_{i}"] = number_field(f"Bearing type {i} factor")
+    for table, words in CREEP_TABLES:
+        for material in MATERIALS:
+            attrs[creep_field_name(table, material)] = number_field(f"{words}, {material}")
     for name, (label, unit, *_rest) in REVIEW_FIELDS.items():
         attrs[name] = number_field(label + (f" ({unit})" if unit else ""))
     return type("SettingsForm", (FlaskForm,), attrs)
@@ -816,7 +929,8 @@ def settings_form_data(site: dict, basis: CodeBasis, review: ReviewSettings) -> 
     data = {"name": site["name"], "address": site.get("address") or ""}
     for name in BASIS_SCALARS:
         data[name] = plain_number(getattr(basis, name))
-    data[SPREADER_FLAG] = bool(getattr(basis, SPREADER_FLAG))
+    for name in BASIS_FLAGS:
+        data[name] = bool(getattr(basis, name))
     for material, group in K_ROWS:
         for kind in K_MORTARS:
             data[k_field_name(material, group, kind)] = plain_number(
@@ -830,6 +944,10 @@ def settings_form_data(site: dict, basis: CodeBasis, review: ReviewSettings) -> 
         data[gamma_field_name("gamma_m_bs", key)] = plain_number(bs.get(key))
     for i, v in enumerate(basis.bearing_type_factors, start=1):
         data[f"bearing_type_factor_{i}"] = plain_number(v)
+    for table, _words in CREEP_TABLES:
+        values = dict(getattr(basis, table))
+        for material in MATERIALS:
+            data[creep_field_name(table, material)] = plain_number(values.get(material))
     for name in REVIEW_FIELDS:
         data[name] = plain_number(getattr(review, name))
     return data
@@ -857,7 +975,8 @@ def settings_from_form(form, basis: CodeBasis, review: ReviewSettings) -> tuple[
     code = basis.to_dict()  # keeps the basis's name and anything this form does not show
     for name, (_label, unit, lo, hi) in BASIS_SCALARS.items():
         code[name] = _bounded(form[name], lo, hi, unit)
-    code[SPREADER_FLAG] = bool(form[SPREADER_FLAG].data)
+    for name in BASIS_FLAGS:
+        code[name] = bool(form[name].data)
     k_values = {}
     for material, group in K_ROWS:
         for kind in K_MORTARS:
@@ -878,6 +997,11 @@ def settings_from_form(form, basis: CodeBasis, review: ReviewSettings) -> tuple[
     code["bearing_type_factors"] = [
         _bounded(form[f"bearing_type_factor_{i}"], *BEARING_TYPE_BOUNDS, "") for i in (1, 2, 3)
     ]
+    for table, _words in CREEP_TABLES:
+        code[table] = {
+            material: _bounded(form[creep_field_name(table, material)], *TABLE_BOUNDS[table], "")
+            for material in MATERIALS
+        }
     settings = review.as_dict()  # keeps which as-built values are required
     for name, (_label, unit, lo, hi, _source) in REVIEW_FIELDS.items():
         settings[name] = _bounded(form[name], lo, hi, unit)

@@ -10,6 +10,7 @@ from flask import Blueprint, g, jsonify, render_template, request
 from markupsafe import Markup, escape
 
 from sitecheck import store, workflow
+from sitecheck.bearing.format import number, quantity, utilisation
 from sitecheck.cli import CAUTION
 from sitecheck.web import get_db
 from sitecheck.web.auth import login_required
@@ -143,8 +144,10 @@ def install_template_helpers(app) -> None:
         return {
             "badge": state_badge,
             "caution": CAUTION,
-            "util": utilisation_text,
-            "mm": lambda x: "—" if x is None else f"{x:g}",
+            "util": utilisation,
+            "qty": quantity,
+            "num": number,
+            "mm": lambda x: "—" if x is None else number(x),
             "allowed": lambda action: workflow.allowed(getattr(g, "role", None), action),
             "symbol_words": words_for,
             "drawing_key": DRAWING_KEY,
@@ -179,12 +182,6 @@ def local_time(stamp) -> Markup:
     return Markup('<time datetime="{iso}" data-local>{words}</time>').format(
         iso=str(stamp), words=utc_words(stamp)
     )
-
-
-def utilisation_text(u) -> str:
-    if u is None or (isinstance(u, float) and not math.isfinite(u)):
-        return "no capacity"
-    return f"{u:.2f}"
 
 
 @bp.get("/api/csrf")

@@ -32,6 +32,7 @@ from wtforms.fields.choices import SelectChoice
 from wtforms.validators import StopValidation, ValidationError
 
 from sitecheck.bearing import InputError
+from sitecheck.bearing.format import number, quantity
 from sitecheck.bearing.inputs import MATERIALS, MORTARS
 from sitecheck.bearing.review import UNMEASURABLE
 
@@ -42,6 +43,13 @@ PROVISIONAL_MAX = 8000  # a verdict with every review reason code fits easily
 PACKING_MAX_MM = 200.0
 
 YES, NO, NOT_SEEN = "yes", "no", ""
+# The padstone's positions across the wall (the core's PADSTONE_POSITIONS) in words.
+PADSTONE_POSITION_WORDS = {
+    "near-face": "flush with the near face",
+    "centred": "centred on the wall",
+    "far-face": "flush with the far face",
+    "offset": "offset, as measured below",
+}
 TRI_STATE = (SelectChoice(YES, "yes"), SelectChoice(NO, "no"), SelectChoice(NOT_SEEN, "not seen"))
 
 
@@ -93,6 +101,29 @@ SPECS: dict[str, FieldSpec] = {
             hint="As marked or delivered, e.g. C25/30.",
             design=("padstone", "concrete"),
         ),
+        FieldSpec(
+            "padstone_reinforced",
+            "Padstone reinforced",
+            "tri",
+            hint="Plain concrete unless the padstone or its delivery note shows reinforcement.",
+            design=("padstone", "reinforced"),
+        ),
+        FieldSpec(
+            "padstone_position",
+            "Padstone's position across the wall",
+            "select",
+            hint="For a padstone narrower than the wall.",
+            design=("padstone", "position_across"),
+        ),
+        FieldSpec(
+            "padstone_offset_across",
+            "Padstone offset from the wall's centre line",
+            "number",
+            "mm",
+            "Its centre from the middle of the wall, + towards the far face: for an offset "
+            "position.",
+            ("padstone", "offset_across"),
+        ),
         FieldSpec("wall_thickness", "Wall thickness", "number", "mm", design=("wall", "thickness")),
         FieldSpec(
             "a1",
@@ -121,6 +152,14 @@ SPECS: dict[str, FieldSpec] = {
             ("masonry", "unit_strength"),
         ),
         FieldSpec("mortar", "Mortar class", "select", design=("masonry", "mortar")),
+        FieldSpec(
+            "collar_joint",
+            "Collar joint in the wall",
+            "tri",
+            hint="A mortar joint parallel to the wall's face, as in a one-brick wall of two "
+            "leaves.",
+            design=("masonry", "collar_joint"),
+        ),
         FieldSpec("bedded", "Padstone fully bedded on mortar", "tri"),
         FieldSpec(
             "packing",
@@ -145,6 +184,9 @@ MEASUREMENT_FIELDS = (
     "padstone_width",
     "padstone_depth",
     "padstone_concrete",
+    "padstone_reinforced",
+    "padstone_position",
+    "padstone_offset_across",
     "wall_thickness",
     "a1",
     "a2",
@@ -152,6 +194,7 @@ MEASUREMENT_FIELDS = (
     "masonry_group",
     "unit_strength",
     "mortar",
+    "collar_joint",
 )
 CHECKLIST_FIELDS = ("bedded", "packing", "cracks", "cut_units", "level")
 
@@ -165,10 +208,13 @@ GROUPS = (
             "padstone_width",
             "padstone_depth",
             "padstone_concrete",
+            "padstone_reinforced",
+            "padstone_position",
+            "padstone_offset_across",
         ),
     ),
     ("Wall", ("wall_thickness", "a1", "a2")),
-    ("Masonry", ("masonry_material", "masonry_group", "unit_strength", "mortar")),
+    ("Masonry", ("masonry_material", "masonry_group", "unit_strength", "mortar", "collar_joint")),
     ("How it was built", CHECKLIST_FIELDS),
 )
 
@@ -184,6 +230,9 @@ CORE_PATHS = (
         "padstone.depth": "padstone_depth",
         "padstone.concrete": "padstone_concrete",
         "padstone.f_ck": "padstone_concrete",
+        "padstone.reinforced": "padstone_reinforced",
+        "padstone.position_across": "padstone_position",
+        "padstone.offset_across": "padstone_offset_across",
         "wall.thickness": "wall_thickness",
         # t_ef follows a measured wall thickness in proportion, so its complaint is about t.
         "wall.effective_thickness": "wall_thickness",
@@ -193,6 +242,7 @@ CORE_PATHS = (
         "masonry.group": "masonry_group",
         "masonry.unit_strength": "unit_strength",
         "masonry.mortar": "mortar",
+        "masonry.collar_joint": "collar_joint",
     }
     | {f"measurements.{n}": n for n in MEASUREMENT_FIELDS}
     | {f"checklist.{n}": n for n in CHECKLIST_FIELDS}
@@ -292,6 +342,16 @@ class RecordForm(FlaskForm):
     padstone_width = _number("padstone_width", "215")
     padstone_depth = _number("padstone_depth", "140")
     padstone_concrete = StringField(SPECS["padstone_concrete"].label)
+    padstone_reinforced = TriStateField(SPECS["padstone_reinforced"].label)
+    padstone_position = ChoiceField(
+        SPECS["padstone_position"].label,
+        choices=[
+            SelectChoice("", "not checked"),
+            *(SelectChoice(v, w) for v, w in PADSTONE_POSITION_WORDS.items()),
+        ],
+        default="",
+    )
+    padstone_offset_across = _number("padstone_offset_across", "0")
     wall_thickness = _number("wall_thickness", "215")
     a1 = _number("a1", "900")
     a2 = _number("a2", "900")
@@ -311,6 +371,7 @@ class RecordForm(FlaskForm):
         choices=_choices(MORTARS),
         default="",
     )
+    collar_joint = TriStateField(SPECS["collar_joint"].label)
     bedded = TriStateField(SPECS["bedded"].label)
     packing = _number("packing", "0")
     cracks = TriStateField(SPECS["cracks"].label)
@@ -471,7 +532,7 @@ def core_message(spec: FieldSpec, field, error: InputError, design_input: dict) 
     if typed:
         value = error.value
         shown = (
-            f"{value:g} {spec.unit}".strip()
+            quantity(value, spec.unit)
             if isinstance(value, int | float) and not isinstance(value, bool)
             else f"“{typed[:40]}”"
         )
@@ -517,8 +578,20 @@ def designed_text(design_input: dict, name: str) -> str:
             return "where drawn (no offset)"
         if name == "a2":
             return "wall runs on"
+        if name == "padstone_reinforced":
+            return "no (plain concrete)"
+        if name == "padstone_position":
+            across = (design_input.get("beam") or {}).get("orientation", "across") == "across"
+            return PADSTONE_POSITION_WORDS["near-face" if across else "centred"]
+        if name == "padstone_offset_across":
+            return "none"
+        if name == "collar_joint":
+            return "inferred from the wall's thickness"
         if name == "unit_strength" and (design_input.get("masonry") or {}).get("f_k") is not None:
-            return f"characteristic strength f_k {design_input['masonry']['f_k']:g} N/mm² declared"
+            return (
+                f"characteristic strength f_k {number(design_input['masonry']['f_k'])} N/mm² "
+                "declared"
+            )
         if spec.kind == "tri" or name == "packing":
             return ""
         return "not given"
@@ -533,8 +606,10 @@ def value_text(name: str, value) -> str:
         return "yes" if value else "no"
     if name == "masonry_group":
         return f"Group {value}"
+    if name == "padstone_position":
+        return PADSTONE_POSITION_WORDS.get(value, str(value))
     if isinstance(value, int | float):
-        return f"{value:g} {spec.unit}".strip()
+        return quantity(value, spec.unit)
     return str(value)
 
 

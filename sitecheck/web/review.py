@@ -10,6 +10,7 @@ from __future__ import annotations
 from flask import Blueprint, current_app, flash, g, redirect, url_for
 
 from sitecheck import services, store, workflow
+from sitecheck.bearing.format import number, quantity
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
@@ -337,7 +338,7 @@ def _compare_row(name: str, unit: str, designed, built) -> dict:
     if numeric:
         diff = built - designed
         changed = abs(diff) > 1e-9
-        difference = f"{diff:+g} {unit}".strip() if changed else "0"
+        difference = f"{number(diff, plus=True)} {unit}".strip() if changed else "0"
     else:
         diff = None
         changed = designed != built
@@ -362,7 +363,7 @@ def _value_text(value, unit: str) -> str:
     if isinstance(value, bool):
         return "yes" if value else "no"
     if isinstance(value, float):
-        return f"{value:g} {unit}".strip()
+        return quantity(value, unit)
     return f"{value} {unit}".strip()
 
 

@@ -28,6 +28,7 @@ from wtforms.validators import AnyOf
 
 from sitecheck import invitations, services, store, workflow
 from sitecheck.bearing import InputError
+from sitecheck.bearing.inputs import MATERIALS
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
@@ -35,13 +36,13 @@ from sitecheck.web.auth import login_required
 from sitecheck.web.design_forms import (
     BASIS_GROUPS,
     BASIS_SCALARS,
+    CREEP_TABLES,
     GAMMA_M_BS_ROWS,
     GAMMA_M_EC6_ROWS,
     K_MORTARS,
     K_ROWS,
     REVIEW_FIELDS,
     SECTIONS,
-    SPREADER_FLAG,
     BearingForm,
     ImportForm,
     InviteForm,
@@ -52,6 +53,7 @@ from sitecheck.web.design_forms import (
     SiteForm,
     add_error,
     basis_rows,
+    creep_field_name,
     design_from_form,
     design_summary,
     form_data_from_design,
@@ -601,7 +603,9 @@ def _settings_page(site: dict, form, status: int):
         gamma_field_name=gamma_field_name,
         gamma_M_ec6_rows=GAMMA_M_EC6_ROWS,
         gamma_m_bs_rows=GAMMA_M_BS_ROWS,
-        spreader_flag=SPREADER_FLAG,
+        creep_tables=CREEP_TABLES,
+        creep_field_name=creep_field_name,
+        materials=MATERIALS,
         review_fields=REVIEW_FIELDS,
     )
 

@@ -42,7 +42,10 @@ SYMBOL_WORDS: dict[str, str] = {
     "F_Rdu": "padstone's resistance",
     "f_ck": "concrete strength",
     "f_cd": "concrete design strength",
+    "f_cd,pl": "design strength of plain concrete",
     "α_cc": "concrete long-term factor",
+    "α_cc,pl": "long-term factor for plain concrete",
+    "allowed by the code basis": "whether the site allows it",
     "γ_c": "partial factor for concrete",
     "s": "spread each side",
     "s_60": "spread needed each side",
@@ -54,6 +57,9 @@ SYMBOL_WORDS: dict[str, str] = {
     "support length": "length of the support",
     "support width": "width of the support",
     "contact": "contact length",
+    "loaded length": "length carrying the load",
+    "whole-window reading": "with the whole loaded window",
+    "contact-length reading": "with the contact length only",
     "e": "eccentricity along the loaded length",
     "σ_max": "peak pressure",
     "A_b": "loaded area on the masonry",
@@ -66,7 +72,7 @@ SYMBOL_WORDS: dict[str, str] = {
     # the wall
     "t": "wall thickness",
     "t_ef": "effective thickness",
-    "h_c": "height to the bearing",
+    "h_c": "height from the wall's base to the padstone's underside",
     "h_ef": "effective height",
     "h_ef/t_ef": "slenderness ratio",
     "a1": "distance to the wall's end",
@@ -78,6 +84,9 @@ SYMBOL_WORDS: dict[str, str] = {
     "e_mk": "eccentricity at mid-height",
     "e_m": "eccentricity from the load",
     "e_a": "eccentricity from building tolerances",
+    "e_k": "creep eccentricity",
+    "λ_c": "slenderness up to which creep is left out",
+    "φ_∞": "final creep coefficient",
     "e_x": "eccentricity at the top of the wall",
     "λ": "slenderness parameter",
     "Φ_m": "reduction factor at mid-height",
@@ -104,6 +113,10 @@ SYMBOL_WORDS: dict[str, str] = {
     "δ": "unit shape factor",
     "height": "unit height",
     "width": "unit width",
+    "unit width": "unit width",
+    "joint": "how the collar joint is known",
+    "k_joint": "factor for a collar joint",
+    "f_k/γ_m": "design strength",
     "c": "factor",
 }
 
@@ -117,7 +130,7 @@ DRAWING_KEY: tuple[tuple[str, str], ...] = (
     ("e", "eccentricity across the wall, against its limit of a quarter of t"),
     ("σ_max", "peak pressure under the padstone"),
     ("l_efm / l_d", "length the load has spread over, at mid-height (EC6) or 0.4 h (BS 5628-1)"),
-    ("h_c", "height to the bearing"),
+    ("h_c", "height from the wall's base to the padstone's underside"),
 )
 
 

@@ -9,7 +9,7 @@
 // source, the server's form.
 
 import { PHONE_WORDS } from "/phone-words.js";
-import { formatG } from "./bearing/format.js";
+import { quantity } from "./bearing/format.js";
 
 export function phoneWords() {
   return PHONE_WORDS;
@@ -27,7 +27,8 @@ export function labelOf(name) {
 
 function shown(value, name) {
   const unit = phoneWords().labels[name]?.unit || "";
-  if (typeof value === "number") return `${formatG(value)}${unit ? ` ${unit}` : ""}`;
+  // The one formatter, as the server's core_message writes it (record_form.py).
+  if (typeof value === "number") return quantity(value, unit);
   return `“${String(value).slice(0, 40)}”`;
 }
 

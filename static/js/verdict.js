@@ -8,7 +8,7 @@
 // bearing's design input, the site's code basis and review settings.
 
 import { basisFromDict, ec6UkNa } from "./bearing/basis.js";
-import { formatFixed, formatG } from "./bearing/format.js";
+import { quantity, utilisationText } from "./bearing/format.js";
 import { recheckRecord } from "./bearing/record.js";
 import { remedy } from "./bearing/remedy.js";
 import { SYMBOL_WORDS } from "/phone-words.js";
@@ -16,12 +16,16 @@ import { coreSentence, designSentence, designedValue, fieldOf } from "./messages
 
 export const MEASUREMENT_FIELDS = [
   "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
-  "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete", "wall_thickness",
-  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar",
+  "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete",
+  "padstone_reinforced", "padstone_position", "padstone_offset_across", "wall_thickness",
+  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar", "collar_joint",
 ];
 export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
-const TRI_STATE = new Set(["padstone_present", "bedded", "cracks", "cut_units", "level"]);
-const TEXT = new Set(["padstone_concrete", "masonry_material", "mortar"]);
+const TRI_STATE = new Set([
+  "padstone_present", "padstone_reinforced", "collar_joint", "bedded", "cracks", "cut_units",
+  "level",
+]);
+const TEXT = new Set(["padstone_concrete", "padstone_position", "masonry_material", "mortar"]);
 // The server's rule for typed numbers (sitecheck/web/record_form.py NumberField): spaces
 // dropped, a lone decimal comma read as a point, plain decimal digits only.
 const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
@@ -88,27 +92,9 @@ function el(tag, attrs = {}, ...children) {
   return node;
 }
 
-// Python's "%.4g" (the server's trace tables use it), so both screens show the same digits.
-export function g4(x) {
-  if (x === null || x === undefined) return "—";
-  if (typeof x !== "number") return String(x);
-  if (!Number.isFinite(x)) return x > 0 ? "inf" : x < 0 ? "-inf" : "nan";
-  if (x === 0) return Object.is(x, -0) ? "-0" : "0";
-  const exponent = Number(x.toExponential(3).split("e")[1]);
-  if (exponent < -4 || exponent >= 4) {
-    const [mantissa, exp] = x.toExponential(3).split("e");
-    const trimmed = mantissa.includes(".") ? mantissa.replace(/\.?0+$/, "") : mantissa;
-    const sign = exp.startsWith("-") ? "-" : "+";
-    const digits = exp.replace(/^[+-]/, "").padStart(2, "0");
-    return `${trimmed}e${sign}${digits}`;
-  }
-  const fixed = x.toFixed(Math.max(0, 3 - exponent));
-  return fixed.includes(".") ? fixed.replace(/\.?0+$/, "") : fixed;
-}
-
-export function utilisationText(u) {
-  return u === null || u === undefined || !Number.isFinite(u) ? "no capacity" : u.toFixed(2);
-}
+// Numbers in the trace go through the core's one formatter (bearing/format.js), so the
+// phone shows the digits and units the server's pages show.
+export { utilisationText };
 
 function checkTitle(result, code) {
   const found = result.checks.find((c) => c.code === code);
@@ -130,14 +116,14 @@ function stepsTable(steps, words) {
       ? el("span", { class: "muted" }, s.inputs
         .map(([sym, v, unit]) => {
           const w = wordsFor(sym, steps, words);
-          return `${w ? `${w} ` : ""}${sym} = ${typeof v === "string" ? v : g4(v)} ${unit}`;
+          return `${w ? `${w} ` : ""}${sym} = ${quantity(v, unit)}`;
         })
         .join("; "))
       : null;
     body.append(el("tr", {},
       el("td", { class: "title" }, s.label),
       el("td", { "data-label": "Worked out" }, el("code", {}, `${s.symbol} = ${s.formula}`), inputs ? el("br") : null, inputs),
-      el("td", { class: "num", "data-label": "Value" }, el("strong", {}, g4(s.value)), ` ${s.unit}`),
+      el("td", { class: "num", "data-label": "Value" }, el("strong", {}, quantity(s.value, s.unit))),
       el("td", { class: "clause", "data-label": "Clause" }, `${s.clause} [${s.source}]`)));
   }
   return el("div", { class: "scroll" }, el("table", { class: "steps stacks" }, body));
@@ -176,18 +162,7 @@ export function traceDetails(result, open = false, words = SYMBOL_WORDS) {
  * Remedy.describe() (sitecheck/bearing/remedy.py): a hint for the conversation on site, not
  * an instruction (that is the engineer's). */
 export function remedyText(outcome, basis) {
-  const hint = remedy(outcome.as_built, basis ? basisFromDict(basis) : ec6UkNa());
-  const parts = [];
-  if (hint.padstone) {
-    const p = hint.padstone;
-    parts.push(`a ${formatG(p.length)} x ${formatG(p.width)} x ${formatG(p.depth)} mm ${p.concrete} ` +
-      `padstone passes (util. ${formatFixed(hint.padstone_utilisation, 2)})`);
-  }
-  if (hint.bearing_length !== null) {
-    parts.push(`a bearing of ${formatG(hint.bearing_length)} mm passes ` +
-      `(util. ${formatFixed(hint.bearing_utilisation, 2)})`);
-  }
-  return parts.join("; or ") || "no standard padstone or longer bearing passes: redesign";
+  return remedy(outcome.as_built, basis ? basisFromDict(basis) : ec6UkNa()).words;
 }
 
 function reasonList(reasons) {

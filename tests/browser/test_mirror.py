@@ -15,6 +15,8 @@ import struct
 import pytest
 from mirror_compare import differences, load_shared_vectors
 
+from sitecheck.bearing.format import number, quantity, utilisation
+
 SHOWN = 20  # differences printed on a failure
 BATCH = 40  # cases per page.evaluate: about half a megabyte each way
 
@@ -121,6 +123,8 @@ def _awkward_numbers() -> list[float]:
     rng = random.Random(11)
     values = [0.0, -0.0, 0.25, 2.5, -2.5, 80.25, 1000.125, 1484.625, 2015.625, 12.40625]
     values += [100000.5, 999999.5, 1e6, 1234565.0, 0.0001, 0.00001234565, 5e-324, 1e300]
+    # Ties at four significant figures, and carries into the next power of ten.
+    values += [2062.5, 2.0625, 1234.5, 1235.5, 9.9995, 9.99951, 99995.0, 0.99995, 1e20]
     for _ in range(300):
         values.append(rng.randint(-(10**9), 10**9) / 2 ** rng.randint(0, 14))
         values.append(rng.uniform(-5000.0, 5000.0))
@@ -135,15 +139,31 @@ def test_numbers_are_written_as_python_writes_them(page):
     page.goto("/login")
     got = page.evaluate(
         """async (values) => {
-          const { formatG, formatFixed } = await import("/static/js/bearing/format.js");
-          return values.map((v) => [formatG(v), formatFixed(v, 1), formatFixed(v, 3)]);
+          const { formatG, formatFixed, number, quantity, utilisationText } = await import(
+            "/static/js/bearing/format.js"
+          );
+          return values.map((v) => [
+            formatG(v), formatFixed(v, 1), formatFixed(v, 3),
+            number(v), number(v, true), quantity(v, "N"), quantity(v, "mm²"), utilisationText(v),
+          ]);
         }""",
         values,
     )
     wrong = [
         f"{v!r}: expected {want}, got {have}"
         for v, have in zip(values, got, strict=True)
-        for want in [[format(v, "g"), format(v, ".1f"), format(v, ".3f")]]
+        for want in [
+            [
+                format(v, "g"),
+                format(v, ".1f"),
+                format(v, ".3f"),
+                number(v),
+                number(v, plus=True),
+                quantity(v, "N"),
+                quantity(v, "mm²"),
+                utilisation(v),
+            ]
+        ]
         if have != want
     ]
     assert not wrong, "\n".join(wrong[:SHOWN])

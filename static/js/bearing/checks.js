@@ -1,8 +1,9 @@
 // Mirrors sitecheck/bearing/checks.py: the checks of one bearing. Each returns a check
 // object with its steps and clause (see trace.js).
 
-import { isEc6 } from "./basis.js";
-import { formatG } from "./format.js";
+import { creepLambdaCFor, creepPhiFor, isEc6 } from "./basis.js";
+import { InputError } from "./errors.js";
+import { number, utilisationText } from "./format.js";
 import {
   F_Rdu,
   betaBs5628,
@@ -14,7 +15,7 @@ import {
   pyMinOf,
   radians,
 } from "./formulas.js";
-import { endDistances, spreadLength } from "./geometry.js";
+import { readings, spreadLength, worse } from "./geometry.js";
 import { ACROSS, IN_LINE } from "./inputs.js";
 import { RULE, STRENGTH, makeCheck, makeStep } from "./trace.js";
 
@@ -149,9 +150,13 @@ export function padstoneBearing(inp, lay, st, basis) {
     (2 * pyMin(cx, lay.length - cx)) / b1,
     (2 * pyMin(cy, lay.width - cy)) / d1,
   ];
-  const k = pyMax(1.0, pyMinOf(kLimits));
+  const kFits = pyMax(1.0, pyMinOf(kLimits));
+  // A plain padstone takes no enhancement unless the code basis allows it (checks.py).
+  const plain = !inp.padstone.reinforced;
+  const k = plain && !basis.plain_partial_area_enhancement ? 1.0 : kFits;
   const aC1 = k * k * aC0;
   const fcd = st.f_cd;
+  const fcdSymbol = plain ? "f_cd,pl" : "f_cd";
   const fRdu = F_Rdu(aC0, aC1, fcd, basis.plb_limit_factor);
   const n = inp.load.reaction;
   const steps = [
@@ -177,11 +182,29 @@ export function padstoneBearing(inp, lay, st, basis) {
         ["room along", kLimits[3], ""],
         ["room across", kLimits[4], ""],
       ],
-      k,
+      kFits,
       "",
       "EN 1992-1-1 6.7(3), Figure 6.29",
       "S",
     ),
+  ];
+  if (plain) {
+    steps.push(
+      makeStep(
+        "Scale taken for plain concrete",
+        "k",
+        k === 1.0 && kFits > 1.0 + 1e-12
+          ? "1 (no reinforcement for the transverse tension)"
+          : "as it fits",
+        [["allowed by the code basis", basis.plain_partial_area_enhancement ? "yes" : "no", ""]],
+        k,
+        "",
+        "EN 1992-1-1 6.7(4)",
+        "ours",
+      ),
+    );
+  }
+  steps.push(
     makeStep(
       "Largest distribution area",
       "A_c1",
@@ -198,7 +221,7 @@ export function padstoneBearing(inp, lay, st, basis) {
       "A_c0 · f_cd · √(A_c1/A_c0) ≤ 3.0 · f_cd · A_c0",
       [
         ["A_c0", aC0, "mm²"],
-        ["f_cd", fcd, "N/mm²"],
+        [fcdSymbol, fcd, "N/mm²"],
         ["A_c1", aC1, "mm²"],
       ],
       fRdu,
@@ -206,12 +229,24 @@ export function padstoneBearing(inp, lay, st, basis) {
       "EN 1992-1-1 6.7 eqn 6.63",
       "S",
     ),
-  ];
+  );
   const notes = [];
-  if (k <= 1.0 + 1e-12) {
+  if (kFits <= 1.0 + 1e-12) {
     notes.push(
       "No concentric enlargement fits in the padstone (the flange bears from its edge), " +
         "so no enhancement is taken: F_Rdu = A_c0 · f_cd.",
+    );
+  } else if (k === 1.0) {
+    notes.push(
+      "The padstone is plain concrete: no enhancement is taken (F_Rdu = A_c0 · f_cd,pl), " +
+        "as EN 1992-1-1 6.7(4) asks for reinforcement to carry the transverse tension. " +
+        "The site's code basis may allow it (plain_partial_area_enhancement).",
+    );
+  }
+  if (plain) {
+    notes.push(
+      "Plain (unreinforced) padstone, as site padstones usually are unless the design " +
+        "says reinforced: f_cd,pl = α_cc,pl · f_ck / γ_c (EN 1992-1-1 section 12).",
     );
   }
   return makeCheck(
@@ -231,7 +266,7 @@ export function padstoneBearing(inp, lay, st, basis) {
 // ---------------------------------------------------------------- EC6
 
 // EN 1996-1-1 6.1.3: σ under the load ≤ β · f_d (eqns 6.9–6.10) [P; details M]; see
-// checks.py's ec6_masonry_bearing. Returns [check, l_efm, e1, e2].
+// checks.py's ec6_masonry_bearing. Returns the check.
 export function ec6MasonryBearing(
   inp,
   lay,
@@ -244,24 +279,51 @@ export function ec6MasonryBearing(
   kind = STRENGTH,
 ) {
   const wall = inp.wall;
-  const [e1, e2] = endDistances(lay, pres, wall.a1, wall.a2);
-  const [check, lEfm] = ec6BearingWithEnds(inp.masonry, wall, e1, e2, pres, st, basis, steps, {
-    spreader: spreaderConditions(inp, basis),
-    onPadstone: inp.padstone != null,
-    code,
-    title,
-    kind,
-  });
-  return [check, lEfm, e1, e2];
+  return ec6BearingOnReadings(
+    inp.masonry,
+    wall,
+    readings(lay, pres, wall.a1, wall.a2),
+    pres,
+    st,
+    basis,
+    steps,
+    {
+      spreader: spreaderConditions(inp, basis),
+      onPadstone: inp.padstone != null,
+      code,
+      title,
+      kind,
+    },
+  );
 }
 
-// ec6MasonryBearing once the loaded area's end distances e1, e2 and the spreader (its
-// description, or null) are known. Returns [check, l_efm].
-export function ec6BearingWithEnds(
+function named(label, reading) {
+  return reading.name ? `${label}, ${reading.name}` : label;
+}
+
+function governingReadingNote(what, worked, chosen) {
+  const shown = worked.map(([u, r]) => `${r.name} ${utilisationText(u)}`).join("; ");
+  const head =
+    "Under the triangle of pressure the codes do not say which loaded length to take: " +
+    `${what} was worked on both (utilisation: ${shown})`;
+  if (worked.every(([u]) => u === worked[0][0])) {
+    return `${head}; both give the same (the wall's end cuts the spread of each alike).`;
+  }
+  return `${head} and the ${chosen.name}, with the higher utilisation, governs.`;
+}
+
+// l_efm: the loaded length spread at 60° down to h_c/2 each side, cut by the wall's ends.
+export function lEfmOf(reading, h_c, basis) {
+  const s60 = h_c / 2 / Math.tan(radians(basis.masonry_spread_deg));
+  return spreadLength(reading.length, reading.e1, reading.e2, s60);
+}
+
+// ec6MasonryBearing once the readings of the loaded length and the spreader (its
+// description, or null) are known. Returns the check.
+export function ec6BearingOnReadings(
   mas,
   wall,
-  e1,
-  e2,
+  reads,
   pres,
   st,
   basis,
@@ -271,120 +333,100 @@ export function ec6BearingWithEnds(
   const t = wall.thickness;
   const h_c = wall.height_to_bearing;
   const width = pres.width;
-  const contact = pres.contact_length;
-  const s60 = h_c / 2 / Math.tan(radians(basis.masonry_spread_deg));
-  const lEfm = spreadLength(contact, e1, e2, s60);
-  const aB = width * contact; // pres.area
-  const aEf = lEfm * t;
-  steps.push(
-    makeStep(
-      "Loaded area on the masonry",
-      "A_b",
-      "W · contact length",
-      [
-        ["W", width, "mm"],
-        ["contact", contact, "mm"],
-      ],
-      aB,
-      "mm²",
-      "EN 1996-1-1 6.1.3",
-      "P",
-    ),
-  );
-  steps.push(
-    makeStep(
-      "Effective length at mid-height of the wall below",
-      "l_efm",
-      "contact + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
-      [
-        ["h_c", h_c, "mm"],
-        ["a1", e1, "mm"],
-        ["a2", e2, "mm"],
-      ],
-      lEfm,
-      "mm",
-      "EN 1996-1-1 6.1.3, Figure 6.2",
-      "P",
-    ),
-  );
-  const notes = [];
-  // The nearer end of the wall, if any.
-  let near;
-  if (e1 == null) near = e2;
-  else if (e2 == null) near = e1;
-  else near = pyMin(e1, e2);
   const enhanced = mas.group === 1 && !mas.shell_bedded;
-  let beta;
-  if (enhanced) {
-    const ratioRaw = aB / aEf;
-    const ratio = pyMin(ratioRaw, basis.beta_area_ratio_cap);
-    const a1 = near != null ? near : h_c; // a wall running on both ways: a1/h_c ≥ 0.5
-    const betaRaw = (1 + (0.3 * a1) / h_c) * (1.5 - 1.1 * ratio);
-    const betaMax = betaEc6Upper(a1, h_c);
-    beta = betaEc6(a1, h_c, aB, aEf, basis.beta_area_ratio_cap);
+  const spreaderAllowed =
+    spreader != null && (enhanced || basis.spreader_route_for_groups_2_to_4);
+  const notes = [];
+  const worked = [];
+  const factors = [];
+  let runsOn = false;
+  for (const r of reads) {
+    const aB = width * r.length;
+    const lEfm = lEfmOf(r, h_c, basis);
+    const aEf = lEfm * t;
     steps.push(
       makeStep(
-        "Area ratio, capped",
-        "A_b/A_ef",
-        "min(A_b / (l_efm · t), 0.45)",
+        named("Loaded area on the masonry", r),
+        "A_b",
+        "W · loaded length",
         [
-          ["A_b", aB, "mm²"],
-          ["A_ef", aEf, "mm²"],
-          ["uncapped", ratioRaw, ""],
+          ["W", width, "mm"],
+          ["loaded length", r.length, "mm"],
         ],
-        ratio,
-        "",
-        "EN 1996-1-1 6.1.3(3)",
-        "M",
-      ),
-    );
-    steps.push(
-      makeStep(
-        "Enhancement factor for concentrated loads",
-        "β",
-        "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
-        [
-          ["a1", a1, "mm"],
-          ["h_c", h_c, "mm"],
-          ["A_b/A_ef", ratio, ""],
-        ],
-        betaRaw,
-        "",
-        "EN 1996-1-1 6.1.3 eqn 6.10",
+        aB,
+        "mm²",
+        "EN 1996-1-1 6.1.3",
         "P",
       ),
     );
     steps.push(
       makeStep(
-        "β within its limits",
-        "β",
-        "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
-        [["upper", betaMax, ""]],
-        beta,
-        "",
-        "EN 1996-1-1 6.1.3(3)",
-        "M",
+        named("Effective length at mid-height of the wall below", r),
+        "l_efm",
+        "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+        [
+          ["h_c", h_c, "mm"],
+          ["a1", r.e1, "mm"],
+          ["a2", r.e2, "mm"],
+        ],
+        lEfm,
+        "mm",
+        "EN 1996-1-1 6.1.3, Figure 6.2",
+        "P",
       ),
     );
-    if (near == null) {
-      notes.push(
-        "The wall runs on both ways: a1 is taken large, " +
-          "so β reaches its upper limit when the area ratio allows.",
-      );
+    // The nearer end of the wall, if any.
+    let near;
+    if (r.e1 == null) near = r.e2;
+    else if (r.e2 == null) near = r.e1;
+    else near = pyMin(r.e1, r.e2);
+    let beta;
+    if (enhanced) {
+      beta = ec6BetaSteps(r, near, h_c, aB, aEf, basis, steps);
+      runsOn = runsOn || near == null;
+    } else {
+      beta = 1.0;
     }
-  } else {
-    beta = 1.0;
+    let factor = beta;
+    let route = "β";
+    if (spreaderAllowed && basis.spreader_stress_factor > factor) {
+      factor = basis.spreader_stress_factor;
+      route = "spreader";
+    }
+    factors.push([factor, route, aB]);
+    worked.push([pres.sigma_max / (factor * st.f_d), r, factors.length - 1]);
+  }
+  if (!enhanced) {
     const why = mas.shell_bedded ? "shell-bedded" : `Group ${mas.group} units`;
     steps.push(
       makeStep(`No enhancement for ${why}`, "β", "1.0", [], 1.0, "", "EN 1996-1-1 6.1.3(2)", "M"),
     );
   }
-  let factor = beta;
-  let route = "β";
-  if (spreader != null && (enhanced || basis.spreader_route_for_groups_2_to_4)) {
-    if (basis.spreader_stress_factor > factor) {
-      factor = basis.spreader_stress_factor;
-      route = "spreader";
+  const [, chosen, index] = worse(worked);
+  const [factor, route, aB] = factors[index];
+  if (reads.length > 1) {
+    steps.push(
+      makeStep(
+        "Factor kept: the lower of the two readings (the higher utilisation)",
+        route === "β" ? "β" : "factor",
+        "min(whole window, contact length)",
+        reads.map((r, i) => [r.name, factors[i][0], ""]),
+        factor,
+        "",
+        "EN 1996-1-1 6.1.3",
+        "ours",
+      ),
+    );
+    notes.push(governingReadingNote("β", worked, chosen));
+  }
+  if (runsOn) {
+    notes.push(
+      "The wall runs on both ways (no end or opening near): a1 → ∞, so β takes its " +
+        "upper limit, 1.5, never less than the same wall with an end nearby.",
+    );
+  }
+  if (spreaderAllowed) {
+    if (route === "spreader") {
       notes.push(`The padstone is a spreader (${spreader}): σ ≤ 1.5 f_d applies.`);
     }
   } else if (onPadstone) {
@@ -421,7 +463,7 @@ export function ec6BearingWithEnds(
       "P",
     ),
   );
-  const check = makeCheck(
+  return makeCheck(
     code,
     title,
     kind,
@@ -433,7 +475,77 @@ export function ec6BearingWithEnds(
     steps,
     notes,
   );
-  return [check, lEfm];
+}
+
+// β of one reading, each step of it in the trace (checks.py's _ec6_beta_steps).
+function ec6BetaSteps(r, near, h_c, aB, aEf, basis, steps) {
+  const ratioRaw = aB / aEf;
+  const ratio = pyMin(ratioRaw, basis.beta_area_ratio_cap);
+  const beta = betaEc6(near, h_c, aB, aEf, basis.beta_area_ratio_cap);
+  steps.push(
+    makeStep(
+      named("Area ratio, capped", r),
+      "A_b/A_ef",
+      "min(A_b / (l_efm · t), 0.45)",
+      [
+        ["A_b", aB, "mm²"],
+        ["A_ef", aEf, "mm²"],
+        ["uncapped", ratioRaw, ""],
+      ],
+      ratio,
+      "",
+      "EN 1996-1-1 6.1.3(3)",
+      "M",
+    ),
+  );
+  if (near == null) {
+    // No end near: a1 → ∞, so β is 1.5 (checks.py).
+    steps.push(
+      makeStep(
+        named("Enhancement factor, the wall running on both ways", r),
+        "β",
+        "a1 → ∞: min(1.25 + a1/(2 h_c), 1.5) = 1.5",
+        [
+          ["h_c", h_c, "mm"],
+          ["A_b/A_ef", ratio, ""],
+        ],
+        beta,
+        "",
+        "EN 1996-1-1 6.1.3(3)",
+        "M",
+      ),
+    );
+    return beta;
+  }
+  steps.push(
+    makeStep(
+      named("Enhancement factor for concentrated loads", r),
+      "β",
+      "(1 + 0.3 a1/h_c)(1.5 − 1.1 A_b/A_ef)",
+      [
+        ["a1", near, "mm"],
+        ["h_c", h_c, "mm"],
+        ["A_b/A_ef", ratio, ""],
+      ],
+      (1 + (0.3 * near) / h_c) * (1.5 - 1.1 * ratio),
+      "",
+      "EN 1996-1-1 6.1.3 eqn 6.10",
+      "P",
+    ),
+  );
+  steps.push(
+    makeStep(
+      named("β within its limits", r),
+      "β",
+      "1.0 ≤ β ≤ min(1.25 + a1/(2 h_c), 1.5)",
+      [["upper", betaEc6Upper(near, h_c), ""]],
+      beta,
+      "",
+      "EN 1996-1-1 6.1.3(3)",
+      "M",
+    ),
+  );
+  return beta;
 }
 
 // The description of a padstone that counts as a spreader, or null.
@@ -442,9 +554,9 @@ export function spreaderConditions(inp, basis) {
   const pad = inp.padstone;
   const bearingAlong = bearingAlongOf(inp);
   return (
-    `width t, depth ${formatG(pad.depth)} > ${formatG(basis.spreader_min_depth)} mm, ` +
-    `length ${formatG(pad.length)} > ` +
-    `${formatG(basis.spreader_length_factor)} × ${formatG(bearingAlong)} mm`
+    `width t, depth ${number(pad.depth)} > ${number(basis.spreader_min_depth)} mm, ` +
+    `length ${number(pad.length)} > ` +
+    `${number(basis.spreader_length_factor)} × ${number(bearingAlong)} mm`
   );
 }
 
@@ -576,7 +688,9 @@ export function ec6SolidMaterial(inp, lay, basis) {
 
 // At mid-height below the bearing: N_Ed/l_efm + other load ≤ Φ_m · t · f_d, EN 1996-1-1
 // 6.1.2 with Φ_m from Annex G [M]; e_mk defaults to max(0.05 t, |e|/2 + h_ef/450).
-export function ec6MidHeight(inp, lay, st, lEfm, basis) {
+// EN 1996-1-1 6.1.2 at mid-height; see checks.py's ec6_mid_height. Returns
+// [check, the reading that governs, its l_efm].
+export function ec6MidHeight(inp, lay, pres, st, basis) {
   const wall = inp.wall;
   const t = wall.thickness;
   const h = wall.clear_height || wall.height_to_bearing;
@@ -600,20 +714,37 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
     );
   } else {
     const eInit = h_ef / basis.e_init_divisor;
-    e_mk = pyMax(basis.e_mk_min_ratio * t, Math.abs(lay.eccentricity_across) / 2 + eInit);
+    const e_m = Math.abs(lay.eccentricity_across) / 2 + eInit;
+    steps.push(
+      makeStep(
+        "Eccentricity from the load at mid-height",
+        "e_m",
+        "|e|/2 + h_ef/450",
+        [
+          ["e", lay.eccentricity_across, "mm"],
+          ["h_ef", h_ef, "mm"],
+        ],
+        e_m,
+        "mm",
+        "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+        "M",
+      ),
+    );
+    const e_k = creepEccentricity(inp.masonry.material, h_ef, t_ef, t, e_m, basis, steps);
+    e_mk = pyMax(basis.e_mk_min_ratio * t, e_m + e_k);
     steps.push(
       makeStep(
         "Eccentricity at mid-height",
         "e_mk",
-        "max(0.05 t, |e|/2 + h_ef/450)",
+        "max(0.05 t, e_m + e_k)",
         [
           ["t", t, "mm"],
-          ["e", lay.eccentricity_across, "mm"],
-          ["h_ef", h_ef, "mm"],
+          ["e_m", e_m, "mm"],
+          ["e_k", e_k, "mm"],
         ],
         e_mk,
         "mm",
-        "EN 1996-1-1 6.1.2.2, 5.5.1.1",
+        "EN 1996-1-1 6.1.2.2 eqn 6.6",
         "M",
       ),
     );
@@ -671,24 +802,71 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
   }
   const n = inp.load.reaction;
   const q = inp.load.wall_load;
-  const demand = n / lEfm + q;
   const capacity = phi * t * st.f_d;
-  steps.push(
-    makeStep(
-      "Load per length at mid-height",
-      "n_Ed",
-      "N_Ed / l_efm + other load",
-      [
-        ["N_Ed", n, "N"],
-        ["l_efm", lEfm, "mm"],
-        ["q", q, "N/mm"],
-      ],
-      demand,
-      "N/mm",
-      "EN 1996-1-1 6.1.3(4)",
-      "P",
-    ),
-  );
+  const worked = [];
+  const lengths = [];
+  for (const r of readings(lay, pres, wall.a1, wall.a2)) {
+    const lEfm = lEfmOf(r, wall.height_to_bearing, basis);
+    lengths.push(lEfm);
+    const d = n / lEfm + q;
+    steps.push(
+      makeStep(
+        named("Effective length at mid-height", r),
+        "l_efm",
+        "loaded length + 2 × (h_c/2)/tan 60°, each side cut by a1, a2",
+        [
+          ["loaded length", r.length, "mm"],
+          ["h_c", wall.height_to_bearing, "mm"],
+          ["a1", r.e1, "mm"],
+          ["a2", r.e2, "mm"],
+        ],
+        lEfm,
+        "mm",
+        "EN 1996-1-1 6.1.3, Figure 6.2",
+        "P",
+      ),
+    );
+    steps.push(
+      makeStep(
+        named("Load per length at mid-height", r),
+        "n_Ed",
+        "N_Ed / l_efm + other load",
+        [
+          ["N_Ed", n, "N"],
+          ["l_efm", lEfm, "mm"],
+          ["q", q, "N/mm"],
+        ],
+        d,
+        "N/mm",
+        "EN 1996-1-1 6.1.3(4)",
+        "P",
+      ),
+    );
+    worked.push([d, r, lengths.length - 1]);
+  }
+  const [demand, chosen, index] = worse(worked);
+  const notes = [];
+  if (worked.length > 1) {
+    steps.push(
+      makeStep(
+        "Load per length kept: the higher of the two readings",
+        "n_Ed",
+        "max(whole window, contact length)",
+        worked.map(([d, r]) => [r.name, d, "N/mm"]),
+        demand,
+        "N/mm",
+        "EN 1996-1-1 6.1.3(4)",
+        "ours",
+      ),
+    );
+    notes.push(
+      governingReadingNote(
+        "l_efm",
+        worked.map(([d, r]) => [capacity > 0 ? d / capacity : Infinity, r]),
+        chosen,
+      ),
+    );
+  }
   steps.push(
     makeStep(
       "Resistance per length at mid-height",
@@ -705,7 +883,7 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
       "P",
     ),
   );
-  return makeCheck(
+  const check = makeCheck(
     "mid-height",
     "Wall at mid-height below the bearing",
     STRENGTH,
@@ -715,7 +893,61 @@ export function ec6MidHeight(inp, lay, st, lEfm, basis) {
     "EN 1996-1-1 6.1.2",
     "M",
     steps,
+    notes,
   );
+  return [check, chosen, lengths[index]];
+}
+
+// e_k, EN 1996-1-1 6.1.2.2 eqn 6.8 [M]: none up to the unit material's λ_c (checks.py).
+function creepEccentricity(material, h_ef, t_ef, t, e_m, basis, steps) {
+  const lamC = creepLambdaCFor(basis, material);
+  const phiInf = creepPhiFor(basis, material);
+  if (lamC === null || phiInf === null) {
+    throw new InputError(
+      "masonry.material",
+      material,
+      "a unit material for which this code basis has a creep coefficient and λ_c",
+      "not-covered",
+    );
+  }
+  const sr = h_ef / t_ef;
+  if (sr <= lamC) {
+    steps.push(
+      makeStep(
+        "Creep eccentricity, none up to λ_c",
+        "e_k",
+        `0: h_ef/t_ef ≤ λ_c for ${material} units`,
+        [
+          ["h_ef/t_ef", sr, ""],
+          ["λ_c", lamC, ""],
+        ],
+        0.0,
+        "mm",
+        "EN 1996-1-1 6.1.2.2(2)",
+        "M",
+      ),
+    );
+    return 0.0;
+  }
+  const e_k = 0.002 * phiInf * sr * Math.sqrt(t * e_m);
+  steps.push(
+    makeStep(
+      "Creep eccentricity",
+      "e_k",
+      "0.002 φ_∞ (h_ef/t_ef) √(t e_m)",
+      [
+        ["φ_∞", phiInf, ""],
+        ["h_ef/t_ef", sr, ""],
+        ["λ_c", lamC, ""],
+        ["t", t, "mm"],
+      ],
+      e_k,
+      "mm",
+      "EN 1996-1-1 6.1.2.2 eqn 6.8",
+      "M",
+    ),
+  );
+  return e_k;
 }
 
 export function slenderness(inp, basis) {
@@ -724,7 +956,7 @@ export function slenderness(inp, basis) {
   const h_ef = wall.effective_height || h;
   const t_ef = wall.effective_thickness || wall.thickness;
   const sr = h_ef / t_ef;
-  const clause = isEc6(basis) ? "EN 1996-1-1 5.5.1.4" : "BS 5628-1 clause 28";
+  const clause = isEc6(basis) ? "EN 1996-1-1 5.5.1.4" : "BS 5628-1:1992 clause 28";
   const step = makeStep(
     "Slenderness ratio",
     "h_ef/t_ef",
@@ -753,7 +985,7 @@ export function slenderness(inp, basis) {
 
 // ---------------------------------------------------------------- BS 5628-1
 
-// BS 5628-1 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing types
+// BS 5628-1:1992 clause 34: local stress ≤ k · f_k/γ_m, k = 1.25, 1.5 or 2.0 for bearing types
 // 1, 2 and 3 [P]; the peak of the linear pressure is compared.
 export function bsMasonryBearing(
   inp,
@@ -780,7 +1012,7 @@ export function bsMasonryBearing(
       ],
       cap,
       "N/mm²",
-      "BS 5628-1 clause 34",
+      "BS 5628-1:1992 clause 34",
       "P",
     ),
   );
@@ -791,14 +1023,14 @@ export function bsMasonryBearing(
     pres.sigma_max,
     cap,
     "N/mm²",
-    "BS 5628-1 clause 34",
+    "BS 5628-1:1992 clause 34",
     "P",
     steps,
   );
 }
 
 // At 0.4 h below the bearing, the load dispersed at 45° plus the other load ≤ β · f_k/γ_m
-// per length of wall, BS 5628-1 clause 34 [P]; β from Annex B [M]. Returns [check, l_d].
+// per length of wall, BS 5628-1:1992 clause 34 [P]; β from Annex B [M]. Returns [check, l_d].
 export function bsDispersion(inp, lay, pres, st, basis) {
   const wall = inp.wall;
   const t = wall.thickness;
@@ -806,9 +1038,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
   const h_ef = wall.effective_height || h;
   const t_ef = wall.effective_thickness || t;
   const depth = basis.dispersion_depth_ratio * h;
-  const [e1, e2] = endDistances(lay, pres, wall.a1, wall.a2);
   const each = depth * Math.tan(radians(basis.masonry_spread_deg));
-  const lD = spreadLength(pres.contact_length, e1, e2, each);
   const steps = [
     makeStep(
       "Depth of the check below the bearing",
@@ -817,23 +1047,30 @@ export function bsDispersion(inp, lay, pres, st, basis) {
       [["h", h, "mm"]],
       depth,
       "mm",
-      "BS 5628-1 clause 34",
-      "P",
-    ),
-    makeStep(
-      "Length the load has spread over at that depth",
-      "l_d",
-      "contact + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
-      [
-        ["a1", e1, "mm"],
-        ["a2", e2, "mm"],
-      ],
-      lD,
-      "mm",
-      "BS 5628-1 clause 34",
+      "BS 5628-1:1992 clause 34",
       "P",
     ),
   ];
+  const reads = readings(lay, pres, wall.a1, wall.a2);
+  const lengths = reads.map((r) => spreadLength(r.length, r.e1, r.e2, each));
+  reads.forEach((r, i) => {
+    steps.push(
+      makeStep(
+        named("Length the load has spread over at that depth", r),
+        "l_d",
+        "loaded length + 2 × 0.4 h · tan 45°, each side cut by a1, a2",
+        [
+          ["loaded length", r.length, "mm"],
+          ["a1", r.e1, "mm"],
+          ["a2", r.e2, "mm"],
+        ],
+        lengths[i],
+        "mm",
+        "BS 5628-1:1992 clause 34",
+        "P",
+      ),
+    );
+  });
   let beta;
   if (inp.beta_s != null) {
     beta = Number(inp.beta_s);
@@ -845,7 +1082,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         [],
         beta,
         "",
-        "BS 5628-1 Table 7",
+        "BS 5628-1:1992 Table 7",
         "ours",
       ),
     );
@@ -866,7 +1103,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         ],
         e_x,
         "mm",
-        "BS 5628-1 Annex B",
+        "BS 5628-1:1992 Appendix B",
         "M",
       ),
     );
@@ -882,31 +1119,58 @@ export function bsDispersion(inp, lay, pres, st, basis) {
         ],
         beta,
         "",
-        "BS 5628-1 Annex B",
+        "BS 5628-1:1992 Appendix B",
         "M",
       ),
     );
   }
   const n = inp.load.reaction;
   const q = inp.load.wall_load;
-  const demand = n / lD + q;
   const capacity = (beta * t * st.f_k) / st.gamma_M;
-  steps.push(
-    makeStep(
-      "Load per length at 0.4 h",
-      "n",
-      "N / l_d + other load",
-      [
-        ["N", n, "N"],
-        ["l_d", lD, "mm"],
-        ["q", q, "N/mm"],
-      ],
-      demand,
-      "N/mm",
-      "BS 5628-1 clause 34",
-      "P",
-    ),
-  );
+  const worked = [];
+  reads.forEach((r, i) => {
+    const d = n / lengths[i] + q;
+    steps.push(
+      makeStep(
+        named("Load per length at 0.4 h", r),
+        "n",
+        "N / l_d + other load",
+        [
+          ["N", n, "N"],
+          ["l_d", lengths[i], "mm"],
+          ["q", q, "N/mm"],
+        ],
+        d,
+        "N/mm",
+        "BS 5628-1:1992 clause 34",
+        "P",
+      ),
+    );
+    worked.push([d, r, i]);
+  });
+  const [demand, chosen, index] = worse(worked);
+  const notes = [];
+  if (worked.length > 1) {
+    steps.push(
+      makeStep(
+        "Load per length kept: the higher of the two readings",
+        "n",
+        "max(whole window, contact length)",
+        worked.map(([d, r]) => [r.name, d, "N/mm"]),
+        demand,
+        "N/mm",
+        "BS 5628-1:1992 clause 34",
+        "ours",
+      ),
+    );
+    notes.push(
+      governingReadingNote(
+        "the dispersion",
+        worked.map(([d, r]) => [capacity > 0 ? d / capacity : Infinity, r]),
+        chosen,
+      ),
+    );
+  }
   steps.push(
     makeStep(
       "Resistance per length",
@@ -920,7 +1184,7 @@ export function bsDispersion(inp, lay, pres, st, basis) {
       ],
       capacity,
       "N/mm",
-      "BS 5628-1 clause 32",
+      "BS 5628-1:1992 clause 32",
       "P",
     ),
   );
@@ -931,11 +1195,12 @@ export function bsDispersion(inp, lay, pres, st, basis) {
     demand,
     capacity,
     "N/mm",
-    "BS 5628-1 clause 34",
+    "BS 5628-1:1992 clause 34",
     "P",
     steps,
+    notes,
   );
-  return [check, lD];
+  return [check, chosen, lengths[index]];
 }
 
 export const ORIENTATION_TITLES = {

@@ -113,3 +113,58 @@ export function pyStr(value) {
   if (value === false) return "False";
   return String(value);
 }
+
+// ---------------------------------------------------------------- the one formatter
+// Mirrors sitecheck/bearing/format.py: every number in a trace, table, message or hint.
+// At most four significant figures but every whole digit, commas between thousands, never
+// an exponent; forces in kN and line loads in kN/m.
+
+export const SIGNIFICANT = 4;
+const SHOWN = { N: ["kN", 1000.0], "N/mm": ["kN/m", 1.0] };
+export const NO_CAPACITY = "no capacity (fails)";
+
+// The decimal exponent of |x| once rounded to `p` significant figures (Python's
+// format(x, ".{p-1}e")): 9.9996 to four figures is 10.00, exponent 1.
+function roundedExponent(a, p) {
+  const exact = exactDecimal(a);
+  let exp10 = exact.digits.toString().length - 1 - exact.scale;
+  const kept = scaledRound(exact, p - 1 - exp10);
+  if (kept.toString().length > p) exp10 += 1;
+  return exp10;
+}
+
+export function number(x, plus = false) {
+  x = Number(x);
+  if (Number.isNaN(x)) return "NaN";
+  if (x === Infinity) return "∞";
+  if (x === -Infinity) return "-∞";
+  if (x === 0) return "0";
+  const a = Math.abs(x);
+  const decimals = Math.max(0, SIGNIFICANT - 1 - roundedExponent(a, SIGNIFICANT));
+  let text = formatFixed(a, decimals);
+  if (text.includes(".")) text = text.replace(/0+$/, "").replace(/\.$/, "");
+  const [whole, fraction] = text.split(".");
+  text = whole.replace(/\B(?=(\d{3})+(?!\d))/g, ",") + (fraction === undefined ? "" : `.${fraction}`);
+  return (x < 0 ? "-" : plus ? "+" : "") + text;
+}
+
+export function shownUnit(unit) {
+  return Object.hasOwn(SHOWN, unit) ? SHOWN[unit][0] : unit;
+}
+
+// A value with its unit as a person reads it: quantity(60000, "N") is "60 kN". Text passes
+// through; null is a dash.
+export function quantity(x, unit = "") {
+  if (x === null || x === undefined) return "—";
+  if (typeof x === "boolean") return x ? "yes" : "no";
+  if (typeof x === "string") return `${x} ${unit}`.trim();
+  const [shown, divisor] = Object.hasOwn(SHOWN, unit) ? SHOWN[unit] : [unit, 1.0];
+  const value = divisor !== 1.0 ? Number(x) / divisor : Number(x);
+  return `${number(value)} ${shown}`.trim();
+}
+
+// A utilisation to two decimals; no capacity at all is a failure and says so.
+export function utilisationText(u) {
+  if (u === null || u === undefined || !Number.isFinite(u)) return NO_CAPACITY;
+  return formatFixed(u, 2);
+}

@@ -44,13 +44,16 @@ export function linearPressure(P, B, L, e) {
 }
 
 // Enhancement factor for concentrated loads, EN 1996-1-1 6.1.3 eqn 6.10 [P; limits M].
+// a1 null is a wall that runs on (a1 → ∞): β = 1.5, never less than with an end nearby.
 export function betaEc6(a1, h_c, A_b, A_ef, areaRatioCap = 0.45) {
+  if (a1 == null) return 1.5;
   const ratio = pyMin(A_b / A_ef, areaRatioCap);
   const raw = (1 + (0.3 * a1) / h_c) * (1.5 - 1.1 * ratio);
   return pyMin(pyMax(raw, 1.0), pyMin(1.25 + a1 / (2 * h_c), 1.5));
 }
 
 export function betaEc6Upper(a1, h_c) {
+  if (a1 == null) return 1.5;
   return pyMin(1.25 + a1 / (2 * h_c), 1.5);
 }
 
@@ -63,7 +66,7 @@ export function phiM(h_ef, t_ef, e_mk, t, k_E = 1000.0) {
   return pyMax(0.0, a1 * Math.exp((-u * u) / 2));
 }
 
-// Capacity reduction factor for slenderness and eccentricity, BS 5628-1 Annex B [M].
+// Capacity reduction factor for slenderness and eccentricity, BS 5628-1:1992 Appendix B [M].
 export function betaBs5628(h_ef, t_ef, e_x, t) {
   const sr = h_ef / t_ef;
   const e_a = t * ((sr * sr) / 2400 - 0.015);

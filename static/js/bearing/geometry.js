@@ -22,6 +22,17 @@ export function layout(inp) {
 
 // The layout of `beam` on `pad` (or on the bare wall of thickness t) with the position and
 // reaction given here rather than the beam's own.
+// geometry.py's padstone_y0: the near edge of the part of the padstone over the wall, from
+// the wall's near face, where its position across the wall puts it.
+export function padstoneY0(pad, width, t, across) {
+  const room = t - width;
+  const position = pad.position_across || (across ? "near-face" : "centred");
+  if (position === "near-face") return 0.0;
+  if (position === "far-face") return room;
+  if (position === "offset") return pyMin(pyMax(room / 2 + pad.offset_across, 0.0), room);
+  return room / 2;
+}
+
 export function footprintLayout(beam, pad, t, offsetAlong, offsetAcross, reactionAt) {
   const across = beam.orientation === ACROSS;
   const footAlong = across ? beam.flange_width : beam.bearing_length;
@@ -37,7 +48,7 @@ export function footprintLayout(beam, pad, t, offsetAlong, offsetAcross, reactio
     width = pyMin(pad.width, t);
     depth = pad.depth;
     footAcross = pyMin(footAcross, width); // an in-line flange may overhang the padstone
-    y0InWall = across ? 0.0 : (t - width) / 2;
+    y0InWall = padstoneY0(pad, width, t, across);
   } else {
     length = footAlong;
     width = t;
@@ -234,12 +245,38 @@ export function pressureUnder(lay, reaction, basis, steps) {
   return new Pressure(wx0, wx1, wy0, wy1, rigid, kind, e, smax, smin, cx0, cx1);
 }
 
-// Distances from the ends of the loaded area on the masonry to the wall's ends: what
-// carries the load sets a1 and a2, not the padstone's nominal ends.
-export function endDistances(lay, pres, a1, a2) {
-  const e1 = a1 == null ? null : a1 + pres.contact_x0;
-  const e2 = a2 == null ? null : a2 + (lay.length - pres.contact_x1);
-  return [e1, e2];
+export const WHOLE_WINDOW = "whole-window reading";
+export const CONTACT_LENGTH = "contact-length reading";
+
+// geometry.py's readings: the loaded length on the masonry, read each way the codes leave
+// open. One reading ({name: "", ...}) where the whole window is in contact; under a
+// triangle the whole window and the contact length at the loaded end. Each is
+// {name, x0, x1, e1, e2, length}, e1 and e2 the wall's end distances from its ends.
+export function readings(lay, pres, a1, a2) {
+  const reading = (name, x0, x1) => ({
+    name,
+    x0,
+    x1,
+    e1: a1 == null ? null : a1 + x0,
+    e2: a2 == null ? null : a2 + (lay.length - x1),
+    length: x1 - x0,
+  });
+  if (pres.distribution !== "triangle") {
+    return [reading("", pres.window_x0, pres.window_x1)];
+  }
+  return [
+    reading(WHOLE_WINDOW, pres.window_x0, pres.window_x1),
+    reading(CONTACT_LENGTH, pres.contact_x0, pres.contact_x1),
+  ];
+}
+
+// The [utilisation, reading, ...] with the higher utilisation; on a tie the first.
+export function worse(candidates) {
+  let best = candidates[0];
+  for (const candidate of candidates.slice(1)) {
+    if (candidate[0] > best[0]) best = candidate;
+  }
+  return best;
 }
 
 // A loaded length plus a spread on each side, each cut by the wall's end.

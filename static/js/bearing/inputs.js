@@ -21,6 +21,7 @@ export const MATERIALS = [
 export const MORTARS = ["M2", "M4", "M6", "M12", "thin-layer"];
 export const CONDITIONING = ["air-dried", "water-soaked"];
 export const CONTROL_LEVELS = ["normal", "special"];
+export const PADSTONE_POSITIONS = ["near-face", "centred", "far-face", "offset"];
 
 // The dataclasses' defaults; a field with no default is absent here.
 export const DEFAULTS = {
@@ -32,7 +33,13 @@ export const DEFAULTS = {
     offset_across: null,
     reaction_at: "centroid",
   },
-  padstone: { concrete: "C25/30", f_ck: null, precast: true },
+  padstone: {
+    concrete: "C25/30",
+    f_ck: null,
+    reinforced: false,
+    position_across: null,
+    offset_across: null,
+  },
   wall: {
     a1: null,
     a2: null,
@@ -51,6 +58,7 @@ export const DEFAULTS = {
     mortar: "M4",
     f_k: null,
     shell_bedded: false,
+    collar_joint: null,
     unit_category: "I",
     execution_class: 2,
     manufacturing_control: "normal",

@@ -2,7 +2,8 @@
 
 import * as C from "./checks.js";
 import { isEc6 } from "./basis.js";
-import { endDistances, footprintLayout, layout, pressureUnder } from "./geometry.js";
+import { number } from "./format.js";
+import { footprintLayout, layout, pressureUnder, readings } from "./geometry.js";
 import { IN_LINE } from "./inputs.js";
 import { masonryStrengths } from "./strength.js";
 import { INFORMATIVE, SPREAD_FIELDS, STRENGTH, checkAsDict, finiteOrNone } from "./trace.js";
@@ -15,7 +16,7 @@ import { validate } from "./validate.js";
 export function checkBearing(inp, basis) {
   validate(inp, basis);
   const pad = inp.padstone ?? null;
-  const strengths = masonryStrengths(inp.masonry, pad, basis);
+  const strengths = masonryStrengths(inp.masonry, pad, basis, inp.wall.thickness);
   const lay = layout(inp);
   const checks = [C.minBearing(inp, basis)];
   if (inp.beam.orientation === IN_LINE) checks.push(...C.inlineRules(inp, lay, basis));
@@ -25,27 +26,26 @@ export function checkBearing(inp, basis) {
   const pres = pressureUnder(lay, inp.load.reaction, basis, steps);
   const wall = inp.wall;
   const ec6 = isEc6(basis);
+  // The spread the drawings show is the one the wall below is checked with, on the
+  // reading that governs (recheck.py).
   let spreadLen;
   let spreadDepth;
-  let e1;
-  let e2;
+  let spreadReading;
   if (ec6) {
-    let bearing;
-    [bearing, spreadLen, e1, e2] = C.ec6MasonryBearing(inp, lay, pres, strengths, basis, steps);
-    checks.push(bearing);
+    checks.push(C.ec6MasonryBearing(inp, lay, pres, strengths, basis, steps));
     checks.push(C.ec6Eccentricity(inp, lay, basis));
     if (inp.masonry.group !== 1) checks.push(C.ec6SolidMaterial(inp, lay, basis));
-    checks.push(C.ec6MidHeight(inp, lay, strengths, spreadLen, basis));
+    let midHeight;
+    [midHeight, spreadReading, spreadLen] = C.ec6MidHeight(inp, lay, pres, strengths, basis);
+    checks.push(midHeight);
     spreadDepth = wall.height_to_bearing / 2;
   } else {
     checks.push(C.bsMasonryBearing(inp, pres, strengths, basis, steps));
     let dispersion;
-    [dispersion, spreadLen] = C.bsDispersion(inp, lay, pres, strengths, basis);
+    [dispersion, spreadReading, spreadLen] = C.bsDispersion(inp, lay, pres, strengths, basis);
     checks.push(dispersion);
     const h = wall.clear_height || wall.height_to_bearing;
     spreadDepth = basis.dispersion_depth_ratio * h;
-    e1 = null;
-    e2 = null;
   }
   checks.push(C.slenderness(inp, basis));
   const notes = assumptionNotes(inp);
@@ -56,10 +56,6 @@ export function checkBearing(inp, basis) {
   }
 
   const [governing, passed] = governingOf(checks);
-  let a1Eff;
-  let a2Eff;
-  if (ec6) [a1Eff, a2Eff] = [e1, e2];
-  else [a1Eff, a2Eff] = endDistances(lay, pres, wall.a1, wall.a2);
   const values = [
     lay.length,
     lay.width,
@@ -82,12 +78,15 @@ export function checkBearing(inp, basis) {
     pres.sigma_min,
     pres.contact_x0,
     pres.contact_x1,
-    a1Eff,
-    a2Eff,
+    spreadReading.e1,
+    spreadReading.e2,
     lay.eccentricity_across,
     basis.masonry_spread_deg,
     spreadDepth,
     spreadLen,
+    spreadReading.x0,
+    spreadReading.x1,
+    spreadReading.name,
   ];
   const spread = {};
   SPREAD_FIELDS.forEach((name, i) => {
@@ -117,7 +116,12 @@ function governingOf(checks) {
 
 function assumptionNotes(inp) {
   const wall = inp.wall;
-  const notes = [];
+  const under = inp.padstone != null ? "the padstone's underside" : "the beam's underside";
+  // Said every time: the seating level typed by mistake moves the result (recheck.py).
+  const notes = [
+    `h_c = ${number(wall.height_to_bearing)} mm, from the wall's base to ${under} (not ` +
+      "to where the beam sits on the padstone).",
+  ];
   if (wall.clear_height == null) {
     notes.push("Clear height h taken as the height to the bearing h_c.");
   }
@@ -165,8 +169,7 @@ function directBearing(inp, lay, strengths, basis) {
   const title = "Masonry directly under the beam, without the padstone";
   let check;
   if (isEc6(basis)) {
-    const [e1, e2] = endDistances(bareLay, pres, a1, a2);
-    [check] = C.ec6BearingWithEnds(inp.masonry, wall, e1, e2, pres, strengths, basis, steps, {
+    check = C.ec6BearingOnReadings(inp.masonry, wall, readings(bareLay, pres, a1, a2), pres, strengths, basis, steps, {
       spreader: null,
       onPadstone: false,
       code: "direct-bearing",

@@ -7,7 +7,8 @@
 // nothing passes.
 
 import { InputError } from "./errors.js";
-import { layout } from "./geometry.js";
+import { number, utilisationText } from "./format.js";
+import { layout, padstoneY0 } from "./geometry.js";
 import { ACROSS } from "./inputs.js";
 import { checkBearing } from "./recheck.js";
 
@@ -27,9 +28,11 @@ export function remedy(
   classes = STANDARD_CLASSES,
   step = 5.0,
 ) {
+  // An offset typed in that says what leaving it empty says gets the same hint (remedy.py).
+  inp = asBuiltIn(inp);
   const [pad, padU] = smallestPadstone(inp, basis, sizes, classes);
   const [length, lengthU] = shortestBearing(inp, basis, step);
-  return {
+  const hint = {
     padstone:
       pad === null
         ? null
@@ -38,6 +41,65 @@ export function remedy(
     bearing_length: length,
     bearing_utilisation: lengthU,
   };
+  return { ...hint, words: describe(hint) };
+}
+
+// Remedy.describe(): the hint in words, as the CLI, the review page and the phone show it.
+export function describe(hint) {
+  const parts = [];
+  if (hint.padstone) {
+    const p = hint.padstone;
+    parts.push(
+      `a ${number(p.length)} x ${number(p.width)} x ${number(p.depth)} mm ${p.concrete} ` +
+        `padstone passes (util. ${utilisationText(hint.padstone_utilisation)})`,
+    );
+  }
+  if (hint.bearing_length !== null) {
+    parts.push(
+      `a bearing of ${number(hint.bearing_length)} mm passes ` +
+        `(util. ${utilisationText(hint.bearing_utilisation)})`,
+    );
+  }
+  return parts.join("; or ") || "no standard padstone or longer bearing passes: redesign";
+}
+
+// remedy.py's default_offsets: [along (null with no padstone), across] where none is given.
+export function defaultOffsets(inp) {
+  const beam = inp.beam;
+  const pad = inp.padstone ?? null;
+  const t = inp.wall.thickness;
+  const across = beam.orientation === ACROSS;
+  const footAlong = across ? beam.flange_width : beam.bearing_length;
+  let footAcross = across ? beam.bearing_length : beam.flange_width;
+  const width = pad === null ? t : pyMin(pad.width, t);
+  let along;
+  if (pad === null) {
+    along = null;
+  } else {
+    along = across ? 0.0 : (footAlong - pad.length) / 2;
+    footAcross = pyMin(footAcross, width);
+  }
+  return [along, across ? (footAcross - width) / 2 : 0.0];
+}
+
+// remedy.py's as_built_in: each beam offset that equals the default left out.
+export function asBuiltIn(inp) {
+  const beam = inp.beam;
+  const givenAlong = beam.offset_along ?? null;
+  const givenAcross = beam.offset_across ?? null;
+  if (givenAlong === null && givenAcross === null) return inp;
+  const [dAlong, dAcross] = defaultOffsets(inp);
+  let along = givenAlong;
+  let acrossOff = givenAcross;
+  if (along !== null && (dAlong === null || Math.abs(along - dAlong) <= 1e-9)) along = null;
+  if (acrossOff !== null && Math.abs(acrossOff - dAcross) <= 1e-9) acrossOff = null;
+  if (along === givenAlong && acrossOff === givenAcross) return inp;
+  return { ...inp, beam: { ...beam, offset_along: along, offset_across: acrossOff } };
+}
+
+// Python's min(a, b) for numbers.
+function pyMin(a, b) {
+  return b < a ? b : a;
 }
 
 // itertools.permutations of three, in its order.
@@ -96,13 +158,28 @@ function withPadstone(inp, L, B, h, concrete) {
     a2 = a2Old === null ? null : a2Old - (L - old.length);
   }
   if ((a1 !== null && a1 < 0) || (a2 !== null && a2 < 0)) return null;
-  const pad = { length: L, width: B, depth: h, concrete, f_ck: null, precast: true };
-  return {
-    ...inp,
-    padstone: pad,
-    beam: { ...inp.beam, offset_along: null },
-    wall: { ...wall, a1, a2 },
+  // Laid where the old one lay across the wall; a bare bearing's takes the default.
+  const oldPad = inp.padstone ?? null;
+  const pad = {
+    length: L,
+    width: B,
+    depth: h,
+    concrete,
+    f_ck: null,
+    reinforced: false,
+    position_across: oldPad === null ? null : (oldPad.position_across ?? null),
+    offset_across: oldPad === null ? null : (oldPad.offset_across ?? null),
   };
+  let beam = { ...inp.beam, offset_along: null };
+  if (beam.offset_across != null) {
+    // A beam placed off its default stays where it is in the wall.
+    const t = wall.thickness;
+    const yAbs = old.y0_in_wall + old.width / 2 + beam.offset_across;
+    const width = pyMin(B, t);
+    const y0 = padstoneY0(pad, width, t, inp.beam.orientation === ACROSS);
+    beam = { ...beam, offset_across: yAbs - (y0 + width / 2) };
+  }
+  return { ...inp, padstone: pad, beam, wall: { ...wall, a1, a2 } };
 }
 
 // A re-check, or null where the core refuses the candidate (as Python skips an InputError).
@@ -134,6 +211,18 @@ export function smallestPadstone(
   return [null, null];
 }
 
+// The beam bearing `length`, its near edge where it was (remedy.py's _lengthened).
+function lengthened(beam, pad, length) {
+  const grow = length - beam.bearing_length;
+  if (beam.orientation === ACROSS && beam.offset_across != null) {
+    return { ...beam, bearing_length: length, offset_across: beam.offset_across + grow / 2 };
+  }
+  if (beam.orientation !== ACROSS && beam.offset_along != null && pad !== null) {
+    return { ...beam, bearing_length: length, offset_along: beam.offset_along + grow / 2 };
+  }
+  return { ...beam, bearing_length: length };
+}
+
 // The shortest bearing, from the present one up in `step` mm, that passes.
 export function shortestBearing(inp, basis, step = 5.0) {
   const beam = inp.beam;
@@ -147,7 +236,7 @@ export function shortestBearing(inp, basis, step = 5.0) {
   const least = beam.member === "lintel" ? basis.min_bearing_lintel : basis.min_bearing_beam;
   let length = beam.bearing_length > least ? beam.bearing_length : least; // Python's max()
   while (length <= room + 1e-9) {
-    const candidate = { ...inp, beam: { ...beam, bearing_length: length } };
+    const candidate = { ...inp, beam: lengthened(beam, pad, length) };
     const u = passingUtilisation(candidate, basis);
     if (u !== null) return [length, u];
     length += step;

@@ -14,7 +14,7 @@
 import { BS5628 } from "./basis.js";
 import { isSpreader } from "./checks.js";
 import { InputError } from "./errors.js";
-import { formatFixed, formatG, pyStr } from "./format.js";
+import { number, pyStr, utilisationText } from "./format.js";
 import { DEFAULT_SETTINGS, MEASUREMENT_FIELDS } from "./serial.js";
 
 export const BLOCKS = "blocks";
@@ -28,7 +28,9 @@ const NEW_PADSTONE = {
   depth: 0.0,
   concrete: "C25/30",
   f_ck: null,
-  precast: true,
+  reinforced: false,
+  position_across: null,
+  offset_across: null,
 };
 
 function reason(code, severity, sentence, values = {}) {
@@ -58,13 +60,20 @@ export function asBuiltInput(design, m) {
       ["width", m.padstone_width],
       ["depth", m.padstone_depth],
       ["concrete", m.padstone_concrete || null],
+      ["reinforced", m.padstone_reinforced],
+      ...positionMeasured(m),
     ]);
     if (m.padstone_concrete && pad.f_ck != null) {
       // The class seen on site replaces a declared f_ck.
       pad = { ...pad, f_ck: null };
     }
-  } else if (m.padstone_concrete && pad !== null) {
-    pad = { ...pad, concrete: m.padstone_concrete, f_ck: null };
+  } else {
+    if (m.padstone_concrete && pad !== null) {
+      pad = { ...pad, concrete: m.padstone_concrete, f_ck: null };
+    }
+    if (pad !== null) {
+      pad = measured(pad, [["reinforced", m.padstone_reinforced], ...positionMeasured(m)]);
+    }
   }
 
   const wall = design.wall;
@@ -87,6 +96,7 @@ export function asBuiltInput(design, m) {
     ["group", m.masonry_group],
     ["mortar", m.mortar],
     ["unit_strength", m.unit_strength],
+    ["collar_joint", m.collar_joint],
   ]);
   return { ...design, beam, padstone: pad, wall: builtWall, masonry };
 }
@@ -98,9 +108,28 @@ function measured(part, values) {
   const out = { ...part };
   for (const [name, value] of values) {
     if (value === null || value === undefined) continue;
+    if (value === CLEAR) {
+      if (part[name] != null) out[name] = null;
+      continue;
+    }
     if (!Object.is(value, part[name])) out[name] = value;
   }
   return out;
+}
+
+// review.py's _position_measured: the padstone's position across the wall as measured; a
+// position other than "offset" clears a designed offset.
+const CLEAR = Symbol("clear");
+
+function positionMeasured(m) {
+  let position = m.padstone_position || null;
+  const offset = m.padstone_offset_across ?? null;
+  if (position === null && offset === null) return [];
+  if (position === null) position = "offset";
+  return [
+    ["position_across", position],
+    ["offset_across", position === "offset" ? offset : CLEAR],
+  ];
 }
 
 export function missingMeasurements(design, m, s) {
@@ -134,10 +163,14 @@ const DIMENSIONS = [
 export const FIELD_LABELS = {
   ...Object.fromEntries(DIMENSIONS.map(([name, label]) => [name, label])),
   padstone_present: "Padstone present",
+  padstone_reinforced: "Padstone reinforced",
+  padstone_position: "Padstone's position across the wall",
+  padstone_offset_across: "Padstone offset from the wall's centre line",
   masonry_group: "Unit group",
   masonry_material: "Unit material",
   mortar: "Mortar class",
   unit_strength: "Unit strength",
+  collar_joint: "Collar joint in the wall",
 };
 
 // An utilisation as a result dict holds it: null is unbounded.
@@ -168,7 +201,7 @@ export function review(
     if (c.kind !== INFORMATIVE && !c.passed) {
       const u = util(c.utilisation);
       out.push(
-        reason("check-fails", BLOCKS, `${c.title} fails as built (utilisation ${fmtUtil(u)}).`, {
+        reason("check-fails", BLOCKS, `${c.title} fails as built (${utilisationPhrase(u)}).`, {
           check: c.code,
           utilisation: u,
         }),
@@ -182,8 +215,8 @@ export function review(
       reason(
         "above-threshold",
         BLOCKS,
-        `Utilisation ${formatFixed(uBuilt, 2)} is above the site's review threshold ` +
-          `${formatFixed(s.threshold, 2)}.`,
+        `Utilisation ${utilisationText(uBuilt)} is above the site's review threshold ` +
+          `${utilisationText(s.threshold)}.`,
         { utilisation: uBuilt, threshold: s.threshold },
       ),
     );
@@ -194,8 +227,9 @@ export function review(
       reason(
         "utilisation-rise",
         BLOCKS,
-        `Utilisation rose from ${formatFixed(uDesign, 2)} as designed to ` +
-          `${fmtUtil(uBuilt)} as built, more than the allowed ${formatFixed(s.rise_margin, 2)}.`,
+        `Utilisation rose from ${utilisationText(uDesign)} as designed to ` +
+          `${utilisationText(uBuilt)} as built, more than the allowed ` +
+          `${utilisationText(s.rise_margin)}.`,
         { design: uDesign, as_built: uBuilt, margin: s.rise_margin },
       ),
     );
@@ -236,14 +270,8 @@ export function review(
   return out;
 }
 
-function fmtUtil(u) {
-  return u === Infinity ? "unbounded" : formatFixed(u, 2);
-}
-
-// Python's f"{x:+.0f}".
-function signed0(x) {
-  const text = formatFixed(x, 0);
-  return text.startsWith("-") ? text : `+${text}`;
+function utilisationPhrase(u) {
+  return u === Infinity ? "no capacity" : `utilisation ${utilisationText(u)}`;
 }
 
 function spreaderLost(design, asBuilt, basis) {
@@ -298,8 +326,8 @@ function dimensionReasons(design, asBuilt, s) {
       reason(
         `${slug}-off`,
         worse ? BLOCKS : ADVISORY,
-        `${label} is ${formatG(a)} mm as built against ${formatG(d)} mm designed ` +
-          `(${formatG(Math.abs(diff))} mm ${word}; tolerance ${formatG(tol)} mm).`,
+        `${label} is ${number(a)} mm as built against ${number(d)} mm designed ` +
+          `(${number(Math.abs(diff))} mm ${word}; tolerance ${number(tol)} mm).`,
         { design: d, as_built: a, tolerance: tol },
       ),
     );
@@ -348,9 +376,9 @@ function positionReasons(designResult, result, s) {
       reason(
         `${slug}-off`,
         worse ? BLOCKS : ADVISORY,
-        `${label} is ${signed0(av)} mm from the centre as built against ` +
-          `${signed0(dv)} mm designed ` +
-          `(tolerance ${formatG(s.tol_position)} mm).`,
+        `${label} is ${number(av, true)} mm from the centre as built against ` +
+          `${number(dv, true)} mm designed ` +
+          `(tolerance ${number(s.tol_position)} mm).`,
         { design: dv, as_built: av, tolerance: s.tol_position },
       ),
     );
@@ -359,8 +387,9 @@ function positionReasons(designResult, result, s) {
 }
 
 function describe(m) {
-  const strength = m.unit_strength != null ? ` ${formatG(m.unit_strength)} N/mm²` : "";
-  return `${m.material} Group ${pyStr(m.group)}${strength} units in ${m.mortar} mortar`;
+  const strength = m.unit_strength != null ? ` ${number(m.unit_strength)} N/mm²` : "";
+  const joint = m.collar_joint ? ", with a collar joint" : "";
+  return `${m.material} Group ${pyStr(m.group)}${strength} units in ${m.mortar} mortar${joint}`;
 }
 
 function materialReasons(design, designResult, asBuilt, result) {
@@ -380,8 +409,8 @@ function materialReasons(design, designResult, asBuilt, result) {
         "masonry-weaker",
         BLOCKS,
         `The masonry is weaker than designed: ${describe(am)} ` +
-          `(characteristic strength f_k ${formatFixed(afk, 2)} N/mm²) ` +
-          `against ${describe(dm)} (f_k ${formatFixed(dfk, 2)} N/mm²).`,
+          `(characteristic strength f_k ${number(afk)} N/mm²) ` +
+          `against ${describe(dm)} (f_k ${number(dfk)} N/mm²).`,
         { design_f_k: dfk, as_built_f_k: afk },
       ),
     );
@@ -391,7 +420,7 @@ function materialReasons(design, designResult, asBuilt, result) {
         "masonry-unverified",
         BLOCKS,
         `The masonry differs from the design (${describe(am)} against ${describe(dm)}), ` +
-          `whose characteristic strength f_k of ${formatFixed(dfk, 2)} N/mm² was declared: ` +
+          `whose characteristic strength f_k of ${number(dfk)} N/mm² was declared: ` +
           "the re-check keeps it, so confirm it holds.",
         { design_f_k: dfk },
       ),
@@ -415,7 +444,7 @@ function materialReasons(design, designResult, asBuilt, result) {
         "concrete-weaker",
         BLOCKS,
         "The padstone concrete is weaker than designed " +
-          `(f_cd ${formatFixed(ac, 1)} against ${formatFixed(dc, 1)} N/mm²).`,
+          `(f_cd ${number(ac)} against ${number(dc)} N/mm²).`,
         { design_f_cd: dc, as_built_f_cd: ac },
       ),
     );
@@ -433,8 +462,8 @@ function checklistReasons(c, s) {
       reason(
         "packing-thick",
         BLOCKS,
-        `Packing under the beam is ${formatG(c.packing)} mm thick; ` +
-          `more than ${formatG(s.max_packing)} mm needs the engineer.`,
+        `Packing under the beam is ${number(c.packing)} mm thick; ` +
+          `more than ${number(s.max_packing)} mm needs the engineer.`,
         { packing: c.packing, limit: s.max_packing },
       ),
     );

@@ -22,6 +22,9 @@ export const MEASUREMENT_FIELDS = [
   "padstone_width",
   "padstone_depth",
   "padstone_concrete",
+  "padstone_reinforced",
+  "padstone_position",
+  "padstone_offset_across",
   "wall_thickness",
   "a1",
   "a2",
@@ -29,16 +32,20 @@ export const MEASUREMENT_FIELDS = [
   "masonry_group",
   "unit_strength",
   "mortar",
+  "collar_joint",
 ];
 export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
 
 // Field → type, where not a float (serial.py's _KINDS, the names a record can hold).
 const KINDS = {
   padstone_concrete: "str",
+  padstone_position: "str",
   masonry_material: "str",
   mortar: "str",
   masonry_group: "int",
   padstone_present: "bool",
+  padstone_reinforced: "bool",
+  collar_joint: "bool",
   bedded: "bool",
   cracks: "bool",
   cut_units: "bool",

@@ -15,10 +15,10 @@ import {
   kValue,
 } from "./basis.js";
 import { InputError } from "./errors.js";
-import { formatFixed, formatG } from "./format.js";
+import { number } from "./format.js";
 import { pyMin } from "./formulas.js";
 import { makeStep, makeStrengths } from "./trace.js";
-import { concreteClassFck } from "./validate.js";
+import { concreteClassFck, wallTolerance } from "./validate.js";
 
 // EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
 // (columns) [M]; null where the table is blank. δ = 0.85 for 65 mm high, ~100 mm wide [S].
@@ -63,8 +63,8 @@ export function delta(unitHeight, unitWidth) {
     throw new InputError(
       "masonry.unit_width",
       unitWidth,
-      `a unit size inside EN 772-1 Table A.1 (a ${formatG(unitHeight)} mm high unit that is ` +
-        `${formatG(unitWidth)} mm wide falls in a blank cell); give the normalised strength f_b`,
+      `a unit size inside EN 772-1 Table A.1 (a ${number(unitHeight)} mm high unit that is ` +
+        `${number(unitWidth)} mm wide falls in a blank cell); give the normalised strength f_b`,
       "not-covered",
     );
   }
@@ -121,7 +121,9 @@ export function fCd(f_ck, alpha_cc, gamma_c) {
 }
 
 // f_k, γ_M, f_d and the padstone's f_cd, each as a step of the trace.
-export function masonryStrengths(mas, pad, basis) {
+// t, the wall's thickness, tells whether it has a longitudinal joint where the input
+// leaves that to be inferred.
+export function masonryStrengths(mas, pad, basis, t = null) {
   const steps = [];
   const ec6 = isEc6(basis);
   let fk;
@@ -140,7 +142,7 @@ export function masonryStrengths(mas, pad, basis) {
       ),
     );
   } else if (ec6) {
-    fk = fKFromUnitsEc6(mas, basis, steps);
+    fk = fKFromUnitsEc6(mas, basis, steps, t);
   } else {
     const designation = MORTAR_DESIGNATION[mas.mortar];
     fk = fKBs5628(Number(mas.unit_strength), designation);
@@ -167,7 +169,7 @@ export function masonryStrengths(mas, pad, basis) {
     steps.push(
       makeStep(
         "Partial factor for masonry, as given",
-        "γ_M",
+        ec6 ? "γ_M" : "γ_m",
         "declared",
         [],
         gm,
@@ -224,47 +226,105 @@ export function masonryStrengths(mas, pad, basis) {
   }
 
   const fd = fD(fk, gm);
-  steps.push(
-    makeStep(
-      "Design compressive strength of the masonry",
-      "f_d",
-      "f_k / γ_M",
-      [
-        ["f_k", fk, "N/mm²"],
-        ["γ_M", gm, ""],
-      ],
-      fd,
-      "N/mm²",
-      ec6 ? "EN 1996-1-1 2.4.1" : "BS 5628-1 clause 27",
-      "S",
-    ),
-  );
+  if (ec6) {
+    steps.push(
+      makeStep(
+        "Design compressive strength of the masonry",
+        "f_d",
+        "f_k / γ_M",
+        [
+          ["f_k", fk, "N/mm²"],
+          ["γ_M", gm, ""],
+        ],
+        fd,
+        "N/mm²",
+        "EN 1996-1-1 2.4.1",
+        "S",
+      ),
+    );
+  } else {
+    // BS 5628-1 has no f_d: its design strength is written f_k/γ_m throughout.
+    steps.push(
+      makeStep(
+        "Design strength of the masonry",
+        "f_k/γ_m",
+        "f_k / γ_m",
+        [
+          ["f_k", fk, "N/mm²"],
+          ["γ_m", gm, ""],
+        ],
+        fd,
+        "N/mm²",
+        "BS 5628-1:1992 clause 27",
+        "P",
+      ),
+    );
+  }
 
   let fcd = null;
   if (pad != null) {
     const fck = pad.f_ck != null ? Number(pad.f_ck) : concreteClassFck(pad.concrete);
-    fcd = fCd(fck, basis.alpha_cc, basis.gamma_c);
-    steps.push(
-      makeStep(
-        "Design compressive strength of the padstone concrete",
-        "f_cd",
-        "α_cc · f_ck / γ_c",
-        [
-          ["α_cc", basis.alpha_cc, ""],
-          ["f_ck", fck, "N/mm²"],
-          ["γ_c", basis.gamma_c, ""],
-        ],
-        fcd,
-        "N/mm²",
-        "EN 1992-1-1 3.1.6 eqn 3.15",
-        "S",
-      ),
-    );
+    if (pad.reinforced) {
+      fcd = fCd(fck, basis.alpha_cc, basis.gamma_c);
+      steps.push(
+        makeStep(
+          "Design compressive strength of the padstone concrete (reinforced)",
+          "f_cd",
+          "α_cc · f_ck / γ_c",
+          [
+            ["α_cc", basis.alpha_cc, ""],
+            ["f_ck", fck, "N/mm²"],
+            ["γ_c", basis.gamma_c, ""],
+          ],
+          fcd,
+          "N/mm²",
+          "EN 1992-1-1 3.1.6 eqn 3.15",
+          "S",
+        ),
+      );
+    } else {
+      // Plain concrete, as site padstones usually are: section 12 takes α_cc,pl.
+      fcd = fCd(fck, basis.alpha_cc_pl, basis.gamma_c);
+      steps.push(
+        makeStep(
+          "Design compressive strength of the padstone concrete (plain)",
+          "f_cd,pl",
+          "α_cc,pl · f_ck / γ_c",
+          [
+            ["α_cc,pl", basis.alpha_cc_pl, ""],
+            ["f_ck", fck, "N/mm²"],
+            ["γ_c", basis.gamma_c, ""],
+          ],
+          fcd,
+          "N/mm²",
+          "EN 1992-1-1 12.3.1 with eqn 3.15",
+          "M",
+        ),
+      );
+    }
   }
   return makeStrengths(fk, gm, fd, fcd, steps);
 }
 
-function fKFromUnitsEc6(mas, basis, steps) {
+// strength.py's collar_joint: [whether the wall has a mortar joint parallel to its face,
+// how that is known: "given", "inferred" (t ≥ 2 × unit width, give or take the wall's
+// tolerance) or "unknown" (no unit width: none assumed)].
+export function collarJoint(mas, t) {
+  if (mas.collar_joint != null) return [Boolean(mas.collar_joint), "given"];
+  if (t == null || mas.unit_width == null) return [false, "unknown"];
+  return [t + wallTolerance(t) >= 2 * mas.unit_width, "inferred"];
+}
+
+const JOINT_WORDS = {
+  "given|true": "× 0.8: the wall has a mortar joint parallel to its face (as given)",
+  "given|false": "1: no mortar joint parallel to the wall's face (as given)",
+  "inferred|true": "× 0.8: a wall at least two units wide (t ≥ 2 × unit width) has one",
+  "inferred|false": "1: a wall less than two units wide has no such joint",
+  "unknown|false":
+    "1: the unit's width is not given, so none is assumed; say if the wall has a collar joint",
+};
+
+function fKFromUnitsEc6(mas, basis, steps, t) {
   const fu = Number(mas.unit_strength);
   let fb;
   if (mas.unit_strength_is_normalised) {
@@ -321,14 +381,14 @@ function fKFromUnitsEc6(mas, basis, steps) {
     throw new InputError(
       "masonry.unit_strength",
       mas.unit_strength,
-      `a normalised strength f_b of at most ${formatG(basis.f_b_max)} N/mm² for EN 1996-1-1 ` +
-        `eqn 3.1 (this unit gives ${formatFixed(fb, 1)}); give f_k directly`,
+      `a normalised strength f_b of at most ${number(basis.f_b_max)} N/mm² for EN 1996-1-1 ` +
+        `eqn 3.1 (this unit gives ${number(fb)}); give f_k directly`,
       "not-covered",
     );
   }
   const thin = mas.mortar === "thin-layer";
   const kind = thin ? "thin-layer" : "general";
-  const K = kValue(basis, mas.material, mas.group, kind);
+  let K = kValue(basis, mas.material, mas.group, kind);
   if (K === null) {
     throw new InputError(
       "masonry.group",
@@ -350,6 +410,39 @@ function fKFromUnitsEc6(mas, basis, steps) {
       "M",
     ),
   );
+  const [joint, how] = collarJoint(mas, t);
+  const factor = joint ? basis.collar_joint_factor : 1.0;
+  steps.push(
+    makeStep(
+      "Longitudinal (collar) mortar joint",
+      "k_joint",
+      JOINT_WORDS[`${how}|${joint}`],
+      [
+        ["t", t, "mm"],
+        ["unit width", mas.unit_width ?? null, "mm"],
+        ["joint", how, ""],
+      ],
+      factor,
+      "",
+      "EN 1996-1-1 3.6.1.2(1)",
+      "M",
+    ),
+  );
+  if (joint) {
+    K *= factor;
+    steps.push(
+      makeStep(
+        "Constant for a wall with a longitudinal joint",
+        "K",
+        "k_joint · K",
+        [["k_joint", factor, ""]],
+        K,
+        "",
+        "EN 1996-1-1 3.6.1.2(1)",
+        "M",
+      ),
+    );
+  }
   if (thin) {
     const exponent = mas.material === "clay" && mas.group > 1 ? 0.7 : 0.85;
     const fk = fKThinLayer(K, fb, exponent);
@@ -357,7 +450,7 @@ function fKFromUnitsEc6(mas, basis, steps) {
       makeStep(
         "Characteristic compressive strength, thin-layer mortar",
         "f_k",
-        `K · f_b^${formatG(exponent)}`,
+        `K · f_b^${number(exponent)}`,
         [
           ["K", K, ""],
           ["f_b", fb, "N/mm²"],

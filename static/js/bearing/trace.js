@@ -88,6 +88,9 @@ export const SPREAD_FIELDS = [
   "masonry_spread_deg",
   "spread_depth",
   "spread_length",
+  "spread_x0",
+  "spread_x1",
+  "spread_reading",
 ];
 
 // Strengths.as_dict(); f_cd is null with no padstone.

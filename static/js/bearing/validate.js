@@ -8,7 +8,7 @@
 
 import { BS5628, MORTAR_DESIGNATION } from "./basis.js";
 import { InputError } from "./errors.js";
-import { formatG } from "./format.js";
+import { number } from "./format.js";
 import {
   ACROSS,
   CONDITIONING,
@@ -17,6 +17,7 @@ import {
   MEMBERS,
   MORTARS,
   ORIENTATIONS,
+  PADSTONE_POSITIONS,
   REACTION_POSITIONS,
 } from "./inputs.js";
 
@@ -157,6 +158,40 @@ export function* inputErrorsIter(inp, basis) {
         "bad-choice",
       );
     }
+    if (typeof pad.reinforced !== "boolean") {
+      yield new InputError(
+        "padstone.reinforced",
+        pad.reinforced,
+        "true (reinforced) or false (plain concrete)",
+        "not-a-choice",
+      );
+    }
+    const position = pad.position_across ?? null;
+    const offset = pad.offset_across ?? null;
+    if (position !== null && !PADSTONE_POSITIONS.includes(position)) {
+      yield choice("padstone.position_across", position, PADSTONE_POSITIONS);
+    } else if (position === "offset" && offset === null) {
+      yield new InputError(
+        "padstone.offset_across",
+        null,
+        "the padstone's centre from the wall's centre line, mm, for an offset position",
+        "missing",
+      );
+    } else if (offset !== null && position !== "offset") {
+      yield new InputError(
+        "padstone.offset_across",
+        offset,
+        "empty unless the padstone's position across the wall is offset",
+        "not-needed",
+      );
+    } else if (offset !== null && (!isNumber(offset) || Math.abs(offset) > 2000)) {
+      yield new InputError(
+        "padstone.offset_across",
+        offset,
+        "an offset within ±2000 mm",
+        "out-of-range",
+      );
+    }
   }
 
   if (![1, 2, 3].includes(inp.bearing_type)) {
@@ -167,8 +202,20 @@ export function* inputErrorsIter(inp, basis) {
       "bad-choice",
     );
   }
-  if (inp.e_mk != null && (!isNumber(inp.e_mk) || inp.e_mk < 0)) {
-    yield new InputError("e_mk", inp.e_mk, "an eccentricity of 0 mm or more", "out-of-range");
+  if (inp.e_mk != null) {
+    const t = wall.thickness;
+    const half = isNumber(t) && 0 < t && t < Infinity ? t / 2 : null;
+    if (!isNumber(inp.e_mk) || !(0 <= inp.e_mk && inp.e_mk < (half === null ? Infinity : half))) {
+      // At e_mk = t/2 the factor 1 − 2 e_mk/t is 0: the wall has no capacity left.
+      yield new InputError(
+        "e_mk",
+        inp.e_mk,
+        half === null
+          ? "a finite eccentricity of 0 mm or more"
+          : `0 mm or more and less than half the wall's thickness (${number(half)} mm)`,
+        "out-of-range",
+      );
+    }
   }
   for (const [name, value] of [
     ["phi_m", inp.phi_m],
@@ -210,8 +257,8 @@ function* geometryErrors(inp) {
       yield new InputError(
         "padstone.width",
         pad.width,
-        `no wider than the wall (${formatG(t)} mm, ` +
-          `give or take ${formatG(wallTolerance(t))} mm); ` +
+        `no wider than the wall (${number(t)} mm, ` +
+          `give or take ${number(wallTolerance(t))} mm); ` +
           "a padstone overhanging the wall is not covered",
         "wider-than-wall",
       );
@@ -222,7 +269,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.bearing_length",
         beam.bearing_length,
-        `no longer than the padstone it sits on (${formatG(spanRoom)} mm)`,
+        `no longer than the padstone it sits on (${number(spanRoom)} mm)`,
         "longer-than-padstone",
       );
       return;
@@ -233,7 +280,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.flange_width",
         beam.flange_width,
-        `no wider than the padstone under it (${formatG(pad.length)} mm)`,
+        `no wider than the padstone under it (${number(pad.length)} mm)`,
         "off-padstone",
       );
       return;
@@ -246,7 +293,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.flange_width",
         beam.flange_width,
-        `no wider than the wall (${formatG(t)} mm) for a beam in line with it and no padstone`,
+        `no wider than the wall (${number(t)} mm) for a beam in line with it and no padstone`,
         "wider-than-wall",
       );
       return;
@@ -255,7 +302,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.bearing_length",
         beam.bearing_length,
-        `no longer than the wall is thick (${formatG(t)} mm)`,
+        `no longer than the wall is thick (${number(t)} mm)`,
         "longer-than-wall",
       );
       return;
@@ -264,13 +311,24 @@ function* geometryErrors(inp) {
     supWid = t;
   }
 
+  if (pad !== null && pad.position_across === "offset" && isNumber(pad.offset_across)) {
+    const room = pyMax(0.0, (t - pyMin(pad.width, t)) / 2);
+    if (Math.abs(pad.offset_across) > room + tol) {
+      yield new InputError(
+        "padstone.offset_across",
+        pad.offset_across,
+        `within ±${number(room)} mm so the padstone stays on the wall`,
+        "off-wall",
+      );
+    }
+  }
   if (beam.offset_along != null && pad !== null) {
     const room = (supLen - footAlong) / 2;
     if (Math.abs(beam.offset_along) > room + tol) {
       yield new InputError(
         "beam.offset_along",
         beam.offset_along,
-        `within ±${formatG(room)} mm so the flange stays wholly on the padstone`,
+        `within ±${number(room)} mm so the flange stays wholly on the padstone`,
         "off-padstone",
       );
     }
@@ -282,7 +340,7 @@ function* geometryErrors(inp) {
       yield new InputError(
         "beam.offset_across",
         beam.offset_across,
-        `within ±${formatG(room)} mm so the flange stays wholly on the ${what}`,
+        `within ±${number(room)} mm so the flange stays wholly on the ${what}`,
         pad !== null ? "off-padstone" : "off-wall",
       );
     }
@@ -295,7 +353,7 @@ function* masonryErrors(inp, basis) {
     yield choice("masonry.material", mas.material, MATERIALS);
   }
   if (![1, 2, 3, 4].includes(mas.group)) {
-    yield new InputError("masonry.group", mas.group, "unit Group 1, 2, 3 or 4", "bad-choice");
+    yield new InputError("masonry.group", mas.group, "a whole number 1 to 4", "bad-choice");
   }
   if (!MORTARS.includes(mas.mortar)) yield choice("masonry.mortar", mas.mortar, MORTARS);
   if (!CONDITIONING.includes(mas.conditioning)) {
@@ -322,6 +380,14 @@ function* masonryErrors(inp, basis) {
     ["masonry.construction_control", mas.construction_control],
   ]) {
     if (!CONTROL_LEVELS.includes(value)) yield choice(name, value, CONTROL_LEVELS);
+  }
+  if (mas.collar_joint != null && typeof mas.collar_joint !== "boolean") {
+    yield new InputError(
+      "masonry.collar_joint",
+      mas.collar_joint,
+      "true (a mortar joint parallel to the wall's face), false, or empty to infer it",
+      "not-a-choice",
+    );
   }
   const gM = mas.gamma_M;
   if (gM != null && (!isNumber(gM) || !(1.0 <= gM && gM <= 5.0))) {
@@ -362,7 +428,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.mortar",
         mas.mortar,
-        "M2, M4, M6 or M12 for BS 5628-1 Table 2(a); give f_k for thin-layer mortar",
+        "M2, M4, M6 or M12 for BS 5628-1:1992 Table 2(a); give f_k for thin-layer mortar",
         "not-covered",
       );
     }
@@ -370,7 +436,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.unit_strength_is_normalised",
         true,
-        "the unit's mean strength for BS 5628-1 Table 2(a), not a normalised one",
+        "the unit's mean strength for BS 5628-1:1992 Table 2(a), not a normalised one",
         "not-covered",
       );
     }
@@ -378,7 +444,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.unit_height",
         mas.unit_height,
-        "a brick (at most 112.5 mm high) for BS 5628-1 Table 2(a); for blocks give f_k",
+        "a brick (at most 112.5 mm high) for BS 5628-1:1992 Table 2(a); for blocks give f_k",
         "not-covered",
       );
     }
@@ -386,7 +452,7 @@ function* masonryErrors(inp, basis) {
       yield new InputError(
         "masonry.unit_strength",
         mas.unit_strength,
-        "5 to 100 N/mm², the range of BS 5628-1 Table 2(a)",
+        "5 to 100 N/mm², the range of BS 5628-1:1992 Table 2(a)",
         "not-covered",
       );
     }
@@ -465,7 +531,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       null,
-      `a length of ${formatG(least)} to ${formatG(greatest)} mm`,
+      `a length of ${number(least)} to ${number(greatest)} mm`,
       "missing",
     );
   }
@@ -473,7 +539,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `a length in mm, ${formatG(least)} to ${formatG(greatest)}`,
+      `a length in mm, ${number(least)} to ${number(greatest)}`,
       "not-a-number",
     );
   }
@@ -481,7 +547,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `a positive length, ${formatG(least)} to ${formatG(greatest)} mm`,
+      `a positive length, ${number(least)} to ${number(greatest)} mm`,
       "not-positive",
     );
   }
@@ -489,9 +555,9 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `millimetres (${formatG(least)} to ${formatG(greatest)} mm); ` +
-        `${formatG(value)} looks like metres: ` +
-        `did you mean ${formatG(value * 1000)} mm?`,
+      `millimetres (${number(least)} to ${number(greatest)} mm); ` +
+        `${number(value)} looks like metres: ` +
+        `did you mean ${number(value * 1000)} mm?`,
       "looks-like-metres",
     );
   }
@@ -499,7 +565,7 @@ function lengthProblem(name, value, bounds = null) {
     return new InputError(
       name,
       value,
-      `${formatG(least)} to ${formatG(greatest)} mm`,
+      `${number(least)} to ${number(greatest)} mm`,
       "out-of-range",
     );
   }
@@ -513,4 +579,9 @@ function choice(name, value, choices) {
 // Python's min(a, b) for numbers: the first unless the second is strictly less.
 function pyMin(a, b) {
   return b < a ? b : a;
+}
+
+// Python's max(a, b) for numbers: the first unless the second is strictly greater.
+function pyMax(a, b) {
+  return b > a ? b : a;
 }
