@@ -828,7 +828,7 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
     reinforced = GOOD | {"reference": "R-1", "padstone_reinforced": "reinforced"}
     r = post(c, f"/sites/{site['id']}/bearings/new", reinforced)
     assert r.status_code == 302, all_error_fields(r.data)
-    stored_r = store.bearing_by_reference(db, site_id=site["id"], reference="R-1")
+    stored_r = store.bearing_by_reference(db, site_id=site["id"], reference="R-1", with_result=True)
     # Reinforced: f_cd = α_cc f_ck / γ_c, EN 1992-1-1 eqn 3.15, with α_cc = 1.0.
     assert stored_r["design_result"]["strengths"]["f_cd"] == pytest.approx(1.0 * 25 / 1.5)
     assert stored_r["design_input"]["padstone"]["reinforced"] is True
@@ -1011,7 +1011,7 @@ def test_the_height_is_asked_to_the_padstones_underside_with_a_drawing_and_said_
     assert 'style="' not in hint  # the CSP allows presentation attributes only
     r = post(c, f"/sites/{site['id']}/bearings/new", GOOD | {"reference": "H-1"})
     assert r.status_code == 302, all_error_fields(r.data)
-    stored = store.bearing_by_reference(db, site_id=site["id"], reference="H-1")
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="H-1", with_result=True)
     assert stored["design_result"]["notes"][0] == (
         "h_c = 2,475 mm, from the wall's base to the padstone's underside (not to where the "
         "beam sits on the padstone)."
