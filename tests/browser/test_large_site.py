@@ -45,7 +45,14 @@ def large(live_server):
     inspector, beside the demo sites on the same server."""
     db = store.open_db(live_server.db_path)
     try:
-        engineer = db.execute("SELECT created_by FROM sites LIMIT 1").fetchone()[0]
+        # People of its own, so the demo's people see nothing of it.
+        engineer = store.create_user(
+            db,
+            email="large.engineer@invented-large-site.example",
+            name="Mira Engineer",
+            password_hash=auth.hash_password(PASSWORD),
+            may_make_sites=True,
+        )["id"]
         inspector = store.create_user(
             db, email=EMAIL, name="Lars Inspector", password_hash=auth.hash_password(PASSWORD)
         )
