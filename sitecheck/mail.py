@@ -141,14 +141,20 @@ def _tls_context(settings: MailSettings) -> ssl.SSLContext:
     return ssl.create_default_context(cafile=settings.ca_file)
 
 
-def deliver(settings: MailSettings, *, to_addr: str, subject: str, body: str) -> None:
-    """Hand one message to the mail server, or raise MailError saying why not."""
+def deliver(
+    settings: MailSettings, *, to_addr: str, subject: str, body: str, html: str | None = None
+) -> None:
+    """Hand one message to the mail server, or raise MailError saying why not. With
+    ``html`` the message has both parts, plain text first (mail readers show the last
+    part they can)."""
     message = EmailMessage()
     message["From"] = settings.sender
     message["To"] = to_addr
     message["Subject"] = subject
     message["Message-ID"] = make_msgid(domain=settings.sender.rsplit("@", 1)[-1])
     message.set_content(body)
+    if html:
+        message.add_alternative(html, subtype="html")
     try:
         if settings.port == 465:
             smtp = smtplib.SMTP_SSL(
@@ -192,6 +198,7 @@ def send_due(db_path: str, settings: MailSettings, *, now: datetime | None = Non
                     to_addr=message["to_addr"],
                     subject=message["subject"],
                     body=message["body"],
+                    html=message["html"],
                 )
             except MailError as error:
                 tries = message["attempts"] + 1
@@ -213,6 +220,17 @@ def send_due(db_path: str, settings: MailSettings, *, now: datetime | None = Non
     finally:
         db.conn.close()
     return sent
+
+
+def make_notices(db_path: str, settings: MailSettings, *, now: datetime | None = None) -> int:
+    """Queue the notice messages that are due (sitecheck.notices); returns how many."""
+    from sitecheck.notices import make_messages
+
+    db = store.open_db(db_path)
+    try:
+        return make_messages(db, settings.base_url, now=now)
+    finally:
+        db.conn.close()
 
 
 class MailSender:
@@ -254,6 +272,7 @@ class MailSender:
                 self._wake.clear()
                 try:
                     if self._holds_lease():
+                        make_notices(self.db_path, self.settings)
                         send_due(self.db_path, self.settings)
                         wait = self._seconds_to_next()
                     else:
@@ -286,10 +305,11 @@ class MailSender:
     def _seconds_to_next(self) -> float:
         db = store.open_db(self.db_path)
         try:
-            due = store.next_mail_due_at(db)
+            due = [at for at in (store.next_mail_due_at(db), store.next_notice_due_at(db)) if at]
         finally:
             db.conn.close()
-        if due is None:
+        if not due:
             return IDLE_LOOK_S
+        due = min(due)
         seconds = (datetime.fromisoformat(due) - store.utc_now()).total_seconds()
         return min(IDLE_LOOK_S, max(0.5, seconds))

@@ -23,6 +23,7 @@ from sitecheck.bearing import (
     check_bearing,
     ec6_uk_na,
 )
+from sitecheck.bearing.format import utilisation as format_utilisation
 from sitecheck.bearing.remedy import Remedy, remedy
 from sitecheck.bearing.review import (
     BLOCKS,
@@ -356,11 +357,69 @@ def _utilisations_agree(phone: object, server: float | None) -> bool:
     return abs(phone - server) <= _UTILISATION_AGREES * max(1.0, abs(server))
 
 
-def decide(db, *, site: dict, bearing: dict, kind: str, reason: str, engineer_id: int) -> dict:
+def failing_as_built(record: dict | None) -> dict | None:
+    """What fails in an as-built record, as its stored result says (the governing check's
+    code and title, and the utilisation), or None when it passes. Read, not worked out."""
+    if record is None or record["passed"]:
+        return None
+    result = record["result"] or {}
+    code = result.get("governing")
+    title = next((c["title"] for c in result.get("checks", []) if c.get("code") == code), code)
+    return {"check": code, "title": title, "utilisation": record["utilisation"]}
+
+
+class AcceptFailingRefused(workflow.WorkflowError):
+    """An acceptance of a bearing that fails as built, without its confirmation or without
+    a full sentence of reason; ``field`` says which."""
+
+    def __init__(self, message: str, field: str):
+        super().__init__(message)
+        self.field = field
+
+
+def decide(
+    db,
+    *,
+    site: dict,
+    bearing: dict,
+    kind: str,
+    reason: str,
+    engineer_id: int,
+    engineer_name: str | None = None,
+    confirmed_failing: bool = False,
+) -> dict:
+    """Keep the engineer's decision on the record they saw (``bearing``'s latest record).
+
+    Accepting a record that fails as built needs ``confirmed_failing`` (the engineer ticked
+    the confirmation naming the governing check and utilisation) and a reason that is a
+    full sentence (workflow.full_sentence_problem); what failed is kept with the decision.
+    """
     if not workflow.can_decide(bearing["state"]):
         raise workflow.WorkflowError(
             f"Bearing {bearing['reference']} is '{bearing['state']}': there is nothing to decide."
         )
+    failing = None
+    now = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
+    # A bearing that moved since the engineer looked is refused by the store as stale,
+    # whatever the decision; only an up-to-date acceptance is checked for failing.
+    up_to_date = now is not None and (now["state"], now["latest_record_uuid"]) == (
+        bearing["state"],
+        bearing["latest_record_uuid"],
+    )
+    if kind == "accept" and up_to_date:
+        seen = store.get_record(db, site_id=site["id"], uuid=bearing["latest_record_uuid"])
+        failing = failing_as_built(seen)
+    if failing is not None:
+        if not confirmed_failing:
+            raise AcceptFailingRefused(
+                f"Bearing {bearing['reference']} fails as built ({failing['title']}, "
+                f"utilisation {format_utilisation(failing['utilisation'])}): tick the "
+                "confirmation that you accept it although it fails.",
+                "confirm_failing",
+            )
+        problem = workflow.full_sentence_problem(reason)
+        if problem:
+            raise AcceptFailingRefused(problem, "reason")
     return store.record_decision(
         db,
         site_id=site["id"],
@@ -371,6 +430,8 @@ def decide(db, *, site: dict, bearing: dict, kind: str, reason: str, engineer_id
         reason=reason,
         expected_state=bearing["state"],
         new_state=workflow.state_after_decision(kind),
+        engineer_name=engineer_name,
+        accepted_failing=failing,
     )
 
 

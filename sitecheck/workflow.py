@@ -37,6 +37,7 @@ Permissions (``allowed(role, action)``)::
     reopen             yes       no         no        no
     invite             yes       no         no        no
     release            no        no         yes       no
+    sign-off           yes       no         no        no
 
 Engineers may record (they often measure on a site visit) but may not release: the release
 for closing up is the contractor's signed act, and keeping it apart from the engineer's
@@ -63,6 +64,12 @@ VIEWER = "viewer"
 ROLES = (ENGINEER, INSPECTOR, CONTRACTOR, VIEWER)
 
 DECISION_KINDS = ("accept", "remedial", "measure-again")
+# Each decision as the screens, the notices and the site record name it.
+DECISION_LABELS = {
+    "accept": "Accept as built",
+    "remedial": "Remedial work",
+    "measure-again": "Measure again",
+}
 
 ACTIONS = (
     "view",
@@ -74,6 +81,7 @@ ACTIONS = (
     "reopen",
     "invite",
     "export",
+    "sign-off",
 )
 
 PERMISSIONS: dict[str, frozenset[str]] = {
@@ -86,6 +94,23 @@ PERMISSIONS: dict[str, frozenset[str]] = {
     "reopen": frozenset({ENGINEER}),
     "invite": frozenset({ENGINEER}),
     "release": frozenset({CONTRACTOR}),
+    "sign-off": frozenset({ENGINEER}),
+}
+
+# What each action is, in words, for "you may not ..." and the audit trail.
+ACTION_WORDS = {
+    "make-sites": "make sites",
+    "give-make-sites": "say who may make sites",
+    "view": "see this site",
+    "export": "export this site's record",
+    "record": "record as-built values",
+    "edit-site": "change the site's settings",
+    "edit-schedule": "change the bearing schedule",
+    "decide": "decide on bearings",
+    "reopen": "reopen a released bearing",
+    "invite": "invite people to the site",
+    "release": "release bearings for closing up",
+    "sign-off": "sign off the site record",
 }
 
 RELEASABLE_STATES = (WITHIN_DESIGN, ACCEPTED)
@@ -172,12 +197,19 @@ def can_release(state: str) -> bool:
     return _check_state(state) in RELEASABLE_STATES
 
 
-def release_refusal(state: str, *, reference: str | None = None) -> str | None:
-    """Why a bearing in ``state`` may not be released, as one sentence; None if it may."""
+def release_refusal(
+    state: str, *, reference: str | None = None, measure_again: bool = False
+) -> str | None:
+    """Why a bearing in ``state`` may not be released, as one sentence; None if it may.
+    ``measure_again``: it awaits survey because the engineer asked for it to be measured
+    again (it has records, so "no record yet" would be wrong)."""
     if can_release(state):
         return None
     subject = f"Bearing {reference}" if reference else "This bearing"
-    return f"{subject} is '{state}': {_NOT_RELEASABLE_BECAUSE[state]}"
+    because = _NOT_RELEASABLE_BECAUSE[state]
+    if measure_again and state == AWAITING_SURVEY:
+        because = "the engineer asked for it to be measured again."
+    return f"{subject} is '{state}': {because}"
 
 
 def reopen(*, state: str, role: str | None, reason: str) -> str:
@@ -218,6 +250,106 @@ def state_after_revision(current_state: str, has_records: bool) -> str:
     if current_state == AWAITING_SURVEY or not has_records:
         return AWAITING_SURVEY
     return ENGINEER_TO_DECIDE
+
+
+# --- accepting a bearing that fails as built ------------------------------------------------------
+
+# The reason for accepting a bearing that fails as built must be a full sentence: at least
+# this many words, ending with a full stop. The screen says so beside the box.
+SENTENCE_MIN_WORDS = 8
+FULL_SENTENCE_WORDS = (
+    f"a full sentence: at least {SENTENCE_MIN_WORDS} words, ending with a full stop"
+)
+
+
+def full_sentence_problem(text: str | None) -> str | None:
+    """Why ``text`` is not a full sentence in the sense above, or None if it is."""
+    text = (text or "").strip()
+    words = len(text.split())
+    if words < SENTENCE_MIN_WORDS:
+        return (
+            f"Write the reason as {FULL_SENTENCE_WORDS} (you wrote {words} "
+            f"word{'' if words == 1 else 's'}): accepting a bearing that fails as built "
+            "must say why it is safe."
+        )
+    if not text.endswith("."):
+        return f"End the reason with a full stop: it must be {FULL_SENTENCE_WORDS}."
+    return None
+
+
+# --- what comes first, and whose turn it is ------------------------------------------------------
+
+# How serious a bearing waiting for the engineer is, most serious first: its latest record
+# fails a check as built; or it passes but a blocking review reason stops the release; or
+# only advisory reasons remain (e.g. reopened after release).
+FAILING, BLOCKING, ADVISORY_ONLY = 0, 1, 2
+TIER_WORDS = {
+    FAILING: "fails as built",
+    BLOCKING: "blocking reasons",
+    ADVISORY_ONLY: "no blocking reason",
+}
+_FAILING_CHECK = "check-fails"
+
+
+def _blocks(reason: dict) -> bool:
+    return reason.get("severity") == "blocks"
+
+
+def reason_rank(reason: dict) -> tuple[int, float]:
+    """Failing checks first (the highest utilisation first), then the other blocking
+    reasons, then advisory ones; equal ranks keep the order the review found them in."""
+    if reason.get("code") == _FAILING_CHECK:
+        utilisation = (reason.get("values") or {}).get("utilisation")
+        if not isinstance(utilisation, (int, float)) or isinstance(utilisation, bool):
+            utilisation = float("inf")  # no capacity at all: the worst there is
+        return (0, -float(utilisation))
+    return (1, 0.0) if _blocks(reason) else (2, 0.0)
+
+
+def ordered_reasons(reasons: list[dict] | None) -> list[dict]:
+    return sorted(reasons or [], key=reason_rank)
+
+
+def queue_tier(passed: bool | None, reasons: list[dict] | None) -> int:
+    """FAILING, BLOCKING or ADVISORY_ONLY for a bearing waiting for the engineer."""
+    if passed is False or any(r.get("code") == _FAILING_CHECK for r in reasons or []):
+        return FAILING
+    if passed is None or any(_blocks(r) for r in reasons or []):
+        return BLOCKING
+    return ADVISORY_ONLY
+
+
+# Whose move it is in each state, in words for the release list and the site page.
+WHO_ACTS = {
+    AWAITING_SURVEY: ("inspector", "The inspector measures it as built."),
+    WITHIN_DESIGN: ("contractor", "The contractor may release it for closing up."),
+    ENGINEER_TO_DECIDE: ("engineer", "The engineer decides on it."),
+    ACCEPTED: ("contractor", "The contractor may release it for closing up."),
+    REMEDIAL: (
+        "contractor",
+        "The contractor does the remedial work; then the inspector measures it again.",
+    ),
+    RELEASED: ("nobody", "Nobody: it is released and locked."),
+}
+
+
+# The decision whose words stand for a bearing in each state: what the engineer asked for
+# and is still to be done, or why it may be closed up.
+_WORDS_STAND = {REMEDIAL: "remedial", AWAITING_SURVEY: "measure-again", ACCEPTED: "accept"}
+
+
+def standing_decision(state: str, decision: dict | None) -> dict | None:
+    """The bearing's latest decision if its words still stand in ``state`` (remedial work
+    not yet measured, a measure-again request not yet answered, an acceptance not yet
+    released); None otherwise."""
+    if decision is None or _WORDS_STAND.get(_check_state(state)) != decision.get("kind"):
+        return None
+    return decision
+
+
+def who_acts(state: str) -> tuple[str, str]:
+    """(role, sentence): who must act next on a bearing in ``state``."""
+    return WHO_ACTS[_check_state(state)]
 
 
 def allowed(role: str | None, action: str) -> bool:

@@ -32,6 +32,7 @@ ROUTES = {
     "auth.join": "public",
     "sites.answer_invitation": "invitee",
     "review.queue": "login",
+    "notices.settings": "login",
     "review.queue_json": "login",
     "sites.new": "make-sites",
     "sites.site_makers": "make-sites",
@@ -82,6 +83,7 @@ ROUTES = {
     "record.pdf_progress": "export",
     "record.pdf_progress_json": "export",
     "record.made_pdf": "export",
+    "record.sign_off": "sign-off",
     "static": "public",
     "sync.service_worker": "public",
     "sync.offline": "public",
@@ -105,6 +107,7 @@ MAY = {
         "decide",
         "reopen",
         "invite",
+        "sign-off",
     },
     "inspector": {"view", "export", "record"},
     "contractor": {"view", "export", "release"},
@@ -236,10 +239,10 @@ def test_access_matrix(app, client_as, world, role):
 
 def _table_fingerprint(db) -> str:
     """Everything but the tables that record the asking itself (events of refusals,
-    session touches, log-in attempts)."""
+    session touches, log-in attempts, when each person last looked at a site)."""
     digest = hashlib.sha256()
     for (name,) in db.execute(
-        "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT IN ('events', 'sessions', 'login_attempts') ORDER BY name"
+        "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT IN ('events', 'sessions', 'login_attempts', 'site_visits') ORDER BY name"
     ):
         for row in db.execute(f"SELECT * FROM [{name}] ORDER BY 1"):
             digest.update(repr(row).encode())

@@ -459,7 +459,7 @@ def test_the_pdf_parses_back_with_each_bearings_reference_utilisation_decision_a
     for b in recorded.values():
         latest = store.get_record(db, site_id=site["id"], uuid=b["latest_record_uuid"])
         assert f"{latest['utilisation']:.2f}" in text
-    assert "Decision: accept as built" in text
+    assert "Decision: Accept as built" in text
     assert "Shorter padstone checked as built; accept." in text
     assert "Cora Contractor for Invented Build Ltd" in text
     assert "Released for closing up" in text

@@ -199,7 +199,10 @@ def test_first_open_applies_every_migration_in_order(db):
         "m009_record_jobs",
         "m010_could_not_measure",
         "m011_leases",
-        "m012_results_stored_once",
+        "m012_notices",
+        "m013_decision_signatures",
+        "m014_sign_offs",
+        "m015_results_stored_once",
     ]
     assert store.MIGRATIONS.pending(db) == []
 

@@ -33,18 +33,23 @@ def history_url(site: dict, json: bool = False) -> str:
     return f"/sites/{site['id']}/history" + (".json" if json else "")
 
 
-def release_form(client, *bearing_ids, name="Cora Contractor", statement=STATEMENT) -> dict:
+def release_form(
+    client, *bearing_ids, name="Cora Contractor", statement=STATEMENT, confirmed="yes"
+) -> dict:
+    """The release as sent from its confirmation step (``confirmed=""``: the first sending
+    of the filled-in form, which only shows that step)."""
     return {
         "csrf_token": csrf_token(client),
         "bearings": list(bearing_ids),
         "contractor_name": name,
         "statement": statement,
+        "confirmed": confirmed,
     }
 
 
 def accepted(db, site, people, reference="GF-B1-W") -> dict:
     """A bearing the engineer accepted as built after a short bearing length."""
-    record(db, site, reference, people["inspector"], bearing_length=100.0)
+    record(db, site, reference, people["inspector"], bearing_length=120.0)
     services.decide(
         db,
         site=site,
@@ -428,3 +433,106 @@ def test_the_json_pages_carry_what_the_html_pages_show(db, people, site, client_
             assert f'data-bearing="{b["id"]}"' in html or f'value="{b["id"]}"' in html
             assert b["reference"] in html
     assert "caution" in data and "form" not in data
+
+
+# --- the next step on the release list --------------------------------------------------------------
+
+
+def test_the_confirmation_appears_only_once_the_release_form_is_complete(
+    db, people, site, client_as
+):
+    b = accepted(db, site, people)
+    contractor = client_as("contractor")
+    # Incomplete: the errors, and no confirmation step.
+    r = contractor.post(
+        release_url(site), data=release_form(contractor, b["id"], name="", confirmed="")
+    )
+    assert r.status_code == 400
+    assert "Write your name" in r.data.decode() and "data-confirm-release" not in r.data.decode()
+    # Complete: what will be signed, to confirm; nothing released yet.
+    r = contractor.post(release_url(site), data=release_form(contractor, b["id"], confirmed=""))
+    assert r.status_code == 200
+    html = r.data.decode()
+    step = html.split("data-confirm-release")[1].split("</section>")[0]
+    assert "GF-B1-W" in step and "Cora Contractor" in step and STATEMENT in step
+    assert 'name="confirmed" value="yes"' in step
+    assert state_of(db, site, "GF-B1-W") == "accepted"
+    assert store.releases_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+    data = contractor.post(
+        release_url(site, json=True), data=release_form(contractor, b["id"], confirmed="")
+    ).get_json()
+    assert data["confirm"]["bearings"] == [{"id": b["id"], "reference": "GF-B1-W"}]
+    # Signed from the confirmation step: released.
+    r = contractor.post(release_url(site), data=release_form(contractor, b["id"]))
+    assert r.status_code == 200 and state_of(db, site, "GF-B1-W") == "released"
+    # The page script's own "are you sure" is gone: the step above replaces it.
+    assert "data-confirm=" not in contractor.get(release_url(site)).data.decode()
+
+
+def test_a_bearing_not_yet_releasable_says_why_who_must_act_and_the_engineers_words(
+    db, people, site, client_as
+):
+    eng = people["engineer"].id
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=120.0)
+    remedial_words = "Take out the 60 mm packing and bed a 440 x 215 x 140 padstone in M6."
+    services.decide(
+        db,
+        site=site,
+        bearing=bearing_named(db, site, "GF-B1-W"),
+        kind="remedial",
+        reason=remedial_words,
+        engineer_id=eng,
+        engineer_name="Esme Engineer",
+    )
+    record(db, site, "GF-B2-N", people["inspector"], bearing_length=120.0)
+    again_words = "The wall looks like 100 mm block, not 215 mm: measure it at the bearing."
+    services.decide(
+        db,
+        site=site,
+        bearing=bearing_named(db, site, "GF-B2-N"),
+        kind="measure-again",
+        reason=again_words,
+        engineer_id=eng,
+    )
+    record(db, site, "FF-B5", people["inspector"])  # waits for the engineer
+    accept_words = "Load test on site passed; the bearing is adequate as it stands."
+    record(db, site, "GF-B1-E", people["inspector"], bearing_length=120.0)
+    services.decide(
+        db,
+        site=site,
+        bearing=bearing_named(db, site, "GF-B1-E"),
+        kind="accept",
+        reason=accept_words,
+        engineer_id=eng,
+        engineer_name="Esme Engineer",
+    )
+    data = client_as("contractor").get(release_url(site, json=True)).get_json()
+    waiting = {w["reference"]: w for w in data["waiting"]}
+    assert waiting["GF-B1-W"]["who_acts"] == "contractor"
+    assert waiting["GF-B1-W"]["next_step"] == (
+        "The contractor does the remedial work; then the inspector measures it again."
+    )
+    assert waiting["GF-B1-W"]["engineer_words"]["text"] == remedial_words
+    assert waiting["GF-B1-W"]["engineer_words"]["title"] == "Remedial work"
+    assert waiting["GF-B1-W"]["engineer_words"]["by"] == "Esme Engineer"
+    assert waiting["GF-B2-N"]["who_acts"] == "inspector"
+    assert waiting["GF-B2-N"]["reason"] == (
+        "Bearing GF-B2-N is 'awaiting survey': the engineer asked for it to be measured again."
+    )
+    assert waiting["GF-B2-N"]["engineer_words"]["text"] == again_words
+    # Signed by the account's name where the decision kept none.
+    assert waiting["GF-B2-N"]["engineer_words"]["by"] == "Esme Engineer"
+    assert waiting["FF-B5"]["who_acts"] == "engineer"
+    assert waiting["FF-B5"]["next_step"] == "The engineer decides on it."
+    assert waiting["FF-B5"]["engineer_words"] is None
+    never = [
+        w
+        for w in data["waiting"]
+        if w["state"] == "awaiting survey" and w["reference"] != "GF-B2-N"
+    ]
+    assert never and all(w["engineer_words"] is None for w in never)
+    (ready,) = data["ready"]
+    assert ready["engineer_words"]["text"] == accept_words
+    html = client_as("contractor").get(release_url(site)).data.decode()
+    assert remedial_words in html and again_words in html and accept_words in html
+    assert "then the inspector measures it again" in html

@@ -326,7 +326,7 @@ def test_photos_of_the_latest_record_are_listed(app, db, people, site, client_as
     [("accept", "accepted"), ("remedial", "remedial"), ("measure-again", "awaiting survey")],
 )
 def test_a_decision_moves_the_state_and_writes_its_event(db, people, site, client_as, kind, state):
-    record_uuid = record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    record_uuid = record(db, site, "GF-B1-W", people["inspector"], bearing_length=120.0)
     b = bearing_named(db, site, "GF-B1-W")
     client = client_as("engineer")
     form = decide_form(client, site, b, kind=kind, reason="Looked at the photos and the trace.")
@@ -334,7 +334,8 @@ def test_a_decision_moves_the_state_and_writes_its_event(db, people, site, clien
 
     r = client.post(decision_url(site, b), data=form)
     assert r.status_code == 302
-    assert r.headers["Location"].endswith(review_url(site, b))
+    # Nothing else waits for this engineer: back to the (empty) queue, saying so.
+    assert r.headers["Location"] == "/review"
     assert state_of(db, site, "GF-B1-W") == state
 
     decisions = store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])
@@ -346,8 +347,10 @@ def test_a_decision_moves_the_state_and_writes_its_event(db, people, site, clien
     assert event["detail"]["before"]["state"] == "engineer to decide"
     assert event["detail"]["after"]["state"] == state
 
+    queue = client.get("/review").data.decode()
+    assert f"Bearing GF-B1-W is now &#39;{state}&#39;." in queue
+    assert "Nothing else waits for your decision now." in queue
     page = client.get(review_url(site, b)).data.decode()
-    assert f"Bearing GF-B1-W is now &#39;{state}&#39;." in page
     assert "Looked at the photos and the trace." in page
     history = client.get(review_url(site, b, json=True)).get_json()["history"]
     assert [(h["what"], h["who"]) for h in history] == [("decision", "Esme Engineer")]
@@ -402,7 +405,7 @@ def test_a_decision_on_a_record_that_is_no_longer_the_latest_is_refused(
 
 
 def test_a_decision_after_the_state_moved_is_refused(db, people, site, client_as):
-    record(db, site, "GF-B1-W", people["inspector"], bearing_length=100.0)
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=120.0)
     b = bearing_named(db, site, "GF-B1-W")
     client = client_as("engineer")
     form = decide_form(client, site, b, kind="remedial", reason="Needs a longer bearing.")
@@ -494,3 +497,198 @@ def test_a_failing_as_built_shows_what_would_pass_and_a_passing_one_does_not(
     fine = bearing_named(db, site, "GF-B1-E")
     html = client_as("engineer").get(review_url(site, fine)).data.decode()
     assert "data-remedy-hint" not in html
+
+
+# --- the queue in order of severity, its filters, and the next to decide ---------------------------
+
+
+def fails_unmeasured(db, site, reference, inspector):
+    """No padstone found, and the end distance not measured: fails as built, with a
+    'not measured' reason the review lists before the failing check."""
+    b = bearing_named(db, site, reference)
+    unmeasured = {k: None for k in as_designed(b) if k.startswith("padstone_") or k == "a1"}
+    return record(db, site, reference, inspector, **unmeasured | {"padstone_present": False})
+
+
+def test_queue_puts_failing_first_then_blocking_then_the_rest_and_the_failing_check_first(
+    db, people, site, client_as
+):
+    ins = people["inspector"]
+    record(db, site, "GF-B1-W", ins, bearing_length=120.0)  # passes, blocking reasons
+    fails_unmeasured(db, site, "GF-B1-E", ins)  # fails as built
+    record(db, site, "FF-B5", ins)  # fails, at a higher utilisation
+    record(db, site, "GF-B2-N", ins)  # within design; released, then reopened
+    services.release(
+        db,
+        site=site,
+        bearing=bearing_named(db, site, "GF-B2-N"),
+        contractor_id=people["contractor"].id,
+        contractor_name="Cora Contractor",
+        statement="Closed up.",
+    )
+    services.reopen(
+        db,
+        site=site,
+        bearing=bearing_named(db, site, "GF-B2-N"),
+        role="engineer",
+        reason="The plasterer saw a crack.",
+        engineer_id=people["engineer"].id,
+    )
+    data = client_as("engineer").get("/review.json").get_json()
+    assert [(i["reference"], i["tier_words"]) for i in data["items"]] == [
+        ("FF-B5", "fails as built"),
+        ("GF-B1-E", "fails as built"),
+        ("GF-B1-W", "blocking reasons"),
+        ("GF-B2-N", "no blocking reason"),
+    ]
+    e = data["items"][1]
+    stored = [
+        r["code"]
+        for r in store.get_record(
+            db, site_id=site["id"], uuid=bearing_named(db, site, "GF-B1-E")["latest_record_uuid"]
+        )["reasons"]
+    ]
+    assert stored[0] == "not-measured"  # the review found it first ...
+    codes = [r["code"] for r in e["reasons"]]
+    assert codes[0] == "check-fails" and codes.index("not-measured") > codes.index("check-fails")
+    assert (
+        "fails as built (utilisation" in e["first_reason"]
+    )  # ... the queue leads with the failure
+    assert sorted(codes) == sorted(stored)  # and hides none of them
+    page = client_as("engineer").get("/review").data.decode()
+    card = page.split(f'data-bearing="{e["bearing_id"]}"')[1].split("</li>\n  \n")[0]
+    assert "more reasons" in card and "Not measured" in card
+
+
+def test_queue_filters_by_site_and_reason(db, people, site, client_as):
+    ins = people["inspector"]
+    fails_unmeasured(db, site, "GF-B1-E", ins)
+    record(db, site, "GF-B1-W", ins, bearing_length=120.0)
+    engineer = client_as("engineer")
+    other = new_site(db, name="Invented Wharf", created_by=people["engineer"].id)
+    text = "\n".join(r for r in schedule_csv().splitlines() if "BS 5628-1" not in r) + "\n"
+    assert services.import_schedule(db, site=other, text=text, user_id=people["engineer"].id).ok
+    other = store.get_site(db, other["id"])
+    record(db, other, "FF-B5", people["engineer"])
+
+    def refs(query: str) -> list[str]:
+        return [i["reference"] for i in engineer.get(f"/review.json{query}").get_json()["items"]]
+
+    assert refs("") == ["FF-B5", "GF-B1-E", "GF-B1-W"]
+    assert refs(f"?site={other['id']}") == ["FF-B5"]
+    assert refs("?reason=not-measured") == ["GF-B1-E"]
+    assert refs(f"?site={site['id']}&reason=check-fails") == ["GF-B1-E"]
+    data = engineer.get("/review.json?reason=cracks").get_json()
+    assert (
+        data["items"] == []
+        and data["sentence"] == "No bearing waiting for you matches these filters."
+    )
+    reasons = {o["value"]: (o["label"], o["count"]) for o in data["reason_options"]}
+    assert reasons["check-fails"] == ("A check fails as built", 2)
+    sites = {o["label"]: o["count"] for o in data["site_options"]}
+    assert sites == {site["name"]: 2, "Invented Wharf": 1}
+    page = engineer.get(f"/review?site={other['id']}").data.decode()
+    assert f'<option value="{other["id"]}" selected>' in page
+
+
+def test_after_a_decision_the_next_to_decide_opens_within_the_same_filters(
+    db, people, site, client_as
+):
+    ins = people["inspector"]
+    fails_unmeasured(db, site, "GF-B1-E", ins)
+    record(db, site, "FF-B5", ins)
+    record(db, site, "GF-B1-W", ins, bearing_length=120.0)  # not failing: outside the filter
+    engineer = client_as("engineer")
+    query = "?reason=check-fails"
+    first = engineer.get(f"/review.json{query}").get_json()["items"][0]
+    assert first["reference"] == "FF-B5"
+    b = bearing_named(db, site, "FF-B5")
+    page = engineer.get(review_url(site, b) + query)
+    form = {
+        "csrf_token": hidden(page.data, "csrf_token"),
+        "record_uuid": hidden(page.data, "record_uuid"),
+        "seen_state": hidden(page.data, "seen_state"),
+        "kind": "remedial",
+        "reason": "Replace the padstone with a 440 long one.",
+    }
+    assert f'action="{decision_url(site, b)}?reason=check-fails"' in page.data.decode()
+    r = engineer.post(decision_url(site, b) + query, data=form)
+    nxt = bearing_named(db, site, "GF-B1-E")
+    assert r.headers["Location"] == review_url(site, nxt) + query
+    shown = engineer.get(r.headers["Location"]).data.decode()
+    assert "Next to decide: GF-B1-E" in shown
+
+    form = decide_form(engineer, site, nxt, kind="measure-again", reason="Measure a1 please.")
+    r = engineer.post(decision_url(site, nxt) + query, data=form)
+    assert r.headers["Location"] == "/review" + query
+    assert "Nothing else waits for your decision with these filters now." in (
+        engineer.get(r.headers["Location"]).data.decode()
+    )
+
+
+# --- accepting a bearing that fails as built ---------------------------------------------------------
+
+
+def test_accepting_a_failing_bearing_needs_its_confirmation_and_a_full_sentence(
+    db, people, site, client_as
+):
+    fails_unmeasured(db, site, "GF-B1-E", people["inspector"])
+    b = bearing_named(db, site, "GF-B1-E")
+    engineer = client_as("engineer")
+    data = engineer.get(review_url(site, b, json=True)).get_json()
+    failing = data["failing"]
+    latest = data["latest"]
+    assert failing["check"] == latest["result"]["governing"]
+    assert failing["utilisation"] == latest["utilisation"] > 1
+    title, shown = failing["title"], f"{failing['utilisation']:.2f}"
+    page = engineer.get(review_url(site, b)).data.decode()
+    assert f"I accept GF-B1-E although {title} fails as built with utilisation {shown}." in page
+    assert "a full sentence: at least 8 words, ending with a full stop" in page
+
+    sentence = "The wall below is solid brick, checked by hand on site today."
+    attempts = [
+        ({"reason": sentence}, "confirm_failing", "tick the confirmation"),
+        (
+            {"reason": "Fine as it is, I checked.", "confirm_failing": "y"},
+            "reason",
+            "you wrote 6 words",
+        ),
+        (
+            {"reason": sentence[:-1], "confirm_failing": "y"},
+            "reason",
+            "End the reason with a full stop",
+        ),
+    ]
+    for change, field, says in attempts:
+        form = decide_form(engineer, site, b, kind="accept") | change
+        r = engineer.post(decision_url(site, b), data=form)
+        assert r.status_code == 400, change
+        html = r.data.decode()
+        assert re.search(f'data-error-for="{field}">[^<]*{says}', html), says
+        assert change["reason"] in html  # nothing typed is lost
+        assert store.decisions_for(db, site_id=site["id"], bearing_id=b["id"]) == []
+
+    form = decide_form(engineer, site, b, kind="accept", reason=sentence) | {"confirm_failing": "y"}
+    assert engineer.post(decision_url(site, b), data=form).status_code == 302
+    (d,) = store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])
+    assert d["engineer_name"] == "Esme Engineer"
+    assert d["accepted_failing"] == failing
+    said = f"Accepted although it fails: {title}, utilisation {shown}"
+    history = engineer.get(review_url(site, b, json=True)).get_json()["history"]
+    assert [(h["title"], h["who"], h["text"]) for h in history] == [
+        (said, "Esme Engineer", sentence)
+    ]
+    site_history = engineer.get(f"/sites/{site['id']}/history").data.decode()
+    assert said.lower() in site_history
+
+
+def test_accepting_a_bearing_that_passes_asks_for_no_confirmation(db, people, site, client_as):
+    record(db, site, "GF-B1-W", people["inspector"], bearing_length=120.0)
+    b = bearing_named(db, site, "GF-B1-W")
+    engineer = client_as("engineer")
+    assert engineer.get(review_url(site, b, json=True)).get_json()["failing"] is None
+    assert "although" not in engineer.get(review_url(site, b)).data.decode()
+    form = decide_form(engineer, site, b, kind="accept", reason="Short but fine.")
+    assert engineer.post(decision_url(site, b), data=form).status_code == 302
+    (d,) = store.decisions_for(db, site_id=site["id"], bearing_id=b["id"])
+    assert d["accepted_failing"] is None and d["engineer_name"] == "Esme Engineer"

@@ -155,6 +155,8 @@ EXPECTED_PERMISSIONS = {
     "reopen": (True, False, False, False),
     "invite": (True, False, False, False),
     "release": (False, False, True, False),
+    # The site record's sign-off is the engineer's statement, nobody else's.
+    "sign-off": (True, False, False, False),
 }
 
 

@@ -41,6 +41,17 @@ class SiteRecord:
     bearings: list[BearingRecord]
     events: list[dict]  # oldest first
     made_at: str = field(default_factory=lambda: datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"))
+    sign_offs: list[dict] = field(default_factory=list)  # the engineer's, oldest first
+
+    @property
+    def sign_off(self) -> dict | None:
+        """The newest sign-off: the one the record carries."""
+        return self.sign_offs[-1] if self.sign_offs else None
+
+    def changes_since(self, sign_off: dict) -> list[dict]:
+        """History entries that changed the record after the sign-off covered it."""
+        last = sign_off["covers"].get("last_event_id") or 0
+        return [e for e in self.events if e["id"] > last and e["kind"] not in store.NOT_A_CHANGE]
 
     def name(self, user_id: int | None) -> str:
         if user_id is None:
@@ -95,4 +106,8 @@ def collect(db, site_id: str) -> SiteRecord:
         ids.update(r["contractor_id"] for r in br.releases)
         ids.update(r["engineer_id"] for r in br.reopenings)
         ids.update(k["engineer_id"] for k in br.releases_kept)
-    return SiteRecord(site, members, _names(db, site_id, members, ids), bearings, events)
+    sign_offs = store.sign_offs_for(db, site_id=site_id)
+    ids.update(s["engineer_id"] for s in sign_offs)
+    return SiteRecord(
+        site, members, _names(db, site_id, members, ids), bearings, events, sign_offs=sign_offs
+    )

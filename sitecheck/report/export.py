@@ -12,8 +12,11 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
+import unicodedata
 import zipfile
 from dataclasses import fields
+from datetime import UTC, datetime
 from decimal import Decimal
 
 from sitecheck.bearing.review import Checklist, Measurements
@@ -27,6 +30,17 @@ FORMAT_VERSION = 1
 # The csv module quotes a cell holding a character of the line ending only: with "\n"
 # alone, a lone carriage return in a note would be written bare and read as a row's end.
 LINE_END = "\r\n"
+
+
+def file_name(name: str, suffix: str, when: datetime | None = None) -> str:
+    """A file name any system accepts, made from the site's name and a date (today, unless
+    `when` says): ``tanner-s-yard-block-c-2026-03-02-data.json``."""
+    plain = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
+    slug = re.sub(r"[^A-Za-z0-9]+", "-", plain).strip("-").lower()[:40].strip("-") or "site"
+    return f"{slug}-{when or datetime.now(UTC):%Y-%m-%d}{suffix}"
+
+
+JSON_SUFFIX = "-data.json"
 
 
 def _number(x: int | float) -> str:
@@ -438,6 +452,7 @@ def site_json(rec: SiteRecord) -> dict:
         "members": [{"id": m["id"], "name": m["name"], "role": m["role"]} for m in rec.members],
         "bearings": bearings,
         "events": [{**e, "who": rec.name(e["user_id"])} for e in rec.events],
+        "sign_offs": rec.sign_offs,
     }
 
 

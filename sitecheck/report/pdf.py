@@ -23,13 +23,35 @@ from fpdf import FPDF
 from fpdf.enums import XPos, YPos
 
 from sitecheck import workflow
-from sitecheck.bearing import SOURCES
-from sitecheck.bearing.format import number, quantity, utilisation
+from sitecheck.bearing import SOURCES, basis_named
+from sitecheck.bearing.format import quantity, utilisation
 from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.cli import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
+from sitecheck.report.audit import Words, sentence
 from sitecheck.report.collect import BearingRecord, SiteRecord
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, differences
+from sitecheck.report.export import JSON_SUFFIX, file_name
+from sitecheck.report.summary import (
+    CHECKLIST_QUESTIONS,
+    covers_words,
+    decision_title,
+    plural,
+    state_counts,
+    who_must_act,
+)
+from sitecheck.settings_words import (
+    BASIS_FLAGS,
+    BASIS_GROUPS,
+    BASIS_LABELS,
+    CREEP_TABLES,
+    GAMMA_M_BS_ROWS,
+    GAMMA_M_EC6_ROWS,
+    K_MORTARS,
+    REQUIRED_LABELS,
+    REVIEW_LABELS,
+    TABLE_TITLES,
+)
 
 Progress = Callable[[int, int, str], None]
 
@@ -44,11 +66,6 @@ FONT_DIRS = (
 )
 FAMILY = "dejavu"
 
-DECISION_WORDS = {
-    "accept": "accept as built",
-    "remedial": "remedial work",
-    "measure-again": "measure again",
-}
 SOURCE_WORDS = (
     "Source labels: S seen in a published source · P partly seen · M from memory, confirm "
     "against the standard · CP common practice · ours: a choice of this tool."
@@ -176,6 +193,11 @@ class _Doc(FPDF):
         self.multi_cell(0, 8, self.t(text), new_x=XPos.LMARGIN, new_y=YPos.NEXT)
         self.ln(1)
 
+    def keep(self, room_mm: float) -> None:
+        """A new page unless ``room_mm`` is left: a heading stays with what it heads."""
+        if self.get_y() + room_mm > self.h - self.b_margin:
+            self.add_page()
+
     def h2(self, text: str) -> None:
         if self.get_y() > self.h - 40:
             self.add_page()
@@ -276,52 +298,254 @@ class _Doc(FPDF):
         return lines or [""]
 
 
-# --- the cover and the summary ----------------------------------------------------------------
+# --- the first page: the summary and the engineer's sign-off ------------------------------------
+
+# Beyond this many bearings a role's list on the first page says how many more there are;
+# every bearing is in the table that follows.
+LISTED_ON_FIRST_PAGE = 24
 
 
-def _cover(pdf: _Doc, rec: SiteRecord) -> None:
+def _first_page(pdf: _Doc, rec: SiteRecord) -> None:
     site = rec.site
     pdf.add_page()
+    pdf.start_section("Summary and sign-off", level=0)
     pdf.h1("Site record")
     pdf.para(site["name"], 14, bold=True)
     if site.get("address"):
         pdf.para(site["address"], 10)
+    basis = (site.get("code_basis") or {}).get("name", "—")
+    pdf.para(f"Made {_when(rec.made_at)} from the data held by sitecheck; code basis {basis}.", 9)
     pdf.ln(2)
-    pdf.para(f"Made {_when(rec.made_at)} from the data held by sitecheck.", 9)
-    pdf.ln(3)
     pdf.set_fill_color(255, 244, 214)
     pdf.set_font(pdf.family, "B", 10)
-    pdf.multi_cell(0, 5.5, pdf.t(CAUTION), fill=True, border=1, new_x=XPos.LMARGIN, new_y=YPos.NEXT)
+    pdf.multi_cell(
+        0, 5.5, pdf.t(CAUTION), fill=True, border=1, align="L", new_x=XPos.LMARGIN, new_y=YPos.NEXT
+    )
     pdf.set_font(pdf.family, "", 9)
+    _sign_off_block(pdf, rec)
+
+    counts = state_counts([br.bearing["state"] for br in rec.bearings])
+    pdf.h2("Bearings by state")
+    pdf.grid(
+        ["state", "bearings"],
+        [[f"{workflow.STATE_BADGES[state].symbol} {state}", str(n)] for state, n in counts.items()]
+        + [["all", str(len(rec.bearings))]],
+        [60, 25],
+        size=8.5,
+    )
+    pdf.h2("Open items: who must act")
+    acts = who_must_act(counts)
+    if not acts:
+        pdf.para("None: every bearing is released for closing up.")
+    else:
+        rows = []
+        for act in acts:
+            refs = [
+                br.bearing["reference"]
+                for br in rec.bearings
+                if br.bearing["state"] in act["states"]
+            ]
+            listed = ", ".join(refs[:LISTED_ON_FIRST_PAGE])
+            if len(refs) > LISTED_ON_FIRST_PAGE:
+                listed += f" and {len(refs) - LISTED_ON_FIRST_PAGE} more"
+            rows.append([f"the {act['role']}", "; ".join(act["what"]) + ".", listed])
+        pdf.grid(["who", "must", "bearings"], rows, [26, 84, 70], size=8)
+    failing = [
+        (br, d) for br in rec.bearings for d in br.decisions[-1:] if d.get("accepted_failing")
+    ]
+    if failing:
+        pdf.h2("Accepted although they fail as built")
+        pdf.grid(
+            ["bearing", "what fails", "accepted by, when", "reason"],
+            [
+                [
+                    br.bearing["reference"],
+                    decision_title(d).removeprefix("Accepted although it fails: "),
+                    f"{d.get('engineer_name') or rec.name(d['engineer_id'])}, "
+                    f"{_when(d['created_at'])}",
+                    d["reason"],
+                ]
+                for br, d in failing
+            ],
+            [24, 50, 40, 66],
+            size=8,
+        )
     pdf.ln(2)
-    counts = {s: 0 for s in workflow.STATES}
-    for br in rec.bearings:
-        counts[br.bearing["state"]] += 1
+    export_name = file_name(site["name"], JSON_SUFFIX)
     pdf.para(
-        f"{len(rec.bearings)} bearings: "
-        + ", ".join(f"{n} {s}" for s, n in counts.items() if n)
-        + "."
+        "This record says in words who did what and when. The identifiers, file hashes and "
+        "raw values behind it are in the data export (JSON) of this site, made from the "
+        f"same data on its site record page (a file named like {export_name}).",
+        8,
     )
-    basis = site.get("code_basis") or {}
-    pdf.h2(f"Code basis: {basis.get('name', '—')}")
+
+
+def _sign_off_block(pdf: _Doc, rec: SiteRecord) -> None:
+    pdf.h2("Engineer's sign-off")
+    signed = rec.sign_off
+    if signed is None:
+        lines = [
+            "Not signed off: no engineer has signed off this site record in sitecheck. The "
+            "site's engineer signs it off on the site record page; a record made after that "
+            "carries the sign-off here."
+        ]
+        fill = (245, 245, 245)
+    else:
+        lines = [
+            f"Signed off by {signed['engineer_name']} on {_when(signed['created_at'])}.",
+            f"Statement: “{signed['statement']}”",
+            f"What it covers: {covers_words(signed['covers'])}",
+        ]
+        later = rec.changes_since(signed)
+        if later:
+            lines.append(
+                f"⚠ Since then, {plural(len(later), 'entry', 'entries')} in the history "
+                f"changed the record, from {_when(later[0]['at'])} on (marked “after the "
+                "sign-off” in the audit trail): this sign-off does not cover them."
+            )
+        else:
+            lines.append("Nothing in the record has changed since it was signed.")
+        fill = (232, 244, 236)
+    pdf.set_fill_color(*fill)
+    pdf.set_font(pdf.family, "", 9.5)
+    pdf.multi_cell(
+        0,
+        5,
+        pdf.t("\n".join(lines)),
+        fill=True,
+        border=1,
+        align="L",
+        new_x=XPos.LMARGIN,
+        new_y=YPos.NEXT,
+    )
+    pdf.set_font(pdf.family, "", 9)
+
+
+# --- the code basis and the review settings, in the settings page's words -----------------------
+
+
+def _with_unit(value, unit: str) -> str:
+    text = _v(value)
+    if unit == "°":
+        return text + "°"
+    return f"{text} {unit}".strip()
+
+
+def _source(name: str) -> str:
+    return SOURCES.get(name, "set for this site")
+
+
+def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
+    site = rec.site
+    code = site.get("code_basis") or {}
+    pdf.add_page()
+    pdf.start_section("Code basis and review settings", level=0)
+    pdf.h1(f"Code basis: {code.get('name', '—')}")
     pdf.para(
-        "Every value the checks use, with where it comes from. Values marked M are from "
-        "memory and must be confirmed against the standard and national annex in force."
+        "Every value the checks use, named as on the site's settings page, with its unit and "
+        "where its default comes from. Values tagged M are from memory and must be confirmed "
+        "against the standard and national annex in force before relying on them; “changed” "
+        "marks a value this site set apart from the default."
     )
-    rows = []
-    for key, value in basis.items():
-        if key == "name":
-            continue
-        if isinstance(value, dict):
-            value = "; ".join(f"{k} {number(v)}" for k, v in value.items())
-        elif isinstance(value, list):
-            value = " / ".join(number(v) for v in value)
-        rows.append([key, _v(value), SOURCES.get(key, "set for this site")])
-    pdf.grid(["value", "used", "source"], rows, [45, 60, 75], size=7.5)
-    pdf.h2("Review settings")
+    try:
+        default = basis_named(code.get("name", "")).to_dict()
+    except (KeyError, ValueError):
+        default = {}
+
+    def changed(name: str) -> str:
+        return "changed" if name in default and default[name] != code.get(name) else ""
+
+    widths = [62, 28, 72, 18]
+    for title, names in BASIS_GROUPS:
+        rows = []
+        for name in names:
+            if name not in code:
+                continue
+            if name in BASIS_FLAGS:
+                label, used = BASIS_FLAGS[name], _v(bool(code[name]))
+            else:
+                label, unit = BASIS_LABELS[name]
+                used = _with_unit(code[name], unit)
+            rows.append([label, used, _source(name), changed(name)])
+        if rows:
+            pdf.h2(title)
+            pdf.grid(["value", "used", "default from", ""], rows, widths, size=7.5)
+
+    k_values = code.get("k_values") or {}
+    if k_values:
+        pdf.keep(60)  # the heading with the first rows of its table
+        pdf.h2(TABLE_TITLES["k_values"])
+        pdf.para(f"Default from: {_source('k_values')}. {changed('k_values')}", 7.5)
+        cells: dict[tuple[str, str], dict[str, float]] = {}
+        for key, value in k_values.items():
+            material, group, mortar = key.split("|")
+            cells.setdefault((material, group), {})[mortar] = value
+        pdf.grid(
+            ["unit", "Group", *(f"{m} mortar" for m in K_MORTARS)],
+            [
+                [material, group, *(_v(by.get(m)) for m in K_MORTARS)]
+                for (material, group), by in cells.items()
+            ],
+            [60, 20, 40, 40],
+            size=7.5,
+        )
+    for name, rows in (("gamma_M_ec6", GAMMA_M_EC6_ROWS), ("gamma_m_bs", GAMMA_M_BS_ROWS)):
+        table = code.get(name) or {}
+        if table:
+            pdf.keep(40)
+            pdf.h2(TABLE_TITLES[name])
+            pdf.para(f"Default from: {_source(name)}. {changed(name)}", 7.5)
+            pdf.grid(
+                ["", "value"],
+                [[label, _v(table.get(key))] for key, label in rows],
+                [100, 30],
+                size=7.5,
+            )
+    creep = [(name, words, code.get(name) or {}) for name, words in CREEP_TABLES]
+    materials = list(dict.fromkeys(m for _n, _w, table in creep for m in table))
+    if materials:
+        pdf.keep(45)
+        pdf.h2(TABLE_TITLES["creep_lambda_c"])
+        for name, _words, _table in creep:
+            pdf.para(f"Default from: {_source(name)}. {changed(name)}", 7.5)
+        pdf.grid(
+            ["unit", *(words for _n, words, _t in creep)],
+            [[m, *(_v(table.get(m)) for _n, _w, table in creep)] for m in materials],
+            [60, 60, 60],
+            size=7.5,
+        )
+    factors = code.get("bearing_type_factors") or []
+    if factors:
+        pdf.keep(35)
+        pdf.h2(TABLE_TITLES["bearing_type_factors"])
+        pdf.para(
+            f"Default from: {_source('bearing_type_factors')}. {changed('bearing_type_factors')}",
+            7.5,
+        )
+        pdf.grid(
+            ["", "factor"],
+            [[f"Type {i}", _v(k)] for i, k in enumerate(factors, start=1)],
+            [100, 30],
+            size=7.5,
+        )
+
     review = site.get("review_settings") or {}
-    rows = [[k, ", ".join(v) if isinstance(v, list) else _v(v)] for k, v in review.items()]
-    pdf.grid(["setting", "value"], rows, [60, 120], size=7.5)
+    pdf.keep(60)
+    pdf.h2("Review settings")
+    pdf.para(
+        "When an as-built record goes to the engineer: this site's thresholds and tolerances "
+        "(defaults of this tool unless a source is named)."
+    )
+    rows = [
+        [label, _with_unit(review[name], unit), source]
+        for name, (label, unit, source) in REVIEW_LABELS.items()
+        if name in review
+    ]
+    for name, label in REQUIRED_LABELS.items():
+        if name in review:
+            asked = ", ".join(FIELD_LABELS.get(f, f).lower() for f in review[name]) or "none"
+            rows.append([label, asked, "[ours]"])
+    pdf.grid(["setting", "value", "default from"], rows, [72, 60, 48], size=7.5)
     pdf.h2("People on this site")
     pdf.grid(["name", "role"], [[m["name"], m["role"]] for m in rec.members], [90, 90], size=8)
     pdf.ln(2)
@@ -365,7 +589,7 @@ def _summary(pdf: _Doc, rec: SiteRecord) -> None:
                 _check_title(result, result.get("governing", "")),
                 _util(b["design_utilisation"]),
                 _util(latest["utilisation"]) if latest else "not measured",
-                DECISION_WORDS.get(decision["kind"], decision["kind"]) if decision else "—",
+                decision_title(decision) if decision else "—",
                 f"{release['contractor_name']}, {_when(release['created_at'])}" if release else "—",
             ]
         )
@@ -491,14 +715,19 @@ def _bearing_pages(pdf: _Doc, rec: SiteRecord, br: BearingRecord, photos: list) 
     if latest:
         pdf.h2("Review reasons")
         if latest["reasons"]:
-            for r in latest["reasons"]:
+            for r in workflow.ordered_reasons(latest["reasons"]):
                 head = "Blocks release" if r.get("severity") == "blocks" else "Note"
                 pdf.para(f"{head}: {r.get('sentence', '')} ({r.get('code', '')})")
         else:
             pdf.para("No review reasons.")
         checklist = latest["checklist"] or {}
         if checklist:
-            pdf.para("Checklist: " + "; ".join(f"{k} {_v(v)}" for k, v in checklist.items()), 8)
+            answers = [
+                f"{question}: {_with_unit(checklist[key], unit)}"
+                for key, question, unit in CHECKLIST_QUESTIONS
+                if checklist.get(key) is not None
+            ]
+            pdf.para("Checklist: " + "; ".join(answers) + ".", 8)
         if latest["notes"]:
             pdf.para(f"Inspector's notes: {latest['notes']}", 8)
 
@@ -563,8 +792,8 @@ def _history(pdf: _Doc, rec: SiteRecord, br: BearingRecord) -> None:
     items = [
         (
             d["created_at"],
-            f"Decision: {DECISION_WORDS.get(d['kind'], d['kind'])}",
-            rec.name(d["engineer_id"]),
+            f"Decision: {decision_title(d)}",
+            d.get("engineer_name") or rec.name(d["engineer_id"]),
             d["reason"],
         )
         for d in br.decisions
@@ -747,39 +976,32 @@ def _photos(pdf: _Doc, br: BearingRecord, shown: list) -> None:
 # --- the audit trail ----------------------------------------------------------------------------
 
 
-def _summarise(detail: dict) -> str:
-    parts = []
-    for key, value in (detail or {}).items():
-        if isinstance(value, dict):
-            value = ", ".join(
-                f"{k} {v}" for k, v in value.items() if not isinstance(v, (dict, list))
-            )
-        text = f"{key}: {value}"
-        parts.append(text)
-    joined = "; ".join(parts)
-    return joined if len(joined) <= 220 else joined[:217] + "…"
-
-
 def _appendix(pdf: _Doc, rec: SiteRecord) -> None:
     pdf.add_page()
     pdf.start_section("Audit trail", level=0)
     pdf.h1("Appendix: audit trail")
     pdf.para(
-        f"Every change on this site, oldest first ({len(rec.events)} events). Events are "
-        "written when things happen and are never changed or deleted."
+        f"Every change on this site, oldest first ({plural(len(rec.events), 'entry', 'entries')}), "
+        "in words. Entries are written when things happen and are never changed or deleted. "
+        "The identifiers, hashes and values before and after each entry are in the data "
+        "export (JSON)."
     )
     refs = {br.bearing["id"]: br.bearing["reference"] for br in rec.bearings}
+    words = Words(
+        name=rec.name,
+        measured={r["uuid"]: r["measured_at"] for br in rec.bearings for r in br.records},
+    )
+    after = {e["id"] for e in rec.changes_since(rec.sign_off)} if rec.sign_off else set()
     rows = [
         [
             _when(e["at"]),
             rec.name(e["user_id"]),
-            e["kind"],
             refs.get(e["bearing_id"], ""),
-            _summarise(e["detail"]),
+            ("After the sign-off: " if e["id"] in after else "") + sentence(e, words),
         ]
         for e in rec.events
     ]
-    pdf.grid(["when", "who", "what", "bearing", "detail"], rows, [26, 30, 26, 24, 74], size=6.5)
+    pdf.grid(["when", "who", "bearing", "what happened"], rows, [25, 32, 23, 100], size=7)
 
 
 # Progress steps before the first bearing's: the cover and the summary.
@@ -806,7 +1028,8 @@ def write_pdf(
             progress(step, total, what)
 
     pdf = _Doc(rec.site["name"])
-    _cover(pdf, rec)
+    _first_page(pdf, rec)
+    _basis_pages(pdf, rec)
     tick("cover")
     _summary(pdf, rec)
     tick("summary")

@@ -24,6 +24,8 @@ JSON_COLUMNS = frozenset(
         "result",
         "reasons",
         "detail",
+        "accepted_failing",
+        "covers",
     }
 )
 BOOL_COLUMNS = frozenset(

@@ -1099,13 +1099,19 @@ def record_decision(
     reason: str,
     expected_state: str,
     new_state: str,
+    engineer_name: str | None = None,
+    accepted_failing: dict[str, Any] | None = None,
     now: datetime | None = None,
 ) -> dict:
     """Store the engineer's decision on the bearing's latest record and move its state.
 
     ``new_state`` is ``workflow.state_after_decision(kind)``. If a newer record arrived since
     the engineer looked, ``StaleState``: a decision must be about what is now the latest record.
+    ``engineer_name`` is kept as signed; ``accepted_failing`` (what fails, as the engineer
+    confirmed it) only with an acceptance.
     """
+    if accepted_failing is not None and kind != "accept":
+        raise ValueError("accepted_failing goes only with an acceptance")
     if kind not in DECISION_KINDS:
         raise ValueError(f"decision kind {kind!r} is not one of {', '.join(DECISION_KINDS)}")
     reason = required_text(reason, "The reason for the decision")
@@ -1122,10 +1128,20 @@ def record_decision(
         at = timestamp(now or utc_now())
         cursor = db.execute(
             """
-            INSERT INTO decisions (bearing_id, record_uuid, engineer_id, kind, reason, created_at)
-            VALUES (?, ?, ?, ?, ?, ?)
+            INSERT INTO decisions (bearing_id, record_uuid, engineer_id, kind, reason, created_at,
+                engineer_name, accepted_failing)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?)
             """,
-            [bearing_id, record_uuid, engineer_id, kind, reason, at],
+            [
+                bearing_id,
+                record_uuid,
+                engineer_id,
+                kind,
+                reason,
+                at,
+                engineer_name,
+                None if accepted_failing is None else to_json(accepted_failing),
+            ],
         )
         decision_id = cursor.lastrowid
         _move(
@@ -1140,6 +1156,8 @@ def record_decision(
                 "kind": kind,
                 "reason": reason,
                 "record_uuid": record_uuid,
+                **({"engineer_name": engineer_name} if engineer_name else {}),
+                **({"accepted_failing": accepted_failing} if accepted_failing else {}),
             },
         )
     return one(db, "SELECT * FROM decisions WHERE id = ?", [decision_id])
@@ -1263,6 +1281,28 @@ def decisions_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -
     return _for_bearing(db, "decisions", site_id, bearing_id)
 
 
+def latest_decisions(
+    db: sqlite_utils.Database, *, site_id: str, bearing_id: str | None = None
+) -> dict[str, dict]:
+    """Each bearing's newest decision on a site (or only ``bearing_id``'s), by bearing id,
+    with the engineer's name as signed (or as the account is called, for a decision from
+    before names were kept)."""
+    one_bearing = "AND b.id = ?" if bearing_id else ""
+    rows = many(
+        db,
+        f"""
+        SELECT d.*, coalesce(d.engineer_name, u.name) AS signed_by FROM decisions d
+        JOIN bearings b ON b.id = d.bearing_id LEFT JOIN users u ON u.id = d.engineer_id
+        WHERE b.site_id = ? {one_bearing} AND d.id = (
+            SELECT d2.id FROM decisions d2 WHERE d2.bearing_id = d.bearing_id
+            ORDER BY d2.created_at DESC, d2.id DESC LIMIT 1
+        )
+        """,
+        [site_id, *([bearing_id] if bearing_id else [])],
+    )
+    return {row["bearing_id"]: row for row in rows}
+
+
 def releases_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
     return _for_bearing(db, "releases", site_id, bearing_id)
 
@@ -1381,21 +1421,21 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
     those 'engineer to decide', and released ones with evidence recorded after release that
     the engineer has not answered yet.
 
-    Most serious first: highest utilisation (of the latest record, or of the worst record
-    after release), then most blocking reasons, then longest waiting. Each row is the
-    bearing's own columns a list shows (no design input or result) plus ``site_name``,
-    ``utilisation``, ``passed``, ``blocking``, ``measured_at`` and
-    ``reasons`` of its latest record, and ``records_after_release``,
-    ``photos_after_release``, ``worst_after_release``, ``first_after_release`` (None when
-    nothing is waiting).
+    Highest utilisation first (of the latest record, or of the worst record after release),
+    then most blocking reasons, then longest waiting (the review page orders by severity on
+    top of this). Each row is the bearing (without its design and trace, which a queue of a
+    thousand would read for nothing) plus ``site_name``, ``utilisation``, ``passed``,
+    ``blocking``, ``measured_at`` and ``reasons`` of its latest record, and
+    ``records_after_release``, ``photos_after_release``, ``worst_after_release``,
+    ``first_after_release`` (None when nothing is waiting).
     """
     return many(
         db,
         f"""
-        SELECT b.id, b.site_id, b.reference, b.location, b.state, b.state_changed_at,
-               b.revision, b.latest_record_uuid, b.design_utilisation, b.design_passed,
-               s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at, r.reasons,
-               r.design_revision < b.revision AS older_revision,
+        SELECT b.id, b.site_id, b.reference, b.location, b.revision, b.state,
+               b.state_changed_at, b.latest_record_uuid,
+               s.name AS site_name, r.utilisation, r.passed, r.blocking, r.measured_at,
+               r.reasons, r.design_revision < b.revision AS older_revision,
                ev.records_after_release, ev.photos_after_release, ev.worst_after_release,
                ev.first_after_release
         FROM memberships m

@@ -23,9 +23,11 @@ def queue_mail(
     to_addr: str,
     subject: str,
     body: str,
+    html: str | None = None,
     now: datetime | None = None,
 ) -> int:
-    """Queue one message, to be tried at once; returns its id."""
+    """Queue one message, to be tried at once; returns its id. ``body`` is the plain text;
+    ``html``, where given, a simple HTML version of the same words."""
     if not kind:
         raise ValueError("kind is empty; say what the message is for, e.g. 'invitation'")
     if "@" not in (to_addr or ""):
@@ -35,10 +37,10 @@ def queue_mail(
     at = timestamp(now or utc_now())
     cursor = db.execute(
         """
-        INSERT INTO outgoing_mail (kind, to_addr, subject, body, created_at, next_try_at)
-        VALUES (?, ?, ?, ?, ?, ?)
+        INSERT INTO outgoing_mail (kind, to_addr, subject, body, html, created_at, next_try_at)
+        VALUES (?, ?, ?, ?, ?, ?, ?)
         """,
-        [kind, to_addr, subject, body, at, at],
+        [kind, to_addr, subject, body, html, at, at],
     )
     return cursor.lastrowid
 
@@ -58,7 +60,7 @@ def claim_due_mail(
         due = many(
             db,
             """
-            SELECT id, kind, to_addr, subject, body, attempts FROM outgoing_mail
+            SELECT id, kind, to_addr, subject, body, html, attempts FROM outgoing_mail
             WHERE sent_at IS NULL AND gave_up_at IS NULL AND next_try_at <= ?
               AND (claimed_until IS NULL OR claimed_until <= ?)
             ORDER BY next_try_at, id LIMIT ?
@@ -78,7 +80,7 @@ def mail_sent(db: sqlite_utils.Database, mail_id: int, *, now: datetime | None =
     db.execute(
         """
         UPDATE outgoing_mail
-        SET sent_at = ?, attempts = attempts + 1, body = '', claimed_until = NULL,
+        SET sent_at = ?, attempts = attempts + 1, body = '', html = NULL, claimed_until = NULL,
             next_try_at = NULL, last_error = NULL
         WHERE id = ?
         """,
@@ -100,7 +102,7 @@ def mail_failed(
         db.execute(
             """
             UPDATE outgoing_mail
-            SET gave_up_at = ?, attempts = attempts + 1, body = '', claimed_until = NULL,
+            SET gave_up_at = ?, attempts = attempts + 1, body = '', html = NULL, claimed_until = NULL,
                 next_try_at = NULL, last_error = ?
             WHERE id = ?
             """,

@@ -518,6 +518,122 @@ def m011_leases(db: sqlite_utils.Database) -> None:
     )
 
 
+@MIGRATIONS()
+def m012_notices(db: sqlite_utils.Database) -> None:
+    """Notices: who is told by e-mail that it is their turn, and when each person last
+    looked at a site (for "since you last looked").
+
+    ``notices`` are made from the audit trail by the mail sender, after ``notice_cursor``
+    (the last event read, and when a sender last looked: ``checked_at``); the cursor starts
+    at the newest event, and a sender that finds nobody looked for a while (mail was off)
+    starts from the newest event again, so turning mail on never mails the past. A notice is pending until it goes into a
+    message (``mailed_at``, with the message's ``mail_id``) or is overtaken before that
+    (``dropped_at``: the bearing moved on). ``notices_off`` holds the kinds each person
+    turned off. Messages may carry a simple HTML part beside the plain text."""
+    db.execute(
+        """
+        CREATE TABLE notices (
+            id INTEGER PRIMARY KEY,
+            user_id INTEGER NOT NULL REFERENCES users(id),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            bearing_id TEXT NOT NULL REFERENCES bearings(id),
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            event_id INTEGER NOT NULL,
+            by_user_id INTEGER REFERENCES users(id),
+            words TEXT NOT NULL DEFAULT '',
+            created_at TEXT NOT NULL,
+            mail_id INTEGER REFERENCES outgoing_mail(id),
+            mailed_at TEXT,
+            dropped_at TEXT,
+            UNIQUE (user_id, event_id, kind),
+            CHECK (mailed_at IS NULL OR dropped_at IS NULL)
+        ) STRICT
+        """
+    )
+    db.execute(
+        "CREATE INDEX notices_waiting ON notices(user_id, id) "
+        "WHERE mailed_at IS NULL AND dropped_at IS NULL"
+    )
+    db.execute("CREATE INDEX notices_mailed ON notices(user_id, mailed_at)")
+    db.execute(
+        """
+        CREATE TABLE notice_cursor (
+            id INTEGER PRIMARY KEY CHECK (id = 1),
+            last_event_id INTEGER NOT NULL,
+            checked_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute(
+        "INSERT INTO notice_cursor (id, last_event_id, checked_at) "
+        "SELECT 1, coalesce(max(id), 0), strftime('%Y-%m-%dT%H:%M:%fZ', 'now') FROM events"
+    )
+    db.execute(
+        """
+        CREATE TABLE notices_off (
+            user_id INTEGER NOT NULL REFERENCES users(id),
+            kind TEXT NOT NULL CHECK (length(kind) > 0),
+            PRIMARY KEY (user_id, kind)
+        ) STRICT
+        """
+    )
+    db.execute(
+        """
+        CREATE TABLE site_visits (
+            user_id INTEGER NOT NULL REFERENCES users(id),
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            looked_at TEXT NOT NULL,
+            PRIMARY KEY (user_id, site_id)
+        ) STRICT
+        """
+    )
+    db.execute("ALTER TABLE outgoing_mail ADD COLUMN html TEXT")
+    # "Since you last looked" reads a site's bearings changed after a moment, and the header
+    # counts those waiting for the engineer: from these indexes alone, without reading each
+    # bearing's row (its design and trace make it large).
+    db.execute(
+        "CREATE INDEX bearings_site_changed ON bearings(site_id, state_changed_at, state, id)"
+    )
+    db.execute("CREATE INDEX bearings_state_changed ON bearings(state, site_id, state_changed_at)")
+
+
+@MIGRATIONS()
+def m013_decision_signatures(db: sqlite_utils.Database) -> None:
+    """A decision keeps the engineer's name as it was when they decided (an account's name
+    may change later; the record must not), and an acceptance of a bearing that fails as
+    built keeps what failed (``accepted_failing``: the governing check, its title and the
+    utilisation the engineer confirmed). Older decisions have neither."""
+    db.execute("ALTER TABLE decisions ADD COLUMN engineer_name TEXT")
+    db.execute(
+        "ALTER TABLE decisions ADD COLUMN accepted_failing TEXT "
+        "CHECK (accepted_failing IS NULL OR json_valid(accepted_failing))"
+    )
+
+
+@MIGRATIONS()
+def m014_sign_offs(db: sqlite_utils.Database) -> None:
+    """The engineer's sign-off of a site record: who signed (the name as signed), when,
+    the statement, and what it covers (``covers``: the bearings by state, the records and
+    photos, and the last history entry, as they were when it was signed). Append-only:
+    a later sign-off is a new row, and the record shows the newest."""
+    db.execute(
+        """
+        CREATE TABLE sign_offs (
+            id INTEGER PRIMARY KEY,
+            site_id TEXT NOT NULL REFERENCES sites(id),
+            engineer_id INTEGER NOT NULL REFERENCES users(id),
+            engineer_name TEXT NOT NULL CHECK (length(trim(engineer_name)) > 0),
+            statement TEXT NOT NULL CHECK (length(trim(statement)) > 0),
+            covers TEXT NOT NULL CHECK (json_valid(covers)),
+            created_at TEXT NOT NULL
+        ) STRICT
+        """
+    )
+    db.execute("CREATE INDEX sign_offs_site ON sign_offs(site_id, id)")
+    for statement in _append_only("sign_offs", "sign-offs are append-only"):
+        db.execute(statement)
+
+
 def _released_lock_trigger(compared: tuple[str, ...]) -> str:
     """The lock on a released bearing: the one way out is a reopening, with a reopenings row
     made since the release, a state other than 'released' and none of ``compared`` changed."""
@@ -572,7 +688,7 @@ _GOVERNING_TITLE = """(
 
 
 @MIGRATIONS()
-def m012_results_stored_once(db: sqlite_utils.Database) -> None:
+def m015_results_stored_once(db: sqlite_utils.Database) -> None:
     """Each calculation is stored once, packed. A bearing's design result (about 12 KB of
     trace) was kept on the bearing and again on its design revision, and each record's
     result beside it: three traces a bearing, 42 KB of database with one record. Now the

@@ -133,7 +133,7 @@ def create_app(
     app.register_blueprint(pages.bp)
     app.register_blueprint(sites.bp)
     app.register_blueprint(review.bp)
-    for name in ("inspect", "release", "sync", "record"):
+    for name in ("inspect", "release", "sync", "record", "notices"):
         module = __import__(f"sitecheck.web.{name}", fromlist=["bp"])
         app.register_blueprint(module.bp)
 
@@ -142,6 +142,7 @@ def create_app(
     app.after_request(_log_request)
     app.teardown_appcontext(_end_request_db)
     app.after_request(_security_headers)
+    app.after_request(_wake_mail_sender)
     compress.install(app)
     app.register_error_handler(CSRFError, pages.csrf_error)
     for code in (400, 403, 404, 405, 413, 429, 500):
@@ -248,6 +249,17 @@ def _security_headers(response):
     # its own caching; everything else a logged-in user sees is not stored.
     if getattr(g, "user", None) is not None and not response.cache_control.private:
         h["Cache-Control"] = "no-store"
+    return response
+
+
+def _wake_mail_sender(response):
+    """Anything sent that was kept may have put a bearing in someone's hands: the mail
+    sender looks at once for notices to make (sitecheck.notices) instead of at its next
+    idle look. Waking it is setting a flag; it never delays the answer."""
+    if request.method == "POST" and response.status_code < 400:
+        sender = current_app.extensions.get("mail_sender")
+        if sender is not None:
+            sender.wake()
     return response
 
 

@@ -66,16 +66,4 @@ def bearing_for(site: dict, bearing_id: str, *, with_result: bool = False) -> di
     return bearing
 
 
-ACTION_WORDS = {
-    "make-sites": "make sites",
-    "give-make-sites": "say who may make sites",
-    "view": "see this site",
-    "export": "export this site's record",
-    "record": "record as-built values",
-    "edit-site": "change the site's settings",
-    "edit-schedule": "change the bearing schedule",
-    "decide": "decide on bearings",
-    "reopen": "reopen a released bearing",
-    "invite": "invite people to the site",
-    "release": "release bearings for closing up",
-}
+ACTION_WORDS = workflow.ACTION_WORDS

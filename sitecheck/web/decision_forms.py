@@ -8,7 +8,7 @@ follow later: a reason long enough to say something, a name that signs the relea
 from __future__ import annotations
 
 from flask_wtf import FlaskForm
-from wtforms import HiddenField, SelectMultipleField, StringField, TextAreaField
+from wtforms import BooleanField, HiddenField, SelectMultipleField, StringField, TextAreaField
 from wtforms.validators import AnyOf, DataRequired, InputRequired, Length, Regexp, ValidationError
 
 from sitecheck import workflow
@@ -18,11 +18,7 @@ REASON_MAX = 4000
 NAME_MAX = 200
 STATEMENT_MAX = 2000
 
-DECISION_LABELS = {
-    "accept": "Accept as built",
-    "remedial": "Remedial work",
-    "measure-again": "Measure again",
-}
+DECISION_LABELS = workflow.DECISION_LABELS
 DECISION_HINTS = {
     "accept": "The bearing may be closed up as it is.",
     "remedial": "Work is needed; a new as-built record must follow.",
@@ -79,6 +75,9 @@ class DecisionForm(FlaskForm):
         ],
     )
     reason = TextAreaField("Reason", filters=[_strip], validators=[written_reason("your decision")])
+    # Asked only when the latest record fails as built and the decision is to accept it;
+    # the page's label names the failing check and its utilisation.
+    confirm_failing = BooleanField("I accept this bearing although it fails as built")
 
     @property
     def hidden_errors(self) -> list[str]:
@@ -126,6 +125,33 @@ class ReleaseForm(FlaskForm):
     statement = TextAreaField(
         "Statement",
         default=DEFAULT_STATEMENT,
+        filters=[_strip],
+        validators=[
+            DataRequired("Write the statement you are signing."),
+            Length(
+                max=STATEMENT_MAX, message=f"Keep the statement under {STATEMENT_MAX} characters."
+            ),
+        ],
+    )
+    # "yes" once the contractor has seen the filled-in release on its confirmation step;
+    # a first sending of a complete form only shows that step.
+    confirmed = HiddenField()
+
+
+class SignOffForm(FlaskForm):
+    """The engineer's sign-off of the site record: the name it is signed with and the
+    statement; what it covers is taken by the server at the moment of signing."""
+
+    engineer_name = StringField(
+        "Your name, as you sign",
+        filters=[_strip],
+        validators=[
+            DataRequired("Write your name: the sign-off is signed with it."),
+            Length(max=NAME_MAX, message=f"Keep the name under {NAME_MAX} characters."),
+        ],
+    )
+    statement = TextAreaField(
+        "Statement",
         filters=[_strip],
         validators=[
             DataRequired("Write the statement you are signing."),

@@ -50,6 +50,17 @@ from sitecheck.bearing.inputs import (
 )
 from sitecheck.bearing.review import ReviewSettings
 from sitecheck.schedule import FIELD_TO_COLUMN
+from sitecheck.settings_words import (  # noqa: F401  (the settings page's words, re-exported)
+    BASIS_FLAGS,
+    BASIS_GROUPS,
+    BASIS_LABELS,
+    CREEP_TABLES,
+    GAMMA_M_BS_ROWS,
+    GAMMA_M_EC6_ROWS,
+    K_MORTARS,
+    REVIEW_LABELS,
+    source_tag,
+)
 
 # --- small parts -------------------------------------------------------------------------------
 
@@ -129,20 +140,6 @@ def parse_number(field, unit: str = "", *, required: bool = False, what: str = "
         add_error(field, "Expected a finite number.")
         return None
     return value
-
-
-def source_tag(text: str) -> tuple[str, str] | None:
-    """The source label at the end of a SOURCES entry, with the words the screen shows."""
-    for tag, words in (
-        ("[M]", "from memory: confirm against the standard before relying on it"),
-        ("[P]", "partly seen in a published source"),
-        ("[S]", "seen in a published source"),
-        ("[CP]", "common practice"),
-        ("[ours", "a choice of this tool"),
-    ):
-        if tag in text:
-            return tag.strip("[]"), words
-    return None
 
 
 def utc_text(value: str | None) -> str:
@@ -742,89 +739,12 @@ def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
 
 # --- site settings: the code basis and the review settings -------------------------------------
 
-# What each scalar of the code basis is called on the form; its bounds are the core's
-# (sitecheck.bearing.basis.SCALAR_BOUNDS), so a value the form takes the core takes too.
-BASIS_LABELS: dict[str, tuple[str, str]] = {
-    "gamma_c": ("Partial factor for concrete γ_c", ""),
-    "alpha_cc": ("Long-term coefficient α_cc", ""),
-    "alpha_cc_pl": ("Long-term coefficient for plain concrete α_cc,pl", ""),
-    "plb_limit_factor": ("Limit on F_Rdu / (A_c0 f_cd)", ""),
-    "padstone_spread_deg": ("Spread through the padstone", "°"),
-    "f_b_max": ("Greatest normalised unit strength f_b", "N/mm²"),
-    "f_m_max": ("Greatest mortar strength f_m", "N/mm²"),
-    "collar_joint_factor": ("Factor on K for a wall with a collar joint", ""),
-    "masonry_spread_deg": ("Spread through the masonry", "°"),
-    "beta_area_ratio_cap": ("Cap on A_b / A_ef for β", ""),
-    "spreader_min_depth": ("Spreader: least depth", "mm"),
-    "spreader_length_factor": ("Spreader: least length, × bearing length", ""),
-    "spreader_stress_factor": ("Spreader: stress limit, × f_d", ""),
-    "max_eccentricity_ratio": ("Greatest eccentricity across the wall, × t", ""),
-    "k_E": ("Modulus of elasticity, × f_k", ""),
-    "e_mk_min_ratio": ("Least mid-height eccentricity e_mk, × t", ""),
-    "e_init_divisor": ("Initial eccentricity e_init = h_ef / …", ""),
-    "dispersion_depth_ratio": ("Depth of the dispersion check, × h", ""),
-    "bs_min_eccentricity_ratio": ("Least eccentricity e_x, × t", ""),
-    "slenderness_limit": ("Greatest slenderness h_ef / t_ef", ""),
-    "min_bearing_beam": ("Least bearing of a steel beam", "mm"),
-    "min_bearing_lintel": ("Least end bearing of a lintel", "mm"),
-    "inline_flange_allowance": ("In line: flange may exceed t by", "mm"),
-    "inline_padstone_min_length": ("In line: least padstone length", "mm"),
-    "inline_web_tolerance": ("In line: web within, of the wall's centre line", "mm"),
-}
+# The words are the settings page's and the site record's (sitecheck.settings_words); the
+# bounds are the core's (sitecheck.bearing.basis.SCALAR_BOUNDS), so a value the form takes
+# the core takes too.
 BASIS_SCALARS: dict[str, tuple[str, str, float, float]] = {
     name: (label, unit, *SCALAR_BOUNDS[name]) for name, (label, unit) in BASIS_LABELS.items()
 }
-BASIS_GROUPS = (
-    (
-        "Concrete padstone (EN 1992-1-1)",
-        (
-            "gamma_c",
-            "alpha_cc",
-            "alpha_cc_pl",
-            "plain_partial_area_enhancement",
-            "plb_limit_factor",
-            "padstone_spread_deg",
-        ),
-    ),
-    ("Masonry strength (EC6)", ("f_b_max", "f_m_max", "collar_joint_factor")),
-    (
-        "Concentrated loads (EC6 6.1.3)",
-        (
-            "masonry_spread_deg",
-            "beta_area_ratio_cap",
-            "spreader_min_depth",
-            "spreader_length_factor",
-            "spreader_stress_factor",
-            "spreader_route_for_groups_2_to_4",
-            "max_eccentricity_ratio",
-        ),
-    ),
-    ("Mid-height (EC6 6.1.2 and Annex G)", ("k_E", "e_mk_min_ratio", "e_init_divisor")),
-    ("Local bearing (BS 5628-1)", ("dispersion_depth_ratio", "bs_min_eccentricity_ratio")),
-    ("Both code bases", ("slenderness_limit",)),
-    (
-        "Rules of the trade",
-        (
-            "min_bearing_beam",
-            "min_bearing_lintel",
-            "inline_flange_allowance",
-            "inline_padstone_min_length",
-            "inline_web_tolerance",
-        ),
-    ),
-)
-# The code basis's yes/no values, shown as ticks in their group above.
-BASIS_FLAGS: dict[str, str] = {
-    "spreader_route_for_groups_2_to_4": "Allow the spreader route for Groups 2 to 4",
-    "plain_partial_area_enhancement": (
-        "Allow the partially loaded area enhancement √(A_c1/A_c0) for plain padstones"
-    ),
-}
-# The creep tables of EC6 6.1.2.2, one row per unit material.
-CREEP_TABLES = (
-    ("creep_lambda_c", "λ_c, slenderness up to which e_k = 0"),
-    ("creep_phi_inf", "Final creep coefficient φ_∞"),
-)
 
 
 def creep_field_name(table: str, material: str) -> str:
@@ -834,43 +754,23 @@ def creep_field_name(table: str, material: str) -> str:
 K_BOUNDS = TABLE_BOUNDS["k_values"]
 GAMMA_BOUNDS = TABLE_BOUNDS["gamma_M_ec6"]
 BEARING_TYPE_BOUNDS = TABLE_BOUNDS["bearing_type_factors"]
-K_MORTARS = ("general", "thin-layer")
-GAMMA_M_EC6_ROWS = (
-    ("1|I", "Execution class 1, category I"),
-    ("1|II", "Execution class 1, category II"),
-    ("2|I", "Execution class 2, category I"),
-    ("2|II", "Execution class 2, category II"),
-)
-GAMMA_M_BS_ROWS = (
-    ("special|special", "Manufacturing special, construction special"),
-    ("special|normal", "Manufacturing special, construction normal"),
-    ("normal|special", "Manufacturing normal, construction special"),
-    ("normal|normal", "Manufacturing normal, construction normal"),
-)
 
+# Plausibility bounds of ours on the review settings, to catch a slip, not code limits.
+_REVIEW_BOUNDS = {
+    "threshold": (0.1, 1.0),
+    "rise_margin": (0.0, 1.0),
+    "tol_bearing_length": (0.0, 100.0),
+    "tol_flange_width": (0.0, 100.0),
+    "tol_padstone": (0.0, 100.0),
+    "tol_wall_thickness": (0.0, 100.0),
+    "tol_wall_thickness_ratio": (0.0, 0.5),
+    "tol_end_distance": (0.0, 500.0),
+    "tol_position": (0.0, 200.0),
+    "max_packing": (0.0, 100.0),
+}
 REVIEW_FIELDS: dict[str, tuple[str, str, float, float, str]] = {
-    "threshold": ("Utilisation above which the engineer looks", "", 0.1, 1.0, "[ours]"),
-    "rise_margin": ("Allowed rise of utilisation over the design's", "", 0.0, 1.0, "[ours]"),
-    "tol_bearing_length": ("Tolerance on bearing length", "mm", 0.0, 100.0, "[ours]"),
-    "tol_flange_width": ("Tolerance on flange width", "mm", 0.0, 100.0, "[ours]"),
-    "tol_padstone": ("Tolerance on padstone sizes", "mm", 0.0, 100.0, "[ours]"),
-    "tol_wall_thickness": (
-        "Tolerance on wall thickness",
-        "mm",
-        0.0,
-        100.0,
-        "±5 mm or ±5 %, EN 1996-2 [M]",
-    ),
-    "tol_wall_thickness_ratio": (
-        "Tolerance on wall thickness, × t",
-        "",
-        0.0,
-        0.5,
-        "±5 mm or ±5 %, EN 1996-2 [M]",
-    ),
-    "tol_end_distance": ("Tolerance on a1 and a2", "mm", 0.0, 500.0, "[ours]"),
-    "tol_position": ("Tolerance on the beam's position", "mm", 0.0, 200.0, "[ours]"),
-    "max_packing": ("Greatest packing under the beam", "mm", 0.0, 100.0, "[ours]"),
+    name: (label, unit, *_REVIEW_BOUNDS[name], source)
+    for name, (label, unit, source) in REVIEW_LABELS.items()
 }
 
 

@@ -44,7 +44,14 @@ from sitecheck.photos import (
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.auth import login_required
-from sitecheck.web.pages import listing, page_rule, render_page, search_words, wants_json
+from sitecheck.web.pages import (
+    listing,
+    looked_now,
+    page_rule,
+    render_page,
+    search_words,
+    wants_json,
+)
 from sitecheck.web.record_form import (
     GROUPS,
     MAX_PHOTOS,
@@ -55,6 +62,7 @@ from sitecheck.web.record_form import (
     designed_text,
     when_text,
 )
+from sitecheck.web.review import engineer_words
 
 bp = Blueprint("inspect", __name__)
 
@@ -130,6 +138,7 @@ def bearings(site_id):
         for b in found[page.offset : page.offset + page.size]
     ]
     to_survey = sum(1 for b in rows if survey_rank(b) < OTHER_RANK)
+    looked_now([site["id"]])
     return render_page(
         "inspect/bearings.html",
         site=_site_summary(site),
@@ -364,7 +373,15 @@ def _form_page(site, bearing, form, *, general=(), status=200):
             "survey_url": url_for("inspect.bearings", site_id=site["id"]),
             "next": upcoming,
         },
+        engineer_words=_engineer_words(site, bearing),
     )
+
+
+def _engineer_words(site, bearing) -> dict | None:
+    """What the engineer asked for on this bearing, if it still stands (measure again,
+    remedial work), to show above the form."""
+    decision = store.latest_decisions(get_db(), site_id=site["id"], bearing_id=bearing["id"])
+    return engineer_words(workflow.standing_decision(bearing["state"], decision.get(bearing["id"])))
 
 
 def _core_problems(site, bearing, form) -> list[InputError]:

@@ -114,9 +114,48 @@ def _jsonable(value):
 def home():
     db = get_db()
     sites = store.sites_for_user(db, g.user["id"])
-    queue = store.review_queue(db, user_id=g.user["id"])
     invitations = store.open_invitations_for_email(db, email=g.user["email"])
-    return render_page("home.html", sites=sites, queue_count=len(queue), invitations=invitations)
+    since = since_you_looked(store.since_last_looked(db, user_id=g.user["id"]))
+    for s in sites:
+        s["since"] = since.get(s["id"], [])
+    queue_count = store.to_decide_counts(db, user_id=g.user["id"])["waiting"]
+    return render_page("home.html", sites=sites, queue_count=queue_count, invitations=invitations)
+
+
+# A kind's references listed by name; past this many the count says the rest.
+SINCE_REFERENCES = 12
+
+
+def since_you_looked(rows: list[dict]) -> dict[str, list[dict]]:
+    """Per site, what came into the person's hands since they last looked there: one entry
+    per kind with its count, words and the bearings' references, in the kinds' order."""
+    from sitecheck.notices import KINDS
+
+    out: dict[str, dict[str, dict]] = {}
+    for row in rows:
+        kinds = out.setdefault(row["site_id"], {})
+        entry = kinds.setdefault(
+            row["kind"],
+            {"kind": row["kind"], "count": 0, "references": [], "looked_at": row["looked_at"]},
+        )
+        entry["count"] += 1
+        if len(entry["references"]) < SINCE_REFERENCES:
+            entry["references"].append(row["reference"])
+    order = list(KINDS)
+    return {
+        site_id: [
+            {**e, "words": f"{e['count']} {KINDS[e['kind']].since}"}
+            for e in sorted(kinds.values(), key=lambda e: order.index(e["kind"]))
+        ]
+        for site_id, kinds in out.items()
+    }
+
+
+def looked_now(site_ids) -> None:
+    """The person has just seen these sites' bearings: "since you last looked" starts again.
+    Only the HTML page counts as looking (a .json twin may be read by a script)."""
+    if g.user is not None and not wants_json():
+        store.looked(get_db(), user_id=g.user["id"], site_ids=site_ids)
 
 
 def error_page(error):
@@ -152,7 +191,16 @@ def install_template_helpers(app) -> None:
             "symbol_words": words_for,
             "drawing_key": DRAWING_KEY,
             "local_time": local_time,
+            "decide_counts": _decide_counts,
         }
+
+
+def _decide_counts() -> dict:
+    """For the header: bearings waiting for this engineer, and how many are new since they
+    last looked (zeros for anyone who is nobody's engineer)."""
+    if getattr(g, "user", None) is None:
+        return {"waiting": 0, "new": 0}
+    return store.to_decide_counts(get_db(), user_id=g.user["id"])
 
 
 def state_badge(state: str) -> Markup:

@@ -15,8 +15,6 @@ are kept under the app's folder.
 
 from __future__ import annotations
 
-import re
-import unicodedata
 from datetime import UTC, datetime
 from pathlib import Path
 
@@ -34,15 +32,17 @@ from flask import (
 )
 from markupsafe import Markup
 
-from sitecheck import store
+from sitecheck import store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.report import export
 from sitecheck.report.collect import collect
 from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
 from sitecheck.report.jobs import RecordJobs, TooManyRecords, site_record
+from sitecheck.report.summary import DEFAULT_SIGN_OFF, covers_words
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
 from sitecheck.web.auth import login_required
+from sitecheck.web.decision_forms import SignOffForm
 from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("record", __name__)
@@ -88,10 +88,8 @@ def record_jobs() -> RecordJobs:
 
 def safe_filename(name: str, suffix: str, when: datetime | None = None) -> str:
     """A file name any system accepts, made from the site's name and a date (today, unless
-    `when` says)."""
-    plain = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
-    slug = re.sub(r"[^A-Za-z0-9]+", "-", plain).strip("-").lower()[:40].strip("-") or "site"
-    return f"{slug}-{when or datetime.now(UTC):%Y-%m-%d}{suffix}"
+    `when` says); the PDF names the data export by the same rule."""
+    return export.file_name(name, suffix, when)
 
 
 def _download(data: bytes, mimetype: str, filename: str) -> Response:
@@ -104,11 +102,26 @@ def _download(data: bytes, mimetype: str, filename: str) -> Response:
 @login_required
 def site(site_id):
     found, role = site_for(site_id, "export")
+    return _record_page(found, role)
+
+
+def _record_page(found: dict, role: str, form: SignOffForm | None = None, status: int = 200):
+    site_id = found["id"]
     db = get_db()
     bearings = store.list_bearings(db, site_id=site_id)
     jobs = record_jobs()
+    may_sign = workflow.allowed(role, "sign-off")
+    if may_sign and form is None:
+        form = SignOffForm(formdata=None, engineer_name=g.user["name"], statement=DEFAULT_SIGN_OFF)
     return render_page(
         "record/site.html",
+        status=status,
+        sign_off=_sign_off_summary(db, site_id),
+        would_cover=covers_words(
+            store.site_extent(db, site_id=site_id), "the site record as it stands now"
+        ),
+        may_sign=may_sign,
+        sign_off_form=form if may_sign else None,
         site={"id": found["id"], "name": found["name"], "address": found["address"]},
         role=role,
         bearing_count=len(bearings),
@@ -126,6 +139,44 @@ def site(site_id):
             for k, label, endpoint, hint in DOWNLOADS
         ],
     )
+
+
+@bp.post("/sites/<site_id>/record/sign-off")
+@login_required
+def sign_off(site_id):
+    """The engineer signs the site record off as it stands now; the next PDF carries it."""
+    found, role = site_for(site_id, "sign-off")
+    form = SignOffForm()
+    if not form.validate_on_submit():
+        return _record_page(found, role, form, status=400)
+    signed = store.add_sign_off(
+        get_db(),
+        site_id=site_id,
+        engineer_id=g.user["id"],
+        engineer_name=form.engineer_name.data,
+        statement=form.statement.data,
+    )
+    flash(
+        f"Signed off by {signed['engineer_name']}. The site record made from now on carries "
+        "this sign-off on its first page."
+    )
+    return redirect(url_for("record.site", site_id=site_id))
+
+
+def _sign_off_summary(db, site_id: str) -> dict | None:
+    """The newest sign-off, what it covers in words, and how much changed since."""
+    signed = store.latest_sign_off(db, site_id=site_id)
+    if signed is None:
+        return None
+    return {
+        "engineer_name": signed["engineer_name"],
+        "statement": signed["statement"],
+        "signed_at": signed["created_at"],
+        "covers": covers_words(signed["covers"]),
+        "changes_since": store.changes_since(
+            db, site_id=site_id, event_id=signed["covers"].get("last_event_id")
+        ),
+    }
 
 
 @bp.get("/sites/<site_id>/record.pdf")

@@ -19,8 +19,15 @@ from sitecheck.web.decision_forms import (
     ReleaseForm,
     ReopenForm,
 )
-from sitecheck.web.pages import page_rule, render_page, wants_json
-from sitecheck.web.review import as_sentence, bearing_page, site_names, when
+from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
+from sitecheck.web.review import (
+    as_sentence,
+    bearing_page,
+    decision_title,
+    engineer_words,
+    site_names,
+    when,
+)
 
 bp = Blueprint("release", __name__)
 
@@ -35,6 +42,7 @@ def site(site_id):
     if request.method == "POST":
         return _release(site_id)
     found, _role = site_for(site_id, "view")
+    looked_now([found["id"]])
     return _release_page(found, ReleaseForm(formdata=None))
 
 
@@ -48,6 +56,14 @@ def _release(site_id: str):
     # Every id is resolved before anything is released: an id from another site stops the
     # whole request (404) rather than leaving it half done.
     chosen = [bearing_for(found, bearing_id) for bearing_id in ids]
+    if form.confirmed.data != "yes":
+        # Complete, so now (and only now) the contractor sees exactly what they sign.
+        confirm = {
+            "bearings": [{"id": b["id"], "reference": b["reference"]} for b in chosen],
+            "contractor_name": form.contractor_name.data,
+            "statement": form.statement.data,
+        }
+        return _release_page(found, form, confirm=confirm)
     released, refused = [], []
     for b in chosen:
         try:
@@ -76,18 +92,32 @@ def _release(site_id: str):
     return _release_page(found, fresh, outcome=outcome, status=status)
 
 
-def _release_page(found: dict, form: ReleaseForm, *, outcome: dict | None = None, status=200):
+def _release_page(
+    found: dict,
+    form: ReleaseForm,
+    *,
+    outcome: dict | None = None,
+    confirm: dict | None = None,
+    status=200,
+):
     db = get_db()
     names = site_names(db, found["id"])
     ready, waiting, done = [], [], []
     selected = set(form.bearings.data or [])
+    decisions = store.latest_decisions(db, site_id=found["id"])
     for b in store.list_bearings(db, site_id=found["id"]):
+        actor, next_step = workflow.who_acts(b["state"])
         item = {
             "id": b["id"],
             "reference": b["reference"],
             "location": b["location"],
             "state": b["state"],
             "since": b["state_changed_at"],
+            "who_acts": actor,
+            "next_step": next_step,
+            "engineer_words": engineer_words(
+                workflow.standing_decision(b["state"], decisions.get(b["id"]))
+            ),
         }
         if workflow.can_release(b["state"]):
             item["selected"] = b["id"] in selected
@@ -104,7 +134,12 @@ def _release_page(found: dict, form: ReleaseForm, *, outcome: dict | None = None
                 }
             done.append(item)
         else:
-            item["reason"] = workflow.release_refusal(b["state"], reference=b["reference"])
+            words = item["engineer_words"]
+            item["reason"] = workflow.release_refusal(
+                b["state"],
+                reference=b["reference"],
+                measure_again=words is not None and b["state"] == workflow.AWAITING_SURVEY,
+            )
             waiting.append(item)
     return render_page(
         "release/site.html",
@@ -116,6 +151,7 @@ def _release_page(found: dict, form: ReleaseForm, *, outcome: dict | None = None
         waiting=waiting,
         released=done,
         outcome=outcome,
+        confirm=confirm,
         form=form,
         when=when,
     )
@@ -254,6 +290,7 @@ def _event(e: dict, names, references: dict) -> dict:
 _NOTE_LABELS = {
     "kind": "decision",
     "reason": "reason",
+    "engineer_name": "signed as",
     "contractor_name": "signed as",
     "statement": "statement",
     "action": "tried to",
@@ -275,6 +312,9 @@ def _notes(extra: dict) -> list[str]:
         elif key == "action":
             value = ACTION_WORDS.get(value, value)
         lines.append(f"{label}: {_short(value)}")
+    failing = extra.get("accepted_failing")
+    if isinstance(failing, dict):
+        lines.insert(0, decision_title({"kind": "accept", "accepted_failing": failing}).lower())
     if extra.get("late") or extra.get("after_release"):
         lines.append("recorded after release: kept and listed for the engineer; it moves nothing")
     elif extra.get("newest") is False:

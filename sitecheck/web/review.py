@@ -7,11 +7,12 @@ stored with their traces); nothing is re-calculated here.
 
 from __future__ import annotations
 
-from flask import Blueprint, current_app, flash, g, redirect, url_for
+from flask import Blueprint, current_app, flash, g, redirect, request, url_for
 
 from sitecheck import services, store, workflow
 from sitecheck.bearing.format import number, quantity
 from sitecheck.bearing.review import FIELD_LABELS
+from sitecheck.report.summary import CHECKLIST_QUESTIONS, decision_title
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.auth import login_required
@@ -22,7 +23,7 @@ from sitecheck.web.decision_forms import (
     KeepReleaseForm,
     ReopenForm,
 )
-from sitecheck.web.pages import listing, page_rule, render_page
+from sitecheck.web.pages import listing, looked_now, page_rule, render_page
 from sitecheck.web.record_form import MEASUREMENT_FIELDS, SPECS, designed_value
 
 bp = Blueprint("review", __name__)
@@ -38,31 +39,76 @@ QUEUE_PAGE = 50  # bearings the queue shows at once
 def queue():
     db = get_db()
     user_id = g.user["id"]
-    is_engineer = any(s["role"] == workflow.ENGINEER for s in store.sites_for_user(db, user_id))
-    rows = store.review_queue(db, user_id=user_id) if is_engineer else []
-    # Most serious first over the whole queue; a page of it is shown.
-    page = listing(len(rows), QUEUE_PAGE)
-    items = [_queue_item(r) for r in rows[page.offset : page.offset + page.size]]
+    mine = [s for s in store.sites_for_user(db, user_id) if s["role"] == workflow.ENGINEER]
+    is_engineer = bool(mine)
+    new = {
+        row["bearing_id"]
+        for row in store.since_last_looked(db, user_id=user_id)
+        if row["kind"] == "to-decide"
+    }
+    everything = queue_items(db, user_id, new=new) if is_engineer else []
+    chosen = _filters()
+    matching = [i for i in everything if _passes(i, chosen)]
+    # Most serious first over the whole queue; a page of what the filters keep is shown.
+    page = listing(len(matching), QUEUE_PAGE)
+    items = matching[page.offset : page.offset + page.size]
     if not is_engineer:
         sentence = "Only a site's engineer decides on bearings, and you are not the engineer on any site, so there is nothing here for you."
-    elif not items:
+    elif not everything:
         sentence = "Nothing to decide: no bearing on your sites is waiting for the engineer."
+    elif not items:
+        sentence = "No bearing waiting for you matches these filters."
     else:
         sentence = None
+    looked_now([s["id"] for s in mine])
     return render_page(
         "review/queue.html",
         items=items,
+        waiting=len(everything),
         is_engineer=is_engineer,
         sentence=sentence,
+        filters=chosen,
+        site_options=_site_options(mine, everything),
+        reason_options=_reason_options(everything),
         when=when,
         listing=page,
     )
 
 
-def _queue_item(row: dict) -> dict:
-    reasons = row.get("reasons") or []
-    blocking = [r for r in reasons if r.get("severity") == "blocks"]
-    first = (blocking or reasons or [None])[0]
+def queue_items(db, user_id: int, *, new=frozenset()) -> list[dict]:
+    """The bearings waiting for this engineer, most serious first: failing as built, then
+    blocking reasons, then advisory only; within each, the highest utilisation, the most
+    blocking reasons, then the longest waiting."""
+    items = [_queue_item(r, new) for r in store.review_queue(db, user_id=user_id)]
+    items.sort(
+        key=lambda i: (
+            i["tier"],
+            -_worst(i),
+            -i["blocking"],
+            i["waiting_since"],
+            i["bearing_id"],
+        )
+    )
+    return items
+
+
+def _worst(item: dict) -> float:
+    """The utilisation a queue item is ordered by: the worst recorded after a release, else
+    the latest record's; no capacity at all counts as the worst there is."""
+    u = item["worst_after_release"] if item["after_release"] else item["utilisation"]
+    return float("inf") if u is None else u
+
+
+def _queue_item(row: dict, new) -> dict:
+    reasons = workflow.ordered_reasons(row.get("reasons"))
+    first = reasons[0] if reasons else None
+    has_record = row["latest_record_uuid"] is not None
+    tier = workflow.queue_tier(bool(row["passed"]) if has_record else None, reasons)
+    worst_late = row["worst_after_release"]
+    if row["state"] == workflow.RELEASED:
+        # Released, with evidence recorded since: it waits as blocking, or as failing when
+        # a record after the release fails (its utilisation is the one that counts).
+        tier = workflow.FAILING if worst_late is not None and worst_late > 1 else workflow.BLOCKING
     return {
         "site_id": row["site_id"],
         "site_name": row["site_name"],
@@ -71,9 +117,15 @@ def _queue_item(row: dict) -> dict:
         "location": row["location"],
         "state": row["state"],
         "utilisation": row["utilisation"],
-        "has_record": row["latest_record_uuid"] is not None,
+        "has_record": has_record,
+        "tier": tier,
+        "tier_words": workflow.TIER_WORDS[tier],
         "blocking": row["blocking"] or 0,
         "first_reason": first["sentence"] if first else None,
+        "reasons": [
+            {"code": r["code"], "severity": r["severity"], "sentence": r["sentence"]}
+            for r in reasons
+        ],
         "older_revision": bool(row["older_revision"]),
         "measured_at": row["measured_at"],
         # Released bearings wait from the first thing recorded after their release.
@@ -81,6 +133,7 @@ def _queue_item(row: dict) -> dict:
         # Released, and something was recorded since: the engineer reopens or keeps it.
         "after_release": _after_release_counts(row),
         "worst_after_release": row["worst_after_release"],
+        "new": row["id"] in new,
     }
 
 
@@ -94,6 +147,87 @@ def _after_release_counts(row: dict) -> dict | None:
         if n
     ]
     return {"records": records or 0, "photos": photos or 0, "text": " and ".join(parts)}
+
+
+def _filters() -> dict:
+    """The queue's filters from the address: ``site`` (an id) and ``reason`` (a code)."""
+    return {
+        key: value for key in ("site", "reason") if (value := (request.args.get(key) or "").strip())
+    }
+
+
+def _passes(item: dict, chosen: dict) -> bool:
+    if chosen.get("site") and item["site_id"] != chosen["site"]:
+        return False
+    return not chosen.get("reason") or any(r["code"] == chosen["reason"] for r in item["reasons"])
+
+
+def _site_options(mine: list[dict], items: list[dict]) -> list[dict]:
+    return [
+        {
+            "value": s["id"],
+            "label": s["name"],
+            "count": sum(1 for i in items if i["site_id"] == s["id"]),
+        }
+        for s in mine
+    ]
+
+
+def _reason_options(items: list[dict]) -> list[dict]:
+    counts: dict[str, int] = {}
+    for item in items:
+        for code in dict.fromkeys(r["code"] for r in item["reasons"]):
+            counts[code] = counts.get(code, 0) + 1
+    return [
+        {"value": code, "label": reason_name(code), "count": n}
+        for code, n in sorted(counts.items(), key=lambda kv: (-kv[1], reason_name(kv[0])))
+    ]
+
+
+# Short names of the review reasons' codes, for the queue's filter (each reason's own
+# sentence says the rest).
+REASON_NAMES = {
+    "check-fails": "A check fails as built",
+    "not-measured": "Not measured",
+    "could-not-measure": "Could not be measured",
+    "above-threshold": "Above the review threshold",
+    "utilisation-rise": "Utilisation rose",
+    "padstone-missing": "Padstone missing",
+    "padstone-added": "Padstone added",
+    "hollow-units": "Hollow units built",
+    "spreader-lost": "No longer a spreader",
+    "masonry-weaker": "Weaker masonry",
+    "masonry-unverified": "Masonry not verified",
+    "masonry-changed": "Masonry changed",
+    "concrete-weaker": "Weaker concrete",
+    "not-bedded": "Padstone not bedded",
+    "packing-thick": "Thick packing",
+    "cracks": "Cracks near the bearing",
+    "cut-units": "Cut or hollow units",
+    "not-level": "Padstone not level",
+    "bearing-type-basis": "Bearing type changed",
+    "older-design-revision": "Older design revision",
+    "clock-ahead": "Phone clock ahead",
+    "position-along": "Beam moved along",
+    "position-across": "Beam moved across",
+}
+
+
+def reason_name(code: str) -> str:
+    if code in REASON_NAMES:
+        return REASON_NAMES[code]
+    if code.endswith("-off"):
+        return code.removesuffix("-off").replace("-", " ").capitalize() + " off the design"
+    return code.replace("-", " ").capitalize()
+
+
+def next_to_decide(db, user_id: int, chosen: dict, *, after: str) -> dict | None:
+    """The next bearing for this engineer within the same filters, the one just decided
+    (``after``) left out."""
+    return next(
+        (i for i in queue_items(db, user_id) if i["bearing_id"] != after and _passes(i, chosen)),
+        None,
+    )
 
 
 # --- one bearing --------------------------------------------------------------------------------
@@ -129,17 +263,38 @@ def decide(site_id, bearing_id):
             kind=form.kind.data,
             reason=form.reason.data,
             engineer_id=g.user["id"],
+            engineer_name=g.user["name"],
+            confirmed_failing=bool(form.confirm_failing.data),
         )
+    except services.AcceptFailingRefused as refused:
+        # The engineer's words stay in the box; the message sits by the field to mend.
+        getattr(form, refused.field).errors = [str(refused)]
+        return bearing_page(site, found, decision_form=form, status=400)
     except (store.StaleState, workflow.WorkflowError) as error:
         fresh = bearing_for(site, bearing_id)
         keep = DecisionForm(formdata=None, kind=form.kind.data, reason=form.reason.data)
         return bearing_page(site, fresh, decision_form=keep, message=as_sentence(error), status=409)
     now = bearing_for(site, bearing_id)
-    flash(
+    done = (
         f"Decision kept: {DECISION_LABELS[form.kind.data].lower()}. "
         f"Bearing {now['reference']} is now '{now['state']}'."
     )
-    return redirect(url_for("review.bearing", site_id=site["id"], bearing_id=bearing_id))
+    # Straight on to the next bearing waiting for this engineer, within the same filters.
+    chosen = _filters()
+    following = next_to_decide(db, g.user["id"], chosen, after=bearing_id)
+    if following is None:
+        left = "with these filters " if chosen else ""
+        flash(f"{done} Nothing else waits for your decision {left}now.")
+        return redirect(url_for("review.queue", **chosen))
+    flash(f"{done} Next to decide: {following['reference']} ({following['site_name']}).")
+    return redirect(
+        url_for(
+            "review.bearing",
+            site_id=following["site_id"],
+            bearing_id=following["bearing_id"],
+            **chosen,
+        )
+    )
 
 
 def _nothing_to_decide(b: dict) -> str:
@@ -201,6 +356,9 @@ def bearing_page(
     return render_page(
         "review/bearing.html",
         status=status,
+        filters=_filters(),
+        failing=services.failing_as_built(latest),
+        sentence_rule=workflow.FULL_SENTENCE_WORDS,
         site={"id": site["id"], "name": site["name"]},
         role=g.role,
         bearing=_bearing_summary(b),
@@ -367,13 +525,7 @@ def _value_text(value, unit: str) -> str:
     return f"{value} {unit}".strip()
 
 
-_CHECKLIST = (
-    ("bedded", "Padstone fully bedded on mortar", ""),
-    ("packing", "Packing under the beam", "mm"),
-    ("cracks", "Cracks in the masonry near the bearing", ""),
-    ("cut_units", "Cut or hollow units under the padstone", ""),
-    ("level", "Padstone level", ""),
-)
+_CHECKLIST = CHECKLIST_QUESTIONS
 
 
 def _checklist(answers: dict) -> list[dict]:
@@ -401,11 +553,12 @@ def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[di
         entries.append(
             {
                 "what": "decision",
-                "title": DECISION_LABELS.get(d["kind"], d["kind"]),
+                "title": decision_title(d),
                 "at": d["created_at"],
-                "who": names(d["engineer_id"]),
+                "who": d.get("engineer_name") or names(d["engineer_id"]),
                 "text": d["reason"],
                 "record_uuid": d["record_uuid"],
+                "accepted_failing": bool(d.get("accepted_failing")),
             }
         )
     for r in store.releases_for(db, site_id=site_id, bearing_id=bearing_id):
@@ -442,6 +595,20 @@ def bearing_history(db, site_id: str, bearing_id: str, names: _Names) -> list[di
         )
     entries.sort(key=lambda e: e["at"], reverse=True)
     return entries
+
+
+def engineer_words(decision: dict | None) -> dict | None:
+    """The engineer's words of a decision (from ``store.latest_decisions``, which names the
+    signer), as the release list, the inspector's form and the site pack show them."""
+    if decision is None:
+        return None
+    return {
+        "kind": decision["kind"],
+        "title": decision_title(decision),
+        "text": decision["reason"],
+        "by": decision["signed_by"],
+        "at": decision["created_at"],
+    }
 
 
 class _Names:

@@ -73,7 +73,13 @@ _SITE = ("id", "name", "address", "basis", "created_at")
 @shape("home.html")
 def _home(c, _role):
     return {
-        "sites": pick_all(c["sites"], "id", "name", "address", "role"),
+        "sites": [
+            {
+                **pick(s, "id", "name", "address", "role"),
+                "since": pick_all(s.get("since"), "kind", "count", "words", "references"),
+            }
+            for s in c["sites"]
+        ],
         "queue_count": c["queue_count"],
         "invitations": pick_all(
             c.get("invitations"), "id", "site_name", "role", "invited_by_name", "expires_at"
@@ -94,16 +100,24 @@ def _queue(c, _role):
             "state",
             "utilisation",
             "has_record",
+            "tier",
+            "tier_words",
             "blocking",
             "first_reason",
+            "reasons",
             "older_revision",
             "measured_at",
             "waiting_since",
+            "new",
             "after_release",
             "worst_after_release",
         ),
+        "waiting": c["waiting"],
         "is_engineer": c["is_engineer"],
         "sentence": c["sentence"],
+        "filters": c["filters"],
+        "site_options": c["site_options"],
+        "reason_options": c["reason_options"],
         "listing": c["listing"].as_dict(),
     }
 
@@ -119,6 +133,8 @@ def _site(c, role):
         "bearings": c["bearings"],  # rows the view already picked (_schedule_row)
         "counts": c["counts"],
         "failing_at_design": c["failing_at_design"],
+        "since": pick_all(c["since"], "kind", "count", "words", "references"),
+        "next_for_you": pick(c["next_for_you"], "count", "words", "url"),
         # Which page of the schedule this is, and the state and search that chose it.
         "listing": c["listing"].as_dict(),
         "chosen": c["chosen"],
@@ -259,8 +275,17 @@ def _review(c, role):
         ),
         "records": pick_all(c["records"], *_RECORD),
         "history": pick_all(
-            c["history"], "what", "title", "at", "who", "signed_as", "text", "record_uuid"
+            c["history"],
+            "what",
+            "title",
+            "at",
+            "who",
+            "signed_as",
+            "text",
+            "record_uuid",
+            "accepted_failing",
         ),
+        "failing": c["failing"],
         "decision_kinds": c["decision_kinds"],
         "may_decide": c["may_decide"],
         "may_reopen": c["may_reopen"],
@@ -290,11 +315,13 @@ def _review(c, role):
 
 @shape("release/site.html")
 def _release(c, role):
-    item = ("id", "reference", "location", "state", "since")
+    item = ("id", "reference", "location", "state", "since", "who_acts", "next_step")
+    item += ("engineer_words",)
     return {
         "site": pick(c["site"], "id", "name"),
         "role": role,
         "may_release": c["may_release"],
+        "confirm": c["confirm"],
         "ready": pick_all(c["ready"], *item, "selected"),
         "waiting": pick_all(c["waiting"], *item, "reason"),
         "released": pick_all(c["released"], *item, "released_at", "signed_as", "by", "statement"),
@@ -422,6 +449,9 @@ def _record(c, role):
         "site": pick(c["site"], "id", "name", "address"),
         "role": role,
         "bearing_count": c["bearing_count"],
+        "sign_off": c["sign_off"],
+        "would_cover": c["would_cover"],
+        "may_sign": c["may_sign"],
         "pdf": c["pdf"],
         "making": pick(c["making"], *_JOB),
         "current": pick(c["current"], *_JOB),

@@ -65,7 +65,14 @@ from sitecheck.web.design_forms import (
     source_tag,
     utc_text,
 )
-from sitecheck.web.pages import listing, page_rule, render_page, search_words
+from sitecheck.web.pages import (
+    listing,
+    looked_now,
+    page_rule,
+    render_page,
+    search_words,
+    since_you_looked,
+)
 
 bp = Blueprint("sites", __name__)
 
@@ -195,6 +202,8 @@ def show(site_id):
             offset=page.offset,
         )
     ]
+    since = since_you_looked(store.since_last_looked(db, user_id=g.user["id"], site_id=site_id))
+    looked_now([site_id])
     return render_page(
         "sites/show.html",
         site=_site_summary(site),
@@ -204,7 +213,31 @@ def show(site_id):
         failing_at_design=counted["failing_at_design"],
         listing=page,
         chosen={"state": states[0] if states else None, "q": query},
+        since=since.get(site_id, []),
+        next_for_you=_next_for(site_id, role, counted["states"]),
     )
+
+
+# Where each role acts on the bearings waiting for it.
+_ACT_PAGES = {
+    workflow.ENGINEER: ("review.queue", "to decide"),
+    workflow.INSPECTOR: ("inspect.bearings", "to measure"),
+    workflow.CONTRACTOR: ("release.site", "may be closed up"),
+}
+
+
+def _next_for(site_id: str, role: str, counts: dict) -> dict | None:
+    """How many of this site's bearings wait for the person's role, and where to act."""
+    if role not in _ACT_PAGES:
+        return None
+    waiting = sum(n for state, n in counts.items() if workflow.who_acts(state)[0] == role)
+    endpoint, words = _ACT_PAGES[role]
+    args = {"site": site_id} if endpoint == "review.queue" else {"site_id": site_id}
+    return {
+        "count": waiting,
+        "words": f"{waiting} bearing{'' if waiting == 1 else 's'} {words}",
+        "url": url_for(endpoint, **args),
+    }
 
 
 def _site_summary(site: dict) -> dict:

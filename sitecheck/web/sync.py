@@ -60,6 +60,7 @@ from sitecheck.web.record_form import (
     designed_text,
     phone_words,
 )
+from sitecheck.web.review import engineer_words
 from sitecheck.web.symbols import SYMBOL_WORDS
 
 bp = Blueprint("sync", __name__)
@@ -215,6 +216,12 @@ def pack(site_id):
     # ranks them again as their states change just as the survey list does. A bearing's
     # place changes only when bearings are added, and then the whole pack is sent.
     rows = survey_order(found.bearings) if found.full else found.bearings
+    if found.full or len(rows) > 50:
+        decisions = store.latest_decisions(get_db(), site_id=site["id"])
+    else:
+        decisions = {}
+        for b in rows:
+            decisions |= store.latest_decisions(get_db(), site_id=site["id"], bearing_id=b["id"])
     bearings = [
         {
             "id": b["id"],
@@ -225,6 +232,10 @@ def pack(site_id):
             **({"order": b["order"]} if found.full else {}),
             "design": b["design_key"],
             "design_passed": bool(b["design_passed"]),
+            # What the engineer asked for, shown on the form with no signal too.
+            "engineer_words": engineer_words(
+                workflow.standing_decision(b["state"], decisions.get(b["id"]))
+            ),
         }
         for b in rows
     ]

@@ -228,6 +228,19 @@ function offlinePage() {
     return { id: b.id, reference: b.reference, revision: b.revision, site_id: siteId, site_name: pack.site.name };
   }
 
+  // What the engineer asked for on this bearing (measure again, remedial work), from the
+  // site pack, so the inspector reads it in the basement as they would online.
+  function showEngineerWords(words) {
+    const box = form.querySelector("[data-engineer-words]");
+    box.hidden = !words;
+    if (!words) return;
+    box.dataset.kind = words.kind;
+    box.querySelector("[data-engineer-words-title]").textContent = `${words.title}: the engineer's words`;
+    box.querySelector("[data-engineer-words-text]").textContent = words.text;
+    box.querySelector("[data-engineer-words-by]").textContent =
+      `${words.by}, ${words.at.slice(0, 16).replace("T", " ")} UTC (as of the site pack)`;
+  }
+
   async function openForm(b, start = null) {
     bearing = b;
     form.querySelector("[data-form-title]").textContent = `As-built record: ${b.reference}`;
@@ -235,6 +248,7 @@ function offlinePage() {
     form.querySelector("[data-form-state]").replaceChildren("State as last heard: ", badge(b.state));
     const design = designOf(pack, b);
     form.querySelector("[data-form-design-fails]").hidden = Boolean(design.passed);
+    showEngineerWords(b.engineer_words);
     for (const p of form.querySelectorAll("[data-designed-for]")) {
       const text = design.designed[p.dataset.designedFor];
       p.textContent = text ? `designed: ${text}` : "";

@@ -4,6 +4,7 @@ the contractor releases. Screenshots land in test-results/ to be looked at."""
 
 from __future__ import annotations
 
+import re
 import sqlite3
 
 from playwright.sync_api import expect
@@ -54,7 +55,10 @@ def test_inspector_records_engineer_decides_contractor_releases(page, live_serve
 
     # Engineer: the bearing is in the queue; accept it with a written reason.
     log_in(page, "engineer")
-    page.get_by_role("link", name="To decide", exact=True).tap()
+    # The header's link counts what waits: "To decide 5 (1 new)".
+    to_decide = page.get_by_role("link", name=re.compile(r"^To decide \d+"))
+    expect(to_decide).to_contain_text("new")
+    to_decide.tap()
     page.get_by_role("link", name="GF-L1").first.tap()
     expect(page.locator("h1")).to_contain_text("GF-L1")
     shoot("engineer-review")
@@ -63,8 +67,21 @@ def test_inspector_records_engineer_decides_contractor_releases(page, live_serve
         "#reason",
         "130 mm end bearing on a lightly loaded lintel; masonry check passes. Accept as built.",
     )
+    # It fails as built (the lintel's end bearing): accepting it needs its confirmation.
     page.get_by_role("button", name="Keep this decision").tap()
-    expect(page.locator("h1")).to_contain_text("accepted")
+    expect(page.locator("[data-error-for=confirm_failing]")).to_contain_text(
+        "tick the confirmation"
+    )
+    expect(page.locator("#reason")).to_have_value(
+        "130 mm end bearing on a lightly loaded lintel; masonry check passes. Accept as built."
+    )
+    page.locator("#kind-accept").check()
+    page.locator("label[for=confirm_failing]").tap()
+    shoot("engineer-accept-failing")
+    page.get_by_role("button", name="Keep this decision").tap()
+    # Kept, and straight on to the next bearing to decide.
+    expect(page.locator("h1")).not_to_contain_text("GF-L1")
+    expect(page.locator("h1")).to_contain_text("engineer to decide")
     assert _state(live_server, "GF-L1") == "accepted"
     log_out(page)
 
@@ -75,11 +92,15 @@ def test_inspector_records_engineer_decides_contractor_releases(page, live_serve
     page.locator("label", has_text="GF-L1").tap()
     page.fill("#contractor_name", "Lena Varga, Varga Build Ltd")
     shoot("contractor-release")
-    page.once(
-        "dialog", lambda dialog: dialog.accept()
-    )  # "signed and final": the contractor confirms
     page.get_by_role("button", name="Release the ticked bearings").tap()
-    expect(page.locator("main")).to_contain_text("GF-L1")
+    # "Signed and final": the contractor sees what they sign, then signs it.
+    step = page.locator("[data-confirm-release]")
+    expect(step).to_contain_text("GF-L1")
+    expect(step).to_contain_text("Lena Varga, Varga Build Ltd")
+    shoot("contractor-confirm")
+    assert _state(live_server, "GF-L1") == "accepted"
+    step.get_by_role("button", name="Sign and release 1 bearing").tap()
+    expect(page.locator("[data-outcome=released]")).to_contain_text("GF-L1")
     assert _state(live_server, "GF-L1") == "released"
     shoot("contractor-released")
 
