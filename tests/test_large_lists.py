@@ -193,5 +193,7 @@ def test_the_queue_is_shown_a_page_at_a_time_most_serious_first(client_as, db, b
     utilisations = [i["utilisation"] for i in both]
     assert utilisations == sorted(utilisations, reverse=True)
     html = engineer.get("/review?page=2").get_data(as_text=True)
-    assert "55 bearings across your sites" in html and '<ol class="cards queue" start="51">' in html
+    assert (
+        "55 bearings, most serious first" in html and '<ol class="cards queue" start="51">' in html
+    )
     assert re.search(r'href="/review\?page=1"', html)
