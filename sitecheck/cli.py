@@ -11,13 +11,9 @@ from .bearing import BASES, EC6_UK, InputError, basis_named
 from .bearing.format import utilisation
 from .bearing.remedy import remedy
 from .bearing.review import BLOCKS
+from .cautions import CAUTION
 from .config import ConfigError, Settings, load_settings
 from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows
-
-CAUTION = (
-    "Caution: these results support, and never replace, the judgement of a competent "
-    "engineer. Local codes, national annexes and licensed practice govern."
-)
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -26,7 +26,7 @@ from sitecheck import workflow
 from sitecheck.bearing import SOURCES, basis_named
 from sitecheck.bearing.format import quantity, utilisation
 from sitecheck.bearing.review import FIELD_LABELS
-from sitecheck.cli import CAUTION
+from sitecheck.cautions import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
 from sitecheck.report.audit import Words, sentence
 from sitecheck.report.collect import BearingRecord, SiteRecord
