@@ -10,10 +10,9 @@ from pathlib import Path
 from .bearing import BASES, EC6_UK, InputError, basis_named
 from .bearing.format import utilisation
 from .bearing.remedy import remedy
-from .bearing.review import BLOCKS
 from .cautions import CAUTION
 from .config import ConfigError, Settings, load_settings
-from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows
+from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows, row_verdict
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -584,15 +583,6 @@ _OPERATIONS = {
 }
 
 
-def verdict(outcome: RowOutcome) -> str:
-    """One of our state words for a schedule row."""
-    if outcome.result is None:
-        return "awaiting survey" if outcome.design_result.passed else "fails at design"
-    if any(r.severity == BLOCKS for r in outcome.reasons):
-        return "engineer to decide"
-    return "within design"
-
-
 def _basis_overrides(name: str, items: list[str]) -> dict:
     """``--basis-value`` items as overrides of the named basis. Only the shape is read
     here; whether a value makes sense is the core's call (it names the value it refuses)."""
@@ -678,7 +668,7 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
         util = f"{utilisation(r.utilisation):>6}"
         codes = ", ".join(reason.code for reason in o.reasons) or "-"
         print(
-            f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}"
+            f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {row_verdict(o):19} {codes}"
         )
         hint = hints.get(o.row.reference)
         if hint is not None:
@@ -693,7 +683,7 @@ def _as_json(outcomes, errors, hints, unknown, notes) -> dict:
             "reference": o.row.reference,
             "location": o.row.location,
             "basis": o.basis.name,
-            "verdict": verdict(o),
+            "verdict": row_verdict(o),
             "design": o.design_result.as_dict(),
             "as_built": None if o.result is None else o.result.as_dict(),
             "review_reasons": [r.as_dict() for r in o.reasons],
