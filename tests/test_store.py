@@ -1,12 +1,10 @@
 """The storage layer against real SQLite files: schema, triggers, idempotency, scoping."""
 
-import ast
 import sqlite3
 import threading
 import uuid as uuid_module
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
-from pathlib import Path
 
 import pytest
 from sqlite_utils import Migrations
@@ -1136,29 +1134,6 @@ def test_every_state_change_writes_an_event_with_before_and_after(released):
         ("engineer to decide", "accepted"),
         ("accepted", "released"),
     ]
-
-
-# --- the store owns the SQL ---------------------------------------------------------------------
-
-
-def test_no_module_outside_the_store_speaks_sql():
-    package = Path(__file__).resolve().parents[1] / "sitecheck"
-    offenders = []
-    for path in package.rglob("*.py"):
-        if path.relative_to(package).parts[0] == "store":
-            continue
-        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
-            names = []
-            if isinstance(node, ast.Import):
-                names = [alias.name for alias in node.names]
-            elif isinstance(node, ast.ImportFrom):
-                names = [node.module or ""]
-            offenders += [
-                f"{path.relative_to(package)}: {name}"
-                for name in names
-                if name.split(".")[0] in {"sqlite3", "sqlite_utils"}
-            ]
-    assert offenders == []
 
 
 def test_a_migration_that_cannot_run_in_a_transaction_is_refused_with_the_fix(db):
