@@ -143,18 +143,7 @@ def main(argv: list[str] | None = None) -> int:
     _home_options(record)
     record.add_argument("--out", type=Path, required=True, help="the PDF file to write")
 
-    vectors = sub.add_parser(
-        "vectors", help="write or compare the shared test vectors of the browser's mirror"
-    )
-    what = vectors.add_mutually_exclusive_group(required=True)
-    what.add_argument("--out", type=Path, help="write the vectors to this file")
-    what.add_argument(
-        "--check", type=Path, help="exit 1 if this file differs from freshly made vectors"
-    )
-
     args = parser.parse_args(argv)
-    if args.command == "vectors":
-        return _vectors(args)
     if args.command == "columns":
         for name, (meaning, unit) in COLUMNS.items():
             print(f"{name:28} {unit:7} {meaning}")
@@ -249,33 +238,6 @@ def _print_settings(args) -> int:
     for name, value, source in settings.described():
         print(f"{name:18} {value:48} {source}")
     return 0
-
-
-def _vectors(args) -> int:
-    from . import vectors
-
-    if args.out is not None:
-        text = vectors.write(args.out)
-        size = args.out.stat().st_size
-        print(
-            f"Vectors written to {args.out} ({len(text) / 1e6:.1f} MB of JSON, {size / 1e6:.2f} MB on disk)"
-        )
-        return 0
-    try:
-        kept = json.loads(vectors.read_text(args.check))
-    except (OSError, EOFError, UnicodeDecodeError, ValueError) as e:
-        print(f"sitecheck: cannot read {args.check}: {e}", file=sys.stderr)
-        return 2
-    fresh = json.loads(vectors.dumps(vectors.build_vectors()))
-    found = vectors.differences(kept, fresh)
-    if not found:
-        print(f"{args.check} is up to date")
-        return 0
-    print(f"{args.check} differs from the vectors the core makes now:")
-    for line in found:
-        print(f"  {line}")
-    print(f"Rewrite it with: sitecheck vectors --out {args.check}")
-    return 1
 
 
 def _record(args) -> int:
