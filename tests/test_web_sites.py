@@ -425,17 +425,8 @@ def test_the_schedule_page_for_each_role(client_as, db, site, people):
 
 
 def test_links_to_other_jobs_show_only_to_who_may_use_them(app, client_as, db, site):
-    def stub(site_id, bearing_id=None):
-        return "stub"
-
-    # Other jobs' pages may not exist yet; stand in for any that do not.
-    for endpoint, rule in (
-        ("inspect.record_form", "/stub/record/<site_id>/<bearing_id>"),
-        ("release.site", "/stub/release/<site_id>"),
-        ("review.bearing", "/stub/review/<site_id>/<bearing_id>"),
-    ):
-        if endpoint not in app.view_functions:
-            app.add_url_rule(rule, endpoint, stub)
+    # The site page builds every link with url_for and checks for no endpoint first: a
+    # renamed page makes this page fail here, not hide its button.
     bearing = store.list_bearings(db, site_id=site["id"])[0]
     with app.test_request_context():
         record = url_for("inspect.record_form", site_id=site["id"], bearing_id=bearing["id"])

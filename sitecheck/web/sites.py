@@ -73,19 +73,9 @@ IMPORT_LIMIT = 2 * 1024 * 1024  # bytes: a schedule of thousands of rows is far 
 IMPORT_LIMIT_WORDS = "2 MB"
 
 
-@bp.app_context_processor
-def _helpers():
-    return {"has_endpoint": has_endpoint}
-
-
 @bp.app_template_filter("utc")
 def _utc_filter(value):
     return utc_text(value)
-
-
-def has_endpoint(name: str) -> bool:
-    """Whether another blueprint provides a page yet, so a link to it is never broken."""
-    return name in current_app.view_functions
 
 
 # --- a new site --------------------------------------------------------------------------------
