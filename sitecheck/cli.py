@@ -291,11 +291,11 @@ def _progress_bar(done: int, total: int, what: str) -> None:
 def _create_engineer(args) -> int:
     import getpass
 
-    from . import auth, store
+    from . import credentials, store
 
     settings = _settings(args)
     password = getpass.getpass("Password (10 characters or more): ")
-    problem = auth.password_problem(password, email=args.email)
+    problem = credentials.password_problem(password, email=args.email)
     if problem:
         print(f"sitecheck: {problem}", file=sys.stderr)
         return 2
@@ -306,7 +306,7 @@ def _create_engineer(args) -> int:
             db,
             email=args.email,
             name=args.name,
-            password_hash=auth.hash_password(password),
+            password_hash=credentials.hash_password(password),
             may_make_sites=True,
         )
     except store.Conflict as e:

@@ -415,7 +415,7 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
     import dataclasses
     from datetime import UTC, datetime, timedelta
 
-    from . import auth, services, store
+    from . import credentials, services, store
     from .bearing import BS5628, basis_named
     from .bearing.review import ReviewSettings
     from .photos import PhotoStore, ingest_photo
@@ -434,7 +434,7 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
                 db,
                 email=email,
                 name=name,
-                password_hash=auth.hash_password(password),
+                password_hash=credentials.hash_password(password),
                 may_make_sites=role == "engineer",
             )
             people[role] = u["id"]

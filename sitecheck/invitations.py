@@ -10,11 +10,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from sitecheck import auth, store
+from sitecheck import credentials, store
 from sitecheck.mail import MailSettings
 
 INVITATION_VALID_S = 7 * 24 * 3600
-JOIN_PATH = "/join/"  # + the link's token; the view is sitecheck.web.auth.join
+JOIN_PATH = "/join/"  # + the link's token; the view is sitecheck.web.login.join
 
 
 @dataclass(frozen=True)
@@ -51,7 +51,7 @@ def invite(
         # whether or not the address has an account. With mail, only a new address needs
         # one: an existing account answers after logging in.
         if mail is None or not has_account:
-            token = auth.new_link_token()
+            token = credentials.new_link_token()
             store.create_link(
                 db,
                 token_hash=token.token_hash,

@@ -9,7 +9,7 @@ from datetime import UTC, datetime, timedelta
 import pytest
 from sqlite_utils import Migrations
 
-from sitecheck import auth, store, workflow
+from sitecheck import credentials, store, workflow
 
 T0 = datetime(2026, 3, 2, 8, 0, tzinfo=UTC)
 
@@ -838,7 +838,7 @@ def test_sessions_end_on_revoke_disable_idle_and_age(db):
     user = make_user(db, "inspector")
 
     def start(now=T0):
-        token = auth.new_session_token()
+        token = credentials.new_session_token()
         store.create_session(db, session_id=token.session_id, user_id=user["id"], now=now)
         return token.session_id
 
@@ -869,7 +869,7 @@ def test_sessions_end_on_revoke_disable_idle_and_age(db):
 
 def test_touch_writes_at_most_once_a_minute(db):
     user = make_user(db, "inspector")
-    token = auth.new_session_token()
+    token = credentials.new_session_token()
     store.create_session(db, session_id=token.session_id, user_id=user["id"], now=T0)
     assert not store.touch_session(db, token.session_id, now=T0 + timedelta(seconds=30))
     assert store.touch_session(db, token.session_id, now=T0 + timedelta(seconds=61))
@@ -878,7 +878,9 @@ def test_touch_writes_at_most_once_a_minute(db):
 def test_a_raw_token_is_never_stored_as_a_session_id(db):
     user = make_user(db, "inspector")
     with pytest.raises(ValueError, match="sha256"):
-        store.create_session(db, session_id=auth.new_session_token().token, user_id=user["id"])
+        store.create_session(
+            db, session_id=credentials.new_session_token().token, user_id=user["id"]
+        )
 
 
 def test_failed_log_ins_are_counted_per_account_at_an_address_and_per_address(db):

@@ -18,7 +18,7 @@ from markupsafe import escape
 from werkzeug.datastructures import FileStorage
 from werkzeug.test import encode_multipart
 
-from sitecheck import auth, services, store, workflow
+from sitecheck import credentials, services, store, workflow
 from sitecheck.bearing import SOURCES, basis_from_dict
 from sitecheck.bearing.review import settings_from_dict
 from sitecheck.schedule import DESIGN_COLUMNS
@@ -905,7 +905,7 @@ def test_a_password_set_by_someone_else_is_changed_at_the_first_log_in(app, clie
     store.set_password_hash(
         db,
         user_id=people["inspector"].id,
-        password_hash=auth.hash_password(given),
+        password_hash=credentials.hash_password(given),
         by_user_id=people["engineer"].id,
     )
     newcomer = app.test_client()

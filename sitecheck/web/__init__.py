@@ -17,8 +17,7 @@ from flask import Flask, current_app, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
-from sitecheck import auth as accounts
-from sitecheck import logs, services, store
+from sitecheck import credentials, logs, services, store
 from sitecheck.config import Settings, load_settings
 from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
@@ -79,9 +78,9 @@ def create_app(
         # Site records (PDF) one person may start in an hour; handing out a finished one
         # of an unchanged site, or joining one being made, is not counted.
         RECORD_PDF_PER_HOUR=settings.record_pdf_per_hour,
-        LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
-        LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
-        LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
+        LOGIN_FAILURE_WINDOW_S=credentials.THROTTLE_WINDOW_S,
+        LOG_IN_RULE_ACCOUNT=credentials.ACCOUNT_AT_ADDRESS,
+        LOG_IN_RULE_ADDRESS=credentials.ANY_ACCOUNT_AT_ADDRESS,
         TRUSTED_PROXIES=settings.trusted_proxies,
         # MailSettings, or None for no mail (then invitation links are handed over).
         MAIL=MailSettings.from_env(settings.mail_environment()),
@@ -123,9 +122,9 @@ def create_app(
 
     # The views import this module (get_db, csrf), so they are imported once it is whole.
     from sitecheck.web import (
-        auth,
         health,
         inspect,
+        login,
         notices,
         pages,
         people,
@@ -138,7 +137,7 @@ def create_app(
 
     for job in (
         health,
-        auth,
+        login,
         people,
         pages,
         sites,
@@ -152,7 +151,7 @@ def create_app(
         app.register_blueprint(job.bp)
 
     app.before_request(_start_clock)
-    app.before_request(auth.load_user)
+    app.before_request(login.load_user)
     app.after_request(_log_request)
     app.teardown_appcontext(_close_db)
     app.after_request(_security_headers)

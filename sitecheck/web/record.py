@@ -41,8 +41,8 @@ from sitecheck.report.jobs import RecordJobs, TooManyRecords, site_record
 from sitecheck.report.summary import DEFAULT_SIGN_OFF, covers_words
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import SignOffForm
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("record", __name__)

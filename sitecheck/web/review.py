@@ -15,7 +15,6 @@ from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.report.summary import CHECKLIST_QUESTIONS, decision_title
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import (
     DECISION_HINTS,
     DECISION_LABELS,
@@ -23,6 +22,7 @@ from sitecheck.web.decision_forms import (
     KeepReleaseForm,
     ReopenForm,
 )
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import looked_now, page_rule, render_page
 from sitecheck.web.record_form import MEASUREMENT_FIELDS, SPECS, designed_value
 

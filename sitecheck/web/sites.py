@@ -32,7 +32,6 @@ from sitecheck.bearing.inputs import MATERIALS
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.design_forms import (
     BASIS_GROUPS,
     BASIS_SCALARS,
@@ -65,6 +64,7 @@ from sitecheck.web.design_forms import (
     source_tag,
     utc_text,
 )
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import looked_now, page_rule, render_page, since_you_looked
 
 bp = Blueprint("sites", __name__)

@@ -47,9 +47,9 @@ from sitecheck.photos import PhotoLimits, PhotoRejected, PhotosBusy, ingest_phot
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
-from sitecheck.web.auth import login_required
 from sitecheck.web.inspect import survey_order
 from sitecheck.web.jsonbody import JsonRefused, read_json
+from sitecheck.web.login import login_required
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
     GROUPS,
