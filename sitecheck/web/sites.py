@@ -1,7 +1,7 @@
 """The engineer's jobs: sites, their settings, the bearing schedule and who is on a site.
 
-Thin views: forms parse what was typed (``design_forms``), ``services`` runs the design
-check and stores, the store answers reads. Access is decided by ``site_for`` alone.
+Thin views: forms parse what was typed (``bearing_form``, ``settings_form``,
+``site_forms``), ``services`` runs the design check and stores, the store answers reads. Access is decided by ``site_for`` alone.
 """
 
 from __future__ import annotations
@@ -30,42 +30,41 @@ from sitecheck import invitations, services, store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.bearing.inputs import MATERIALS
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
-from sitecheck.web import get_db
-from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
-from sitecheck.web.design_forms import (
+from sitecheck.settings_words import (
     BASIS_GROUPS,
-    BASIS_SCALARS,
     CREEP_TABLES,
     GAMMA_M_BS_ROWS,
     GAMMA_M_EC6_ROWS,
     K_MORTARS,
-    K_ROWS,
-    REVIEW_FIELDS,
+    source_tag,
+)
+from sitecheck.web import get_db
+from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
+from sitecheck.web.bearing_form import (
     SECTIONS,
     BearingForm,
-    ImportForm,
-    InviteForm,
-    RemoveForm,
     ReviseForm,
-    RoleForm,
-    SettingsForm,
-    SiteForm,
-    add_error,
-    basis_rows,
-    creep_field_name,
     design_from_form,
-    design_summary,
     form_data_from_design,
-    gamma_field_name,
-    k_field_name,
     put_core_error,
-    settings_form_data,
-    settings_from_form,
-    source_tag,
-    utc_text,
 )
+from sitecheck.web.form_fields import add_error
 from sitecheck.web.login import login_required
 from sitecheck.web.pages import looked_now, page_rule, render_page, since_you_looked
+from sitecheck.web.present import design_summary, utc_text
+from sitecheck.web.settings_form import (
+    BASIS_SCALARS,
+    K_ROWS,
+    REVIEW_FIELDS,
+    SettingsForm,
+    basis_rows,
+    creep_field_name,
+    gamma_field_name,
+    k_field_name,
+    settings_form_data,
+    settings_from_form,
+)
+from sitecheck.web.site_forms import ImportForm, InviteForm, RemoveForm, RoleForm, SiteForm
 
 bp = Blueprint("sites", __name__)
 
