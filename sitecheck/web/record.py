@@ -34,9 +34,10 @@ from markupsafe import Markup
 
 from sitecheck import store, workflow
 from sitecheck.bearing import InputError
+from sitecheck.bearing.serial import as_built_input_dict
 from sitecheck.report import export
 from sitecheck.report.collect import collect
-from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
+from sitecheck.report.drawing import bearing_svg, side_by_side_svg
 from sitecheck.report.jobs import RecordJobs, TooManyRecords, site_record
 from sitecheck.report.summary import DEFAULT_SIGN_OFF, covers_words
 from sitecheck.web import get_db, photo_store
