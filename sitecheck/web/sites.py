@@ -86,14 +86,12 @@ def new():
     require_may_make_sites()
     form = SiteForm()
     if form.validate_on_submit():
-        code_basis, review_settings = services.default_site_settings(form.basis.data)
-        site = store.create_site(
+        site = services.make_site(
             get_db(),
             name=form.name.data,
             address=form.address.data or "",
-            code_basis=code_basis,
-            review_settings=review_settings,
-            created_by=g.user["id"],
+            basis_name=form.basis.data,
+            by_user_id=g.user["id"],
         )
         flash(f"Site “{site['name']}” created; you are its engineer.")
         return redirect(url_for("sites.show", site_id=site["id"]))
@@ -136,7 +134,7 @@ def set_site_maker(user_id):
             error="You cannot take this from yourself; ask another account that may make "
             "sites, so that one always remains.",
         )
-    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
+    services.let_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
     name = person["name"] or "They"
     flash(f"{name} may now make sites." if allowed else f"{name} may no longer make sites.")
     return redirect(url_for("sites.site_makers"))
@@ -553,21 +551,18 @@ def save_settings(site_id):
         return _settings_page(site, form, 400)
     code_basis, review_settings = parsed
     try:
-        # Read back exactly as the checks will, so nothing is stored that they would refuse.
-        services.basis_for({"code_basis": code_basis})
-        services.settings_for({"review_settings": review_settings})
+        services.save_site_settings(
+            get_db(),
+            site_id=site_id,
+            by_user_id=g.user["id"],
+            name=form.name.data,
+            address=form.address.data or "",
+            code_basis=code_basis,
+            review_settings=review_settings,
+        )
     except (InputError, TypeError, ValueError) as e:
         form.form_errors.append(f"Nothing was saved: {e}")
         return _settings_page(site, form, 400)
-    store.update_site_settings(
-        get_db(),
-        site_id=site_id,
-        user_id=g.user["id"],
-        name=form.name.data,
-        address=form.address.data or "",
-        code_basis=code_basis,
-        review_settings=review_settings,
-    )
     flash(
         "Settings saved. They apply to bearings added or revised from now on and to every "
         "re-check; design results already stored keep the values they were checked with."
@@ -668,7 +663,7 @@ def withdraw_invitation(site_id, invitation_id):
     form = RemoveForm()
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
-    if not store.withdraw_invitation(
+    if not invitations.withdraw(
         get_db(), invitation_id=invitation_id, site_id=site_id, by_user_id=g.user["id"]
     ):
         return _member_refusal(site, 404, "That invitation is not open on this site.")
@@ -695,12 +690,8 @@ def answer_invitation(invitation_id, answer):
         flash("Send your answer again from this page; nothing was changed.")
         return redirect(url_for("pages.home"))
     try:
-        invitation = store.answer_invitation(
-            get_db(),
-            invitation_id=invitation_id,
-            user_id=g.user["id"],
-            email=g.user["email"],
-            accept=answer == "accept",
+        invitation = invitations.answer(
+            get_db(), invitation_id=invitation_id, user=g.user, accept=answer == "accept"
         )
     except store.NotFound as closed:
         abort(404, description=str(closed))
@@ -736,7 +727,9 @@ def change_role(site_id, user_id):
         flash("Their role is unchanged.")
         return redirect(url_for("sites.members", site_id=site_id))
     try:
-        store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
+        services.change_role(
+            db, site_id=site_id, user_id=user_id, role=new_role, by_user_id=g.user["id"]
+        )
     except store.LastEngineer as refusal:
         return _member_refusal(site, 409, str(refusal))
     flash(f"Role changed from {current} to {new_role}.")
@@ -757,7 +750,7 @@ def remove_member(site_id, user_id):
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
     try:
-        store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
+        services.remove_member(db, site_id=site_id, user_id=user_id, by_user_id=g.user["id"])
     except store.LastEngineer as refusal:
         return _member_refusal(site, 409, str(refusal))
     flash("Removed from this site. Their records stay on the site record.")
