@@ -81,6 +81,10 @@ def timestamp(moment: datetime | None = None) -> str:
     return moment.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
 
 
+class NoTimeZone(ValueError):
+    """A time given without its zone: which moment it names cannot be known."""
+
+
 def parse_timestamp(value: str | datetime, *, field: str = "time") -> str:
     """Normalise an ISO 8601 time with an offset (e.g. from a phone) to the stored format."""
     if isinstance(value, datetime):
@@ -92,7 +96,7 @@ def parse_timestamp(value: str | datetime, *, field: str = "time") -> str:
             f"{field} {value!r} is not an ISO 8601 time; send e.g. '2026-03-01T09:30:00Z'"
         ) from None
     if moment.tzinfo is None:
-        raise ValueError(
+        raise NoTimeZone(
             f"{field} {value!r} has no time zone; send it with 'Z' or an offset such as '+01:00'"
         )
     return timestamp(moment)

@@ -22,7 +22,6 @@ import dataclasses
 import json
 import math
 import re
-import uuid as uuid_module
 from datetime import UTC, datetime
 
 from flask import (
@@ -44,6 +43,7 @@ from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.review import as_built_input, could_not_measure
 from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
 from sitecheck.photos import PhotoLimits, PhotoRejected, PhotosBusy, ingest_photo
+from sitecheck.store.base import NoTimeZone, canonical_uuid, parse_timestamp
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
@@ -425,22 +425,28 @@ def _field_of(message: str) -> str:
 
 def _uuid(value, field: str) -> str:
     try:
-        return str(uuid_module.UUID(str(value)))
-    except (ValueError, TypeError, AttributeError):
+        return canonical_uuid(value, field=field)
+    except ValueError:
         raise Refused(field, "bad-uuid", f"{field} must be a UUID made on the phone.") from None
 
 
 def _moment(value, field: str) -> str:
+    """The phone's time as it sent it, once the store's reading of times accepts it. A
+    padded time is refused here as before: the phone writes its own ISO text, never padded."""
     if not isinstance(value, str) or len(value) > 40:
         raise Refused(
             field, "missing", f"{field} must be a date and time such as 2026-05-04T10:30:00Z."
         )
     try:
-        moment = datetime.fromisoformat(value.replace("Z", "+00:00"))
+        if value != value.strip():
+            raise ValueError(value)
+        parse_timestamp(value, field=field)
+    except NoTimeZone:
+        raise Refused(
+            field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00."
+        ) from None
     except ValueError:
         raise Refused(field, "not-a-time", f"{field}: “{value}” is not a date and time.") from None
-    if moment.tzinfo is None:
-        raise Refused(field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00.")
     return value
 
 
