@@ -8,7 +8,7 @@ from . import checks as C
 from .basis import CodeBasis
 from .format import number
 from .geometry import Layout, footprint_layout, layout, pressure_under, readings
-from .inputs import ACROSS, IN_LINE, BearingInput
+from .inputs import ACROSS, IN_LINE, BearingInput, wall_heights
 from .strength import masonry_strengths_cached
 from .trace import INFORMATIVE, STRENGTH, BearingResult, Check, Spread, Step, Strengths
 from .validate import validate
@@ -45,7 +45,7 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
         checks.append(C.bs_masonry_bearing(inp, pres, strengths, basis, steps))
         dispersion, spread_reading, spread_len = C.bs_dispersion(inp, lay, pres, strengths, basis)
         checks.append(dispersion)
-        h = wall.clear_height or wall.height_to_bearing
+        h, _h_ef, _t_ef = wall_heights(wall)
         spread_depth = basis.dispersion_depth_ratio * h
     checks.append(C.slenderness(inp, basis))
     notes = _assumption_notes(inp)

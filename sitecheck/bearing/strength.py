@@ -12,7 +12,7 @@ from .basis import BS_FK_TABLE, BS_UNIT_STRENGTHS, MORTAR_DESIGNATION, MORTAR_ST
 from .errors import InputError
 from .format import number
 from .inputs import Masonry, Padstone
-from .trace import Step, Strengths
+from .trace import Step, Strengths, given_step
 from .validate import concrete_class_fck, wall_tolerance
 
 # EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
@@ -125,15 +125,12 @@ def masonry_strengths(
     if mas.f_k is not None:
         fk = float(mas.f_k)
         steps.append(
-            Step(
-                "Characteristic compressive strength, as given",
+            given_step(
+                "Characteristic compressive strength",
                 "f_k",
-                "declared",
-                (),
                 fk,
                 "N/mm²",
                 "declared by the engineer",
-                "ours",
             )
         )
     elif ec6:
@@ -157,15 +154,12 @@ def masonry_strengths(
     if mas.gamma_M is not None:
         gm = float(mas.gamma_M)
         steps.append(
-            Step(
-                "Partial factor for masonry, as given",
+            given_step(
+                "Partial factor for masonry",
                 "γ_M" if ec6 else "γ_m",
-                "declared",
-                (),
                 gm,
                 "",
                 "declared by the engineer",
-                "ours",
             )
         )
     elif ec6:
@@ -353,11 +347,9 @@ def _f_k_from_units_ec6(
     if mas.unit_strength_is_normalised:
         fb = fu
         steps.append(
-            Step(
-                "Normalised unit strength, as given",
+            given_step(
+                "Normalised unit strength",
                 "f_b",
-                "declared",
-                (),
                 fb,
                 "N/mm²",
                 "EN 772-1 Annex A",
