@@ -15,6 +15,8 @@ from .config import ConfigError, Settings, load_settings
 from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows, row_verdict
 
 
+# One piece: the command line's declaration, one block per command in --help's order; the work is
+# in the functions it hands each command to.
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(
         prog="sitecheck", description="Re-check masonry bearings as built."

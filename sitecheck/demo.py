@@ -408,6 +408,8 @@ _DECISIONS = {
 _RELEASES = {"GF-B1-E"}
 
 
+# One piece: the invented site's story in the order it happens (people, site, schedule, records,
+# decisions, releases).
 def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
     """A fresh demo database: the invented site, one person per role, the schedule, as-built
     records with generated photos, one decision of each kind that matters and releases.

@@ -611,6 +611,7 @@ def _split_text_cells(
     return [(name, value) for name, value, _ in chosen]
 
 
+# One piece: one row's cells in the order of the columns, each refused by its column's name.
 def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> ScheduleRow:
     reference = c.get("reference", "")
     if not reference:

@@ -209,6 +209,8 @@ def recheck(
     return Recheck(built, result, reasons)
 
 
+# One piece: receiving one as-built record is one transaction in a fixed order (refusals, re-
+# check, review, store, state, events), seen whole.
 def record_as_built(
     db,
     *,

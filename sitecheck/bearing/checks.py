@@ -46,6 +46,8 @@ def min_bearing(inp: BearingInput, basis: CodeBasis) -> Check:
     )
 
 
+# One piece: the in-line bearing's rules, one after another as the trace lists them; mirrored line
+# for line in checks.js.
 def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check]:
     """A beam in line with the wall: flange no wider than t + 50, padstone at least 200
     long, web over the wall's centre (NHBC Standards 6.5.5 [S]; the centring tolerance is
@@ -135,6 +137,8 @@ def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check
 # ---------------------------------------------------------------- concrete padstone
 
 
+# One piece: the padstone's local bearing (EN 1992-1-1 6.7 and section 12) in the order its trace
+# prints; checks.js mirrors it line for line, so a split is made in both languages or not at all.
 def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeBasis) -> Check:
     """Flange on the padstone: partially loaded area, EN 1992-1-1 6.7 eqn 6.63 [S].
 
@@ -327,6 +331,8 @@ def l_efm_of(reading: Reading, h_c: float, basis: CodeBasis) -> float:
     return spread_length(reading.length, reading.e1, reading.e2, s60)
 
 
+# One piece: EC6's local bearing worked under both readings, in the order its trace prints;
+# checks.js mirrors it line for line, so a split is made in both languages or not at all.
 def ec6_bearing_on_readings(
     mas: Masonry,
     wall: Wall,
@@ -665,6 +671,9 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
     )
 
 
+# One piece: the mid-height check (EN 1996-1-1 6.1.2.2, Annex G) step by step in the order its
+# trace prints; checks.js mirrors it line for line, so a split is made in both languages or not at
+# all.
 def ec6_mid_height(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
 ) -> tuple[Check, Reading, float]:
@@ -965,6 +974,8 @@ def bs_masonry_bearing(
     )
 
 
+# One piece: BS 5628-1's load at 0.4 h, both readings, in the order its trace prints; checks.js
+# mirrors it line for line, so a split is made in both languages or not at all.
 def bs_dispersion(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
 ) -> tuple[Check, Reading, float]:

@@ -14,6 +14,8 @@ from .trace import INFORMATIVE, STRENGTH, BearingResult, Check, Spread, Step, St
 from .validate import validate
 
 
+# One piece: the order in which the checks run and feed one another, read top to bottom;
+# recheck.js mirrors it line for line.
 def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     """Re-check one bearing. Raises :class:`~sitecheck.bearing.errors.InputError` for
     input that makes no physical sense or that no coded formula covers."""

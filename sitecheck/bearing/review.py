@@ -313,6 +313,8 @@ FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
 }
 
 
+# One piece: each review reason in the order the engineer reads them, one comparison each;
+# review.js mirrors it line for line.
 def review(
     design: BearingInput,
     design_result: BearingResult,

@@ -114,6 +114,8 @@ def f_cd(f_ck: float, alpha_cc: float, gamma_c: float) -> float:
     return alpha_cc * f_ck / gamma_c
 
 
+# One piece: f_k, γ_M, f_d and f_cd in the order the trace prints them, each branch one code's
+# way; strength.js mirrors it line for line.
 def masonry_strengths(
     mas: Masonry, pad: Padstone | None, basis: CodeBasis, t: float | None = None
 ) -> Strengths:
@@ -340,6 +342,8 @@ def collar_joint(mas: Masonry, t: float | None) -> tuple[bool, str]:
     return t + wall_tolerance(t) >= 2 * mas.unit_width, "inferred"
 
 
+# One piece: EN 1996-1-1 eqn 3.1 from the unit up (f_b, K, the mortar, the collar joint), step by
+# step as the trace prints; strength.js mirrors it line for line.
 def _f_k_from_units_ec6(
     mas: Masonry, basis: CodeBasis, steps: list[Step], t: float | None
 ) -> float:

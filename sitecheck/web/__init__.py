@@ -35,6 +35,8 @@ CSP = (
 HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
+# One piece: the app factory reads top to bottom in the order a request meets what it installs
+# (settings, proxies, stores, start-up sweep, mail sender, views, hooks).
 def create_app(
     db_path: str | os.PathLike | None = None,
     *,

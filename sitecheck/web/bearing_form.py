@@ -306,6 +306,8 @@ def _whole(text: str) -> int | str:
         return text
 
 
+# One piece: the form's fields to the core's input in the input's order, each refusal put on its
+# field.
 def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None:
     """The design input the form describes (kN → N), or None with every problem put on
     its field. Refusals from the core go against the field they name."""

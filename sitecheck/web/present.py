@@ -37,6 +37,7 @@ def padstone_across_words(pad: dict) -> str:
     return dict(PADSTONE_ACROSS_CHOICES).get(position, str(position)).lower()
 
 
+# One piece: one table per section of the design page, in the page's order, a line per row.
 def design_summary(design: dict) -> list[tuple[str, list[tuple[str, str]]]]:
     """A stored design input as labelled, readable values (kN, kN/m, mm, N/mm²)."""
     load, beam, wall, mas = design["load"], design["beam"], design["wall"], design["masonry"]
