@@ -177,7 +177,7 @@ AS_BUILT_CHECKS = {"bedded": True, "packing": 0, "cracks": False, "cut_units": F
 
 def build(path: Path, bearings: int) -> None:
     """One site of ``bearings`` bearings with one as-built record each, in ``path``."""
-    from sitecheck import auth, services, store
+    from sitecheck import credentials, services, store
     from sitecheck.bearing.serial import input_to_dict
 
     templates = _templates()
@@ -189,7 +189,7 @@ def build(path: Path, bearings: int) -> None:
                 db,
                 email=email,
                 name=name,
-                password_hash=auth.hash_password(password),
+                password_hash=credentials.hash_password(password),
                 may_make_sites=role == "engineer",
             )["id"]
         code_basis, review = services.default_site_settings()

@@ -224,6 +224,8 @@ def recheck(
     return Recheck(built, result, reasons)
 
 
+# One piece: receiving one as-built record is one transaction in a fixed order (refusals, re-
+# check, review, store, state, events), seen whole.
 def record_as_built(
     db,
     *,
@@ -679,3 +681,61 @@ def camera_time(capture_time: str | None) -> str | None:
     except ValueError:
         return None
     return capture_time if moment.tzinfo is not None else None
+
+
+# --- sites and who is on them ------------------------------------------------------------------
+
+
+def make_site(db, *, name: str, address: str, basis_name: str, by_user_id: int) -> dict:
+    """A new site on the named code basis with the default review settings; whoever makes
+    it is its first engineer."""
+    code_basis, review_settings = default_site_settings(basis_name)
+    return store.create_site(
+        db,
+        name=name,
+        address=address,
+        code_basis=code_basis,
+        review_settings=review_settings,
+        created_by=by_user_id,
+    )
+
+
+def save_site_settings(
+    db,
+    *,
+    site_id: str,
+    by_user_id: int,
+    name: str,
+    address: str,
+    code_basis: dict,
+    review_settings: dict,
+) -> None:
+    """Store a site's settings once they read back exactly as the checks will read them, so
+    nothing is stored that the checks would refuse (InputError, TypeError or ValueError
+    says why, and nothing is saved)."""
+    basis_for({"code_basis": code_basis})
+    settings_for({"review_settings": review_settings})
+    store.update_site_settings(
+        db,
+        site_id=site_id,
+        user_id=by_user_id,
+        name=name,
+        address=address,
+        code_basis=code_basis,
+        review_settings=review_settings,
+    )
+
+
+def let_make_sites(db, *, user_id: int, allowed: bool, by_user_id: int) -> None:
+    """Give or take the permission to make sites (with its event)."""
+    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=by_user_id)
+
+
+def change_role(db, *, site_id: str, user_id: int, role: str, by_user_id: int) -> None:
+    """A member's new role; store.LastEngineer when it would leave the site no engineer."""
+    store.set_role(db, user_id=user_id, site_id=site_id, role=role, by_user_id=by_user_id)
+
+
+def remove_member(db, *, site_id: str, user_id: int, by_user_id: int) -> None:
+    """Take someone off a site (their records stay); store.LastEngineer as for a role."""
+    store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=by_user_id)

@@ -540,9 +540,11 @@ def test_the_offline_form_sends_the_online_forms_field_names(client_as, site):
 
 
 def test_the_phones_field_lists_are_the_servers():
-    """verdict.js reads the as-built form by these names for the phone's re-check and the
-    offline record; a field added on the server must be added there too."""
-    source = (Path(__file__).resolve().parent.parent / "static" / "js" / "verdict.js").read_text()
+    """The phone's one list (bearing/serial.js, read by the form and the re-check) is the
+    core's dataclass fields; a field added on the server must be added there too."""
+    source = (
+        Path(__file__).resolve().parent.parent / "static" / "js" / "bearing" / "serial.js"
+    ).read_text()
 
     def listed(const: str) -> tuple[str, ...]:
         body = re.search(rf"export const {const} = \[(.*?)\];", source, flags=re.S).group(1)

@@ -18,7 +18,7 @@ from markupsafe import escape
 from werkzeug.datastructures import FileStorage
 from werkzeug.test import encode_multipart
 
-from sitecheck import auth, services, store, workflow
+from sitecheck import credentials, services, store, workflow
 from sitecheck.bearing import SOURCES, basis_from_dict
 from sitecheck.bearing.review import settings_from_dict
 from sitecheck.schedule import DESIGN_COLUMNS
@@ -425,17 +425,8 @@ def test_the_schedule_page_for_each_role(client_as, db, site, people):
 
 
 def test_links_to_other_jobs_show_only_to_who_may_use_them(app, client_as, db, site):
-    def stub(site_id, bearing_id=None):
-        return "stub"
-
-    # Other jobs' pages may not exist yet; stand in for any that do not.
-    for endpoint, rule in (
-        ("inspect.record_form", "/stub/record/<site_id>/<bearing_id>"),
-        ("release.site", "/stub/release/<site_id>"),
-        ("review.bearing", "/stub/review/<site_id>/<bearing_id>"),
-    ):
-        if endpoint not in app.view_functions:
-            app.add_url_rule(rule, endpoint, stub)
+    # The site page builds every link with url_for and checks for no endpoint first: a
+    # renamed page makes this page fail here, not hide its button.
     bearing = store.list_bearings(db, site_id=site["id"])[0]
     with app.test_request_context():
         record = url_for("inspect.record_form", site_id=site["id"], bearing_id=bearing["id"])
@@ -922,7 +913,7 @@ def test_a_password_set_by_someone_else_is_changed_at_the_first_log_in(app, clie
     store.set_password_hash(
         db,
         user_id=people["inspector"].id,
-        password_hash=auth.hash_password(given),
+        password_hash=credentials.hash_password(given),
         by_user_id=people["engineer"].id,
     )
     newcomer = app.test_client()

@@ -21,7 +21,7 @@ from decimal import Decimal
 
 from sitecheck.bearing.review import Checklist, Measurements
 from sitecheck.bearing.serial import input_to_dict
-from sitecheck.cli import CAUTION
+from sitecheck.cautions import CAUTION
 from sitecheck.csvcells import Figure, cell
 from sitecheck.report.collect import SiteRecord
 from sitecheck.schedule import DESIGN_COLUMNS, parse_schedule

@@ -31,7 +31,7 @@ from sitecheck.store.accounts import (
     set_password_hash,
     touch_session,
 )
-from sitecheck.store.base import timestamp, transaction, utc_now
+from sitecheck.store.base import roll_back_unfinished, timestamp, transaction, utc_now
 from sitecheck.store.bearings import (
     RELEASABLE_STATES,
     PackRows,
@@ -325,6 +325,7 @@ __all__ = [
     "to_decide_counts",
     "touch_session",
     "transaction",
+    "roll_back_unfinished",
     "update_record_job",
     "update_site_settings",
     "use_link",

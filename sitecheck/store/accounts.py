@@ -30,7 +30,7 @@ def _session_id(session_id: str) -> str:
     if not isinstance(session_id, str) or not _SESSION_ID.fullmatch(session_id):
         raise ValueError(
             "session_id must be the sha256 hex of the session token "
-            "(use sitecheck.auth.new_session_token()), not the token itself"
+            "(use sitecheck.credentials.new_session_token()), not the token itself"
         )
     return session_id
 
@@ -50,7 +50,9 @@ def create_user(
     if "@" not in email:
         raise ValueError(f"email {email!r} has no '@'; give a full e-mail address")
     if not password_hash:
-        raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
+        raise ValueError(
+            "password_hash is empty; hash the password with sitecheck.credentials first"
+        )
     with transaction(db):
         try:
             cursor = db.execute(
@@ -105,7 +107,9 @@ def set_password_hash(
     """Replace the hash and end every session of the user (a new password must lock others
     out). A password set by the user themselves is their own: nothing is left to change."""
     if not password_hash:
-        raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
+        raise ValueError(
+            "password_hash is empty; hash the password with sitecheck.credentials first"
+        )
     with transaction(db):
         cursor = db.execute(
             "UPDATE users SET password_hash = ?, must_change_password = ? WHERE id = ?",

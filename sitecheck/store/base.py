@@ -71,6 +71,12 @@ def transaction(db: sqlite_utils.Database) -> Generator[sqlite_utils.Database, N
         raise
 
 
+def roll_back_unfinished(db: sqlite_utils.Database) -> None:
+    """Roll back a transaction left open on a connection that is kept for later work."""
+    if db.conn.in_transaction:
+        db.conn.execute("ROLLBACK")
+
+
 def utc_now() -> datetime:
     return datetime.now(UTC)
 
@@ -86,6 +92,10 @@ def timestamp(moment: datetime | None = None) -> str:
     return moment.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
 
 
+class NoTimeZone(ValueError):
+    """A time given without its zone: which moment it names cannot be known."""
+
+
 def parse_timestamp(value: str | datetime, *, field: str = "time") -> str:
     """Normalise an ISO 8601 time with an offset (e.g. from a phone) to the stored format."""
     if isinstance(value, datetime):
@@ -97,7 +107,7 @@ def parse_timestamp(value: str | datetime, *, field: str = "time") -> str:
             f"{field} {value!r} is not an ISO 8601 time; send e.g. '2026-03-01T09:30:00Z'"
         ) from None
     if moment.tzinfo is None:
-        raise ValueError(
+        raise NoTimeZone(
             f"{field} {value!r} has no time zone; send it with 'Z' or an offset such as '+01:00'"
         )
     return timestamp(moment)

@@ -18,8 +18,7 @@ from flask import Flask, current_app, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
-from sitecheck import auth as accounts
-from sitecheck import logs, services, store
+from sitecheck import credentials, logs, services, store
 from sitecheck.config import Settings, load_settings
 from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
@@ -37,6 +36,8 @@ CSP = (
 HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
+# One piece: the app factory reads top to bottom in the order a request meets what it installs
+# (settings, proxies, stores, start-up sweep, mail sender, views, hooks).
 def create_app(
     db_path: str | os.PathLike | None = None,
     *,
@@ -83,9 +84,9 @@ def create_app(
         # Site records (PDF) one person may start in an hour; handing out a finished one
         # of an unchanged site, or joining one being made, is not counted.
         RECORD_PDF_PER_HOUR=settings.record_pdf_per_hour,
-        LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
-        LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
-        LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
+        LOGIN_FAILURE_WINDOW_S=credentials.THROTTLE_WINDOW_S,
+        LOG_IN_RULE_ACCOUNT=credentials.ACCOUNT_AT_ADDRESS,
+        LOG_IN_RULE_ADDRESS=credentials.ANY_ACCOUNT_AT_ADDRESS,
         TRUSTED_PROXIES=settings.trusted_proxies,
         # MailSettings, or None for no mail (then invitation links are handed over).
         MAIL=MailSettings.from_env(settings.mail_environment()),
@@ -125,20 +126,38 @@ def create_app(
     jsonbody.install(app)
     csrf.init_app(app)
 
-    from sitecheck.web import auth, health, pages, people, review, sites
+    # The views import this module (get_db, csrf), so they are imported once it is whole.
+    from sitecheck.web import (
+        health,
+        inspect,
+        login,
+        notices,
+        pages,
+        people,
+        record,
+        release,
+        review,
+        sites,
+        sync,
+    )
 
-    app.register_blueprint(health.bp)
-    app.register_blueprint(auth.bp)
-    app.register_blueprint(people.bp)
-    app.register_blueprint(pages.bp)
-    app.register_blueprint(sites.bp)
-    app.register_blueprint(review.bp)
-    for name in ("inspect", "release", "sync", "record", "notices"):
-        module = __import__(f"sitecheck.web.{name}", fromlist=["bp"])
-        app.register_blueprint(module.bp)
+    for job in (
+        health,
+        login,
+        people,
+        pages,
+        sites,
+        review,
+        inspect,
+        release,
+        sync,
+        record,
+        notices,
+    ):
+        app.register_blueprint(job.bp)
 
     app.before_request(_start_clock)
-    app.before_request(auth.load_user)
+    app.before_request(login.load_user)
     app.after_request(_log_request)
     app.teardown_appcontext(_end_request_db)
     app.after_request(_security_headers)
@@ -201,8 +220,8 @@ def _end_request_db(_exc) -> None:
     # The connection stays open for the thread's next request; nothing a request began may
     # stay open in it (a view that failed inside a transaction has rolled it back already).
     db = g.pop("db", None)
-    if db is not None and db.conn.in_transaction:
-        db.conn.execute("ROLLBACK")
+    if db is not None:
+        store.roll_back_unfinished(db)
 
 
 def _start_clock() -> None:

@@ -43,7 +43,7 @@ from sitecheck.photos import (
 )
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
-from sitecheck.web.auth import login_required
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import (
     listing,
     looked_now,

@@ -11,9 +11,9 @@ from markupsafe import Markup, escape
 
 from sitecheck import store, workflow
 from sitecheck.bearing.format import number, quantity, utilisation
-from sitecheck.cli import CAUTION
+from sitecheck.cautions import CAUTION
 from sitecheck.web import get_db
-from sitecheck.web.auth import login_required
+from sitecheck.web.login import login_required
 from sitecheck.web.shapes import json_answer
 from sitecheck.web.symbols import DRAWING_KEY, words_for
 

@@ -15,7 +15,6 @@ from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.report.summary import CHECKLIST_QUESTIONS, decision_title
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import (
     DECISION_HINTS,
     DECISION_LABELS,
@@ -23,6 +22,7 @@ from sitecheck.web.decision_forms import (
     KeepReleaseForm,
     ReopenForm,
 )
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import listing, looked_now, page_rule, render_page
 from sitecheck.web.record_form import MEASUREMENT_FIELDS, SPECS, designed_value
 
@@ -326,25 +326,14 @@ def bearing_page(
     latest = next((r for r in records if r["uuid"] == b["latest_record_uuid"]), None)
     names = _Names(db, site["id"])
 
-    may_decide = (
-        workflow.allowed(g.role, "decide")
-        and workflow.can_decide(b["state"])
-        and latest is not None
+    decision_form, reopen_form, keep_form = _page_forms(
+        b, latest, after_release, decision_form, reopen_form, keep_form
     )
-    if may_decide and decision_form is None:
-        decision_form = DecisionForm(formdata=None)
-    if may_decide:
-        # Always the values now on the page, even when the engineer's words are kept.
-        decision_form.record_uuid.data = latest["uuid"]
-        decision_form.seen_state.data = b["state"]
-    may_reopen = workflow.allowed(g.role, "reopen") and b["state"] == workflow.RELEASED
-    if may_reopen and reopen_form is None:
-        reopen_form = ReopenForm(formdata=None)
-    may_keep = may_reopen and bool(after_release)
-    if may_keep:
-        keep_form = keep_form or KeepReleaseForm(formdata=None)
-        # Always the newest evidence now on the page, even when the engineer's words are kept.
-        keep_form.seen_up_to.data = str(after_release[-1]["id"])
+    may_decide, may_reopen, may_keep = (
+        decision_form is not None,
+        reopen_form is not None,
+        keep_form is not None,
+    )
 
     photos = []
     if latest is not None:
@@ -382,11 +371,47 @@ def bearing_page(
         may_reopen=may_reopen,
         may_keep_release=may_keep,
         after_release=after_release,
-        decision_form=decision_form if may_decide else None,
-        reopen_form=reopen_form if may_reopen else None,
-        keep_form=keep_form if may_keep else None,
+        decision_form=decision_form,
+        reopen_form=reopen_form,
+        keep_form=keep_form,
         message=message,
         when=when,
+    )
+
+
+def _page_forms(
+    b: dict,
+    latest: dict | None,
+    after_release: list[dict],
+    decision_form: DecisionForm | None,
+    reopen_form: ReopenForm | None,
+    keep_form: KeepReleaseForm | None,
+) -> tuple[DecisionForm | None, ReopenForm | None, KeepReleaseForm | None]:
+    """The forms this person may use on the page now (None for each they may not), kept
+    as typed when given back after a refusal."""
+    may_decide = (
+        workflow.allowed(g.role, "decide")
+        and workflow.can_decide(b["state"])
+        and latest is not None
+    )
+    if may_decide:
+        if decision_form is None:
+            decision_form = DecisionForm(formdata=None)
+        # Always the values now on the page, even when the engineer's words are kept.
+        decision_form.record_uuid.data = latest["uuid"]
+        decision_form.seen_state.data = b["state"]
+    may_reopen = workflow.allowed(g.role, "reopen") and b["state"] == workflow.RELEASED
+    if may_reopen and reopen_form is None:
+        reopen_form = ReopenForm(formdata=None)
+    may_keep = may_reopen and bool(after_release)
+    if may_keep:
+        keep_form = keep_form or KeepReleaseForm(formdata=None)
+        # Always the newest evidence now on the page, even when the engineer's words are kept.
+        keep_form.seen_up_to.data = str(after_release[-1]["id"])
+    return (
+        decision_form if may_decide else None,
+        reopen_form if may_reopen else None,
+        keep_form if may_keep else None,
     )
 
 

@@ -1,7 +1,7 @@
 """The engineer's jobs: sites, their settings, the bearing schedule and who is on a site.
 
-Thin views: forms parse what was typed (``design_forms``), ``services`` runs the design
-check and stores, the store answers reads. Access is decided by ``site_for`` alone.
+Thin views: forms parse what was typed (``bearing_form``, ``settings_form``,
+``site_forms``), ``services`` runs the design check and stores, the store answers reads. Access is decided by ``site_for`` alone.
 """
 
 from __future__ import annotations
@@ -30,41 +30,26 @@ from sitecheck import invitations, services, store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.bearing.inputs import MATERIALS
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
-from sitecheck.web import get_db
-from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
-from sitecheck.web.auth import login_required
-from sitecheck.web.design_forms import (
+from sitecheck.settings_words import (
     BASIS_GROUPS,
-    BASIS_SCALARS,
     CREEP_TABLES,
     GAMMA_M_BS_ROWS,
     GAMMA_M_EC6_ROWS,
     K_MORTARS,
-    K_ROWS,
-    REVIEW_FIELDS,
+    source_tag,
+)
+from sitecheck.web import get_db
+from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
+from sitecheck.web.bearing_form import (
     SECTIONS,
     BearingForm,
-    ImportForm,
-    InviteForm,
-    RemoveForm,
     ReviseForm,
-    RoleForm,
-    SettingsForm,
-    SiteForm,
-    add_error,
-    basis_rows,
-    creep_field_name,
     design_from_form,
-    design_summary,
     form_data_from_design,
-    gamma_field_name,
-    k_field_name,
     put_core_error,
-    settings_form_data,
-    settings_from_form,
-    source_tag,
-    utc_text,
 )
+from sitecheck.web.form_fields import add_error
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import (
     listing,
     looked_now,
@@ -73,6 +58,20 @@ from sitecheck.web.pages import (
     search_words,
     since_you_looked,
 )
+from sitecheck.web.present import design_summary, utc_text
+from sitecheck.web.settings_form import (
+    BASIS_SCALARS,
+    K_ROWS,
+    REVIEW_FIELDS,
+    SettingsForm,
+    basis_rows,
+    creep_field_name,
+    gamma_field_name,
+    k_field_name,
+    settings_form_data,
+    settings_from_form,
+)
+from sitecheck.web.site_forms import ImportForm, InviteForm, RemoveForm, RoleForm, SiteForm
 
 bp = Blueprint("sites", __name__)
 
@@ -80,19 +79,9 @@ IMPORT_LIMIT = 2 * 1024 * 1024  # bytes: a schedule of thousands of rows is far 
 IMPORT_LIMIT_WORDS = "2 MB"
 
 
-@bp.app_context_processor
-def _helpers():
-    return {"has_endpoint": has_endpoint}
-
-
 @bp.app_template_filter("utc")
 def _utc_filter(value):
     return utc_text(value)
-
-
-def has_endpoint(name: str) -> bool:
-    """Whether another blueprint provides a page yet, so a link to it is never broken."""
-    return name in current_app.view_functions
 
 
 # --- a new site --------------------------------------------------------------------------------
@@ -104,14 +93,12 @@ def new():
     require_may_make_sites()
     form = SiteForm()
     if form.validate_on_submit():
-        code_basis, review_settings = services.default_site_settings(form.basis.data)
-        site = store.create_site(
+        site = services.make_site(
             get_db(),
             name=form.name.data,
             address=form.address.data or "",
-            code_basis=code_basis,
-            review_settings=review_settings,
-            created_by=g.user["id"],
+            basis_name=form.basis.data,
+            by_user_id=g.user["id"],
         )
         flash(f"Site “{site['name']}” created; you are its engineer.")
         return redirect(url_for("sites.show", site_id=site["id"]))
@@ -154,7 +141,7 @@ def set_site_maker(user_id):
             error="You cannot take this from yourself; ask another account that may make "
             "sites, so that one always remains.",
         )
-    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
+    services.let_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
     name = person["name"] or "They"
     flash(f"{name} may now make sites." if allowed else f"{name} may no longer make sites.")
     return redirect(url_for("sites.site_makers"))
@@ -592,21 +579,18 @@ def save_settings(site_id):
         return _settings_page(site, form, 400)
     code_basis, review_settings = parsed
     try:
-        # Read back exactly as the checks will, so nothing is stored that they would refuse.
-        services.basis_for({"code_basis": code_basis})
-        services.settings_for({"review_settings": review_settings})
+        services.save_site_settings(
+            get_db(),
+            site_id=site_id,
+            by_user_id=g.user["id"],
+            name=form.name.data,
+            address=form.address.data or "",
+            code_basis=code_basis,
+            review_settings=review_settings,
+        )
     except (InputError, TypeError, ValueError) as e:
         form.form_errors.append(f"Nothing was saved: {e}")
         return _settings_page(site, form, 400)
-    store.update_site_settings(
-        get_db(),
-        site_id=site_id,
-        user_id=g.user["id"],
-        name=form.name.data,
-        address=form.address.data or "",
-        code_basis=code_basis,
-        review_settings=review_settings,
-    )
     flash(
         "Settings saved. They apply to bearings added or revised from now on and to every "
         "re-check; design results already stored keep the values they were checked with."
@@ -707,7 +691,7 @@ def withdraw_invitation(site_id, invitation_id):
     form = RemoveForm()
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
-    if not store.withdraw_invitation(
+    if not invitations.withdraw(
         get_db(), invitation_id=invitation_id, site_id=site_id, by_user_id=g.user["id"]
     ):
         return _member_refusal(site, 404, "That invitation is not open on this site.")
@@ -734,12 +718,8 @@ def answer_invitation(invitation_id, answer):
         flash("Send your answer again from this page; nothing was changed.")
         return redirect(url_for("pages.home"))
     try:
-        invitation = store.answer_invitation(
-            get_db(),
-            invitation_id=invitation_id,
-            user_id=g.user["id"],
-            email=g.user["email"],
-            accept=answer == "accept",
+        invitation = invitations.answer(
+            get_db(), invitation_id=invitation_id, user=g.user, accept=answer == "accept"
         )
     except store.NotFound as closed:
         abort(404, description=str(closed))
@@ -775,7 +755,9 @@ def change_role(site_id, user_id):
         flash("Their role is unchanged.")
         return redirect(url_for("sites.members", site_id=site_id))
     try:
-        store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
+        services.change_role(
+            db, site_id=site_id, user_id=user_id, role=new_role, by_user_id=g.user["id"]
+        )
     except store.LastEngineer as refusal:
         return _member_refusal(site, 409, str(refusal))
     flash(f"Role changed from {current} to {new_role}.")
@@ -796,7 +778,7 @@ def remove_member(site_id, user_id):
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
     try:
-        store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
+        services.remove_member(db, site_id=site_id, user_id=user_id, by_user_id=g.user["id"])
     except store.LastEngineer as refusal:
         return _member_refusal(site, 409, str(refusal))
     flash("Removed from this site. Their records stay on the site record.")

@@ -23,7 +23,6 @@ import hashlib
 import json
 import math
 import re
-import uuid as uuid_module
 from datetime import UTC, datetime
 
 from flask import (
@@ -42,12 +41,13 @@ from werkzeug.exceptions import NotFound
 from sitecheck import services, store, workflow
 from sitecheck.bearing.errors import InputError
 from sitecheck.photos import PhotoLimits, PhotoRejected, PhotosBusy, ingest_photo
+from sitecheck.store.base import NoTimeZone, canonical_uuid, parse_timestamp
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
-from sitecheck.web.auth import login_required
 from sitecheck.web.inspect import survey_order
 from sitecheck.web.jsonbody import JsonRefused, read_json
+from sitecheck.web.login import login_required
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
     GROUPS,
@@ -190,55 +190,8 @@ def pack(site_id):
     site, role = site_for(site_id, "record")
     since = (request.args.get("since") or "").strip()[:80] or None
     found = store.pack_rows(get_db(), site_id=site["id"], since=since)
-    designs: dict[str, dict] = {}
-    keys: dict[tuple, str] = {}
-    for b in found.bearings:
-        summary = (
-            b["design_input_json"],
-            _finite(b["design_utilisation"]),
-            bool(b["design_passed"]),
-            b["design_governing"],
-        )
-        if summary not in keys:
-            keys[summary] = _design_key(summary)
-            design_input = found.designs[b["design_input_json"]]
-            designs[keys[summary]] = {
-                "input": design_input,
-                # Ready-made words beside each field, so the phone shows what the online
-                # form shows.
-                "designed": {name: designed_text(design_input, name) for name in SPECS},
-                "utilisation": summary[1],
-                "passed": summary[2],
-                "governing": summary[3],
-            }
-        b["design_key"] = keys[summary]
-    # A whole pack is in survey order, with each bearing's place by reference, so the phone
-    # ranks them again as their states change just as the survey list does. A bearing's
-    # place changes only when bearings are added, and then the whole pack is sent.
-    rows = survey_order(found.bearings) if found.full else found.bearings
-    if found.full or len(rows) > 50:
-        decisions = store.latest_decisions(get_db(), site_id=site["id"])
-    else:
-        decisions = {}
-        for b in rows:
-            decisions |= store.latest_decisions(get_db(), site_id=site["id"], bearing_id=b["id"])
-    bearings = [
-        {
-            "id": b["id"],
-            "reference": b["reference"],
-            "location": b["location"],
-            "state": b["state"],
-            "revision": b["revision"],
-            **({"order": b["order"]} if found.full else {}),
-            "design": b["design_key"],
-            "design_passed": bool(b["design_passed"]),
-            # What the engineer asked for, shown on the form with no signal too.
-            "engineer_words": engineer_words(
-                workflow.standing_decision(b["state"], decisions.get(b["id"]))
-            ),
-        }
-        for b in rows
-    ]
+    designs = _shared_designs(found)
+    bearings = _pack_bearings(site["id"], found)
     basis = services.basis_for(site)
     response = jsonify(
         site={
@@ -262,6 +215,65 @@ def pack(site_id):
     )
     response.headers["Cache-Control"] = "no-store"
     return response
+
+
+def _shared_designs(found: store.PackRows) -> dict[str, dict]:
+    """The pack's designs, each once, keyed so bearings of one design share it; each bearing
+    gets the key of its design as ``design_key``."""
+    designs: dict[str, dict] = {}
+    keys: dict[tuple, str] = {}
+    for b in found.bearings:
+        summary = (
+            b["design_input_json"],
+            _finite(b["design_utilisation"]),
+            bool(b["design_passed"]),
+            b["design_governing"],
+        )
+        if summary not in keys:
+            keys[summary] = _design_key(summary)
+            design_input = found.designs[b["design_input_json"]]
+            designs[keys[summary]] = {
+                "input": design_input,
+                # Ready-made words beside each field, so the phone shows what the online
+                # form shows.
+                "designed": {name: designed_text(design_input, name) for name in SPECS},
+                "utilisation": summary[1],
+                "passed": summary[2],
+                "governing": summary[3],
+            }
+        b["design_key"] = keys[summary]
+    return designs
+
+
+def _pack_bearings(site_id: str, found: store.PackRows) -> list[dict]:
+    """The pack's bearings as the phone reads them, with the engineer's standing words."""
+    # A whole pack is in survey order, with each bearing's place by reference, so the phone
+    # ranks them again as their states change just as the survey list does. A bearing's
+    # place changes only when bearings are added, and then the whole pack is sent.
+    rows = survey_order(found.bearings) if found.full else found.bearings
+    if found.full or len(rows) > 50:
+        decisions = store.latest_decisions(get_db(), site_id=site_id)
+    else:
+        decisions = {}
+        for b in rows:
+            decisions |= store.latest_decisions(get_db(), site_id=site_id, bearing_id=b["id"])
+    return [
+        {
+            "id": b["id"],
+            "reference": b["reference"],
+            "location": b["location"],
+            "state": b["state"],
+            "revision": b["revision"],
+            **({"order": b["order"]} if found.full else {}),
+            "design": b["design_key"],
+            "design_passed": bool(b["design_passed"]),
+            # What the engineer asked for, shown on the form with no signal too.
+            "engineer_words": engineer_words(
+                workflow.standing_decision(b["state"], decisions.get(b["id"]))
+            ),
+        }
+        for b in rows
+    ]
 
 
 def _design_key(summary: tuple) -> str:
@@ -452,22 +464,28 @@ def _field_of(message: str) -> str:
 
 def _uuid(value, field: str) -> str:
     try:
-        return str(uuid_module.UUID(str(value)))
-    except (ValueError, TypeError, AttributeError):
+        return canonical_uuid(value, field=field)
+    except ValueError:
         raise Refused(field, "bad-uuid", f"{field} must be a UUID made on the phone.") from None
 
 
 def _moment(value, field: str) -> str:
+    """The phone's time as it sent it, once the store's reading of times accepts it. A
+    padded time is refused here as before: the phone writes its own ISO text, never padded."""
     if not isinstance(value, str) or len(value) > 40:
         raise Refused(
             field, "missing", f"{field} must be a date and time such as 2026-05-04T10:30:00Z."
         )
     try:
-        moment = datetime.fromisoformat(value.replace("Z", "+00:00"))
+        if value != value.strip():
+            raise ValueError(value)
+        parse_timestamp(value, field=field)
+    except NoTimeZone:
+        raise Refused(
+            field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00."
+        ) from None
     except ValueError:
         raise Refused(field, "not-a-time", f"{field}: “{value}” is not a date and time.") from None
-    if moment.tzinfo is None:
-        raise Refused(field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00.")
     return value
 
 

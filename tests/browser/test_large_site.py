@@ -13,7 +13,7 @@ import pytest
 from playwright.sync_api import Page, expect
 
 from phone import log_in_as, record_offline, wait_for_worker
-from sitecheck import auth, services, store
+from sitecheck import credentials, services, store
 from sitecheck.demo import schedule_csv
 from sitecheck.schedule import parse_schedule
 
@@ -50,11 +50,14 @@ def large(live_server):
             db,
             email="large.engineer@invented-large-site.example",
             name="Mira Engineer",
-            password_hash=auth.hash_password(PASSWORD),
+            password_hash=credentials.hash_password(PASSWORD),
             may_make_sites=True,
         )["id"]
         inspector = store.create_user(
-            db, email=EMAIL, name="Lars Inspector", password_hash=auth.hash_password(PASSWORD)
+            db,
+            email=EMAIL,
+            name="Lars Inspector",
+            password_hash=credentials.hash_password(PASSWORD),
         )
         basis, review = services.default_site_settings()
         site = store.create_site(
