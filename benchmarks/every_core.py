@@ -81,13 +81,13 @@ def trivial_app():
 
 def prepare(home: Path, inspectors: int) -> tuple[str, list[dict], list[str]]:
     """A fresh data folder: one site with the demo schedule's bearings and its inspectors."""
-    from sitecheck import auth, services, store
+    from sitecheck import credentials, services, store
     from sitecheck.demo import SITE_NAME, schedule_csv
 
     home.mkdir(parents=True)
     db = store.open_db(home / "sitecheck.db")
     try:
-        hashed = auth.hash_password(PASSWORD)
+        hashed = credentials.hash_password(PASSWORD)
         engineer = store.create_user(
             db, email="engineer@bench.example", name="Bench Engineer", password_hash=hashed
         )

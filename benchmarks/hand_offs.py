@@ -22,7 +22,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from sitecheck import auth, notices, services, store  # noqa: E402
+from sitecheck import credentials, notices, services, store  # noqa: E402
 from sitecheck.bearing.serial import input_from_dict  # noqa: E402
 from sitecheck.demo import schedule_csv  # noqa: E402
 from sitecheck.schedule import parse_schedule  # noqa: E402
@@ -50,7 +50,7 @@ def main() -> None:
             db,
             email=f"{role}@bench.example",
             name=role.title(),
-            password_hash=auth.hash_password("a benchmark password only"),
+            password_hash=credentials.hash_password("a benchmark password only"),
             may_make_sites=role == "engineer",
         )
         for role in ("engineer", "inspector", "contractor")

@@ -28,7 +28,9 @@ from pathlib import Path
 from phone_browser import launch
 from playwright.sync_api import sync_playwright
 
-from sitecheck.vectors import DEFAULT_PATH, read_text
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # devtools/ is not installed
+
+from devtools.vectors import DEFAULT_PATH, REWRITE, read_text  # noqa: E402
 
 ROOT = Path(__file__).resolve().parent.parent
 VECTORS = ROOT / DEFAULT_PATH
@@ -75,7 +77,7 @@ def main() -> int:
         print("chromium not found: apt-get install -y chromium", file=sys.stderr)
         return 2
     if not VECTORS.is_file():
-        print(f"{VECTORS} missing: sitecheck vectors --out {VECTORS}", file=sys.stderr)
+        print(f"{VECTORS} missing: {REWRITE} {VECTORS}", file=sys.stderr)
         return 2
     cases = json.loads(read_text(VECTORS))["check"]
 

@@ -72,7 +72,7 @@ QUEUE = """async ({count, siteId, seed}) => {
       record: {
         uuid, site_id: siteId, bearing_id: b.id, design_revision: b.revision,
         measured_at: measuredAt,
-        measurements: { bearing_length: b.design_input.beam.bearing_length },
+        measurements: { bearing_length: pack.designs[b.design].input.beam.bearing_length },
         checklist: { bedded: true, packing: 0 },
         notes: `Invented benchmark record ${i + 1}.`,
       },

@@ -33,7 +33,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from sitecheck import auth, services, store  # noqa: E402
+from sitecheck import credentials, services, store  # noqa: E402
 from sitecheck.demo import schedule_csv  # noqa: E402
 from sitecheck.photos import PhotoStore, ingest_photo  # noqa: E402
 from sitecheck.schedule import parse_schedule  # noqa: E402
@@ -66,7 +66,7 @@ def build(folder: Path, bearings: int, photos_each: int) -> str:
             db,
             email=f"{role}@bench.example",
             name=f"Bench {role}",
-            password_hash=auth.hash_password("bench pass"),
+            password_hash=credentials.hash_password("bench pass"),
         )
         people[role] = u["id"]
     basis, review = services.default_site_settings()

@@ -160,6 +160,8 @@ def _records_files(folder: Path) -> list[Path]:
 # --- backup ------------------------------------------------------------------------------------
 
 
+# One piece: one backup in the order it must happen (refusals first, then the database, photos,
+# records, key and manifest), so the order is seen whole.
 def backup(settings: Settings, destination: str | os.PathLike) -> BackupReport:
     """Copy the data folder of ``settings`` into ``destination`` while the server runs."""
     started = time.monotonic()

@@ -10,16 +10,13 @@ from pathlib import Path
 from .bearing import BASES, EC6_UK, InputError, basis_named
 from .bearing.format import utilisation
 from .bearing.remedy import remedy
-from .bearing.review import BLOCKS
+from .cautions import CAUTION
 from .config import ConfigError, Settings, load_settings
-from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows
-
-CAUTION = (
-    "Caution: these results support, and never replace, the judgement of a competent "
-    "engineer. Local codes, national annexes and licensed practice govern."
-)
+from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows, row_verdict
 
 
+# One piece: the command line's declaration, one block per command in --help's order; the work is
+# in the functions it hands each command to.
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(
         prog="sitecheck", description="Re-check masonry bearings as built."
@@ -157,18 +154,7 @@ def main(argv: list[str] | None = None) -> int:
         "--out", type=Path, required=True, help="the file to write: NAME.zip (CSV) or NAME.json"
     )
 
-    vectors = sub.add_parser(
-        "vectors", help="write or compare the shared test vectors of the browser's mirror"
-    )
-    what = vectors.add_mutually_exclusive_group(required=True)
-    what.add_argument("--out", type=Path, help="write the vectors to this file")
-    what.add_argument(
-        "--check", type=Path, help="exit 1 if this file differs from freshly made vectors"
-    )
-
     args = parser.parse_args(argv)
-    if args.command == "vectors":
-        return _vectors(args)
     if args.command == "columns":
         for name, (meaning, unit) in COLUMNS.items():
             print(f"{name:28} {unit:7} {meaning}")
@@ -263,33 +249,6 @@ def _print_settings(args) -> int:
     for name, value, source in settings.described():
         print(f"{name:18} {value:48} {source}")
     return 0
-
-
-def _vectors(args) -> int:
-    from . import vectors
-
-    if args.out is not None:
-        text = vectors.write(args.out)
-        size = args.out.stat().st_size
-        print(
-            f"Vectors written to {args.out} ({len(text) / 1e6:.1f} MB of JSON, {size / 1e6:.2f} MB on disk)"
-        )
-        return 0
-    try:
-        kept = json.loads(vectors.read_text(args.check))
-    except (OSError, EOFError, UnicodeDecodeError, ValueError) as e:
-        print(f"sitecheck: cannot read {args.check}: {e}", file=sys.stderr)
-        return 2
-    fresh = json.loads(vectors.dumps(vectors.build_vectors()))
-    found = vectors.differences(kept, fresh)
-    if not found:
-        print(f"{args.check} is up to date")
-        return 0
-    print(f"{args.check} differs from the vectors the core makes now:")
-    for line in found:
-        print(f"  {line}")
-    print(f"Rewrite it with: sitecheck vectors --out {args.check}")
-    return 1
 
 
 def _open_site(args):
@@ -393,11 +352,11 @@ def _progress_bar(done: int, total: int, what: str) -> None:
 def _create_engineer(args) -> int:
     import getpass
 
-    from . import auth, store
+    from . import credentials, store
 
     settings = _settings(args)
     password = getpass.getpass("Password (10 characters or more): ")
-    problem = auth.password_problem(password, email=args.email)
+    problem = credentials.password_problem(password, email=args.email)
     if problem:
         print(f"sitecheck: {problem}", file=sys.stderr)
         return 2
@@ -408,7 +367,7 @@ def _create_engineer(args) -> int:
             db,
             email=args.email,
             name=args.name,
-            password_hash=auth.hash_password(password),
+            password_hash=credentials.hash_password(password),
             may_make_sites=True,
         )
     except store.Conflict as e:
@@ -648,15 +607,6 @@ _OPERATIONS = {
 }
 
 
-def verdict(outcome: RowOutcome) -> str:
-    """One of our state words for a schedule row."""
-    if outcome.result is None:
-        return "awaiting survey" if outcome.design_result.passed else "fails at design"
-    if any(r.severity == BLOCKS for r in outcome.reasons):
-        return "engineer to decide"
-    return "within design"
-
-
 def _basis_overrides(name: str, items: list[str]) -> dict:
     """``--basis-value`` items as overrides of the named basis. Only the shape is read
     here; whether a value makes sense is the core's call (it names the value it refuses)."""
@@ -742,7 +692,7 @@ def _print_table(outcomes: list[RowOutcome], hints: dict) -> None:
         util = f"{utilisation(r.utilisation):>6}"
         codes = ", ".join(reason.code for reason in o.reasons) or "-"
         print(
-            f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {verdict(o):19} {codes}"
+            f"{o.row.reference[:22]:22} {o.basis.name[:12]:12} {g.code[:24]:24} {util}  {row_verdict(o):19} {codes}"
         )
         hint = hints.get(o.row.reference)
         if hint is not None:
@@ -757,7 +707,7 @@ def _as_json(outcomes, errors, hints, unknown, notes) -> dict:
             "reference": o.row.reference,
             "location": o.row.location,
             "basis": o.basis.name,
-            "verdict": verdict(o),
+            "verdict": row_verdict(o),
             "design": o.design_result.as_dict(),
             "as_built": None if o.result is None else o.result.as_dict(),
             "review_reasons": [r.as_dict() for r in o.reasons],

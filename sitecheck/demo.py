@@ -408,6 +408,8 @@ _DECISIONS = {
 _RELEASES = {"GF-B1-E"}
 
 
+# One piece: the invented site's story in the order it happens (people, site, schedule, records,
+# decisions, releases).
 def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
     """A fresh demo database: the invented site, one person per role, the schedule, as-built
     records with generated photos, one decision of each kind that matters and releases.
@@ -415,7 +417,7 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
     import dataclasses
     from datetime import UTC, datetime, timedelta
 
-    from . import auth, services, store
+    from . import credentials, services, store
     from .bearing import BS5628, basis_named
     from .bearing.review import ReviewSettings
     from .photos import PhotoStore, ingest_photo
@@ -434,7 +436,7 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
                 db,
                 email=email,
                 name=name,
-                password_hash=auth.hash_password(password),
+                password_hash=credentials.hash_password(password),
                 may_make_sites=role == "engineer",
             )
             people[role] = u["id"]

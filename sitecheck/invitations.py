@@ -10,11 +10,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from sitecheck import auth, store
+from sitecheck import credentials, store
 from sitecheck.mail import MailSettings
 
 INVITATION_VALID_S = 7 * 24 * 3600
-JOIN_PATH = "/join/"  # + the link's token; the view is sitecheck.web.auth.join
+JOIN_PATH = "/join/"  # + the link's token; the view is sitecheck.web.login.join
 
 
 @dataclass(frozen=True)
@@ -51,7 +51,7 @@ def invite(
         # whether or not the address has an account. With mail, only a new address needs
         # one: an existing account answers after logging in.
         if mail is None or not has_account:
-            token = auth.new_link_token()
+            token = credentials.new_link_token()
             store.create_link(
                 db,
                 token_hash=token.token_hash,
@@ -112,3 +112,18 @@ def invitation_message(invitation: dict, *, link: str | None, login_url: str) ->
 def utc_words(ts: str) -> str:
     """A stored UTC time as people read it, saying UTC so nobody guesses the zone."""
     return f"{ts[:10]} {ts[11:16]} UTC"
+
+
+def withdraw(db, *, invitation_id: str, site_id: str, by_user_id: int) -> bool:
+    """Withdraw an open invitation of the site (its link stops working); False when there
+    is no such open invitation."""
+    return store.withdraw_invitation(
+        db, invitation_id=invitation_id, site_id=site_id, by_user_id=by_user_id
+    )
+
+
+def answer(db, *, invitation_id: str, user: dict, accept: bool) -> dict:
+    """The invited person's answer; store.NotFound when the invitation is not open to them."""
+    return store.answer_invitation(
+        db, invitation_id=invitation_id, user_id=user["id"], email=user["email"], accept=accept
+    )

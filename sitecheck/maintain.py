@@ -25,7 +25,7 @@ import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from sitecheck import auth, services, store
+from sitecheck import credentials, services, store
 from sitecheck.config import Settings
 from sitecheck.photos import PhotoStore
 
@@ -74,7 +74,7 @@ def maintain(settings: Settings, *, older_than_s: float = DAY_S) -> Upkeep:
             swept = services.sweep_photo_files(db, photos, older_than_s=older_than_s)
             temporary = swept.temporary_files + _remove_stale_parts(settings.records, older_than_s)
             unnamed = swept.orphan_files
-            pruned = store.prune_login_attempts(db, older_than_s=auth.THROTTLE_WINDOW_S)
+            pruned = store.prune_login_attempts(db, older_than_s=credentials.THROTTLE_WINDOW_S)
         finally:
             store.release_lease(db, name=LEASE, holder=holder)
     finally:

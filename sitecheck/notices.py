@@ -26,7 +26,7 @@ from html import escape
 
 from sitecheck import store, workflow
 from sitecheck.bearing.format import utilisation as _utilisation
-from sitecheck.cli import CAUTION
+from sitecheck.cautions import CAUTION
 
 TO_DECIDE = "to-decide"
 RELEASABLE = "releasable"

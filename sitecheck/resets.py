@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import timedelta
 
-from sitecheck import auth, store
+from sitecheck import credentials, store
 from sitecheck.invitations import utc_words
 from sitecheck.mail import MailSettings
 
@@ -47,7 +47,7 @@ def start_reset(
             f"{user['email']} is disabled; enable it first (sitecheck users enable), then "
             "reset its password"
         )
-    token = auth.new_link_token()
+    token = credentials.new_link_token()
     root = (mail.base_url if mail else base_url).rstrip("/")
     link = root + RESET_PATH + token.token
     now = store.utc_now()

@@ -32,6 +32,7 @@ from .bearing import (
 )
 from .bearing.inputs import PADSTONE_POSITIONS
 from .bearing.review import (
+    BLOCKS,
     Checklist,
     Measurements,
     ReviewReason,
@@ -40,6 +41,7 @@ from .bearing.review import (
     review,
 )
 from .csvcells import unguard_text
+from .workflow import AWAITING_SURVEY, ENGINEER_TO_DECIDE, WITHIN_DESIGN
 
 # Column → (what it holds, unit). Lengths are mm, loads kN as their names say.
 DESIGN_COLUMNS: dict[str, tuple[str, str]] = {
@@ -609,6 +611,7 @@ def _split_text_cells(
     return [(name, value) for name, value, _ in chosen]
 
 
+# One piece: one row's cells in the order of the columns, each refused by its column's name.
 def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> ScheduleRow:
     reference = c.get("reference", "")
     if not reference:
@@ -906,6 +909,16 @@ class RowOutcome:
     @property
     def current(self) -> BearingResult:
         return self.result or self.design_result
+
+
+def row_verdict(outcome: RowOutcome) -> str:
+    """The state word the command line prints for a schedule row: the state the bearing
+    would take (workflow's words), or "fails at design" before anything is measured."""
+    if outcome.result is None:
+        return AWAITING_SURVEY if outcome.design_result.passed else "fails at design"
+    if any(r.severity == BLOCKS for r in outcome.reasons):
+        return ENGINEER_TO_DECIDE
+    return WITHIN_DESIGN
 
 
 def recheck_row(

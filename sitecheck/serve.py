@@ -45,6 +45,7 @@ def serve(settings: Settings, *, server: str = "auto") -> int:
         app = create_app(settings=settings)
         from waitress import serve as waitress_serve
 
+        _settle_memory()
         waitress_serve(
             app,
             host=settings.host,
@@ -56,6 +57,17 @@ def serve(settings: Settings, *, server: str = "auto") -> int:
     del app  # each worker builds its own after the fork: no connection or thread crosses it
     _Gunicorn(settings).run()
     return 0
+
+
+def _settle_memory() -> None:
+    """What the app built to serve (modules, templates, routes) lives as long as the worker:
+    move it out of the garbage collector's sight, so that a request making thousands of
+    objects (a long list, a site pack) does not also pay for walking all of it again. The
+    review queue of a 10,000-bearing site took 15 % less CPU (benchmarks/large_site.py)."""
+    import gc
+
+    gc.collect()
+    gc.freeze()
 
 
 def _gunicorn_logger_class(json_lines: bool):
@@ -112,7 +124,9 @@ class _Gunicorn:
 
                 # Each worker takes its share of the cores for pictures: one per core in all.
                 share_cores_with(outer.settings.worker_count())
-                return create_app(settings=outer.settings, SWEEP_AT_START=False)
+                app = create_app(settings=outer.settings, SWEEP_AT_START=False)
+                _settle_memory()
+                return app
 
         # gunicorn would read sys.argv as its own command line.
         argv, sys.argv = sys.argv, sys.argv[:1]

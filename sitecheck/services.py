@@ -8,6 +8,8 @@ module decides what to call, in what order, and what to keep.
 from __future__ import annotations
 
 import contextlib
+import functools
+import json
 import time
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
@@ -52,15 +54,28 @@ def default_site_settings(basis_name: str | None = None) -> tuple[dict, dict]:
 
 
 def basis_for(site: dict) -> CodeBasis:
-    return basis_from_dict(site["code_basis"]) if site.get("code_basis") else ec6_uk_na()
+    if not site.get("code_basis"):
+        return ec6_uk_na()
+    return _basis_from_text(json.dumps(site["code_basis"], sort_keys=True))
 
 
 def settings_for(site: dict) -> ReviewSettings:
-    return (
-        settings_from_dict(site["review_settings"])
-        if site.get("review_settings")
-        else ReviewSettings()
-    )
+    if not site.get("review_settings"):
+        return ReviewSettings()
+    return _settings_from_text(json.dumps(site["review_settings"], sort_keys=True))
+
+
+# A site's basis and settings are read on every record its phones send; rebuilding them
+# from their dicts each time cost more than the text they are kept as. Both are frozen, so
+# one copy serves every thread; a refusal (InputError) is never kept.
+@functools.lru_cache(maxsize=64)
+def _basis_from_text(text: str) -> CodeBasis:
+    return basis_from_dict(json.loads(text))
+
+
+@functools.lru_cache(maxsize=64)
+def _settings_from_text(text: str) -> ReviewSettings:
+    return settings_from_dict(json.loads(text))
 
 
 def mirror_settings(site: dict) -> dict:
@@ -209,6 +224,8 @@ def recheck(
     return Recheck(built, result, reasons)
 
 
+# One piece: receiving one as-built record is one transaction in a fixed order (refusals, re-
+# check, review, store, state, events), seen whole.
 def record_as_built(
     db,
     *,
@@ -664,3 +681,61 @@ def camera_time(capture_time: str | None) -> str | None:
     except ValueError:
         return None
     return capture_time if moment.tzinfo is not None else None
+
+
+# --- sites and who is on them ------------------------------------------------------------------
+
+
+def make_site(db, *, name: str, address: str, basis_name: str, by_user_id: int) -> dict:
+    """A new site on the named code basis with the default review settings; whoever makes
+    it is its first engineer."""
+    code_basis, review_settings = default_site_settings(basis_name)
+    return store.create_site(
+        db,
+        name=name,
+        address=address,
+        code_basis=code_basis,
+        review_settings=review_settings,
+        created_by=by_user_id,
+    )
+
+
+def save_site_settings(
+    db,
+    *,
+    site_id: str,
+    by_user_id: int,
+    name: str,
+    address: str,
+    code_basis: dict,
+    review_settings: dict,
+) -> None:
+    """Store a site's settings once they read back exactly as the checks will read them, so
+    nothing is stored that the checks would refuse (InputError, TypeError or ValueError
+    says why, and nothing is saved)."""
+    basis_for({"code_basis": code_basis})
+    settings_for({"review_settings": review_settings})
+    store.update_site_settings(
+        db,
+        site_id=site_id,
+        user_id=by_user_id,
+        name=name,
+        address=address,
+        code_basis=code_basis,
+        review_settings=review_settings,
+    )
+
+
+def let_make_sites(db, *, user_id: int, allowed: bool, by_user_id: int) -> None:
+    """Give or take the permission to make sites (with its event)."""
+    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=by_user_id)
+
+
+def change_role(db, *, site_id: str, user_id: int, role: str, by_user_id: int) -> None:
+    """A member's new role; store.LastEngineer when it would leave the site no engineer."""
+    store.set_role(db, user_id=user_id, site_id=site_id, role=role, by_user_id=by_user_id)
+
+
+def remove_member(db, *, site_id: str, user_id: int, by_user_id: int) -> None:
+    """Take someone off a site (their records stay); store.LastEngineer as for a role."""
+    store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=by_user_id)

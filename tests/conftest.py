@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import pytest
 
-from sitecheck import auth, services, store
+from sitecheck import credentials, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
 from sitecheck.web import create_app
 from webkit import PASSWORD, new_site
@@ -28,10 +28,10 @@ class Person:
 @pytest.fixture(autouse=True)
 def _cheap_password_hashing(request, monkeypatch):
     """scrypt at its production cost takes a good part of a second per account; the web tests
-    make several accounts each. They get a cheap scrypt; tests/test_auth.py checks the real
+    make several accounts each. They get a cheap scrypt; tests/test_credentials.py checks the real
     one."""
-    if request.module.__name__.rsplit(".", 1)[-1] != "test_auth":
-        monkeypatch.setattr(auth, "HASH_METHOD", "scrypt:1024:8:1")
+    if request.module.__name__.rsplit(".", 1)[-1] != "test_credentials":
+        monkeypatch.setattr(credentials, "HASH_METHOD", "scrypt:1024:8:1")
 
 
 @pytest.fixture
@@ -63,7 +63,7 @@ def people(db) -> dict[str, Person]:
             db,
             email=email,
             name=name,
-            password_hash=auth.hash_password(PASSWORD),
+            password_hash=credentials.hash_password(PASSWORD),
             may_make_sites=role == "engineer",  # as `sitecheck create-engineer` makes one
         )
         out[role] = Person(u["id"], email, name, None if role == "outsider" else role)

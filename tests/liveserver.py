@@ -58,8 +58,9 @@ class _NoRedirects(urllib.request.HTTPRedirectHandler):
 class Client:
     """One person's browser, reduced to cookies and requests."""
 
-    def __init__(self, base_url: str):
+    def __init__(self, base_url: str, *, timeout: float = 60):
         self.base_url = base_url
+        self.timeout = timeout
         self.cookies = http.cookiejar.CookieJar()
         self._opener = urllib.request.build_opener(
             urllib.request.HTTPCookieProcessor(self.cookies), _NoRedirects()
@@ -70,7 +71,7 @@ class Client:
             self.base_url + path, data=body, method=method, headers=headers or {}
         )
         try:
-            with self._opener.open(req, timeout=60) as response:
+            with self._opener.open(req, timeout=self.timeout) as response:
                 return Answer(response.status, dict(response.headers), response.read())
         except urllib.error.HTTPError as error:
             with error:

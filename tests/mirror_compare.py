@@ -13,7 +13,7 @@ from pathlib import Path
 
 import pytest
 
-from sitecheck.vectors import DEFAULT_PATH, read_text
+from devtools.vectors import DEFAULT_PATH, REWRITE, read_text
 
 VECTORS = Path(__file__).resolve().parent.parent / DEFAULT_PATH
 
@@ -76,5 +76,5 @@ def load_shared_vectors() -> dict:
     They may hold Infinity (an unbounded utilisation in a review reason's values): Python's
     json reads it, and Playwright carries it to the page as a number."""
     if not VECTORS.exists():
-        pytest.fail(f"{VECTORS} is missing: write it with `sitecheck vectors --out {DEFAULT_PATH}`")
+        pytest.fail(f"{VECTORS} is missing: write it with `{REWRITE} {DEFAULT_PATH}`")
     return json.loads(read_text(VECTORS))

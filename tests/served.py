@@ -231,14 +231,14 @@ PASSWORD = "correct horse battery"  # test accounts only
 def prepare_home(home: Path, *, inspectors: int = 1) -> dict:
     """A data folder with one site (the demo schedule's block bearings), its engineer and
     ``inspectors`` inspectors, as the app makes them. Returns ids, e-mails and bearings."""
-    from sitecheck import auth, services, store
+    from sitecheck import credentials, services, store
     from sitecheck.demo import SITE_NAME, schedule_csv
     from webkit import new_site
 
     home.mkdir(parents=True, exist_ok=True)
     db = store.open_db(home / "sitecheck.db")
     try:
-        hashed = auth.hash_password(PASSWORD)
+        hashed = credentials.hash_password(PASSWORD)
         engineer = store.create_user(
             db, email="engineer@example.test", name="Esme Engineer", password_hash=hashed
         )

@@ -383,7 +383,7 @@ def test_jobs_made_before_exports_existed_are_pdfs_after_the_migration(tmp_path)
 
     path = tmp_path / "older.db"
     older = sqlite_utils.Database(path)
-    store.MIGRATIONS.apply(older, stop_before="m015_record_job_kinds")
+    store.MIGRATIONS.apply(older, stop_before="m016_record_job_kinds")
     older.conn.executescript(
         """
         INSERT INTO users (id, email, name, password_hash, created_at)

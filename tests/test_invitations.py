@@ -14,7 +14,7 @@ from datetime import timedelta
 
 import pytest
 
-from sitecheck import auth, mail, store
+from sitecheck import credentials, mail, store
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
 from smtp_local import LocalMailServer, free_port
@@ -73,14 +73,14 @@ def people_on_a_site(app):
             db,
             email="esme@example.test",
             name="Esme Engineer",
-            password_hash=auth.hash_password(PASSWORD),
+            password_hash=credentials.hash_password(PASSWORD),
             may_make_sites=True,
         )
         other = store.create_user(
             db,
             email="otto@example.test",
             name="Otto Outsider",
-            password_hash=auth.hash_password(PASSWORD),
+            password_hash=credentials.hash_password(PASSWORD),
         )
         site = new_site(db, name="Invented Mill", created_by=engineer["id"])
     finally:
@@ -321,7 +321,7 @@ def test_a_withdrawn_replaced_or_expired_invitation_and_its_link_stop_working(pl
     third = invite("viewer")
     later = store.utc_now() + timedelta(days=8)
     assert store.open_invitations_for_site(db, site_id=site["id"], now=later) == []
-    token_hash = auth.link_token_hash(third.rsplit("/", 1)[1])
+    token_hash = credentials.link_token_hash(third.rsplit("/", 1)[1])
     assert store.open_link(db, token_hash=token_hash, purpose=store.INVITATION, now=later) is None
     assert store.use_link(db, token_hash=token_hash, purpose=store.INVITATION, now=later) is None
     db.conn.close()

@@ -11,14 +11,14 @@ from urllib.parse import urljoin, urlsplit
 
 import pytest
 
-from sitecheck import auth, store
+from sitecheck import credentials, store
 from sitecheck.web import create_app
 from webkit import PASSWORD, csrf_token
 
 HOST = "localhost"  # the test client's server name
 # Waits long enough that no test here depends on how fast the machine runs it.
-ACCOUNT_RULE = auth.ThrottleRule(free=5, first_wait_s=60, max_wait_s=900)
-ADDRESS_RULE = auth.ThrottleRule(free=30, first_wait_s=60, max_wait_s=300)
+ACCOUNT_RULE = credentials.ThrottleRule(free=5, first_wait_s=60, max_wait_s=900)
+ADDRESS_RULE = credentials.ThrottleRule(free=30, first_wait_s=60, max_wait_s=300)
 
 
 @pytest.fixture
@@ -122,7 +122,7 @@ def test_a_same_site_path_is_kept(app, people, kept):
     ],
 )
 def test_same_site_path(target, kept):
-    assert auth.same_site_path(target) == kept
+    assert credentials.same_site_path(target) == kept
 
 
 # --- failed log-ins slow the next try, for whoever failed, from where they failed -----------------
@@ -195,7 +195,7 @@ def test_trying_many_accounts_from_one_address_is_slowed(app, people):
 
 
 def test_attempts_older_than_the_window_are_pruned(app, db, people):
-    old = store.utc_now() - timedelta(seconds=auth.THROTTLE_WINDOW_S + 60)
+    old = store.utc_now() - timedelta(seconds=credentials.THROTTLE_WINDOW_S + 60)
     for n in range(3):
         store.record_login_attempt(
             db, email=f"gone{n}@example.test", remote_addr=STRANGER, ok=False, now=old
@@ -239,7 +239,7 @@ def test_many_people_behind_one_proxy_log_in(behind_proxy):
     for n in range(12):
         email = f"person{n}@example.test"
         store.create_user(
-            db, email=email, name=f"Person {n}", password_hash=auth.hash_password(PASSWORD)
+            db, email=email, name=f"Person {n}", password_hash=credentials.hash_password(PASSWORD)
         )
         emails.append(email)
     db.conn.close()
@@ -267,7 +267,9 @@ def test_a_client_cannot_choose_its_address_by_sending_the_header_itself(app, be
     assert statuses[-1] == 429
     # Through one trusted proxy: only the entry the proxy added is believed.
     db = store.open_db(behind_proxy.config["DB_PATH"])
-    store.create_user(db, email=email, name="Vic", password_hash=auth.hash_password(PASSWORD))
+    store.create_user(
+        db, email=email, name="Vic", password_hash=credentials.hash_password(PASSWORD)
+    )
     db.conn.close()
     statuses = [
         log_in(

@@ -11,7 +11,7 @@ from datetime import timedelta
 
 import pytest
 
-from sitecheck import auth, mail, store
+from sitecheck import credentials, mail, store
 from sitecheck.mail import MailSettings, MailSettingsError
 from sitecheck.web import create_app
 from smtp_local import LocalMailServer, self_signed
@@ -113,7 +113,7 @@ def test_a_link_is_used_once_and_a_message_is_claimed_by_one_sender_at_a_time(pl
     db = store.open_db(plain_app.config["DB_PATH"])
     other = store.open_db(plain_app.config["DB_PATH"])
     try:
-        token = auth.new_link_token()
+        token = credentials.new_link_token()
         store.create_link(
             db, token_hash=token.token_hash, purpose=store.INVITATION, email=NEW, valid_s=60
         )

@@ -17,7 +17,7 @@ import pytest
 from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
 from test_web_review import login as log_in_as
 
-from sitecheck import auth, mail, notices, services, store
+from sitecheck import credentials, mail, notices, services, store
 from sitecheck.demo import schedule_csv
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
@@ -80,7 +80,7 @@ def make_people(db, *roles: str) -> dict[str, Person]:
             db,
             email=f"{role}@example.test",
             name=NAMES[role],
-            password_hash=auth.hash_password(PASSWORD),
+            password_hash=credentials.hash_password(PASSWORD),
             may_make_sites=role == "engineer",
         )
         made[role] = Person(u["id"], u["email"], u["name"], role)

@@ -185,7 +185,9 @@ def test_a_finished_record_is_handed_out_again_until_the_site_changes(demo, two_
             "bearing_id": b["id"],
             "design_revision": b["revision"],
             "measured_at": datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
-            "measurements": {"bearing_length": b["design_input"]["beam"]["bearing_length"]},
+            "measurements": {
+                "bearing_length": pack["designs"][b["design"]]["input"]["beam"]["bearing_length"]
+            },
             "checklist": {},
             "notes": "Measured again after the record was made.",
         },

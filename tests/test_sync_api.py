@@ -89,16 +89,19 @@ def test_site_pack_holds_every_bearing_with_its_design(client_as, db, site):
     assert pack["generated_at"].endswith("Z")
     # In survey order, each with its place by reference for the phone to rank them again.
     expected = survey_order(store.list_bearings(db, site_id=site["id"]))
+    assert pack["full"] is True and pack["removed"] == [] and pack["version"]
     assert [b["id"] for b in pack["bearings"]] == [b["id"] for b in expected]
     assert [b["order"] for b in pack["bearings"]] == [b["order"] for b in expected]
-    first, row = pack["bearings"][0], expected[0]
-    assert first["reference"] == row["reference"] and first["revision"] == row["revision"]
-    assert first["state"] == row["state"] and first["location"] == row["location"]
-    assert first["design_input"] == row["design_input"]
-    assert first["design"]["passed"] == bool(row["design_passed"])
-    assert first["design"]["utilisation"] == pytest.approx(row["design_utilisation"])
-    assert first["design"]["governing"] == row["design_result"]["governing"]
-    assert set(first["designed"]) >= set(MEASUREMENT_FIELDS)
+    for got, row in zip(pack["bearings"], expected, strict=True):
+        assert got["reference"] == row["reference"] and got["revision"] == row["revision"]
+        assert got["state"] == row["state"] and got["location"] == row["location"]
+        assert got["design_passed"] == bool(row["design_passed"])
+        design = pack["designs"][got["design"]]
+        assert design["input"] == row["design_input"]
+        assert design["passed"] == bool(row["design_passed"])
+        assert design["utilisation"] == pytest.approx(row["design_utilisation"])
+        assert design["governing"] == row["design_result"]["governing"]
+        assert set(design["designed"]) >= set(MEASUREMENT_FIELDS)
     # The phone's re-check gets the basis and settings in full, exactly as the server
     # reads them (the site row may hold only what was changed from the defaults).
     assert pack["site"]["mirror"] == {
@@ -537,9 +540,11 @@ def test_the_offline_form_sends_the_online_forms_field_names(client_as, site):
 
 
 def test_the_phones_field_lists_are_the_servers():
-    """verdict.js reads the as-built form by these names for the phone's re-check and the
-    offline record; a field added on the server must be added there too."""
-    source = (Path(__file__).resolve().parent.parent / "static" / "js" / "verdict.js").read_text()
+    """The phone's one list (bearing/serial.js, read by the form and the re-check) is the
+    core's dataclass fields; a field added on the server must be added there too."""
+    source = (
+        Path(__file__).resolve().parent.parent / "static" / "js" / "bearing" / "serial.js"
+    ).read_text()
 
     def listed(const: str) -> tuple[str, ...]:
         body = re.search(rf"export const {const} = \[(.*?)\];", source, flags=re.S).group(1)

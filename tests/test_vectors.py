@@ -16,12 +16,12 @@ from pathlib import Path
 
 import pytest
 
-from sitecheck import vectors
+from devtools import vectors
 from sitecheck.bearing.inputs import MATERIALS
 
 ROOT = Path(__file__).resolve().parent.parent
 COMMITTED = ROOT / "tests" / "vectors" / "bearing-vectors.json.gz"
-REWRITE = "sitecheck vectors --out tests/vectors/bearing-vectors.json.gz"
+REWRITE = f"{vectors.REWRITE} tests/vectors/bearing-vectors.json.gz"
 # The core modules whose errors the mirror reproduces (validate.py's input checks, the
 # strengths' formula limits, a refused code basis).
 ERROR_SOURCES = ("validate.py", "strength.py", "basis.py")

@@ -13,6 +13,7 @@ import inspect
 
 import pytest
 
+from devtools.vectors_review import remedy_vectors, review_vectors
 from sitecheck import services
 from sitecheck.bearing import (
     ACROSS,
@@ -25,7 +26,6 @@ from sitecheck.bearing import (
 )
 from sitecheck.bearing import review as review_module
 from sitecheck.bearing.serial import input_from_dict, input_to_dict
-from sitecheck.vectors_review import remedy_vectors, review_vectors
 
 BOTH = ("blocks", "advisory")
 

@@ -13,7 +13,7 @@ from datetime import UTC, datetime, timedelta
 
 import pytest
 
-from sitecheck import auth, services, store
+from sitecheck import credentials, services, store
 from sitecheck.bearing.remedy import remedy
 from sitecheck.demo import schedule_csv
 from webkit import csrf_token, new_site
@@ -136,7 +136,7 @@ def other_site_with_engineer(db, name="Second invented site") -> tuple[dict, Eng
         db,
         email="second@example.test",
         name="Sam Second",
-        password_hash=auth.hash_password(SECOND_PASSWORD),
+        password_hash=credentials.hash_password(SECOND_PASSWORD),
     )
     engineer = Engineer(u["id"], "second@example.test")
     other = new_site(db, name=name, created_by=engineer.id, address="Nowhere Lane (invented)")

@@ -18,7 +18,7 @@ from markupsafe import escape
 from werkzeug.datastructures import FileStorage
 from werkzeug.test import encode_multipart
 
-from sitecheck import auth, services, store, workflow
+from sitecheck import credentials, services, store, workflow
 from sitecheck.bearing import SOURCES, basis_from_dict
 from sitecheck.bearing.review import settings_from_dict
 from sitecheck.schedule import DESIGN_COLUMNS
@@ -425,17 +425,8 @@ def test_the_schedule_page_for_each_role(client_as, db, site, people):
 
 
 def test_links_to_other_jobs_show_only_to_who_may_use_them(app, client_as, db, site):
-    def stub(site_id, bearing_id=None):
-        return "stub"
-
-    # Other jobs' pages may not exist yet; stand in for any that do not.
-    for endpoint, rule in (
-        ("inspect.record_form", "/stub/record/<site_id>/<bearing_id>"),
-        ("release.site", "/stub/release/<site_id>"),
-        ("review.bearing", "/stub/review/<site_id>/<bearing_id>"),
-    ):
-        if endpoint not in app.view_functions:
-            app.add_url_rule(rule, endpoint, stub)
+    # The site page builds every link with url_for and checks for no endpoint first: a
+    # renamed page makes this page fail here, not hide its button.
     bearing = store.list_bearings(db, site_id=site["id"])[0]
     with app.test_request_context():
         record = url_for("inspect.record_form", site_id=site["id"], bearing_id=bearing["id"])
@@ -500,7 +491,7 @@ def test_the_bearing_page_shows_design_records_decisions_and_history(client_as, 
 
     data = client_as("engineer").get(url + ".json").get_json()
     assert data["bearing"]["reference"] == "GF-B1-E" and data["bearing"]["revision"] == 1
-    assert data["result"]["governing"] == bearing["design_result"]["governing"]
+    assert data["result"]["governing"] == bearing["design_governing"]
     record = data["records"][0]
     assert record["inspector"] == people["inspector"].name
     assert record["measured_at"].startswith("2026-03-02T09:30:00")
@@ -522,7 +513,7 @@ def test_adding_a_bearing_by_form_checks_it_at_once(client_as, db, site, people)
     assert c.get(url).status_code == 200
     r = post(c, url, GOOD)
     assert r.status_code == 302, all_error_fields(r.data)
-    stored = store.bearing_by_reference(db, site_id=site["id"], reference="T-1")
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="T-1", with_result=True)
     assert r.headers["Location"].endswith(f"/bearings/{stored['id']}")
     assert stored["design_input"]["load"]["reaction"] == pytest.approx(40_000.0)  # kN → N
     assert stored["design_input"]["padstone"]["length"] == 440.0
@@ -628,7 +619,9 @@ def input_value(html: bytes, name: str) -> str | None:
 
 def test_revising_a_bearing_makes_a_new_checked_revision(client_as, db, site):
     c = client_as("engineer")
-    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    bearing = store.bearing_by_reference(
+        db, site_id=site["id"], reference="GF-B1-E", with_result=True
+    )
     url = f"/sites/{site['id']}/bearings/{bearing['id']}/revise"
     form = c.get(url)
     assert form.status_code == 200
@@ -637,7 +630,7 @@ def test_revising_a_bearing_makes_a_new_checked_revision(client_as, db, site):
     data = _form_values(form.data) | {"reaction_kN": "70"}
     r = post(c, url, data)
     assert r.status_code == 302, all_error_fields(r.data)
-    revised = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"])
+    revised = store.get_bearing(db, site_id=site["id"], bearing_id=bearing["id"], with_result=True)
     assert revised["revision"] == 2
     assert revised["design_input"]["load"]["reaction"] == pytest.approx(70_000.0)
     assert revised["design_input"]["padstone"] == bearing["design_input"]["padstone"]
@@ -680,7 +673,9 @@ def test_a_good_schedule_imports_every_bearing_with_its_design_result(client_as,
     assert r.status_code == 200
     assert "✓ 3 bearings added".encode() in r.data
     for i in range(1, 4):
-        b = store.bearing_by_reference(db, site_id=site["id"], reference=f"IMP-{i}")
+        b = store.bearing_by_reference(
+            db, site_id=site["id"], reference=f"IMP-{i}", with_result=True
+        )
         assert b is not None and b["design_result"]["checks"]
         assert b["design_input"]["load"]["reaction"] == pytest.approx(40_000.0)
 
@@ -814,7 +809,9 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
     }
     r = post(c, f"/sites/{site['id']}/bearings/new", clay)
     assert r.status_code == 302, all_error_fields(r.data)
-    stored = store.bearing_by_reference(db, site_id=site["id"], reference="CLAY-1")
+    stored = store.bearing_by_reference(
+        db, site_id=site["id"], reference="CLAY-1", with_result=True
+    )
     strengths = stored["design_result"]["strengths"]
     # The padstone is plain: f_cd,pl = α_cc,pl f_ck / γ_c (EN 1992-1-1 12.3.1 with eqn 3.15):
     # C25/30 with the site's α_cc,pl = 0.8, γ_c = 1.5.
@@ -822,7 +819,7 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
     reinforced = GOOD | {"reference": "R-1", "padstone_reinforced": "reinforced"}
     r = post(c, f"/sites/{site['id']}/bearings/new", reinforced)
     assert r.status_code == 302, all_error_fields(r.data)
-    stored_r = store.bearing_by_reference(db, site_id=site["id"], reference="R-1")
+    stored_r = store.bearing_by_reference(db, site_id=site["id"], reference="R-1", with_result=True)
     # Reinforced: f_cd = α_cc f_ck / γ_c, EN 1992-1-1 eqn 3.15, with α_cc = 1.0.
     assert stored_r["design_result"]["strengths"]["f_cd"] == pytest.approx(1.0 * 25 / 1.5)
     assert stored_r["design_input"]["padstone"]["reinforced"] is True
@@ -836,7 +833,9 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
         design=services.design_of(stored),
         user_id=stored["created_by"],
     )
-    default_fk = default["design_result"]["strengths"]["f_k"]
+    default_fk = store.get_bearing(
+        db, site_id=site["id"], bearing_id=default["id"], with_result=True
+    )["design_result"]["strengths"]["f_k"]
     assert strengths["f_k"] / default_fk == pytest.approx(0.6 / 0.5)
 
 
@@ -914,7 +913,7 @@ def test_a_password_set_by_someone_else_is_changed_at_the_first_log_in(app, clie
     store.set_password_hash(
         db,
         user_id=people["inspector"].id,
-        password_hash=auth.hash_password(given),
+        password_hash=credentials.hash_password(given),
         by_user_id=people["engineer"].id,
     )
     newcomer = app.test_client()
@@ -1003,7 +1002,7 @@ def test_the_height_is_asked_to_the_padstones_underside_with_a_drawing_and_said_
     assert 'style="' not in hint  # the CSP allows presentation attributes only
     r = post(c, f"/sites/{site['id']}/bearings/new", GOOD | {"reference": "H-1"})
     assert r.status_code == 302, all_error_fields(r.data)
-    stored = store.bearing_by_reference(db, site_id=site["id"], reference="H-1")
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="H-1", with_result=True)
     assert stored["design_result"]["notes"][0] == (
         "h_c = 2,475 mm, from the wall's base to the padstone's underside (not to where the "
         "beam sits on the padstone)."

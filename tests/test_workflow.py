@@ -17,15 +17,36 @@ from sitecheck.workflow import (
 )
 
 
-def test_states_are_the_vocabulary_words_in_order():
-    assert workflow.STATES == (
-        "awaiting survey",
-        "within design",
-        "engineer to decide",
-        "accepted",
-        "remedial",
-        "released",
-    )
+def _moves(state: str) -> set[str]:
+    """Every state one act can take a bearing to from ``state``, by the rules alone."""
+    after = set()
+    if not workflow.record_is_late(state):
+        after |= {workflow.state_after_record(state, blocking, True) for blocking in (0, 1)}
+        after |= {workflow.state_after_revision(state, measured) for measured in (False, True)}
+    if workflow.can_decide(state):
+        after |= {workflow.state_after_decision(kind) for kind in workflow.DECISION_KINDS}
+    if workflow.can_release(state):
+        after.add(RELEASED)
+    if state == RELEASED:
+        after.add(workflow.reopen(state=state, role="engineer", reason="Padstone found cracked."))
+    return after
+
+
+def test_every_state_is_reached_from_awaiting_survey_and_none_but_these():
+    seen, waiting = {AWAITING_SURVEY}, [AWAITING_SURVEY]
+    while waiting:
+        for state in _moves(waiting.pop()) - seen:
+            seen.add(state)
+            waiting.append(state)
+    assert seen == set(workflow.STATES)
+    # And back: from every state there is a way to released, the end of the hold point.
+    for start in workflow.STATES:
+        reach, waiting = {start}, [start]
+        while waiting:
+            for state in _moves(waiting.pop()) - reach:
+                reach.add(state)
+                waiting.append(state)
+        assert RELEASED in reach, start
 
 
 @pytest.mark.parametrize(

@@ -9,8 +9,8 @@ from .errors import InputError
 from .format import number, utilisation
 from .formulas import F_Rdu, beta_bs5628, beta_ec6, beta_ec6_upper, phi_m
 from .geometry import Layout, Pressure, Reading, readings, spread_length, worse
-from .inputs import ACROSS, IN_LINE, BearingInput, Masonry, Wall
-from .trace import RULE, STRENGTH, Check, Step, Strengths, make_check, make_step
+from .inputs import ACROSS, IN_LINE, BearingInput, Masonry, Wall, wall_heights
+from .trace import RULE, STRENGTH, Check, Step, Strengths, given_step, make_check, make_step
 
 TAN60 = math.tan(math.radians(60.0))
 
@@ -46,6 +46,8 @@ def min_bearing(inp: BearingInput, basis: CodeBasis) -> Check:
     )
 
 
+# One piece: the in-line bearing's rules, one after another as the trace lists them; mirrored line
+# for line in checks.js.
 def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check]:
     """A beam in line with the wall: flange no wider than t + 50, padstone at least 200
     long, web over the wall's centre (NHBC Standards 6.5.5 [S]; the centring tolerance is
@@ -135,6 +137,8 @@ def inline_rules(inp: BearingInput, lay: Layout, basis: CodeBasis) -> list[Check
 # ---------------------------------------------------------------- concrete padstone
 
 
+# One piece: the padstone's local bearing (EN 1992-1-1 6.7 and section 12) in the order its trace
+# prints; checks.js mirrors it line for line, so a split is made in both languages or not at all.
 def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeBasis) -> Check:
     """Flange on the padstone: partially loaded area, EN 1992-1-1 6.7 eqn 6.63 [S].
 
@@ -327,6 +331,8 @@ def l_efm_of(reading: Reading, h_c: float, basis: CodeBasis) -> float:
     return spread_length(reading.length, reading.e1, reading.e2, s60)
 
 
+# One piece: EC6's local bearing worked under both readings, in the order its trace prints;
+# checks.js mirrors it line for line, so a split is made in both languages or not at all.
 def ec6_bearing_on_readings(
     mas: Masonry,
     wall: Wall,
@@ -665,6 +671,9 @@ def ec6_solid_material(inp: BearingInput, lay: Layout, basis: CodeBasis) -> Chec
     )
 
 
+# One piece: the mid-height check (EN 1996-1-1 6.1.2.2, Annex G) step by step in the order its
+# trace prints; checks.js mirrors it line for line, so a split is made in both languages or not at
+# all.
 def ec6_mid_height(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
 ) -> tuple[Check, Reading, float]:
@@ -680,22 +689,17 @@ def ec6_mid_height(
     utilisation) kept. Returns the check, the reading that governs and its l_efm."""
     wall = inp.wall
     t = wall.thickness
-    h = wall.clear_height or wall.height_to_bearing
-    h_ef = wall.effective_height or h
-    t_ef = wall.effective_thickness or t
+    h, h_ef, t_ef = wall_heights(wall)
     steps: list[Step] = []
     if inp.e_mk is not None:
         e_mk = float(inp.e_mk)
         steps.append(
-            make_step(
-                "Eccentricity at mid-height, as given",
+            given_step(
+                "Eccentricity at mid-height",
                 "e_mk",
-                "declared",
-                (),
                 e_mk,
                 "mm",
                 "EN 1996-1-1 6.1.2.2",
-                "ours",
             )
         )
     else:
@@ -730,15 +734,12 @@ def ec6_mid_height(
     if inp.phi_m is not None:
         phi = float(inp.phi_m)
         steps.append(
-            make_step(
-                "Capacity reduction factor, as given",
+            given_step(
+                "Capacity reduction factor",
                 "Φ_m",
-                "declared",
-                (),
                 phi,
                 "",
                 "EN 1996-1-1 6.1.2.2",
-                "ours",
             )
         )
     else:
@@ -910,9 +911,7 @@ def _creep_eccentricity(
 
 def slenderness(inp: BearingInput, basis: CodeBasis) -> Check:
     wall = inp.wall
-    h = wall.clear_height or wall.height_to_bearing
-    h_ef = wall.effective_height or h
-    t_ef = wall.effective_thickness or wall.thickness
+    h, h_ef, t_ef = wall_heights(wall)
     sr = h_ef / t_ef
     clause = "EN 1996-1-1 5.5.1.4" if basis.is_ec6 else "BS 5628-1:1992 clause 28"
     step = make_step(
@@ -975,6 +974,8 @@ def bs_masonry_bearing(
     )
 
 
+# One piece: BS 5628-1's load at 0.4 h, both readings, in the order its trace prints; checks.js
+# mirrors it line for line, so a split is made in both languages or not at all.
 def bs_dispersion(
     inp: BearingInput, lay: Layout, pres: Pressure, st: Strengths, basis: CodeBasis
 ) -> tuple[Check, Reading, float]:
@@ -986,9 +987,7 @@ def bs_dispersion(
     is kept. Returns the check, the reading that governs and its dispersed length."""
     wall = inp.wall
     t = wall.thickness
-    h = wall.clear_height or wall.height_to_bearing
-    h_ef = wall.effective_height or h
-    t_ef = wall.effective_thickness or t
+    h, h_ef, t_ef = wall_heights(wall)
     depth = basis.dispersion_depth_ratio * h
     each = depth * math.tan(math.radians(basis.masonry_spread_deg))
     steps = [
@@ -1022,15 +1021,12 @@ def bs_dispersion(
     if inp.beta_s is not None:
         beta = float(inp.beta_s)
         steps.append(
-            make_step(
-                "Capacity reduction factor, as given",
+            given_step(
+                "Capacity reduction factor",
                 "β",
-                "declared",
-                (),
                 beta,
                 "",
                 "BS 5628-1:1992 Table 7",
-                "ours",
             )
         )
     else:

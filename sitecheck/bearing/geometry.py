@@ -162,6 +162,8 @@ class Pressure(NamedTuple):
         return self.width * self.contact_length
 
 
+# One piece: the pressure under the padstone, rigid or spread, with its resultant, as one
+# derivation; geometry.js mirrors it line for line.
 def pressure_under(lay: Layout, reaction: float, basis: CodeBasis, steps: list[Step]) -> Pressure:
     """Dispersion through the padstone and the pressure it puts on the masonry.
 

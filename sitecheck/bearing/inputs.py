@@ -115,6 +115,13 @@ class Wall:
     effective_thickness: float | None = None
 
 
+def wall_heights(wall: Wall) -> tuple[float, float, float]:
+    """h, h_ef and t_ef, each defaulted as :class:`Wall` says: h to h_c, h_ef to h, t_ef to
+    t. An empty value (None, or 0, which validation refuses) takes its default."""
+    h = wall.clear_height or wall.height_to_bearing
+    return h, wall.effective_height or h, wall.effective_thickness or wall.thickness
+
+
 @dataclass(frozen=True, slots=True)
 class Masonry:
     """Units, mortar and how well both are made.

@@ -8,12 +8,14 @@ from . import checks as C
 from .basis import CodeBasis
 from .format import number
 from .geometry import Layout, footprint_layout, layout, pressure_under, readings
-from .inputs import ACROSS, IN_LINE, BearingInput
+from .inputs import ACROSS, IN_LINE, BearingInput, wall_heights
 from .strength import masonry_strengths_cached
 from .trace import INFORMATIVE, STRENGTH, BearingResult, Check, Spread, Step, Strengths
 from .validate import validate
 
 
+# One piece: the order in which the checks run and feed one another, read top to bottom;
+# recheck.js mirrors it line for line.
 def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
     """Re-check one bearing. Raises :class:`~sitecheck.bearing.errors.InputError` for
     input that makes no physical sense or that no coded formula covers."""
@@ -45,7 +47,7 @@ def check_bearing(inp: BearingInput, basis: CodeBasis) -> BearingResult:
         checks.append(C.bs_masonry_bearing(inp, pres, strengths, basis, steps))
         dispersion, spread_reading, spread_len = C.bs_dispersion(inp, lay, pres, strengths, basis)
         checks.append(dispersion)
-        h = wall.clear_height or wall.height_to_bearing
+        h, _h_ef, _t_ef = wall_heights(wall)
         spread_depth = basis.dispersion_depth_ratio * h
     checks.append(C.slenderness(inp, basis))
     notes = _assumption_notes(inp)

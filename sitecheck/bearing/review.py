@@ -67,6 +67,12 @@ class Checklist:
     level: bool | None = None  # padstone level
 
 
+# The field lists every form, API and page follows, in the dataclasses' order. The phone's
+# copy is static/js/bearing/serial.js (tests/test_sync_api.py holds the two equal).
+MEASUREMENT_FIELDS = tuple(f.name for f in fields(Measurements))
+CHECKLIST_FIELDS = tuple(f.name for f in fields(Checklist))
+
+
 @dataclass(frozen=True, slots=True)
 class ReviewSettings:
     """A site's review thresholds and tolerances (defaults ours unless labelled)."""
@@ -307,6 +313,8 @@ FIELD_LABELS = {name: label for name, label, _, _ in _DIMENSIONS} | {
 }
 
 
+# One piece: each review reason in the order the engineer reads them, one comparison each;
+# review.js mirrors it line for line.
 def review(
     design: BearingInput,
     design_result: BearingResult,

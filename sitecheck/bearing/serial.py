@@ -10,7 +10,7 @@ from dataclasses import asdict, fields
 
 from .errors import InputError
 from .inputs import Beam, BearingInput, Load, Masonry, Padstone, Wall
-from .review import Checklist, Measurements
+from .review import Checklist, Measurements, as_built_input
 
 _PARTS = {"load": Load, "beam": Beam, "wall": Wall, "masonry": Masonry, "padstone": Padstone}
 # Inputs this version no longer has, still found in designs stored before it (and in site
@@ -51,6 +51,13 @@ def input_from_dict(data: dict) -> BearingInput:
 
 def measurements_from_dict(data: dict) -> Measurements:
     return _build(Measurements, data or {}, "measurements")
+
+
+def as_built_input_dict(design_input: dict, measurements: dict) -> dict:
+    """A stored design input with a stored record's measured values put in, as a stored
+    input again (what the drawings of a record are made from)."""
+    built = as_built_input(input_from_dict(design_input), measurements_from_dict(measurements))
+    return input_to_dict(built)
 
 
 def checklist_from_dict(data: dict) -> Checklist:

@@ -12,7 +12,7 @@ from .basis import BS_FK_TABLE, BS_UNIT_STRENGTHS, MORTAR_DESIGNATION, MORTAR_ST
 from .errors import InputError
 from .format import number
 from .inputs import Masonry, Padstone
-from .trace import Step, Strengths
+from .trace import Step, Strengths, given_step
 from .validate import concrete_class_fck, wall_tolerance
 
 # EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
@@ -114,6 +114,8 @@ def f_cd(f_ck: float, alpha_cc: float, gamma_c: float) -> float:
     return alpha_cc * f_ck / gamma_c
 
 
+# One piece: f_k, γ_M, f_d and f_cd in the order the trace prints them, each branch one code's
+# way; strength.js mirrors it line for line.
 def masonry_strengths(
     mas: Masonry, pad: Padstone | None, basis: CodeBasis, t: float | None = None
 ) -> Strengths:
@@ -125,15 +127,12 @@ def masonry_strengths(
     if mas.f_k is not None:
         fk = float(mas.f_k)
         steps.append(
-            Step(
-                "Characteristic compressive strength, as given",
+            given_step(
+                "Characteristic compressive strength",
                 "f_k",
-                "declared",
-                (),
                 fk,
                 "N/mm²",
                 "declared by the engineer",
-                "ours",
             )
         )
     elif ec6:
@@ -157,15 +156,12 @@ def masonry_strengths(
     if mas.gamma_M is not None:
         gm = float(mas.gamma_M)
         steps.append(
-            Step(
-                "Partial factor for masonry, as given",
+            given_step(
+                "Partial factor for masonry",
                 "γ_M" if ec6 else "γ_m",
-                "declared",
-                (),
                 gm,
                 "",
                 "declared by the engineer",
-                "ours",
             )
         )
     elif ec6:
@@ -346,6 +342,8 @@ def collar_joint(mas: Masonry, t: float | None) -> tuple[bool, str]:
     return t + wall_tolerance(t) >= 2 * mas.unit_width, "inferred"
 
 
+# One piece: EN 1996-1-1 eqn 3.1 from the unit up (f_b, K, the mortar, the collar joint), step by
+# step as the trace prints; strength.js mirrors it line for line.
 def _f_k_from_units_ec6(
     mas: Masonry, basis: CodeBasis, steps: list[Step], t: float | None
 ) -> float:
@@ -353,11 +351,9 @@ def _f_k_from_units_ec6(
     if mas.unit_strength_is_normalised:
         fb = fu
         steps.append(
-            Step(
-                "Normalised unit strength, as given",
+            given_step(
+                "Normalised unit strength",
                 "f_b",
-                "declared",
-                (),
                 fb,
                 "N/mm²",
                 "EN 772-1 Annex A",

@@ -97,6 +97,14 @@ def make_step(
     return _new_tuple(Step, (label, symbol, formula, inputs, value, unit, clause, source))
 
 
+def given_step(
+    label: str, symbol: str, value: float, unit: str, clause: str, source: str = "ours"
+) -> Step:
+    """A value the engineer gave in place of the one the method works out: a step with no
+    formula and no inputs, labelled "…, as given"."""
+    return make_step(f"{label}, as given", symbol, "declared", (), value, unit, clause, source)
+
+
 def finite_or_none(x: float) -> float | None:
     """JSON has no infinity: an unbounded utilisation travels as null."""
     return x if math.isfinite(x) else None

@@ -184,6 +184,8 @@ def _plain_masonry(inp: BearingInput, basis: CodeBasis) -> bool:
     )
 
 
+# One piece: one guard per input field, in the input's order, so a form lists its errors top to
+# bottom; validate.js mirrors it line for line.
 def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
     """Every problem with an input, in the order the form shows the fields.
 
@@ -333,6 +335,8 @@ def input_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
     yield from _geometry_errors(inp)
 
 
+# One piece: the geometric guards in the order the core relies on them; validate.js mirrors it
+# line for line.
 def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
     beam, pad, wall = inp.beam, inp.padstone, inp.wall
     across = beam.orientation == ACROSS
@@ -423,6 +427,8 @@ def _geometry_errors(inp: BearingInput) -> Iterator[InputError]:
             )
 
 
+# One piece: one guard per masonry field, in the field order; validate.js mirrors it line for
+# line.
 def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]:
     mas = inp.masonry
     if mas.material not in MATERIALS:

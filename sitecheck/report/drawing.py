@@ -1000,12 +1000,3 @@ def side_by_side_svg(
         )
     label = f"{prefix}design and as built"
     return _svg("\n".join(lines), y + 20, label)
-
-
-def as_built_input_dict(design_input: dict, measurements: dict) -> dict:
-    """The design input with a record's measured values put in (for its drawing)."""
-    from sitecheck.bearing.review import as_built_input
-    from sitecheck.bearing.serial import input_from_dict, input_to_dict, measurements_from_dict
-
-    built = as_built_input(input_from_dict(design_input), measurements_from_dict(measurements))
-    return input_to_dict(built)

@@ -30,7 +30,7 @@ from typing import BinaryIO, TextIO
 
 from sitecheck.bearing.review import Checklist, Measurements
 from sitecheck.bearing.serial import input_to_dict
-from sitecheck.cli import CAUTION
+from sitecheck.cautions import CAUTION
 from sitecheck.csvcells import Figure, cell
 from sitecheck.report.collect import BearingRecord, SiteRecord
 from sitecheck.schedule import DESIGN_COLUMNS, parse_schedule

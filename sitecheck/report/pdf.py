@@ -25,11 +25,12 @@ from sitecheck import workflow
 from sitecheck.bearing import SOURCES, basis_named
 from sitecheck.bearing.format import quantity, utilisation
 from sitecheck.bearing.review import FIELD_LABELS
-from sitecheck.cli import CAUTION
+from sitecheck.bearing.serial import as_built_input_dict
+from sitecheck.cautions import CAUTION
 from sitecheck.photos import PhotoRejected, print_copy
 from sitecheck.report.audit import Words, sentence
 from sitecheck.report.collect import BearingRecord, SiteRecord, selection_words
-from sitecheck.report.drawing import as_built_input_dict, bearing_svg, differences
+from sitecheck.report.drawing import bearing_svg, differences
 from sitecheck.report.export import JSON_SUFFIX, file_name
 from sitecheck.report.pages import PAGE_COUNT, PackedPages
 from sitecheck.report.summary import (

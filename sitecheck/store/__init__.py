@@ -1,6 +1,7 @@
 """The only code in sitecheck that speaks SQL.
 
-Open one connection per request or thread with ``open_db(path)``; every function takes it as
+Open one connection per thread with ``open_db(path)`` (or ``connect(path)`` where the schema
+is known to be up to date: a server migrates once at start); every function takes it as
 its first argument and the rest as keyword arguments. JSON columns come back as Python values,
 0/1 flags as booleans, times as UTC ISO 8601 text ending in 'Z'. Every change that writes more
 than one row runs in one transaction; wrap several calls in ``transaction(db)`` to make them one.
@@ -30,15 +31,19 @@ from sitecheck.store.accounts import (
     set_password_hash,
     touch_session,
 )
-from sitecheck.store.base import timestamp, transaction, utc_now
+from sitecheck.store.base import roll_back_unfinished, timestamp, transaction, utc_now
 from sitecheck.store.bearings import (
     RELEASABLE_STATES,
+    PackRows,
     RecordStored,
     Stored,
     add_bearing,
     after_release_evidence,
     bearing_by_reference,
+    bearing_counts,
+    bearing_lines,
     bearing_revisions,
+    count_bearing_lines,
     decisions_for,
     get_bearing,
     get_photo,
@@ -49,10 +54,12 @@ from sitecheck.store.bearings import (
     latest_decisions,
     latest_record_summaries,
     list_bearings,
+    pack_rows,
     photo_files_in_use,
     photos_for_bearing,
     photos_for_record,
     record_decision,
+    record_line,
     record_release,
     record_reopening,
     records_for_bearing,
@@ -65,7 +72,7 @@ from sitecheck.store.bearings import (
     revise_bearing,
     set_state,
 )
-from sitecheck.store.connection import open_db
+from sitecheck.store.connection import connect, open_db
 from sitecheck.store.errors import (
     AlreadyMember,
     Conflict,
@@ -210,6 +217,7 @@ __all__ = [
     "FailedLogIns",
     "LastEngineer",
     "NotFound",
+    "PackRows",
     "RecordStored",
     "SameIdOtherValues",
     "Selection",
@@ -229,9 +237,13 @@ __all__ = [
     "attach_mail",
     "bearing_batches",
     "bearing_by_reference",
+    "bearing_counts",
+    "bearing_lines",
     "bearing_revisions",
     "changes_since",
     "claim_due_mail",
+    "connect",
+    "count_bearing_lines",
     "count_bearings",
     "count_events",
     "create_invitation",
@@ -282,6 +294,7 @@ __all__ = [
     "open_invitations_for_site",
     "open_link",
     "people_sharing_sites",
+    "pack_rows",
     "photo_files_in_use",
     "photos_for_bearing",
     "photos_for_record",
@@ -294,6 +307,7 @@ __all__ = [
     "record_release",
     "record_reopening",
     "records_for_bearing",
+    "record_line",
     "records_for_site",
     "releasable",
     "releases_for",
@@ -325,6 +339,7 @@ __all__ = [
     "to_decide_counts",
     "touch_session",
     "transaction",
+    "roll_back_unfinished",
     "update_record_job",
     "update_site_settings",
     "use_link",

@@ -30,7 +30,7 @@ def _session_id(session_id: str) -> str:
     if not isinstance(session_id, str) or not _SESSION_ID.fullmatch(session_id):
         raise ValueError(
             "session_id must be the sha256 hex of the session token "
-            "(use sitecheck.auth.new_session_token()), not the token itself"
+            "(use sitecheck.credentials.new_session_token()), not the token itself"
         )
     return session_id
 
@@ -50,7 +50,9 @@ def create_user(
     if "@" not in email:
         raise ValueError(f"email {email!r} has no '@'; give a full e-mail address")
     if not password_hash:
-        raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
+        raise ValueError(
+            "password_hash is empty; hash the password with sitecheck.credentials first"
+        )
     with transaction(db):
         try:
             cursor = db.execute(
@@ -105,7 +107,9 @@ def set_password_hash(
     """Replace the hash and end every session of the user (a new password must lock others
     out). A password set by the user themselves is their own: nothing is left to change."""
     if not password_hash:
-        raise ValueError("password_hash is empty; hash the password with sitecheck.auth first")
+        raise ValueError(
+            "password_hash is empty; hash the password with sitecheck.credentials first"
+        )
     with transaction(db):
         cursor = db.execute(
             "UPDATE users SET password_hash = ?, must_change_password = ? WHERE id = ?",
@@ -227,7 +231,8 @@ def get_session_user(
     absolute_s: int = SESSION_ABSOLUTE_S,
     now: datetime | None = None,
 ) -> dict | None:
-    """The signed-in user, or None if the session is unknown, revoked, expired or disabled."""
+    """The signed-in user, or None if the session is unknown, revoked, expired or disabled;
+    ``session_seen_at`` is when the session was last marked as used (see touch_session)."""
     try:
         session_id = _session_id(session_id)
     except ValueError:
@@ -237,7 +242,7 @@ def get_session_user(
         db,
         """
         SELECT u.id, u.email, u.name, u.disabled, u.must_change_password, u.may_make_sites,
-               u.created_at
+               u.created_at, s.last_seen_at AS session_seen_at
         FROM sessions s JOIN users u ON u.id = s.user_id
         WHERE s.id = ? AND s.revoked_at IS NULL AND u.disabled = 0
           AND s.last_seen_at > ? AND s.created_at > ?
@@ -256,9 +261,12 @@ def touch_session(
     *,
     now: datetime | None = None,
     min_interval_s: int = TOUCH_INTERVAL_S,
+    seen_at: str | None = None,
 ) -> bool:
     """Move last_seen_at forward (at most once a minute); True if it was written."""
     now = now or utc_now()
+    if seen_at is not None and seen_at > timestamp(now - timedelta(seconds=min_interval_s)):
+        return False  # marked within the minute: no write (most requests)
     cursor = db.execute(
         """
         UPDATE sessions SET last_seen_at = ?

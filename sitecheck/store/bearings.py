@@ -24,9 +24,11 @@ from sitecheck.store.base import (
     many,
     new_id,
     one,
+    pack_json,
     parse_timestamp,
     placeholders,
     required_text,
+    rows,
     timestamp,
     to_json,
     transaction,
@@ -156,9 +158,9 @@ def add_bearing(
             db.execute(
                 """
                 INSERT INTO bearings (id, site_id, reference, location, revision, design_input,
-                    design_result, design_utilisation, design_passed, state, state_changed_at,
-                    created_by, created_at)
-                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?)
+                    design_governing, design_governing_title, design_utilisation, design_passed,
+                    state, state_changed_at, created_by, created_at)
+                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?)
                 """,
                 [
                     bearing_id,
@@ -166,7 +168,7 @@ def add_bearing(
                     reference,
                     (location or "").strip(),
                     to_json(design_input),
-                    to_json(design_result),
+                    *governing_of(design_result),
                     utilisation,
                     int(bool(passed)),
                     now,
@@ -195,7 +197,7 @@ def add_bearing(
         )
         add_event(
             db,
-            kind="bearing added",
+            kind=BEARING_ADDED,
             user_id=user_id,
             site_id=site_id,
             bearing_id=bearing_id,
@@ -227,13 +229,21 @@ def _insert_revision(
             revision,
             (location or "").strip(),
             to_json(design_input),
-            to_json(design_result),
+            pack_json(design_result),
             utilisation,
             int(bool(passed)),
             user_id,
             at,
         ],
     )
+
+
+def governing_of(result: dict[str, Any]) -> tuple[str | None, str | None]:
+    """The governing check's code and title in a calculation's result, kept beside the
+    packed trace so that lists need not unpack it."""
+    code = result.get("governing")
+    title = next((c.get("title") for c in result.get("checks", ()) if c.get("code") == code), None)
+    return code, title
 
 
 def revise_bearing(
@@ -270,15 +280,16 @@ def revise_bearing(
         now = timestamp()
         db.execute(
             """
-            UPDATE bearings SET revision = ?, location = ?, design_input = ?, design_result = ?,
-                design_utilisation = ?, design_passed = ?
+            UPDATE bearings SET revision = ?, location = ?, design_input = ?,
+                design_governing = ?, design_governing_title = ?, design_utilisation = ?,
+                design_passed = ?
             WHERE id = ?
             """,
             [
                 revision,
                 location,
                 to_json(design_input),
-                to_json(design_result),
+                *governing_of(design_result),
                 utilisation,
                 int(bool(passed)),
                 bearing_id,
@@ -314,15 +325,33 @@ def revise_bearing(
     return get_bearing(db, site_id=site_id, bearing_id=bearing_id)
 
 
-def get_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> dict | None:
+# A bearing with its current design result, which is kept on its design revision only.
+_WITH_RESULT = """
+    SELECT b.*, v.design_result FROM bearings b
+    JOIN bearing_revisions v ON v.bearing_id = b.id AND v.revision = b.revision
+"""
+
+
+def get_bearing(
+    db: sqlite_utils.Database, *, site_id: str, bearing_id: str, with_result: bool = False
+) -> dict | None:
+    """A bearing; ``with_result`` adds its current ``design_result`` (the whole trace, to
+    show the calculation: every other use has the governing check, utilisation and verdict
+    in the bearing's own columns)."""
+    if with_result:
+        return one(db, f"{_WITH_RESULT} WHERE b.id = ? AND b.site_id = ?", [bearing_id, site_id])
     return one(db, "SELECT * FROM bearings WHERE id = ? AND site_id = ?", [bearing_id, site_id])
 
 
-def bearing_by_reference(db: sqlite_utils.Database, *, site_id: str, reference: str) -> dict | None:
-    """Find by reference, ignoring case and surrounding spaces (as the schedule import needs)."""
+def bearing_by_reference(
+    db: sqlite_utils.Database, *, site_id: str, reference: str, with_result: bool = False
+) -> dict | None:
+    """Find by reference, ignoring case and surrounding spaces (as the schedule import needs);
+    ``with_result`` as for :func:`get_bearing`."""
+    select = _WITH_RESULT if with_result else "SELECT b.* FROM bearings b"
     return one(
         db,
-        "SELECT * FROM bearings WHERE site_id = ? AND reference = ?",
+        f"{select} WHERE b.site_id = ? AND b.reference = ?",
         [site_id, (reference or "").strip()],
     )
 
@@ -330,11 +359,13 @@ def bearing_by_reference(db: sqlite_utils.Database, *, site_id: str, reference: 
 def list_bearings(
     db: sqlite_utils.Database, *, site_id: str, states: Iterable[str] | None = None
 ) -> list[dict]:
-    """A site's bearings by reference, optionally only those in the given states."""
+    """A site's bearings by reference, each with its whole design result, optionally only
+    those in the given states: for the site record and the data export. Lists use
+    :func:`bearing_lines`, which unpacks nothing."""
     if states is None:
         return many(
             db,
-            "SELECT * FROM bearings WHERE site_id = ? ORDER BY reference, id",
+            f"{_WITH_RESULT} WHERE b.site_id = ? ORDER BY b.reference, b.id",
             [site_id],
         )
     wanted = [_state(s) for s in states]
@@ -343,11 +374,201 @@ def list_bearings(
     return many(
         db,
         f"""
-        SELECT * FROM bearings WHERE site_id = ? AND state IN ({placeholders(wanted)})
-        ORDER BY reference, id
+        {_WITH_RESULT} WHERE b.site_id = ? AND b.state IN ({placeholders(wanted)})
+        ORDER BY b.reference, b.id
         """,
         [site_id, *wanted],
     )
+
+
+# --- lists: what a page of many bearings shows, never a trace -----------------------------------
+
+_LINE = """
+    b.id, b.reference, b.location, b.state, b.revision, b.design_utilisation, b.design_passed,
+    b.design_governing, b.design_governing_title, b.latest_record_uuid, b.state_changed_at
+"""
+_LATEST = """
+    r.measured_at AS latest_measured_at, r.utilisation AS latest_utilisation,
+    r.passed AS latest_passed, r.blocking AS latest_blocking,
+    r.design_revision < b.revision AS latest_older_revision
+"""
+
+
+def _line_filter(
+    site_id: str, states: Iterable[str] | None, words: Iterable[str]
+) -> tuple[str, list]:
+    """WHERE for a site's bearings in ``states`` whose reference or location holds every one
+    of ``words`` (compared as Python lowers text, as the survey list's search does)."""
+    where, params = ["b.site_id = ?"], [site_id]
+    if states is not None:
+        wanted = [_state(s) for s in states]
+        where.append(f"b.state IN ({placeholders(wanted)})" if wanted else "0")
+        params += wanted
+    for word in words:
+        where.append("instr(sitecheck_lower(b.reference || ' ' || b.location), ?) > 0")
+        params.append(word.lower())
+    return " AND ".join(where), params
+
+
+def bearing_lines(
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    states: Iterable[str] | None = None,
+    words: Iterable[str] = (),
+    with_latest: bool = False,
+    limit: int | None = None,
+    offset: int = 0,
+) -> list[dict]:
+    """A site's bearings by reference, as a list shows them: the governing check's code and
+    title, the design's utilisation and verdict, and with ``with_latest`` the latest record's
+    ``latest_measured_at``, ``latest_utilisation``, ``latest_passed``, ``latest_blocking``
+    and ``latest_older_revision`` (None when nothing was recorded). Only those in ``states``
+    and matching every one of ``words``, if given; ``limit`` and ``offset`` give one page."""
+    where, params = _line_filter(site_id, states, list(words))
+    latest = f", {_LATEST}" if with_latest else ""
+    join = "LEFT JOIN as_built_records r ON r.uuid = b.latest_record_uuid" if with_latest else ""
+    page = ""
+    if limit is not None:
+        page = "LIMIT ? OFFSET ?"
+        params += [limit, offset]
+    return many(
+        db,
+        f"SELECT {_LINE}{latest} FROM bearings b {join} WHERE {where} "
+        f"ORDER BY b.reference, b.id {page}",
+        params,
+    )
+
+
+def count_bearing_lines(
+    db: sqlite_utils.Database,
+    *,
+    site_id: str,
+    states: Iterable[str] | None = None,
+    words: Iterable[str] = (),
+) -> int:
+    """How many bearings :func:`bearing_lines` would list with no page."""
+    where, params = _line_filter(site_id, states, list(words))
+    return one(db, f"SELECT count(*) AS n FROM bearings b WHERE {where}", params)["n"]
+
+
+def bearing_counts(db: sqlite_utils.Database, *, site_id: str) -> dict:
+    """A site's bearings counted: ``states`` (every state, 0 where none) and
+    ``failing_at_design``."""
+    counts = dict.fromkeys(STATES, 0)
+    failing = 0
+    for row in rows(
+        db,
+        "SELECT state, count(*) AS n, sum(design_passed = 0) AS failing FROM bearings "
+        "WHERE site_id = ? GROUP BY state",
+        [site_id],
+    ):
+        counts[row["state"]] = row["n"]
+        failing += row["failing"]
+    return {"states": counts, "failing_at_design": failing}
+
+
+# --- the site pack: what the phone keeps, and what changed since it last asked ----------------
+
+BEARING_ADDED = "bearing added"  # the event of a new bearing (add_bearing writes it)
+
+
+@dataclass(frozen=True)
+class PackRows:
+    """A site's bearings for the site pack, as of ``version``.
+
+    ``full``: ``bearings`` holds every bearing; otherwise only those changed since the
+    version the phone holds, and ``removed`` the ids it holds that are gone. Each bearing
+    carries its design input as stored (``design_input_json``, text): bearings of one design
+    share it, and ``designs`` decodes each distinct text once.
+    """
+
+    version: str
+    full: bool
+    bearings: list[dict]
+    removed: list[str]
+    designs: dict[str, dict]
+
+
+_PACK_LINE = """
+    b.id, b.reference, b.location, b.state, b.revision, b.design_input AS design_input_json,
+    b.design_utilisation, b.design_passed, b.design_governing
+"""
+
+
+def pack_rows(db: sqlite_utils.Database, *, site_id: str, since: str | None = None) -> PackRows:
+    """The site pack's bearings: all of them, or, given the ``version`` of a pack the phone
+    holds, those changed since.
+
+    A version names the site's newest event when the pack was made, by id and time. Every
+    change to a bearing writes an event on it, so the bearings changed since are those with
+    a later event. The whole pack is sent instead when the version is not one of this
+    site's events as written (a database restored from a backup, a pack from elsewhere) and
+    when a bearing was added since (every bearing's place in the survey order may move).
+    Read in one snapshot, so the version and the rows agree.
+    """
+    outer = db.conn.in_transaction
+    if not outer:
+        db.conn.execute("BEGIN")
+    try:
+        newest = one(
+            db, "SELECT id, at FROM events WHERE site_id = ? ORDER BY id DESC LIMIT 1", [site_id]
+        )
+        version = f"{newest['id']}.{newest['at']}" if newest else "0."
+        changed = _changed_since(db, site_id, since) if since else None
+        if changed is None:
+            lines = many(
+                db,
+                f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? ORDER BY b.id",
+                [site_id],
+            )
+            removed: list[str] = []
+        else:
+            lines = []
+            for start in range(0, len(changed), 400):
+                batch = changed[start : start + 400]
+                lines += many(
+                    db,
+                    f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? "
+                    f"AND b.id IN ({placeholders(batch)})",
+                    [site_id, *batch],
+                )
+            found = {line["id"] for line in lines}
+            removed = [bid for bid in changed if bid not in found]
+    finally:
+        if not outer:
+            db.conn.execute("COMMIT")
+    designs = {text: json.loads(text) for text in {line["design_input_json"] for line in lines}}
+    return PackRows(version, changed is None, lines, removed, designs)
+
+
+def _changed_since(db, site_id: str, since: str) -> list[str] | None:
+    """Ids of the bearings with an event after the version ``since``, or None when the whole
+    pack must be sent (see :func:`pack_rows`)."""
+    event_id, _dot, at = since.partition(".")
+    if not event_id.isdigit():
+        return None
+    if event_id == "0" and not at:
+        known = True  # the phone's pack was made before the site had any event
+    else:
+        known = one(
+            db,
+            "SELECT 1 AS x FROM events WHERE id = ? AND site_id = ? AND at = ?",
+            [int(event_id), site_id, at],
+        )
+    if not known:
+        return None
+    changed = many(
+        db,
+        """
+        SELECT bearing_id, max(kind = ?) AS added FROM events
+        WHERE site_id = ? AND id > ? AND bearing_id IS NOT NULL GROUP BY bearing_id
+        """,
+        [BEARING_ADDED, site_id, int(event_id)],
+    )
+    if any(row["added"] for row in changed):
+        return None
+    return sorted(row["bearing_id"] for row in changed)
 
 
 def bearing_revisions(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
@@ -452,9 +673,9 @@ def insert_record(
         cursor = db.execute(
             """
             INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id,
-                measured_at, received_at, measurements, checklist, notes, result, reasons,
-                utilisation, passed, blocking, late, why_not_measured)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+                measured_at, received_at, measurements, checklist, notes, result, governing,
+                reasons, utilisation, passed, blocking, late, why_not_measured)
+            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             ON CONFLICT (uuid) DO NOTHING
             """,
             [
@@ -467,7 +688,8 @@ def insert_record(
                 to_json(measurements),
                 to_json(checklist or {}),
                 (notes or "").strip(),
-                to_json(result),
+                pack_json(result),
+                result.get("governing"),
                 to_json(reasons),
                 utilisation,
                 int(bool(passed)),
@@ -477,8 +699,8 @@ def insert_record(
             ],
         )
         created = cursor.rowcount == 1
-        row = one(db, "SELECT * FROM as_built_records WHERE uuid = ?", [uuid])
         if not created:
+            row = one(db, f"SELECT {_RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
             if row["bearing_id"] != bearing_id or row["inspector_id"] != inspector_id:
                 raise UuidInUse(
                     "This record's UUID is already used by another record; the phone must make "
@@ -502,7 +724,7 @@ def insert_record(
                     differs,
                 )
             return RecordStored(
-                row=get_record(db, site_id=site_id, uuid=uuid),
+                row=record_line(db, site_id=site_id, uuid=uuid),
                 created=False,
                 state=bearing["state"],
             )
@@ -556,7 +778,7 @@ def insert_record(
                 bearing_id=bearing_id,
                 detail=detail,
             )
-    return RecordStored(row=get_record(db, site_id=site_id, uuid=uuid), created=True, state=state)
+    return RecordStored(row=record_line(db, site_id=site_id, uuid=uuid), created=True, state=state)
 
 
 _FIELD_WORDS = {
@@ -580,6 +802,32 @@ _RECORD_COLUMNS = """
     r.*, b.site_id,
     r.design_revision < b.revision AS older_revision
 """
+
+
+# A record without its packed result: what a list or an answer shows of it.
+_RECORD_LINE = """
+    r.uuid, r.bearing_id, r.design_revision, r.inspector_id, r.measured_at, r.received_at,
+    r.measurements, r.checklist, r.notes, r.governing, r.reasons, r.utilisation, r.passed,
+    r.blocking, r.late, r.why_not_measured, r.kind
+"""
+
+
+def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
+    """One record as :func:`get_record` gives it, but for its ``result``: the governing check
+    (``governing``), utilisation, verdict and reasons are columns of their own."""
+    try:
+        uuid = canonical_uuid(uuid)
+    except ValueError:
+        return None
+    return one(
+        db,
+        f"""
+        SELECT {_RECORD_LINE}, b.site_id, r.design_revision < b.revision AS older_revision
+        FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
+        WHERE r.uuid = ? AND b.site_id = ?
+        """,
+        [uuid, site_id],
+    )
 
 
 def get_record(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:

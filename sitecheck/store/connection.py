@@ -17,6 +17,19 @@ def open_db(path: str | Path) -> sqlite_utils.Database:
     One connection per request or thread: sqlite3 connections must not be shared between
     threads. The caller closes it (``db.close()``).
     """
+    db = connect(path)
+    try:
+        apply_migrations(db)
+    except BaseException:
+        db.close()
+        raise
+    return db
+
+
+def connect(path: str | Path) -> sqlite_utils.Database:
+    """Open one connection with the pragmas every connection needs, without looking at the
+    migrations: for a server that brought the schema up to date once, at start
+    (``open_db``), and keeps a connection per thread from then on."""
     # Plugins are off so that nothing outside this package can change how the connection behaves.
     db = sqlite_utils.Database(str(path), execute_plugins=False)
     try:
@@ -27,11 +40,17 @@ def open_db(path: str | Path) -> sqlite_utils.Database:
         # loss, and the phone deletes its copy of a record once we acknowledge it.
         db.execute("PRAGMA synchronous = FULL")
         _use_wal(db)
-        apply_migrations(db)
+        # Searches compare text lowered as Python lowers it (SQLite's lower() knows ASCII
+        # only), so a search on a page and on the phone find the same bearings.
+        db.conn.create_function("sitecheck_lower", 1, _lower, deterministic=True)
     except BaseException:
         db.close()
         raise
     return db
+
+
+def _lower(text: str | None) -> str | None:
+    return None if text is None else str(text).lower()
 
 
 def _use_wal(db: sqlite_utils.Database) -> None:

@@ -247,7 +247,7 @@ def _token_hash(token_hash: str) -> str:
     ):
         raise ValueError(
             "token_hash must be the sha256 hex of the link's token "
-            "(sitecheck.auth.new_link_token()), not the token itself"
+            "(sitecheck.credentials.new_link_token()), not the token itself"
         )
     return token_hash
 

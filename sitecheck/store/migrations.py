@@ -3,10 +3,12 @@
 Add a change as a new function at the end of this file; never edit one that has shipped.
 """
 
+import json
+
 import sqlite_utils
 from sqlite_utils import Migrations
 
-from sitecheck.store.base import transaction
+from sitecheck.store.base import pack_json, transaction
 
 MIGRATIONS = Migrations("sitecheck")
 
@@ -632,6 +634,104 @@ def m014_sign_offs(db: sqlite_utils.Database) -> None:
         db.execute(statement)
 
 
+def _released_lock_trigger(compared: tuple[str, ...]) -> str:
+    """The lock on a released bearing: the one way out is a reopening, with a reopenings row
+    made since the release, a state other than 'released' and none of ``compared`` changed."""
+    same = "\n".join(f"        AND NEW.{column} IS OLD.{column}" for column in compared)
+    return f"""
+    CREATE TRIGGER bearings_released_locked BEFORE UPDATE ON bearings
+    WHEN OLD.state = 'released' AND NOT (
+        NEW.state <> 'released'
+        AND NEW.reference IS OLD.reference COLLATE BINARY
+{same}
+        AND EXISTS (
+            SELECT 1 FROM reopenings r
+            WHERE r.bearing_id = OLD.id AND r.created_at >= OLD.state_changed_at
+        )
+    )
+    BEGIN SELECT RAISE(ABORT, 'bearing is released and locked'); END
+    """
+
+
+def _pack_text(text: str | None) -> bytes | None:
+    return None if text is None else pack_json(json.loads(text))
+
+
+def _packed_column(db: sqlite_utils.Database, table: str, column: str, what: str) -> None:
+    """Turn a JSON text column of an append-only table into a packed one of the same name.
+
+    Done column by column (add, fill, drop, rename) rather than by rebuilding the table, so
+    that every other column, index and trigger of the table is kept as it stands, whatever
+    later migrations add. The append-only guard is lifted for the fill alone, inside this
+    migration's transaction; a guard on insert replaces the old column's NOT NULL.
+    """
+    db.execute(f"DROP TRIGGER {table}_no_update")
+    db.execute(f"ALTER TABLE {table} ADD COLUMN packed_{column} BLOB")
+    db.execute(f"UPDATE {table} SET packed_{column} = sitecheck_pack({column})")
+    db.execute(f"ALTER TABLE {table} DROP COLUMN {column}")
+    db.execute(f"ALTER TABLE {table} RENAME COLUMN packed_{column} TO {column}")
+    for statement in _append_only(table, f"{what} are append-only")[:1]:
+        db.execute(statement)
+    db.execute(
+        f"CREATE TRIGGER {table}_{column}_packed BEFORE INSERT ON {table} "
+        f"WHEN typeof(NEW.{column}) <> 'blob' OR length(NEW.{column}) = 0 "
+        f"BEGIN SELECT RAISE(ABORT, '{table}.{column} must be packed JSON'); END"
+    )
+
+
+# The governing check's code and title in a stored result, for lists that show no more.
+_GOVERNING = "json_extract({r}, '$.governing')"
+_GOVERNING_TITLE = """(
+    SELECT json_extract(c.value, '$.title') FROM json_each({r}, '$.checks') c
+    WHERE json_extract(c.value, '$.code') = json_extract({r}, '$.governing')
+)"""
+
+
+@MIGRATIONS()
+def m015_results_stored_once(db: sqlite_utils.Database) -> None:
+    """Each calculation is stored once, packed. A bearing's design result (about 12 KB of
+    trace) was kept on the bearing and again on its design revision, and each record's
+    result beside it: three traces a bearing, 42 KB of database with one record. Now the
+    design result is kept on its revision only, and it and each record's result are stored
+    as zlib-packed JSON (about a quarter of the size). The bearing keeps its governing
+    check's code and title, and a record its governing check, as columns: lists show these
+    and never unpack a trace. What any reader gets back is the same value as before."""
+    db.conn.create_function("sitecheck_pack", 1, _pack_text, deterministic=True)
+    db.execute("DROP TRIGGER bearings_released_locked")
+    db.execute("ALTER TABLE bearings ADD COLUMN design_governing TEXT")
+    db.execute("ALTER TABLE bearings ADD COLUMN design_governing_title TEXT")
+    db.execute(
+        f"""
+        UPDATE bearings SET design_governing = {_GOVERNING.format(r="bearings.design_result")},
+            design_governing_title = {_GOVERNING_TITLE.format(r="bearings.design_result")}
+        """
+    )
+    db.execute("ALTER TABLE bearings DROP COLUMN design_result")
+    db.execute(
+        _released_lock_trigger(
+            (
+                "id",
+                "site_id",
+                "location",
+                "revision",
+                "design_input",
+                "design_governing",
+                "design_governing_title",
+                "design_utilisation",
+                "design_passed",
+                "created_by",
+                "created_at",
+            )
+        )
+    )
+    _packed_column(db, "bearing_revisions", "design_result", "bearing revisions")
+    db.execute("DROP TRIGGER as_built_records_no_update")
+    db.execute("ALTER TABLE as_built_records ADD COLUMN governing TEXT")
+    db.execute(f"UPDATE as_built_records SET governing = {_GOVERNING.format(r='result')}")
+    db.execute(_append_only("as_built_records", "as-built records are append-only")[0])
+    _packed_column(db, "as_built_records", "result", "as-built records")
+
+
 def apply_migrations(db: sqlite_utils.Database, migrations: Migrations = MIGRATIONS) -> list[str]:
     """Apply pending migrations all-or-nothing; returns the names applied (empty if none).
 
@@ -659,7 +759,7 @@ RECORD_KINDS = ("pdf", "csv", "json")
 
 
 @MIGRATIONS()
-def m015_record_job_kinds(db: sqlite_utils.Database) -> None:
+def m016_record_job_kinds(db: sqlite_utils.Database) -> None:
     """The data exports (CSV in a zip, JSON) are made in the background like the PDF, as jobs
     of their own kind, and a PDF may be of part of the site (``selection``: what it keeps,
     as sitecheck.store.record_reads.Selection.key() writes it; empty: the whole site). One

@@ -184,19 +184,25 @@ def bearing_batches(
         raise ValueError(f"batch size must be at least 1; got {size}")
     where, values = (selection or Selection()).where()
     after: tuple[str, str] | None = None
+    rows = _rows_light if light else many
+    # The current design result is kept on the bearing's revision only.
+    read = (
+        "SELECT b.* FROM bearings b"
+        if light
+        else "SELECT b.*, v.design_result FROM bearings b JOIN bearing_revisions v "
+        "ON v.bearing_id = b.id AND v.revision = b.revision"
+    )
     while True:
-        rows = _rows_light if light else many
         if after is None:
             bearings = rows(
                 db,
-                f"SELECT b.* FROM bearings b WHERE b.site_id = ? AND {where} "
-                "ORDER BY b.reference, b.id LIMIT ?",
+                f"{read} WHERE b.site_id = ? AND {where} ORDER BY b.reference, b.id LIMIT ?",
                 [site_id, *values, size],
             )
         else:
             bearings = rows(
                 db,
-                f"SELECT b.* FROM bearings b WHERE b.site_id = ? AND {where} "
+                f"{read} WHERE b.site_id = ? AND {where} "
                 "AND (b.reference, b.id) > (?, ?) ORDER BY b.reference, b.id LIMIT ?",
                 [site_id, *values, *after, size],
             )

@@ -10,6 +10,7 @@ from __future__ import annotations
 import logging
 import os
 import secrets
+import threading
 import time
 from pathlib import Path
 
@@ -17,8 +18,7 @@ from flask import Flask, current_app, g, request
 from flask_wtf.csrf import CSRFError, CSRFProtect
 from werkzeug.middleware.proxy_fix import ProxyFix
 
-from sitecheck import auth as accounts
-from sitecheck import logs, services, store
+from sitecheck import credentials, logs, services, store
 from sitecheck.config import Settings, load_settings
 from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
@@ -36,6 +36,8 @@ CSP = (
 HSTS_MAX_AGE_S = 365 * 24 * 3600
 
 
+# One piece: the app factory reads top to bottom in the order a request meets what it installs
+# (settings, proxies, stores, start-up sweep, mail sender, views, hooks).
 def create_app(
     db_path: str | os.PathLike | None = None,
     *,
@@ -76,12 +78,15 @@ def create_app(
         SESSION_COOKIE_SAMESITE="Lax",
         SESSION_COOKIE_SECURE=settings.secure_cookies,
         WTF_CSRF_TIME_LIMIT=None,  # the token is tied to the server-side session instead
+        # The cookie outlives the server-side session it names (31 days against at most 7),
+        # so signing it again on every answer (the phone's outbox sends many) buys nothing.
+        SESSION_REFRESH_EACH_REQUEST=False,
         # Site records (PDF) one person may start in an hour; handing out a finished one
         # of an unchanged site, or joining one being made, is not counted.
         RECORD_PDF_PER_HOUR=settings.record_pdf_per_hour,
-        LOGIN_FAILURE_WINDOW_S=accounts.THROTTLE_WINDOW_S,
-        LOG_IN_RULE_ACCOUNT=accounts.ACCOUNT_AT_ADDRESS,
-        LOG_IN_RULE_ADDRESS=accounts.ANY_ACCOUNT_AT_ADDRESS,
+        LOGIN_FAILURE_WINDOW_S=credentials.THROTTLE_WINDOW_S,
+        LOG_IN_RULE_ACCOUNT=credentials.ACCOUNT_AT_ADDRESS,
+        LOG_IN_RULE_ADDRESS=credentials.ANY_ACCOUNT_AT_ADDRESS,
         TRUSTED_PROXIES=settings.trusted_proxies,
         # MailSettings, or None for no mail (then invitation links are handed over).
         MAIL=MailSettings.from_env(settings.mail_environment()),
@@ -121,22 +126,40 @@ def create_app(
     jsonbody.install(app)
     csrf.init_app(app)
 
-    from sitecheck.web import auth, health, pages, people, review, sites
+    # The views import this module (get_db, csrf), so they are imported once it is whole.
+    from sitecheck.web import (
+        health,
+        inspect,
+        login,
+        notices,
+        pages,
+        people,
+        record,
+        release,
+        review,
+        sites,
+        sync,
+    )
 
-    app.register_blueprint(health.bp)
-    app.register_blueprint(auth.bp)
-    app.register_blueprint(people.bp)
-    app.register_blueprint(pages.bp)
-    app.register_blueprint(sites.bp)
-    app.register_blueprint(review.bp)
-    for name in ("inspect", "release", "sync", "record", "notices"):
-        module = __import__(f"sitecheck.web.{name}", fromlist=["bp"])
-        app.register_blueprint(module.bp)
+    for job in (
+        health,
+        login,
+        people,
+        pages,
+        sites,
+        review,
+        inspect,
+        release,
+        sync,
+        record,
+        notices,
+    ):
+        app.register_blueprint(job.bp)
 
     app.before_request(_start_clock)
-    app.before_request(auth.load_user)
+    app.before_request(login.load_user)
     app.after_request(_log_request)
-    app.teardown_appcontext(_close_db)
+    app.teardown_appcontext(_end_request_db)
     app.after_request(_security_headers)
     app.after_request(_wake_mail_sender)
     compress.install(app)
@@ -147,13 +170,44 @@ def create_app(
     return app
 
 
-def get_db():
-    """This request's connection (SQLite connections must not cross threads)."""
-    if "db" not in g:
-        from flask import current_app
+class _ThreadConnection(threading.local):
+    """Each server thread's own connection, kept from one request to the next.
 
-        g.db = store.open_db(current_app.config["DB_PATH"])
-    return g.db
+    Opening a connection per request cost more than a small request's own work: the pragmas,
+    and on closing the last connection a WAL checkpoint written out in the request's time.
+    A connection never crosses threads (sqlite3 forbids it) nor processes: a worker forked
+    from a process that had one opens its own, and leaves the parent's untouched (closing a
+    connection inherited across fork can undo the parent's locks). One per thread at most:
+    asked for another file, the thread closes the one it had.
+    """
+
+    db = None
+    path: str | None = None
+    pid: int | None = None
+
+
+_thread = _ThreadConnection()
+
+
+def get_db():
+    """This thread's connection to the app's database (the schema was brought up to date
+    when the app was made)."""
+    path = current_app.config["DB_PATH"]
+    if _thread.db is not None and (_thread.path != path or _thread.pid != os.getpid()):
+        if _thread.pid != os.getpid():
+            # Another process's connection: keep it referenced, never close it here.
+            _FORKED_AWAY.append(_thread.db)
+        else:
+            _thread.db.conn.close()
+        _thread.db = None
+    if _thread.db is None:
+        _thread.db = store.connect(path)
+        _thread.path, _thread.pid = path, os.getpid()
+    g.db = _thread.db
+    return _thread.db
+
+
+_FORKED_AWAY: list = []
 
 
 def photo_store() -> PhotoStore:
@@ -162,10 +216,12 @@ def photo_store() -> PhotoStore:
     return current_app.extensions["photo_store"]
 
 
-def _close_db(_exc) -> None:
+def _end_request_db(_exc) -> None:
+    # The connection stays open for the thread's next request; nothing a request began may
+    # stay open in it (a view that failed inside a transaction has rolled it back already).
     db = g.pop("db", None)
     if db is not None:
-        db.conn.close()
+        store.roll_back_unfinished(db)
 
 
 def _start_clock() -> None:

@@ -56,8 +56,11 @@ def require_may_make_sites() -> None:
     )
 
 
-def bearing_for(site: dict, bearing_id: str) -> dict:
-    bearing = store.get_bearing(get_db(), site_id=site["id"], bearing_id=bearing_id)
+def bearing_for(site: dict, bearing_id: str, *, with_result: bool = False) -> dict:
+    """The site's bearing (``with_result``: with its design result, to show the calculation)."""
+    bearing = store.get_bearing(
+        get_db(), site_id=site["id"], bearing_id=bearing_id, with_result=with_result
+    )
     if bearing is None:
         abort(404)
     return bearing

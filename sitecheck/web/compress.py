@@ -69,14 +69,28 @@ def _read_and_close(response: Response) -> bytes:
     return data
 
 
+def _close_unsent(response: Response) -> None:
+    """Close the file behind an answer that sends no body (a 304), now rather than when the
+    server gets round to it, which it skips when the client has already gone."""
+    close = getattr(response.response, "close", None)
+    if close is not None:
+        close()
+    response.direct_passthrough = False
+    response.response = []
+
+
 def install(app: Flask) -> None:
     cache = _StaticCache()
 
     def compress(response: Response) -> Response:
         static = request.path.startswith("/static/") or request.path == "/sw.js"
-        if static and response.status_code == 200 and response.direct_passthrough:
-            # Small files of our own, read once per request: never leave one open.
-            _read_and_close(response)
+        if static and response.direct_passthrough:
+            # Small files of our own, read once per request: never leave one open. A 304
+            # carries no body, yet send_file opened the file for it all the same.
+            if response.status_code in (200, 206):
+                _read_and_close(response)
+            else:
+                _close_unsent(response)
         if (
             response.status_code != 200
             or response.mimetype not in COMPRESSIBLE

@@ -43,8 +43,15 @@ from sitecheck.photos import (
 )
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
-from sitecheck.web.auth import login_required
-from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
+from sitecheck.web.login import login_required
+from sitecheck.web.pages import (
+    listing,
+    looked_now,
+    page_rule,
+    render_page,
+    search_words,
+    wants_json,
+)
 from sitecheck.web.record_form import (
     GROUPS,
     MAX_PHOTOS,
@@ -99,12 +106,19 @@ def matches(bearing: dict, query: str) -> bool:
     return all(word in text for word in query.lower().split())
 
 
+SURVEY_PAGE = 50  # bearings the online survey list shows at once
+
+
 @page_rule(bp, "/sites/<site_id>/inspect")
 @login_required
 def bearings(site_id):
     site, _role = site_for(site_id, "record")
-    rows = survey_order(store.list_bearings(get_db(), site_id=site["id"]))
-    query = (request.args.get("q") or "").strip()[:100]
+    # Every bearing's line (no design, no trace), to put the whole site in survey order and
+    # search it; one page of the matches is shown. The phone's offline list has them all.
+    rows = survey_order(store.bearing_lines(get_db(), site_id=site["id"]))
+    query, _words = search_words()
+    found = [b for b in rows if matches(b, query)] if query else rows
+    page = listing(len(found), SURVEY_PAGE)
     items = [
         {
             "id": b["id"],
@@ -114,7 +128,6 @@ def bearings(site_id):
             "revision": b["revision"],
             "order": b["order"],
             "design_passed": bool(b["design_passed"]),
-            "shown": matches(b, query),
             "record_url": url_for("inspect.record_form", site_id=site["id"], bearing_id=b["id"]),
             "latest_record_url": (
                 url_for("inspect.result", site_id=site["id"], record_uuid=b["latest_record_uuid"])
@@ -122,7 +135,7 @@ def bearings(site_id):
                 else None
             ),
         }
-        for b in rows
+        for b in found[page.offset : page.offset + page.size]
     ]
     to_survey = sum(1 for b in rows if survey_rank(b) < OTHER_RANK)
     looked_now([site["id"]])
@@ -132,7 +145,9 @@ def bearings(site_id):
         bearings=items,
         to_survey=to_survey,
         query=query,
-        shown=sum(1 for b in items if b["shown"]),
+        shown=len(found),
+        total=len(rows),
+        listing=page,
         design_fails=sum(1 for b in rows if not b["design_passed"]),
     )
 
@@ -318,7 +333,7 @@ def _form_page(site, bearing, form, *, general=(), status=200):
     # With nothing measured yet, the fields the review would call "not measured" are the
     # ones a record needs to go straight to 'within design'.
     needed = set(missing_measurements(design, Measurements(), services.settings_for(site)))
-    rows = survey_order(store.list_bearings(get_db(), site_id=site["id"]))
+    rows = survey_order(store.bearing_lines(get_db(), site_id=site["id"]))
     here = next((n for n, b in enumerate(rows) if b["id"] == bearing["id"]), 0)
     # The next bearings to measure after this one, in survey order, for the phone to offer
     # once this record is kept (it skips any it already holds unsent).

@@ -12,7 +12,7 @@ from wtforms import SelectMultipleField
 
 from sitecheck import notices, store
 from sitecheck.web import get_db
-from sitecheck.web.auth import login_required
+from sitecheck.web.login import login_required
 
 bp = Blueprint("notices", __name__)
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from datetime import UTC, datetime
 
 from flask import Blueprint, g, jsonify, render_template, request
@@ -10,9 +11,9 @@ from markupsafe import Markup, escape
 
 from sitecheck import store, workflow
 from sitecheck.bearing.format import number, quantity, utilisation
-from sitecheck.cli import CAUTION
+from sitecheck.cautions import CAUTION
 from sitecheck.web import get_db
-from sitecheck.web.auth import login_required
+from sitecheck.web.login import login_required
 from sitecheck.web.shapes import json_answer
 from sitecheck.web.symbols import DRAWING_KEY, words_for
 
@@ -30,6 +31,56 @@ def page_rule(blueprint: Blueprint, rule: str, **options):
         return view
 
     return register
+
+
+@dataclass(frozen=True)
+class Listing:
+    """One page of a long list: which page (from 1), of how many, of ``size`` rows each,
+    out of ``total`` rows that match."""
+
+    page: int
+    pages: int
+    size: int
+    total: int
+
+    @property
+    def offset(self) -> int:
+        return (self.page - 1) * self.size
+
+    @property
+    def first(self) -> int:
+        return min(self.offset + 1, self.total)
+
+    @property
+    def last(self) -> int:
+        return min(self.offset + self.size, self.total)
+
+    def as_dict(self) -> dict:
+        return {
+            "page": self.page,
+            "pages": self.pages,
+            "size": self.size,
+            "total": self.total,
+            "first": self.first,
+            "last": self.last,
+        }
+
+
+def listing(total: int, size: int) -> Listing:
+    """The page of a list the request asks for (``?page=``), kept within the list: a page
+    past the end shows the last one, anything unreadable the first."""
+    pages = max(1, -(-total // size))
+    try:
+        page = int(request.args.get("page") or 1)
+    except ValueError:
+        page = 1
+    return Listing(min(max(page, 1), pages), pages, size, total)
+
+
+def search_words(limit: int = 100) -> tuple[str, list[str]]:
+    """The search typed (``?q=``), cut to ``limit`` characters, and its words."""
+    query = (request.args.get("q") or "").strip()[:limit]
+    return query, query.split()
 
 
 def wants_json() -> bool:

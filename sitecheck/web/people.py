@@ -23,12 +23,11 @@ from flask_wtf import FlaskForm
 from wtforms import PasswordField
 from wtforms.validators import DataRequired, Length
 
-from sitecheck import auth as accounts
-from sitecheck import store
+from sitecheck import credentials, store
 from sitecheck.resets import ResetRefused, start_reset
 from sitecheck.web import get_db
 from sitecheck.web.access import require_may_make_sites
-from sitecheck.web.auth import SESSION_KEY, login_required
+from sitecheck.web.login import SESSION_KEY, login_required
 from sitecheck.web.sites import wake_mail_sender
 
 bp = Blueprint("people", __name__)
@@ -43,7 +42,7 @@ class NewPasswordForm(FlaskForm):
 def new_password(token):
     """A single-use link from a reset: choose a new password, and every session ends."""
     db = get_db()
-    token_hash = accounts.link_token_hash(token)
+    token_hash = credentials.link_token_hash(token)
     link = store.open_link(db, token_hash=token_hash, purpose=store.PASSWORD_RESET)
     user = store.get_user_by_email(db, link["email"]) if link else None
     if link is None or user is None or user["disabled"]:
@@ -53,7 +52,7 @@ def new_password(token):
         return _new_password_page(link, 400 if form.errors else 200, form=form)
     if form.new.data != form.again.data:
         form.again.errors.append("The two passwords differ. Type the same one twice.")
-    elif problem := accounts.password_problem(form.new.data, email=user["email"]):
+    elif problem := credentials.password_problem(form.new.data, email=user["email"]):
         form.new.errors.append(problem)
     if form.new.errors or form.again.errors:
         return _new_password_page(link, 400, form=form)
@@ -64,10 +63,10 @@ def new_password(token):
         store.set_password_hash(
             db,
             user_id=user["id"],
-            password_hash=accounts.hash_password(form.new.data),
+            password_hash=credentials.hash_password(form.new.data),
             by_user_id=user["id"],
         )
-        fresh = accounts.new_session_token()
+        fresh = credentials.new_session_token()
         store.create_session(db, session_id=fresh.session_id, user_id=user["id"])
         store.add_event(db, kind="log-in", user_id=user["id"], detail={"by": "new-password link"})
     session.clear()
@@ -80,7 +79,7 @@ def new_password(token):
 def _new_password_page(link, status: int, *, form=None):
     response = make_response(
         render_template(
-            "new_password.html", link=link, form=form, min_length=accounts.PASSWORD_MIN
+            "new_password.html", link=link, form=form, min_length=credentials.PASSWORD_MIN
         ),
         status,
     )

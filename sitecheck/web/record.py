@@ -41,15 +41,16 @@ from wtforms.validators import Length, Optional
 
 from sitecheck import store, workflow
 from sitecheck.bearing import InputError
+from sitecheck.bearing.serial import as_built_input_dict
 from sitecheck.report import export
 from sitecheck.report.collect import selection_words
-from sitecheck.report.drawing import as_built_input_dict, bearing_svg, side_by_side_svg
+from sitecheck.report.drawing import bearing_svg, side_by_side_svg
 from sitecheck.report.jobs import KINDS, RecordJobs, TooManyRecords, data_export, site_record
 from sitecheck.report.summary import DEFAULT_SIGN_OFF, covers_words
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import SignOffForm
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import page_rule, render_page
 
 bp = Blueprint("record", __name__)
@@ -509,7 +510,7 @@ def bearing_drawing(bearing_id: str) -> Markup:
     if site is None:
         return Markup("")
     db = get_db()
-    b = store.get_bearing(db, site_id=site["id"], bearing_id=bearing_id)
+    b = store.get_bearing(db, site_id=site["id"], bearing_id=bearing_id, with_result=True)
     if b is None:
         return Markup("")
     record = (

@@ -34,7 +34,7 @@ from wtforms.validators import StopValidation, ValidationError
 from sitecheck.bearing import InputError
 from sitecheck.bearing.format import number, quantity
 from sitecheck.bearing.inputs import MATERIALS, MORTARS
-from sitecheck.bearing.review import UNMEASURABLE
+from sitecheck.bearing.review import CHECKLIST_FIELDS, MEASUREMENT_FIELDS, UNMEASURABLE
 
 MAX_PHOTOS = 8
 NOTES_MAX = 4000
@@ -174,29 +174,6 @@ SPECS: dict[str, FieldSpec] = {
     )
 }
 
-MEASUREMENT_FIELDS = (
-    "bearing_length",
-    "flange_width",
-    "offset_along",
-    "offset_across",
-    "padstone_present",
-    "padstone_length",
-    "padstone_width",
-    "padstone_depth",
-    "padstone_concrete",
-    "padstone_reinforced",
-    "padstone_position",
-    "padstone_offset_across",
-    "wall_thickness",
-    "a1",
-    "a2",
-    "masonry_material",
-    "masonry_group",
-    "unit_strength",
-    "mortar",
-    "collar_joint",
-)
-CHECKLIST_FIELDS = ("bedded", "packing", "cracks", "cut_units", "level")
 
 GROUPS = (
     ("Beam", ("bearing_length", "flange_width", "offset_along", "offset_across")),

@@ -12,13 +12,13 @@ from flask import Blueprint, abort, flash, g, redirect, request, url_for
 from sitecheck import services, store, workflow
 from sitecheck.web import get_db
 from sitecheck.web.access import ACTION_WORDS, bearing_for, site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import (
     DECISION_LABELS,
     KeepReleaseForm,
     ReleaseForm,
     ReopenForm,
 )
+from sitecheck.web.login import login_required
 from sitecheck.web.pages import looked_now, page_rule, render_page, wants_json
 from sitecheck.web.review import (
     as_sentence,

@@ -15,7 +15,6 @@ from sitecheck.bearing.review import FIELD_LABELS
 from sitecheck.report.summary import CHECKLIST_QUESTIONS, decision_title
 from sitecheck.web import get_db
 from sitecheck.web.access import bearing_for, site_for
-from sitecheck.web.auth import login_required
 from sitecheck.web.decision_forms import (
     DECISION_HINTS,
     DECISION_LABELS,
@@ -23,10 +22,13 @@ from sitecheck.web.decision_forms import (
     KeepReleaseForm,
     ReopenForm,
 )
-from sitecheck.web.pages import looked_now, page_rule, render_page
+from sitecheck.web.login import login_required
+from sitecheck.web.pages import listing, looked_now, page_rule, render_page
 from sitecheck.web.record_form import MEASUREMENT_FIELDS, SPECS, designed_value
 
 bp = Blueprint("review", __name__)
+
+QUEUE_PAGE = 50  # bearings the queue shows at once
 
 
 # --- the queue ----------------------------------------------------------------------------------
@@ -46,7 +48,10 @@ def queue():
     }
     everything = queue_items(db, user_id, new=new) if is_engineer else []
     chosen = _filters()
-    items = [i for i in everything if _passes(i, chosen)]
+    matching = [i for i in everything if _passes(i, chosen)]
+    # Most serious first over the whole queue; a page of what the filters keep is shown.
+    page = listing(len(matching), QUEUE_PAGE)
+    items = matching[page.offset : page.offset + page.size]
     if not is_engineer:
         sentence = "Only a site's engineer decides on bearings, and you are not the engineer on any site, so there is nothing here for you."
     elif not everything:
@@ -66,6 +71,7 @@ def queue():
         site_options=_site_options(mine, everything),
         reason_options=_reason_options(everything),
         when=when,
+        listing=page,
     )
 
 
@@ -320,25 +326,14 @@ def bearing_page(
     latest = next((r for r in records if r["uuid"] == b["latest_record_uuid"]), None)
     names = _Names(db, site["id"])
 
-    may_decide = (
-        workflow.allowed(g.role, "decide")
-        and workflow.can_decide(b["state"])
-        and latest is not None
+    decision_form, reopen_form, keep_form = _page_forms(
+        b, latest, after_release, decision_form, reopen_form, keep_form
     )
-    if may_decide and decision_form is None:
-        decision_form = DecisionForm(formdata=None)
-    if may_decide:
-        # Always the values now on the page, even when the engineer's words are kept.
-        decision_form.record_uuid.data = latest["uuid"]
-        decision_form.seen_state.data = b["state"]
-    may_reopen = workflow.allowed(g.role, "reopen") and b["state"] == workflow.RELEASED
-    if may_reopen and reopen_form is None:
-        reopen_form = ReopenForm(formdata=None)
-    may_keep = may_reopen and bool(after_release)
-    if may_keep:
-        keep_form = keep_form or KeepReleaseForm(formdata=None)
-        # Always the newest evidence now on the page, even when the engineer's words are kept.
-        keep_form.seen_up_to.data = str(after_release[-1]["id"])
+    may_decide, may_reopen, may_keep = (
+        decision_form is not None,
+        reopen_form is not None,
+        keep_form is not None,
+    )
 
     photos = []
     if latest is not None:
@@ -356,7 +351,9 @@ def bearing_page(
         site={"id": site["id"], "name": site["name"]},
         role=g.role,
         bearing=_bearing_summary(b),
-        design_result=b["design_result"],
+        design_result=store.get_bearing(
+            db, site_id=site["id"], bearing_id=b["id"], with_result=True
+        )["design_result"],
         latest=_record(latest, names, b) if latest else None,
         remedy_hint=_remedy_hint(site, b, latest),
         comparison=_compare(b["design_input"], latest["measurements"]) if latest else [],
@@ -374,11 +371,47 @@ def bearing_page(
         may_reopen=may_reopen,
         may_keep_release=may_keep,
         after_release=after_release,
-        decision_form=decision_form if may_decide else None,
-        reopen_form=reopen_form if may_reopen else None,
-        keep_form=keep_form if may_keep else None,
+        decision_form=decision_form,
+        reopen_form=reopen_form,
+        keep_form=keep_form,
         message=message,
         when=when,
+    )
+
+
+def _page_forms(
+    b: dict,
+    latest: dict | None,
+    after_release: list[dict],
+    decision_form: DecisionForm | None,
+    reopen_form: ReopenForm | None,
+    keep_form: KeepReleaseForm | None,
+) -> tuple[DecisionForm | None, ReopenForm | None, KeepReleaseForm | None]:
+    """The forms this person may use on the page now (None for each they may not), kept
+    as typed when given back after a refusal."""
+    may_decide = (
+        workflow.allowed(g.role, "decide")
+        and workflow.can_decide(b["state"])
+        and latest is not None
+    )
+    if may_decide:
+        if decision_form is None:
+            decision_form = DecisionForm(formdata=None)
+        # Always the values now on the page, even when the engineer's words are kept.
+        decision_form.record_uuid.data = latest["uuid"]
+        decision_form.seen_state.data = b["state"]
+    may_reopen = workflow.allowed(g.role, "reopen") and b["state"] == workflow.RELEASED
+    if may_reopen and reopen_form is None:
+        reopen_form = ReopenForm(formdata=None)
+    may_keep = may_reopen and bool(after_release)
+    if may_keep:
+        keep_form = keep_form or KeepReleaseForm(formdata=None)
+        # Always the newest evidence now on the page, even when the engineer's words are kept.
+        keep_form.seen_up_to.data = str(after_release[-1]["id"])
+    return (
+        decision_form if may_decide else None,
+        reopen_form if may_reopen else None,
+        keep_form if may_keep else None,
     )
 
 

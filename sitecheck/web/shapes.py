@@ -118,6 +118,7 @@ def _queue(c, _role):
         "filters": c["filters"],
         "site_options": c["site_options"],
         "reason_options": c["reason_options"],
+        "listing": c["listing"].as_dict(),
     }
 
 
@@ -134,6 +135,9 @@ def _site(c, role):
         "failing_at_design": c["failing_at_design"],
         "since": pick_all(c["since"], "kind", "count", "words", "references"),
         "next_for_you": pick(c["next_for_you"], "count", "words", "url"),
+        # Which page of the schedule this is, and the state and search that chose it.
+        "listing": c["listing"].as_dict(),
+        "chosen": c["chosen"],
     }
 
 
@@ -376,6 +380,10 @@ def _survey(c, _role):
         ),
         "to_survey": c["to_survey"],
         "design_fails": c["design_fails"],
+        "query": c["query"],
+        "shown": c["shown"],
+        "total": c["total"],
+        "listing": c["listing"].as_dict(),
     }
 
 

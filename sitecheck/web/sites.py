@@ -1,7 +1,7 @@
 """The engineer's jobs: sites, their settings, the bearing schedule and who is on a site.
 
-Thin views: forms parse what was typed (``design_forms``), ``services`` runs the design
-check and stores, the store answers reads. Access is decided by ``site_for`` alone.
+Thin views: forms parse what was typed (``bearing_form``, ``settings_form``,
+``site_forms``), ``services`` runs the design check and stores, the store answers reads. Access is decided by ``site_for`` alone.
 """
 
 from __future__ import annotations
@@ -30,42 +30,48 @@ from sitecheck import invitations, services, store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.bearing.inputs import MATERIALS
 from sitecheck.schedule import DESIGN_COLUMNS, REQUIRED_COLUMNS
-from sitecheck.web import get_db
-from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
-from sitecheck.web.auth import login_required
-from sitecheck.web.design_forms import (
+from sitecheck.settings_words import (
     BASIS_GROUPS,
-    BASIS_SCALARS,
     CREEP_TABLES,
     GAMMA_M_BS_ROWS,
     GAMMA_M_EC6_ROWS,
     K_MORTARS,
-    K_ROWS,
-    REVIEW_FIELDS,
+    source_tag,
+)
+from sitecheck.web import get_db
+from sitecheck.web.access import bearing_for, require_may_make_sites, site_for
+from sitecheck.web.bearing_form import (
     SECTIONS,
     BearingForm,
-    ImportForm,
-    InviteForm,
-    RemoveForm,
     ReviseForm,
-    RoleForm,
+    design_from_form,
+    form_data_from_design,
+    put_core_error,
+)
+from sitecheck.web.form_fields import add_error
+from sitecheck.web.login import login_required
+from sitecheck.web.pages import (
+    listing,
+    looked_now,
+    page_rule,
+    render_page,
+    search_words,
+    since_you_looked,
+)
+from sitecheck.web.present import design_summary, utc_text
+from sitecheck.web.settings_form import (
+    BASIS_SCALARS,
+    K_ROWS,
+    REVIEW_FIELDS,
     SettingsForm,
-    SiteForm,
-    add_error,
     basis_rows,
     creep_field_name,
-    design_from_form,
-    design_summary,
-    form_data_from_design,
     gamma_field_name,
     k_field_name,
-    put_core_error,
     settings_form_data,
     settings_from_form,
-    source_tag,
-    utc_text,
 )
-from sitecheck.web.pages import looked_now, page_rule, render_page, since_you_looked
+from sitecheck.web.site_forms import ImportForm, InviteForm, RemoveForm, RoleForm, SiteForm
 
 bp = Blueprint("sites", __name__)
 
@@ -73,19 +79,9 @@ IMPORT_LIMIT = 2 * 1024 * 1024  # bytes: a schedule of thousands of rows is far 
 IMPORT_LIMIT_WORDS = "2 MB"
 
 
-@bp.app_context_processor
-def _helpers():
-    return {"has_endpoint": has_endpoint}
-
-
 @bp.app_template_filter("utc")
 def _utc_filter(value):
     return utc_text(value)
-
-
-def has_endpoint(name: str) -> bool:
-    """Whether another blueprint provides a page yet, so a link to it is never broken."""
-    return name in current_app.view_functions
 
 
 # --- a new site --------------------------------------------------------------------------------
@@ -97,14 +93,12 @@ def new():
     require_may_make_sites()
     form = SiteForm()
     if form.validate_on_submit():
-        code_basis, review_settings = services.default_site_settings(form.basis.data)
-        site = store.create_site(
+        site = services.make_site(
             get_db(),
             name=form.name.data,
             address=form.address.data or "",
-            code_basis=code_basis,
-            review_settings=review_settings,
-            created_by=g.user["id"],
+            basis_name=form.basis.data,
+            by_user_id=g.user["id"],
         )
         flash(f"Site “{site['name']}” created; you are its engineer.")
         return redirect(url_for("sites.show", site_id=site["id"]))
@@ -147,7 +141,7 @@ def set_site_maker(user_id):
             error="You cannot take this from yourself; ask another account that may make "
             "sites, so that one always remains.",
         )
-    store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
+    services.let_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=g.user["id"])
     name = person["name"] or "They"
     flash(f"{name} may now make sites." if allowed else f"{name} may no longer make sites.")
     return redirect(url_for("sites.site_makers"))
@@ -163,17 +157,38 @@ def _site_makers_page(status: int, error: str | None = None):
 # --- the site and its bearing schedule ----------------------------------------------------------
 
 
+SCHEDULE_PAGE = 100  # rows of the bearing schedule a page shows
+
+
 @page_rule(bp, "/sites/<site_id>")
 @login_required
 def show(site_id):
     site, role = site_for(site_id, "view")
     db = get_db()
-    bearings = store.list_bearings(db, site_id=site_id)
-    latest = store.latest_record_summaries(db, site_id=site_id)
-    rows = [_schedule_row(b, latest.get(b["id"])) for b in bearings]
-    counts = {state: 0 for state in workflow.STATES}
-    for row in rows:
-        counts[row["state"]] += 1
+    counted = store.bearing_counts(db, site_id=site_id)
+    # A site of thousands of bearings is listed a page at a time, by state and by search,
+    # all worked out by the store: no row of another page is read.
+    state = request.args.get("state")
+    states = [state] if state in workflow.STATES else None
+    query, words = search_words()
+    matching = (
+        sum(counted["states"].values())
+        if states is None and not words
+        else store.count_bearing_lines(db, site_id=site_id, states=states, words=words)
+    )
+    page = listing(matching, SCHEDULE_PAGE)
+    rows = [
+        _schedule_row(b)
+        for b in store.bearing_lines(
+            db,
+            site_id=site_id,
+            states=states,
+            words=words,
+            with_latest=True,
+            limit=page.size,
+            offset=page.offset,
+        )
+    ]
     since = since_you_looked(store.since_last_looked(db, user_id=g.user["id"], site_id=site_id))
     looked_now([site_id])
     return render_page(
@@ -181,10 +196,12 @@ def show(site_id):
         site=_site_summary(site),
         role=role,
         bearings=rows,
-        counts=counts,
-        failing_at_design=sum(1 for r in rows if not r["design_passed"]),
+        counts=counted["states"],
+        failing_at_design=counted["failing_at_design"],
+        listing=page,
+        chosen={"state": states[0] if states else None, "q": query},
         since=since.get(site_id, []),
-        next_for_you=_next_for(site_id, role, counts),
+        next_for_you=_next_for(site_id, role, counted["states"]),
     )
 
 
@@ -220,29 +237,27 @@ def _site_summary(site: dict) -> dict:
     }
 
 
-def _schedule_row(bearing: dict, record: dict | None) -> dict:
-    result = bearing["design_result"] or {}
-    governing = result.get("governing")
-    title = next((c["title"] for c in result.get("checks", []) if c["code"] == governing), None)
+def _schedule_row(line: dict) -> dict:
+    """One row of the schedule from the store's line of a bearing (no trace is read)."""
     return {
-        "id": bearing["id"],
-        "reference": bearing["reference"],
-        "location": bearing["location"],
-        "state": bearing["state"],
-        "revision": bearing["revision"],
-        "design_utilisation": bearing["design_utilisation"],
-        "design_passed": bearing["design_passed"],
-        "governing": governing,
-        "governing_title": title,
+        "id": line["id"],
+        "reference": line["reference"],
+        "location": line["location"],
+        "state": line["state"],
+        "revision": line["revision"],
+        "design_utilisation": line["design_utilisation"],
+        "design_passed": line["design_passed"],
+        "governing": line["design_governing"],
+        "governing_title": line["design_governing_title"],
         "latest": None
-        if record is None
+        if line["latest_record_uuid"] is None
         else {
-            "uuid": record["uuid"],
-            "measured_at": record["measured_at"],
-            "utilisation": record["utilisation"],
-            "passed": record["passed"],
-            "blocking": record["blocking"],
-            "older_revision": record["older_revision"],
+            "uuid": line["latest_record_uuid"],
+            "measured_at": line["latest_measured_at"],
+            "utilisation": line["latest_utilisation"],
+            "passed": line["latest_passed"],
+            "blocking": line["latest_blocking"],
+            "older_revision": line["latest_older_revision"],
         },
     }
 
@@ -254,7 +269,7 @@ def _schedule_row(bearing: dict, record: dict | None) -> dict:
 @login_required
 def bearing(site_id, bearing_id):
     site, role = site_for(site_id, "view")
-    b = bearing_for(site, bearing_id)
+    b = bearing_for(site, bearing_id, with_result=True)
     db = get_db()
     names = _Names(db)
     records = [
@@ -564,21 +579,18 @@ def save_settings(site_id):
         return _settings_page(site, form, 400)
     code_basis, review_settings = parsed
     try:
-        # Read back exactly as the checks will, so nothing is stored that they would refuse.
-        services.basis_for({"code_basis": code_basis})
-        services.settings_for({"review_settings": review_settings})
+        services.save_site_settings(
+            get_db(),
+            site_id=site_id,
+            by_user_id=g.user["id"],
+            name=form.name.data,
+            address=form.address.data or "",
+            code_basis=code_basis,
+            review_settings=review_settings,
+        )
     except (InputError, TypeError, ValueError) as e:
         form.form_errors.append(f"Nothing was saved: {e}")
         return _settings_page(site, form, 400)
-    store.update_site_settings(
-        get_db(),
-        site_id=site_id,
-        user_id=g.user["id"],
-        name=form.name.data,
-        address=form.address.data or "",
-        code_basis=code_basis,
-        review_settings=review_settings,
-    )
     flash(
         "Settings saved. They apply to bearings added or revised from now on and to every "
         "re-check; design results already stored keep the values they were checked with."
@@ -679,7 +691,7 @@ def withdraw_invitation(site_id, invitation_id):
     form = RemoveForm()
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
-    if not store.withdraw_invitation(
+    if not invitations.withdraw(
         get_db(), invitation_id=invitation_id, site_id=site_id, by_user_id=g.user["id"]
     ):
         return _member_refusal(site, 404, "That invitation is not open on this site.")
@@ -706,12 +718,8 @@ def answer_invitation(invitation_id, answer):
         flash("Send your answer again from this page; nothing was changed.")
         return redirect(url_for("pages.home"))
     try:
-        invitation = store.answer_invitation(
-            get_db(),
-            invitation_id=invitation_id,
-            user_id=g.user["id"],
-            email=g.user["email"],
-            accept=answer == "accept",
+        invitation = invitations.answer(
+            get_db(), invitation_id=invitation_id, user=g.user, accept=answer == "accept"
         )
     except store.NotFound as closed:
         abort(404, description=str(closed))
@@ -747,7 +755,9 @@ def change_role(site_id, user_id):
         flash("Their role is unchanged.")
         return redirect(url_for("sites.members", site_id=site_id))
     try:
-        store.set_role(db, user_id=user_id, site_id=site_id, role=new_role, by_user_id=g.user["id"])
+        services.change_role(
+            db, site_id=site_id, user_id=user_id, role=new_role, by_user_id=g.user["id"]
+        )
     except store.LastEngineer as refusal:
         return _member_refusal(site, 409, str(refusal))
     flash(f"Role changed from {current} to {new_role}.")
@@ -768,7 +778,7 @@ def remove_member(site_id, user_id):
     if not form.validate():
         return _member_refusal(site, 400, "Send the form again.")
     try:
-        store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=g.user["id"])
+        services.remove_member(db, site_id=site_id, user_id=user_id, by_user_id=g.user["id"])
     except store.LastEngineer as refusal:
         return _member_refusal(site, 409, str(refusal))
     flash("Removed from this site. Their records stay on the site record.")

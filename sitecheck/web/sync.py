@@ -19,10 +19,10 @@ Every answer is JSON with a status the phone acts on without reading the words:
 from __future__ import annotations
 
 import dataclasses
+import hashlib
 import json
 import math
 import re
-import uuid as uuid_module
 from datetime import UTC, datetime
 
 from flask import (
@@ -39,17 +39,15 @@ from flask import (
 from werkzeug.exceptions import NotFound
 
 from sitecheck import services, store, workflow
-from sitecheck.bearing import input_errors
 from sitecheck.bearing.errors import InputError
-from sitecheck.bearing.review import as_built_input, could_not_measure
-from sitecheck.bearing.serial import checklist_from_dict, measurements_from_dict
 from sitecheck.photos import PhotoLimits, PhotoRejected, PhotosBusy, ingest_photo
+from sitecheck.store.base import NoTimeZone, canonical_uuid, parse_timestamp
 from sitecheck.web import get_db, photo_store
 from sitecheck.web.access import bearing_for, site_for
 from sitecheck.web.assets import STATIC_DIR, shell_digest
-from sitecheck.web.auth import login_required
 from sitecheck.web.inspect import survey_order
 from sitecheck.web.jsonbody import JsonRefused, read_json
+from sitecheck.web.login import login_required
 from sitecheck.web.record_form import (
     CHECKLIST_FIELDS,
     GROUPS,
@@ -182,36 +180,19 @@ def site_offline(site_id):
 @bp.get("/api/sites/<site_id>/pack")
 @login_required
 def pack(site_id):
+    """The site pack: the site's code basis and review settings in full, and its bearings.
+
+    The phone says which pack it holds (``?since=`` the ``version`` of its last one) and is
+    sent only the bearings changed since (``full`` false), with ``removed`` the ones gone;
+    otherwise, or when that cannot be told, every bearing (``full`` true). Bearings of one
+    design share it: each names its design (``design``, a key of ``designs``), which holds
+    the design input, the words shown beside each field and the design's verdict."""
     site, role = site_for(site_id, "record")
+    since = (request.args.get("since") or "").strip()[:80] or None
+    found = store.pack_rows(get_db(), site_id=site["id"], since=since)
+    designs = _shared_designs(found)
+    bearings = _pack_bearings(site["id"], found)
     basis = services.basis_for(site)
-    bearings = []
-    decisions = store.latest_decisions(get_db(), site_id=site["id"])
-    # In survey order, with each bearing's place by reference, so the phone ranks them again
-    # as their states change just as the survey list does.
-    for b in survey_order(store.list_bearings(get_db(), site_id=site["id"])):
-        design_result = b["design_result"] or {}
-        bearings.append(
-            {
-                "id": b["id"],
-                "reference": b["reference"],
-                "location": b["location"],
-                "state": b["state"],
-                "revision": b["revision"],
-                "order": b["order"],
-                "design_input": b["design_input"],
-                "design": {
-                    "utilisation": _finite(b["design_utilisation"]),
-                    "passed": bool(b["design_passed"]),
-                    "governing": design_result.get("governing"),
-                },
-                # Ready-made words beside each field, so the phone shows what the online form shows.
-                "designed": {name: designed_text(b["design_input"], name) for name in SPECS},
-                # What the engineer asked for, shown on the form with no signal too.
-                "engineer_words": engineer_words(
-                    workflow.standing_decision(b["state"], decisions.get(b["id"]))
-                ),
-            }
-        )
     response = jsonify(
         site={
             "id": site["id"],
@@ -226,10 +207,79 @@ def pack(site_id):
         role=role,
         user=g.user["id"],
         generated_at=datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        version=found.version,
+        full=found.full,
         bearings=bearings,
+        removed=found.removed,
+        designs=designs,
     )
     response.headers["Cache-Control"] = "no-store"
     return response
+
+
+def _shared_designs(found: store.PackRows) -> dict[str, dict]:
+    """The pack's designs, each once, keyed so bearings of one design share it; each bearing
+    gets the key of its design as ``design_key``."""
+    designs: dict[str, dict] = {}
+    keys: dict[tuple, str] = {}
+    for b in found.bearings:
+        summary = (
+            b["design_input_json"],
+            _finite(b["design_utilisation"]),
+            bool(b["design_passed"]),
+            b["design_governing"],
+        )
+        if summary not in keys:
+            keys[summary] = _design_key(summary)
+            design_input = found.designs[b["design_input_json"]]
+            designs[keys[summary]] = {
+                "input": design_input,
+                # Ready-made words beside each field, so the phone shows what the online
+                # form shows.
+                "designed": {name: designed_text(design_input, name) for name in SPECS},
+                "utilisation": summary[1],
+                "passed": summary[2],
+                "governing": summary[3],
+            }
+        b["design_key"] = keys[summary]
+    return designs
+
+
+def _pack_bearings(site_id: str, found: store.PackRows) -> list[dict]:
+    """The pack's bearings as the phone reads them, with the engineer's standing words."""
+    # A whole pack is in survey order, with each bearing's place by reference, so the phone
+    # ranks them again as their states change just as the survey list does. A bearing's
+    # place changes only when bearings are added, and then the whole pack is sent.
+    rows = survey_order(found.bearings) if found.full else found.bearings
+    if found.full or len(rows) > 50:
+        decisions = store.latest_decisions(get_db(), site_id=site_id)
+    else:
+        decisions = {}
+        for b in rows:
+            decisions |= store.latest_decisions(get_db(), site_id=site_id, bearing_id=b["id"])
+    return [
+        {
+            "id": b["id"],
+            "reference": b["reference"],
+            "location": b["location"],
+            "state": b["state"],
+            "revision": b["revision"],
+            **({"order": b["order"]} if found.full else {}),
+            "design": b["design_key"],
+            "design_passed": bool(b["design_passed"]),
+            # What the engineer asked for, shown on the form with no signal too.
+            "engineer_words": engineer_words(
+                workflow.standing_decision(b["state"], decisions.get(b["id"]))
+            ),
+        }
+        for b in rows
+    ]
+
+
+def _design_key(summary: tuple) -> str:
+    # The same design gets the same key in every pack, so a later pack's bearings can name
+    # a design the phone already holds.
+    return hashlib.sha256(json.dumps(summary).encode()).hexdigest()[:12]
 
 
 # --- as-built records -------------------------------------------------------------------------
@@ -255,7 +305,8 @@ def post_record():
     bearing = bearing_for(site, fields["bearing_id"])
     db = get_db()
     try:
-        _check_against_core(site, bearing, fields)
+        # The re-check refuses input that makes no physical sense (InputError) before
+        # anything is stored, with the same first error a separate look would find.
         stored, _recheck = services.record_as_built(
             db,
             site=site,
@@ -297,7 +348,7 @@ def _answer(site, stored) -> dict:
         "state": stored.state,
         "passed": bool(row["passed"]),
         "utilisation": _finite(row["utilisation"]),
-        "governing": (row["result"] or {}).get("governing"),
+        "governing": row["governing"],
         "reasons": [
             {"code": r["code"], "severity": r["severity"], "sentence": r["sentence"]}
             for r in row["reasons"]
@@ -395,18 +446,6 @@ def _record_fields(data: dict) -> dict:
     return out
 
 
-def _check_against_core(site, bearing, fields) -> None:
-    """Typed JSON first, then the core's physical sense, before anything is stored."""
-    measurements = measurements_from_dict(fields["measurements"])
-    checklist = checklist_from_dict(fields["checklist"])
-    if fields["why_not_measured"] is not None:
-        could_not_measure(fields["why_not_measured"], measurements, checklist)
-        return
-    built = as_built_input(services.design_of(bearing), measurements)
-    for error in input_errors(built, services.basis_for(site)):
-        raise error
-
-
 def _input_error(error: InputError):
     return (
         jsonify(
@@ -425,22 +464,28 @@ def _field_of(message: str) -> str:
 
 def _uuid(value, field: str) -> str:
     try:
-        return str(uuid_module.UUID(str(value)))
-    except (ValueError, TypeError, AttributeError):
+        return canonical_uuid(value, field=field)
+    except ValueError:
         raise Refused(field, "bad-uuid", f"{field} must be a UUID made on the phone.") from None
 
 
 def _moment(value, field: str) -> str:
+    """The phone's time as it sent it, once the store's reading of times accepts it. A
+    padded time is refused here as before: the phone writes its own ISO text, never padded."""
     if not isinstance(value, str) or len(value) > 40:
         raise Refused(
             field, "missing", f"{field} must be a date and time such as 2026-05-04T10:30:00Z."
         )
     try:
-        moment = datetime.fromisoformat(value.replace("Z", "+00:00"))
+        if value != value.strip():
+            raise ValueError(value)
+        parse_timestamp(value, field=field)
+    except NoTimeZone:
+        raise Refused(
+            field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00."
+        ) from None
     except ValueError:
         raise Refused(field, "not-a-time", f"{field}: “{value}” is not a date and time.") from None
-    if moment.tzinfo is None:
-        raise Refused(field, "no-zone", f"{field}: add Z for UTC or an offset such as +01:00.")
     return value
 
 

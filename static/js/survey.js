@@ -6,10 +6,11 @@ import { attachCapture } from "./capture.js";
 import { get, getAll } from "./db.js";
 import { localTime, refusalSentence } from "./messages.js";
 import { refusedItems, unsentItems } from "./outbox.js";
-import { age } from "./unsent.js";
+import { age, designOf } from "./unsent.js";
 import { serverAgrees, utilisationText } from "./verdict.js";
 
 const RANK = { "awaiting survey": 0, remedial: 1 };
+const SHOWN_AT_ONCE = 100; // cards the offline list draws before "Show more"
 const OTHER_RANK = 2;
 const DESIGN_FAILS_RANK = 3;
 
@@ -77,10 +78,13 @@ const list = document.querySelector("[data-survey-list]");
 if (list) {
   const form = document.querySelector("[data-survey-form]");
   const cards = () => [...list.querySelectorAll("li[data-bearing]")];
-  attachSearch(form.querySelector("[data-survey-search]"), cards,
-    form.querySelector("[data-search-count]"));
-  // Searching needs no trip to the server with the script on.
-  form.addEventListener("submit", (event) => event.preventDefault());
+  if (list.dataset.wholeList === "yes") {
+    // Every bearing is on this page: searching needs no trip to the server. A longer list
+    // is shown a page at a time, and its search goes to the server, which has them all.
+    attachSearch(form.querySelector("[data-survey-search]"), cards,
+      form.querySelector("[data-search-count]"));
+    form.addEventListener("submit", (event) => event.preventDefault());
+  }
   const siteId = document.querySelector("[data-keep-site]")?.dataset.keepSite;
   const showMarks = async () => {
     let holds;
@@ -125,7 +129,7 @@ function offlinePage() {
     mode: "offline",
     user,
     context: () => (bearing && pack && pack.site.mirror
-      ? { design: bearing.design_input, ...pack.site.mirror }
+      ? { design: designOf(pack, bearing).input, ...pack.site.mirror }
       : null),
     onKept,
   });
@@ -159,18 +163,32 @@ function offlinePage() {
     document.body.dataset.packReady = "1";
   }
 
+  // The whole site is searched, in survey order, but only so many cards are drawn at once:
+  // a phone draws ten thousand of them slowly, and nobody scrolls that far.
+  const searchBox = root.querySelector("[data-survey-search]");
+  const countNode = root.querySelector("[data-search-count]");
+  let drawn = SHOWN_AT_ONCE;
+  let drawing = 0;
+
   async function showList() {
     const list = root.querySelector("[data-pack-bearings]");
+    const mine = ++drawing;
     let holds = { drafts: new Set(), unsent: new Set() };
     try {
       holds = await phoneHolds(siteId, user);
     } catch (error) {
       /* no IndexedDB */
     }
-    const items = surveyOrder(pack.bearings).map((b) => {
+    // Typing starts a drawing per letter: only the one for the latest search is shown.
+    if (mine !== drawing) return;
+    const query = searchBox.value.trim();
+    const ordered = surveyOrder(pack.bearings);
+    const found = query ? ordered.filter((b) => matches(`${b.reference} ${b.location || ""}`, query)) : ordered;
+    const items = found.slice(0, drawn).map((b) => {
       const marks = marksText(b.id, holds);
+      const passes = designOf(pack, b).passed;
       const actions = el("div", { class: "bearing-actions" });
-      if (b.design.passed) {
+      if (passes) {
         const button = el("button", { type: "button", class: "primary big", "data-record-bearing": b.id },
           "Record as built", el("span", { class: "visually-hidden" }, ` for ${b.reference}`));
         button.addEventListener("click", () => openForm(b));
@@ -183,16 +201,28 @@ function offlinePage() {
       el("div", { class: "bearing-head" }, el("strong", { class: "reference" }, b.reference), badge(b.state)),
       b.location ? el("p", { class: "location" }, b.location) : null,
       marks ? el("p", { class: "phone-marks" }, marks) : null,
-      b.design.passed ? null : el("p", { class: "muted", "data-not-for-survey": "" }, "✗ Design being revised: not for survey yet."),
+      passes ? null : el("p", { class: "muted", "data-not-for-survey": "" }, "✗ Design being revised: not for survey yet."),
       actions);
     });
+    if (found.length > drawn) {
+      const more = el("button", { type: "button", "data-show-more": "" },
+        `Show ${Math.min(SHOWN_AT_ONCE, found.length - drawn)} more of ${found.length - drawn}`);
+      more.addEventListener("click", () => {
+        drawn += SHOWN_AT_ONCE;
+        showList();
+      });
+      items.push(el("li", { class: "card show-more" }, more));
+    }
     list.replaceChildren(...items);
-    search();
+    countNode.textContent = query
+      ? `${found.length} of ${ordered.length} bearings match “${query}”.`
+      : found.length > drawn ? `${found.length} bearings in survey order: search to find one.` : "";
   }
 
-  const search = attachSearch(root.querySelector("[data-survey-search]"),
-    () => [...root.querySelectorAll("[data-pack-bearings] li[data-bearing]")],
-    root.querySelector("[data-search-count]"));
+  searchBox.addEventListener("input", () => {
+    drawn = SHOWN_AT_ONCE;
+    if (pack) showList();
+  });
 
   function bearingInfo(b) {
     return { id: b.id, reference: b.reference, revision: b.revision, site_id: siteId, site_name: pack.site.name };
@@ -216,10 +246,11 @@ function offlinePage() {
     form.querySelector("[data-form-title]").textContent = `As-built record: ${b.reference}`;
     form.querySelector("[data-form-location]").textContent = b.location || "";
     form.querySelector("[data-form-state]").replaceChildren("State as last heard: ", badge(b.state));
-    form.querySelector("[data-form-design-fails]").hidden = Boolean(b.design.passed);
+    const design = designOf(pack, b);
+    form.querySelector("[data-form-design-fails]").hidden = Boolean(design.passed);
     showEngineerWords(b.engineer_words);
     for (const p of form.querySelectorAll("[data-designed-for]")) {
-      const text = b.designed[p.dataset.designedFor];
+      const text = design.designed[p.dataset.designedFor];
       p.textContent = text ? `designed: ${text}` : "";
     }
     for (const old of form.querySelectorAll("[data-again-notice]")) old.remove();

@@ -2,7 +2,7 @@
 // when the signal returns, the log-out warning, "Keep for offline" on the survey list, the
 // list of kept sites and the refused list's own page.
 
-import { getAll, put } from "./db.js";
+import { get, getAll, put } from "./db.js";
 // The words of messages and times are fetched only by a page that shows some (the log-in
 // page shows none, and a phone's first load should not carry them twice).
 const words = () => import("./messages.js");
@@ -121,24 +121,61 @@ export async function askToKeep() {
   return kept;
 }
 
-async function keepSite(button) {
+// The site pack as the phone keeps it, brought up to date: the server is told which pack
+// is held (its version) and sends only the bearings changed since, or a whole pack when it
+// cannot tell (sitecheck/web/sync.py pack).
+export function mergePack(held, answer) {
+  if (answer.full || !held || !held.version) return answer;
+  const byId = new Map(held.bearings.map((b) => [b.id, b]));
+  for (const id of answer.removed) byId.delete(id);
+  // A bearing keeps its place in the survey order: it moves only when bearings are added,
+  // and then the whole pack comes.
+  for (const b of answer.bearings) byId.set(b.id, { ...b, order: byId.get(b.id)?.order ?? b.order });
+  const designs = { ...held.designs, ...answer.designs };
+  const bearings = [...byId.values()];
+  const kept = {};
+  for (const b of bearings) kept[b.design] = designs[b.design];
+  return { ...answer, full: true, bearings, designs: kept };
+}
+
+// A bearing's design as the pack holds it: {input, designed, passed, utilisation, governing}.
+// A pack kept before designs were shared holds each bearing's own.
+export function designOf(pack, bearing) {
+  if (pack.designs && typeof bearing.design === "string") return pack.designs[bearing.design];
+  return { input: bearing.design_input, designed: bearing.designed, ...bearing.design };
+}
+
+async function bringPackUpToDate(siteId) {
+  const held = await get("packs", siteId);
+  const since = held && held.version ? `?since=${encodeURIComponent(held.version)}` : "";
+  const response = await fetch(`/api/sites/${siteId}/pack${since}`, { cache: "no-store", credentials: "same-origin" });
+  if (!response.ok) throw new Error(`the server answered ${response.status}`);
+  const answer = await response.json();
+  const pack = mergePack(held, answer);
+  await put("packs", pack);
+  return { pack, changed: answer.full ? null : answer.bearings.length + answer.removed.length };
+}
+
+function keptWords(pack, changed) {
+  const news = changed === null ? "" : changed === 0 ? " Nothing had changed." : ` ${changed} changed.`;
+  return `Kept for offline use: ${pack.bearings.length} bearings, downloaded ${age(pack.generated_at)}.${news}`;
+}
+
+async function keepSite(button, quietly = false) {
   const siteId = button.dataset.keepSite;
   const status = document.querySelector(`[data-pack-age="${siteId}"]`);
   button.disabled = true;
-  status.textContent = "Downloading the site pack…";
+  if (!quietly) status.textContent = "Downloading the site pack…";
   try {
-    const response = await fetch(`/api/sites/${siteId}/pack`, { cache: "no-store", credentials: "same-origin" });
-    if (!response.ok) throw new Error(`the server answered ${response.status}`);
-    const pack = await response.json();
+    const { pack, changed } = await bringPackUpToDate(siteId);
     const cache = await caches.open(PAGES_CACHE);
     await cache.add(button.dataset.offlineUrl);
-    await put("packs", pack);
-    status.textContent = `Kept for offline use: ${pack.bearings.length} bearings, downloaded ${age(pack.generated_at)}.`;
+    status.textContent = keptWords(pack, changed);
     status.dataset.generatedAt = pack.generated_at;
     document.body.dataset.packKept = siteId;
     await askToKeep();
   } catch (error) {
-    status.textContent = `The site pack could not be kept (${error.message}). Try again with signal.`;
+    if (!quietly) status.textContent = `The site pack could not be kept (${error.message}). Try again with signal.`;
   } finally {
     button.disabled = false;
   }
@@ -211,6 +248,13 @@ window.addEventListener("online", () => sync("online"));
 for (const button of document.querySelectorAll("[data-keep-site]")) {
   button.hidden = false;
   button.addEventListener("click", () => keepSite(button));
+  // A site already kept is brought up to date whenever its list is opened with signal:
+  // only what changed comes, so it costs little.
+  if (navigator.onLine) {
+    get("packs", button.dataset.keepSite)
+      .then((held) => (held ? keepSite(button, true) : null))
+      .catch(() => {});
+  }
 }
 for (const button of document.querySelectorAll("[data-send-now]")) {
   button.addEventListener("click", () => sync("button"));

@@ -11,16 +11,10 @@ import { basisFromDict, ec6UkNa } from "./bearing/basis.js";
 import { quantity, utilisationText } from "./bearing/format.js";
 import { recheckRecord } from "./bearing/record.js";
 import { remedy } from "./bearing/remedy.js";
+import { CHECKLIST_FIELDS, MEASUREMENT_FIELDS } from "./bearing/serial.js";
 import { SYMBOL_WORDS } from "/phone-words.js";
 import { coreSentence, designSentence, designedValue, fieldOf } from "./messages.js";
 
-export const MEASUREMENT_FIELDS = [
-  "bearing_length", "flange_width", "offset_along", "offset_across", "padstone_present",
-  "padstone_length", "padstone_width", "padstone_depth", "padstone_concrete",
-  "padstone_reinforced", "padstone_position", "padstone_offset_across", "wall_thickness",
-  "a1", "a2", "masonry_material", "masonry_group", "unit_strength", "mortar", "collar_joint",
-];
-export const CHECKLIST_FIELDS = ["bedded", "packing", "cracks", "cut_units", "level"];
 const TRI_STATE = new Set([
   "padstone_present", "padstone_reinforced", "collar_joint", "bedded", "cracks", "cut_units",
   "level",

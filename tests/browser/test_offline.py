@@ -20,7 +20,7 @@ from playwright.sync_api import Page, expect
 
 from phone import OUTBOX, REFUSED, SW_CONTROLLED, keep_site, log_in_as, record_offline
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
-from sitecheck import auth, store, workflow
+from sitecheck import credentials, store, workflow
 from sitecheck.demo import BRICK_WING_NAME, DEMO_PEOPLE
 
 
@@ -152,7 +152,10 @@ def _new_inspector(live_server, site_id: str, tag: str) -> tuple[int, str, str]:
     db = store.open_db(live_server.db_path)
     try:
         user = store.create_user(
-            db, email=email, name=f"Inspector {tag}", password_hash=auth.hash_password(password)
+            db,
+            email=email,
+            name=f"Inspector {tag}",
+            password_hash=credentials.hash_password(password),
         )
         engineer = store.get_user_by_email(db, DEMO_PEOPLE["engineer"][0])
         store.add_membership(

@@ -16,8 +16,8 @@ import {
   radians,
 } from "./formulas.js";
 import { readings, spreadLength, worse } from "./geometry.js";
-import { ACROSS, IN_LINE } from "./inputs.js";
-import { RULE, STRENGTH, makeCheck, makeStep } from "./trace.js";
+import { ACROSS, IN_LINE, wallHeights } from "./inputs.js";
+import { RULE, STRENGTH, givenStep, makeCheck, makeStep } from "./trace.js";
 
 export const TAN60 = Math.tan(radians(60.0));
 
@@ -693,23 +693,18 @@ export function ec6SolidMaterial(inp, lay, basis) {
 export function ec6MidHeight(inp, lay, pres, st, basis) {
   const wall = inp.wall;
   const t = wall.thickness;
-  const h = wall.clear_height || wall.height_to_bearing;
-  const h_ef = wall.effective_height || h;
-  const t_ef = wall.effective_thickness || t;
+  const [h, h_ef, t_ef] = wallHeights(wall);
   const steps = [];
   let e_mk;
   if (inp.e_mk != null) {
     e_mk = Number(inp.e_mk);
     steps.push(
-      makeStep(
-        "Eccentricity at mid-height, as given",
+      givenStep(
+        "Eccentricity at mid-height",
         "e_mk",
-        "declared",
-        [],
         e_mk,
         "mm",
         "EN 1996-1-1 6.1.2.2",
-        "ours",
       ),
     );
   } else {
@@ -753,15 +748,12 @@ export function ec6MidHeight(inp, lay, pres, st, basis) {
   if (inp.phi_m != null) {
     phi = Number(inp.phi_m);
     steps.push(
-      makeStep(
-        "Capacity reduction factor, as given",
+      givenStep(
+        "Capacity reduction factor",
         "Φ_m",
-        "declared",
-        [],
         phi,
         "",
         "EN 1996-1-1 6.1.2.2",
-        "ours",
       ),
     );
   } else {
@@ -952,9 +944,7 @@ function creepEccentricity(material, h_ef, t_ef, t, e_m, basis, steps) {
 
 export function slenderness(inp, basis) {
   const wall = inp.wall;
-  const h = wall.clear_height || wall.height_to_bearing;
-  const h_ef = wall.effective_height || h;
-  const t_ef = wall.effective_thickness || wall.thickness;
+  const [h, h_ef, t_ef] = wallHeights(wall);
   const sr = h_ef / t_ef;
   const clause = isEc6(basis) ? "EN 1996-1-1 5.5.1.4" : "BS 5628-1:1992 clause 28";
   const step = makeStep(
@@ -1034,9 +1024,7 @@ export function bsMasonryBearing(
 export function bsDispersion(inp, lay, pres, st, basis) {
   const wall = inp.wall;
   const t = wall.thickness;
-  const h = wall.clear_height || wall.height_to_bearing;
-  const h_ef = wall.effective_height || h;
-  const t_ef = wall.effective_thickness || t;
+  const [h, h_ef, t_ef] = wallHeights(wall);
   const depth = basis.dispersion_depth_ratio * h;
   const each = depth * Math.tan(radians(basis.masonry_spread_deg));
   const steps = [
@@ -1075,15 +1063,12 @@ export function bsDispersion(inp, lay, pres, st, basis) {
   if (inp.beta_s != null) {
     beta = Number(inp.beta_s);
     steps.push(
-      makeStep(
-        "Capacity reduction factor, as given",
+      givenStep(
+        "Capacity reduction factor",
         "β",
-        "declared",
-        [],
         beta,
         "",
         "BS 5628-1:1992 Table 7",
-        "ours",
       ),
     );
   } else {

@@ -77,3 +77,10 @@ export function withDefaults(input) {
   out.padstone = input.padstone == null ? null : part("padstone");
   return out;
 }
+
+// h, h_ef and t_ef, each defaulted as the Wall says (inputs.py wall_heights): h to h_c,
+// h_ef to h, t_ef to t.
+export function wallHeights(wall) {
+  const h = wall.clear_height || wall.height_to_bearing;
+  return [h, wall.effective_height || h, wall.effective_thickness || wall.thickness];
+}

@@ -4,7 +4,7 @@ import * as C from "./checks.js";
 import { isEc6 } from "./basis.js";
 import { number } from "./format.js";
 import { footprintLayout, layout, pressureUnder, readings } from "./geometry.js";
-import { IN_LINE } from "./inputs.js";
+import { IN_LINE, wallHeights } from "./inputs.js";
 import { masonryStrengths } from "./strength.js";
 import { INFORMATIVE, SPREAD_FIELDS, STRENGTH, checkAsDict, finiteOrNone } from "./trace.js";
 import { validate } from "./validate.js";
@@ -44,7 +44,7 @@ export function checkBearing(inp, basis) {
     let dispersion;
     [dispersion, spreadReading, spreadLen] = C.bsDispersion(inp, lay, pres, strengths, basis);
     checks.push(dispersion);
-    const h = wall.clear_height || wall.height_to_bearing;
+    const [h] = wallHeights(wall);
     spreadDepth = basis.dispersion_depth_ratio * h;
   }
   checks.push(C.slenderness(inp, basis));

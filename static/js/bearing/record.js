@@ -3,7 +3,7 @@
 // review reasons, with no signal. The server re-runs it in Python on every record it
 // receives, and its answer is the one that counts.
 //
-// recheckRecord returns the object sitecheck/vectors_review.py record_expectation() writes:
+// recheckRecord returns the object devtools/vectors_review.py record_expectation() writes:
 //   as_built      the design with the measured values in place (null if they could not be read)
 //   error         the core's refusal as InputError.as_dict(), or null
 //   design_result the design's re-check (BearingResult.as_dict())

@@ -11,7 +11,8 @@
 import { InputError } from "./errors.js";
 import { pyFloat } from "./validate.js";
 
-// Measurements' fields in their dataclass order, each with its type (float unless named).
+// Measurements' and Checklist's fields in their dataclass order (review.py MEASUREMENT_FIELDS,
+// CHECKLIST_FIELDS): the phone's one list, read by the form and the re-check alike.
 export const MEASUREMENT_FIELDS = [
   "bearing_length",
   "flange_width",

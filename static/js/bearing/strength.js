@@ -17,7 +17,7 @@ import {
 import { InputError } from "./errors.js";
 import { number } from "./format.js";
 import { pyMin } from "./formulas.js";
-import { makeStep, makeStrengths } from "./trace.js";
+import { givenStep, makeStep, makeStrengths } from "./trace.js";
 import { concreteClassFck, wallTolerance } from "./validate.js";
 
 // EN 772-1 Table A.1 shape factor δ by unit height (rows) and least horizontal dimension
@@ -130,15 +130,12 @@ export function masonryStrengths(mas, pad, basis, t = null) {
   if (mas.f_k != null) {
     fk = Number(mas.f_k);
     steps.push(
-      makeStep(
-        "Characteristic compressive strength, as given",
+      givenStep(
+        "Characteristic compressive strength",
         "f_k",
-        "declared",
-        [],
         fk,
         "N/mm²",
         "declared by the engineer",
-        "ours",
       ),
     );
   } else if (ec6) {
@@ -167,15 +164,12 @@ export function masonryStrengths(mas, pad, basis, t = null) {
   if (mas.gamma_M != null) {
     gm = Number(mas.gamma_M);
     steps.push(
-      makeStep(
-        "Partial factor for masonry, as given",
+      givenStep(
+        "Partial factor for masonry",
         ec6 ? "γ_M" : "γ_m",
-        "declared",
-        [],
         gm,
         "",
         "declared by the engineer",
-        "ours",
       ),
     );
   } else if (ec6) {
@@ -330,11 +324,9 @@ function fKFromUnitsEc6(mas, basis, steps, t) {
   if (mas.unit_strength_is_normalised) {
     fb = fu;
     steps.push(
-      makeStep(
-        "Normalised unit strength, as given",
+      givenStep(
+        "Normalised unit strength",
         "f_b",
-        "declared",
-        [],
         fb,
         "N/mm²",
         "EN 772-1 Annex A",

@@ -18,6 +18,11 @@ export function makeStep(label, symbol, formula, inputs, value, unit, clause, so
   return { label, symbol, formula, inputs, value, unit, clause, source };
 }
 
+// A value the engineer gave in place of the one the method works out (trace.py given_step).
+export function givenStep(label, symbol, value, unit, clause, source = "ours") {
+  return makeStep(`${label}, as given`, symbol, "declared", [], value, unit, clause, source);
+}
+
 // JSON has no infinity: an unbounded utilisation travels as null.
 export function finiteOrNone(x) {
   return Number.isFinite(x) ? x : null;

@@ -22,7 +22,7 @@ from __future__ import annotations
 import random
 from dataclasses import replace
 
-from .bearing import (
+from sitecheck.bearing import (
     IN_LINE,
     Beam,
     BearingInput,
@@ -36,8 +36,8 @@ from .bearing import (
     check_bearing,
     ec6_uk_na,
 )
-from .bearing.remedy import STANDARD_CLASSES, STANDARD_PADSTONES, remedy
-from .bearing.review import (
+from sitecheck.bearing.remedy import STANDARD_CLASSES, STANDARD_PADSTONES, remedy
+from sitecheck.bearing.review import (
     ReviewSettings,
     as_built_input,
     blocking,
@@ -45,7 +45,7 @@ from .bearing.review import (
     review,
     settings_from_dict,
 )
-from .bearing.serial import (
+from sitecheck.bearing.serial import (
     checklist_from_dict,
     input_from_dict,
     input_to_dict,

@@ -4,34 +4,34 @@ import hashlib
 
 import pytest
 
-from sitecheck import auth
+from sitecheck import credentials
 
 
 @pytest.fixture(scope="module")
 def stored_hash():
     # scrypt is slow by design; hash once for the module.
-    return auth.hash_password("correct horse battery")
+    return credentials.hash_password("correct horse battery")
 
 
 def test_passwords_are_hashed_with_scrypt(stored_hash):
     assert stored_hash.startswith("scrypt:")
     assert "correct horse battery" not in stored_hash
-    assert auth.check_password(stored_hash, "correct horse battery")
-    assert not auth.check_password(stored_hash, "correct horse battery ")
-    assert not auth.check_password(stored_hash, "Correct horse battery")
+    assert credentials.check_password(stored_hash, "correct horse battery")
+    assert not credentials.check_password(stored_hash, "correct horse battery ")
+    assert not credentials.check_password(stored_hash, "Correct horse battery")
 
 
 def test_the_same_password_from_another_keyboard_still_matches():
     composed = "caf\u00e9 au lait 2026"
     decomposed = "cafe\u0301 au lait 2026"
     assert composed != decomposed
-    assert auth.check_password(auth.hash_password(composed), decomposed)
+    assert credentials.check_password(credentials.hash_password(composed), decomposed)
 
 
 def test_unknown_accounts_are_checked_against_a_dummy_hash(stored_hash):
-    assert auth.verify_login(None, "correct horse battery") is False
-    assert auth.verify_login(stored_hash, "correct horse battery") is True
-    assert auth.verify_login(stored_hash, "wrong horse battery") is False
+    assert credentials.verify_login(None, "correct horse battery") is False
+    assert credentials.verify_login(stored_hash, "correct horse battery") is True
+    assert credentials.verify_login(stored_hash, "wrong horse battery") is False
 
 
 @pytest.mark.parametrize(
@@ -48,7 +48,7 @@ def test_unknown_accounts_are_checked_against_a_dummy_hash(stored_hash):
     ],
 )
 def test_password_policy_refuses(password, problem):
-    assert problem in auth.password_problem(password, email="Ann.Smith@example.test")
+    assert problem in credentials.password_problem(password, email="Ann.Smith@example.test")
 
 
 @pytest.mark.parametrize(
@@ -62,25 +62,25 @@ def test_password_policy_refuses(password, problem):
     ],
 )
 def test_password_policy_accepts(password):
-    assert auth.password_problem(password) is None
+    assert credentials.password_problem(password) is None
 
 
 def test_common_password_list_is_a_fair_size_and_long_enough_to_matter():
-    assert len(auth.COMMON_PASSWORDS) >= 50
-    assert len(set(auth.COMMON_PASSWORDS)) == len(auth.COMMON_PASSWORDS)
-    assert all(len(p) >= auth.PASSWORD_MIN for p in auth.COMMON_PASSWORDS)
+    assert len(credentials.COMMON_PASSWORDS) >= 50
+    assert len(set(credentials.COMMON_PASSWORDS)) == len(credentials.COMMON_PASSWORDS)
+    assert all(len(p) >= credentials.PASSWORD_MIN for p in credentials.COMMON_PASSWORDS)
 
 
 def test_session_tokens_are_random_and_only_their_hash_is_stored():
-    first, second = auth.new_session_token(), auth.new_session_token()
+    first, second = credentials.new_session_token(), credentials.new_session_token()
     assert first.token != second.token
     assert len(first.token) >= 43  # 32 random bytes in URL-safe base64
     assert first.session_id == hashlib.sha256(first.token.encode()).hexdigest()
-    assert auth.session_id_for(first.token) == first.session_id
+    assert credentials.session_id_for(first.token) == first.session_id
     assert len(first.session_id) == 64 and first.token not in first.session_id
 
 
-RULE = auth.ThrottleRule(free=5, first_wait_s=2, max_wait_s=900)
+RULE = credentials.ThrottleRule(free=5, first_wait_s=2, max_wait_s=900)
 
 
 @pytest.mark.parametrize(
@@ -100,12 +100,12 @@ RULE = auth.ThrottleRule(free=5, first_wait_s=2, max_wait_s=900)
     ],
 )
 def test_throttle_wait_grows_and_runs_out(failures, since_s, wait):
-    assert auth.throttle_wait(failures, since_s, RULE) == wait
+    assert credentials.throttle_wait(failures, since_s, RULE) == wait
 
 
 def test_throttle_wait_refuses_a_negative_count():
     with pytest.raises(ValueError, match="negative"):
-        auth.throttle_wait(-1, 0, RULE)
+        credentials.throttle_wait(-1, 0, RULE)
 
 
 @pytest.mark.parametrize(
@@ -113,4 +113,4 @@ def test_throttle_wait_refuses_a_negative_count():
     [(1, "1 second"), (2, "2 seconds"), (89, "89 seconds"), (90, "2 minutes"), (900, "15 minutes")],
 )
 def test_wait_words(seconds, words):
-    assert auth.wait_words(seconds) == words
+    assert credentials.wait_words(seconds) == words

@@ -22,8 +22,7 @@ from flask_wtf import FlaskForm
 from wtforms import EmailField, PasswordField, StringField
 from wtforms.validators import DataRequired, Length, Regexp
 
-from sitecheck import auth as accounts
-from sitecheck import store
+from sitecheck import credentials, store
 from sitecheck.web import get_db
 
 bp = Blueprint("auth", __name__)
@@ -54,12 +53,13 @@ def load_user() -> None:
     if not token or request.path.startswith("/static/"):
         return
     db = get_db()
-    sid = accounts.session_id_for(token)
+    sid = credentials.session_id_for(token)
     user = store.get_session_user(db, sid)
     if user is None:
         session.pop(SESSION_KEY, None)
         return
-    store.touch_session(db, sid)
+    # Given when it was last marked, the store writes only once a minute, not every request.
+    store.touch_session(db, sid, seen_at=user.pop("session_seen_at"))
     g.user = user
 
 
@@ -98,23 +98,23 @@ def change_password():
     if form.validate_on_submit():
         db = get_db()
         cred = store.login_credentials(db, g.user["email"])
-        if not accounts.verify_login(cred["password_hash"] if cred else None, form.current.data):
+        if not credentials.verify_login(cred["password_hash"] if cred else None, form.current.data):
             form.current.errors.append("That is not your password now. Nothing was changed.")
         elif form.new.data != form.again.data:
             form.again.errors.append("The two new passwords differ. Type the same one twice.")
         elif form.new.data == form.current.data:
             form.new.errors.append("Choose a password other than the one you have now.")
-        elif problem := accounts.password_problem(form.new.data, email=g.user["email"]):
+        elif problem := credentials.password_problem(form.new.data, email=g.user["email"]):
             form.new.errors.append(problem)
         else:
             # Every session of the account ends (a stolen one too); this one starts afresh.
             store.set_password_hash(
                 db,
                 user_id=g.user["id"],
-                password_hash=accounts.hash_password(form.new.data),
+                password_hash=credentials.hash_password(form.new.data),
                 by_user_id=g.user["id"],
             )
-            token = accounts.new_session_token()
+            token = credentials.new_session_token()
             store.create_session(db, session_id=token.session_id, user_id=g.user["id"])
             session.clear()
             session[SESSION_KEY] = token.token
@@ -126,7 +126,7 @@ def change_password():
         "password.html",
         form=form,
         must=bool(g.user.get("must_change_password")),
-        min_length=accounts.PASSWORD_MIN,
+        min_length=credentials.PASSWORD_MIN,
     ), status
 
 
@@ -141,7 +141,7 @@ def join(token):
     """A single-use invitation link: a new address makes its account here (proving the
     address, since the link went to it); an address that has an account logs in instead."""
     db = get_db()
-    token_hash = accounts.link_token_hash(token)
+    token_hash = credentials.link_token_hash(token)
     link = store.open_link(db, token_hash=token_hash, purpose=store.INVITATION)
     if link is None:
         return _join_page(None, None, 410)
@@ -153,7 +153,7 @@ def join(token):
         return _join_page(link, invitation, 400 if form.errors else 200, form=form)
     if form.new.data != form.again.data:
         form.again.errors.append("The two passwords differ. Type the same one twice.")
-    elif problem := accounts.password_problem(form.new.data, email=link["email"]):
+    elif problem := credentials.password_problem(form.new.data, email=link["email"]):
         form.new.errors.append(problem)
     if form.errors.get("new") or form.again.errors:
         return _join_page(link, invitation, 400, form=form)
@@ -166,13 +166,13 @@ def join(token):
                 db,
                 email=used["email"],
                 name=form.name.data.strip(),
-                password_hash=accounts.hash_password(form.new.data),
+                password_hash=credentials.hash_password(form.new.data),
             )
     except store.NotFound:
         return _join_page(None, None, 410)
     except store.DuplicateEmail:
         return _join_page(link, invitation, 409, has_account=True)
-    session_token = accounts.new_session_token()
+    session_token = credentials.new_session_token()
     store.create_session(db, session_id=session_token.session_id, user_id=user["id"])
     store.add_event(db, kind="log-in", user_id=user["id"], detail={"by": "invitation link"})
     session.clear()
@@ -190,7 +190,7 @@ def _join_page(link, invitation, status: int, *, form=None, has_account=False):
             invitation=invitation,
             form=form,
             has_account=has_account,
-            min_length=accounts.PASSWORD_MIN,
+            min_length=credentials.PASSWORD_MIN,
         ),
         status,
     )
@@ -218,13 +218,13 @@ def login():
                 form=form,
                 error=(
                     "Too many failed log-ins from here. Wait "
-                    f"{accounts.wait_words(wait)}, then try again; each further failure "
+                    f"{credentials.wait_words(wait)}, then try again; each further failure "
                     "makes the wait longer."
                 ),
             )
             return body, 429, {"Retry-After": str(wait)}
         cred = store.login_credentials(db, email)
-        ok = accounts.verify_login(cred["password_hash"] if cred else None, form.password.data)
+        ok = credentials.verify_login(cred["password_hash"] if cred else None, form.password.data)
         if ok and cred and cred["disabled"]:
             ok = False
         store.record_login_attempt(db, email=email, remote_addr=remote, ok=ok)
@@ -237,13 +237,15 @@ def login():
                 form=form,
                 error="That e-mail and password do not match an active account.",
             ), 401
-        token = accounts.new_session_token()
+        token = credentials.new_session_token()
         store.create_session(db, session_id=token.session_id, user_id=cred["id"])
         store.add_event(db, kind="log-in", user_id=cred["id"], detail={"remote_addr": remote})
         session.clear()  # a fresh cookie at log-in: no fixation
         session[SESSION_KEY] = token.token
         session.permanent = True
-        return redirect(accounts.same_site_path(request.args.get("next")) or url_for("pages.home"))
+        return redirect(
+            credentials.same_site_path(request.args.get("next")) or url_for("pages.home")
+        )
     status = 400 if form.errors else 200
     return render_template("login.html", form=form, error=None), status
 
@@ -261,7 +263,7 @@ def _log_in_wait(db, email: str, remote: str) -> int:
     ):
         if failed.last_at is not None:
             since = (now - datetime.fromisoformat(failed.last_at)).total_seconds()
-            waits.append(accounts.throttle_wait(failed.count, since, rule))
+            waits.append(credentials.throttle_wait(failed.count, since, rule))
     return max(waits)
 
 
@@ -270,7 +272,7 @@ def logout():
     token = session.get(SESSION_KEY)
     if token:
         db = get_db()
-        store.revoke_session(db, accounts.session_id_for(token))
+        store.revoke_session(db, credentials.session_id_for(token))
         if g.user is not None:
             store.add_event(db, kind="log-out", user_id=g.user["id"])
     session.clear()

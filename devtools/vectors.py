@@ -11,7 +11,7 @@ replays each case through ``static/js/bearing/`` and compares. Format 1:
   ``basis_from_dict`` raises for a refused basis), ``raises`` the ``as_dict()`` of the
   error ``check_bearing`` raises, which for an input that only a formula refuses (a unit
   with no K value, say) is not among ``expect``.
-* ``review``, ``remedy``: from :mod:`sitecheck.vectors_review`.
+* ``review``, ``remedy``: from :mod:`devtools.vectors_review`.
 
 Inputs are invented, seeded and varied; they are for holding two engines equal, not
 reference values. Each input goes through ``input_from_dict`` first, so it has the types
@@ -20,22 +20,32 @@ the server would give it. Not a part of the core: it may call it, and nothing el
 
 from __future__ import annotations
 
+import argparse
 import gzip
 import json
 import random
+import sys
 from collections.abc import Callable
 from pathlib import Path
 
-from .bearing import ACROSS, IN_LINE, InputError, basis_from_dict, check_bearing, input_errors
-from .bearing.basis import bs5628, ec6_uk_na
-from .bearing.serial import input_from_dict, input_to_dict
-from .vectors_review import remedy_vectors, review_vectors
+from devtools.vectors_review import remedy_vectors, review_vectors
+from sitecheck.bearing import (
+    ACROSS,
+    IN_LINE,
+    InputError,
+    basis_from_dict,
+    check_bearing,
+    input_errors,
+)
+from sitecheck.bearing.basis import bs5628, ec6_uk_na
+from sitecheck.bearing.serial import input_from_dict, input_to_dict
 
 FORMAT = 1
 TOLERANCE = 1e-9
 SEED = 5
 RANDOM_CHECKS = 340
 DEFAULT_PATH = Path("tests") / "vectors" / "bearing-vectors.json.gz"
+REWRITE = "python -m devtools.vectors --out"
 
 
 def build_vectors() -> dict:
@@ -747,7 +757,7 @@ def _error_case(case_id: str, basis: dict, data: dict) -> dict:
 
 def _raw_input(data: dict):
     """A BearingInput holding the dict's values as they are, types and all."""
-    from .bearing.inputs import Beam, BearingInput, Load, Masonry, Padstone, Wall
+    from sitecheck.bearing.inputs import Beam, BearingInput, Load, Masonry, Padstone, Wall
 
     pad = data.get("padstone")
     top = {k: data[k] for k in ("bearing_type", "e_mk", "phi_m", "beta_s") if k in data}
@@ -976,3 +986,43 @@ def _named_errors() -> list[tuple[str, dict, dict]]:
     add("e-mk-infinite", change("top", e_mk=float("inf")))
     add("e-mk-half-the-wall", change("top", e_mk=107.5))
     return out
+
+
+def main(argv: list[str] | None = None) -> int:
+    """``python -m devtools.vectors --out FILE`` writes the vectors; ``--check FILE`` exits 1
+    when the file differs from what the core makes now (and says where)."""
+    parser = argparse.ArgumentParser(
+        prog="python -m devtools.vectors",
+        description="Write or compare the shared test vectors of the browser's mirror.",
+    )
+    what = parser.add_mutually_exclusive_group(required=True)
+    what.add_argument("--out", type=Path, help="write the vectors to this file")
+    what.add_argument(
+        "--check", type=Path, help="exit 1 if this file differs from freshly made vectors"
+    )
+    args = parser.parse_args(argv)
+    if args.out is not None:
+        text = write(args.out)
+        size = args.out.stat().st_size
+        print(
+            f"Vectors written to {args.out} ({len(text) / 1e6:.1f} MB of JSON, {size / 1e6:.2f} MB on disk)"
+        )
+        return 0
+    try:
+        kept = json.loads(read_text(args.check))
+    except (OSError, EOFError, UnicodeDecodeError, ValueError) as e:
+        print(f"devtools.vectors: cannot read {args.check}: {e}", file=sys.stderr)
+        return 2
+    found = differences(kept, json.loads(dumps(build_vectors())))
+    if not found:
+        print(f"{args.check} is up to date")
+        return 0
+    print(f"{args.check} differs from the vectors the core makes now:")
+    for line in found:
+        print(f"  {line}")
+    print(f"Rewrite it with: {REWRITE} {args.check}")
+    return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,7 +1,7 @@
 """Account primitives: password hashing and policy, session and link tokens, log-in
 slowing, and where a log-in may send you afterwards.
 
-No Flask here: the sign-in views call these and ``sitecheck.store``.
+No Flask here: the log-in views (sitecheck.web.login) call these and ``sitecheck.store``.
 """
 
 import functools

@@ -1,0 +1,1 @@
+"""Tools for developers of sitecheck: not part of the installed package."""

@@ -1,0 +1,161 @@
+"""The layer table of DEVELOPERS.md is the contract: the code imports only what it allows,
+every room of the package has a row, and no circle runs between rooms. Only the store speaks
+SQL. The checkers are tried on small packages of their own first, so a pass means something."""
+
+from __future__ import annotations
+
+import textwrap
+from pathlib import Path
+
+import pytest
+
+from devtools.layers import (
+    PACKAGE,
+    ROOT,
+    allowed_edges,
+    circles,
+    declared_layers,
+    every_use,
+    room_edges,
+    room_of,
+    sql_spoken,
+)
+
+LAYERS = declared_layers((ROOT / "DEVELOPERS.md").read_text(encoding="utf-8"))
+ALLOWED = allowed_edges(LAYERS)
+
+
+def forbidden_uses(package: Path, allowed: dict[str, frozenset[str]]) -> list[str]:
+    offences = []
+    for use in every_use(package):
+        if use.target == "?":
+            offences.append(f"{use.module}:{use.line} imports a module named at run time")
+            continue
+        if not use.target.startswith(package.name + "."):
+            continue
+        room, target = room_of(use.module), room_of(use.target)
+        if target != room and target not in allowed.get(room, frozenset()):
+            offences.append(f"{use.module}:{use.line} imports {use.target}")
+    return offences
+
+
+def rooms_in(package: Path) -> set[str]:
+    return {
+        path.relative_to(package).parts[0].removesuffix(".py")
+        for path in package.rglob("*.py")
+        if path.relative_to(package) != Path("__init__.py")
+    }
+
+
+def write_package(tmp_path: Path, files: dict[str, str]) -> Path:
+    package = tmp_path / "sitecheck"
+    for name, text in files.items():
+        path = package / name
+        path.parent.mkdir(parents=True, exist_ok=True)
+        path.write_text(textwrap.dedent(text), encoding="utf-8")
+    return package
+
+
+# --- the checkers catch what they are for ---------------------------------------------------
+
+
+def test_the_contract_checker_catches_an_upward_import_and_a_module_chosen_at_run_time(tmp_path):
+    table = """\
+        ## Layout
+        | path | what | may import |
+        | --- | --- | --- |
+        | `sitecheck/web/` | views | everything below |
+        | `sitecheck/services.py` | acts | store (and nothing else) |
+        | `sitecheck/store/` | SQL | — |
+        """
+    allowed = allowed_edges(declared_layers(textwrap.dedent(table)))
+    assert allowed == {
+        "web": {"services", "store"},
+        "services": {"store"},
+        "store": frozenset(),
+    }
+    package = write_package(
+        tmp_path,
+        {
+            "__init__.py": "",
+            "web/__init__.py": "from sitecheck import services, store\n",
+            "services.py": "from .store import rows\n",
+            "store/__init__.py": "def rows():\n    from sitecheck.web import app\n",
+            "store/more.py": "import importlib\nimportlib.import_module(name)\n",
+        },
+    )
+    assert forbidden_uses(package, allowed) == [
+        "sitecheck.store:2 imports sitecheck.web",
+        "sitecheck.store.more:2 imports a module named at run time",
+    ]
+    assert circles(room_edges(every_use(package))) == [["services", "store", "web"]]
+
+
+def test_the_sql_checker_sees_imports_names_and_calls(tmp_path):
+    path = tmp_path / "views.py"
+    path.write_text(
+        textwrap.dedent(
+            """\
+            import importlib
+            from sqlite_utils import Database
+            def page(db):
+                db.execute("SELECT 1")
+                db.conn.executescript("")
+                importlib.import_module("sqlite3")
+                return {"count": 1}.get("count")
+            def opened(sqlite3_module):
+                return sqlite3.connect(":memory:")
+            """
+        ),
+        encoding="utf-8",
+    )
+    assert sorted(sql_spoken(path)) == [
+        "2: imports sqlite_utils",
+        "4: calls .execute()",
+        "5: calls .executescript()",
+        "6: imports sqlite3",
+        "9: uses sqlite3",
+    ]
+
+
+# --- the package keeps the contract -----------------------------------------------------------
+
+
+def test_every_room_of_the_package_has_one_row_of_the_layer_table():
+    rows = [room for layer in LAYERS for room in layer.rooms]
+    assert len(rows) == len(set(rows)), "a room stands in two rows"
+    assert rooms_in(PACKAGE) == set(rows)
+
+
+def test_imports_point_only_where_the_layer_table_allows():
+    assert forbidden_uses(PACKAGE, ALLOWED) == []
+
+
+def test_every_room_a_row_names_is_read_so_the_table_says_no_more_than_the_code():
+    edges = room_edges(every_use(PACKAGE))
+    unread = [
+        f"{'/'.join(sorted(layer.rooms))} may import {named} but does not"
+        for layer in LAYERS
+        if layer.may_import is not None
+        for named in sorted(layer.may_import)
+        if not any(named in edges.get(room, ()) for room in layer.rooms)
+    ]
+    assert unread == []
+
+
+def test_no_circle_runs_between_rooms():
+    assert circles(room_edges(every_use(PACKAGE))) == []
+
+
+@pytest.mark.parametrize(
+    "path",
+    sorted(
+        p
+        for folder in (PACKAGE, ROOT / "devtools")
+        for p in folder.rglob("*.py")
+        if p.relative_to(ROOT).parts[:2] != ("sitecheck", "store")
+    ),
+    ids=lambda p: p.relative_to(ROOT).as_posix(),
+)
+def test_only_the_store_speaks_sql(path):
+    assert sql_spoken(path) == []
