@@ -10,8 +10,9 @@ sets a pass/fail limit is a field here, shown to the engineer and overridable pe
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field, fields, replace
+from typing import Any, TypeGuard
 
 from .errors import InputError
 from .format import number
@@ -66,7 +67,9 @@ _K_UK_GENERAL = {
 }
 
 
-def _k_table(general: dict, thin: dict) -> tuple[tuple[str, float], ...]:
+def _k_table(
+    general: dict[tuple[str, int], float], thin: dict[tuple[str, int], float]
+) -> tuple[tuple[str, float], ...]:
     rows = [(_k_key(m, g, "general"), k) for (m, g), k in general.items()]
     rows += [(_k_key(m, g, "thin-layer"), k) for (m, g), k in thin.items()]
     return tuple(sorted(rows))
@@ -189,8 +192,8 @@ class CodeBasis:
     def gamma_m_for(self, manufacturing: str, construction: str) -> float | None:
         return dict(self.gamma_m_bs).get(f"{manufacturing}|{construction}")
 
-    def to_dict(self) -> dict:
-        out = {}
+    def to_dict(self) -> dict[str, Any]:
+        out: dict[str, Any] = {}
         for f in fields(self):
             v = getattr(self, f.name)
             out[f.name] = dict(v) if f.name in _TABLE_FIELDS else v
@@ -201,18 +204,18 @@ class CodeBasis:
 _TABLE_FIELDS = ("k_values", "gamma_M_ec6", "gamma_m_bs", "creep_lambda_c", "creep_phi_inf")
 
 
-def ec6_uk_na(**overrides) -> CodeBasis:
+def ec6_uk_na(**overrides: Any) -> CodeBasis:
     """EN 1996-1-1 and EN 1992-1-1 with the UK National Annexes' values (as labelled)."""
     return replace(CodeBasis(name=EC6_UK), **_coerce(overrides))
 
 
-def bs5628(**overrides) -> CodeBasis:
+def bs5628(**overrides: Any) -> CodeBasis:
     """BS 5628-1 permissible local bearing with 45° dispersion, for existing buildings."""
     base = CodeBasis(name=BS5628, masonry_spread_deg=45.0)
     return replace(base, **_coerce(overrides))
 
 
-def basis_named(name: str, **overrides) -> CodeBasis:
+def basis_named(name: str, **overrides: Any) -> CodeBasis:
     if name == EC6_UK:
         return ec6_uk_na(**overrides)
     if name == BS5628:
@@ -220,14 +223,14 @@ def basis_named(name: str, **overrides) -> CodeBasis:
     raise InputError("basis", name, f"one of {', '.join(BASES)}", "bad-choice")
 
 
-def basis_from_dict(data: dict) -> CodeBasis:
+def basis_from_dict(data: Mapping[str, Any]) -> CodeBasis:
     """Rebuild a basis saved with :meth:`CodeBasis.to_dict` (unknown keys are refused)."""
     data = dict(data)
     name = data.pop("name", EC6_UK)
     return basis_named(name, **data)
 
 
-def _coerce(overrides: dict) -> dict:
+def _coerce(overrides: dict[str, Any]) -> dict[str, Any]:
     """Tables given as dicts become the basis's sorted tuples; numbers stay as given (a
     text or a NaN is the validation's to name, not a float() call's to crash on)."""
     known = {f.name for f in fields(CodeBasis)}
@@ -243,7 +246,7 @@ def _coerce(overrides: dict) -> dict:
     return out
 
 
-def _is_number(value: object) -> bool:
+def _is_number(value: object) -> TypeGuard[float]:
     return isinstance(value, (int, float)) and not isinstance(value, bool)
 
 

@@ -152,6 +152,8 @@ def padstone_bearing(inp: BearingInput, lay: Layout, st: Strengths, basis: CodeB
     allows it: 6.7(4) asks for reinforcement to carry the transverse tension the spread
     sets up, and plain concrete has none [ours, the cautious reading].
     """
+    # Checked only where there is a padstone, which then has an f_cd.
+    assert inp.padstone is not None and st.f_cd is not None
     b1 = lay.x1 - lay.x0
     d1 = lay.y1 - lay.y0
     a_c0 = b1 * d1
@@ -540,9 +542,9 @@ def _ec6_beta_steps(
 
 def spreader_conditions(inp: BearingInput, basis: CodeBasis) -> str | None:
     """The description of a padstone that counts as a spreader, or None."""
-    if not is_spreader(inp, basis):
-        return None
     pad = inp.padstone
+    if pad is None or not is_spreader(inp, basis):
+        return None
     bearing_along = _bearing_along(inp)
     return (
         f"width t, depth {number(pad.depth)} > {number(basis.spreader_min_depth)} mm, "

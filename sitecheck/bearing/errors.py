@@ -18,7 +18,7 @@ class InputError(ValueError):
         self.code = code
         super().__init__(f"{field} = {value!r}: {expected}")
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> dict[str, object]:
         return {
             "field": self.field,
             "value": self.value,

@@ -54,7 +54,7 @@ def shown_unit(unit: str) -> str:
     return _SHOWN.get(unit, (unit, 1.0))[0]
 
 
-def quantity(x: object, unit: str = "") -> str:
+def quantity(x: float | str | None, unit: str = "") -> str:
     """A value with its unit as a person reads it: ``quantity(60000.0, "N")`` is "60 kN".
     Text passes through (a mortar class, say); None is a dash."""
     if x is None:

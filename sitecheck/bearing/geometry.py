@@ -129,6 +129,7 @@ def padstone_y0(pad: Padstone, width: float, t: float, across: bool) -> float:
     if position == "far-face":
         return room
     if position == "offset":
+        assert pad.offset_across is not None  # validation asks for it with "offset"
         # Validation allowed half a millimetre of measurement rounding past either face.
         return min(max(room / 2 + pad.offset_across, 0.0), room)
     return room / 2

@@ -3,14 +3,16 @@ bearing length that passes. A hint for the engineer, never an instruction."""
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass, replace
 from itertools import permutations
+from typing import Any
 
 from .basis import CodeBasis
 from .errors import InputError
 from .format import number, utilisation
 from .geometry import layout, padstone_y0
-from .inputs import ACROSS, BearingInput, Padstone
+from .inputs import ACROSS, Beam, BearingInput, Padstone
 from .recheck import check_bearing
 
 # Common precast padstone sizes, L × B × h in mm (merchant listings [P], [CP]).
@@ -47,7 +49,7 @@ class Remedy:
             )
         return "; or ".join(parts) or "no standard padstone or longer bearing passes: redesign"
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> dict[str, Any]:
         pad = self.padstone
         return {
             "padstone": None
@@ -115,7 +117,9 @@ def as_built_in(inp: BearingInput) -> BearingInput:
     return replace(inp, beam=replace(beam, offset_along=along, offset_across=across))
 
 
-def _placements(inp: BearingInput, sizes) -> list[tuple[float, float, float]]:
+def _placements(
+    inp: BearingInput, sizes: Iterable[tuple[float, float, float]]
+) -> list[tuple[float, float, float]]:
     """Each standard size in every way it can be laid whose width fits the wall and that
     holds the beam's footprint; smallest volume first, then shallowest."""
     t = inp.wall.thickness
@@ -123,7 +127,7 @@ def _placements(inp: BearingInput, sizes) -> list[tuple[float, float, float]]:
     across = beam.orientation == ACROSS
     foot_along = beam.flange_width if across else beam.bearing_length
     foot_across = beam.bearing_length if across else beam.flange_width
-    seen = set()
+    seen: set[tuple[float, float, float]] = set()
     for size in sizes:
         for L, B, h in permutations(size):
             if B > t or L < foot_along or B < foot_across or (L, B, h) in seen:
@@ -174,7 +178,12 @@ def _with_padstone(
     return replace(inp, padstone=pad, beam=beam, wall=replace(wall, a1=a1, a2=a2))
 
 
-def smallest_padstone(inp, basis, sizes=STANDARD_PADSTONES, classes=STANDARD_CLASSES):
+def smallest_padstone(
+    inp: BearingInput,
+    basis: CodeBasis,
+    sizes: Iterable[tuple[float, float, float]] = STANDARD_PADSTONES,
+    classes: Iterable[str] = STANDARD_CLASSES,
+) -> tuple[Padstone | None, float | None]:
     for L, B, h in _placements(inp, sizes):
         for concrete in classes:
             candidate = _with_padstone(inp, L, B, h, concrete)
@@ -189,7 +198,7 @@ def smallest_padstone(inp, basis, sizes=STANDARD_PADSTONES, classes=STANDARD_CLA
     return None, None
 
 
-def _lengthened(beam, pad: Padstone | None, length: float):
+def _lengthened(beam: Beam, pad: Padstone | None, length: float) -> Beam:
     """The beam bearing ``length``, its near edge where it was: the end a beam across the
     wall comes in at the near face, the span end of one in line."""
     grow = length - beam.bearing_length
@@ -200,7 +209,9 @@ def _lengthened(beam, pad: Padstone | None, length: float):
     return replace(beam, bearing_length=length)
 
 
-def shortest_bearing(inp: BearingInput, basis: CodeBasis, step: float = 5.0):
+def shortest_bearing(
+    inp: BearingInput, basis: CodeBasis, step: float = 5.0
+) -> tuple[float | None, float | None]:
     """The shortest bearing, from the present one up in ``step`` mm, that passes."""
     beam, pad = inp.beam, inp.padstone
     if pad is not None:

@@ -12,8 +12,10 @@ Thresholds and tolerances are site settings with defaults of ours, not code valu
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, fields
 from operator import attrgetter
+from typing import Any, TypeVar
 
 from .basis import BS5628, CodeBasis
 from .checks import is_spreader
@@ -99,16 +101,16 @@ class ReviewSettings:
         "padstone_depth",
     )
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> dict[str, Any]:
         out = {f.name: getattr(self, f.name) for f in fields(self)}
         out["required"] = list(self.required)
         out["required_with_padstone"] = list(self.required_with_padstone)
         return out
 
 
-def settings_from_dict(data: dict) -> ReviewSettings:
+def settings_from_dict(data: Mapping[str, Any]) -> ReviewSettings:
     known = {f.name for f in fields(ReviewSettings)}
-    clean = {}
+    clean: dict[str, Any] = {}
     for key, value in data.items():
         if key not in known:
             raise InputError(f"review.{key}", value, "a known review setting", "unknown-field")
@@ -123,7 +125,7 @@ class ReviewReason:
     sentence: str
     values: tuple[tuple[str, object], ...] = ()
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> dict[str, Any]:
         return {
             "code": self.code,
             "severity": self.severity,
@@ -212,7 +214,7 @@ def as_built_input(design: BearingInput, m: Measurements) -> BearingInput:
 
 # The "offset" position clears nothing; any other clears a designed offset. Written as the
 # (field, value) pairs _measured takes, with a marker for "clear it".
-def _position_measured(m: Measurements) -> tuple:
+def _position_measured(m: Measurements) -> tuple[tuple[str, object], ...]:
     position, offset = m.padstone_position or None, m.padstone_offset_across
     if position is None and offset is None:
         return ()
@@ -226,12 +228,15 @@ def _position_measured(m: Measurements) -> tuple:
 
 _CLEAR = object()
 
+# The input classes whose values a measurement may replace.
+_Input = TypeVar("_Input", Beam, Padstone, Wall, Masonry, BearingInput)
 
-def _measured(obj, measured: tuple):
+
+def _measured(obj: _Input, measured: tuple[tuple[str, object], ...]) -> _Input:
     """``obj`` with each measured (name, value) in its place, None being not measured; or
     ``obj`` itself when every measured value is its own: most measurements confirm the
     design, and building an equal object for each costs more than the arithmetic."""
-    changed = []
+    changed: list[tuple[str, object]] = []
     for name, value in measured:
         if value is None:
             continue
@@ -246,7 +251,7 @@ def _measured(obj, measured: tuple):
     return _rebuilt(obj, changed) if changed else obj
 
 
-def _rebuilt(obj, changes):
+def _rebuilt(obj: _Input, changes: Iterable[tuple[str, object]]) -> _Input:
     """``obj`` with the (name, value) changes, as :func:`dataclasses.replace` makes it but
     with the fields passed by position: replace looks through every field's options and
     passes them all by keyword, which costs as much again as building the object. The
@@ -258,7 +263,7 @@ def _rebuilt(obj, changes):
     return type(obj)(*values)
 
 
-def _field_access(cls: type) -> tuple[tuple[str, ...], attrgetter]:
+def _field_access(cls: type) -> tuple[tuple[str, ...], attrgetter[Any]]:
     names = tuple(f.name for f in fields(cls))
     return names, attrgetter(*names)
 
@@ -468,7 +473,9 @@ def _dimension_reasons(
     return out
 
 
-def _dimension_pairs(design: BearingInput, as_built: BearingInput) -> dict:
+def _dimension_pairs(
+    design: BearingInput, as_built: BearingInput
+) -> dict[str, tuple[float | None, float | None]]:
     dp, ap = design.padstone, as_built.padstone
     pairs = {
         "bearing_length": (design.beam.bearing_length, as_built.beam.bearing_length),
@@ -539,7 +546,12 @@ def _describe(m: Masonry) -> str:
     return f"{m.material} Group {m.group}{strength} units in {m.mortar} mortar{joint}"
 
 
-def _material_reasons(design, design_result, as_built, result) -> list[ReviewReason]:
+def _material_reasons(
+    design: BearingInput,
+    design_result: BearingResult,
+    as_built: BearingInput,
+    result: BearingResult,
+) -> list[ReviewReason]:
     out = []
     dm, am = design.masonry, as_built.masonry
     changed = (dm.material, dm.group, dm.unit_strength, dm.mortar) != (
@@ -625,7 +637,9 @@ def _checklist_reasons(c: Checklist, s: ReviewSettings) -> list[ReviewReason]:
     return out
 
 
-def _bearing_type_reasons(design, as_built, design_result, s) -> list[ReviewReason]:
+def _bearing_type_reasons(
+    design: BearingInput, as_built: BearingInput, design_result: BearingResult, s: ReviewSettings
+) -> list[ReviewReason]:
     """BS 5628-1 bearing types 2 and 3 rest on the geometry of the bearing (its end
     distance, length and spreader). When that geometry changes beyond tolerance the type
     chosen at design may no longer hold; the engineer must confirm it."""
@@ -637,7 +651,9 @@ def _bearing_type_reasons(design, as_built, design_result, s) -> list[ReviewReas
     if abs(design.beam.bearing_length - as_built.beam.bearing_length) > s.tol_bearing_length:
         changed.append("bearing length")
     if (design.wall.a1 is None) != (as_built.wall.a1 is None) or (
-        design.wall.a1 is not None and abs(design.wall.a1 - as_built.wall.a1) > s.tol_end_distance
+        design.wall.a1 is not None
+        and as_built.wall.a1 is not None
+        and abs(design.wall.a1 - as_built.wall.a1) > s.tol_end_distance
     ):
         changed.append("end distance")
     if (

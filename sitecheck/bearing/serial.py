@@ -7,12 +7,25 @@ naming the field, so a stored or sent input can never quietly change shape.
 from __future__ import annotations
 
 from dataclasses import asdict, fields
+from typing import TYPE_CHECKING, Any, TypeVar
 
 from .errors import InputError
 from .inputs import Beam, BearingInput, Load, Masonry, Padstone, Wall
 from .review import Checklist, Measurements, as_built_input
 
-_PARTS = {"load": Load, "beam": Beam, "wall": Wall, "masonry": Masonry, "padstone": Padstone}
+if TYPE_CHECKING:
+    from _typeshed import DataclassInstance
+
+# What _build makes: an input class, a Measurements or a Checklist.
+_Built = TypeVar("_Built", bound="DataclassInstance")
+
+_PARTS: dict[str, type[DataclassInstance]] = {
+    "load": Load,
+    "beam": Beam,
+    "wall": Wall,
+    "masonry": Masonry,
+    "padstone": Padstone,
+}
 # Inputs this version no longer has, still found in designs stored before it (and in site
 # packs on phones): read and dropped, as nothing is computed from them. ``precast`` was
 # carried but used by no check; a padstone is now plain unless ``reinforced``.
@@ -20,18 +33,19 @@ _RETIRED = {"padstone": ("precast",)}
 _TOP_LEVEL = ("bearing_type", "e_mk", "phi_m", "beta_s")
 
 
-def input_to_dict(inp: BearingInput) -> dict:
+def input_to_dict(inp: BearingInput) -> dict[str, Any]:
     return asdict(inp)
 
 
-def input_from_dict(data: dict) -> BearingInput:
+def input_from_dict(data: dict[str, Any]) -> BearingInput:
     if not isinstance(data, dict):
         raise InputError("design", data, "an object with load, beam, wall and masonry", "bad-shape")
     unknown = set(data) - set(_PARTS) - set(_TOP_LEVEL)
     if unknown:
         name = sorted(unknown)[0]
         raise InputError(name, data[name], "a known part of a bearing input", "unknown-field")
-    parts = {}
+    # Each value's type is checked as it is read; BearingInput takes them as they come.
+    parts: dict[str, Any] = {}
     for name, cls in _PARTS.items():
         value = data.get(name)
         if value is None:
@@ -42,29 +56,31 @@ def input_from_dict(data: dict) -> BearingInput:
         if isinstance(value, dict) and name in _RETIRED:
             value = {k: v for k, v in value.items() if k not in _RETIRED[name]}
         parts[name] = _build(cls, value, name)
-    top = {}
+    top: dict[str, Any] = {}
     for name in _TOP_LEVEL:
         if data.get(name) is not None:
             top[name] = _typed(name, data[name], int if name == "bearing_type" else float)
     return BearingInput(**parts, **top)
 
 
-def measurements_from_dict(data: dict) -> Measurements:
+def measurements_from_dict(data: dict[str, Any] | None) -> Measurements:
     return _build(Measurements, data or {}, "measurements")
 
 
-def as_built_input_dict(design_input: dict, measurements: dict) -> dict:
+def as_built_input_dict(
+    design_input: dict[str, Any], measurements: dict[str, Any] | None
+) -> dict[str, Any]:
     """A stored design input with a stored record's measured values put in, as a stored
     input again (what the drawings of a record are made from)."""
     built = as_built_input(input_from_dict(design_input), measurements_from_dict(measurements))
     return input_to_dict(built)
 
 
-def checklist_from_dict(data: dict) -> Checklist:
+def checklist_from_dict(data: dict[str, Any] | None) -> Checklist:
     return _build(Checklist, data or {}, "checklist")
 
 
-def _build(cls, data: dict, prefix: str):
+def _build(cls: type[_Built], data: object, prefix: str) -> _Built:
     if not isinstance(data, dict):
         raise InputError(prefix, data, "an object of named values", "bad-shape")
     known = {f.name: f for f in fields(cls)}
@@ -72,7 +88,7 @@ def _build(cls, data: dict, prefix: str):
     if unknown:
         name = sorted(unknown)[0]
         raise InputError(f"{prefix}.{name}", data[name], f"a known {prefix} value", "unknown-field")
-    values = {}
+    values: dict[str, object] = {}
     for name, value in data.items():
         if value is None:
             values[name] = None
@@ -88,7 +104,7 @@ def _build(cls, data: dict, prefix: str):
 
 
 # Field → type, where not a float.
-_KINDS = {
+_KINDS: dict[str, type] = {
     "orientation": str,
     "member": str,
     "reaction_at": str,
@@ -120,7 +136,7 @@ _KINDS = {
 }
 
 
-def _typed(field: str, value, kind):
+def _typed(field: str, value: object, kind: type) -> object:
     if kind is bool:
         if isinstance(value, bool):
             return value

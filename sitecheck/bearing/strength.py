@@ -51,8 +51,8 @@ def delta(unit_height: float, unit_width: float) -> float:
     h0, row0 = DELTA_TABLE[i]
     h1, row1 = DELTA_TABLE[i + 1]
     w0, w1 = DELTA_WIDTHS[j], DELTA_WIDTHS[j + 1]
-    cells = (row0[j], row0[j + 1], row1[j], row1[j + 1])
-    if any(c is None for c in cells):
+    c00, c01, c10, c11 = row0[j], row0[j + 1], row1[j], row1[j + 1]
+    if c00 is None or c01 is None or c10 is None or c11 is None:
         raise InputError(
             "masonry.unit_width",
             unit_width,
@@ -62,8 +62,8 @@ def delta(unit_height: float, unit_width: float) -> float:
         )
     fh = (h - h0) / (h1 - h0)
     fw = (w - w0) / (w1 - w0)
-    low = cells[0] + (cells[1] - cells[0]) * fw
-    high = cells[2] + (cells[3] - cells[2]) * fw
+    low = c00 + (c01 - c00) * fw
+    high = c10 + (c11 - c10) * fw
     return low + (high - low) * fh
 
 
@@ -81,13 +81,16 @@ def f_b(f_u: float, delta_value: float, conditioning: float) -> float:
 
 def f_k_ec6(K: float, f_b_value: float, f_m: float) -> float:
     """f_k = K · f_b^0.7 · f_m^0.3, general-purpose mortar, EN 1996-1-1 eqn 3.1 [S]."""
-    return K * f_b_value**0.7 * f_m**0.3
+    # A float to a float power is typed Any (it may be complex); f_b and f_m are positive.
+    fk: float = K * f_b_value**0.7 * f_m**0.3
+    return fk
 
 
 def f_k_thin_layer(K: float, f_b_value: float, exponent: float) -> float:
     """f_k = K · f_b^0.85 (or ^0.70 for clay Groups 2–4), thin-layer mortar,
     EN 1996-1-1 eqns 3.2–3.3 [M]."""
-    return K * f_b_value**exponent
+    fk: float = K * f_b_value**exponent
+    return fk
 
 
 def f_k_bs5628(unit_strength: float, designation: str) -> float:
@@ -139,6 +142,7 @@ def masonry_strengths(
         fk = _f_k_from_units_ec6(mas, basis, steps, t)
     else:
         designation = MORTAR_DESIGNATION[mas.mortar]
+        assert mas.unit_strength is not None  # validation asks for it where f_k is not given
         fk = f_k_bs5628(float(mas.unit_strength), designation)
         steps.append(
             Step(
@@ -153,6 +157,7 @@ def masonry_strengths(
             )
         )
 
+    gm: float | None  # None where the basis has no factor for the input: refused below
     if mas.gamma_M is not None:
         gm = float(mas.gamma_M)
         steps.append(
@@ -240,6 +245,7 @@ def masonry_strengths(
     fcd = None
     if pad is not None:
         fck = float(pad.f_ck) if pad.f_ck is not None else concrete_class_fck(pad.concrete)
+        assert fck is not None  # validation refuses a class it cannot read with no f_ck
         if pad.reinforced:
             fcd = f_cd(fck, basis.alpha_cc, basis.gamma_c)
             steps.append(
@@ -282,7 +288,7 @@ def masonry_strengths(
 
 # Strengths already worked out; see masonry_strengths_cached. Bounded, and emptied when
 # full: the masonries and concretes of one site are few.
-_STRENGTHS: dict[tuple, tuple[CodeBasis, Strengths]] = {}
+_STRENGTHS: dict[tuple[object, ...], tuple[CodeBasis, Strengths]] = {}
 _STRENGTHS_LIMIT = 4096
 _MASONRY_VALUES = attrgetter(*(f.name for f in fields(Masonry)))
 
@@ -347,6 +353,7 @@ def collar_joint(mas: Masonry, t: float | None) -> tuple[bool, str]:
 def _f_k_from_units_ec6(
     mas: Masonry, basis: CodeBasis, steps: list[Step], t: float | None
 ) -> float:
+    assert mas.unit_strength is not None  # validation asks for it where f_k is not given
     fu = float(mas.unit_strength)
     if mas.unit_strength_is_normalised:
         fb = fu
@@ -361,6 +368,8 @@ def _f_k_from_units_ec6(
             )
         )
     else:
+        # Validation asks for the unit's size where its strength is not normalised.
+        assert mas.unit_height is not None and mas.unit_width is not None
         d = delta(float(mas.unit_height), float(mas.unit_width))
         c = CONDITIONING_FACTOR[mas.conditioning]
         fb = f_b(fu, d, c)

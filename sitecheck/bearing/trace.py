@@ -9,7 +9,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import NamedTuple
+from typing import Any, NamedTuple
+
+# What as_dict gives: plain JSON values (numbers, text, lists, nested dicts).
+JsonDict = dict[str, Any]
+# One value a step was worked out from: (symbol, value, unit); the value may be a
+# class or a choice in words, or None where the input was left out.
+StepInput = tuple[str, float | str | None, str]
 
 STRENGTH = "strength"
 RULE = "rule"
@@ -24,13 +30,13 @@ class Step(NamedTuple):
     label: str
     symbol: str
     formula: str
-    inputs: tuple  # ((symbol, value, unit), ...)
+    inputs: tuple[StepInput, ...]
     value: float
     unit: str
     clause: str
     source: str  # S, P, M, CP or ours
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> JsonDict:
         return {
             "label": self.label,
             "symbol": self.symbol,
@@ -61,7 +67,7 @@ class Check:
     steps: tuple[Step, ...]
     notes: tuple[str, ...] = ()
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> JsonDict:
         return {
             "code": self.code,
             "title": self.title,
@@ -85,7 +91,7 @@ def make_step(
     label: str,
     symbol: str,
     formula: str,
-    inputs: tuple,
+    inputs: tuple[StepInput, ...],
     value: float,
     unit: str,
     clause: str,
@@ -183,7 +189,7 @@ class Spread:
     spread_x1: float
     spread_reading: str
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> JsonDict:
         return {name: getattr(self, name) for name in self.__slots__}
 
 
@@ -195,7 +201,7 @@ class Strengths:
     f_cd: float | None
     steps: tuple[Step, ...]
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> JsonDict:
         return {
             "f_k": self.f_k,
             "gamma_M": self.gamma_M,
@@ -228,7 +234,7 @@ class BearingResult:
         assert found is not None
         return found
 
-    def as_dict(self) -> dict:
+    def as_dict(self) -> JsonDict:
         return {
             "basis": self.basis,
             "governing": self.governing,

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterator
 from functools import lru_cache
+from typing import TypeGuard
 
 from .basis import BS5628, MORTAR_DESIGNATION, CodeBasis
 from .errors import InputError
@@ -447,12 +448,12 @@ def _masonry_errors(inp: BearingInput, basis: CodeBasis) -> Iterator[InputError]
         yield InputError(
             "masonry.execution_class", mas.execution_class, "execution class 1 or 2", "bad-choice"
         )
-    for name, value in (
+    for name, level in (
         ("masonry.manufacturing_control", mas.manufacturing_control),
         ("masonry.construction_control", mas.construction_control),
     ):
-        if value not in CONTROL_LEVELS:
-            yield _choice(name, value, CONTROL_LEVELS)
+        if level not in CONTROL_LEVELS:
+            yield _choice(name, level, CONTROL_LEVELS)
     if mas.collar_joint is not None and not isinstance(mas.collar_joint, bool):
         yield InputError(
             "masonry.collar_joint",
@@ -557,7 +558,7 @@ def _whole_in(value: object, choices: tuple[int, ...]) -> bool:
     return type(value) is int and value in choices
 
 
-def _is_number(value: object) -> bool:
+def _is_number(value: object) -> TypeGuard[float]:
     return isinstance(value, (int, float)) and not isinstance(value, bool) and value == value
 
 
@@ -593,5 +594,5 @@ def _length_problem(
     return None
 
 
-def _choice(name: str, value: object, choices: tuple) -> InputError:
+def _choice(name: str, value: object, choices: tuple[object, ...]) -> InputError:
     return InputError(name, value, "one of: " + ", ".join(map(str, choices)), "bad-choice")
