@@ -11,8 +11,11 @@ import contextlib
 import functools
 import json
 import time
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
+from pathlib import Path
+from typing import Any, Protocol
 
 from sitecheck import store, workflow
 from sitecheck.bearing import (
@@ -45,21 +48,64 @@ from sitecheck.schedule import RowError, parse_schedule, read_schedule, recheck_
 # A device clock this far ahead of the server makes its record look newest for ever.
 CLOCK_AHEAD_LIMIT = timedelta(minutes=10)
 
+# A row as the store gives it: a site, a bearing, a record (JSON columns as Python values).
+Row = dict[str, Any]
 
-def default_site_settings(basis_name: str | None = None) -> tuple[dict, dict]:
+
+class PhotoFiles(Protocol):
+    """What a photo upload needs of the photo store (sitecheck.photos.PhotoStore), which
+    this layer does not import."""
+
+    def put(self, data: bytes) -> str: ...
+    def put_print(self, sha: str, data: bytes) -> None: ...
+    def delete(self, sha: str) -> bool: ...
+    def iter_all_shas(self) -> Iterator[str]: ...
+    def path_for(self, sha: str) -> Path: ...
+    def print_path_for(self, sha: str) -> Path: ...
+    def remove_stale_temp_files(self, *, older_than_seconds: float = ...) -> int: ...
+
+
+class KeptPhoto(Protocol):
+    """What is kept of an accepted upload (sitecheck.photos.IngestedPhoto)."""
+
+    @property
+    def display_jpeg(self) -> bytes: ...
+    @property
+    def thumbnail_jpeg(self) -> bytes: ...
+    @property
+    def print_jpeg(self) -> bytes: ...
+    @property
+    def display_sha256(self) -> str: ...
+    @property
+    def thumbnail_sha256(self) -> str: ...
+    @property
+    def display_width(self) -> int: ...
+    @property
+    def display_height(self) -> int: ...
+    @property
+    def display_bytes(self) -> int: ...
+    @property
+    def capture_time(self) -> str | None: ...
+    @property
+    def gps(self) -> tuple[float, float] | None: ...
+    @property
+    def original_sha256(self) -> str: ...
+
+
+def default_site_settings(basis_name: str | None = None) -> tuple[Row, Row]:
     from sitecheck.bearing import basis_named
 
     basis = basis_named(basis_name) if basis_name else ec6_uk_na()
     return basis.to_dict(), ReviewSettings().as_dict()
 
 
-def basis_for(site: dict) -> CodeBasis:
+def basis_for(site: Row) -> CodeBasis:
     if not site.get("code_basis"):
         return ec6_uk_na()
     return _basis_from_text(json.dumps(site["code_basis"], sort_keys=True))
 
 
-def settings_for(site: dict) -> ReviewSettings:
+def settings_for(site: Row) -> ReviewSettings:
     if not site.get("review_settings"):
         return ReviewSettings()
     return _settings_from_text(json.dumps(site["review_settings"], sort_keys=True))
@@ -78,24 +124,30 @@ def _settings_from_text(text: str) -> ReviewSettings:
     return settings_from_dict(json.loads(text))
 
 
-def mirror_settings(site: dict) -> dict:
+def mirror_settings(site: Row) -> Row:
     """The site's code basis and review settings in full, for the phone's mirror of the
     core: it has no defaults of its own to fall back on, so nothing may be left implicit."""
     return {"basis": basis_for(site).to_dict(), "settings": settings_for(site).as_dict()}
 
 
-def mirror_context(site: dict, design_input: dict) -> dict:
+def mirror_context(site: Row, design_input: Row) -> Row:
     """What the phone's mirror needs to re-check one bearing as values are typed."""
     return {"design": design_input, **mirror_settings(site)}
 
 
-def design_of(bearing: dict) -> BearingInput:
+def design_of(bearing: Row) -> BearingInput:
     return input_from_dict(bearing["design_input"])
 
 
 def add_bearing(
-    db, *, site: dict, reference: str, location: str, design: BearingInput, user_id: int
-) -> dict:
+    db: store.Database,
+    *,
+    site: Row,
+    reference: str,
+    location: str,
+    design: BearingInput,
+    user_id: int,
+) -> Row:
     """Check the design at once and keep it with its full trace (revision 1)."""
     result = check_bearing(design, basis_for(site))
     return store.add_bearing(
@@ -112,8 +164,14 @@ def add_bearing(
 
 
 def revise_bearing(
-    db, *, site: dict, bearing: dict, design: BearingInput, location: str | None, user_id: int
-) -> dict:
+    db: store.Database,
+    *,
+    site: Row,
+    bearing: Row,
+    design: BearingInput,
+    location: str | None,
+    user_id: int,
+) -> Row:
     """A new design revision; records keep the revision they were measured against."""
     result = check_bearing(design, basis_for(site))
     has_records = bearing.get("latest_record_uuid") is not None
@@ -135,7 +193,7 @@ def revise_bearing(
 
 @dataclass(frozen=True)
 class ImportReport:
-    added: list[dict]
+    added: list[Row]
     errors: list[RowError]
     checked: int
     notes: tuple[str, ...] = ()  # how the file was read (encoding, separator, column names)
@@ -147,7 +205,12 @@ class ImportReport:
 
 
 def import_schedule(
-    db, *, site: dict, text: str | bytes, user_id: int, keep_good_rows: bool = False
+    db: store.Database,
+    *,
+    site: Row,
+    text: str | bytes,
+    user_id: int,
+    keep_good_rows: bool = False,
 ) -> ImportReport:
     """Import a bearing schedule: a file's bytes (decoded as the command line does) or text.
     Any refused row refuses the whole file unless the engineer asked to keep the good rows;
@@ -203,7 +266,11 @@ class Recheck:
 
 
 def recheck(
-    site: dict, bearing: dict, measurements: dict, checklist: dict, why_not_measured=None
+    site: Row,
+    bearing: Row,
+    measurements: Row | None,
+    checklist: Row | None,
+    why_not_measured: str | None = None,
 ) -> Recheck:
     """The server's authoritative re-check of one as-built record against the current design.
 
@@ -227,15 +294,15 @@ def recheck(
 # One piece: receiving one as-built record is one transaction in a fixed order (refusals, re-
 # check, review, store, state, events), seen whole.
 def record_as_built(
-    db,
+    db: store.Database,
     *,
-    site: dict,
-    bearing: dict,
+    site: Row,
+    bearing: Row,
     uuid: str,
     measured_at: str,
     design_revision: int,
-    measurements: dict,
-    checklist: dict,
+    measurements: Row,
+    checklist: Row,
     notes: str,
     inspector_id: int,
     now: datetime | None = None,
@@ -311,7 +378,7 @@ def record_as_built(
     return stored, Recheck(rc.as_built, rc.result, tuple(reasons))
 
 
-def remedy_for_record(site: dict, bearing: dict, record: dict) -> Remedy | None:
+def remedy_for_record(site: Row, bearing: Row, record: Row) -> Remedy | None:
     """What would pass in place of a failing as-built, for the engineer deciding on it: the
     smallest standard padstone and the shortest bearing. None when the record passes or was
     measured against an older design (its hint would be for another design)."""
@@ -329,22 +396,23 @@ _UTILISATION_AGREES = 1e-6
 
 def phone_verdict_difference(
     provisional: object, result: BearingResult, reasons: tuple[ReviewReason, ...]
-) -> dict | None:
+) -> dict[str, Any] | None:
     """What the phone showed against what the server found, or None when they agree.
 
     Only the core's own verdict is compared: the reasons the server adds from what only it
     knows (a newer design revision, a clock ahead) are not the mirror's to find."""
+    server_utilisation = _finite(result.utilisation)
     server = {
         "passed": result.passed,
         "governing": result.governing,
-        "utilisation": _finite(result.utilisation),
+        "utilisation": server_utilisation,
         "reasons": [r.code for r in reasons],
     }
     if not isinstance(provisional, dict):
         return {"phone": None, "server": server, "differs": ["unreadable"]}
     phone = {key: provisional.get(key) for key in server}
     differs = [key for key in ("passed", "governing", "reasons") if phone[key] != server[key]]
-    if not _utilisations_agree(phone["utilisation"], server["utilisation"]):
+    if not _utilisations_agree(phone["utilisation"], server_utilisation):
         differs.append("utilisation")
     if not differs:
         return None
@@ -359,7 +427,7 @@ def _utilisations_agree(phone: object, server: float | None) -> bool:
     return abs(phone - server) <= _UTILISATION_AGREES * max(1.0, abs(server))
 
 
-def failing_as_built(record: dict | None) -> dict | None:
+def failing_as_built(record: Row | None) -> dict[str, Any] | None:
     """What fails in an as-built record, as its stored result says (the governing check's
     code and title, and the utilisation), or None when it passes. Read, not worked out."""
     if record is None or record["passed"]:
@@ -380,16 +448,16 @@ class AcceptFailingRefused(workflow.WorkflowError):
 
 
 def decide(
-    db,
+    db: store.Database,
     *,
-    site: dict,
-    bearing: dict,
+    site: Row,
+    bearing: Row,
     kind: str,
     reason: str,
     engineer_id: int,
     engineer_name: str | None = None,
     confirmed_failing: bool = False,
-) -> dict:
+) -> Row:
     """Keep the engineer's decision on the record they saw (``bearing``'s latest record).
 
     Accepting a record that fails as built needs ``confirmed_failing`` (the engineer ticked
@@ -438,8 +506,14 @@ def decide(
 
 
 def release(
-    db, *, site: dict, bearing: dict, contractor_id: int, contractor_name: str, statement: str
-) -> dict:
+    db: store.Database,
+    *,
+    site: Row,
+    bearing: Row,
+    contractor_id: int,
+    contractor_name: str,
+    statement: str,
+) -> Row:
     refusal = workflow.release_refusal(bearing["state"], reference=bearing["reference"])
     if refusal:
         store.add_event(
@@ -462,7 +536,9 @@ def release(
     )
 
 
-def reopen(db, *, site: dict, bearing: dict, role: str, reason: str, engineer_id: int) -> dict:
+def reopen(
+    db: store.Database, *, site: Row, bearing: Row, role: str, reason: str, engineer_id: int
+) -> Row:
     new_state = workflow.reopen(state=bearing["state"], role=role, reason=reason)
     return store.record_reopening(
         db,
@@ -475,8 +551,15 @@ def reopen(db, *, site: dict, bearing: dict, role: str, reason: str, engineer_id
 
 
 def keep_release(
-    db, *, site: dict, bearing: dict, role: str, reason: str, seen_up_to: int, engineer_id: int
-) -> dict:
+    db: store.Database,
+    *,
+    site: Row,
+    bearing: Row,
+    role: str,
+    reason: str,
+    seen_up_to: int,
+    engineer_id: int,
+) -> Row:
     """The engineer's answer to what was recorded after a release: the release stands."""
     workflow.keep_release(state=bearing["state"], role=role, reason=reason)
     return store.keep_release(
@@ -504,12 +587,12 @@ class _PhotoFiles:
     (``sweep_photo_files``) removes; it never leaves a row without its file.
     """
 
-    def __init__(self, db, photos):
+    def __init__(self, db: store.Database, photos: PhotoFiles):
         self.db = db
         self.photos = photos
         self.new: list[str] = []
 
-    def keep(self, photo) -> None:
+    def keep(self, photo: KeptPhoto) -> None:
         pictures = (
             (photo.display_jpeg, photo.display_sha256),
             (photo.thumbnail_jpeg, photo.thumbnail_sha256),
@@ -529,12 +612,12 @@ class _PhotoFiles:
 
 
 def store_photo(
-    db,
+    db: store.Database,
     *,
-    site: dict,
+    site: Row,
     record_uuid: str,
-    photo,
-    photos,
+    photo: KeptPhoto,
+    photos: PhotoFiles,
     user_id: int,
     uuid: str | None = None,
     max_photos: int | None = None,
@@ -564,7 +647,12 @@ def store_photo(
 
 
 def record_as_built_with_photos(
-    db, *, photos_store, photos: list, max_photos: int | None = None, **record
+    db: store.Database,
+    *,
+    photos_store: PhotoFiles,
+    photos: list[KeptPhoto],
+    max_photos: int | None = None,
+    **record: Any,
 ) -> store.RecordStored:
     """An as-built record and its photos, all kept or none (the online form sends them
     together). The photos are stored only with a record this call created: a form sent again
@@ -582,7 +670,7 @@ def record_as_built_with_photos(
                         photo=photo,
                         user_id=record["inspector_id"],
                         max_photos=max_photos,
-                        keep_files=lambda photo=photo: files.keep(photo),
+                        keep_files=functools.partial(files.keep, photo),
                     )
         except BaseException:
             files.remove_new()
@@ -591,15 +679,15 @@ def record_as_built_with_photos(
 
 
 def add_photo_row(
-    db,
+    db: store.Database,
     *,
-    site: dict,
+    site: Row,
     record_uuid: str,
-    photo,
+    photo: KeptPhoto,
     user_id: int,
     uuid: str | None = None,
     max_photos: int | None = None,
-    keep_files=None,
+    keep_files: Callable[[], None] | None = None,
 ) -> store.Stored:
     """The database row of a photo; ``keep_files`` writes its files once the store has
     decided to keep it (see store.insert_photo)."""
@@ -632,7 +720,9 @@ class Swept:
     orphan_files: int
 
 
-def sweep_photo_files(db, photos, *, older_than_s: float = 0.0) -> Swept:
+def sweep_photo_files(
+    db: store.Database, photos: PhotoFiles, *, older_than_s: float = 0.0
+) -> Swept:
     """Remove what a crash mid-upload leaves in the photo store: temporary files, and
     pictures no photo row names (written, then the process died before its commit).
 
@@ -662,9 +752,9 @@ def sweep_photo_files(db, photos, *, older_than_s: float = 0.0) -> Swept:
     return Swept(temporary, len(orphans))
 
 
-def _last_written(photos, sha: str) -> float:
+def _last_written(photos: PhotoFiles, sha: str) -> float:
     """When the picture or its print copy was last written (the later of the two)."""
-    times = []
+    times: list[float] = []
     for path in (photos.path_for(sha), photos.print_path_for(sha)):
         with contextlib.suppress(FileNotFoundError):
             times.append(path.stat().st_mtime)
@@ -686,7 +776,9 @@ def camera_time(capture_time: str | None) -> str | None:
 # --- sites and who is on them ------------------------------------------------------------------
 
 
-def make_site(db, *, name: str, address: str, basis_name: str, by_user_id: int) -> dict:
+def make_site(
+    db: store.Database, *, name: str, address: str, basis_name: str, by_user_id: int
+) -> Row:
     """A new site on the named code basis with the default review settings; whoever makes
     it is its first engineer."""
     code_basis, review_settings = default_site_settings(basis_name)
@@ -701,14 +793,14 @@ def make_site(db, *, name: str, address: str, basis_name: str, by_user_id: int) 
 
 
 def save_site_settings(
-    db,
+    db: store.Database,
     *,
     site_id: str,
     by_user_id: int,
     name: str,
     address: str,
-    code_basis: dict,
-    review_settings: dict,
+    code_basis: Row,
+    review_settings: Row,
 ) -> None:
     """Store a site's settings once they read back exactly as the checks will read them, so
     nothing is stored that the checks would refuse (InputError, TypeError or ValueError
@@ -726,16 +818,18 @@ def save_site_settings(
     )
 
 
-def let_make_sites(db, *, user_id: int, allowed: bool, by_user_id: int) -> None:
+def let_make_sites(db: store.Database, *, user_id: int, allowed: bool, by_user_id: int) -> None:
     """Give or take the permission to make sites (with its event)."""
     store.set_may_make_sites(db, user_id=user_id, allowed=allowed, by_user_id=by_user_id)
 
 
-def change_role(db, *, site_id: str, user_id: int, role: str, by_user_id: int) -> None:
+def change_role(
+    db: store.Database, *, site_id: str, user_id: int, role: str, by_user_id: int
+) -> None:
     """A member's new role; store.LastEngineer when it would leave the site no engineer."""
     store.set_role(db, user_id=user_id, site_id=site_id, role=role, by_user_id=by_user_id)
 
 
-def remove_member(db, *, site_id: str, user_id: int, by_user_id: int) -> None:
+def remove_member(db: store.Database, *, site_id: str, user_id: int, by_user_id: int) -> None:
     """Take someone off a site (their records stay); store.LastEngineer as for a role."""
     store.remove_membership(db, user_id=user_id, site_id=site_id, by_user_id=by_user_id)
