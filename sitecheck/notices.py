@@ -91,8 +91,8 @@ def notices_for_event(event: dict, members: list[dict]):
     """(user_id, kind, words, by_user_id) for each person this event puts a bearing in the
     hands of. ``members`` are the site's people with their ``role``."""
     detail = event.get("detail") or {}
-    before = detail.get("before") if isinstance(detail.get("before"), dict) else {}
-    after = detail.get("after") if isinstance(detail.get("after"), dict) else {}
+    before = workflow.event_part(detail, "before")
+    after = workflow.event_part(detail, "after")
     was, now = before.get("state"), after.get("state")
     actor = event.get("user_id")
     wanted: list[tuple[str, str]] = []  # (kind, words)

@@ -252,6 +252,13 @@ def state_after_revision(current_state: str, has_records: bool) -> str:
     return ENGINEER_TO_DECIDE
 
 
+def event_part(detail: dict, key: str) -> dict:
+    """A part of an event's detail that is itself an object ("before", "after": the bearing's
+    state either side), or {} where the event has none."""
+    part = detail.get(key)
+    return part if isinstance(part, dict) else {}
+
+
 # --- accepting a bearing that fails as built ------------------------------------------------------
 
 # The reason for accepting a bearing that fails as built must be a full sentence: at least

@@ -37,8 +37,8 @@ def _quoted(text) -> str:
 
 
 def _states(detail: dict) -> str:
-    before = detail.get("before") if isinstance(detail.get("before"), dict) else {}
-    after = detail.get("after") if isinstance(detail.get("after"), dict) else {}
+    before = workflow.event_part(detail, "before")
+    after = workflow.event_part(detail, "after")
     was, now = before.get("state"), after.get("state")
     if now and was and was != now:
         return f" State: {was} → {now}."
@@ -54,8 +54,8 @@ def sentence(event: dict, words: Words) -> str:
     """One history entry as a sentence (or two)."""
     kind = event["kind"]
     d = event.get("detail") or {}
-    after = d.get("after") if isinstance(d.get("after"), dict) else {}
-    before = d.get("before") if isinstance(d.get("before"), dict) else {}
+    after = workflow.event_part(d, "after")
+    before = workflow.event_part(d, "before")
     if kind == "site created":
         basis = (after.get("code_basis") or {}).get("name", "")
         return f"Made the site, checked to {basis}." if basis else "Made the site."
@@ -117,7 +117,8 @@ def sentence(event: dict, words: Words) -> str:
     if kind == "reopening":
         return f"Reopened it. Reason: {_quoted(d.get('reason'))}.{_states(d)}"
     if kind == "refused":
-        action = workflow.ACTION_WORDS.get(d.get("action"), d.get("action") or "act")
+        action = d.get("action") or "act"
+        action = workflow.ACTION_WORDS.get(action, action)
         role = d.get("role")
         return f"Tried to {action}{f' as {role}' if role else ''}; refused."
     if kind == "phone verdict differed":
