@@ -467,6 +467,7 @@ def _reset_password(db, user: dict, settings: Settings) -> int:
         return 0
     # Try it now rather than wait for the server's sender; a failure is retried by it.
     send_due(str(settings.database), mail)
+    assert started.mail_id is not None  # queued, as mail is set up
     status = store_status(settings, started.mail_id)
     if status and status["sent_at"]:
         print(
@@ -676,8 +677,8 @@ def _check(args) -> int:
         for note in parsed.notes:
             print(f"\nNote: {note}")
         print(f"\n{CAUTION}")
-    for e in errors:
-        print(f"sitecheck: {args.schedule}: {e}", file=sys.stderr)
+    for refused in errors:
+        print(f"sitecheck: {args.schedule}: {refused}", file=sys.stderr)
     return 1 if errors else 0
 
 

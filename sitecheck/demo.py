@@ -13,8 +13,12 @@ import csv
 import io
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .schedule import COLUMNS
+
+if TYPE_CHECKING:
+    from . import store
 
 SITE_NAME = "Tanner's Yard, Block C"
 SITE_ADDRESS = "Tanner's Yard, Millbrook (invented demo site)"
@@ -504,7 +508,7 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
                 )
         for reference, (kind, reason) in _DECISIONS.items():
             site = sites["EC6"]
-            bearing = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+            bearing = _bearing_added(db, site, reference)
             services.decide(
                 db,
                 site=site,
@@ -516,7 +520,7 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
             )
         for reference in sorted(_RELEASES):
             site = sites["EC6"]
-            bearing = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+            bearing = _bearing_added(db, site, reference)
             services.release(
                 db,
                 site=site,
@@ -531,6 +535,16 @@ def build_demo(db_path: str | Path) -> dict[str, tuple[str, str]]:
     finally:
         db.conn.close()
     return {role: (email, password) for role, (email, _name, password) in DEMO_PEOPLE.items()}
+
+
+def _bearing_added(db: store.Database, site: dict, reference: str) -> dict:
+    """A bearing the demo has just added to ``site``."""
+    from . import store
+
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference=reference)
+    if bearing is None:
+        raise LookupError(f"the demo added no bearing {reference}")
+    return bearing
 
 
 def _plain(values: dict) -> dict:

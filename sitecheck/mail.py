@@ -156,6 +156,7 @@ def deliver(
     if html:
         message.add_alternative(html, subtype="html")
     try:
+        smtp: smtplib.SMTP
         if settings.port == 465:
             smtp = smtplib.SMTP_SSL(
                 settings.host,
@@ -310,6 +311,6 @@ class MailSender:
             db.conn.close()
         if not due:
             return IDLE_LOOK_S
-        due = min(due)
-        seconds = (datetime.fromisoformat(due) - store.utc_now()).total_seconds()
+        soonest = min(due)
+        seconds = (datetime.fromisoformat(soonest) - store.utc_now()).total_seconds()
         return min(IDLE_LOOK_S, max(0.5, seconds))

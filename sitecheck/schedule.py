@@ -15,6 +15,7 @@ import io
 import re
 from dataclasses import dataclass, field, replace
 from decimal import Decimal
+from typing import Literal, overload
 
 from .bearing import (
     BASES,
@@ -624,22 +625,23 @@ def _parse_row(index: int, c: dict[str, str], default_basis: str | None) -> Sche
     _needed_together(c)
     pad = None
     if c.get("padstone_length") or c.get("padstone_width") or c.get("padstone_depth"):
+        # Each cell is read in the columns' order, so a row's first refusal is the first cell.
+        length = _num(c, "padstone_length", required=True)
+        width = _num(c, "padstone_width", required=True)
+        depth = _num(c, "padstone_depth", required=True)
+        given = _given(
+            concrete=c.get("padstone_concrete") or None,
+            f_ck=_num(c, "padstone_f_ck"),
+            reinforced=_yes_no(c, "padstone_reinforced"),
+        )
+        position_across, offset_across = _padstone_across(c, "padstone_across")
         pad = Padstone(
-            length=_num(c, "padstone_length", required=True),
-            width=_num(c, "padstone_width", required=True),
-            depth=_num(c, "padstone_depth", required=True),
-            **_given(
-                concrete=c.get("padstone_concrete") or None,
-                f_ck=_num(c, "padstone_f_ck"),
-                reinforced=_yes_no(c, "padstone_reinforced"),
-            ),
-            **dict(
-                zip(
-                    ("position_across", "offset_across"),
-                    _padstone_across(c, "padstone_across"),
-                    strict=True,
-                )
-            ),
+            length=length,
+            width=width,
+            depth=depth,
+            **given,
+            position_across=position_across,
+            offset_across=offset_across,
         )
     # An empty cell leaves the core's own default, so the defaults live in one place.
     design = BearingInput(
@@ -782,11 +784,11 @@ def _needed_together(c: dict[str, str]) -> None:
             "empty, as asbuilt_padstone = no says there is no padstone as built",
         )
     if not sizes and (present or built):
-        missing = [k for k in ASBUILT_PADSTONE_SIZE if not c.get(k)]
-        if missing:
+        unmeasured = [k for k in ASBUILT_PADSTONE_SIZE if not c.get(k)]
+        if unmeasured:
             said = "asbuilt_padstone = yes" if present else built[0]
             raise _RowProblem(
-                missing[0],
+                unmeasured[0],
                 "",
                 f"required with {said}, as the design has no padstone: a padstone found on "
                 "site is given by its length, width and depth as built",
@@ -837,6 +839,10 @@ def _reads_as_number(text: str) -> bool:
     return text == "" or _number_text(unguard_text(text)) is not None
 
 
+@overload
+def _num(c: dict[str, str], column: str, required: Literal[True]) -> float: ...
+@overload
+def _num(c: dict[str, str], column: str, required: bool = False) -> float | None: ...
 def _num(c: dict[str, str], column: str, required: bool = False) -> float | None:
     text = c.get(column, "")
     if text == "":
@@ -868,13 +874,19 @@ def _out_of_range(unit: str) -> str:
     return f"out of range: a finite number from -{limit} to {limit}{f' {unit}' if unit else ''}"
 
 
+@overload
+def _kilo(c: dict[str, str], column: str, required: Literal[True]) -> float: ...
+@overload
+def _kilo(c: dict[str, str], column: str, required: bool = False) -> float | None: ...
 def _kilo(c: dict[str, str], column: str, required: bool = False) -> float | None:
     """A kN cell in N. The decimal point is moved, not the float multiplied by 1000, so a
     value the export wrote with every digit reads back as exactly the N it came from."""
     value = _num(c, column, required)
     if value is None:
         return None
-    return float(Decimal(_number_text(c[column])).scaleb(3))
+    plain = _number_text(c[column])
+    assert plain is not None  # _num has read it as a number
+    return float(Decimal(plain).scaleb(3))
 
 
 def _int(c: dict[str, str], column: str) -> int | None:

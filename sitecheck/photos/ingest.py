@@ -53,6 +53,8 @@ _DECODE_ERRORS: tuple[type[BaseException], ...] = (
     ZeroDivisionError,
     struct.error,
 )
+# A colour profile that cannot be read or applied, as well as a damaged picture.
+_PROFILE_ERRORS: tuple[type[BaseException], ...] = (ImageCms.PyCMSError, *_DECODE_ERRORS)
 
 _FORMATS_TEXT = "JPEG, PNG or WebP"
 _BOMB_PIXELS = re.compile(r"\((\d+) pixels\)")
@@ -657,7 +659,7 @@ def _to_srgb(image: Image.Image, icc_profile: bytes | None) -> Image.Image:
         converted = ImageCms.profileToProfile(
             image, source, ImageCms.createProfile("sRGB"), outputMode="RGB"
         )
-    except (ImageCms.PyCMSError, *_DECODE_ERRORS):
+    except _PROFILE_ERRORS:
         return image
     return converted if converted is not None else image
 

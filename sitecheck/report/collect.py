@@ -14,7 +14,8 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
-from datetime import UTC, datetime
+from datetime import UTC, date, datetime
+from typing import Protocol, TypeVar
 
 from sitecheck import store
 
@@ -45,6 +46,16 @@ class BearingRecord:
         return ids
 
 
+_Row = TypeVar("_Row", covariant=True)
+
+
+class Counted(Protocol[_Row]):
+    """Rows that can be walked and say how many they are: a list, or a :class:`Walk`."""
+
+    def __iter__(self) -> Iterator[_Row]: ...
+    def __len__(self) -> int: ...
+
+
 class Walk(Iterable):
     """Rows read from the store each time they are walked, with their count known up front,
     so a writer can say "x of N" without holding N of them."""
@@ -68,8 +79,8 @@ class SiteRecord:
     site: dict
     members: list[dict]
     names: dict[int, str]
-    bearings: Iterable[BearingRecord]
-    events: Iterable[dict]  # oldest first
+    bearings: Counted[BearingRecord]
+    events: Counted[dict]  # oldest first
     made_at: str = field(default_factory=lambda: datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"))
     # Looks up a person not on the site (taken off it, but still signing what they did).
     lookup: Callable[[int], dict | None] | None = None
@@ -79,13 +90,13 @@ class SiteRecord:
     site_bearings: int | None = None
     sign_offs: list[dict] = field(default_factory=list)  # the engineer's, oldest first
     # The whole site's history, which a sign-off covers (a part's own is ``events``).
-    site_events: Iterable[dict] | None = None
+    site_events: Counted[dict] | None = None
     # The same bearings read light: without their design and calculations (store.HEAVY),
     # for what lists them by state, decision or time. A walk of these costs a fraction.
-    lines: Iterable[BearingRecord] | None = None
+    lines: Counted[BearingRecord] | None = None
 
     @property
-    def bearing_lines(self) -> Iterable[BearingRecord]:
+    def bearing_lines(self) -> Counted[BearingRecord]:
         return self.lines if self.lines is not None else self.bearings
 
     @property
@@ -170,13 +181,8 @@ def selection_words(selection: store.Selection) -> str:
             if len(states) == 1
             else "in the states " + ", ".join(states[:-1]) + " or " + states[-1]
         )
-    if selection.since or selection.until:
-        if selection.since and selection.until:
-            when = f"from {selection.since.isoformat()} to {selection.until.isoformat()}"
-        elif selection.since:
-            when = f"from {selection.since.isoformat()} on"
-        else:
-            when = f"up to {selection.until.isoformat()}"
+    when = _days_words(selection.since, selection.until)
+    if when:
         parts.append(
             f"with an as-built record measured, a decision, a release or a reopening {when} "
             "(UTC days)"
@@ -184,3 +190,14 @@ def selection_words(selection: store.Selection) -> str:
     if not parts:
         return "every bearing"
     return "bearings " + "; ".join(parts)
+
+
+def _days_words(since: date | None, until: date | None) -> str:
+    """The days a selection keeps, in words ("" for any day)."""
+    if since and until:
+        return f"from {since.isoformat()} to {until.isoformat()}"
+    if since:
+        return f"from {since.isoformat()} on"
+    if until:
+        return f"up to {until.isoformat()}"
+    return ""

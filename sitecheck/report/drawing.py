@@ -205,7 +205,7 @@ class _Model:
 
 def _across_words(pad: dict | None) -> str:
     position = None if pad is None else pad.get("position_across")
-    if position == "offset":
+    if pad is not None and position == "offset":
         return f"offset {number(pad.get('offset_across') or 0.0, plus=True)}"
     return {"near-face": "at near face", "centred": "centred", "far-face": "at far face"}.get(
         position or "", ""
@@ -315,8 +315,8 @@ def _extent(m: _Model) -> _Extent:
     right = max(m.L, sr) + RUN_ON
     end_left = m.a1 is not None and -m.a1 >= left
     end_right = m.a2 is not None and m.L + m.a2 <= right
-    wall_left = -m.a1 if end_left else left
-    wall_right = m.L + m.a2 if end_right else right
+    wall_left = -m.a1 if m.a1 is not None and end_left else left
+    wall_right = m.L + m.a2 if m.a2 is not None and end_right else right
     if end_left:
         left = wall_left - OPENING
     if end_right:

@@ -396,7 +396,7 @@ def write_csv_files(
     handles: dict[str, TextIO] = {}
     gaps: dict[str, list[str]] = {}
     refs: dict[str, str] = {}
-    total = len(rec.bearings)  # type: ignore[arg-type]
+    total = len(rec.bearings)
     try:
         for name in CSV_FILES:
             handles[name] = open(folder / name, "w", newline="", encoding="utf-8")  # noqa: SIM115
@@ -517,7 +517,7 @@ CHECK_WORDS = ("code", "title", "kind", "unit", "clause", "source")
 class Texts:
     """The words of every step, check and note met so far, each numbered once."""
 
-    def __init__(self):
+    def __init__(self) -> None:
         self.tables: dict[str, list] = {"steps": [], "checks": [], "notes": []}
         self._numbers: dict[tuple[str, str], int] = {}
 
@@ -691,7 +691,7 @@ def write_json(
         return
     site = rec.site
     texts = Texts()
-    total = len(rec.bearings)  # type: ignore[arg-type]
+    total = len(rec.bearings)
 
     def put(text: str) -> None:
         out.write(text.encode())

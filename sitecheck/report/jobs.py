@@ -114,6 +114,14 @@ class Job:
     def from_row(cls, row: dict) -> Job:
         return cls(**{f.name: row[f.name] for f in fields(cls)})
 
+    @classmethod
+    def read(cls, db: store.Database, job_id: str) -> Job:
+        """The job as stored now: one being made is never deleted."""
+        row = store.get_record_job(db, job_id)
+        if row is None:
+            raise store.NotFound(f"No record job {job_id}.")
+        return cls.from_row(row)
+
 
 @functools.cache
 def _report_code() -> str:
@@ -323,7 +331,7 @@ class RecordJobs:
             with contextlib.suppress(OSError):
                 part.unlink(missing_ok=True)
             with contextlib.suppress(Exception), self._db() as db:
-                seen = Job.from_row(store.get_record_job(db, job.id))
+                seen = Job.read(db, job.id)
                 now = _now()
                 store.update_record_job(
                     db, job.id, state=FAILED, finished_at=now, error=_plain_error(seen, error)
@@ -351,7 +359,7 @@ class RecordJobs:
             make(part, progress)
             final = self.file_path(job)
             os.replace(part, final)
-            made = Job.from_row(store.get_record_job(db, job.id))
+            made = Job.read(db, job.id)
             store.update_record_job(
                 db,
                 job.id,
@@ -425,7 +433,7 @@ def _site_as_it_is(
 ):
     """The site's record on a connection of the job's own (SQLite connections must not cross
     threads), read as the database was at its first read however long the writing takes."""
-    db = store.open_db(db_path)
+    db = store.open_db(os.fspath(db_path))
     try:
         with store.read_snapshot(db):
             yield collect(db, site_id, selection)

@@ -66,7 +66,8 @@ class _ContentStream(PDFContentStream):
 
 
 if fpdf.output.PDFContentStream is PDFContentStream:
-    fpdf.output.PDFContentStream = _ContentStream
+    # fpdf2's writer makes its content streams by this name: the class is what is replaced.
+    fpdf.output.PDFContentStream = _ContentStream  # type: ignore[misc]
 
 
 class PackedPages(FPDF):

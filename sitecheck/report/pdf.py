@@ -13,7 +13,7 @@ import io
 import math
 import os
 from collections import deque
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from itertools import islice
 from pathlib import Path
@@ -226,7 +226,7 @@ class _Doc(PackedPages):
             self.text(self.l_margin, self.get_y() + 0.78 * lh, line)
             self.set_y(self.get_y() + lh)
 
-    def grid(self, header: list[str], rows: Iterable[list[str]], widths: list[float], size=8.0):
+    def grid(self, header: list[str], rows: Iterable[list[str]], widths: Sequence[float], size=8.0):
         """A table that breaks across pages and repeats its heading.
 
         fpdf2's own table lays text out a character at a time, which costs seconds per
@@ -503,7 +503,7 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
             [60, 20, 40, 40],
             size=7.5,
         )
-    for name, rows in (("gamma_M_ec6", GAMMA_M_EC6_ROWS), ("gamma_m_bs", GAMMA_M_BS_ROWS)):
+    for name, labels in (("gamma_M_ec6", GAMMA_M_EC6_ROWS), ("gamma_m_bs", GAMMA_M_BS_ROWS)):
         table = code.get(name) or {}
         if table:
             pdf.keep(40)
@@ -511,7 +511,7 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
             pdf.para(f"Default from: {_source(name)}. {changed(name)}", 7.5)
             pdf.grid(
                 ["", "value"],
-                [[label, _v(table.get(key))] for key, label in rows],
+                [[label, _v(table.get(key))] for key, label in labels],
                 [100, 30],
                 size=7.5,
             )
@@ -568,11 +568,12 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
 
 def _part_note(pdf: _Doc, rec: SiteRecord) -> None:
     """A record of part of the site says which part, and how much of the site that is."""
-    if not rec.partial:
+    selection = rec.selection
+    if selection is None or not rec.partial:
         return
-    dated = rec.selection.since or rec.selection.until
+    dated = selection.since or selection.until
     pdf.para(
-        f"This record holds part of the site: {selection_words(rec.selection)}. That is "
+        f"This record holds part of the site: {selection_words(selection)}. That is "
         f"{len(rec.bearings)} of the site's {rec.site_bearings} bearings, each with its whole "
         "history; the audit trail holds these bearings' entries"
         + (" in those days" if dated else "")

@@ -103,7 +103,10 @@ def create_app(
         # many entries from the right are believed, so a client cannot choose its own address
         # by sending the header itself. The host is not taken from the proxy: links in
         # e-mails use SITECHECK_BASE_URL.
-        app.wsgi_app = ProxyFix(app.wsgi_app, x_for=proxies, x_proto=proxies)
+        # Flask's documented way to wrap its WSGI app, which its types call a method.
+        app.wsgi_app = ProxyFix(  # type: ignore[method-assign]
+            app.wsgi_app, x_for=proxies, x_proto=proxies
+        )
     return_picture_memory_to_the_system()  # a server decodes pictures all day
     photos = app.extensions["photo_store"] = PhotoStore(Path(app.config["PHOTO_DIR"]))
     db = store.open_db(app.config["DB_PATH"])  # creates and migrates once, up front

@@ -20,7 +20,7 @@ def site_for(site_id: str, action: str) -> tuple[dict, str]:
         abort(401)
     role = store.role_of(db, user_id=user["id"], site_id=site_id)
     site = store.get_site(db, site_id) if role else None
-    if site is None:
+    if site is None or role is None:
         abort(404)
     if not workflow.allowed(role, action):
         store.add_event(

@@ -7,6 +7,8 @@ answer is shown against the field it names. Nothing here computes engineering.""
 
 from __future__ import annotations
 
+from collections.abc import Set as AbstractSet
+
 from flask_wtf import FlaskForm
 from wtforms import (
     BooleanField,
@@ -206,7 +208,9 @@ class BearingForm(FlaskForm):
 
 
 class ReviseForm(BearingForm):
-    reference = None  # a bearing keeps its reference; records and releases point at it
+    # A bearing keeps its reference; records and releases point at it. None takes the field
+    # out of this form, as WTForms means it (its types know only fields).
+    reference = None  # type: ignore[assignment]
     # The revision the engineer started from: a form left open while someone else revised
     # the bearing must not overwrite their change unseen.
     revision = HiddenField()
@@ -351,7 +355,9 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
 
     inp = BearingInput(
         load=Load(
-            reaction=None if reaction_kN is None else reaction_kN * 1000.0,
+            # A value refused here goes on as None (a choice as typed, below), for the core to
+            # refuse by name: the input is checked whole before any formula reads it.
+            reaction=None if reaction_kN is None else reaction_kN * 1000.0,  # type: ignore[arg-type]
             wall_load=0.0 if wall_load is None else wall_load,  # kN/m is N/mm
         ),
         beam=Beam(
@@ -374,7 +380,7 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
         ),
         masonry=Masonry(
             material=form.unit_material.data,
-            group=_whole(form.unit_group.data),
+            group=_whole(form.unit_group.data),  # type: ignore[arg-type]
             unit_strength=num("unit_strength", "N/mm²"),
             unit_strength_is_normalised=bool(form.unit_strength_is_normalised.data),
             unit_height=num("unit_height"),
@@ -385,13 +391,13 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
             shell_bedded=bool(form.shell_bedded.data),
             collar_joint={"yes": True, "no": False}.get(form.collar_joint.data),
             unit_category=form.unit_category.data,
-            execution_class=_whole(form.execution_class.data),
+            execution_class=_whole(form.execution_class.data),  # type: ignore[arg-type]
             manufacturing_control=form.manufacturing_control.data,
             construction_control=form.construction_control.data,
             gamma_M=num("gamma_M", ""),
         ),
         padstone=padstone,
-        bearing_type=_whole(form.bearing_type.data),
+        bearing_type=_whole(form.bearing_type.data),  # type: ignore[arg-type]
         e_mk=num("e_mk"),
         phi_m=num("phi_m", ""),
         beta_s=num("beta_s", ""),
@@ -402,7 +408,7 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
     return inp if error_count(form) == before else None
 
 
-def put_core_error(form, problem: InputError, skip: set[str] = frozenset()) -> None:
+def put_core_error(form, problem: InputError, skip: AbstractSet[str] = frozenset()) -> None:
     """Show the core's refusal against its field. A field whose text was already refused
     here is skipped: the core saw an empty value there, not what was typed."""
     name = FIELD_FOR.get(problem.field)

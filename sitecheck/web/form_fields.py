@@ -8,7 +8,9 @@ import math
 from wtforms import (
     StringField,
 )
-from wtforms.fields.choices import SelectChoice
+
+# WTForms 3.3 added SelectChoice; its stubs (types-WTForms 3.2) do not have it yet.
+from wtforms.fields.choices import SelectChoice  # type: ignore[attr-defined]
 
 from sitecheck.bearing import (
     InputError,

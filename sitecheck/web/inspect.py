@@ -154,7 +154,7 @@ def bearings(site_id):
 
 @bp.route("/sites/<site_id>/bearings/<bearing_id>/record", methods=["GET", "POST"])
 @login_required
-def record_form(site_id, bearing_id):
+def record_form(site_id: str, bearing_id: str):
     site, _role = site_for(site_id, "record")
     bearing = bearing_for(site, bearing_id)
     form = RecordForm()
@@ -168,7 +168,9 @@ def record_form(site_id, bearing_id):
     if form.record_uuid.errors:
         form.renew_uuid()
     else:
-        existing = store.get_record(db, site_id=site["id"], uuid=form.record_uuid.data)
+        record_uuid = form.record_uuid.data
+        assert record_uuid is not None  # validate_record_uuid made it a UUID's text
+        existing = store.get_record(db, site_id=site["id"], uuid=record_uuid)
         if existing is not None:
             if existing["bearing_id"] == bearing["id"] and existing["inspector_id"] == g.user["id"]:
                 # The same form sent again (a double tap, a retry after a lost answer).

@@ -36,7 +36,9 @@ from flask import (
 from flask_wtf import FlaskForm
 from markupsafe import Markup
 from wtforms import DateField, SelectMultipleField, StringField, ValidationError, widgets
-from wtforms.fields.choices import SelectChoice
+
+# WTForms 3.3 added SelectChoice; its stubs (types-WTForms 3.2) do not have it yet.
+from wtforms.fields.choices import SelectChoice  # type: ignore[attr-defined]
 from wtforms.validators import Length, Optional
 
 from sitecheck import store, workflow
@@ -146,7 +148,8 @@ def _date_message(form: PartForm) -> None:
     # WTForms' own words for a date it cannot read are "Not a valid date value."
     for field in (form.since, form.until):
         if field.errors and field.data is None and field.raw_data and field.raw_data[0]:
-            field.errors[:] = [
+            # Changed in place, as form.errors holds this list; the types call it a Sequence.
+            field.errors[:] = [  # type: ignore[index]
                 f"{field.label.text}: “{field.raw_data[0][:40]}” is not a day; write it as "
                 "2026-03-01."
             ]

@@ -28,7 +28,9 @@ from wtforms import (
     StringField,
     TextAreaField,
 )
-from wtforms.fields.choices import SelectChoice
+
+# WTForms 3.3 added SelectChoice; its stubs (types-WTForms 3.2) do not have it yet.
+from wtforms.fields.choices import SelectChoice  # type: ignore[attr-defined]
 from wtforms.validators import StopValidation, ValidationError
 
 from sitecheck.bearing import InputError
@@ -457,6 +459,7 @@ class RecordForm(FlaskForm):
         out: dict = {}
         for name in MEASUREMENT_FIELDS:
             field = self[name]
+            value: object
             if isinstance(field, NumberField):
                 value = field.number
             elif isinstance(field, TriStateField):

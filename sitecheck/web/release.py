@@ -52,7 +52,7 @@ def _release(site_id: str):
     form = ReleaseForm()
     if not form.validate_on_submit():
         return _release_page(found, form, status=400)
-    ids = list(dict.fromkeys(v for v in form.bearings.data if v))
+    ids = list(dict.fromkeys(v for v in form.bearings.data or () if v))
     # Every id is resolved before anything is released: an id from another site stops the
     # whole request (404) rather than leaving it half done.
     chosen = [bearing_for(found, bearing_id) for bearing_id in ids]
@@ -72,8 +72,9 @@ def _release(site_id: str):
                 site=found,
                 bearing=b,
                 contractor_id=g.user["id"],
-                contractor_name=form.contractor_name.data,
-                statement=form.statement.data,
+                # Both required: a form that validated holds text in each.
+                contractor_name=form.contractor_name.data or "",
+                statement=form.statement.data or "",
             )
         except (workflow.WorkflowError, store.StaleState, store.NotFound) as error:
             refused.append(

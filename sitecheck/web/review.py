@@ -335,6 +335,8 @@ def bearing_page(
         keep_form is not None,
     )
 
+    with_result = store.get_bearing(db, site_id=site["id"], bearing_id=b["id"], with_result=True)
+    assert with_result is not None  # b was read from this site a moment ago
     photos = []
     if latest is not None:
         photos = [
@@ -351,9 +353,7 @@ def bearing_page(
         site={"id": site["id"], "name": site["name"]},
         role=g.role,
         bearing=_bearing_summary(b),
-        design_result=store.get_bearing(
-            db, site_id=site["id"], bearing_id=b["id"], with_result=True
-        )["design_result"],
+        design_result=with_result["design_result"],
         latest=_record(latest, names, b) if latest else None,
         remedy_hint=_remedy_hint(site, b, latest),
         comparison=_compare(b["design_input"], latest["measurements"]) if latest else [],
@@ -395,6 +395,7 @@ def _page_forms(
         and latest is not None
     )
     if may_decide:
+        assert latest is not None  # may_decide asks for it
         if decision_form is None:
             decision_form = DecisionForm(formdata=None)
         # Always the values now on the page, even when the engineer's words are kept.

@@ -51,7 +51,7 @@ def pick(source: dict | None, *keys: str) -> dict | None:
     return {key: source.get(key) for key in keys}
 
 
-def pick_all(rows, *keys: str) -> list[dict]:
+def pick_all(rows, *keys: str) -> list[dict | None]:
     return [pick(row, *keys) for row in rows or []]
 
 

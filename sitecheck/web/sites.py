@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import csv
 import io
+from typing import Any
 
 from flask import (
     Blueprint,
@@ -219,7 +220,7 @@ def _next_for(site_id: str, role: str, counts: dict) -> dict | None:
         return None
     waiting = sum(n for state, n in counts.items() if workflow.who_acts(state)[0] == role)
     endpoint, words = _ACT_PAGES[role]
-    args = {"site": site_id} if endpoint == "review.queue" else {"site_id": site_id}
+    args: dict[str, Any] = {"site": site_id} if endpoint == "review.queue" else {"site_id": site_id}
     return {
         "count": waiting,
         "words": f"{waiting} bearing{'' if waiting == 1 else 's'} {words}",
@@ -480,7 +481,7 @@ def _schedule_given(form) -> tuple[str | bytes | None, int]:
         return None, 400
     upload = form.file.data
     pasted = form.text.data or ""
-    has_file = upload is not None and getattr(upload, "filename", "")
+    has_file = upload is not None and bool(getattr(upload, "filename", ""))
     if has_file and pasted.strip():
         add_error(form.text, "Give a file or pasted text, not both: clear one of them.")
         return None, 400
