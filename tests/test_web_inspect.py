@@ -167,7 +167,6 @@ def test_the_list_puts_bearings_to_survey_first_with_a_button_each(client_as, db
     assert done["latest_record_url"].startswith(f"/sites/{site['id']}/records/")
 
 
-
 def test_the_site_and_bearing_pages_offer_a_record_only_where_the_survey_list_does(
     client_as, db, site
 ):
@@ -185,6 +184,7 @@ def test_the_site_and_bearing_pages_offer_a_record_only_where_the_survey_list_do
         if b in failing:
             assert "not for survey yet" in page
     assert site_page.count("data-not-for-survey") == len(failing)
+
 
 def test_the_form_shows_design_values_and_phone_friendly_inputs(client_as, db, site):
     inspector = client_as("inspector")

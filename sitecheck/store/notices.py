@@ -365,6 +365,8 @@ def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
         [user_id],
     )
     engineer = one(
-        db, "SELECT 1 AS yes FROM memberships WHERE user_id = ? AND role = 'engineer' LIMIT 1", [user_id]
+        db,
+        "SELECT 1 AS yes FROM memberships WHERE user_id = ? AND role = 'engineer' LIMIT 1",
+        [user_id],
     )
     return {"waiting": row["waiting"], "new": row["new"], "engineer": engineer is not None}
