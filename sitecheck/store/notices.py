@@ -344,7 +344,8 @@ def last_looked(db: sqlite_utils.Database, *, user_id: int, site_id: str) -> str
 
 def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
     """For the engineer's header: bearings waiting for their decision across their sites,
-    and how many of them arrived since they last looked."""
+    how many of them arrived since they last looked, and whether they are the engineer on any
+    site at all (only then does the header offer the queue)."""
     row = one(
         db,
         f"""
@@ -363,4 +364,9 @@ def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
         """,
         [user_id],
     )
-    return {"waiting": row["waiting"], "new": row["new"]}
+    engineer = one(
+        db,
+        "SELECT 1 AS yes FROM memberships WHERE user_id = ? AND role = 'engineer' LIMIT 1",
+        [user_id],
+    )
+    return {"waiting": row["waiting"], "new": row["new"], "engineer": engineer is not None}
