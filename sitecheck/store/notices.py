@@ -19,7 +19,7 @@ from datetime import datetime, timedelta
 import sqlite_utils
 
 from sitecheck.store.base import many, one, placeholders, timestamp, transaction, utc_now
-from sitecheck.store.bearings import _OPEN_EVIDENCE
+from sitecheck.store.releases import OPEN_EVIDENCE
 
 # At most one notice message per person in this many seconds; the first after a quiet spell
 # goes at once, later ones wait and go together.
@@ -131,7 +131,7 @@ def waiting_notices(db: sqlite_utils.Database, *, now: datetime | None = None) -
                 ORDER BY d.created_at DESC, d.id DESC LIMIT 1) AS last_decision,
                (SELECT count(*) FROM notices_off o
                 WHERE o.user_id = n.user_id AND o.kind = n.kind) AS turned_off,
-               EXISTS (SELECT 1 FROM after_release_evidence e WHERE {_OPEN_EVIDENCE})
+               EXISTS (SELECT 1 FROM after_release_evidence e WHERE {OPEN_EVIDENCE})
                    AS after_release
         FROM notices n
         JOIN users u ON u.id = n.user_id
@@ -340,27 +340,3 @@ def last_looked(db: sqlite_utils.Database, *, user_id: int, site_id: str) -> str
         [user_id, site_id],
     )
     return row["looked_at"] if row else None
-
-
-def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
-    """For the engineer's header: bearings waiting for their decision across their sites,
-    and how many of them arrived since they last looked."""
-    row = one(
-        db,
-        f"""
-        SELECT count(*) AS waiting, coalesce(sum(since > looked), 0) AS new FROM (
-            SELECT coalesce(v.looked_at, m.created_at) AS looked,
-                   CASE WHEN b.state = 'engineer to decide' THEN b.state_changed_at
-                        ELSE (SELECT min(e.received_at) FROM after_release_evidence e
-                              WHERE {_OPEN_EVIDENCE}) END AS since
-            FROM memberships m
-            JOIN bearings b ON b.site_id = m.site_id
-            LEFT JOIN site_visits v ON v.user_id = m.user_id AND v.site_id = m.site_id
-            WHERE m.user_id = ? AND m.role = 'engineer'
-              AND (b.state = 'engineer to decide' OR (b.state = 'released' AND EXISTS (
-                  SELECT 1 FROM after_release_evidence e WHERE {_OPEN_EVIDENCE})))
-        )
-        """,
-        [user_id],
-    )
-    return {"waiting": row["waiting"], "new": row["new"]}

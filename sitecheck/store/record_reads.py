@@ -16,8 +16,9 @@ from datetime import date, timedelta
 import sqlite_utils
 
 from sitecheck.store.base import decode_row, many, one, placeholders
-from sitecheck.store.bearings import _NEWEST_FIRST, _RECORD_COLUMNS
+from sitecheck.store.bearings import NEWEST_FIRST
 from sitecheck.store.migrations import STATES
+from sitecheck.store.records import RECORD_COLUMNS
 
 # Bearings read at a time: big enough that the per-query cost vanishes, small enough that a
 # batch's decoded calculations (about 100 KB a bearing as Python objects) stay a few tens of MB.
@@ -229,9 +230,9 @@ def _with_their_rows(
     records = rows(
         db,
         f"""
-        SELECT {_RECORD_COLUMNS} FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
+        SELECT {RECORD_COLUMNS} FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
         WHERE b.site_id = ? AND r.bearing_id IN ({marks})
-        ORDER BY r.bearing_id, {_NEWEST_FIRST}
+        ORDER BY r.bearing_id, {NEWEST_FIRST}
         """,
         [site_id, *ids],
     )
