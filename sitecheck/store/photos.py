@@ -71,28 +71,10 @@ def insert_photo(
             )
         row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
         if row is not None:
-            if row["record_uuid"] != record_uuid:
-                raise UuidInUse(
-                    "This photo's UUID is already used by another photo; the phone must make a "
-                    "new UUID for each photo"
-                )
-            if _other_picture(row, upload_sha256, sha256):
-                raise SameIdOtherValues(
-                    "A photo with this id was already stored with another picture. This "
-                    "picture was not stored: add it to the record again, which gives it a new "
-                    "id.",
-                    ("picture",),
-                )
+            _refuse_other_photo(row, record_uuid, upload_sha256, sha256)
             return Stored(row=row, created=False)
         if max_photos is not None:
-            count = one(
-                db, "SELECT count(*) AS n FROM photos WHERE record_uuid = ?", [record_uuid]
-            )["n"]
-            if count >= max_photos:
-                raise TooManyPhotos(
-                    f"At most {max_photos} photos for one as-built record; this record has "
-                    f"{count} already, so this photo was not stored."
-                )
+            _refuse_past_limit(db, record_uuid, max_photos)
         if keep_files is not None:
             keep_files()
         db.execute(
@@ -117,27 +99,27 @@ def insert_photo(
             ],
         )
         row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
-        detail = {"photo_uuid": uuid, "record_uuid": record_uuid, "sha256": sha256}
-        state = one(db, "SELECT state FROM bearings WHERE id = ?", [record["bearing_id"]])
-        if state["state"] == RELEASED:
-            # Kept, and listed for the engineer: the release may rest on this very record.
-            add_after_release(
-                db,
-                record["bearing_id"],
-                record_uuid=record_uuid,
-                photo_uuid=uuid,
-                received=row["created_at"],
-            )
-            detail["after_release"] = True
-        add_event(
-            db,
-            kind="photo received",
-            user_id=user_id,
-            site_id=site_id,
-            bearing_id=record["bearing_id"],
-            detail=detail,
-        )
+        _photo_received(db, record, row, user_id)
     return Stored(row=row, created=True)
+
+
+def _refuse_other_photo(
+    row: dict, record_uuid: str, upload_sha256: str | None, sha256: str
+) -> None:
+    """A photo's uuid stored already may come again only for the same record with the same
+    upload (a phone that did not hear the answer)."""
+    if row["record_uuid"] != record_uuid:
+        raise UuidInUse(
+            "This photo's UUID is already used by another photo; the phone must make a "
+            "new UUID for each photo"
+        )
+    if _other_picture(row, upload_sha256, sha256):
+        raise SameIdOtherValues(
+            "A photo with this id was already stored with another picture. This "
+            "picture was not stored: add it to the record again, which gives it a new "
+            "id.",
+            ("picture",),
+        )
 
 
 def _other_picture(row: dict, upload_sha256: str | None, sha256: str) -> bool:
@@ -146,6 +128,39 @@ def _other_picture(row: dict, upload_sha256: str | None, sha256: str) -> bool:
     if row["upload_sha256"] is not None and upload_sha256 is not None:
         return row["upload_sha256"] != upload_sha256
     return row["sha256"] != sha256
+
+
+def _refuse_past_limit(db: sqlite_utils.Database, record_uuid: str, max_photos: int) -> None:
+    count = one(db, "SELECT count(*) AS n FROM photos WHERE record_uuid = ?", [record_uuid])["n"]
+    if count >= max_photos:
+        raise TooManyPhotos(
+            f"At most {max_photos} photos for one as-built record; this record has "
+            f"{count} already, so this photo was not stored."
+        )
+
+
+def _photo_received(db: sqlite_utils.Database, record: dict, row: dict, user_id: int) -> None:
+    """The event of a new photo; for a released bearing, also listed for the engineer."""
+    detail = {"photo_uuid": row["uuid"], "record_uuid": record["uuid"], "sha256": row["sha256"]}
+    state = one(db, "SELECT state FROM bearings WHERE id = ?", [record["bearing_id"]])
+    if state["state"] == RELEASED:
+        # Kept, and listed for the engineer: the release may rest on this very record.
+        add_after_release(
+            db,
+            record["bearing_id"],
+            record_uuid=record["uuid"],
+            photo_uuid=row["uuid"],
+            received=row["created_at"],
+        )
+        detail["after_release"] = True
+    add_event(
+        db,
+        kind="photo received",
+        user_id=user_id,
+        site_id=record["site_id"],
+        bearing_id=record["bearing_id"],
+        detail=detail,
+    )
 
 
 def photo_files_in_use(db: sqlite_utils.Database, shas: Iterable[str]) -> set[str]:

@@ -96,21 +96,7 @@ def start_record_job(
     moment = now or utc_now()
     at = timestamp(moment)
     with transaction(db):
-        db.execute(
-            f"""
-            UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
-            WHERE site_id = ? AND kind = ? AND selection = ? AND state IN {RUNNING}
-                AND updated_at < ?
-            """,
-            [
-                STOPPED_BY_RESTART,
-                at,
-                site_id,
-                kind,
-                selection,
-                _stale_before(stale_after_s, moment),
-            ],
-        )
+        _stop_stale(db, site_id, kind, selection, at, _stale_before(stale_after_s, moment))
         running = one(
             db,
             "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND selection = ? "
@@ -128,24 +114,7 @@ def start_record_job(
         if done is not None and done["site_version"] == version and file_kept(done):
             return done, "reused"
         if user_id is not None:
-            since = timestamp(moment - timedelta(seconds=window_s))
-            mine = many(
-                db,
-                "SELECT created_at FROM record_jobs WHERE started_by = ? AND kind = ? "
-                "AND created_at >= ? ORDER BY created_at",
-                [user_id, kind, since],
-            )
-            if len(mine) >= per_user:
-                oldest = datetime.fromisoformat(mine[0]["created_at"].replace("Z", "+00:00"))
-                retry_at = timestamp(oldest + timedelta(seconds=window_s))
-                what = _KIND_WORDS[kind]
-                raise TooManyRecords(
-                    f"You have started {len(mine)} {what}s in the last "
-                    f"{_duration(window_s)}, the most one person may. The newest finished "
-                    f"{what} stays available; you can start another after {retry_at[11:16]} "
-                    "UTC.",
-                    retry_at,
-                )
+            _refuse_too_many(db, user_id, kind, moment, per_user=per_user, window_s=window_s)
         db.execute(
             """
             INSERT INTO record_jobs (id, site_id, kind, selection, state, started_by,
@@ -155,6 +124,50 @@ def start_record_job(
             [job_id, site_id, kind, selection, user_id, version, at, at],
         )
     return get_record_job(db, job_id), "started"
+
+
+def _stop_stale(
+    db: sqlite_utils.Database, site_id: str, kind: str, selection: str, at: str, before: str
+) -> None:
+    """Mark stopped a making of this kind and part not heard from since ``before``: the
+    process that ran it stopped."""
+    db.execute(
+        f"""
+        UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
+        WHERE site_id = ? AND kind = ? AND selection = ? AND state IN {RUNNING}
+            AND updated_at < ?
+        """,
+        [STOPPED_BY_RESTART, at, site_id, kind, selection, before],
+    )
+
+
+def _refuse_too_many(
+    db: sqlite_utils.Database,
+    user_id: int,
+    kind: str,
+    moment: datetime,
+    *,
+    per_user: int,
+    window_s: float,
+) -> None:
+    since = timestamp(moment - timedelta(seconds=window_s))
+    mine = many(
+        db,
+        "SELECT created_at FROM record_jobs WHERE started_by = ? AND kind = ? "
+        "AND created_at >= ? ORDER BY created_at",
+        [user_id, kind, since],
+    )
+    if len(mine) >= per_user:
+        oldest = datetime.fromisoformat(mine[0]["created_at"].replace("Z", "+00:00"))
+        retry_at = timestamp(oldest + timedelta(seconds=window_s))
+        what = _KIND_WORDS[kind]
+        raise TooManyRecords(
+            f"You have started {len(mine)} {what}s in the last "
+            f"{_duration(window_s)}, the most one person may. The newest finished "
+            f"{what} stays available; you can start another after {retry_at[11:16]} "
+            "UTC.",
+            retry_at,
+        )
 
 
 # How a refusal names each kind of making.

@@ -19,6 +19,7 @@ from sitecheck.store.base import (
     one,
     pack_json,
     parse_timestamp,
+    placeholders,
     timestamp,
     to_json,
     transaction,
@@ -83,76 +84,39 @@ def insert_record(
     measured = parse_timestamp(measured_at, field="measured_at")
     if blocking < 0:
         raise ValueError(f"blocking {blocking} is negative; count the blocking review reasons")
+    # What the phone sent: the same uuid sent again must carry the same.
+    sent = {
+        "design_revision": design_revision,
+        "measured_at": measured,
+        "measurements": measurements,
+        "checklist": checklist or {},
+        "notes": (notes or "").strip(),
+        "why_not_measured": why_not_measured,
+    }
     with transaction(db):
         bearing = existing_bearing(db, site_id, bearing_id)
-        if not 1 <= design_revision <= bearing["revision"]:
-            raise ValueError(
-                f"design_revision {design_revision} does not exist for bearing "
-                f"{bearing['reference']} (latest is {bearing['revision']}); refresh the site pack"
-            )
+        _revision_exists(bearing, design_revision)
         received = timestamp(now or utc_now())
         late = bearing["state"] == RELEASED
-        cursor = db.execute(
-            """
-            INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id,
-                measured_at, received_at, measurements, checklist, notes, result, governing,
-                reasons, utilisation, passed, blocking, late, why_not_measured)
-            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-            ON CONFLICT (uuid) DO NOTHING
-            """,
-            [
-                uuid,
-                bearing_id,
-                design_revision,
-                inspector_id,
-                measured,
-                received,
-                to_json(measurements),
-                to_json(checklist or {}),
-                (notes or "").strip(),
-                pack_json(result),
-                result.get("governing"),
-                to_json(reasons),
-                utilisation,
-                int(bool(passed)),
-                blocking,
-                int(late),
-                why_not_measured,
-            ],
-        )
-        created = cursor.rowcount == 1
-        if not created:
-            row = one(db, f"SELECT {RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
-            if row["bearing_id"] != bearing_id or row["inspector_id"] != inspector_id:
-                raise UuidInUse(
-                    "This record's UUID is already used by another record; the phone must make "
-                    "a new UUID for each record"
-                )
-            sent = {
-                "design_revision": design_revision,
-                "measured_at": measured,
-                "measurements": measurements,
-                "checklist": checklist or {},
-                "notes": (notes or "").strip(),
-                "why_not_measured": why_not_measured,
-            }
-            differs = tuple(name for name, value in sent.items() if not _same(value, row[name]))
-            if differs:
-                raise SameIdOtherValues(
-                    "An as-built record with this id was already stored with other values ("
-                    + ", ".join(_FIELD_WORDS[name] for name in differs)
-                    + "). These values were not stored: record the bearing again from them, "
-                    "which gives the record a new id.",
-                    differs,
-                )
-            return RecordStored(
-                row=record_line(db, site_id=site_id, uuid=uuid),
-                created=False,
-                state=bearing["state"],
-            )
+        kept = {
+            "uuid": uuid,
+            "bearing_id": bearing_id,
+            "inspector_id": inspector_id,
+            "received_at": received,
+            "result": pack_json(result),
+            "governing": result.get("governing"),
+            "reasons": to_json(reasons),
+            "utilisation": utilisation,
+            "passed": int(bool(passed)),
+            "blocking": blocking,
+            "late": int(late),
+        }
+        if not _insert_once(db, sent, kept):
+            return _stored_already(db, site_id, uuid, bearing, inspector_id, sent)
         is_newest = newest_record_uuid(db, bearing_id) == uuid
         if late:
             add_after_release(db, bearing_id, record_uuid=uuid, received=received)
+        state = known_state(state_after_record(bearing["state"], blocking, is_newest))
         detail = {
             "record_uuid": uuid,
             "newest": is_newest,
@@ -161,40 +125,104 @@ def insert_record(
             "bearing_revision": bearing["revision"],
             "blocking": blocking,
         }
-        state = known_state(state_after_record(bearing["state"], blocking, is_newest))
-        if is_newest and not late:
-            move_state(
-                db,
-                bearing,
-                new_state=state,
-                user_id=inspector_id,
-                kind="record received",
-                at=received,
-                latest_record_uuid=uuid,
-                detail=detail,
-            )
-        elif state != bearing["state"]:
-            # The rule moved the state without this record becoming the latest; the lock
-            # triggers still refuse this for a released bearing.
-            move_state(
-                db,
-                bearing,
-                new_state=state,
-                user_id=inspector_id,
-                kind="record received",
-                at=received,
-                detail=detail,
-            )
-        else:
-            add_event(
-                db,
-                kind="record received",
-                user_id=inspector_id,
-                site_id=site_id,
-                bearing_id=bearing_id,
-                detail=detail,
-            )
+        _record_received(db, bearing, state, detail, inspector_id, received)
     return RecordStored(row=record_line(db, site_id=site_id, uuid=uuid), created=True, state=state)
+
+
+def _revision_exists(bearing: dict, design_revision: int) -> None:
+    if not 1 <= design_revision <= bearing["revision"]:
+        raise ValueError(
+            f"design_revision {design_revision} does not exist for bearing "
+            f"{bearing['reference']} (latest is {bearing['revision']}); refresh the site pack"
+        )
+
+
+def _insert_once(db: sqlite_utils.Database, sent: dict[str, Any], kept: dict[str, Any]) -> bool:
+    """Insert the record unless its uuid is stored already; True if this call stored it."""
+    columns = {
+        **sent,
+        "measurements": to_json(sent["measurements"]),
+        "checklist": to_json(sent["checklist"]),
+        **kept,
+    }
+    cursor = db.execute(
+        f"INSERT INTO as_built_records ({', '.join(columns)}) "
+        f"VALUES ({placeholders(columns)}) ON CONFLICT (uuid) DO NOTHING",
+        list(columns.values()),
+    )
+    return cursor.rowcount == 1
+
+
+def _stored_already(
+    db: sqlite_utils.Database,
+    site_id: str,
+    uuid: str,
+    bearing: dict,
+    inspector_id: int,
+    sent: dict[str, Any],
+) -> RecordStored:
+    """The record as first stored, when the same inspector sends it again for the same
+    bearing with the same values (a phone that did not hear the answer); else refused."""
+    row = one(db, f"SELECT {RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
+    if row["bearing_id"] != bearing["id"] or row["inspector_id"] != inspector_id:
+        raise UuidInUse(
+            "This record's UUID is already used by another record; the phone must make "
+            "a new UUID for each record"
+        )
+    differs = tuple(name for name, value in sent.items() if not _same(value, row[name]))
+    if differs:
+        raise SameIdOtherValues(
+            "An as-built record with this id was already stored with other values ("
+            + ", ".join(_FIELD_WORDS[name] for name in differs)
+            + "). These values were not stored: record the bearing again from them, "
+            "which gives the record a new id.",
+            differs,
+        )
+    row = record_line(db, site_id=site_id, uuid=uuid)
+    return RecordStored(row=row, created=False, state=bearing["state"])
+
+
+def _record_received(
+    db: sqlite_utils.Database,
+    bearing: dict,
+    state: str,
+    detail: dict[str, Any],
+    inspector_id: int,
+    received: str,
+) -> None:
+    """The event of a new record, moving the bearing where the record moves it."""
+    if detail["newest"] and not detail["late"]:
+        move_state(
+            db,
+            bearing,
+            new_state=state,
+            user_id=inspector_id,
+            kind="record received",
+            at=received,
+            latest_record_uuid=detail["record_uuid"],
+            detail=detail,
+        )
+    elif state != bearing["state"]:
+        # The rule moved the state without this record becoming the latest; the lock
+        # triggers still refuse this for a released bearing.
+        move_state(
+            db,
+            bearing,
+            new_state=state,
+            user_id=inspector_id,
+            kind="record received",
+            at=received,
+            detail=detail,
+        )
+    else:
+        add_event(
+            db,
+            kind="record received",
+            user_id=inspector_id,
+            site_id=bearing["site_id"],
+            bearing_id=bearing["id"],
+            detail=detail,
+        )
 
 
 _FIELD_WORDS = {
