@@ -1,6 +1,7 @@
 """The layer table of DEVELOPERS.md is the contract: the code imports only what it allows,
 every room of the package has a row, and no circle runs between rooms. Only the store speaks
-SQL. The checkers are tried on small packages of their own first, so a pass means something."""
+SQL, and views only read it: what writes goes through a service. The checkers are tried on
+small packages of their own first, so a pass means something."""
 
 from __future__ import annotations
 
@@ -19,6 +20,8 @@ from devtools.layers import (
     room_edges,
     room_of,
     sql_spoken,
+    store_names_used,
+    store_writers,
 )
 
 LAYERS = declared_layers((ROOT / "DEVELOPERS.md").read_text(encoding="utf-8"))
@@ -118,6 +121,55 @@ def test_the_sql_checker_sees_imports_names_and_calls(tmp_path):
     ]
 
 
+def test_the_writer_finder_follows_sql_and_calls_and_sees_every_way_a_view_names_the_store(
+    tmp_path,
+):
+    package = write_package(
+        tmp_path,
+        {
+            "__init__.py": "",
+            "store/__init__.py": "from .rows import add, add_two, get, transaction\n",
+            "store/rows.py": """\
+                def transaction(db):
+                    db.execute("BEGIN IMMEDIATE")
+                def add(db):
+                    \"\"\"Not an UPDATE: the docstring is words.\"\"\"
+                    db.execute(f"INSERT INTO t VALUES ({1})")
+                def add_two(db):
+                    add(db)
+                    add(db)
+                def get(db):
+                    \"\"\"Reads; an INSERT in a docstring is not one.\"\"\"
+                    return db.execute("SELECT * FROM t")
+                """,
+            "web/__init__.py": "",
+            "web/pages.py": """\
+                from sitecheck import store
+                from sitecheck import store as s
+                from sitecheck.store import add
+                from ..store.rows import transaction
+                def page(db):
+                    store.get(db)
+                    s.add_two(db)
+                    return store.rows.get(db)
+                """,
+        },
+    )
+    writers = store_writers(package / "store")
+    assert writers == {
+        "transaction": "BEGIN IMMEDIATE",
+        "add": "INSERT",
+        "add_two": "calls add",
+    }
+    used = store_names_used(package / "web" / "pages.py", package)
+    assert [(line, name) for line, name in used if name in writers] == [
+        (3, "add"),
+        (4, "transaction"),
+        (7, "add_two"),
+    ]
+    assert (8, "get") in used
+
+
 # --- the package keeps the contract -----------------------------------------------------------
 
 
@@ -159,3 +211,21 @@ def test_no_circle_runs_between_rooms():
 )
 def test_only_the_store_speaks_sql(path):
     assert sql_spoken(path) == []
+
+
+# The app factory opens the database once, migrating it, before any request is served.
+VIEWS_MAY_WRITE = {("sitecheck/web/__init__.py", "open_db")}
+
+
+def test_views_read_the_store_and_act_through_services():
+    writers = store_writers()
+    # The finder sees the store's writers of every kind, so a pass is not an empty list.
+    assert {"add_event", "insert_record", "looked", "touch_session", "transaction"} <= set(writers)
+    assert not {"get_bearing", "bearing_lines", "review_queue", "pack_rows"} & set(writers)
+    offences = [
+        f"{path.relative_to(ROOT).as_posix()}:{line} calls store.{name} ({writers[name]})"
+        for path in sorted((PACKAGE / "web").rglob("*.py"))
+        for line, name in store_names_used(path)
+        if name in writers and (path.relative_to(ROOT).as_posix(), name) not in VIEWS_MAY_WRITE
+    ]
+    assert offences == []
