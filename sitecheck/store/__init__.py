@@ -7,6 +7,10 @@ its first argument and the rest as keyword arguments. JSON columns come back as 
 than one row runs in one transaction; wrap several calls in ``transaction(db)`` to make them one.
 """
 
+# The connection every function here takes first, named for callers' type annotations: only
+# the store names the SQL library.
+from sqlite_utils import Database as Database
+
 from sitecheck.store.accounts import (
     SESSION_ABSOLUTE_S,
     SESSION_IDLE_S,
@@ -212,6 +216,7 @@ __all__ = [
     "STATES",
     "AlreadyMember",
     "Conflict",
+    "Database",
     "DuplicateEmail",
     "DuplicateReference",
     "FailedLogIns",
