@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from devtools.long_functions import ROOT, long_functions
 
+
 def test_the_finder_sees_a_long_function_and_its_reason(tmp_path):
     body = "\n".join(f"    x{i} = {i}" for i in range(85))
     (tmp_path / "long.py").write_text(
