@@ -489,7 +489,9 @@ def keep_release(
     )
 
 
-def sign_off(db, *, site_id: str, engineer_id: int, engineer_name: str, statement: str) -> dict:
+def sign_off(
+    db: store.Database, *, site_id: str, engineer_id: int, engineer_name: str, statement: str
+) -> store.Row:
     """The engineer signs the site record off as it stands at this moment."""
     return store.add_sign_off(
         db,
@@ -500,7 +502,14 @@ def sign_off(db, *, site_id: str, engineer_id: int, engineer_name: str, statemen
     )
 
 
-def refused(db, *, user_id: int, action: str, site_id: str | None = None, role: str | None = None):
+def refused(
+    db: store.Database,
+    *,
+    user_id: int,
+    action: str,
+    site_id: str | None = None,
+    role: str | None = None,
+) -> None:
     """Someone asked to do what they may not: the audit trail keeps it (a "refused" event
     with the action, and their role on the site when it was a site's action)."""
     detail = {"action": action} if role is None else {"action": action, "role": role}

@@ -9,12 +9,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from datetime import datetime
-from typing import Any
 
 from sitecheck import credentials, store
 
 
-def user_for_token(db: Any, token: str) -> dict[str, Any] | None:
+def user_for_token(db: store.Database, token: str) -> store.Row | None:
     """The user behind a session cookie's token, or None: a revoked, expired or disabled
     session gives None straight away (the cookie alone proves nothing). The session is
     marked as used at most once a minute, not on every request."""
@@ -36,7 +35,7 @@ class LogIn:
 
 
 def log_in(
-    db: Any,
+    db: store.Database,
     *,
     email: str,
     password: str,
@@ -65,7 +64,7 @@ def log_in(
 
 
 def _log_in_wait(
-    db: Any,
+    db: store.Database,
     email: str,
     remote_addr: str,
     window_s: int,
@@ -86,7 +85,9 @@ def _log_in_wait(
     return max(waits)
 
 
-def begin_session(db: Any, *, user_id: int, how: dict[str, Any]) -> credentials.SessionToken:
+def begin_session(
+    db: store.Database, *, user_id: int, how: dict[str, str]
+) -> credentials.SessionToken:
     """A new session for someone who has just proven who they are, with its log-in event
     (``how``: from where, or by which link)."""
     token = credentials.new_session_token()
@@ -95,13 +96,13 @@ def begin_session(db: Any, *, user_id: int, how: dict[str, Any]) -> credentials.
     return token
 
 
-def is_password(db: Any, *, email: str, password: str) -> bool:
+def is_password(db: store.Database, *, email: str, password: str) -> bool:
     """Whether this is the account's password now (timed alike for any answer)."""
     cred = store.login_credentials(db, email)
     return credentials.verify_login(cred["password_hash"] if cred else None, password)
 
 
-def new_password(db: Any, *, user_id: int, password: str) -> credentials.SessionToken:
+def new_password(db: store.Database, *, user_id: int, password: str) -> credentials.SessionToken:
     """The person's own new password: every session of the account ends (a stolen one
     too), and the one returned starts afresh."""
     with store.transaction(db):
@@ -116,13 +117,13 @@ def new_password(db: Any, *, user_id: int, password: str) -> credentials.Session
     return token
 
 
-def log_out(db: Any, *, token: str, user_id: int | None) -> None:
+def log_out(db: store.Database, *, token: str, user_id: int | None) -> None:
     """End the session the cookie carries (``user_id``: whose it was, if it still worked)."""
     store.revoke_session(db, credentials.session_id_for(token))
     if user_id is not None:
         store.add_event(db, kind="log-out", user_id=user_id)
 
 
-def set_disabled(db: Any, *, user_id: int, disabled: bool, by_user_id: int) -> int:
+def set_disabled(db: store.Database, *, user_id: int, disabled: bool, by_user_id: int) -> int:
     """Disable an account (its sessions end at once; returns how many) or enable it."""
     return store.set_disabled(db, user_id=user_id, disabled=disabled, by_user_id=by_user_id)

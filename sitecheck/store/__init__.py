@@ -2,9 +2,10 @@
 
 Open one connection per thread with ``open_db(path)`` (or ``connect(path)`` where the schema
 is known to be up to date: a server migrates once at start); every function takes it as
-its first argument and the rest as keyword arguments. JSON columns come back as Python values,
-0/1 flags as booleans, times as UTC ISO 8601 text ending in 'Z'. Every change that writes more
-than one row runs in one transaction; wrap several calls in ``transaction(db)`` to make them one.
+its first argument and the rest as keyword arguments. Rows come back as ``Row``, a dict by
+column name: JSON columns as Python values, 0/1 flags as booleans, times as UTC ISO 8601 text
+ending in 'Z'. Every change that writes more than one row runs in one transaction; wrap
+several calls in ``transaction(db)`` to make them one.
 """
 
 # The connection every function here takes first, named for callers' type annotations: only
@@ -35,7 +36,7 @@ from sitecheck.store.accounts import (
     set_password_hash,
     touch_session,
 )
-from sitecheck.store.base import roll_back_unfinished, timestamp, transaction, utc_now
+from sitecheck.store.base import Row, roll_back_unfinished, timestamp, transaction, utc_now
 from sitecheck.store.bearings import (
     RELEASABLE_STATES,
     add_bearing,
@@ -224,6 +225,7 @@ __all__ = [
     "NotFound",
     "PackRows",
     "RecordStored",
+    "Row",
     "SameIdOtherValues",
     "Selection",
     "StaleState",

@@ -25,6 +25,7 @@ from typing import Any
 import sqlite_utils
 
 from sitecheck.store.base import (
+    Row,
     many,
     new_id,
     one,
@@ -58,14 +59,14 @@ def known_state(state: str) -> str:
     return state
 
 
-def existing_bearing(db: sqlite_utils.Database, site_id: str, bearing_id: str) -> dict:
+def existing_bearing(db: sqlite_utils.Database, site_id: str, bearing_id: str) -> Row:
     bearing = get_bearing(db, site_id=site_id, bearing_id=bearing_id)
     if bearing is None:
         raise NotFound("No such bearing on this site")
     return bearing
 
 
-def expect_state(bearing: dict, expected_state: str) -> None:
+def expect_state(bearing: Row, expected_state: str) -> None:
     if bearing["state"] != expected_state:
         raise StaleState(
             f"Bearing {bearing['reference']} is now '{bearing['state']}', "
@@ -81,7 +82,7 @@ def not_before(moment: datetime | None, floor: str) -> str:
 
 def move_state(
     db: sqlite_utils.Database,
-    bearing: dict,
+    bearing: Row,
     *,
     new_state: str,
     user_id: int | None,
@@ -126,7 +127,7 @@ def add_bearing(
     utilisation: float | None,
     passed: bool,
     user_id: int,
-) -> dict:
+) -> Row:
     """Add a bearing at revision 1, 'awaiting survey'. References are unique per site, any case."""
     reference = required_text(reference, "bearing reference")
     bearing_id = new_id()
@@ -183,20 +184,20 @@ def add_bearing(
             bearing_id=bearing_id,
             after={"reference": reference, "revision": 1, "state": "awaiting survey"},
         )
-    return get_bearing(db, site_id=site_id, bearing_id=bearing_id)
+    return existing_bearing(db, site_id, bearing_id)
 
 
 def _insert_revision(
-    db,
-    bearing_id,
-    revision,
-    location,
-    design_input,
-    design_result,
-    utilisation,
-    passed,
-    user_id,
-    at,
+    db: sqlite_utils.Database,
+    bearing_id: str,
+    revision: int,
+    location: str | None,
+    design_input: dict[str, Any],
+    design_result: dict[str, Any],
+    utilisation: float | None,
+    passed: bool,
+    user_id: int,
+    at: str,
 ) -> None:
     db.execute(
         """
@@ -240,7 +241,7 @@ def revise_bearing(
     passed: bool,
     user_id: int,
     location: str | None = None,
-) -> dict:
+) -> Row:
     """Store a new design revision; earlier ones stay in bearing_revisions.
 
     ``new_state`` comes from ``workflow.state_after_revision``. ``expected_revision`` stops two
@@ -302,7 +303,7 @@ def revise_bearing(
                 },
             },
         )
-    return get_bearing(db, site_id=site_id, bearing_id=bearing_id)
+    return existing_bearing(db, site_id, bearing_id)
 
 
 # A bearing with its current design result, which is kept on its design revision only.
@@ -314,7 +315,7 @@ _WITH_RESULT = """
 
 def get_bearing(
     db: sqlite_utils.Database, *, site_id: str, bearing_id: str, with_result: bool = False
-) -> dict | None:
+) -> Row | None:
     """A bearing; ``with_result`` adds its current ``design_result`` (the whole trace, to
     show the calculation: every other use has the governing check, utilisation and verdict
     in the bearing's own columns)."""
@@ -325,7 +326,7 @@ def get_bearing(
 
 def bearing_by_reference(
     db: sqlite_utils.Database, *, site_id: str, reference: str, with_result: bool = False
-) -> dict | None:
+) -> Row | None:
     """Find by reference, ignoring case and surrounding spaces (as the schedule import needs);
     ``with_result`` as for :func:`get_bearing`."""
     select = _WITH_RESULT if with_result else "SELECT b.* FROM bearings b"
@@ -338,7 +339,7 @@ def bearing_by_reference(
 
 def list_bearings(
     db: sqlite_utils.Database, *, site_id: str, states: Iterable[str] | None = None
-) -> list[dict]:
+) -> list[Row]:
     """A site's bearings by reference, each with its whole design result, optionally only
     those in the given states: for the site record and the data export. Lists use
     :func:`bearing_lines`, which unpacks nothing."""
@@ -361,7 +362,7 @@ def list_bearings(
     )
 
 
-def bearing_revisions(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def bearing_revisions(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     """Every design revision of a bearing, oldest first."""
     return many(
         db,
@@ -373,7 +374,7 @@ def bearing_revisions(db: sqlite_utils.Database, *, site_id: str, bearing_id: st
     )
 
 
-def releasable(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
+def releasable(db: sqlite_utils.Database, *, site_id: str) -> list[Row]:
     """Bearings the contractor may release for closing up now."""
     return list_bearings(db, site_id=site_id, states=RELEASABLE_STATES)
 
@@ -388,7 +389,7 @@ def set_state(
     user_id: int | None,
     kind: str = "state changed",
     detail: dict[str, Any] | None = None,
-) -> dict:
+) -> Row:
     """Move a bearing from ``expected_state`` to ``new_state`` and write the event.
 
     Releasing and reopening have their own functions, which also write their own rows; the
@@ -408,7 +409,7 @@ def set_state(
             at=timestamp(),
             detail=detail,
         )
-    return get_bearing(db, site_id=site_id, bearing_id=bearing_id)
+    return existing_bearing(db, site_id, bearing_id)
 
 
 def newest_record_uuid(db: sqlite_utils.Database, bearing_id: str) -> str | None:
@@ -424,7 +425,7 @@ def newest_record_uuid(db: sqlite_utils.Database, bearing_id: str) -> str | None
 
 def rows_of_bearing(
     db: sqlite_utils.Database, table: str, site_id: str, bearing_id: str
-) -> list[dict]:
+) -> list[Row]:
     """A bearing's rows of ``table``, oldest first. ``table`` is always one of the store's
     fixed names (decisions, releases, reopenings, releases_kept), never a caller's text."""
     return many(

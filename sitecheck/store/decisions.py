@@ -7,10 +7,11 @@ from typing import Any
 import sqlite_utils
 
 from sitecheck.store.base import (
+    Row,
     canonical_uuid,
     many,
-    one,
     required_text,
+    the_row,
     timestamp,
     to_json,
     transaction,
@@ -41,7 +42,7 @@ def record_decision(
     engineer_name: str | None = None,
     accepted_failing: dict[str, Any] | None = None,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """Store the engineer's decision on the bearing's latest record and move its state.
 
     ``new_state`` is ``workflow.state_after_decision(kind)``. If a newer record arrived since
@@ -99,17 +100,17 @@ def record_decision(
                 **({"accepted_failing": accepted_failing} if accepted_failing else {}),
             },
         )
-    return one(db, "SELECT * FROM decisions WHERE id = ?", [decision_id])
+    return the_row(db, "SELECT * FROM decisions WHERE id = ?", [decision_id])
 
 
-def decisions_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def decisions_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     """A bearing's decisions, oldest first."""
     return rows_of_bearing(db, "decisions", site_id, bearing_id)
 
 
 def latest_decisions(
     db: sqlite_utils.Database, *, site_id: str, bearing_id: str | None = None
-) -> dict[str, dict]:
+) -> dict[str, Row]:
     """Each bearing's newest decision on a site (or only ``bearing_id``'s), by bearing id,
     with the engineer's name as signed (or as the account is called, for a decision from
     before names were kept)."""

@@ -6,10 +6,11 @@ and the phone find the same bearings.
 """
 
 from collections.abc import Iterable
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, placeholders, rows
+from sitecheck.store.base import Row, many, placeholders, rows, the_row
 from sitecheck.store.bearings import known_state
 from sitecheck.store.migrations import STATES
 
@@ -26,7 +27,7 @@ _LATEST = """
 
 def _line_filter(
     site_id: str, states: Iterable[str] | None, words: Iterable[str]
-) -> tuple[str, list]:
+) -> tuple[str, list[Any]]:
     """WHERE for a site's bearings in ``states`` whose reference or location holds every one
     of ``words`` (compared as Python lowers text, as the survey list's search does)."""
     where, params = ["b.site_id = ?"], [site_id]
@@ -49,7 +50,7 @@ def bearing_lines(
     with_latest: bool = False,
     limit: int | None = None,
     offset: int = 0,
-) -> list[dict]:
+) -> list[Row]:
     """A site's bearings by reference, as a list shows them: the governing check's code and
     title, the design's utilisation and verdict, and with ``with_latest`` the latest record's
     ``latest_measured_at``, ``latest_utilisation``, ``latest_passed``, ``latest_blocking``
@@ -79,10 +80,10 @@ def count_bearing_lines(
 ) -> int:
     """How many bearings :func:`bearing_lines` would list with no page."""
     where, params = _line_filter(site_id, states, list(words))
-    return one(db, f"SELECT count(*) AS n FROM bearings b WHERE {where}", params)["n"]
+    return int(the_row(db, f"SELECT count(*) AS n FROM bearings b WHERE {where}", params)["n"])
 
 
-def bearing_counts(db: sqlite_utils.Database, *, site_id: str) -> dict:
+def bearing_counts(db: sqlite_utils.Database, *, site_id: str) -> dict[str, Any]:
     """A site's bearings counted: ``states`` (every state, 0 where none) and
     ``failing_at_design``."""
     counts = dict.fromkeys(STATES, 0)

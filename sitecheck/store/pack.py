@@ -3,10 +3,11 @@ it last asked."""
 
 import json
 from dataclasses import dataclass
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, placeholders
+from sitecheck.store.base import Row, many, one, placeholders
 from sitecheck.store.bearings import BEARING_ADDED
 
 
@@ -22,9 +23,9 @@ class PackRows:
 
     version: str
     full: bool
-    bearings: list[dict]
+    bearings: list[Row]
     removed: list[str]
-    designs: dict[str, dict]
+    designs: dict[str, dict[str, Any]]
 
 
 _PACK_LINE = """
@@ -79,7 +80,7 @@ def pack_rows(db: sqlite_utils.Database, *, site_id: str, since: str | None = No
     return PackRows(version, changed is None, lines, removed, designs)
 
 
-def _changed_since(db, site_id: str, since: str) -> list[str] | None:
+def _changed_since(db: sqlite_utils.Database, site_id: str, since: str) -> list[str] | None:
     """Ids of the bearings with an event after the version ``since``, or None when the whole
     pack must be sent (see :func:`pack_rows`)."""
     event_id, _dot, at = since.partition(".")
@@ -88,10 +89,13 @@ def _changed_since(db, site_id: str, since: str) -> list[str] | None:
     if event_id == "0" and not at:
         known = True  # the phone's pack was made before the site had any event
     else:
-        known = one(
-            db,
-            "SELECT 1 AS x FROM events WHERE id = ? AND site_id = ? AND at = ?",
-            [int(event_id), site_id, at],
+        known = (
+            one(
+                db,
+                "SELECT 1 AS x FROM events WHERE id = ? AND site_id = ? AND at = ?",
+                [int(event_id), site_id, at],
+            )
+            is not None
         )
     if not known:
         return None

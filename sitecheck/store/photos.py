@@ -8,11 +8,13 @@ from datetime import datetime
 import sqlite_utils
 
 from sitecheck.store.base import (
+    Row,
     canonical_uuid,
     many,
     one,
     parse_timestamp,
     placeholders,
+    the_row,
     timestamp,
     transaction,
 )
@@ -27,7 +29,7 @@ from sitecheck.store.releases import add_after_release
 class Stored:
     """The row as stored, and whether this call stored it (False: it was already there)."""
 
-    row: dict
+    row: Row
     created: bool
 
 
@@ -98,14 +100,12 @@ def insert_photo(
                 upload_sha256,
             ],
         )
-        row = one(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
+        row = the_row(db, "SELECT * FROM photos WHERE uuid = ?", [uuid])
         _photo_received(db, record, row, user_id)
     return Stored(row=row, created=True)
 
 
-def _refuse_other_photo(
-    row: dict, record_uuid: str, upload_sha256: str | None, sha256: str
-) -> None:
+def _refuse_other_photo(row: Row, record_uuid: str, upload_sha256: str | None, sha256: str) -> None:
     """A photo's uuid stored already may come again only for the same record with the same
     upload (a phone that did not hear the answer)."""
     if row["record_uuid"] != record_uuid:
@@ -122,16 +122,18 @@ def _refuse_other_photo(
         )
 
 
-def _other_picture(row: dict, upload_sha256: str | None, sha256: str) -> bool:
+def _other_picture(row: Row, upload_sha256: str | None, sha256: str) -> bool:
     # Rows stored before uploads were hashed compare by the picture kept, which the same
     # upload always gives again.
     if row["upload_sha256"] is not None and upload_sha256 is not None:
-        return row["upload_sha256"] != upload_sha256
-    return row["sha256"] != sha256
+        return bool(row["upload_sha256"] != upload_sha256)
+    return bool(row["sha256"] != sha256)
 
 
 def _refuse_past_limit(db: sqlite_utils.Database, record_uuid: str, max_photos: int) -> None:
-    count = one(db, "SELECT count(*) AS n FROM photos WHERE record_uuid = ?", [record_uuid])["n"]
+    count = the_row(db, "SELECT count(*) AS n FROM photos WHERE record_uuid = ?", [record_uuid])[
+        "n"
+    ]
     if count >= max_photos:
         raise TooManyPhotos(
             f"At most {max_photos} photos for one as-built record; this record has "
@@ -139,10 +141,10 @@ def _refuse_past_limit(db: sqlite_utils.Database, record_uuid: str, max_photos: 
         )
 
 
-def _photo_received(db: sqlite_utils.Database, record: dict, row: dict, user_id: int) -> None:
+def _photo_received(db: sqlite_utils.Database, record: Row, row: Row, user_id: int) -> None:
     """The event of a new photo; for a released bearing, also listed for the engineer."""
     detail = {"photo_uuid": row["uuid"], "record_uuid": record["uuid"], "sha256": row["sha256"]}
-    state = one(db, "SELECT state FROM bearings WHERE id = ?", [record["bearing_id"]])
+    state = the_row(db, "SELECT state FROM bearings WHERE id = ?", [record["bearing_id"]])
     if state["state"] == RELEASED:
         # Kept, and listed for the engineer: the release may rest on this very record.
         add_after_release(
@@ -185,7 +187,7 @@ def photo_files_in_use(db: sqlite_utils.Database, shas: Iterable[str]) -> set[st
     return found
 
 
-def get_photo(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
+def get_photo(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> Row | None:
     try:
         uuid = canonical_uuid(uuid)
     except ValueError:
@@ -201,7 +203,7 @@ def get_photo(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | N
     )
 
 
-def photos_for_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def photos_for_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     """Photos of all a bearing's records, in the order they were received."""
     return many(
         db,
@@ -214,7 +216,7 @@ def photos_for_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: s
     )
 
 
-def photos_for_record(db: sqlite_utils.Database, *, site_id: str, record_uuid: str) -> list[dict]:
+def photos_for_record(db: sqlite_utils.Database, *, site_id: str, record_uuid: str) -> list[Row]:
     try:
         record_uuid = canonical_uuid(record_uuid, field="record_uuid")
     except ValueError:

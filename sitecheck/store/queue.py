@@ -3,11 +3,11 @@ how many, for the header."""
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one
+from sitecheck.store.base import Row, many, the_row
 from sitecheck.store.releases import OPEN_EVIDENCE
 
 
-def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
+def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[Row]:
     """Bearings waiting for this user's decision, across the sites where they are engineer:
     those 'engineer to decide', and released ones with evidence recorded after release that
     the engineer has not answered yet.
@@ -55,10 +55,10 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[dict]:
     )
 
 
-def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
+def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict[str, int]:
     """For the engineer's header: bearings waiting for their decision across their sites,
     and how many of them arrived since they last looked."""
-    row = one(
+    row = the_row(
         db,
         f"""
         SELECT count(*) AS waiting, coalesce(sum(since > looked), 0) AS new FROM (
@@ -76,4 +76,4 @@ def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
         """,
         [user_id],
     )
-    return {"waiting": row["waiting"], "new": row["new"]}
+    return {"waiting": int(row["waiting"]), "new": int(row["new"])}

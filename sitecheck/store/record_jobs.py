@@ -11,10 +11,11 @@ import hashlib
 import json
 from collections.abc import Callable
 from datetime import datetime, timedelta
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, timestamp, transaction, utc_now
+from sitecheck.store.base import Row, many, one, present, timestamp, transaction, utc_now
 from sitecheck.store.errors import Conflict
 from sitecheck.store.migrations import RECORD_KINDS
 
@@ -73,12 +74,12 @@ def start_record_job(
     selection: str = "",
     user_id: int | None,
     version: str,
-    file_kept: Callable[[dict], bool],
+    file_kept: Callable[[Row], bool],
     per_user: int,
     window_s: float,
     stale_after_s: float,
     now: datetime | None = None,
-) -> tuple[dict, str]:
+) -> tuple[Row, str]:
     """Start making a site's record of ``kind`` (one of RECORD_KINDS) of the part
     ``selection`` keeps (a Selection's key; empty: the whole site), join the making of that
     kind and part under way, or reuse a finished one.
@@ -123,7 +124,7 @@ def start_record_job(
             """,
             [job_id, site_id, kind, selection, user_id, version, at, at],
         )
-    return get_record_job(db, job_id), "started"
+    return present(get_record_job(db, job_id), "the job"), "started"
 
 
 def _stop_stale(
@@ -187,8 +188,8 @@ _PROGRESS_FIELDS = frozenset(
 
 
 def update_record_job(
-    db: sqlite_utils.Database, job_id: str, *, now: datetime | None = None, **fields
-) -> dict:
+    db: sqlite_utils.Database, job_id: str, *, now: datetime | None = None, **fields: Any
+) -> Row:
     """Write a job's progress (and its heartbeat, ``updated_at``)."""
     unknown = set(fields) - _PROGRESS_FIELDS
     if unknown:
@@ -202,10 +203,10 @@ def update_record_job(
             f"UPDATE record_jobs SET {assignments}, updated_at = ? WHERE id = ?",
             [*(fields[n] for n in names), timestamp(now or utc_now()), job_id],
         )
-    return get_record_job(db, job_id)
+    return present(get_record_job(db, job_id), "the job")
 
 
-def get_record_job(db: sqlite_utils.Database, job_id: str) -> dict | None:
+def get_record_job(db: sqlite_utils.Database, job_id: str) -> Row | None:
     return one(db, "SELECT * FROM record_jobs WHERE id = ?", [job_id])
 
 
@@ -215,7 +216,7 @@ def record_jobs_for_site(
     site_id: str,
     kind: str | None = None,
     selection: str | None = None,
-) -> list[dict]:
+) -> list[Row]:
     """A site's makings (of one kind, or of every kind; of one part, or of every part),
     newest first."""
     sql, values = "SELECT * FROM record_jobs WHERE site_id = ?", [site_id]

@@ -14,12 +14,15 @@ from typing import Any
 import sqlite_utils
 
 from sitecheck.store.base import (
+    Row,
     canonical_uuid,
     many,
     one,
     pack_json,
     parse_timestamp,
     placeholders,
+    present,
+    the_row,
     timestamp,
     to_json,
     transaction,
@@ -42,7 +45,7 @@ from sitecheck.store.releases import add_after_release
 class RecordStored:
     """An as-built record as stored, whether this call stored it, and the bearing's state now."""
 
-    row: dict
+    row: Row
     created: bool
     state: str
 
@@ -126,10 +129,11 @@ def insert_record(
             "blocking": blocking,
         }
         _record_received(db, bearing, state, detail, inspector_id, received)
-    return RecordStored(row=record_line(db, site_id=site_id, uuid=uuid), created=True, state=state)
+    row = present(record_line(db, site_id=site_id, uuid=uuid), "the record")
+    return RecordStored(row=row, created=True, state=state)
 
 
-def _revision_exists(bearing: dict, design_revision: int) -> None:
+def _revision_exists(bearing: Row, design_revision: int) -> None:
     if not 1 <= design_revision <= bearing["revision"]:
         raise ValueError(
             f"design_revision {design_revision} does not exist for bearing "
@@ -157,13 +161,13 @@ def _stored_already(
     db: sqlite_utils.Database,
     site_id: str,
     uuid: str,
-    bearing: dict,
+    bearing: Row,
     inspector_id: int,
     sent: dict[str, Any],
 ) -> RecordStored:
     """The record as first stored, when the same inspector sends it again for the same
     bearing with the same values (a phone that did not hear the answer); else refused."""
-    row = one(db, f"SELECT {RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
+    row = the_row(db, f"SELECT {RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
     if row["bearing_id"] != bearing["id"] or row["inspector_id"] != inspector_id:
         raise UuidInUse(
             "This record's UUID is already used by another record; the phone must make "
@@ -178,13 +182,13 @@ def _stored_already(
             "which gives the record a new id.",
             differs,
         )
-    row = record_line(db, site_id=site_id, uuid=uuid)
+    row = present(record_line(db, site_id=site_id, uuid=uuid), "the record")
     return RecordStored(row=row, created=False, state=bearing["state"])
 
 
 def _record_received(
     db: sqlite_utils.Database,
-    bearing: dict,
+    bearing: Row,
     state: str,
     detail: dict[str, Any],
     inspector_id: int,
@@ -256,7 +260,7 @@ RECORD_LINE = """
 """
 
 
-def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
+def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> Row | None:
     """One record as :func:`get_record` gives it, but for its ``result``: the governing check
     (``governing``), utilisation, verdict and reasons are columns of their own."""
     try:
@@ -274,7 +278,7 @@ def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict |
     )
 
 
-def get_record(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
+def get_record(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> Row | None:
     """One record; ``older_revision`` is True if it was measured against an older design."""
     try:
         uuid = canonical_uuid(uuid)
@@ -290,7 +294,7 @@ def get_record(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | 
     )
 
 
-def records_for_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def records_for_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     """Every record of a bearing, newest by measured time first (the first drives the state)."""
     return many(
         db,
@@ -302,7 +306,7 @@ def records_for_bearing(db: sqlite_utils.Database, *, site_id: str, bearing_id: 
     )
 
 
-def records_for_site(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
+def records_for_site(db: sqlite_utils.Database, *, site_id: str) -> list[Row]:
     """Every record on a site (for the site pack and the data export), by bearing, newest first."""
     return many(
         db,
@@ -314,7 +318,7 @@ def records_for_site(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
     )
 
 
-def latest_record_summaries(db: sqlite_utils.Database, *, site_id: str) -> dict[str, dict]:
+def latest_record_summaries(db: sqlite_utils.Database, *, site_id: str) -> dict[str, Row]:
     """Each bearing's latest record (the one that sets its state), by bearing id, without
     the stored result and reasons: the site page needs a line per bearing, and a site's
     history of full re-checks grows with every visit to it."""

@@ -9,7 +9,15 @@ from datetime import datetime
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, required_text, timestamp, transaction, utc_now
+from sitecheck.store.base import (
+    Row,
+    many,
+    required_text,
+    the_row,
+    timestamp,
+    transaction,
+    utc_now,
+)
 from sitecheck.store.bearings import (
     RELEASED,
     existing_bearing,
@@ -34,7 +42,7 @@ def record_release(
     statement: str,
     expected_state: str,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """Release a bearing for closing up; from now on it is locked.
 
     The caller checks ``workflow.can_release(expected_state)`` first; the database refuses a
@@ -75,7 +83,7 @@ def record_release(
                 "statement": statement,
             },
         )
-    return one(db, "SELECT * FROM releases WHERE id = ?", [release_id])
+    return the_row(db, "SELECT * FROM releases WHERE id = ?", [release_id])
 
 
 def record_reopening(
@@ -87,7 +95,7 @@ def record_reopening(
     reason: str,
     new_state: str,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """Reopen a released bearing (``new_state`` from ``workflow.reopen``); both stay on record.
 
     The newest record, including any that arrived late, becomes the bearing's latest record.
@@ -116,14 +124,14 @@ def record_reopening(
             latest_record_uuid=newest_record_uuid(db, bearing_id),
             detail={"reopening": reopening_id, "reason": reason},
         )
-    return one(db, "SELECT * FROM reopenings WHERE id = ?", [reopening_id])
+    return the_row(db, "SELECT * FROM reopenings WHERE id = ?", [reopening_id])
 
 
-def releases_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def releases_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     return rows_of_bearing(db, "releases", site_id, bearing_id)
 
 
-def reopenings_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def reopenings_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     return rows_of_bearing(db, "reopenings", site_id, bearing_id)
 
 
@@ -143,7 +151,7 @@ OPEN_EVIDENCE = """
 
 def after_release_evidence(
     db: sqlite_utils.Database, *, site_id: str, bearing_id: str
-) -> list[dict]:
+) -> list[Row]:
     """What was recorded for a released bearing since its release and not yet answered by
     the engineer, oldest first: one row per record (``photo_uuid`` None) or photo, with the
     record's inspector, times, utilisation and verdict. Empty for a bearing not released."""
@@ -173,7 +181,7 @@ def keep_release(
     reason: str,
     seen_up_to: int,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """The engineer has looked at what was recorded after release and keeps the release.
 
     ``seen_up_to`` is the newest evidence the engineer saw (its id): if more arrived since,
@@ -221,18 +229,23 @@ def keep_release(
                 "photos": [w["photo_uuid"] for w in waiting if w["photo_uuid"]],
             },
         )
-    return one(db, "SELECT * FROM releases_kept WHERE id = ?", [kept_id])
+    return the_row(db, "SELECT * FROM releases_kept WHERE id = ?", [kept_id])
 
 
-def releases_kept_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[dict]:
+def releases_kept_for(db: sqlite_utils.Database, *, site_id: str, bearing_id: str) -> list[Row]:
     """The engineer's answers keeping a bearing's release after later evidence, oldest first."""
     return rows_of_bearing(db, "releases_kept", site_id, bearing_id)
 
 
 def add_after_release(
-    db, bearing_id: str, *, record_uuid: str, received: str, photo_uuid: str | None = None
+    db: sqlite_utils.Database,
+    bearing_id: str,
+    *,
+    record_uuid: str,
+    received: str,
+    photo_uuid: str | None = None,
 ) -> None:
-    release = one(db, "SELECT max(id) AS id FROM releases WHERE bearing_id = ?", [bearing_id])
+    release = the_row(db, "SELECT max(id) AS id FROM releases WHERE bearing_id = ?", [bearing_id])
     db.execute(
         """
         INSERT INTO after_release_evidence (bearing_id, release_id, record_uuid, photo_uuid,
