@@ -5,6 +5,7 @@ small packages of their own first, so a pass means something."""
 
 from __future__ import annotations
 
+import ast
 import textwrap
 from pathlib import Path
 
@@ -22,10 +23,31 @@ from devtools.layers import (
     sql_spoken,
     store_names_used,
     store_writers,
+    uses_in,
 )
 
 LAYERS = declared_layers((ROOT / "DEVELOPERS.md").read_text(encoding="utf-8"))
 ALLOWED = allowed_edges(LAYERS)
+
+# What the engineering core may not use, beyond the rooms of ours its row forbids: the web,
+# the database, files, logging, pictures, warnings (advice goes into the result) and the
+# console (DESIGN: the core is pure).
+IMPURE_MODULES = frozenset(
+    {
+        "flask",
+        "werkzeug",
+        "sqlite3",
+        "sqlite_utils",
+        "os",
+        "io",
+        "logging",
+        "pathlib",
+        "shutil",
+        "PIL",
+        "warnings",
+    }
+)
+IMPURE_CALLS = frozenset({"print", "open", "input"})
 
 
 def forbidden_uses(package: Path, allowed: dict[str, frozenset[str]]) -> list[str]:
@@ -40,6 +62,23 @@ def forbidden_uses(package: Path, allowed: dict[str, frozenset[str]]) -> list[st
         if target != room and target not in allowed.get(room, frozenset()):
             offences.append(f"{use.module}:{use.line} imports {use.target}")
     return offences
+
+
+def impurities(path: Path, package: Path = PACKAGE) -> list[str]:
+    """Where a module of the core reaches outside pure computation: "line: what"."""
+    found = [
+        f"{use.line}: imports {use.target}"
+        for use in uses_in(path, package)
+        if use.target == "?" or use.target.split(".")[0] in IMPURE_MODULES
+    ]
+    found += [
+        f"{node.lineno}: calls {node.func.id}()"
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8")))
+        if isinstance(node, ast.Call)
+        and isinstance(node.func, ast.Name)
+        and node.func.id in IMPURE_CALLS
+    ]
+    return sorted(found, key=lambda where: int(where.split(":")[0]))
 
 
 def rooms_in(package: Path) -> set[str]:
@@ -121,6 +160,37 @@ def test_the_sql_checker_sees_imports_names_and_calls(tmp_path):
     ]
 
 
+def test_the_purity_checker_sees_imports_of_every_kind_and_the_console(tmp_path):
+    package = write_package(
+        tmp_path,
+        {
+            "__init__.py": "",
+            "bearing/__init__.py": "",
+            "bearing/checks.py": """\
+                import math
+                import os.path
+                from logging import getLogger
+                import importlib
+                def check(x, name):
+                    importlib.import_module("sqlite3")
+                    importlib.import_module(name)
+                    print(x)
+                    return math.sqrt(x)
+                def words(path):
+                    return open(path).read()
+                """,
+        },
+    )
+    assert impurities(package / "bearing" / "checks.py", package) == [
+        "2: imports os.path",
+        "3: imports logging",
+        "6: imports sqlite3",
+        "7: imports ?",
+        "8: calls print()",
+        "11: calls open()",
+    ]
+
+
 def test_the_writer_finder_follows_sql_and_calls_and_sees_every_way_a_view_names_the_store(
     tmp_path,
 ):
@@ -197,6 +267,15 @@ def test_every_room_a_row_names_is_read_so_the_table_says_no_more_than_the_code(
 
 def test_no_circle_runs_between_rooms():
     assert circles(room_edges(every_use(PACKAGE))) == []
+
+
+@pytest.mark.parametrize(
+    "path",
+    sorted((PACKAGE / "bearing").rglob("*.py")),
+    ids=lambda p: p.relative_to(ROOT).as_posix(),
+)
+def test_the_core_is_pure(path):
+    assert impurities(path) == []
 
 
 @pytest.mark.parametrize(
