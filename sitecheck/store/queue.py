@@ -1,9 +1,11 @@
 """The engineer's queue: the bearings waiting for their decision across their sites, and
 how many, for the header."""
 
+from typing import TypedDict
+
 import sqlite_utils
 
-from sitecheck.store.base import Row, many, the_row
+from sitecheck.store.base import Row, many, one, the_row
 from sitecheck.store.releases import OPEN_EVIDENCE
 
 
@@ -55,9 +57,16 @@ def review_queue(db: sqlite_utils.Database, *, user_id: int) -> list[Row]:
     )
 
 
-def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict[str, int]:
+class ToDecide(TypedDict):
+    waiting: int  # bearings waiting for the engineer's decision
+    new: int  # of those, how many arrived since they last looked
+    engineer: bool  # whether they are the engineer on any site at all
+
+
+def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> ToDecide:
     """For the engineer's header: bearings waiting for their decision across their sites,
-    and how many of them arrived since they last looked."""
+    how many of them arrived since they last looked, and whether they are the engineer on any
+    site at all (only then does the header offer the queue)."""
     row = the_row(
         db,
         f"""
@@ -76,4 +85,13 @@ def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict[str, in
         """,
         [user_id],
     )
-    return {"waiting": int(row["waiting"]), "new": int(row["new"])}
+    engineer = one(
+        db,
+        "SELECT 1 AS yes FROM memberships WHERE user_id = ? AND role = 'engineer' LIMIT 1",
+        [user_id],
+    )
+    return {
+        "waiting": int(row["waiting"]),
+        "new": int(row["new"]),
+        "engineer": engineer is not None,
+    }

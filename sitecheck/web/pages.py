@@ -195,9 +195,10 @@ def install_template_helpers(app) -> None:
 
 def _decide_counts() -> dict:
     """For the header: bearings waiting for this engineer, and how many are new since they
-    last looked (zeros for anyone who is nobody's engineer)."""
+    last looked, and whether they are anyone's engineer: an inspector or a contractor is
+    never offered a queue that can hold nothing for them."""
     if getattr(g, "user", None) is None:
-        return {"waiting": 0, "new": 0}
+        return {"waiting": 0, "new": 0, "engineer": False}
     return store.to_decide_counts(get_db(), user_id=g.user["id"])
 
 
