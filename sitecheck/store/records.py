@@ -129,8 +129,7 @@ def insert_record(
             "blocking": blocking,
         }
         _record_received(db, bearing, state, detail, inspector_id, received)
-    row = present(record_line(db, site_id=site_id, uuid=uuid), "the record")
-    return RecordStored(row=row, created=True, state=state)
+    return _as_stored(db, site_id, uuid, created=True, state=state)
 
 
 def _revision_exists(bearing: Row, design_revision: int) -> None:
@@ -182,8 +181,14 @@ def _stored_already(
             "which gives the record a new id.",
             differs,
         )
+    return _as_stored(db, site_id, uuid, created=False, state=bearing["state"])
+
+
+def _as_stored(
+    db: sqlite_utils.Database, site_id: str, uuid: str, *, created: bool, state: str
+) -> RecordStored:
     row = present(record_line(db, site_id=site_id, uuid=uuid), "the record")
-    return RecordStored(row=row, created=False, state=bearing["state"])
+    return RecordStored(row=row, created=created, state=state)
 
 
 def _record_received(
