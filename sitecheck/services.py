@@ -49,7 +49,7 @@ from sitecheck.schedule import RowError, parse_schedule, read_schedule, recheck_
 CLOCK_AHEAD_LIMIT = timedelta(minutes=10)
 
 # A row as the store gives it: a site, a bearing, a record (JSON columns as Python values).
-Row = dict[str, Any]
+Row = store.Row
 
 
 class PhotoFiles(Protocol):
@@ -570,6 +570,33 @@ def keep_release(
         reason=reason,
         seen_up_to=seen_up_to,
     )
+
+
+def sign_off(
+    db: store.Database, *, site_id: str, engineer_id: int, engineer_name: str, statement: str
+) -> store.Row:
+    """The engineer signs the site record off as it stands at this moment."""
+    return store.add_sign_off(
+        db,
+        site_id=site_id,
+        engineer_id=engineer_id,
+        engineer_name=engineer_name,
+        statement=statement,
+    )
+
+
+def refused(
+    db: store.Database,
+    *,
+    user_id: int,
+    action: str,
+    site_id: str | None = None,
+    role: str | None = None,
+) -> None:
+    """Someone asked to do what they may not: the audit trail keeps it (a "refused" event
+    with the action, and their role on the site when it was a site's action)."""
+    detail = {"action": action} if role is None else {"action": action, "role": role}
+    store.add_event(db, kind="refused", user_id=user_id, site_id=site_id, detail=detail)
 
 
 def _finite(x: float) -> float | None:

@@ -1,4 +1,4 @@
-"""mypy's profiles in pyproject.toml: the core and the services under mypy's own strict mode,
+"""mypy's profiles in pyproject.toml: the core, the store and the services under mypy's own strict mode,
 flag for flag, and the rest of the package under its default. Each profile is tried on small
 modules of a package of its own, so a clean run of scripts/test means what it says."""
 
@@ -16,7 +16,14 @@ from mypy.main import process_options
 
 ROOT = Path(__file__).resolve().parents[1]
 CONFIG = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["mypy"]
-STRICT_AREAS = ("sitecheck.bearing", "sitecheck.bearing.*", "sitecheck.services")
+STRICT_AREAS = (
+    "sitecheck.bearing",
+    "sitecheck.bearing.*",
+    "sitecheck.store",
+    "sitecheck.store.*",
+    "sitecheck.services",
+    "sitecheck.sessions",
+)
 
 
 def _strict_block() -> dict:
@@ -42,7 +49,7 @@ def test_the_strict_profile_is_mypys_strict_mode(tmp_path, monkeypatch):
     assert {n: given.get(n) for n in wanted} == wanted
 
 
-def test_the_strict_profile_covers_the_core_and_the_services():
+def test_the_strict_profile_covers_the_core_the_store_and_the_services():
     assert set(_strict_block()["module"]) == set(STRICT_AREAS)
     assert CONFIG["files"] == ["sitecheck"]
 
@@ -64,8 +71,7 @@ def _run_mypy(folder: Path) -> str:
         (folder / "sitecheck" / area / "probe.py").write_text(textwrap.dedent(PROBE))
     (folder / "sitecheck" / "__init__.py").write_text("")
     (folder / "sitecheck" / "services.py").write_text(textwrap.dedent(PROBE))
-    # The store's probe has a plain type error too: whether it is reported says whether
-    # the store is checked.
+    # A plain type error too, in a strict area and in a default one.
     with (folder / "sitecheck" / "store" / "probe.py").open("a") as probe:
         probe.write('\nwrong: int = "text"\n')
     (folder / "sitecheck" / "web" / "probe.py").write_text(
@@ -93,5 +99,4 @@ def test_mypy_holds_each_area_to_its_profile(tmp_path):
     assert by_file.get("sitecheck/services.py") == strict_codes, out
     # The default profile: unannotated code passes, a wrong type does not.
     assert by_file.get("sitecheck/web/probe.py") == {"assignment"}, out
-    # The store is left out until it is made strict (its block in pyproject.toml).
-    assert "sitecheck/store/probe.py" not in by_file, out
+    assert by_file.get("sitecheck/store/probe.py") == {*strict_codes, "assignment"}, out
