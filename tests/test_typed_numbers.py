@@ -18,6 +18,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from sitecheck.bearing.typed import SPACES, NumberRefused, number_text, read_number
+from sitecheck.bearing.validate import concrete_class_fck
 
 CASES_FILE = Path(__file__).parent / "vectors" / "typed-numbers.json"
 CASES = json.loads(CASES_FILE.read_text(encoding="utf-8"))["cases"]
@@ -135,3 +136,18 @@ def test_nothing_infinite_or_not_a_number_is_read(text):
     with pytest.raises(NumberRefused) as caught:
         read_number(text, least=-1e6, greatest=1e6)
     assert caught.value.code == "out-of-range"
+
+
+@pytest.mark.parametrize(
+    ("concrete", "f_ck"),
+    [
+        # EN 1992-1-1 Table 3.1: class C25/30 has f_ck 25 N/mm² (and f_ck,cube 30).
+        ("C25/30", 25.0),
+        ("c 25 / 30", 25.0),  # spaces around each figure are trimmed
+        ("C2_5/3_0", None),  # Python's float() would read 25 and 30
+        ("C٢٥/٣٠", None),  # and these too
+        ("C25,0/30", None),
+    ],
+)
+def test_a_concrete_class_reads_its_figures_by_the_same_rules(concrete, f_ck):
+    assert concrete_class_fck(concrete) == f_ck
