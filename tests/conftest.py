@@ -11,10 +11,10 @@ from dataclasses import dataclass
 
 import pytest
 
+from kit.web import PASSWORD, new_site
 from sitecheck import credentials, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
 from sitecheck.web import create_app
-from webkit import PASSWORD, new_site
 
 
 @dataclass
@@ -113,9 +113,9 @@ def client_as(app, people):
 
 @pytest.fixture
 def live_client(people):
-    """live_client(server, "inspector") → a liveserver.Client logged in as that person on a
-    real server (tests/liveserver.py)."""
-    from liveserver import Client
+    """live_client(server, "inspector") → a kit.liveserver.Client logged in as that person on a
+    real server (tests/kit/liveserver.py)."""
+    from kit.liveserver import Client
 
     def make(server, role: str) -> Client:
         client = Client(server.url)

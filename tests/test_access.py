@@ -13,7 +13,7 @@ from datetime import UTC, datetime
 
 import pytest
 
-from photo_samples import make_test_jpeg
+from kit.photo_samples import make_test_jpeg
 from sitecheck import services, store
 from sitecheck.photos import ingest_photo
 from sitecheck.web import photo_store

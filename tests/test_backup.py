@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 
-from served import (
+from kit.served import (
     PASSWORD,
     SITECHECK,
     Person,
@@ -26,11 +26,11 @@ from served import (
     noisy_jpeg,
     prepare_home,
 )
+from kit.web import csrf_token
 from sitecheck import cli, store
 from sitecheck.backup import BackupError, backup, check_backup, restore
 from sitecheck.config import load_settings
 from sitecheck.photos import PhotoStore
-from webkit import csrf_token
 
 pytestmark = pytest.mark.timeout(240)
 

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from served import PASSWORD, Person, Served, prepare_home
+from kit.served import PASSWORD, Person, Served, prepare_home
 from sitecheck import logs
 from sitecheck.config import load_settings
 from sitecheck.report.jobs import RecordJobs

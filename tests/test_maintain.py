@@ -12,7 +12,7 @@ from datetime import timedelta
 
 import pytest
 
-from served import (
+from kit.served import (
     PASSWORD,
     SITECHECK,
     Person,

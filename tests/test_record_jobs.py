@@ -19,10 +19,10 @@ from pathlib import Path
 
 import pytest
 
-from liveserver import Client
+from kit.liveserver import Client
+from kit.web import csrf_token
 from sitecheck import store
 from sitecheck.demo import DEMO_PEOPLE, SITE_NAME, build_demo
-from webkit import csrf_token
 
 ROOT = Path(__file__).resolve().parent.parent
 

@@ -1,6 +1,6 @@
 """The site record: the drawing, the data export and the PDF, and who may have them.
 
-The bearings are the demo schedule's and tests/bearings.py's (invented loads on ordinary
+The bearings are the demo schedule's and tests/kit/bearing_inputs.py's (invented loads on ordinary
 sizes of the trade); the expected values are the model's own, read back from the result,
 so these tests hold the drawing and the record to the numbers they show.
 """
@@ -22,8 +22,9 @@ from pathlib import Path
 import pytest
 from pypdf import PdfReader
 
-from bearings import across_on_padstone, brick_in_line_end
-from photo_samples import make_test_jpeg
+from kit.bearing_inputs import across_on_padstone, brick_in_line_end
+from kit.photo_samples import make_test_jpeg
+from kit.web import new_site
 from sitecheck import cli, services, store
 from sitecheck.bearing import (
     IN_LINE,
@@ -48,7 +49,6 @@ from sitecheck.report.drawing import FONT, PHONE_MIN_PX, bearing_svg, side_by_si
 from sitecheck.schedule import parse_schedule, recheck_rows
 from sitecheck.web import photo_store
 from sitecheck.web import record as record_web
-from webkit import new_site
 
 SVG = "{http://www.w3.org/2000/svg}"
 

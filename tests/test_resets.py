@@ -10,10 +10,10 @@ import subprocess
 
 import pytest
 
-from served import PASSWORD, SITECHECK, Person, Served, prepare_home
+from kit.served import PASSWORD, SITECHECK, Person, Served, prepare_home
+from kit.smtp_server import LocalMailServer
+from kit.web import csrf_token
 from sitecheck import resets, store
-from smtp_local import LocalMailServer
-from webkit import csrf_token
 
 pytestmark = pytest.mark.timeout(120)
 

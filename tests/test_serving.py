@@ -11,8 +11,8 @@ import time
 
 import pytest
 
-from served import PASSWORD, Person, Served, prepare_home
-from smtp_local import LocalMailServer
+from kit.served import PASSWORD, Person, Served, prepare_home
+from kit.smtp_server import LocalMailServer
 
 pytestmark = pytest.mark.timeout(120)
 

@@ -21,6 +21,7 @@ from pypdf import PdfReader
 from test_report import _finished, _start
 from test_web_review import bearing_named, decide_form, decision_url, fails_unmeasured, record
 
+from kit.web import csrf_token
 from sitecheck import services, store, workflow
 from sitecheck.bearing import SOURCES, CodeBasis
 from sitecheck.bearing.review import ReviewSettings
@@ -32,7 +33,6 @@ from sitecheck.settings_words import (
     REVIEW_LABELS,
     TABLE_TITLES,
 )
-from webkit import csrf_token
 
 SENTENCE = "The wall below is solid brick, checked by hand on site today."
 STATEMENT = "I have reviewed every bearing of this site record and the decisions in it."

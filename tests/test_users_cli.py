@@ -7,7 +7,7 @@ import subprocess
 
 import pytest
 
-from served import PASSWORD, SITECHECK, Person, Served, prepare_home
+from kit.served import PASSWORD, SITECHECK, Person, Served, prepare_home
 from sitecheck import cli, store
 
 pytestmark = pytest.mark.timeout(120)

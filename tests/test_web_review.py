@@ -13,10 +13,10 @@ from datetime import UTC, datetime, timedelta
 
 import pytest
 
+from kit.web import csrf_token, new_site
 from sitecheck import credentials, services, store
 from sitecheck.bearing.remedy import remedy
 from sitecheck.demo import schedule_csv
-from webkit import csrf_token, new_site
 
 SECOND_PASSWORD = "another long test password"  # a test account only
 

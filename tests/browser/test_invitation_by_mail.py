@@ -13,11 +13,11 @@ import pytest
 from playwright.sync_api import expect
 from werkzeug.serving import make_server
 
-from phone import log_in, open_site
+from kit.phone import log_in, open_site
+from kit.smtp_server import LocalMailServer, free_port
 from sitecheck.demo import SITE_NAME, build_demo
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
-from smtp_local import LocalMailServer, free_port
 
 ARTEFACTS = Path(__file__).resolve().parents[2] / "test-results"
 NEWCOMER = "rosa.newcomer@example.test"

@@ -231,9 +231,9 @@ PASSWORD = "correct horse battery"  # test accounts only
 def prepare_home(home: Path, *, inspectors: int = 1) -> dict:
     """A data folder with one site (the demo schedule's block bearings), its engineer and
     ``inspectors`` inspectors, as the app makes them. Returns ids, e-mails and bearings."""
+    from kit.web import new_site
     from sitecheck import credentials, services, store
     from sitecheck.demo import SITE_NAME, schedule_csv
-    from webkit import new_site
 
     home.mkdir(parents=True, exist_ok=True)
     db = store.open_db(home / "sitecheck.db")
