@@ -113,9 +113,9 @@ def client_as(app, people):
 
 @pytest.fixture
 def live_client(people):
-    """live_client(server, "inspector") → a kit.liveserver.Client logged in as that person on a
-    real server (tests/kit/liveserver.py)."""
-    from kit.liveserver import Client
+    """live_client(server, "inspector") → a kit.client.Client logged in as that person on a
+    real server (kit.servers)."""
+    from kit.client import Client
 
     def make(server, role: str) -> Client:
         client = Client(server.url)

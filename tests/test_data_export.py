@@ -19,7 +19,8 @@ from datetime import UTC, datetime
 
 import pytest
 
-from kit.liveserver import Client, LiveServer
+from kit.client import Client
+from kit.servers import LiveServer
 from kit.web import PASSWORD
 from sitecheck import cli, services, store
 from sitecheck.photos import ingest_photo

@@ -14,7 +14,8 @@ from datetime import timedelta
 
 import pytest
 
-from kit.smtp_server import LocalMailServer, free_port
+from kit.servers import free_port
+from kit.smtp_server import LocalMailServer
 from kit.web import PASSWORD, csrf_token, new_site
 from sitecheck import credentials, mail, store
 from sitecheck.mail import MailSettings

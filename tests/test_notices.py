@@ -17,7 +17,8 @@ import pytest
 from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
 from test_web_review import login as log_in_as
 
-from kit.smtp_server import LocalMailServer, free_port
+from kit.servers import free_port
+from kit.smtp_server import LocalMailServer
 from kit.web import PASSWORD, csrf_token, new_site
 from sitecheck import credentials, mail, notices, services, store
 from sitecheck.demo import schedule_csv

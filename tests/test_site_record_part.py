@@ -17,7 +17,8 @@ from datetime import UTC, date, datetime
 import pytest
 from pypdf import PdfReader
 
-from kit.liveserver import Client, LiveServer
+from kit.client import Client
+from kit.servers import LiveServer
 from kit.web import PASSWORD
 from sitecheck import services, store
 from sitecheck.store import Selection

@@ -9,13 +9,12 @@ from __future__ import annotations
 
 import os
 import shutil
-import threading
 from pathlib import Path
 
 import pytest
 from playwright.sync_api import expect
-from werkzeug.serving import make_server
 
+from kit.servers import LiveServer
 from sitecheck.demo import build_demo
 from sitecheck.web import create_app
 
@@ -39,19 +38,6 @@ def pytest_collection_modifyitems(items):
     for item in items:
         if "tests/browser/" in str(item.fspath):
             item.add_marker(pytest.mark.browser)
-
-
-class LiveServer:
-    def __init__(self, app):
-        self.app = app
-        self._srv = make_server("127.0.0.1", 0, app, threaded=True)
-        self.url = f"http://127.0.0.1:{self._srv.server_port}"
-        self._thread = threading.Thread(target=self._srv.serve_forever, daemon=True)
-        self._thread.start()
-
-    def stop(self):
-        self._srv.shutdown()
-        self._thread.join(5)
 
 
 @pytest.fixture(scope="session")
