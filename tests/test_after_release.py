@@ -13,10 +13,10 @@ from datetime import UTC, datetime, timedelta
 
 import sqlite_utils
 from pypdf import PdfReader
-from test_web_release import STATEMENT, released, reopen_url
-from test_web_review import bearing_named, review_url, state_of
 
 from kit.photo_samples import make_test_jpeg
+from kit.release_steps import STATEMENT, released, reopen_url
+from kit.review_steps import bearing_named, review_url, state_of
 from kit.web import csrf_token
 from sitecheck import services, store
 from sitecheck.report.collect import collect

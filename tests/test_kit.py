@@ -1,6 +1,6 @@
 """The tests' own house rule: a Python file under tests/ is a test file, a conftest.py or a
-helper in tests/kit/; helpers import no test; and the benchmarks, which import the helpers
-but are not run by the suite, name only modules that exist."""
+helper in tests/kit/; no file imports a test file or a conftest; and the benchmarks, which
+import the helpers but are not run by the suite, name only modules that exist."""
 
 from __future__ import annotations
 
@@ -42,12 +42,13 @@ def test_every_python_file_under_tests_is_a_test_a_conftest_or_a_helper_in_kit()
     assert not [p.name for p in KIT.rglob("test_*.py")], "a test file does not belong in kit/"
 
 
-def test_helpers_import_no_test_module():
+def test_no_file_under_tests_imports_a_test_file_or_a_conftest():
+    """What two test files share is a helper in kit/ or a fixture in a conftest.py."""
     tests = {p.stem for p in TESTS.rglob("test_*.py")} | {"conftest"}
     leaks = {
         str(path.relative_to(ROOT)): sorted(_imported(path) & tests)
-        for path in sorted(KIT.rglob("*.py"))
-        if _imported(path) & tests
+        for path in sorted(TESTS.rglob("*.py"))
+        if not path.is_relative_to(TESTS / "vendor") and _imported(path) & tests
     }
     assert leaks == {}
 

@@ -14,9 +14,9 @@ from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
 import pytest
-from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
-from test_web_review import login as log_in_as
 
+from kit.review_steps import as_designed, bearing_named, decide_form, decision_url, record
+from kit.review_steps import login as log_in_as
 from kit.servers import free_port
 from kit.smtp_server import LocalMailServer
 from kit.web import PASSWORD, csrf_token, new_site

@@ -18,8 +18,8 @@ from html import unescape
 import pytest
 from PIL import Image
 from pypdf import PdfReader
-from test_web_review import bearing_named, decide_form, decision_url, fails_unmeasured, record
 
+from kit.review_steps import bearing_named, decide_form, decision_url, fails_unmeasured, record
 from kit.site_record import record_made, start_record
 from kit.web import csrf_token
 from sitecheck import services, store, workflow
