@@ -427,7 +427,11 @@ def test_evidence_recorded_after_a_release_is_news_for_the_engineer(quiet_app):
     )
     t0 = datetime.now(UTC)
     notices.make_messages(db, BASE, now=t0)  # the contractor's "releasable" goes, nothing else
-    assert store.to_decide_counts(db, user_id=made["engineer"].id) == {"waiting": 0, "new": 0}
+    assert store.to_decide_counts(db, user_id=made["engineer"].id) == {
+        "waiting": 0,
+        "new": 0,
+        "engineer": True,
+    }
 
     record(db, site, "GF-B1-E", made["inspector"], hours=0.5, bearing_length=60.0)
     assert bearing_named(db, site, "GF-B1-E")["state"] == "released"
@@ -436,7 +440,11 @@ def test_evidence_recorded_after_a_release_is_news_for_the_engineer(quiet_app):
         "SELECT to_addr, body FROM outgoing_mail WHERE kind = 'notice' ORDER BY id DESC LIMIT 1"
     ).fetchone()
     assert to_addr == made["engineer"].email and "GF-B1-E" in body
-    assert store.to_decide_counts(db, user_id=made["engineer"].id) == {"waiting": 1, "new": 1}
+    assert store.to_decide_counts(db, user_id=made["engineer"].id) == {
+        "waiting": 1,
+        "new": 1,
+        "engineer": True,
+    }
     db.conn.close()
 
 

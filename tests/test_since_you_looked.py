@@ -27,6 +27,9 @@ def test_each_person_sees_what_came_into_their_hands_until_they_look(db, people,
     assert since_of(engineer, site) == {"to-decide": (1, ["FF-B5"])}
     assert since_of(contractor, site) == {"releasable": (1, ["GF-B1-E"])}
     assert since_of(inspector, site) == {}
+    # Only someone who is a site's engineer is offered the queue in the header.
+    for other in (inspector, contractor):
+        assert "data-to-decide" not in other.get("/").data.decode().split("</header>")[0]
     home = engineer.get("/").data.decode()
     assert "Since you last looked:" in home and "1 new to decide (FF-B5)" in home
     header = home.split("</header>")[0]

@@ -167,6 +167,25 @@ def test_the_list_puts_bearings_to_survey_first_with_a_button_each(client_as, db
     assert done["latest_record_url"].startswith(f"/sites/{site['id']}/records/")
 
 
+def test_the_site_and_bearing_pages_offer_a_record_only_where_the_survey_list_does(
+    client_as, db, site
+):
+    inspector = client_as("inspector")
+    rows = store.list_bearings(db, site_id=site["id"])
+    failing = [b for b in rows if not b["design_passed"]]
+    passing = [b for b in rows if b["design_passed"] and b["state"] != "released"]
+    assert failing and passing
+    site_page = inspector.get(f"/sites/{site['id']}").get_data(as_text=True)
+    for b in rows:
+        link = f'href="{form_url(site, b)}"'
+        assert (link in site_page) == (b in passing), b["reference"]
+        page = inspector.get(f"/sites/{site['id']}/bearings/{b['id']}").get_data(as_text=True)
+        assert (link in page) == (b in passing), b["reference"]
+        if b in failing:
+            assert "not for survey yet" in page
+    assert site_page.count("data-not-for-survey") == len(failing)
+
+
 def test_the_form_shows_design_values_and_phone_friendly_inputs(client_as, db, site):
     inspector = client_as("inspector")
     bearing = bearing_named(db, site)
