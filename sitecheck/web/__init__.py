@@ -260,7 +260,7 @@ def _security_headers(response):
     if current_app.config["SESSION_COOKIE_SECURE"]:
         # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
         # so a phone on a site's open Wi-Fi is not talked down to plain HTTP. Every answer
-        # says so, a script or a style sheet too (the README's promise).
+        # says so, whichever the browser happens to fetch first.
         h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
     if request.path.startswith("/static/") or request.path == "/manifest.webmanifest":
         # A script, style sheet, icon or manifest is not a document: the policies below are
