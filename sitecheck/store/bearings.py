@@ -44,6 +44,7 @@ from sitecheck.store.errors import (
 )
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import DECISION_KINDS, STATES
+from sitecheck.store.survey import reference_order_key
 
 RELEASED = "released"
 # Mirrors sitecheck.workflow.can_release (the store may not import the layer above it); a test
@@ -159,8 +160,8 @@ def add_bearing(
                 """
                 INSERT INTO bearings (id, site_id, reference, location, revision, design_input,
                     design_governing, design_governing_title, design_utilisation, design_passed,
-                    state, state_changed_at, created_by, created_at)
-                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?)
+                    state, state_changed_at, created_by, created_at, reference_key)
+                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?, ?)
                 """,
                 [
                     bearing_id,
@@ -174,6 +175,7 @@ def add_bearing(
                     now,
                     user_id,
                     now,
+                    reference_order_key(reference),
                 ],
             )
         except sqlite3.IntegrityError as error:
@@ -519,7 +521,9 @@ def pack_rows(db: sqlite_utils.Database, *, site_id: str, since: str | None = No
         if changed is None:
             lines = many(
                 db,
-                f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? ORDER BY b.id",
+                # By reference, as every list of the site: the survey order breaks ties so.
+                f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? "
+                "ORDER BY b.reference, b.id",
                 [site_id],
             )
             removed: list[str] = []
