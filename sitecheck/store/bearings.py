@@ -86,6 +86,22 @@ def _bearing(db: sqlite_utils.Database, site_id: str, bearing_id: str) -> dict:
     return bearing
 
 
+def _bearing_to_move(db: sqlite_utils.Database, site_id: str, bearing_id: str) -> dict:
+    """The bearing as a move reads it (state, revision, latest record), without its design:
+    a record's transaction reads it again, as it stands once the write lock is held."""
+    bearing = one(
+        db,
+        """
+        SELECT id, site_id, reference, revision, state, state_changed_at, latest_record_uuid
+        FROM bearings WHERE id = ? AND site_id = ?
+        """,
+        [bearing_id, site_id],
+    )
+    if bearing is None:
+        raise NotFound("No such bearing on this site")
+    return bearing
+
+
 def _expect(bearing: dict, expected_state: str) -> None:
     if bearing["state"] != expected_state:
         raise StaleState(
@@ -666,7 +682,7 @@ def insert_record(
     if blocking < 0:
         raise ValueError(f"blocking {blocking} is negative; count the blocking review reasons")
     with transaction(db):
-        bearing = _bearing(db, site_id, bearing_id)
+        bearing = _bearing_to_move(db, site_id, bearing_id)
         if not 1 <= design_revision <= bearing["revision"]:
             raise ValueError(
                 f"design_revision {design_revision} does not exist for bearing "
