@@ -90,3 +90,38 @@ def test_a_refused_release_is_written_down(db, site, people):
         )
     kinds = [e["kind"] for e in store.events_for(db, site_id=site["id"], bearing_id=bearing["id"])]
     assert "release refused" in kinds
+
+
+def test_a_changed_code_basis_is_used_by_the_next_record_design_and_as_built_alike(
+    db, site, people
+):
+    # The design's check is kept per design and basis; a new basis must never meet the
+    # design's check under the old one. As designed, the as-built's utilisation is the
+    # design's under the same basis: nothing rose, whatever the basis.
+    from dataclasses import replace
+
+    from sitecheck.bearing.recheck import check_bearing
+
+    first, before = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    assert first.state == "within design"
+    basis = services.basis_for(site)
+    # γ_M at the top of what the settings accept (5.0) divides the masonry's strength by
+    # more: the same bearing is far more utilised under it.
+    harsher = replace(basis, gamma_M_ec6=tuple((k, 5.0) for k, _v in basis.gamma_M_ec6))
+    # A review that notices any rise at all.
+    keen = services.settings_for(site).as_dict() | {"rise_margin": 0.01}
+    store.update_site_settings(
+        db,
+        site_id=site["id"],
+        user_id=people["engineer"].id,
+        code_basis=harsher.to_dict(),
+        review_settings=keen,
+    )
+    site = store.get_site(db, site["id"])
+    assert services.basis_for(site) == harsher
+    second, rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC) + timedelta(minutes=1))
+    assert rc.result == check_bearing(rc.as_built, harsher)
+    # Against the design's check under the old basis it would have risen past the margin.
+    margin = services.settings_for(site).rise_margin
+    assert rc.result.utilisation > before.result.utilisation + margin
+    assert "utilisation-rise" not in [r.code for r in rc.reasons]
