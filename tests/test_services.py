@@ -125,3 +125,20 @@ def test_a_changed_code_basis_is_used_by_the_next_record_design_and_as_built_ali
     margin = services.settings_for(site).rise_margin
     assert rc.result.utilisation > before.result.utilisation + margin
     assert "utilisation-rise" not in [r.code for r in rc.reasons]
+
+
+def test_a_record_that_leaves_the_state_as_it_was_moves_only_the_latest_record(db, site, people):
+    first, _rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    second, _rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC) + timedelta(minutes=1))
+    after = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    assert first.state == second.state == after["state"] == "within design"
+    assert after["state_changed_at"] == bearing["state_changed_at"]
+    assert after["latest_record_uuid"] == second.row["uuid"] != first.row["uuid"]
+    event = store.events_for(db, site_id=site["id"])[0]  # newest first
+    assert event["kind"] == "record received"
+    assert event["detail"]["before"]["latest_record_uuid"] == first.row["uuid"]
+    assert event["detail"]["after"] == {
+        "state": "within design",
+        "latest_record_uuid": second.row["uuid"],
+    }

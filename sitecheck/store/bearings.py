@@ -129,14 +129,21 @@ def _move(
 ) -> None:
     """Set state (and optionally the latest record) and write the event, inside a transaction."""
     latest = bearing["latest_record_uuid"] if latest_record_uuid is None else latest_record_uuid
-    changed = new_state != bearing["state"]
-    db.execute(
-        """
-        UPDATE bearings SET state = ?, state_changed_at = ?, latest_record_uuid = ?
-        WHERE id = ?
-        """,
-        [new_state, at if changed else bearing["state_changed_at"], latest, bearing["id"]],
-    )
+    if new_state != bearing["state"]:
+        db.execute(
+            """
+            UPDATE bearings SET state = ?, state_changed_at = ?, latest_record_uuid = ?
+            WHERE id = ?
+            """,
+            [new_state, at, latest, bearing["id"]],
+        )
+    else:
+        # A state left as it was is not written: the indexes and guards on the state (four
+        # indexes, the hold point's trigger) then have nothing to do, as most records
+        # leave the state where it was.
+        db.execute(
+            "UPDATE bearings SET latest_record_uuid = ? WHERE id = ?", [latest, bearing["id"]]
+        )
     add_event(
         db,
         kind=kind,
