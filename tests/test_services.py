@@ -142,3 +142,13 @@ def test_a_record_that_leaves_the_state_as_it_was_moves_only_the_latest_record(d
         "state": "within design",
         "latest_record_uuid": second.row["uuid"],
     }
+
+
+def test_a_new_record_is_answered_with_the_row_as_stored(db, site, people):
+    # The row comes back from the insert itself; it must be the row a later read gives.
+    stored, _rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    assert stored.created
+    assert stored.row == store.record_line(db, site_id=site["id"], uuid=stored.row["uuid"])
+    assert stored.row["kind"] == "measured" and stored.row["older_revision"] is False
+    again, _rc = _record(db, site, people, "GF-B2-N", datetime.now(UTC))
+    assert again.row == store.record_line(db, site_id=site["id"], uuid=again.row["uuid"])

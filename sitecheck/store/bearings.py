@@ -21,6 +21,7 @@ import sqlite_utils
 
 from sitecheck.store.base import (
     canonical_uuid,
+    decode_row,
     many,
     new_id,
     one,
@@ -697,13 +698,16 @@ def insert_record(
             )
         received = timestamp(now or utc_now())
         late = bearing["state"] == RELEASED
+        # The row as stored comes back from the insert itself (nothing when the id is taken):
+        # the answer is built from it, with no second read.
         cursor = db.execute(
-            """
+            f"""
             INSERT INTO as_built_records (uuid, bearing_id, design_revision, inspector_id,
                 measured_at, received_at, measurements, checklist, notes, result, governing,
                 reasons, utilisation, passed, blocking, late, why_not_measured)
             VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
             ON CONFLICT (uuid) DO NOTHING
+            RETURNING {_RECORD_LINE_OWN}
             """,
             [
                 uuid,
@@ -725,7 +729,8 @@ def insert_record(
                 why_not_measured,
             ],
         )
-        created = cursor.rowcount == 1
+        inserted = cursor.fetchone()
+        created = inserted is not None
         if not created:
             row = one(db, f"SELECT {_RECORD_LINE} FROM as_built_records r WHERE r.uuid = ?", [uuid])
             if row["bearing_id"] != bearing_id or row["inspector_id"] != inspector_id:
@@ -805,7 +810,14 @@ def insert_record(
                 bearing_id=bearing_id,
                 detail=detail,
             )
-    return RecordStored(row=record_line(db, site_id=site_id, uuid=uuid), created=True, state=state)
+    row = decode_row(
+        {
+            **dict(zip(_RECORD_LINE_KEYS, inserted, strict=True)),
+            "site_id": site_id,
+            "older_revision": design_revision < bearing["revision"],
+        }
+    )
+    return RecordStored(row=row, created=True, state=state)
 
 
 _FIELD_WORDS = {
@@ -832,11 +844,28 @@ _RECORD_COLUMNS = """
 
 
 # A record without its packed result: what a list or an answer shows of it.
-_RECORD_LINE = """
-    r.uuid, r.bearing_id, r.design_revision, r.inspector_id, r.measured_at, r.received_at,
-    r.measurements, r.checklist, r.notes, r.governing, r.reasons, r.utilisation, r.passed,
-    r.blocking, r.late, r.why_not_measured, r.kind
-"""
+_RECORD_LINE_KEYS = (
+    "uuid",
+    "bearing_id",
+    "design_revision",
+    "inspector_id",
+    "measured_at",
+    "received_at",
+    "measurements",
+    "checklist",
+    "notes",
+    "governing",
+    "reasons",
+    "utilisation",
+    "passed",
+    "blocking",
+    "late",
+    "why_not_measured",
+    "kind",
+)
+_RECORD_LINE = ", ".join(f"r.{key}" for key in _RECORD_LINE_KEYS)
+# The same of the row an insert returns (RETURNING names its table's columns bare).
+_RECORD_LINE_OWN = ", ".join(_RECORD_LINE_KEYS)
 
 
 def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> dict | None:
