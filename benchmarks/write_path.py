@@ -55,8 +55,7 @@ STEPS = (
     ("sitecheck.services", "record_as_built", "re-check and store (the two below and more)"),
     ("sitecheck.services", "recheck", "  the re-check and review"),
     ("sitecheck.store", "insert_record", "  the store's transaction"),
-    ("sitecheck.store.bearings", "pack_json", "    the trace packed"),
-    ("sitecheck.store.bearings", "record_line", "    the record read back"),
+    ("sitecheck.store.records", "pack_json", "    the trace packed"),
     ("sitecheck.web.sync", "_answer", "the answer built"),
     ("sitecheck.web.sync", "jsonify", "the answer written as JSON"),
 )

@@ -232,6 +232,93 @@ def sql_spoken(path: Path) -> list[str]:
     return found
 
 
+# The first word of a statement that changes the database, or takes its write lock.
+WRITE_WORDS = re.compile(r"\b(INSERT|UPDATE|DELETE|REPLACE|CREATE|DROP|ALTER|BEGIN IMMEDIATE)\b")
+
+
+def _functions(path: Path) -> list[ast.FunctionDef | ast.AsyncFunctionDef]:
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    return [n for n in ast.walk(tree) if isinstance(n, ast.FunctionDef | ast.AsyncFunctionDef)]
+
+
+def _statement_word(function: ast.FunctionDef | ast.AsyncFunctionDef) -> str | None:
+    """The first writing word in the SQL a function holds, its docstring left out."""
+    body = function.body
+    if body and isinstance(body[0], ast.Expr) and isinstance(body[0].value, ast.Constant):
+        body = body[1:]
+    for statement in body:
+        for node in ast.walk(statement):
+            if isinstance(node, ast.Constant) and isinstance(node.value, str):
+                match = WRITE_WORDS.search(node.value)
+                if match:
+                    return match.group(1)
+    return None
+
+
+def _called_names(function: ast.FunctionDef | ast.AsyncFunctionDef) -> set[str]:
+    names = set()
+    for node in ast.walk(function):
+        if isinstance(node, ast.Call):
+            func = node.func
+            if isinstance(func, ast.Name):
+                names.add(func.id)
+            elif isinstance(func, ast.Attribute):
+                names.add(func.attr)
+    return names
+
+
+def store_writers(store: Path = PACKAGE / "store") -> dict[str, str]:
+    """The store's functions that write, by name, each with why: the writing word of its
+    SQL ("INSERT", "BEGIN IMMEDIATE"...) or the writer it calls ("calls add_event"), followed
+    through calls by name. Two functions of one name count as one (a writer if either is)."""
+    functions = [f for path in sorted(store.rglob("*.py")) for f in _functions(path)]
+    writers: dict[str, str] = {}
+    for function in functions:
+        word = _statement_word(function)
+        if word and function.name not in writers:
+            writers[function.name] = word
+    calls = [(f.name, _called_names(f)) for f in functions]
+    grew = True
+    while grew:
+        grew = False
+        for name, called in calls:
+            if name not in writers:
+                writer = next((c for c in sorted(called) if c in writers), None)
+                if writer is not None:
+                    writers[name] = f"calls {writer}"
+                    grew = True
+    return writers
+
+
+def store_names_used(path: Path, package: Path = PACKAGE) -> list[tuple[int, str]]:
+    """(line, name) for each name of the store a module uses: ``store.name`` (the store
+    imported under any name, ``store.base.name`` too) and ``from sitecheck.store... import
+    name``."""
+    module = module_name(path, package)
+    store = f"{package.name}.store"
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    aliases: set[str] = set()
+    found = []
+    for node in ast.walk(tree):
+        if isinstance(node, ast.ImportFrom):
+            target = _absolute(module, path.name == "__init__.py", node)
+            for alias in node.names:
+                if target == package.name and alias.name == "store":
+                    aliases.add(alias.asname or "store")
+                elif target == store or target.startswith(store + "."):
+                    found.append((node.lineno, alias.name))
+        elif isinstance(node, ast.Import):
+            aliases.update(a.asname for a in node.names if a.name == store and a.asname)
+    for node in ast.walk(tree):
+        chain, inner = [], node
+        while isinstance(inner, ast.Attribute):
+            chain.append(inner)
+            inner = inner.value
+        if chain and isinstance(inner, ast.Name) and inner.id in aliases and node is chain[0]:
+            found += [(node.lineno, link.attr) for link in chain]
+    return sorted(found)
+
+
 def main() -> int:
     edges = room_edges(every_use())
     for room in sorted(edges):

@@ -73,6 +73,20 @@ def invite(
     )
 
 
+def make_account(db, *, token_hash: str, name: str, password: str) -> dict:
+    """A new account for the address an invitation's link went to (following the link
+    proves the address). ``store.NotFound``: another request used the link a moment ago;
+    ``store.DuplicateEmail``: the address has an account now."""
+    password_hash = credentials.hash_password(password)
+    with store.transaction(db):
+        used = store.use_link(db, token_hash=token_hash, purpose=store.INVITATION)
+        if used is None:
+            raise store.NotFound("link used")
+        return store.create_user(
+            db, email=used["email"], name=name.strip(), password_hash=password_hash
+        )
+
+
 def _one_line(text: str) -> str:
     return " ".join((text or "").split())
 

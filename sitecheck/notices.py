@@ -84,6 +84,26 @@ def kinds_for_roles(roles) -> list[Kind]:
     return [k for k in KINDS.values() if roles & set(k.roles)]
 
 
+def kinds_for_person(db, user_id: int) -> list[Kind]:
+    """The kinds of the roles the person holds on any of their sites."""
+    return kinds_for_roles({s["role"] for s in store.sites_for_user(db, user_id)})
+
+
+def keep_choices(db, *, user_id: int, on) -> None:
+    """Which of the person's kinds come by e-mail: those in ``on``; the rest are off."""
+    mine = [k.code for k in kinds_for_person(db, user_id)]
+    on = set(on)
+    store.set_notice_kinds_off(
+        db, user_id=user_id, kinds=[code for code in mine if code not in on], known=mine
+    )
+
+
+def looked(db, *, user_id: int, site_ids) -> None:
+    """The person has just seen these sites' bearings: "since you last looked" starts
+    again for each."""
+    store.looked(db, user_id=user_id, site_ids=site_ids)
+
+
 # --- who an event concerns -----------------------------------------------------------------------
 
 

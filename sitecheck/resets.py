@@ -14,12 +14,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import timedelta
 
-from sitecheck import credentials, store
+from sitecheck import credentials, sessions, store
 from sitecheck.invitations import utc_words
 from sitecheck.mail import MailSettings
 
 RESET_VALID_S = 24 * 3600
-RESET_PATH = "/new-password/"  # + the link's token; the view is sitecheck.web.accounts
+RESET_PATH = "/new-password/"  # + the link's token; the view is sitecheck.web.people
 
 
 class ResetRefused(ValueError):
@@ -80,6 +80,22 @@ def start_reset(
         mail_id=mail_id,
         handover_link=None if mail is not None else link,
     )
+
+
+def finish_reset(
+    db, *, token_hash: str, user_id: int, password: str
+) -> credentials.SessionToken | None:
+    """Follow a reset link with the new password: it replaces the old, every session of the
+    account ends (a stolen one too), and the session returned begins. None: the link was
+    used by another request a moment ago, and nothing changed."""
+    password_hash = credentials.hash_password(password)
+    with store.transaction(db):
+        if store.use_link(db, token_hash=token_hash, purpose=store.PASSWORD_RESET) is None:
+            return None
+        store.set_password_hash(
+            db, user_id=user_id, password_hash=password_hash, by_user_id=user_id
+        )
+        return sessions.begin_session(db, user_id=user_id, how={"by": "new-password link"})
 
 
 def reset_message(user: dict, *, link: str, expires_at: str) -> tuple[str, str]:

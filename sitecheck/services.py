@@ -508,6 +508,33 @@ def keep_release(
     )
 
 
+def sign_off(
+    db: store.Database, *, site_id: str, engineer_id: int, engineer_name: str, statement: str
+) -> store.Row:
+    """The engineer signs the site record off as it stands at this moment."""
+    return store.add_sign_off(
+        db,
+        site_id=site_id,
+        engineer_id=engineer_id,
+        engineer_name=engineer_name,
+        statement=statement,
+    )
+
+
+def refused(
+    db: store.Database,
+    *,
+    user_id: int,
+    action: str,
+    site_id: str | None = None,
+    role: str | None = None,
+) -> None:
+    """Someone asked to do what they may not: the audit trail keeps it (a "refused" event
+    with the action, and their role on the site when it was a site's action)."""
+    detail = {"action": action} if role is None else {"action": action, "role": role}
+    store.add_event(db, kind="refused", user_id=user_id, site_id=site_id, detail=detail)
+
+
 def _finite(x: float) -> float | None:
     return x if x != float("inf") else None
 

@@ -1,9 +1,11 @@
 """The layer table of DEVELOPERS.md is the contract: the code imports only what it allows,
 every room of the package has a row, and no circle runs between rooms. Only the store speaks
-SQL. The checkers are tried on small packages of their own first, so a pass means something."""
+SQL, and views only read it: what writes goes through a service. The checkers are tried on
+small packages of their own first, so a pass means something."""
 
 from __future__ import annotations
 
+import ast
 import textwrap
 from pathlib import Path
 
@@ -19,10 +21,33 @@ from devtools.layers import (
     room_edges,
     room_of,
     sql_spoken,
+    store_names_used,
+    store_writers,
+    uses_in,
 )
 
 LAYERS = declared_layers((ROOT / "DEVELOPERS.md").read_text(encoding="utf-8"))
 ALLOWED = allowed_edges(LAYERS)
+
+# What the engineering core may not use, beyond the rooms of ours its row forbids: the web,
+# the database, files, logging, pictures, warnings (advice goes into the result) and the
+# console (DESIGN: the core is pure).
+IMPURE_MODULES = frozenset(
+    {
+        "flask",
+        "werkzeug",
+        "sqlite3",
+        "sqlite_utils",
+        "os",
+        "io",
+        "logging",
+        "pathlib",
+        "shutil",
+        "PIL",
+        "warnings",
+    }
+)
+IMPURE_CALLS = frozenset({"print", "open", "input"})
 
 
 def forbidden_uses(package: Path, allowed: dict[str, frozenset[str]]) -> list[str]:
@@ -37,6 +62,23 @@ def forbidden_uses(package: Path, allowed: dict[str, frozenset[str]]) -> list[st
         if target != room and target not in allowed.get(room, frozenset()):
             offences.append(f"{use.module}:{use.line} imports {use.target}")
     return offences
+
+
+def impurities(path: Path, package: Path = PACKAGE) -> list[str]:
+    """Where a module of the core reaches outside pure computation: "line: what"."""
+    found = [
+        f"{use.line}: imports {use.target}"
+        for use in uses_in(path, package)
+        if use.target == "?" or use.target.split(".")[0] in IMPURE_MODULES
+    ]
+    found += [
+        f"{node.lineno}: calls {node.func.id}()"
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8")))
+        if isinstance(node, ast.Call)
+        and isinstance(node.func, ast.Name)
+        and node.func.id in IMPURE_CALLS
+    ]
+    return sorted(found, key=lambda where: int(where.split(":")[0]))
 
 
 def rooms_in(package: Path) -> set[str]:
@@ -118,6 +160,86 @@ def test_the_sql_checker_sees_imports_names_and_calls(tmp_path):
     ]
 
 
+def test_the_purity_checker_sees_imports_of_every_kind_and_the_console(tmp_path):
+    package = write_package(
+        tmp_path,
+        {
+            "__init__.py": "",
+            "bearing/__init__.py": "",
+            "bearing/checks.py": """\
+                import math
+                import os.path
+                from logging import getLogger
+                import importlib
+                def check(x, name):
+                    importlib.import_module("sqlite3")
+                    importlib.import_module(name)
+                    print(x)
+                    return math.sqrt(x)
+                def words(path):
+                    return open(path).read()
+                """,
+        },
+    )
+    assert impurities(package / "bearing" / "checks.py", package) == [
+        "2: imports os.path",
+        "3: imports logging",
+        "6: imports sqlite3",
+        "7: imports ?",
+        "8: calls print()",
+        "11: calls open()",
+    ]
+
+
+def test_the_writer_finder_follows_sql_and_calls_and_sees_every_way_a_view_names_the_store(
+    tmp_path,
+):
+    package = write_package(
+        tmp_path,
+        {
+            "__init__.py": "",
+            "store/__init__.py": "from .rows import add, add_two, get, transaction\n",
+            "store/rows.py": """\
+                def transaction(db):
+                    db.execute("BEGIN IMMEDIATE")
+                def add(db):
+                    \"\"\"Not an UPDATE: the docstring is words.\"\"\"
+                    db.execute(f"INSERT INTO t VALUES ({1})")
+                def add_two(db):
+                    add(db)
+                    add(db)
+                def get(db):
+                    \"\"\"Reads; an INSERT in a docstring is not one.\"\"\"
+                    return db.execute("SELECT * FROM t")
+                """,
+            "web/__init__.py": "",
+            "web/pages.py": """\
+                from sitecheck import store
+                from sitecheck import store as s
+                from sitecheck.store import add
+                from ..store.rows import transaction
+                def page(db):
+                    store.get(db)
+                    s.add_two(db)
+                    return store.rows.get(db)
+                """,
+        },
+    )
+    writers = store_writers(package / "store")
+    assert writers == {
+        "transaction": "BEGIN IMMEDIATE",
+        "add": "INSERT",
+        "add_two": "calls add",
+    }
+    used = store_names_used(package / "web" / "pages.py", package)
+    assert [(line, name) for line, name in used if name in writers] == [
+        (3, "add"),
+        (4, "transaction"),
+        (7, "add_two"),
+    ]
+    assert (8, "get") in used
+
+
 # --- the package keeps the contract -----------------------------------------------------------
 
 
@@ -149,6 +271,15 @@ def test_no_circle_runs_between_rooms():
 
 @pytest.mark.parametrize(
     "path",
+    sorted((PACKAGE / "bearing").rglob("*.py")),
+    ids=lambda p: p.relative_to(ROOT).as_posix(),
+)
+def test_the_core_is_pure(path):
+    assert impurities(path) == []
+
+
+@pytest.mark.parametrize(
+    "path",
     sorted(
         p
         for folder in (PACKAGE, ROOT / "devtools")
@@ -159,3 +290,21 @@ def test_no_circle_runs_between_rooms():
 )
 def test_only_the_store_speaks_sql(path):
     assert sql_spoken(path) == []
+
+
+# The app factory opens the database once, migrating it, before any request is served.
+VIEWS_MAY_WRITE = {("sitecheck/web/__init__.py", "open_db")}
+
+
+def test_views_read_the_store_and_act_through_services():
+    writers = store_writers()
+    # The finder sees the store's writers of every kind, so a pass is not an empty list.
+    assert {"add_event", "insert_record", "looked", "touch_session", "transaction"} <= set(writers)
+    assert not {"get_bearing", "bearing_lines", "review_queue", "pack_rows"} & set(writers)
+    offences = [
+        f"{path.relative_to(ROOT).as_posix()}:{line} calls store.{name} ({writers[name]})"
+        for path in sorted((PACKAGE / "web").rglob("*.py"))
+        for line, name in store_names_used(path)
+        if name in writers and (path.relative_to(ROOT).as_posix(), name) not in VIEWS_MAY_WRITE
+    ]
+    assert offences == []

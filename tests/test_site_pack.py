@@ -235,7 +235,7 @@ def test_a_pack_is_read_in_one_snapshot(app, db, site, monkeypatch):
     """The version and the bearings come from the same moment: a change committed while the
     pack is being read is in neither, and so arrives with the next pack."""
     other = sqlite3.connect(app.config["DB_PATH"], timeout=5)
-    real_changed = store.bearings._changed_since
+    real_changed = store.pack._changed_since
     bearing = _bearing(db, site, "GF-B1-E")
 
     def write_meanwhile(*args):
@@ -251,7 +251,7 @@ def test_a_pack_is_read_in_one_snapshot(app, db, site, monkeypatch):
         return real_changed(*args)
 
     first = store.pack_rows(db, site_id=site["id"])
-    monkeypatch.setattr(store.bearings, "_changed_since", write_meanwhile)
+    monkeypatch.setattr(store.pack, "_changed_since", write_meanwhile)
     answer = store.pack_rows(db, site_id=site["id"], since=first.version)
     monkeypatch.undo()
     assert answer.bearings == [] and answer.version == first.version

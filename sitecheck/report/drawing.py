@@ -352,6 +352,7 @@ def _section_width_mm(m: _Model) -> float:
 
 
 def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple[str, float]:
+    """The elevation along the wall, drawn part by part, each on top of the one before."""
     e = _extent(m)
     ox = MARGIN + 20 - e.left * scale
     title_h = FONT + 14
@@ -362,9 +363,25 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
         f'data-origin-y="{_n(oy)}">'
     )
     c.text(MARGIN, y_top + FONT, "Elevation along the wall", anchor="start", bold=True)
+    _wall_along(c, e, m)
+    _padstone_along(c, m, changed)
+    _beam_along(c, e, m, changed)
+    _dimensions_along(c, e, m, changed)
+    _masonry_spread_along(c, e, m)
+    # The pressure under the padstone, hung below the wall on the same horizontal scale.
+    band_top = c.sy(e.bottom) + 20
+    y_end = _pressure(c, m, band_top, changed)
+    c.raw("</g>")
+    return "\n".join(c.parts), y_end
 
-    # The wall: face, its drawn ends (real ends are thick; a wall that runs on is cut
-    # with a zigzag), and the courses.
+
+def _pad_changed_along(changed: frozenset) -> bool:
+    return bool({"padstone_length", "padstone_depth", "padstone_present"} & changed)
+
+
+def _wall_along(c: _Canvas, e: _Extent, m: _Model) -> None:
+    """The wall: face, its drawn ends (real ends are thick; a wall that runs on is cut
+    with a zigzag), and the courses."""
     wl, wr = c.sx(e.wall_left), c.sx(e.wall_right)
     top, bottom = c.sy(0), c.sy(e.bottom)
     c.rect(
@@ -391,46 +408,53 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
             c.poly(_zigzag_v(x, top, bottom), stroke=JOINT, width=1.5, role="wall-runs-on")
     c.poly(_zigzag_h(wl, wr, bottom), stroke=JOINT, width=1.5, role="wall-continues-down")
 
-    # The padstone and the 45° lines through it.
+
+def _padstone_along(c: _Canvas, m: _Model, changed: frozenset) -> None:
+    """The padstone, its concrete, and the 45° lines through it."""
+    if not m.has_pad:
+        return
     px0, px1 = c.sx(0), c.sx(m.L)
-    ptop = c.sy(-m.d)
-    pad_changed = bool({"padstone_length", "padstone_depth", "padstone_present"} & changed)
-    if m.has_pad:
-        c.rect(
-            px0,
-            ptop,
-            px1 - px0,
-            top - ptop,
-            fill=PAD_FILL,
-            width=2.5,
-            dash="8 4" if pad_changed else None,
-            stroke=CHANGED if pad_changed else INK,
-            role="padstone",
-            length_mm=m.L,
-            depth_mm=m.d,
-            changed=pad_changed or None,
+    top, ptop = c.sy(0), c.sy(-m.d)
+    pad_changed = _pad_changed_along(changed)
+    c.rect(
+        px0,
+        ptop,
+        px1 - px0,
+        top - ptop,
+        fill=PAD_FILL,
+        width=2.5,
+        dash="8 4" if pad_changed else None,
+        stroke=CHANGED if pad_changed else INK,
+        role="padstone",
+        length_mm=m.L,
+        depth_mm=m.d,
+        changed=pad_changed or None,
+    )
+    # Its concrete, where it fits inside: plain concrete is the usual site padstone and
+    # takes a lower design strength (EN 1992-1-1 section 12).
+    if _text_w(m.pad_words) + 8 < px1 - px0 and top - ptop > FONT + 4:
+        c.text(
+            (px0 + px1) / 2,
+            (ptop + top) / 2 + FONT / 3,
+            m.pad_words,
+            role="padstone-concrete",
+            reinforced=" reinforced" in f" {m.pad_words}",
         )
-        # Its concrete, where it fits inside: plain concrete is the usual site padstone and
-        # takes a lower design strength (EN 1992-1-1 section 12).
-        if _text_w(m.pad_words) + 8 < px1 - px0 and top - ptop > FONT + 4:
-            c.text(
-                (px0 + px1) / 2,
-                (ptop + top) / 2 + FONT / 3,
-                m.pad_words,
-                role="padstone-concrete",
-                reinforced=" reinforced" in f" {m.pad_words}",
-            )
-        for start, direction in ((m.foot_x0, -1), (m.foot_x1, 1)):
-            c.poly(
-                _pad_spread_line(m, start, direction, c),
-                stroke=SPREAD,
-                width=2.0,
-                dash="6 4",
-                role="padstone-spread",
-                angle_deg=m.pad_spread,
-            )
-    # The beam: its end (across the wall) or its side (in line), and the reaction.
-    bh = _beam_height(m) * scale
+    for start, direction in ((m.foot_x0, -1), (m.foot_x1, 1)):
+        c.poly(
+            _pad_spread_line(m, start, direction, c),
+            stroke=SPREAD,
+            width=2.0,
+            dash="6 4",
+            role="padstone-spread",
+            angle_deg=m.pad_spread,
+        )
+
+
+def _beam_along(c: _Canvas, e: _Extent, m: _Model, changed: frozenset) -> None:
+    """The beam: its end (across the wall) or its side (in line), and the reaction."""
+    ptop = c.sy(-m.d)
+    bh = _beam_height(m) * c.scale
     fx0, fx1 = c.sx(m.foot_x0), c.sx(m.foot_x1)
     foot_changed = bool({"flange_width", "bearing_length", "offset_along"} & changed)
     ink = CHANGED if foot_changed else INK
@@ -468,8 +492,14 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
     )
     c.text(rx + 10, ptop - bh - 24, f"N_Ed {number(m.reaction / 1000)} kN", anchor="start")
 
-    # Dimensions above: the padstone length (or the footprint with no padstone), and a1.
-    dim_y = ptop - bh - 54 - 12
+
+def _dimensions_along(c: _Canvas, e: _Extent, m: _Model, changed: frozenset) -> None:
+    """Dimensions above: the padstone length (or the footprint with no padstone), a1, a2."""
+    wl, wr = c.sx(e.wall_left), c.sx(e.wall_right)
+    px0, px1 = c.sx(0), c.sx(m.L)
+    top, ptop = c.sy(0), c.sy(-m.d)
+    pad_changed = _pad_changed_along(changed)
+    dim_y = ptop - _beam_height(m) * c.scale - 54 - 12
     if m.has_pad:
         mark = " ≠" if pad_changed else ""
         c.dim_h(
@@ -518,7 +548,11 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
             length_mm=m.a2,
         )
 
-    # The spread in the masonry down to the check depth, and the length it gives there.
+
+def _masonry_spread_along(c: _Canvas, e: _Extent, m: _Model) -> None:
+    """The spread in the masonry down to the check depth, and the length it gives there."""
+    wl, wr = c.sx(e.wall_left), c.sx(e.wall_right)
+    top = c.sy(0)
     sl, sr, zl, zr = _masonry_reach(m)
     c.poly(
         [(c.sx(m.sx0), top), (c.sx(sl), c.sy(zl)), (c.sx(sl), c.sy(m.depth))],
@@ -573,12 +607,6 @@ def _elevation(m: _Model, scale: float, y_top: float, changed: frozenset) -> tup
         anchor="start",
         fill=MASONRY_SPREAD,
     )
-
-    # The pressure under the padstone, hung below the wall on the same horizontal scale.
-    band_top = bottom + 20
-    y_end = _pressure(c, m, band_top, changed)
-    c.raw("</g>")
-    return "\n".join(c.parts), y_end
 
 
 def _courses(c: _Canvas, e: _Extent, m: _Model) -> str:
@@ -704,18 +732,34 @@ def _pressure(c: _Canvas, m: _Model, band_top: float, changed: frozenset) -> flo
 
 
 def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple[str, float]:
+    """The section across the wall, drawn part by part, each on top of the one before."""
     bh = _beam_height(m)
     ox = MARGIN + 30 + (m.bearing * scale if m.across else 40.0)
-    below = max(220.0, 0.8 * m.t)
+    below = _section_below(m)
     oy = y_top + FONT + 14 + 2 * FONT + 44 + (m.d + bh) * scale
     c = _Canvas(scale, ox, oy)
     c.raw(
         f'<g data-view="section" data-scale="{scale:.6g}" data-origin-x="{_n(ox)}" data-origin-y="{_n(oy)}">'
     )
     c.text(MARGIN, y_top + FONT, "Section across the wall", anchor="start", bold=True)
+    _wall_across(c, m, changed)
+    _padstone_across(c, m, changed)
+    _beam_across(c, m, changed)
+    _dimensions_across(c, m, changed)
+    c.raw("</g>")
+    return "\n".join(c.parts), c.sy(below) + FONT + 16
+
+
+def _section_below(m: _Model) -> float:
+    """How much of the wall the section shows below its top, in mm."""
+    return max(220.0, 0.8 * m.t)
+
+
+def _wall_across(c: _Canvas, m: _Model, changed: frozenset) -> None:
+    """The wall cut across: its faces, a zigzag where it goes on down, and its centre line."""
     t_changed = "wall_thickness" in changed
     w0, w1 = c.sx(0), c.sx(m.t)
-    top, bottom = c.sy(0), c.sy(below)
+    top, bottom = c.sy(0), c.sy(_section_below(m))
     c.rect(
         w0,
         top,
@@ -736,7 +780,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
     cl = c.sx(m.t / 2)
     c.line(
         cl,
-        c.sy(-(m.d + bh) - 20),
+        c.sy(-(m.d + _beam_height(m)) - 20),
         cl,
         bottom + 10,
         stroke=INK,
@@ -745,29 +789,38 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
         role="centre-line",
         y_mm=m.t / 2,
     )
+
+
+def _padstone_across(c: _Canvas, m: _Model, changed: frozenset) -> None:
+    if not m.has_pad:
+        return
     pad_changed = bool({"padstone_width", "padstone_depth", "padstone_present"} & changed)
     py0, py1 = c.sx(m.y0_wall), c.sx(m.y0_wall + m.W)
+    top, ptop = c.sy(0), c.sy(-m.d)
+    c.rect(
+        py0,
+        ptop,
+        py1 - py0,
+        top - ptop,
+        fill=PAD_FILL,
+        width=2.5,
+        stroke=CHANGED if pad_changed else INK,
+        dash="8 4" if pad_changed else None,
+        role="padstone",
+        width_mm=m.W,
+        depth_mm=m.d,
+        changed=pad_changed or None,
+    )
+
+
+def _beam_across(c: _Canvas, m: _Model, changed: frozenset) -> None:
+    """The beam: its side (across the wall) or its end (in line), and the reaction."""
     ptop = c.sy(-m.d)
-    if m.has_pad:
-        c.rect(
-            py0,
-            ptop,
-            py1 - py0,
-            top - ptop,
-            fill=PAD_FILL,
-            width=2.5,
-            stroke=CHANGED if pad_changed else INK,
-            dash="8 4" if pad_changed else None,
-            role="padstone",
-            width_mm=m.W,
-            depth_mm=m.d,
-            changed=pad_changed or None,
-        )
     fy0 = c.sx(m.y0_wall + m.foot_y0)
     fy1 = c.sx(m.y0_wall + m.foot_y1)
     foot_changed = bool({"bearing_length", "flange_width", "offset_across"} & changed)
     ink = CHANGED if foot_changed else INK
-    bhu = bh * scale
+    bhu = _beam_height(m) * c.scale
     if m.across:
         # The beam comes from the near face's side and stops on the padstone.
         left = MARGIN
@@ -793,7 +846,15 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
     ry = c.sx(m.y0_wall + m.ry)
     c.arrow_down(ry, ptop - bhu - 4, 40, role="reaction", y_mm=m.y0_wall + m.ry)
 
-    # Dimensions: the wall below, padstone and bearing above, eccentricity between.
+
+def _dimensions_across(c: _Canvas, m: _Model, changed: frozenset) -> None:
+    """Dimensions: the wall below, padstone and bearing above, eccentricity between."""
+    t_changed = "wall_thickness" in changed
+    w0, w1 = c.sx(0), c.sx(m.t)
+    below = _section_below(m)
+    top, bottom, ptop = c.sy(0), c.sy(below), c.sy(-m.d)
+    fy0 = c.sx(m.y0_wall + m.foot_y0)
+    fy1 = c.sx(m.y0_wall + m.foot_y1)
     c.dim_h(
         w0,
         w1,
@@ -803,7 +864,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
         role="dim-wall-thickness",
         length_mm=m.t,
     )
-    ytxt = ptop - bhu - 30
+    ytxt = ptop - _beam_height(m) * c.scale - 30
     if m.across:
         lb_changed = "bearing_length" in changed
         c.dim_h(
@@ -826,7 +887,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
         )
     if m.has_pad:
         c.dim_v(
-            max(py1, w1) + 16,
+            max(c.sx(m.y0_wall + m.W), w1) + 16,
             ptop,
             top,
             f"padstone {_mm(m.W)} × {_mm(m.d)}" + (f", {m.pad_across}" if m.pad_across else ""),
@@ -834,6 +895,7 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
             width_mm=m.W,
         )
     e = m.ecc_across
+    cl, ry = c.sx(m.t / 2), c.sx(m.y0_wall + m.ry)
     ey = c.sy(below * 0.45)
     c.line(cl, ey, ry, ey, stroke=MASONRY_SPREAD, width=2.0, role="eccentricity", e_mm=e)
     c.line(ry, ptop, ry, ey, stroke=MASONRY_SPREAD, width=1.0, dash="4 4")
@@ -848,8 +910,6 @@ def _section(m: _Model, scale: float, y_top: float, changed: frozenset) -> tuple
         e_mm=e,
     )
     c.text(w0 - 6, bottom + FONT + 4, "near face", anchor="start")
-    c.raw("</g>")
-    return "\n".join(c.parts), bottom + FONT + 16
 
 
 # --- putting it together ------------------------------------------------------------------------

@@ -450,8 +450,7 @@ def _source(name: str) -> str:
 
 
 def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
-    site = rec.site
-    code = site.get("code_basis") or {}
+    code = rec.site.get("code_basis") or {}
     pdf.add_page()
     pdf.start_section("Code basis and review settings", level=0)
     pdf.h1(f"Code basis: {code.get('name', '—')}")
@@ -461,6 +460,19 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
         "against the standard and national annex in force before relying on them; “changed” "
         "marks a value this site set apart from the default."
     )
+    changed = _changed_from_default(code)
+    _basis_values(pdf, code, changed)
+    _k_table(pdf, code, changed)
+    _basis_tables(pdf, code, changed)
+    _review_settings(pdf, rec.site.get("review_settings") or {})
+    pdf.h2("People on this site")
+    pdf.grid(["name", "role"], [[m["name"], m["role"]] for m in rec.members], [90, 90], size=8)
+    pdf.ln(2)
+    pdf.para(SOURCE_WORDS, 7.5)
+
+
+def _changed_from_default(code: dict) -> Callable[[str], str]:
+    """'changed' for a value this site set apart from its basis's default, else ''."""
     try:
         default = basis_named(code.get("name", "")).to_dict()
     except (KeyError, ValueError):
@@ -469,6 +481,11 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
     def changed(name: str) -> str:
         return "changed" if name in default and default[name] != code.get(name) else ""
 
+    return changed
+
+
+def _basis_values(pdf: _Doc, code: dict, changed: Callable[[str], str]) -> None:
+    """The single values, group by group as the settings page shows them."""
     widths = [62, 28, 72, 18]
     for title, names in BASIS_GROUPS:
         rows = []
@@ -485,24 +502,32 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
             pdf.h2(title)
             pdf.grid(["value", "used", "default from", ""], rows, widths, size=7.5)
 
+
+def _k_table(pdf: _Doc, code: dict, changed: Callable[[str], str]) -> None:
+    """EC6's K, a row for each unit and group, a column for each mortar."""
     k_values = code.get("k_values") or {}
-    if k_values:
-        pdf.keep(60)  # the heading with the first rows of its table
-        pdf.h2(TABLE_TITLES["k_values"])
-        pdf.para(f"Default from: {_source('k_values')}. {changed('k_values')}", 7.5)
-        cells: dict[tuple[str, str], dict[str, float]] = {}
-        for key, value in k_values.items():
-            material, group, mortar = key.split("|")
-            cells.setdefault((material, group), {})[mortar] = value
-        pdf.grid(
-            ["unit", "Group", *(f"{m} mortar" for m in K_MORTARS)],
-            [
-                [material, group, *(_v(by.get(m)) for m in K_MORTARS)]
-                for (material, group), by in cells.items()
-            ],
-            [60, 20, 40, 40],
-            size=7.5,
-        )
+    if not k_values:
+        return
+    pdf.keep(60)  # the heading with the first rows of its table
+    pdf.h2(TABLE_TITLES["k_values"])
+    pdf.para(f"Default from: {_source('k_values')}. {changed('k_values')}", 7.5)
+    cells: dict[tuple[str, str], dict[str, float]] = {}
+    for key, value in k_values.items():
+        material, group, mortar = key.split("|")
+        cells.setdefault((material, group), {})[mortar] = value
+    pdf.grid(
+        ["unit", "Group", *(f"{m} mortar" for m in K_MORTARS)],
+        [
+            [material, group, *(_v(by.get(m)) for m in K_MORTARS)]
+            for (material, group), by in cells.items()
+        ],
+        [60, 20, 40, 40],
+        size=7.5,
+    )
+
+
+def _basis_tables(pdf: _Doc, code: dict, changed: Callable[[str], str]) -> None:
+    """The other tables of the basis: the partial factors, creep, the bearing types."""
     for name, rows in (("gamma_M_ec6", GAMMA_M_EC6_ROWS), ("gamma_m_bs", GAMMA_M_BS_ROWS)):
         table = code.get(name) or {}
         if table:
@@ -543,7 +568,8 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
             size=7.5,
         )
 
-    review = site.get("review_settings") or {}
+
+def _review_settings(pdf: _Doc, review: dict) -> None:
     pdf.keep(60)
     pdf.h2("Review settings")
     pdf.para(
@@ -560,10 +586,6 @@ def _basis_pages(pdf: _Doc, rec: SiteRecord) -> None:
             asked = ", ".join(FIELD_LABELS.get(f, f).lower() for f in review[name]) or "none"
             rows.append([label, asked, "[ours]"])
     pdf.grid(["setting", "value", "default from"], rows, [72, 60, 48], size=7.5)
-    pdf.h2("People on this site")
-    pdf.grid(["name", "role"], [[m["name"], m["role"]] for m in rec.members], [90, 90], size=8)
-    pdf.ln(2)
-    pdf.para(SOURCE_WORDS, 7.5)
 
 
 def _part_note(pdf: _Doc, rec: SiteRecord) -> None:

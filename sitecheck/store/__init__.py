@@ -2,10 +2,15 @@
 
 Open one connection per thread with ``open_db(path)`` (or ``connect(path)`` where the schema
 is known to be up to date: a server migrates once at start); every function takes it as
-its first argument and the rest as keyword arguments. JSON columns come back as Python values,
-0/1 flags as booleans, times as UTC ISO 8601 text ending in 'Z'. Every change that writes more
-than one row runs in one transaction; wrap several calls in ``transaction(db)`` to make them one.
+its first argument and the rest as keyword arguments. Rows come back as ``Row``, a dict by
+column name: JSON columns as Python values, 0/1 flags as booleans, times as UTC ISO 8601 text
+ending in 'Z'. Every change that writes more than one row runs in one transaction; wrap
+several calls in ``transaction(db)`` to make them one.
 """
+
+# The connection every function here takes first, named for callers' type annotations: only
+# the store names the SQL library.
+from sqlite_utils import Database as Database
 
 from sitecheck.store.accounts import (
     SESSION_ABSOLUTE_S,
@@ -31,48 +36,20 @@ from sitecheck.store.accounts import (
     set_password_hash,
     touch_session,
 )
-from sitecheck.store.base import roll_back_unfinished, timestamp, transaction, utc_now
+from sitecheck.store.base import Row, roll_back_unfinished, timestamp, transaction, utc_now
 from sitecheck.store.bearings import (
     RELEASABLE_STATES,
-    PackRows,
-    RecordStored,
-    Stored,
     add_bearing,
-    after_release_evidence,
     bearing_by_reference,
-    bearing_counts,
-    bearing_lines,
     bearing_revisions,
-    count_bearing_lines,
-    decisions_for,
     get_bearing,
-    get_photo,
-    get_record,
-    insert_photo,
-    insert_record,
-    keep_release,
-    latest_decisions,
-    latest_record_summaries,
     list_bearings,
-    pack_rows,
-    photo_files_in_use,
-    photos_for_bearing,
-    photos_for_record,
-    record_decision,
-    record_line,
-    record_release,
-    record_reopening,
-    records_for_bearing,
-    records_for_site,
     releasable,
-    releases_for,
-    releases_kept_for,
-    reopenings_for,
-    review_queue,
     revise_bearing,
     set_state,
 )
 from sitecheck.store.connection import connect, open_db
+from sitecheck.store.decisions import decisions_for, latest_decisions, record_decision
 from sitecheck.store.errors import (
     AlreadyMember,
     Conflict,
@@ -104,6 +81,7 @@ from sitecheck.store.invitations import (
     withdraw_invitation,
 )
 from sitecheck.store.leases import clear_leases, lease_holder, release_lease, take_lease
+from sitecheck.store.lines import bearing_counts, bearing_lines, count_bearing_lines
 from sitecheck.store.mail import (
     claim_due_mail,
     mail_failed,
@@ -134,9 +112,18 @@ from sitecheck.store.notices import (
     set_notice_kinds_off,
     since_last_looked,
     skip_notices,
-    to_decide_counts,
     waiting_notices,
 )
+from sitecheck.store.pack import PackRows, pack_rows
+from sitecheck.store.photos import (
+    Stored,
+    get_photo,
+    insert_photo,
+    photo_files_in_use,
+    photos_for_bearing,
+    photos_for_record,
+)
+from sitecheck.store.queue import review_queue, to_decide_counts
 from sitecheck.store.record_jobs import (
     TooManyRecords,
     get_record_job,
@@ -152,6 +139,24 @@ from sitecheck.store.record_reads import (
     count_events,
     read_snapshot,
     site_events,
+)
+from sitecheck.store.records import (
+    RecordStored,
+    get_record,
+    insert_record,
+    latest_record_summaries,
+    record_line,
+    records_for_bearing,
+    records_for_site,
+)
+from sitecheck.store.releases import (
+    after_release_evidence,
+    keep_release,
+    record_release,
+    record_reopening,
+    releases_for,
+    releases_kept_for,
+    reopenings_for,
 )
 from sitecheck.store.sign_offs import (
     NOT_A_CHANGE,
@@ -220,6 +225,7 @@ __all__ = [
     "STATES",
     "AlreadyMember",
     "Conflict",
+    "Database",
     "DuplicateEmail",
     "DuplicateReference",
     "FailedLogIns",
@@ -227,6 +233,7 @@ __all__ = [
     "NotFound",
     "PackRows",
     "RecordStored",
+    "Row",
     "SameIdOtherValues",
     "Selection",
     "StaleState",

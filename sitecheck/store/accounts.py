@@ -2,12 +2,22 @@
 
 import re
 import sqlite3
+from dataclasses import dataclass
 from datetime import datetime, timedelta
-from typing import NamedTuple
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, timestamp, transaction, utc_now
+from sitecheck.store.base import (
+    Row,
+    inserted_id,
+    many,
+    one,
+    present,
+    the_row,
+    timestamp,
+    transaction,
+    utc_now,
+)
 from sitecheck.store.errors import DuplicateEmail, NotFound
 from sitecheck.store.events import add_event
 
@@ -43,7 +53,7 @@ def create_user(
     password_hash: str,
     must_change_password: bool = False,
     may_make_sites: bool = False,
-) -> dict:
+) -> Row:
     """``must_change_password`` for a password someone else chose: the account must choose
     its own at its first log-in. ``may_make_sites`` for an account that starts sites."""
     email = normalise_email(email)
@@ -73,26 +83,26 @@ def create_user(
                     f"An account for {email} already exists; sign in or reset its password"
                 ) from None
             raise
-        user_id = cursor.lastrowid
+        user_id = inserted_id(cursor)
         add_event(
             db,
             kind="user created",
             user_id=user_id,
             after={"email": email, "may_make_sites": bool(may_make_sites)},
         )
-    return get_user_by_id(db, user_id)
+    return present(get_user_by_id(db, user_id), "the user")
 
 
-def get_user_by_id(db: sqlite_utils.Database, user_id: int) -> dict | None:
+def get_user_by_id(db: sqlite_utils.Database, user_id: int) -> Row | None:
     """The user without the password hash, which must never reach a page."""
     return one(db, f"SELECT {_USER_COLUMNS} FROM users WHERE id = ?", [user_id])
 
 
-def get_user_by_email(db: sqlite_utils.Database, email: str) -> dict | None:
+def get_user_by_email(db: sqlite_utils.Database, email: str) -> Row | None:
     return one(db, f"SELECT {_USER_COLUMNS} FROM users WHERE email = ?", [normalise_email(email)])
 
 
-def login_credentials(db: sqlite_utils.Database, email: str) -> dict | None:
+def login_credentials(db: sqlite_utils.Database, email: str) -> Row | None:
     """id, password_hash and disabled for signing in; the only read that returns the hash."""
     return one(
         db,
@@ -144,7 +154,7 @@ def set_disabled(
     return ended
 
 
-def list_users(db: sqlite_utils.Database) -> list[dict]:
+def list_users(db: sqlite_utils.Database) -> list[Row]:
     """Every account for the command line: its state, how many sites it is on and when it
     last logged in (the newest session's start), by e-mail."""
     return many(
@@ -181,7 +191,7 @@ def set_may_make_sites(
     return True
 
 
-def people_sharing_sites(db: sqlite_utils.Database, user_id: int) -> list[dict]:
+def people_sharing_sites(db: sqlite_utils.Database, user_id: int) -> list[Row]:
     """Everyone on a site that ``user_id`` is on (``user_id`` too), with whether they may
     make sites and the shared sites as "site name (role)" lines. No e-mail addresses."""
     rows = many(
@@ -197,7 +207,7 @@ def people_sharing_sites(db: sqlite_utils.Database, user_id: int) -> list[dict]:
         """,
         [user_id],
     )
-    people: dict[int, dict] = {}
+    people: dict[int, Row] = {}
     for row in rows:
         person = people.setdefault(
             row["id"],
@@ -230,7 +240,7 @@ def get_session_user(
     idle_s: int = SESSION_IDLE_S,
     absolute_s: int = SESSION_ABSOLUTE_S,
     now: datetime | None = None,
-) -> dict | None:
+) -> Row | None:
     """The signed-in user, or None if the session is unknown, revoked, expired or disabled;
     ``session_seen_at`` is when the session was last marked as used (see touch_session)."""
     try:
@@ -315,7 +325,9 @@ def record_login_attempt(
     )
 
 
-class FailedLogIns(NamedTuple):
+# A dataclass, not a NamedTuple: a tuple's own count() would stand in the way of the field.
+@dataclass(frozen=True)
+class FailedLogIns:
     """Failed log-ins in the window, and when the latest was (UTC text, None if none)."""
 
     count: int
@@ -337,7 +349,7 @@ def failed_log_ins(
     person out of their own account by failing on purpose.
     """
     since = timestamp((now or utc_now()) - timedelta(seconds=window_s))
-    row = one(
+    row = the_row(
         db,
         """
         WITH pair AS (
@@ -374,7 +386,7 @@ def prune_login_attempts(
     return cursor.rowcount
 
 
-def sessions_for_user(db: sqlite_utils.Database, user_id: int) -> list[dict]:
+def sessions_for_user(db: sqlite_utils.Database, user_id: int) -> list[Row]:
     """Live and ended sessions of a user, newest first (for a 'where am I signed in' page)."""
     return many(
         db,

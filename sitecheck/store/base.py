@@ -2,6 +2,7 @@
 
 import contextlib
 import json
+import sqlite3
 import threading
 import uuid as uuid_module
 import zlib
@@ -13,6 +14,11 @@ import orjson
 import sqlite_utils
 import zstandard
 from sqlite_utils.utils import dedupe_keys
+
+# A row as the store hands it out: column name -> Python value (JSON decoded, flags bool).
+Row = dict[str, Any]
+# A statement's parameters: in order for ``?``, by name for ``:name``.
+Params = Sequence[Any] | dict[str, Any]
 
 # Columns holding JSON, as text or packed (see pack_json); decoded on the way out so callers
 # only ever see Python values.
@@ -174,9 +180,11 @@ def unpack_json(data: bytes) -> Any:
     return json.loads(zlib.decompress(data))
 
 
-def decode_row(row: dict[str, Any] | None) -> dict[str, Any] | None:
-    if row is None:
-        return None
+def decode_row(row: Row | None) -> Row | None:
+    return None if row is None else decoded(row)
+
+
+def decoded(row: Row) -> Row:
     out = dict(row)
     for key, value in out.items():
         if key in JSON_COLUMNS and isinstance(value, str):
@@ -188,7 +196,7 @@ def decode_row(row: dict[str, Any] | None) -> dict[str, Any] | None:
     return out
 
 
-def rows(db: sqlite_utils.Database, sql: str, params: Sequence | dict = ()) -> Iterator[dict]:
+def rows(db: sqlite_utils.Database, sql: str, params: Params = ()) -> Iterator[Row]:
     """The rows of a SELECT as plain dicts, undecoded, read as they are iterated.
 
     Straight on the connection: every statement here is a SELECT written in this package, so
@@ -200,12 +208,34 @@ def rows(db: sqlite_utils.Database, sql: str, params: Sequence | dict = ()) -> I
     return (dict(zip(keys, row, strict=True)) for row in cursor)
 
 
-def one(db: sqlite_utils.Database, sql: str, params: Sequence | dict = ()) -> dict | None:
+def one(db: sqlite_utils.Database, sql: str, params: Params = ()) -> Row | None:
     return decode_row(next(rows(db, sql, params), None))
 
 
-def many(db: sqlite_utils.Database, sql: str, params: Sequence | dict = ()) -> list[dict]:
-    return [decode_row(row) for row in rows(db, sql, params)]
+def the_row(db: sqlite_utils.Database, sql: str, params: Params = ()) -> Row:
+    """The row a statement cannot fail to find: an aggregate's, or one written a moment ago
+    in the same transaction."""
+    return present(one(db, sql, params), " ".join(sql.split())[:80])
+
+
+def present(row: Row | None, what: str) -> Row:
+    """A row the caller knows is there (written a moment ago, or read under the write lock);
+    its absence is a fault of the store's, said as such rather than as a TypeError later."""
+    if row is None:
+        raise LookupError(f"no row where one must be: {what}")
+    return row
+
+
+def many(db: sqlite_utils.Database, sql: str, params: Params = ()) -> list[Row]:
+    return [decoded(row) for row in rows(db, sql, params)]
+
+
+def inserted_id(cursor: sqlite3.Cursor) -> int:
+    """The rowid an INSERT gave its row (sqlite3 types it as optional, for statements that
+    insert none)."""
+    if cursor.lastrowid is None:
+        raise LookupError("the statement inserted no row")
+    return cursor.lastrowid
 
 
 def placeholders(values: Iterable[Any]) -> str:

@@ -5,7 +5,7 @@ from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, timestamp, to_json, utc_now
+from sitecheck.store.base import Row, inserted_id, many, timestamp, to_json, utc_now
 
 
 def add_event(
@@ -35,7 +35,7 @@ def add_event(
         """,
         [timestamp(now or utc_now()), user_id, site_id, bearing_id, kind, to_json(body)],
     )
-    return cursor.lastrowid
+    return inserted_id(cursor)
 
 
 def events_for(
@@ -44,7 +44,7 @@ def events_for(
     site_id: str,
     bearing_id: str | None = None,
     limit: int = 1000,
-) -> list[dict]:
+) -> list[Row]:
     """A site's events (or one bearing's on that site), newest first."""
     if bearing_id is None:
         return many(
@@ -59,7 +59,7 @@ def events_for(
     )
 
 
-def events_for_user(db: sqlite_utils.Database, *, user_id: int, limit: int = 1000) -> list[dict]:
+def events_for_user(db: sqlite_utils.Database, *, user_id: int, limit: int = 1000) -> list[Row]:
     """Events a user caused, newest first (for account pages; not scoped to one site)."""
     return many(
         db,

@@ -5,7 +5,17 @@ from datetime import datetime, timedelta
 
 import sqlite_utils
 
-from sitecheck.store.base import many, new_id, one, timestamp, transaction, utc_now
+from sitecheck.store.base import (
+    Row,
+    inserted_id,
+    many,
+    new_id,
+    one,
+    present,
+    timestamp,
+    transaction,
+    utc_now,
+)
 from sitecheck.store.errors import NotFound
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import ROLES
@@ -44,7 +54,7 @@ def create_invitation(
     invited_by: int,
     valid_s: int,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """A pending offer; one that was pending for the same address and site is withdrawn
     (the newer role and expiry stand). The event names no address: the site's history is
     read by every member."""
@@ -87,10 +97,12 @@ def create_invitation(
             site_id=site_id,
             detail={"invitation": invitation_id, "role": role},
         )
-    return get_invitation(db, invitation_id)
+    return present(get_invitation(db, invitation_id), "the invitation")
 
 
-def _close(db, invitation_id: str, state: str, by: int | None, now: datetime) -> None:
+def _close(
+    db: sqlite_utils.Database, invitation_id: str, state: str, by: int | None, now: datetime
+) -> None:
     db.execute(
         "UPDATE invitations SET state = ?, answered_at = ?, answered_by = ? WHERE id = ?",
         [state, timestamp(now), by, invitation_id],
@@ -102,7 +114,7 @@ def _close(db, invitation_id: str, state: str, by: int | None, now: datetime) ->
     )
 
 
-def get_invitation(db: sqlite_utils.Database, invitation_id: str) -> dict | None:
+def get_invitation(db: sqlite_utils.Database, invitation_id: str) -> Row | None:
     return one(
         db,
         """
@@ -120,7 +132,7 @@ def attach_mail(db: sqlite_utils.Database, *, invitation_id: str, mail_id: int) 
 
 def open_invitations_for_site(
     db: sqlite_utils.Database, *, site_id: str, now: datetime | None = None
-) -> list[dict]:
+) -> list[Row]:
     """Pending, unexpired offers of a site, with who made them and how their e-mail went."""
     return many(
         db,
@@ -140,7 +152,7 @@ def open_invitations_for_site(
 
 def open_invitations_for_email(
     db: sqlite_utils.Database, *, email: str, now: datetime | None = None
-) -> list[dict]:
+) -> list[Row]:
     """Pending, unexpired offers to an address: the site's name, the role, who invited."""
     return many(
         db,
@@ -163,7 +175,7 @@ def answer_invitation(
     email: str,
     accept: bool,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """Accept (the person joins the site in the offered role) or decline. Only the account
     with the invited address may answer, only while the offer is open; otherwise NotFound,
     the same for every reason, so the answer tells nothing about other people's offers."""
@@ -196,7 +208,7 @@ def answer_invitation(
             site_id=site_id,
             detail={"invitation": invitation_id, "role": invitation["role"]},
         )
-    return get_invitation(db, invitation_id)
+    return present(get_invitation(db, invitation_id), "the invitation")
 
 
 def withdraw_invitation(
@@ -278,12 +290,12 @@ def create_link(
             timestamp(now + timedelta(seconds=valid_s)),
         ],
     )
-    return cursor.lastrowid
+    return inserted_id(cursor)
 
 
 def open_link(
     db: sqlite_utils.Database, *, token_hash: str, purpose: str, now: datetime | None = None
-) -> dict | None:
+) -> Row | None:
     """The link if it is unused and unexpired, else None (the same for every reason)."""
     try:
         token_hash = _token_hash(token_hash)
@@ -301,7 +313,7 @@ def open_link(
 
 def use_link(
     db: sqlite_utils.Database, *, token_hash: str, purpose: str, now: datetime | None = None
-) -> dict | None:
+) -> Row | None:
     """Mark the link used and return it, or None if it is unknown, used or expired. One
     UPDATE: two requests with the same link cannot both use it."""
     try:

@@ -9,7 +9,7 @@ from datetime import datetime, timedelta
 
 import sqlite_utils
 
-from sitecheck.store.base import one, timestamp, transaction, utc_now
+from sitecheck.store.base import Row, one, timestamp, transaction, utc_now
 
 
 def take_lease(
@@ -51,7 +51,7 @@ def release_lease(db: sqlite_utils.Database, *, name: str, holder: str) -> None:
 
 def lease_holder(
     db: sqlite_utils.Database, *, name: str, now: datetime | None = None
-) -> dict | None:
+) -> Row | None:
     """Who holds the lease now, since when and until when; None if nobody does."""
     return one(
         db,

@@ -8,7 +8,7 @@ from datetime import datetime, timedelta
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, timestamp, transaction, utc_now
+from sitecheck.store.base import Row, inserted_id, many, one, timestamp, transaction, utc_now
 
 # The columns a page may show about a message (never its body, which may hold a link).
 _STATUS_COLUMNS = (
@@ -42,7 +42,7 @@ def queue_mail(
         """,
         [kind, to_addr, subject, body, html, at, at],
     )
-    return cursor.lastrowid
+    return inserted_id(cursor)
 
 
 def claim_due_mail(
@@ -51,7 +51,7 @@ def claim_due_mail(
     lease_s: float,
     limit: int = 20,
     now: datetime | None = None,
-) -> list[dict]:
+) -> list[Row]:
     """Messages due now, each claimed for ``lease_s`` seconds so that another process's
     sender leaves them alone meanwhile (a sender that dies lets its claim run out)."""
     now = now or utc_now()
@@ -119,7 +119,7 @@ def mail_failed(
     )
 
 
-def mail_status(db: sqlite_utils.Database, mail_id: int) -> dict | None:
+def mail_status(db: sqlite_utils.Database, mail_id: int) -> Row | None:
     """Where a message is: sent, waiting (with its tries and last error) or given up."""
     return one(db, f"SELECT {_STATUS_COLUMNS} FROM outgoing_mail WHERE id = ?", [mail_id])
 

@@ -15,11 +15,21 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable
 from datetime import datetime, timedelta
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, placeholders, timestamp, transaction, utc_now
-from sitecheck.store.bearings import _OPEN_EVIDENCE
+from sitecheck.store.base import (
+    Row,
+    many,
+    one,
+    placeholders,
+    the_row,
+    timestamp,
+    transaction,
+    utc_now,
+)
+from sitecheck.store.releases import OPEN_EVIDENCE
 
 # At most one notice message per person in this many seconds; the first after a quiet spell
 # goes at once, later ones wait and go together.
@@ -33,7 +43,7 @@ NOTICE_GAP_S = 10 * 60
 EVENTS_PER_ROUND = 500
 
 # (user_id, kind, words, by_user_id) for one event, given the site's members.
-NoticeRule = Callable[[dict, list[dict]], Iterable[tuple[int, str, str, int | None]]]
+NoticeRule = Callable[[Row, list[Row]], Iterable[tuple[int, str, str, int | None]]]
 
 
 # --- from the audit trail to notices -------------------------------------------------------------
@@ -52,14 +62,14 @@ def derive_notices(
     moment = now or utc_now()
     at = timestamp(moment)
     with transaction(db):
-        cursor = one(db, "SELECT last_event_id, checked_at FROM notice_cursor WHERE id = 1")
+        cursor = the_row(db, "SELECT last_event_id, checked_at FROM notice_cursor WHERE id = 1")
         db.execute("UPDATE notice_cursor SET checked_at = ? WHERE id = 1", [at])
         if cursor["checked_at"] < timestamp(moment - timedelta(seconds=NOTICE_GAP_S)):
             skip_notices(db)
             return 0
         after = cursor["last_event_id"]
         events = many(db, "SELECT * FROM events WHERE id > ? ORDER BY id LIMIT ?", [after, limit])
-        members: dict[str, list[dict]] = {}
+        members: dict[str, list[Row]] = {}
         for event in events:
             site_id = event["site_id"]
             if not site_id or not event["bearing_id"]:
@@ -101,7 +111,7 @@ def skip_notices(db: sqlite_utils.Database) -> None:
     )
 
 
-def _is_off(db, user_id: int, kind: str) -> bool:
+def _is_off(db: sqlite_utils.Database, user_id: int, kind: str) -> bool:
     return (
         one(db, "SELECT 1 AS x FROM notices_off WHERE user_id = ? AND kind = ?", [user_id, kind])
         is not None
@@ -112,7 +122,7 @@ def _quiet_since(now: datetime) -> str:
     return timestamp(now - timedelta(seconds=QUIET_S))
 
 
-def waiting_notices(db: sqlite_utils.Database, *, now: datetime | None = None) -> list[dict]:
+def waiting_notices(db: sqlite_utils.Database, *, now: datetime | None = None) -> list[Row]:
     """Waiting notices of the people whose last notice message went at least QUIET_S ago
     (or never), oldest first, each with what a message needs and what shows whether it
     still holds: the bearing's state now, the person's role on the site now, the latest
@@ -131,7 +141,7 @@ def waiting_notices(db: sqlite_utils.Database, *, now: datetime | None = None) -
                 ORDER BY d.created_at DESC, d.id DESC LIMIT 1) AS last_decision,
                (SELECT count(*) FROM notices_off o
                 WHERE o.user_id = n.user_id AND o.kind = n.kind) AS turned_off,
-               EXISTS (SELECT 1 FROM after_release_evidence e WHERE {_OPEN_EVIDENCE})
+               EXISTS (SELECT 1 FROM after_release_evidence e WHERE {OPEN_EVIDENCE})
                    AS after_release
         FROM notices n
         JOIN users u ON u.id = n.user_id
@@ -182,7 +192,7 @@ def notices_still_waiting(
     sent them meanwhile)."""
     if not ids:
         return False
-    row = one(
+    row = the_row(
         db,
         f"""
         SELECT count(*) AS waiting,
@@ -194,7 +204,7 @@ def notices_still_waiting(
         """,
         [ids[0], _quiet_since(now or utc_now()), *ids],
     )
-    return row["waiting"] == len(ids) and row["recent"] == 0
+    return bool(row["waiting"] == len(ids) and row["recent"] == 0)
 
 
 def notices_mailed(
@@ -219,7 +229,7 @@ def notices_dropped(
         )
 
 
-def notices_of(db: sqlite_utils.Database, *, user_id: int, limit: int = 50) -> list[dict]:
+def notices_of(db: sqlite_utils.Database, *, user_id: int, limit: int = 50) -> list[Row]:
     """A person's notices, newest first, with how each went (for their notices page)."""
     return many(
         db,
@@ -299,7 +309,7 @@ _SINCE_KINDS = (
 
 def since_last_looked(
     db: sqlite_utils.Database, *, user_id: int, site_id: str | None = None
-) -> list[dict]:
+) -> list[Row]:
     """Bearings that came into this person's hands since they last looked at their site
     (or since they joined it, if they never looked): ``site_id``, ``bearing_id``,
     ``reference``, ``kind``, ``at`` (when it got there) and ``looked_at``. One site, or all
@@ -309,7 +319,7 @@ def since_last_looked(
         for kind, role, condition in _SINCE_KINDS
     )
     where_site = "AND m.site_id = ?" if site_id else ""
-    params: list = [user_id] + ([site_id] if site_id else [])
+    params: list[Any] = [user_id] + ([site_id] if site_id else [])
     # The kind is worked out from the index alone (site, changed, state, id), so only the
     # bearings that count are read whole. Each of the person's sites with when they last looked first, so that the bearings are
     # read by the (site, changed) index from that moment on only.
@@ -340,33 +350,3 @@ def last_looked(db: sqlite_utils.Database, *, user_id: int, site_id: str) -> str
         [user_id, site_id],
     )
     return row["looked_at"] if row else None
-
-
-def to_decide_counts(db: sqlite_utils.Database, *, user_id: int) -> dict:
-    """For the engineer's header: bearings waiting for their decision across their sites,
-    how many of them arrived since they last looked, and whether they are the engineer on any
-    site at all (only then does the header offer the queue)."""
-    row = one(
-        db,
-        f"""
-        SELECT count(*) AS waiting, coalesce(sum(since > looked), 0) AS new FROM (
-            SELECT coalesce(v.looked_at, m.created_at) AS looked,
-                   CASE WHEN b.state = 'engineer to decide' THEN b.state_changed_at
-                        ELSE (SELECT min(e.received_at) FROM after_release_evidence e
-                              WHERE {_OPEN_EVIDENCE}) END AS since
-            FROM memberships m
-            JOIN bearings b ON b.site_id = m.site_id
-            LEFT JOIN site_visits v ON v.user_id = m.user_id AND v.site_id = m.site_id
-            WHERE m.user_id = ? AND m.role = 'engineer'
-              AND (b.state = 'engineer to decide' OR (b.state = 'released' AND EXISTS (
-                  SELECT 1 FROM after_release_evidence e WHERE {_OPEN_EVIDENCE})))
-        )
-        """,
-        [user_id],
-    )
-    engineer = one(
-        db,
-        "SELECT 1 AS yes FROM memberships WHERE user_id = ? AND role = 'engineer' LIMIT 1",
-        [user_id],
-    )
-    return {"waiting": row["waiting"], "new": row["new"], "engineer": engineer is not None}

@@ -11,10 +11,11 @@ import hashlib
 import json
 from collections.abc import Callable
 from datetime import datetime, timedelta
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, timestamp, transaction, utc_now
+from sitecheck.store.base import Row, many, one, present, timestamp, transaction, utc_now
 from sitecheck.store.errors import Conflict
 from sitecheck.store.migrations import RECORD_KINDS
 
@@ -73,12 +74,12 @@ def start_record_job(
     selection: str = "",
     user_id: int | None,
     version: str,
-    file_kept: Callable[[dict], bool],
+    file_kept: Callable[[Row], bool],
     per_user: int,
     window_s: float,
     stale_after_s: float,
     now: datetime | None = None,
-) -> tuple[dict, str]:
+) -> tuple[Row, str]:
     """Start making a site's record of ``kind`` (one of RECORD_KINDS) of the part
     ``selection`` keeps (a Selection's key; empty: the whole site), join the making of that
     kind and part under way, or reuse a finished one.
@@ -96,21 +97,7 @@ def start_record_job(
     moment = now or utc_now()
     at = timestamp(moment)
     with transaction(db):
-        db.execute(
-            f"""
-            UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
-            WHERE site_id = ? AND kind = ? AND selection = ? AND state IN {RUNNING}
-                AND updated_at < ?
-            """,
-            [
-                STOPPED_BY_RESTART,
-                at,
-                site_id,
-                kind,
-                selection,
-                _stale_before(stale_after_s, moment),
-            ],
-        )
+        _stop_stale(db, site_id, kind, selection, at, _stale_before(stale_after_s, moment))
         running = one(
             db,
             "SELECT * FROM record_jobs WHERE site_id = ? AND kind = ? AND selection = ? "
@@ -128,24 +115,7 @@ def start_record_job(
         if done is not None and done["site_version"] == version and file_kept(done):
             return done, "reused"
         if user_id is not None:
-            since = timestamp(moment - timedelta(seconds=window_s))
-            mine = many(
-                db,
-                "SELECT created_at FROM record_jobs WHERE started_by = ? AND kind = ? "
-                "AND created_at >= ? ORDER BY created_at",
-                [user_id, kind, since],
-            )
-            if len(mine) >= per_user:
-                oldest = datetime.fromisoformat(mine[0]["created_at"].replace("Z", "+00:00"))
-                retry_at = timestamp(oldest + timedelta(seconds=window_s))
-                what = _KIND_WORDS[kind]
-                raise TooManyRecords(
-                    f"You have started {len(mine)} {what}s in the last "
-                    f"{_duration(window_s)}, the most one person may. The newest finished "
-                    f"{what} stays available; you can start another after {retry_at[11:16]} "
-                    "UTC.",
-                    retry_at,
-                )
+            _refuse_too_many(db, user_id, kind, moment, per_user=per_user, window_s=window_s)
         db.execute(
             """
             INSERT INTO record_jobs (id, site_id, kind, selection, state, started_by,
@@ -154,7 +124,51 @@ def start_record_job(
             """,
             [job_id, site_id, kind, selection, user_id, version, at, at],
         )
-    return get_record_job(db, job_id), "started"
+    return present(get_record_job(db, job_id), "the job"), "started"
+
+
+def _stop_stale(
+    db: sqlite_utils.Database, site_id: str, kind: str, selection: str, at: str, before: str
+) -> None:
+    """Mark stopped a making of this kind and part not heard from since ``before``: the
+    process that ran it stopped."""
+    db.execute(
+        f"""
+        UPDATE record_jobs SET state = 'stopped', error = ?, updated_at = ?
+        WHERE site_id = ? AND kind = ? AND selection = ? AND state IN {RUNNING}
+            AND updated_at < ?
+        """,
+        [STOPPED_BY_RESTART, at, site_id, kind, selection, before],
+    )
+
+
+def _refuse_too_many(
+    db: sqlite_utils.Database,
+    user_id: int,
+    kind: str,
+    moment: datetime,
+    *,
+    per_user: int,
+    window_s: float,
+) -> None:
+    since = timestamp(moment - timedelta(seconds=window_s))
+    mine = many(
+        db,
+        "SELECT created_at FROM record_jobs WHERE started_by = ? AND kind = ? "
+        "AND created_at >= ? ORDER BY created_at",
+        [user_id, kind, since],
+    )
+    if len(mine) >= per_user:
+        oldest = datetime.fromisoformat(mine[0]["created_at"].replace("Z", "+00:00"))
+        retry_at = timestamp(oldest + timedelta(seconds=window_s))
+        what = _KIND_WORDS[kind]
+        raise TooManyRecords(
+            f"You have started {len(mine)} {what}s in the last "
+            f"{_duration(window_s)}, the most one person may. The newest finished "
+            f"{what} stays available; you can start another after {retry_at[11:16]} "
+            "UTC.",
+            retry_at,
+        )
 
 
 # How a refusal names each kind of making.
@@ -174,8 +188,8 @@ _PROGRESS_FIELDS = frozenset(
 
 
 def update_record_job(
-    db: sqlite_utils.Database, job_id: str, *, now: datetime | None = None, **fields
-) -> dict:
+    db: sqlite_utils.Database, job_id: str, *, now: datetime | None = None, **fields: Any
+) -> Row:
     """Write a job's progress (and its heartbeat, ``updated_at``)."""
     unknown = set(fields) - _PROGRESS_FIELDS
     if unknown:
@@ -189,10 +203,10 @@ def update_record_job(
             f"UPDATE record_jobs SET {assignments}, updated_at = ? WHERE id = ?",
             [*(fields[n] for n in names), timestamp(now or utc_now()), job_id],
         )
-    return get_record_job(db, job_id)
+    return present(get_record_job(db, job_id), "the job")
 
 
-def get_record_job(db: sqlite_utils.Database, job_id: str) -> dict | None:
+def get_record_job(db: sqlite_utils.Database, job_id: str) -> Row | None:
     return one(db, "SELECT * FROM record_jobs WHERE id = ?", [job_id])
 
 
@@ -202,7 +216,7 @@ def record_jobs_for_site(
     site_id: str,
     kind: str | None = None,
     selection: str | None = None,
-) -> list[dict]:
+) -> list[Row]:
     """A site's makings (of one kind, or of every kind; of one part, or of every part),
     newest first."""
     sql, values = "SELECT * FROM record_jobs WHERE site_id = ?", [site_id]

@@ -9,15 +9,17 @@ every batch comes from the same moment of the database, however long the writing
 
 import contextlib
 import json
-from collections.abc import Generator, Iterator
+from collections.abc import Callable, Generator, Iterator
 from dataclasses import dataclass
 from datetime import date, timedelta
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import decode_row, many, one, placeholders
-from sitecheck.store.bearings import _NEWEST_FIRST, _RECORD_COLUMNS
+from sitecheck.store.base import Params, Row, decoded, many, one, placeholders
+from sitecheck.store.bearings import NEWEST_FIRST
 from sitecheck.store.migrations import STATES
+from sitecheck.store.records import RECORD_COLUMNS
 
 # Bearings read at a time: big enough that the per-query cost vanishes, small enough that a
 # batch's decoded calculations (about 100 KB a bearing as Python objects) stay a few tens of MB.
@@ -100,7 +102,7 @@ class Selection:
         )
         return start, end
 
-    def where(self) -> tuple[str, list]:
+    def where(self) -> tuple[str, list[Any]]:
         """SQL conditions on the bearings ``b`` this selection keeps, and their values."""
         sql, values = [], []
         if self.words:
@@ -171,7 +173,7 @@ def bearing_batches(
     size: int | None = None,
     selection: Selection | None = None,
     light: bool = False,
-) -> Iterator[list[dict]]:
+) -> Iterator[list[Row]]:
     """The site's bearings (those ``selection`` keeps) in reference order, ``size`` at a
     time, each as a dict (``light``: without the design and the calculations, HEAVY):
 
@@ -214,24 +216,26 @@ def bearing_batches(
         after = (bearings[-1]["reference"], bearings[-1]["id"])
 
 
-def _rows_light(db: sqlite_utils.Database, sql: str, params) -> list[dict]:
+def _rows_light(db: sqlite_utils.Database, sql: str, params: Params) -> list[Row]:
     return [
-        decode_row({k: v for k, v in row.items() if k not in HEAVY})
-        for row in db.query(sql, params)
+        decoded({k: v for k, v in row.items() if k not in HEAVY}) for row in db.query(sql, params)
     ]
 
 
 def _with_their_rows(
-    db: sqlite_utils.Database, site_id: str, bearings: list[dict], rows=many
-) -> list[dict]:
+    db: sqlite_utils.Database,
+    site_id: str,
+    bearings: list[Row],
+    rows: Callable[[sqlite_utils.Database, str, Params], list[Row]] = many,
+) -> list[Row]:
     ids = [b["id"] for b in bearings]
     marks = placeholders(ids)
     records = rows(
         db,
         f"""
-        SELECT {_RECORD_COLUMNS} FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
+        SELECT {RECORD_COLUMNS} FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
         WHERE b.site_id = ? AND r.bearing_id IN ({marks})
-        ORDER BY r.bearing_id, {_NEWEST_FIRST}
+        ORDER BY r.bearing_id, {NEWEST_FIRST}
         """,
         [site_id, *ids],
     )
@@ -244,7 +248,7 @@ def _with_their_rows(
         """,
         [site_id, *ids],
     )
-    out = {
+    out: dict[str, dict[str, Any]] = {
         b["id"]: {
             "bearing": b,
             "records": [],
@@ -274,7 +278,7 @@ def _with_their_rows(
     return [out[i] for i in ids]
 
 
-def _events_where(selection: Selection | None) -> tuple[str, list]:
+def _events_where(selection: Selection | None) -> tuple[str, list[Any]]:
     """Events of a whole site: all of them. Of part of it: the kept bearings' events, and
     within the dates if it has any."""
     if selection is None or selection.whole:
@@ -294,7 +298,7 @@ def site_events(
     site_id: str,
     size: int | None = None,
     selection: Selection | None = None,
-) -> Iterator[dict]:
+) -> Iterator[Row]:
     """Every event of a site (or of the part ``selection`` keeps), oldest first, read
     ``size`` at a time."""
     size = EVENTS_BATCH if size is None else size

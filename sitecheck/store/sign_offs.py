@@ -3,14 +3,25 @@
 from __future__ import annotations
 
 from datetime import datetime
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one, required_text, timestamp, to_json, transaction, utc_now
+from sitecheck.store.base import (
+    Row,
+    many,
+    one,
+    required_text,
+    the_row,
+    timestamp,
+    to_json,
+    transaction,
+    utc_now,
+)
 from sitecheck.store.events import add_event
 
 
-def site_extent(db: sqlite_utils.Database, *, site_id: str) -> dict:
+def site_extent(db: sqlite_utils.Database, *, site_id: str) -> dict[str, Any]:
     """What a site record holds right now: its bearings by state, its as-built records and
     photos, and its newest history entry (id and time). A sign-off keeps this as what it
     covers."""
@@ -22,7 +33,7 @@ def site_extent(db: sqlite_utils.Database, *, site_id: str) -> dict:
             [site_id],
         )
     }
-    counts = one(
+    counts = the_row(
         db,
         """
         SELECT (SELECT count(*) FROM as_built_records r JOIN bearings b ON b.id = r.bearing_id
@@ -53,7 +64,7 @@ def add_sign_off(
     engineer_name: str,
     statement: str,
     now: datetime | None = None,
-) -> dict:
+) -> Row:
     """Keep the engineer's sign-off, covering the site record exactly as it is at this
     moment (read inside the same transaction, so nothing slips in between)."""
     engineer_name = required_text(engineer_name, "The engineer's name")
@@ -78,7 +89,7 @@ def add_sign_off(
             detail={"sign_off": sign_off_id, "engineer_name": engineer_name, "covers": covers},
             now=now,
         )
-    return one(db, "SELECT * FROM sign_offs WHERE id = ?", [sign_off_id])
+    return the_row(db, "SELECT * FROM sign_offs WHERE id = ?", [sign_off_id])
 
 
 # History entries that change nothing in the record: tries that were refused, and the
@@ -88,7 +99,7 @@ NOT_A_CHANGE = ("refused", "release refused", "engineer's sign-off")
 
 def changes_since(db: sqlite_utils.Database, *, site_id: str, event_id: int | None) -> int:
     """How many entries changed the site record after history entry ``event_id``."""
-    row = one(
+    row = the_row(
         db,
         f"""
         SELECT count(*) AS n FROM events
@@ -96,13 +107,13 @@ def changes_since(db: sqlite_utils.Database, *, site_id: str, event_id: int | No
         """,
         [site_id, event_id or 0, *NOT_A_CHANGE],
     )
-    return row["n"]
+    return int(row["n"])
 
 
-def sign_offs_for(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
+def sign_offs_for(db: sqlite_utils.Database, *, site_id: str) -> list[Row]:
     """A site's sign-offs, oldest first."""
     return many(db, "SELECT * FROM sign_offs WHERE site_id = ? ORDER BY id", [site_id])
 
 
-def latest_sign_off(db: sqlite_utils.Database, *, site_id: str) -> dict | None:
+def latest_sign_off(db: sqlite_utils.Database, *, site_id: str) -> Row | None:
     return one(db, "SELECT * FROM sign_offs WHERE site_id = ? ORDER BY id DESC LIMIT 1", [site_id])

@@ -5,7 +5,17 @@ from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, new_id, one, timestamp, to_json, transaction
+from sitecheck.store.base import (
+    Row,
+    many,
+    new_id,
+    one,
+    present,
+    the_row,
+    timestamp,
+    to_json,
+    transaction,
+)
 from sitecheck.store.errors import AlreadyMember, LastEngineer, NotFound
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import ROLES
@@ -25,7 +35,7 @@ def create_site(
     code_basis: dict[str, Any],
     review_settings: dict[str, Any],
     created_by: int,
-) -> dict:
+) -> Row:
     """Create a site; its creator becomes its engineer, so no site is left without one."""
     name = (name or "").strip()
     if not name:
@@ -62,10 +72,10 @@ def create_site(
             site_id=site_id,
             after={"name": name, "code_basis": code_basis, "review_settings": review_settings},
         )
-    return get_site(db, site_id)
+    return present(get_site(db, site_id), "the site")
 
 
-def get_site(db: sqlite_utils.Database, site_id: str) -> dict | None:
+def get_site(db: sqlite_utils.Database, site_id: str) -> Row | None:
     return one(db, "SELECT * FROM sites WHERE id = ?", [site_id])
 
 
@@ -78,7 +88,7 @@ def update_site_settings(
     address: str | None = None,
     code_basis: dict[str, Any] | None = None,
     review_settings: dict[str, Any] | None = None,
-) -> dict:
+) -> Row:
     """Change any of name, address, code basis, review settings; None leaves a field as it is."""
     changes: dict[str, Any] = {}
     if name is not None:
@@ -114,12 +124,12 @@ def update_site_settings(
                 before={key: before[key] for key in changes},
                 after=changes,
             )
-    return get_site(db, site_id)
+    return present(get_site(db, site_id), "the site")
 
 
 def add_membership(
     db: sqlite_utils.Database, *, user_id: int, site_id: str, role: str, invited_by: int | None
-) -> dict:
+) -> Row:
     with transaction(db):
         try:
             db.execute(
@@ -142,7 +152,7 @@ def add_membership(
             site_id=site_id,
             after={"user": user_id, "role": role},
         )
-    return one(
+    return the_row(
         db, "SELECT * FROM memberships WHERE user_id = ? AND site_id = ?", [user_id, site_id]
     )
 
@@ -153,7 +163,7 @@ ENGINEER = "engineer"  # workflow.ENGINEER: the store sits below the workflow
 def _keep_an_engineer(db: sqlite_utils.Database, *, user_id: int, site_id: str) -> None:
     """Inside the caller's write transaction, so two changes at once cannot both see a
     second engineer and each take one away."""
-    others = one(
+    others = the_row(
         db,
         "SELECT count(*) AS n FROM memberships WHERE site_id = ? AND role = ? AND user_id != ?",
         [site_id, ENGINEER, user_id],
@@ -221,7 +231,7 @@ def role_of(db: sqlite_utils.Database, *, user_id: int, site_id: str) -> str | N
     return None if row is None else row["role"]
 
 
-def sites_for_user(db: sqlite_utils.Database, user_id: int) -> list[dict]:
+def sites_for_user(db: sqlite_utils.Database, user_id: int) -> list[Row]:
     """The user's sites, each with the user's ``role`` there, by name."""
     return many(
         db,
@@ -233,12 +243,12 @@ def sites_for_user(db: sqlite_utils.Database, user_id: int) -> list[dict]:
     )
 
 
-def sites_named(db: sqlite_utils.Database, name: str) -> list[dict]:
+def sites_named(db: sqlite_utils.Database, name: str) -> list[Row]:
     """Sites whose name is exactly ``name`` (names are not unique; the CLI refuses two)."""
     return many(db, "SELECT * FROM sites WHERE name = ? ORDER BY created_at", [name])
 
 
-def members_of(db: sqlite_utils.Database, *, site_id: str) -> list[dict]:
+def members_of(db: sqlite_utils.Database, *, site_id: str) -> list[Row]:
     """People on a site with their role (no password hashes)."""
     return many(
         db,

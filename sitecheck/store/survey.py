@@ -13,15 +13,16 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
+from typing import Any
 
 import sqlite_utils
 
-from sitecheck.store.base import many, one
+from sitecheck.store.base import Row, many, the_row
 
 _DIGITS = re.compile(r"(\d+)")
 
 
-def natural_key(text: str) -> tuple:
+def natural_key(text: str) -> tuple[tuple[int, int, str], ...]:
     """GF-B2 before GF-B10: digits compared as numbers, the rest without case."""
     return tuple(
         (1, int(part), "") if part.isdecimal() else (0, 0, part.lower())
@@ -66,10 +67,10 @@ class SurveyRanks:
     other: int
     design_fails: int
 
-    def sql(self) -> tuple[str, list]:
+    def sql(self) -> tuple[str, list[Any]]:
         """The rank of ``b``'s bearing as an SQL expression, and its parameters."""
         whens = " ".join("WHEN ? THEN ?" for _ in self.first)
-        params: list = [self.design_fails]
+        params: list[Any] = [self.design_fails]
         for state, rank in self.first.items():
             params += [state, rank]
         return (
@@ -89,7 +90,7 @@ _PLACED = """
 """
 
 
-def _matching(words: list[str]) -> tuple[str, list]:
+def _matching(words: list[str]) -> tuple[str, list[str]]:
     # As the survey list has always searched: every word in the reference or the location,
     # lowered as Python lowers text (the connection's sitecheck_lower).
     where = " AND ".join(
@@ -104,7 +105,7 @@ def survey_counts(
     """The site's bearings counted for its survey list, ``found`` those matching every one
     of ``words``."""
     rank, rank_params = ranks.sql()
-    counts = one(
+    counts = the_row(
         db,
         f"""
         SELECT count(*) AS total, coalesce(sum(design_passed = 0), 0) AS design_fails,
@@ -116,7 +117,7 @@ def survey_counts(
     found = counts["total"]
     match, match_params = _matching(list(words))
     if match_params:
-        found = one(
+        found = the_row(
             db,
             f"SELECT count(*) AS n FROM bearings b INDEXED BY bearings_survey "
             f"WHERE b.site_id = ? AND {match}",
@@ -133,7 +134,7 @@ def survey_lines(
     words: Iterable[str] = (),
     limit: int,
     offset: int = 0,
-) -> list[dict]:
+) -> list[Row]:
     """One page (``limit`` from ``offset``) of the site's bearings in survey order, those
     matching every one of ``words``; each line carries its ``order``, its place by
     reference among all the site's bearings (the phone ranks again by it)."""
@@ -161,7 +162,7 @@ def survey_next(
     bearing_id: str,
     ranks: SurveyRanks,
     limit: int,
-) -> list[dict]:
+) -> list[Row]:
     """Up to ``limit`` bearings to survey (ranked before ``ranks.other``) that come after
     ``bearing_id`` in survey order, going round to the start of the list after its end."""
     rank, rank_params = ranks.sql()

@@ -9,6 +9,7 @@ from __future__ import annotations
 import contextlib
 import os
 import sqlite3
+from collections.abc import Iterator
 from pathlib import Path
 
 import sqlite_utils
@@ -28,7 +29,7 @@ __all__ = [
 
 
 @contextlib.contextmanager
-def _read_only(path: str | os.PathLike):
+def _read_only(path: str | os.PathLike[str]) -> Iterator[sqlite3.Connection]:
     """A connection that cannot create or change the file (a missing database stays
     missing: the health check must not make an empty one)."""
     uri = Path(path).resolve().as_uri() + "?mode=ro"
@@ -52,13 +53,13 @@ def known_migrations() -> list[str]:
     return [m.name for m in MIGRATIONS.pending(sqlite_utils.Database(memory=True))]
 
 
-def applied_migrations(path: str | os.PathLike) -> list[str]:
+def applied_migrations(path: str | os.PathLike[str]) -> list[str]:
     """The migrations applied to the database at ``path``, oldest first."""
     with _read_only(path) as conn:
         return _applied(conn)
 
 
-def database_problem(path: str | os.PathLike) -> str | None:
+def database_problem(path: str | os.PathLike[str]) -> str | None:
     """Why the database cannot serve, in a sentence; None when it is reachable, answers a
     query and has every migration this sitecheck knows."""
     if not Path(path).is_file():
@@ -74,7 +75,7 @@ def database_problem(path: str | os.PathLike) -> str | None:
     return None
 
 
-def copy_database(source: str | os.PathLike, target: str | os.PathLike) -> None:
+def copy_database(source: str | os.PathLike[str], target: str | os.PathLike[str]) -> None:
     """A consistent copy of a live database, taken while others read and write it.
 
     SQLite's online backup in one step: it reads inside one read transaction, so the copy is
@@ -100,7 +101,7 @@ def copy_database(source: str | os.PathLike, target: str | os.PathLike) -> None:
         os.fsync(f.fileno())
 
 
-def replace_database(source: str | os.PathLike, target: str | os.PathLike) -> None:
+def replace_database(source: str | os.PathLike[str], target: str | os.PathLike[str]) -> None:
     """Write the database ``source`` over ``target`` through SQLite's backup, which takes
     ``target``'s locks: a server holding it open sees the whole old or the whole new, never
     a file half written."""
@@ -115,7 +116,7 @@ def replace_database(source: str | os.PathLike, target: str | os.PathLike) -> No
         src.close()
 
 
-def integrity_problems(path: str | os.PathLike) -> list[str]:
+def integrity_problems(path: str | os.PathLike[str]) -> list[str]:
     """What ``PRAGMA integrity_check`` and ``foreign_key_check`` find; empty when sound.
     A file too damaged to be read at all is one problem, said as SQLite says it."""
     try:
@@ -129,7 +130,7 @@ def integrity_problems(path: str | os.PathLike) -> list[str]:
     return problems
 
 
-def row_counts(path: str | os.PathLike) -> dict[str, int]:
+def row_counts(path: str | os.PathLike[str]) -> dict[str, int]:
     """Rows in every table of the database (SQLite's own tables aside)."""
     with _read_only(path) as conn:
         tables = [
@@ -148,7 +149,7 @@ def row_counts(path: str | os.PathLike) -> dict[str, int]:
         }
 
 
-def photo_files_named(path: str | os.PathLike) -> set[str]:
+def photo_files_named(path: str | os.PathLike[str]) -> set[str]:
     """Every picture hash a photo row names (the picture and its thumbnail)."""
     with _read_only(path) as conn:
         rows = conn.execute(

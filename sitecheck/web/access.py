@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from flask import abort, g
 
-from sitecheck import store, workflow
+from sitecheck import services, store, workflow
 from sitecheck.web import get_db
 
 
@@ -23,13 +23,7 @@ def site_for(site_id: str, action: str) -> tuple[dict, str]:
     if site is None:
         abort(404)
     if not workflow.allowed(role, action):
-        store.add_event(
-            db,
-            kind="refused",
-            user_id=user["id"],
-            site_id=site_id,
-            detail={"action": action, "role": role},
-        )
+        services.refused(db, user_id=user["id"], action=action, site_id=site_id, role=role)
         abort(
             403,
             description=f"As {role} on this site you may not {ACTION_WORDS.get(action, action)}.",
@@ -46,7 +40,7 @@ def require_may_make_sites() -> None:
         abort(401)
     if user.get("may_make_sites"):
         return
-    store.add_event(get_db(), kind="refused", user_id=user["id"], detail={"action": "make-sites"})
+    services.refused(get_db(), user_id=user["id"], action="make-sites")
     abort(
         403,
         description=(

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from datetime import datetime
 from functools import wraps
 
 from flask import (
@@ -22,7 +21,7 @@ from flask_wtf import FlaskForm
 from wtforms import EmailField, PasswordField, StringField
 from wtforms.validators import DataRequired, Length, Regexp
 
-from sitecheck import credentials, store
+from sitecheck import credentials, invitations, sessions, store
 from sitecheck.web import get_db
 
 bp = Blueprint("auth", __name__)
@@ -52,15 +51,18 @@ def load_user() -> None:
     token = session.get(SESSION_KEY)
     if not token or request.path.startswith("/static/"):
         return
-    db = get_db()
-    sid = credentials.session_id_for(token)
-    user = store.get_session_user(db, sid)
+    user = sessions.user_for_token(get_db(), token)
     if user is None:
         session.pop(SESSION_KEY, None)
         return
-    # Given when it was last marked, the store writes only once a minute, not every request.
-    store.touch_session(db, sid, seen_at=user.pop("session_seen_at"))
     g.user = user
+
+
+def begin_session(token: credentials.SessionToken) -> None:
+    """A fresh cookie for a session just begun: never one that was there before (fixation)."""
+    session.clear()
+    session[SESSION_KEY] = token.token
+    session.permanent = True
 
 
 def login_required(view):
@@ -97,8 +99,7 @@ def change_password():
     form = PasswordForm()
     if form.validate_on_submit():
         db = get_db()
-        cred = store.login_credentials(db, g.user["email"])
-        if not credentials.verify_login(cred["password_hash"] if cred else None, form.current.data):
+        if not sessions.is_password(db, email=g.user["email"], password=form.current.data):
             form.current.errors.append("That is not your password now. Nothing was changed.")
         elif form.new.data != form.again.data:
             form.again.errors.append("The two new passwords differ. Type the same one twice.")
@@ -107,18 +108,7 @@ def change_password():
         elif problem := credentials.password_problem(form.new.data, email=g.user["email"]):
             form.new.errors.append(problem)
         else:
-            # Every session of the account ends (a stolen one too); this one starts afresh.
-            store.set_password_hash(
-                db,
-                user_id=g.user["id"],
-                password_hash=credentials.hash_password(form.new.data),
-                by_user_id=g.user["id"],
-            )
-            token = credentials.new_session_token()
-            store.create_session(db, session_id=token.session_id, user_id=g.user["id"])
-            session.clear()
-            session[SESSION_KEY] = token.token
-            session.permanent = True
+            begin_session(sessions.new_password(db, user_id=g.user["id"], password=form.new.data))
             flash("Password changed. Other phones and browsers logged in as you are logged out.")
             return redirect(url_for("pages.home"))
     status = 400 if request.method == "POST" else 200
@@ -158,26 +148,14 @@ def join(token):
     if form.errors.get("new") or form.again.errors:
         return _join_page(link, invitation, 400, form=form)
     try:
-        with store.transaction(db):
-            used = store.use_link(db, token_hash=token_hash, purpose=store.INVITATION)
-            if used is None:  # used by a second request a moment ago
-                raise store.NotFound("link used")
-            user = store.create_user(
-                db,
-                email=used["email"],
-                name=form.name.data.strip(),
-                password_hash=credentials.hash_password(form.new.data),
-            )
-    except store.NotFound:
+        user = invitations.make_account(
+            db, token_hash=token_hash, name=form.name.data, password=form.new.data
+        )
+    except store.NotFound:  # used by a second request a moment ago
         return _join_page(None, None, 410)
     except store.DuplicateEmail:
         return _join_page(link, invitation, 409, has_account=True)
-    session_token = credentials.new_session_token()
-    store.create_session(db, session_id=session_token.session_id, user_id=user["id"])
-    store.add_event(db, kind="log-in", user_id=user["id"], detail={"by": "invitation link"})
-    session.clear()
-    session[SESSION_KEY] = session_token.token
-    session.permanent = True
+    begin_session(sessions.begin_session(db, user_id=user["id"], how={"by": "invitation link"}))
     flash("Your account is ready. Accept or decline the invitation below.")
     return redirect(url_for("pages.home"))
 
@@ -204,45 +182,36 @@ def _join_page(link, invitation, status: int, *, form=None, has_account=False):
 def login():
     form = LoginForm()
     if form.validate_on_submit():
-        db = get_db()
         email = form.email.data.strip().lower()
         # The client's address as the trusted proxies give it (SITECHECK_TRUSTED_PROXIES).
         remote = request.remote_addr or "-"
-        wait = _log_in_wait(db, email, remote)
-        if wait:
-            store.add_event(
-                db, kind="log-in throttled", detail={"email": email, "remote_addr": remote}
-            )
+        config = current_app.config
+        tried = sessions.log_in(
+            get_db(),
+            email=email,
+            password=form.password.data,
+            remote_addr=remote,
+            window_s=config["LOGIN_FAILURE_WINDOW_S"],
+            rules=(config["LOG_IN_RULE_ACCOUNT"], config["LOG_IN_RULE_ADDRESS"]),
+        )
+        if tried.wait:
             body = render_template(
                 "login.html",
                 form=form,
                 error=(
                     "Too many failed log-ins from here. Wait "
-                    f"{credentials.wait_words(wait)}, then try again; each further failure "
-                    "makes the wait longer."
+                    f"{credentials.wait_words(tried.wait)}, then try again; each further "
+                    "failure makes the wait longer."
                 ),
             )
-            return body, 429, {"Retry-After": str(wait)}
-        cred = store.login_credentials(db, email)
-        ok = credentials.verify_login(cred["password_hash"] if cred else None, form.password.data)
-        if ok and cred and cred["disabled"]:
-            ok = False
-        store.record_login_attempt(db, email=email, remote_addr=remote, ok=ok)
-        if not ok:
-            store.add_event(
-                db, kind="log-in failed", detail={"email": email, "remote_addr": remote}
-            )
+            return body, 429, {"Retry-After": str(tried.wait)}
+        if tried.token is None:
             return render_template(
                 "login.html",
                 form=form,
                 error="That e-mail and password do not match an active account.",
             ), 401
-        token = credentials.new_session_token()
-        store.create_session(db, session_id=token.session_id, user_id=cred["id"])
-        store.add_event(db, kind="log-in", user_id=cred["id"], detail={"remote_addr": remote})
-        session.clear()  # a fresh cookie at log-in: no fixation
-        session[SESSION_KEY] = token.token
-        session.permanent = True
+        begin_session(tried.token)
         return redirect(
             credentials.same_site_path(request.args.get("next")) or url_for("pages.home")
         )
@@ -250,31 +219,11 @@ def login():
     return render_template("login.html", form=form, error=None), status
 
 
-def _log_in_wait(db, email: str, remote: str) -> int:
-    """Seconds before this account may be tried again from this address (0: now)."""
-    window = current_app.config["LOGIN_FAILURE_WINDOW_S"]
-    now = store.utc_now()
-    store.prune_login_attempts(db, older_than_s=window, now=now)
-    waits = [0]
-    for failed, rule in zip(
-        store.failed_log_ins(db, email=email, remote_addr=remote, window_s=window, now=now),
-        (current_app.config["LOG_IN_RULE_ACCOUNT"], current_app.config["LOG_IN_RULE_ADDRESS"]),
-        strict=True,
-    ):
-        if failed.last_at is not None:
-            since = (now - datetime.fromisoformat(failed.last_at)).total_seconds()
-            waits.append(credentials.throttle_wait(failed.count, since, rule))
-    return max(waits)
-
-
 @bp.post("/logout")
 def logout():
     token = session.get(SESSION_KEY)
     if token:
-        db = get_db()
-        store.revoke_session(db, credentials.session_id_for(token))
-        if g.user is not None:
-            store.add_event(db, kind="log-out", user_id=g.user["id"])
+        sessions.log_out(get_db(), token=token, user_id=g.user["id"] if g.user else None)
     session.clear()
     flash("You are logged out.")
     response = redirect(url_for("auth.login"))

@@ -22,26 +22,14 @@ class NoticeForm(FlaskForm):
     on = SelectMultipleField("Send me by e-mail", choices=[], validate_choice=False)
 
 
-def _my_kinds(db) -> list[notices.Kind]:
-    roles = {s["role"] for s in store.sites_for_user(db, g.user["id"])}
-    return notices.kinds_for_roles(roles)
-
-
 @bp.route(notices.SETTINGS_PATH, methods=["GET", "POST"])
 @login_required
 def settings():
     db = get_db()
-    kinds = _my_kinds(db)
+    kinds = notices.kinds_for_person(db, g.user["id"])
     form = NoticeForm()
     if form.validate_on_submit():
-        on = set(form.on.data or [])
-        mine = [k.code for k in kinds]
-        store.set_notice_kinds_off(
-            db,
-            user_id=g.user["id"],
-            kinds=[code for code in mine if code not in on],
-            known=mine,
-        )
+        notices.keep_choices(db, user_id=g.user["id"], on=form.on.data or [])
         flash("Your notice choices are kept.")
         return redirect(url_for("notices.settings"))
     off = store.notice_kinds_off(db, user_id=g.user["id"])

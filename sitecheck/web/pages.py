@@ -9,7 +9,7 @@ from datetime import UTC, datetime
 from flask import Blueprint, g, jsonify, render_template, request
 from markupsafe import Markup, escape
 
-from sitecheck import store, workflow
+from sitecheck import notices, store, workflow
 from sitecheck.bearing.format import number, quantity, utilisation
 from sitecheck.cautions import CAUTION
 from sitecheck.web import get_db
@@ -129,8 +129,6 @@ SINCE_REFERENCES = 12
 def since_you_looked(rows: list[dict]) -> dict[str, list[dict]]:
     """Per site, what came into the person's hands since they last looked there: one entry
     per kind with its count, words and the bearings' references, in the kinds' order."""
-    from sitecheck.notices import KINDS
-
     out: dict[str, dict[str, dict]] = {}
     for row in rows:
         kinds = out.setdefault(row["site_id"], {})
@@ -141,10 +139,10 @@ def since_you_looked(rows: list[dict]) -> dict[str, list[dict]]:
         entry["count"] += 1
         if len(entry["references"]) < SINCE_REFERENCES:
             entry["references"].append(row["reference"])
-    order = list(KINDS)
+    order = list(notices.KINDS)
     return {
         site_id: [
-            {**e, "words": f"{e['count']} {KINDS[e['kind']].since}"}
+            {**e, "words": f"{e['count']} {notices.KINDS[e['kind']].since}"}
             for e in sorted(kinds.values(), key=lambda e: order.index(e["kind"]))
         ]
         for site_id, kinds in out.items()
@@ -155,7 +153,7 @@ def looked_now(site_ids) -> None:
     """The person has just seen these sites' bearings: "since you last looked" starts again.
     Only the HTML page counts as looking (a .json twin may be read by a script)."""
     if g.user is not None and not wants_json():
-        store.looked(get_db(), user_id=g.user["id"], site_ids=site_ids)
+        notices.looked(get_db(), user_id=g.user["id"], site_ids=site_ids)
 
 
 def error_page(error):

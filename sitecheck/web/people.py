@@ -16,18 +16,17 @@ from flask import (
     redirect,
     render_template,
     request,
-    session,
     url_for,
 )
 from flask_wtf import FlaskForm
 from wtforms import PasswordField
 from wtforms.validators import DataRequired, Length
 
-from sitecheck import credentials, store
-from sitecheck.resets import ResetRefused, start_reset
+from sitecheck import credentials, sessions, store
+from sitecheck.resets import ResetRefused, finish_reset, start_reset
 from sitecheck.web import get_db
 from sitecheck.web.access import require_may_make_sites
-from sitecheck.web.login import SESSION_KEY, login_required
+from sitecheck.web.login import begin_session, login_required
 from sitecheck.web.sites import wake_mail_sender
 
 bp = Blueprint("people", __name__)
@@ -56,22 +55,10 @@ def new_password(token):
         form.new.errors.append(problem)
     if form.new.errors or form.again.errors:
         return _new_password_page(link, 400, form=form)
-    with store.transaction(db):
-        if store.use_link(db, token_hash=token_hash, purpose=store.PASSWORD_RESET) is None:
-            return _new_password_page(None, 410)  # used by another request a moment ago
-        # Every session of the account ends, a stolen one too; this one starts afresh.
-        store.set_password_hash(
-            db,
-            user_id=user["id"],
-            password_hash=credentials.hash_password(form.new.data),
-            by_user_id=user["id"],
-        )
-        fresh = credentials.new_session_token()
-        store.create_session(db, session_id=fresh.session_id, user_id=user["id"])
-        store.add_event(db, kind="log-in", user_id=user["id"], detail={"by": "new-password link"})
-    session.clear()
-    session[SESSION_KEY] = fresh.token
-    session.permanent = True
+    fresh = finish_reset(db, token_hash=token_hash, user_id=user["id"], password=form.new.data)
+    if fresh is None:
+        return _new_password_page(None, 410)  # used by another request a moment ago
+    begin_session(fresh)
     flash("Your new password is set. Anywhere else you were logged in, you are logged out.")
     return redirect(url_for("pages.home"))
 
@@ -113,7 +100,7 @@ def act(user_id, action):
         if user_id == g.user["id"]:
             return _people_page(409, error="You cannot disable or enable your own account here.")
         disable = action == "disable"
-        store.set_disabled(db, user_id=user_id, disabled=disable, by_user_id=g.user["id"])
+        sessions.set_disabled(db, user_id=user_id, disabled=disable, by_user_id=g.user["id"])
         flash(
             f"{name} can no longer log in; they were logged out everywhere."
             if disable

@@ -39,7 +39,7 @@ from wtforms import DateField, SelectMultipleField, StringField, ValidationError
 from wtforms.fields.choices import SelectChoice
 from wtforms.validators import Length, Optional
 
-from sitecheck import store, workflow
+from sitecheck import services, store, workflow
 from sitecheck.bearing import InputError
 from sitecheck.bearing.serial import as_built_input_dict
 from sitecheck.report import export
@@ -249,7 +249,7 @@ def sign_off(site_id):
     form = SignOffForm()
     if not form.validate_on_submit():
         return _record_page(found, role, sign_off_form=form, status=400)
-    signed = store.add_sign_off(
+    signed = services.sign_off(
         get_db(),
         site_id=site_id,
         engineer_id=g.user["id"],
