@@ -10,6 +10,7 @@ from pathlib import Path
 from .bearing import BASES, EC6_UK, InputError, basis_named
 from .bearing.format import utilisation
 from .bearing.remedy import remedy
+from .bearing.typed import NumberRefused, read_number
 from .cautions import CAUTION
 from .config import ConfigError, Settings, load_settings
 from .schedule import COLUMNS, RowError, RowOutcome, read_schedule, recheck_rows, row_verdict
@@ -619,20 +620,26 @@ def _basis_overrides(name: str, items: list[str]) -> dict:
             raise InputError("--basis-value", item, "NAME=VALUE, e.g. alpha_cc=1.0", "bad-shape")
         table, dot, entry = key.partition(".")
         if dot and isinstance(defaults.get(table), dict):
-            out.setdefault(table, dict(defaults[table]))[entry] = _typed_text(text)
+            out.setdefault(table, dict(defaults[table]))[entry] = _typed_text(key, text)
         elif key == "bearing_type_factors":
-            out[key] = [_typed_text(part) for part in text.split(",")]
+            out[key] = [_typed_text(key, part) for part in text.split(",")]
         else:
-            out[key] = _typed_text(text)
+            out[key] = _typed_text(key, text)
     return out
 
 
-def _typed_text(text: str) -> object:
-    """A number where the text is one, true/false for yes/no words, else the text."""
+def _typed_text(key: str, text: str) -> object:
+    """A number where the text is one (the one reader's rules, as every form reads it),
+    true/false for yes/no words, else the text. A number written in a way the reader
+    refuses (a decimal comma, nan) is refused here, saying how to write it."""
     try:
-        return float(text)
-    except ValueError:
-        pass
+        value = read_number(text)
+    except NumberRefused as e:
+        if e.code != "not-a-number":
+            raise InputError(f"basis.{key}", text, e.expected, e.code) from None
+        value = None
+    if value is not None:
+        return value
     words = {"yes": True, "true": True, "no": False, "false": False}
     return words.get(text.lower(), text)
 

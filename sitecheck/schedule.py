@@ -12,9 +12,7 @@ import codecs
 import csv
 import difflib
 import io
-import re
 from dataclasses import dataclass, field, replace
-from decimal import Decimal
 
 from .bearing import (
     BASES,
@@ -40,6 +38,7 @@ from .bearing.review import (
     as_built_input,
     review,
 )
+from .bearing.typed import NumberRefused, number_text, read_number
 from .csvcells import unguard_text
 from .workflow import AWAITING_SURVEY, ENGINEER_TO_DECIDE, WITHIN_DESIGN
 
@@ -802,13 +801,17 @@ def _padstone_across(c: dict[str, str], column: str) -> tuple[str | None, float 
     named = text.strip().lower()
     if named in PADSTONE_POSITIONS and named != "offset":
         return named, None
-    if _number_text(text) is None:
-        raise _RowProblem(
-            column,
-            text,
-            "near-face, centred, far-face, or the padstone centre's offset from the wall's "
-            "centre line in mm",
-        )
+    try:
+        read_number(text)
+    except NumberRefused as e:
+        # Words, not a number badly written: the choices are what was meant.
+        if e.code == "not-a-number":
+            raise _RowProblem(
+                column,
+                text,
+                "near-face, centred, far-face, or the padstone centre's offset from the wall's "
+                "centre line in mm",
+            ) from None
     return "offset", _num(c, column)
 
 
@@ -817,64 +820,37 @@ def _given(**values):
     return {k: v for k, v in values.items() if v is not None}
 
 
-_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
-# "1,234.5": commas between groups of three digits, with a decimal point to show they are
-# not a decimal comma.
-_GROUPED = re.compile(r"[+-]?\d{1,3}(?:,\d{3})+\.\d*(?:[eE][+-]?\d+)?", re.ASCII)
-_NOT_FINITE = ("inf", "infinity", "nan")
-
-
-def _number_text(text: str) -> str | None:
-    """The text as a plain decimal number, or None if it is not one. Digits, a decimal
-    point, a sign and an exponent only: no spaces, underscores or other scripts' digits."""
-    if _GROUPED.fullmatch(text):
-        return text.replace(",", "")
-    return text if _NUMBER.fullmatch(text) else None
-
-
 def _reads_as_number(text: str) -> bool:
     text = text.strip()
-    return text == "" or _number_text(unguard_text(text)) is not None
+    return text == "" or number_text(unguard_text(text)) is not None
 
 
-def _num(c: dict[str, str], column: str, required: bool = False) -> float | None:
+def _num(c: dict[str, str], column: str, required: bool = False, shift: int = 0) -> float | None:
+    """A number cell by the one reader's rules (bearing/typed.py), within ±NUMBER_LIMIT in
+    its column's unit; ``shift`` 3 reads a kN cell as N by moving the decimal point, so a
+    value the export wrote with every digit reads back as exactly the N it came from."""
     text = c.get(column, "")
     if text == "":
         if required:
             raise _RowProblem(column, "", "a value is required")
         return None
-    unit = COLUMNS[column][1]
-    in_unit = f" in {unit}" if unit else ""
-    plain = _number_text(text)
-    if plain is None:
-        if text.lower().lstrip("+-") in _NOT_FINITE:
-            raise _RowProblem(column, text, _out_of_range(unit))
-        if "," in text and _number_text(text.replace(",", ".", 1)) is not None:
-            raise _RowProblem(
-                column,
-                text,
-                f"a number{in_unit} written with a decimal point: a comma here could be a "
-                "decimal comma or a thousands separator, so it is read neither way",
-            )
-        raise _RowProblem(column, text, "a number" + in_unit)
-    value = float(plain)
-    if not abs(value) <= NUMBER_LIMIT:
-        raise _RowProblem(column, text, _out_of_range(unit))
-    return value
-
-
-def _out_of_range(unit: str) -> str:
-    limit = f"{NUMBER_LIMIT:,.0f}"
-    return f"out of range: a finite number from -{limit} to {limit}{f' {unit}' if unit else ''}"
+    try:
+        return read_number(
+            text,
+            unit=COLUMNS[column][1],
+            least=-NUMBER_LIMIT,
+            greatest=NUMBER_LIMIT,
+            shift=shift,
+        )
+    except NumberRefused as e:
+        # A row's error says what the cell should hold; its value is shown beside it.
+        words = f"out of range: {e.expected}" if e.code == "out-of-range" else e.expected
+        raise _RowProblem(column, text, words) from None
 
 
 def _kilo(c: dict[str, str], column: str, required: bool = False) -> float | None:
-    """A kN cell in N. The decimal point is moved, not the float multiplied by 1000, so a
-    value the export wrote with every digit reads back as exactly the N it came from."""
-    value = _num(c, column, required)
-    if value is None:
-        return None
-    return float(Decimal(_number_text(c[column])).scaleb(3))
+    """A kN cell in N."""
+    return _num(c, column, required, shift=3)
 
 
 def _int(c: dict[str, str], column: str) -> int | None:

@@ -41,6 +41,7 @@ const SHELL = [
   "/static/js/bearing/serial.js",
   "/static/js/bearing/strength.js",
   "/static/js/bearing/trace.js",
+  "/static/js/bearing/typed.js",
   "/static/js/bearing/validate.js",
   "/static/icon-192.png",
   "/static/icon-512.png",

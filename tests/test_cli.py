@@ -123,6 +123,8 @@ def test_a_basis_value_for_the_run_is_used_and_a_non_physical_one_refused(tmp_pa
     for value, field in (
         ("gamma_c=0", "basis.gamma_c"),
         ("alpha_cc=nan", "basis.alpha_cc"),
+        ("alpha_cc=0,85", "basis.alpha_cc = '0,85': a number with a decimal point: write 0.85"),
+        ("alpha_cc=1_0", "basis.alpha_cc = '1_0': a number without underscores: write 10"),
         ("gamma_M_ec6.2|I=abc", "basis.gamma_M_ec6.2|I"),
         ("colour=red", "basis.colour"),
         ("alpha_cc", "--basis-value"),

@@ -314,6 +314,10 @@ def test_the_same_uuid_sent_twice_is_stored_once(client_as, db, app, site):
 BAD_NUMBERS = (
     ("-5", "a positive length"),
     ("abc", "is not a number"),
+    # The one reader's rules (bearing/typed.py): the decimal comma, a unit, a space inside.
+    ("212,5", "“212,5” has a comma; expected a number in mm with a decimal point: write 212.5"),
+    ("215mm", "“215mm” has a unit; expected a number in mm, without the unit: write 215."),
+    ("1 200", "“1 200” has a space inside it; expected a number in mm without spaces: write 1200"),
     ("99999", "is not accepted; expected"),
     ("0.215", "looks like metres"),
 )
@@ -454,7 +458,10 @@ def test_other_bad_fields_name_what_was_expected(client_as, db, app, site):
     r = post_record(inspector, site, bearing, data)
     assert r.status_code == 400
     html = r.get_data(as_text=True)
-    assert "Packing under the beam: -3 mm is not accepted" in field_errors(html, "packing")[0]
+    assert (
+        "Packing under the beam: “-3” is out of range; expected a number from 0 to 200 mm."
+        in field_errors(html, "packing")[0]
+    )
     assert "Unit group: choose one of the listed values" in field_errors(html, "masonry_group")[0]
     assert "choose yes, no or not seen" in field_errors(html, "bedded")[0]
     assert "is not a date and time" in field_errors(html, "measured_at")[0]

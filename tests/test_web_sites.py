@@ -21,7 +21,7 @@ from werkzeug.test import encode_multipart
 from sitecheck import credentials, services, store, workflow
 from sitecheck.bearing import SOURCES, basis_from_dict
 from sitecheck.bearing.review import settings_from_dict
-from sitecheck.schedule import DESIGN_COLUMNS
+from sitecheck.schedule import DESIGN_COLUMNS, parse_schedule
 
 # An invented bearing that passes at design: a 133 mm flange on a 440 × 215 × 140 plain
 # padstone on a 215 mm aggregate concrete block wall.
@@ -539,12 +539,18 @@ def test_adding_a_bearing_by_form_checks_it_at_once(client_as, db, site, people)
 BAD_INPUT = [
     # (what is typed, the field the error must be on, words of the error)
     ({"reaction_kN": ""}, "reaction_kN", "Required: enter the ULS end reaction in kN."),
-    ({"reaction_kN": "-5"}, "reaction_kN", "Expected a positive end reaction."),
+    (
+        {"reaction_kN": "-5"},
+        "reaction_kN",
+        "“-5” is not accepted; expected a positive end reaction.",
+    ),
     (
         {"flange_width": "abc"},
         "flange_width",
-        "Expected a number in mm, e.g. 215; “abc” is not one.",
+        "“abc” is not a number; expected a number in mm, e.g. 215.",
     ),
+    ({"flange_width": "1_33"}, "flange_width", "without underscores: write 133"),
+    ({"flange_width": "133 mm"}, "flange_width", "without the unit: write 133"),
     ({"wall_thickness": "0.215"}, "wall_thickness", "looks like metres: did you mean 215 mm?"),
     (
         {"bearing_length": "250"},
@@ -552,7 +558,7 @@ BAD_INPUT = [
         "no longer than the padstone it sits on (215 mm)",
     ),
     ({"padstone_depth": "-140"}, "padstone_depth", "a positive length"),
-    ({"unit_strength": "7,3"}, "unit_strength", "Use a point for decimals"),
+    ({"unit_strength": "7,3"}, "unit_strength", "with a decimal point: write 7.3"),
     ({"reference": "GF-B1-E"}, "reference", "already used on this site"),
     ({"padstone": "none"}, "padstone", "no padstone but gave padstone sizes"),
     # Refused by the check itself rather than by input_errors: a unit size in a blank
@@ -574,6 +580,28 @@ def test_bad_bearing_input_is_refused_on_its_field_and_stores_nothing(client_as,
         shown = _form_values(r.data)
         assert all(shown[name] == value for name, value in typed.items()), typed  # kept
     assert counts(db) == before
+
+
+def test_the_bearing_form_reads_numbers_as_the_schedule_does(client_as, db, site):
+    """One reader for the form and the CSV (bearing/typed.py): a reaction in kN becomes N by
+    moving the decimal point, so 1.005 kN is 1005 N from either (1.005 × 1000 in binary
+    floating point is 1004.9999999999999, IEEE 754 double arithmetic); thousands read with a
+    decimal point; a refusal in the summary names the field's label, the text and the fix."""
+    c = client_as("engineer")
+    url = f"/sites/{site['id']}/bearings/new"
+    assert 1.005 * 1000 != 1005.0
+    typed = {"reference": "T-KN", "reaction_kN": "1.005", "bearing_length": "1,50.0"}
+    r = post(c, url, GOOD | typed)
+    assert r.status_code == 400
+    (error,) = field_errors(r.data, "bearing_length")
+    assert "“1,50.0” has commas" in error and "1,234.5 or 1234.5" in error
+    summary = r.data.decode().split('id="problems"', 1)[1].split("</div>", 1)[0]
+    assert "Bearing length l_b (mm)</a>: “1,50.0” has commas;" in summary
+    assert post(c, url, GOOD | typed | {"bearing_length": " 150 "}).status_code == 302
+    stored = store.bearing_by_reference(db, site_id=site["id"], reference="T-KN")
+    assert stored["design_input"]["load"]["reaction"] == 1005.0
+    (row,) = parse_schedule(schedule_text([schedule_row("T-KN", reaction_kN="1.005")])).rows
+    assert row.design.load.reaction == 1005.0
 
 
 def test_an_empty_bearing_form_names_every_missing_value(client_as, db, site):
@@ -840,12 +868,13 @@ def test_changed_settings_are_stored_and_used_by_the_next_bearing(client_as, db,
 
 
 BAD_SETTINGS = [
-    ("alpha_cc", "abc", "Expected a number"),
-    ("alpha_cc", "85", "Expected 0.5 to 1;"),
+    ("alpha_cc", "abc", "“abc” is not a number; expected a number, e.g. 0.85."),
+    ("alpha_cc", "85", "“85” is out of range; expected a number from 0.5 to 1."),
+    ("alpha_cc", "0,85", "write 0.85"),
     ("gamma_c", "", "Required"),
-    ("k_clay_1_general", "5", "Expected 0.1 to 1;"),
-    ("gamma_M_ec6_2_I", "0", "Expected 1 to 5;"),
-    ("tol_bearing_length", "-1", "Expected 0 to 100 mm;"),
+    ("k_clay_1_general", "5", "“5” is out of range; expected a number from 0.1 to 1."),
+    ("gamma_M_ec6_2_I", "0", "“0” is out of range; expected a number from 1 to 5."),
+    ("tol_bearing_length", "-1", "“-1” is out of range; expected a number from 0 to 100 mm."),
     ("name", "", "Give the site a name."),
 ]
 

@@ -26,6 +26,7 @@ from .inputs import (
     REACTION_POSITIONS,
     BearingInput,
 )
+from .typed import NumberRefused, read_number
 
 # Lengths in mm: (least, greatest). A value below a tenth of the least, but positive, is
 # probably metres.
@@ -542,11 +543,12 @@ def _class_fck(concrete: str) -> float | None:
     if not concrete.upper().startswith("C") or "/" not in concrete:
         return None
     head, _, tail = concrete[1:].partition("/")
+    # The class's figures are typed numbers like any other: the one reader's rules.
     try:
-        f_ck, f_cube = float(head), float(tail)
-    except ValueError:
+        f_ck, f_cube = read_number(head), read_number(tail)
+    except NumberRefused:
         return None
-    if not 8 <= f_ck <= 90 or f_cube < f_ck:
+    if f_ck is None or f_cube is None or not 8 <= f_ck <= 90 or f_cube < f_ck:
         return None
     return f_ck
 

@@ -313,10 +313,11 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
     its field. Refusals from the core go against the field they name."""
     before = error_count(form)
 
-    def num(name: str, unit: str = "mm", required: bool = False, what: str = ""):
-        return parse_number(form[name], unit, required=required, what=what)
+    def num(name: str, unit: str = "mm", required: bool = False, what: str = "", shift: int = 0):
+        return parse_number(form[name], unit, required=required, what=what, shift=shift)
 
-    reaction_kN = num("reaction_kN", "kN", required=True, what="the ULS end reaction")
+    # kN to N by moving the decimal point, as the schedule reads it: 1.005 kN is 1005 N.
+    reaction = num("reaction_kN", "kN", required=True, what="the ULS end reaction", shift=3)
     wall_load = num("wall_load_kN_per_m", "kN/m")
     flange_width = num("flange_width", required=True, what="the flange width")
     bearing_length = num("bearing_length", required=True, what="the bearing length")
@@ -351,7 +352,7 @@ def design_from_form(form: BearingForm, basis: CodeBasis) -> BearingInput | None
 
     inp = BearingInput(
         load=Load(
-            reaction=None if reaction_kN is None else reaction_kN * 1000.0,
+            reaction=reaction,
             wall_load=0.0 if wall_load is None else wall_load,  # kN/m is N/mm
         ),
         beam=Beam(
@@ -412,7 +413,9 @@ def put_core_error(form, problem: InputError, skip: set[str] = frozenset()) -> N
     if field is None:
         form.form_errors.append(f"{problem.field}: {core_message(problem)}")
         return
-    add_error(field, core_message(problem))
+    # Typed text is repeated with the refusal; a choice is shown beside it as chosen.
+    typed = field.data if field.type == "StringField" and isinstance(field.data, str) else ""
+    add_error(field, core_message(problem, typed))
 
 
 def form_data_from_design(design: dict, location: str = "", revision: int | None = None) -> dict:

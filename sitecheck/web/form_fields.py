@@ -3,8 +3,6 @@ errors, and the core's refusal as a sentence. Nothing here knows one form from a
 
 from __future__ import annotations
 
-import math
-
 from wtforms import (
     StringField,
 )
@@ -13,6 +11,7 @@ from wtforms.fields.choices import SelectChoice
 from sitecheck.bearing import (
     InputError,
 )
+from sitecheck.bearing.typed import NumberRefused, read_number, shown
 
 
 def number_field(label: str, hint: str = "") -> StringField:
@@ -50,7 +49,14 @@ def _sentence(text: str) -> str:
     return text if text[-1] in ".?!)" else text + "."
 
 
-def core_message(e: InputError) -> str:
+def core_message(e: InputError, typed: str = "") -> str:
+    """The core's refusal beside a field: what was typed there, if anything, and what the
+    core expects (the field's label stands beside it)."""
+    typed = (typed or "").strip()
+    if typed:
+        expected = e.expected.strip()
+        end = "" if expected[-1:] in ".?!)" else "."
+        return f"“{shown(typed)}” is not accepted; expected {expected}{end}"
     return _sentence(f"expected {e.expected}")
 
 
@@ -64,29 +70,24 @@ def plain_number(value: float | None) -> str:
     return text
 
 
-_EXAMPLES = {"mm": "215", "kN": "62", "kN/m": "20", "N/mm²": "7.3", "°": "45"}
-
-
-def parse_number(field, unit: str = "", *, required: bool = False, what: str = "") -> float | None:
-    """The number typed into ``field``, or None (empty, or refused with a field error)."""
-    text = (field.data or "").strip()
-    if not text:
-        if required:
-            add_error(
-                field, f"Required: enter {what or 'a value'}" + (f" in {unit}." if unit else ".")
-            )
-        return None
+def parse_number(
+    field,
+    unit: str = "",
+    *,
+    required: bool = False,
+    what: str = "",
+    least: float | None = None,
+    greatest: float | None = None,
+    shift: int = 0,
+) -> float | None:
+    """The number typed into ``field`` by the one reader's rules (bearing/typed.py), or
+    None: empty, or refused with a field error that repeats what was typed and says what is
+    expected (the label stands beside it, and leads it in the summary above the form)."""
     try:
-        value = float(text)
-    except ValueError:
-        unit_words = f" in {unit}" if unit else ""
-        example = _EXAMPLES.get(unit, "0.85")
-        extra = " Use a point for decimals and no thousands separators." if "," in text else ""
-        add_error(
-            field, f"Expected a number{unit_words}, e.g. {example}; “{text}” is not one.{extra}"
-        )
+        value = read_number(field.data, unit=unit, least=least, greatest=greatest, shift=shift)
+    except NumberRefused as e:
+        add_error(field, e.sentence())
         return None
-    if not math.isfinite(value):
-        add_error(field, "Expected a finite number.")
-        return None
+    if value is None and required:
+        add_error(field, f"Required: enter {what or 'a value'}" + (f" in {unit}." if unit else "."))
     return value

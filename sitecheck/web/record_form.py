@@ -13,8 +13,6 @@ Typed text is only parsed here; whether a value makes physical sense is the core
 from __future__ import annotations
 
 import json
-import math
-import re
 import uuid as uuid_module
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -35,6 +33,7 @@ from sitecheck.bearing import InputError
 from sitecheck.bearing.format import number, quantity
 from sitecheck.bearing.inputs import MATERIALS, MORTARS
 from sitecheck.bearing.review import CHECKLIST_FIELDS, MEASUREMENT_FIELDS, UNMEASURABLE
+from sitecheck.bearing.typed import NumberRefused, read_number
 
 MAX_PHOTOS = 8
 NOTES_MAX = 4000
@@ -62,15 +61,31 @@ class FieldSpec:
     hint: str = ""
     # Where the designed value sits in the stored design input, if it has one.
     design: tuple[str, str] | None = None
+    # A number's example in its refusal, and the bounds the form itself sets (most are the
+    # core's to judge against the design; the phone reads these from phone_words()).
+    example: str = ""
+    bounds: tuple[float, float] | None = None
 
 
 SPECS: dict[str, FieldSpec] = {
     s.name: s
     for s in (
         FieldSpec(
-            "bearing_length", "Bearing length", "number", "mm", design=("beam", "bearing_length")
+            "bearing_length",
+            "Bearing length",
+            "number",
+            "mm",
+            design=("beam", "bearing_length"),
+            example="150",
         ),
-        FieldSpec("flange_width", "Flange width", "number", "mm", design=("beam", "flange_width")),
+        FieldSpec(
+            "flange_width",
+            "Flange width",
+            "number",
+            "mm",
+            design=("beam", "flange_width"),
+            example="133",
+        ),
         FieldSpec(
             "offset_along",
             "Offset along the wall",
@@ -79,6 +94,7 @@ SPECS: dict[str, FieldSpec] = {
             "Flange centre from the centre of the padstone (or wall), along the wall. "
             "Leave empty if the beam sits where drawn.",
             ("beam", "offset_along"),
+            example="0",
         ),
         FieldSpec(
             "offset_across",
@@ -87,13 +103,33 @@ SPECS: dict[str, FieldSpec] = {
             "mm",
             "Flange centre from the centre of the padstone (or wall), across the wall.",
             ("beam", "offset_across"),
+            example="0",
         ),
         FieldSpec("padstone_present", "Padstone present", "tri"),
         FieldSpec(
-            "padstone_length", "Padstone length", "number", "mm", design=("padstone", "length")
+            "padstone_length",
+            "Padstone length",
+            "number",
+            "mm",
+            design=("padstone", "length"),
+            example="440",
         ),
-        FieldSpec("padstone_width", "Padstone width", "number", "mm", design=("padstone", "width")),
-        FieldSpec("padstone_depth", "Padstone depth", "number", "mm", design=("padstone", "depth")),
+        FieldSpec(
+            "padstone_width",
+            "Padstone width",
+            "number",
+            "mm",
+            design=("padstone", "width"),
+            example="215",
+        ),
+        FieldSpec(
+            "padstone_depth",
+            "Padstone depth",
+            "number",
+            "mm",
+            design=("padstone", "depth"),
+            example="140",
+        ),
         FieldSpec(
             "padstone_concrete",
             "Padstone concrete class",
@@ -123,8 +159,16 @@ SPECS: dict[str, FieldSpec] = {
             "Its centre from the middle of the wall, + towards the far face: for an offset "
             "position.",
             ("padstone", "offset_across"),
+            example="0",
         ),
-        FieldSpec("wall_thickness", "Wall thickness", "number", "mm", design=("wall", "thickness")),
+        FieldSpec(
+            "wall_thickness",
+            "Wall thickness",
+            "number",
+            "mm",
+            design=("wall", "thickness"),
+            example="215",
+        ),
         FieldSpec(
             "a1",
             "Distance to the wall's end (a1)",
@@ -132,6 +176,7 @@ SPECS: dict[str, FieldSpec] = {
             "mm",
             "From the padstone's end to the wall's end or the edge of an opening.",
             ("wall", "a1"),
+            example="900",
         ),
         FieldSpec(
             "a2",
@@ -140,6 +185,7 @@ SPECS: dict[str, FieldSpec] = {
             "mm",
             "From the padstone's other end to the wall's end or an opening, where there is one.",
             ("wall", "a2"),
+            example="900",
         ),
         FieldSpec("masonry_material", "Unit material", "select", design=("masonry", "material")),
         FieldSpec("masonry_group", "Unit group", "select", design=("masonry", "group")),
@@ -150,6 +196,7 @@ SPECS: dict[str, FieldSpec] = {
             "N/mm²",
             "The declared strength marked on the units or their delivery note.",
             ("masonry", "unit_strength"),
+            example="7.3",
         ),
         FieldSpec("mortar", "Mortar class", "select", design=("masonry", "mortar")),
         FieldSpec(
@@ -167,6 +214,8 @@ SPECS: dict[str, FieldSpec] = {
             "number",
             "mm",
             "Total thickness of packing between beam and padstone; 0 if none.",
+            example="0",
+            bounds=(0.0, PACKING_MAX_MM),
         ),
         FieldSpec("cracks", "Cracks in the masonry near the bearing", "tri"),
         FieldSpec("cut_units", "Cut or hollow units under the padstone", "tri"),
@@ -232,23 +281,16 @@ OUTCOME_CHOICES = (
     *(SelectChoice(code, f"no: {words}") for code, words in UNMEASURABLE),
 )
 
-_NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)")
-_UNIT_WORDS = {"mm": "millimetres", "N/mm²": "N/mm²"}
-
 
 class NumberField(StringField):
-    """Typed text kept as typed (so a refused form shows it again), parsed into ``number``.
+    """Typed text kept as typed (so a refused form shows it again), parsed into ``number``
+    by the one reader's rules (bearing/typed.py, which the phone's form shares). Empty
+    means not measured; a refusal names the field, repeats what was typed and says what is
+    expected."""
 
-    Empty means not measured. A decimal comma is read as a point, as phone keyboards in
-    many languages offer only the comma.
-    """
-
-    def __init__(
-        self, label=None, validators=None, *, unit: str = "mm", example: str = "150", **kw
-    ):
+    def __init__(self, label=None, validators=None, *, spec: FieldSpec, **kw):
         super().__init__(label, validators, **kw)
-        self.unit = unit
-        self.example = example
+        self.spec = spec
         self.number: float | None = None
 
     def process_formdata(self, valuelist):
@@ -259,19 +301,17 @@ class NumberField(StringField):
 
     def pre_validate(self, form):
         self.number = None
-        raw = (self.data or "").strip()
-        if not raw:
-            return
-        text = raw.replace(" ", "")
-        if "," in text and "." not in text and text.count(",") == 1:
-            text = text.replace(",", ".")
-        if len(text) > 24 or not _NUMBER.fullmatch(text) or not math.isfinite(float(text)):
-            raise StopValidation(
-                f"{self.label.text}: “{raw[:40]}” is not a number. Enter "
-                f"{_UNIT_WORDS.get(self.unit, self.unit)} as digits, e.g. {self.example}, or "
-                "leave it empty if you could not measure it."
+        least, greatest = self.spec.bounds or (None, None)
+        try:
+            self.number = read_number(
+                self.data,
+                unit=self.spec.unit,
+                least=least,
+                greatest=greatest,
+                example=self.spec.example or None,
             )
-        self.number = float(text)
+        except NumberRefused as e:
+            raise StopValidation(e.sentence(self.spec.label)) from None
 
 
 class TriStateField(RadioField):
@@ -302,22 +342,22 @@ def _choices(values, label: str = "{}") -> list[SelectChoice]:
     return [SelectChoice("", "not checked")] + [SelectChoice(v, label.format(v)) for v in values]
 
 
-def _number(name: str, example: str = "150") -> NumberField:
+def _number(name: str) -> NumberField:
     spec = SPECS[name]
-    return NumberField(spec.label, unit=spec.unit, example=example)
+    return NumberField(spec.label, spec=spec)
 
 
 class RecordForm(FlaskForm):
     """One as-built record. CSRF comes from FlaskForm (and is enforced app-wide as well)."""
 
-    bearing_length = _number("bearing_length", "150")
-    flange_width = _number("flange_width", "133")
-    offset_along = _number("offset_along", "0")
-    offset_across = _number("offset_across", "0")
+    bearing_length = _number("bearing_length")
+    flange_width = _number("flange_width")
+    offset_along = _number("offset_along")
+    offset_across = _number("offset_across")
     padstone_present = TriStateField(SPECS["padstone_present"].label, blank_label="not checked")
-    padstone_length = _number("padstone_length", "440")
-    padstone_width = _number("padstone_width", "215")
-    padstone_depth = _number("padstone_depth", "140")
+    padstone_length = _number("padstone_length")
+    padstone_width = _number("padstone_width")
+    padstone_depth = _number("padstone_depth")
     padstone_concrete = StringField(SPECS["padstone_concrete"].label)
     padstone_reinforced = TriStateField(SPECS["padstone_reinforced"].label)
     padstone_position = ChoiceField(
@@ -328,10 +368,10 @@ class RecordForm(FlaskForm):
         ],
         default="",
     )
-    padstone_offset_across = _number("padstone_offset_across", "0")
-    wall_thickness = _number("wall_thickness", "215")
-    a1 = _number("a1", "900")
-    a2 = _number("a2", "900")
+    padstone_offset_across = _number("padstone_offset_across")
+    wall_thickness = _number("wall_thickness")
+    a1 = _number("a1")
+    a2 = _number("a2")
     masonry_material = ChoiceField(
         SPECS["masonry_material"].label,
         choices=_choices(MATERIALS),
@@ -342,7 +382,7 @@ class RecordForm(FlaskForm):
         choices=_choices(("1", "2", "3", "4"), "Group {}"),
         default="",
     )
-    unit_strength = _number("unit_strength", "7.3")
+    unit_strength = _number("unit_strength")
     mortar = ChoiceField(
         SPECS["mortar"].label,
         choices=_choices(MORTARS),
@@ -350,7 +390,7 @@ class RecordForm(FlaskForm):
     )
     collar_joint = TriStateField(SPECS["collar_joint"].label)
     bedded = TriStateField(SPECS["bedded"].label)
-    packing = _number("packing", "0")
+    packing = _number("packing")
     cracks = TriStateField(SPECS["cracks"].label)
     cut_units = TriStateField(SPECS["cut_units"].label)
     level = TriStateField(SPECS["level"].label)
@@ -383,14 +423,6 @@ class RecordForm(FlaskForm):
         if len((field.data or "").strip()) > 20:
             raise ValidationError(
                 f"{field.label.text}: at most 20 characters; write the class, e.g. C25/30."
-            )
-
-    def validate_packing(self, field):
-        value = field.number
-        if value is not None and not 0 <= value <= PACKING_MAX_MM:
-            raise ValidationError(
-                f"{field.label.text}: {value:g} mm is not accepted; expected 0 (none) to "
-                f"{PACKING_MAX_MM:g} mm."
             )
 
     def validate_why_not_measured(self, field):
@@ -687,9 +719,14 @@ DESIGN_WORDS = {
 
 def phone_words() -> dict:
     """The words the phone puts in its messages (static/js/messages.js): each field's label
-    and unit, the core's paths each field answers for, the design's paths in words, and why
+    and unit (and a number's example and bounds), the core's paths each field answers for, the design's paths in words, and why
     a bearing could not be measured. Written into the pages, so they have one source."""
     labels = {name: {"label": s.label, "unit": s.unit} for name, s in SPECS.items()}
+    for name, s in SPECS.items():
+        # What the phone's number reader (bearing/typed.js) needs to word a refusal as the
+        # server's form does, and the form's own bounds.
+        if s.kind == "number":
+            labels[name] |= {"example": s.example} | ({"bounds": s.bounds} if s.bounds else {})
     labels |= {
         WHY_NOT_MEASURED: {"label": "Could you measure it", "unit": ""},
         "notes": {"label": "Notes", "unit": ""},

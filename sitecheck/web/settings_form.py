@@ -33,7 +33,6 @@ from sitecheck.settings_words import (
     source_tag,
 )
 from sitecheck.web.form_fields import (
-    add_error,
     error_count,
     number_field,
     parse_number,
@@ -157,18 +156,9 @@ def settings_form_data(site: dict, basis: CodeBasis, review: ReviewSettings) -> 
 
 
 def _bounded(field, least: float, greatest: float, unit: str, required: bool = True):
-    value = parse_number(field, unit, required=required, what="a value")
-    if value is None:
-        return None
-    if not least <= value <= greatest:
-        unit_words = f" {unit}" if unit else ""
-        add_error(
-            field,
-            f"Expected {plain_number(least)} to {plain_number(greatest)}{unit_words}; "
-            f"{plain_number(value)} is outside the range this tool accepts.",
-        )
-        return None
-    return value
+    return parse_number(
+        field, unit, required=required, what="a value", least=least, greatest=greatest
+    )
 
 
 def settings_from_form(form, basis: CodeBasis, review: ReviewSettings) -> tuple[dict, dict] | None:

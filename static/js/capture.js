@@ -29,7 +29,6 @@ import { inputErrors } from "./bearing/validate.js";
 
 export const MAX_PHOTOS = 8;
 const NOTES_MAX = 4000;
-const PACKING_MAX_MM = 200;
 // Fields of the form that are not the record's values.
 const NOT_VALUES = new Set(["csrf_token", "record_uuid", "design_revision", "provisional", "photos"]);
 
@@ -332,14 +331,9 @@ export function attachCapture(form, options) {
   function problems() {
     const out = [];
     const { measurements, checklist, unreadable, why } = readForm(form);
-    for (const u of unreadable) {
-      out.push([u.name, `${labelOf(u.name)}: ${u.message}. Enter it as digits, in ` +
-        `${form.querySelector(`#${u.name}`)?.dataset.unit === "N/mm²" ? "N/mm²" : "millimetres"}, or leave it empty if you could not measure it.`]);
-    }
-    const packing = checklist.packing;
-    if (packing !== undefined && !(packing >= 0 && packing <= PACKING_MAX_MM)) {
-      out.push(["packing", `${labelOf("packing")}: ${typed("packing").trim()} mm is not accepted; expected 0 (none) to ${PACKING_MAX_MM} mm.`]);
-    }
+    // The one reader's refusals (bearing/typed.js), in the server's form's words; the
+    // packing's bounds are among its rules.
+    for (const u of unreadable) out.push([u.name, u.refusal.sentence(labelOf(u.name))]);
     const notes = typed("notes");
     if (notes.length > NOTES_MAX) {
       out.push(["notes", `Notes: at most ${NOTES_MAX} characters; these are ${notes.length}. Shorten them, or add a photo of a sketch instead.`]);

@@ -13,29 +13,27 @@ import { recheckRecord } from "./bearing/record.js";
 import { remedy } from "./bearing/remedy.js";
 import { CHECKLIST_FIELDS, MEASUREMENT_FIELDS } from "./bearing/serial.js";
 import { SYMBOL_WORDS } from "/phone-words.js";
-import { coreSentence, designSentence, designedValue, fieldOf } from "./messages.js";
+import { NumberRefused, readNumber } from "./bearing/typed.js";
+import { coreSentence, designSentence, designedValue, fieldOf, phoneWords } from "./messages.js";
 
 const TRI_STATE = new Set([
   "padstone_present", "padstone_reinforced", "collar_joint", "bedded", "cracks", "cut_units",
   "level",
 ]);
 const TEXT = new Set(["padstone_concrete", "padstone_position", "masonry_material", "mortar"]);
-// The server's rule for typed numbers (sitecheck/web/record_form.py NumberField): spaces
-// dropped, a lone decimal comma read as a point, plain decimal digits only.
-const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
-
-export function parseNumber(raw) {
-  let text = String(raw ?? "").trim();
-  if (!text) return { value: null };
-  text = text.replaceAll(" ", "");
-  if (text.includes(",") && !text.includes(".") && text.split(",").length === 2) {
-    text = text.replace(",", ".");
+/** A typed number by the one reader's rules (bearing/typed.js, the twin of the server's
+ * bearing/typed.py), worded as the server's form words it: {value} (null when empty), or
+ * {value: null, refusal} with the reader's NumberRefused. */
+export function readTyped(name, raw) {
+  const words = phoneWords().labels[name] || {};
+  const [least, greatest] = words.bounds || [null, null];
+  try {
+    const value = readNumber(raw, { unit: words.unit || "", least, greatest, example: words.example || null });
+    return { value };
+  } catch (error) {
+    if (error instanceof NumberRefused) return { value: null, refusal: error };
+    throw error;
   }
-  const value = Number(text);
-  if (text.length > 24 || !NUMBER.test(text) || !Number.isFinite(value)) {
-    return { value: null, error: `“${String(raw).trim().slice(0, 40)}” is not a number` };
-  }
-  return { value };
 }
 
 function valueOf(form, name) {
@@ -46,7 +44,7 @@ function valueOf(form, name) {
 }
 
 /** The measurements and checklist the form holds now, as the server would read them, the
- * fields whose text is not a number (left out, as the server leaves them out), and why the
+ * fields whose text the reader refused (left out, as the server leaves them out), and why the
  * bearing could not be measured (null when it was). */
 export function readForm(form) {
   const why = valueOf(form, "why_not_measured") || null;
@@ -64,8 +62,8 @@ export function readForm(form) {
       const text = String(raw).trim();
       if (text) target[name] = text;
     } else {
-      const parsed = parseNumber(raw);
-      if (parsed.error) unreadable.push({ name, message: parsed.error });
+      const parsed = readTyped(name, raw);
+      if (parsed.refusal) unreadable.push({ name, refusal: parsed.refusal });
       else if (parsed.value !== null) target[name] = parsed.value;
     }
   };
@@ -265,7 +263,8 @@ function render(panel, outcome, unreadable, ms, ctx, kind, form) {
     parts.push(traceDetails(result, traceWasOpen));
   }
   for (const u of unreadable) {
-    parts.push(el("p", { class: "field-error" }, `✗ ${u.label}: ${u.message}; left out until it is a number.`));
+    parts.push(el("p", { class: "field-error" },
+      `✗ ${u.refusal.sentence(u.label)} Left out of this verdict until it is put right.`));
   }
   panel.replaceChildren(...parts);
   panel.dataset.ms = ms.toFixed(2);
@@ -306,7 +305,7 @@ export function attachVerdict(form, panel, context, bar = null) {
     const nothingYet = !unreadable.length && !Object.keys(measurements).length &&
       !Object.keys(checklist).length;
     const kind = verdictKind(outcome, nothingYet, why);
-    render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || u.name })), ms,
+    render(panel, outcome, unreadable.map((u) => ({ ...u, label: labels[u.name] || phoneWords().labels[u.name]?.label || "A value" })), ms,
       ctx, kind, form);
     renderBar(bar, outcome, kind);
     const verdict = verdictOf(outcome);

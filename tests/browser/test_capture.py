@@ -492,3 +492,50 @@ def test_the_phones_database_upgrade_adds_drafts_and_drops_nothing(page: Page):
     assert got["version"] == 2
     assert sorted(got["stores"]) == ["drafts", "outbox", "packs", "refused"]
     assert got["outbox"] == ["kept-from-version-1"]
+
+
+def test_a_number_is_refused_in_the_same_words_by_the_phone_and_by_the_server(
+    page: Page, context, live_server, browser, browser_context_args, shoot
+):
+    """The online form reads typed numbers by the phone's twin of the server's reader: a
+    number it cannot read is refused on the phone, in the words the server's own form uses
+    for it without JavaScript, and nothing is sent; the draft keeps the text as typed."""
+    site_id = _site(live_server)
+    b = _bearing(live_server, site_id, "FF-B3-E")
+    typed = {"bearing_length": "1 50", "wall_thickness": "215 mm", "unit_strength": "7,3"}
+
+    def fill(phone: Page) -> None:
+        fill_as_designed(phone, b["design"])
+        for name, text in typed.items():
+            phone.fill(f"#{name}", text)
+
+    def refusals(phone: Page) -> dict[str, str]:
+        for name in typed:
+            expect(phone.locator(f'[data-error-for="{name}"]')).to_be_visible()
+        return {n: phone.locator(f'[data-error-for="{n}"]').inner_text() for n in typed}
+
+    log_in(page, "inspector")
+    open_record_form(page, site_id, b["id"])
+    fill(page)
+    posts = []
+    context.on("request", lambda r: posts.append(r.url) if r.method == "POST" else None)
+    page.get_by_role("button", name="Send and re-check").tap()
+    on_the_phone = refusals(page)
+    shoot("numbers-refused-online")
+    assert "write 7.3" in on_the_phone["unit_strength"]
+    assert "without spaces: write 150" in on_the_phone["bearing_length"]
+    assert not [u for u in posts if u.endswith(("/api/records", "/record"))]
+    assert page.evaluate(OUTBOX) == []
+    (draft,) = [d for d in page.evaluate(DRAFTS) if d["bearing_id"] == b["id"]]
+    assert {n: draft["values"][n] for n in typed} == typed
+
+    no_script = browser.new_context(**{**browser_context_args, "java_script_enabled": False})
+    try:
+        plain = no_script.new_page()
+        log_in(plain, "inspector")
+        plain.goto(f"/sites/{site_id}/bearings/{b['id']}/record")
+        fill(plain)
+        plain.get_by_role("button", name="Send and re-check").tap()
+        assert refusals(plain) == on_the_phone
+    finally:
+        no_script.close()

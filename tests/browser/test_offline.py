@@ -21,7 +21,9 @@ from playwright.sync_api import Page, expect
 from phone import OUTBOX, REFUSED, SW_CONTROLLED, keep_site, log_in_as, record_offline
 from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from sitecheck import credentials, store, workflow
+from sitecheck.bearing.typed import NumberRefused, read_number
 from sitecheck.demo import BRICK_WING_NAME, DEMO_PEOPLE
+from sitecheck.web.record_form import SPECS
 
 
 def _site_id(live_server) -> str:
@@ -519,23 +521,89 @@ def test_a_refused_record_is_recorded_again_from_its_values(page: Page, context,
     assert refused_uuid in [i["uuid"] for i in page.evaluate(REFUSED)]
 
 
-def test_a_number_the_offline_form_cannot_read_is_named_and_nothing_is_kept(
-    page: Page, context, live_server
+# One outbox item as kept: the record that will be sent and the form's text as typed.
+KEPT_ITEM = """async (uuid) => {
+  const db = await new Promise((ok, no) => {
+    const r = indexedDB.open("sitecheck");
+    r.onsuccess = () => ok(r.result);
+    r.onerror = () => no(r.error);
+  });
+  const item = await new Promise((ok) => {
+    const r = db.transaction("outbox").objectStore("outbox").get(uuid);
+    r.onsuccess = () => ok(r.result);
+  });
+  db.close();
+  return { record: item.record, values: item.values };
+}"""
+
+
+def _server_words(name: str, typed: str) -> str:
+    """What the server's form says of a number it refuses (record_form.NumberField)."""
+    spec = SPECS[name]
+    least, greatest = spec.bounds or (None, None)
+    with pytest.raises(NumberRefused) as refused:
+        read_number(typed, unit=spec.unit, least=least, greatest=greatest, example=spec.example)
+    return refused.value.sentence(spec.label)
+
+
+def test_numbers_the_offline_form_cannot_read_are_refused_in_the_servers_words(
+    page: Page, context, live_server, shoot
 ):
+    """The phone reads typed numbers by the server's one reader (its twin, typed.js): with no
+    signal, each number it cannot read is named with its label, what was typed and what is
+    expected, exactly as the server would say it; nothing is kept, the draft holds what was
+    typed, and the record is kept once the numbers are put right."""
     site_id = _site_id(live_server)
     keep_site(page, site_id)
     context.set_offline(True)
     before = len(page.evaluate(OUTBOX))
     page.locator("li[data-bearing]", has_text="EX-B7").first.locator("button").tap()
     form = page.locator("form[data-offline-form]")
-    page.fill("#bearing_length", "15O")  # a letter O for a zero
+    typed = {
+        "bearing_length": "15O",  # a letter O for a zero
+        "wall_thickness": "215mm",
+        "unit_strength": "7,3",  # a decimal comma: read neither way
+        "packing": "300",  # beyond the form's own bound
+    }
+    for name, text in typed.items():
+        page.fill(f"#{name}", text)
     page.fill("#notes", "typed on site")
+    panel = form.locator("[data-provisional-verdict]")
+    expect(panel).to_contain_text(_server_words("unit_strength", "7,3"))
+    expect(panel).to_contain_text("Left out of this verdict until it is put right.")
     form.get_by_role("button", name="Keep in unsent").tap()
-    error = form.locator('[data-error-for="bearing_length"]')
-    expect(error).to_have_text(
-        "✗ Bearing length: “15O” is not a number. Enter it as digits, in millimetres, "
-        "or leave it empty if you could not measure it."
-    )
+    for name, text in typed.items():
+        expect(form.locator(f'[data-error-for="{name}"]')).to_have_text(
+            "✗ " + _server_words(name, text)
+        )
+    assert "write 7.3" in _server_words("unit_strength", "7,3")
     expect(form.locator("[data-form-errors]")).to_contain_text("Nothing was kept yet.")
+    shoot("numbers-refused-offline")
     assert page.input_value("#notes") == "typed on site"  # what was typed stays
     assert len(page.evaluate(OUTBOX)) == before
+
+    # The draft holds the text as typed: the page opened again brings it back.
+    response = page.reload()
+    assert response is not None and response.from_service_worker
+    page.locator("li[data-bearing]", has_text="EX-B7").first.locator("button").tap()
+    expect(form.locator("[data-draft-line]")).to_contain_text("Draft restored")
+    for name, text in typed.items():
+        expect(page.locator(f"#{name}")).to_have_value(text)
+
+    for name, text in {"bearing_length": "150", "wall_thickness": "215"}.items():
+        page.fill(f"#{name}", text)
+    page.fill("#unit_strength", "7.3")
+    page.fill("#packing", "1,005.0")  # thousands with a decimal point: read, then refused
+    form.get_by_role("button", name="Keep in unsent").tap()
+    expect(form.locator('[data-error-for="packing"]')).to_have_text(
+        "✗ " + _server_words("packing", "1,005.0")
+    )
+    page.fill("#packing", " 5 ")  # spaces around are trimmed
+    form.get_by_role("button", name="Keep in unsent").tap()
+    expect(form).to_be_hidden()
+    kept = page.evaluate(KEPT_ITEM, page.locator("body").get_attribute("data-last-saved"))
+    assert len(page.evaluate(OUTBOX)) == before + 1
+    assert kept["record"]["measurements"]["unit_strength"] == 7.3
+    assert kept["record"]["measurements"]["wall_thickness"] == 215
+    assert kept["record"]["checklist"]["packing"] == 5
+    assert kept["values"]["packing"] == " 5 "

@@ -9,6 +9,7 @@
 import { BS5628, MORTAR_DESIGNATION } from "./basis.js";
 import { InputError } from "./errors.js";
 import { number } from "./format.js";
+import { NumberRefused, readNumber } from "./typed.js";
 import {
   ACROSS,
   CONDITIONING,
@@ -496,8 +497,16 @@ function classFck(concrete) {
   if (!concrete.toUpperCase().startsWith("C") || !concrete.includes("/")) return null;
   const rest = concrete.slice(1);
   const cut = rest.indexOf("/");
-  const fCk = pyFloat(rest.slice(0, cut));
-  const fCube = pyFloat(rest.slice(cut + 1));
+  // The class's figures are typed numbers like any other: the one reader's rules.
+  let fCk;
+  let fCube;
+  try {
+    fCk = readNumber(rest.slice(0, cut));
+    fCube = readNumber(rest.slice(cut + 1));
+  } catch (error) {
+    if (error instanceof NumberRefused) return null;
+    throw error;
+  }
   if (fCk === null || fCube === null) return null;
   if (!(8 <= fCk && fCk <= 90) || fCube < fCk) return null;
   return fCk;
@@ -505,7 +514,8 @@ function classFck(concrete) {
 
 // Python's float() of text, or null where it would raise ValueError: surrounding white
 // space, a sign, digits with single underscores between them, a point, an exponent, or
-// inf / infinity / nan. (Python also reads non-ASCII digits; a concrete class never has them.)
+// inf / infinity / nan (Python also reads non-ASCII digits). For settings stored as text
+// (serial.js), not for anything typed: typed numbers go through typed.js.
 const FLOAT_TEXT =
   /^[+-]?(?:(?:\d(?:_?\d)*)(?:\.(?:\d(?:_?\d)*)?)?|\.\d(?:_?\d)*)(?:[eE][+-]?\d(?:_?\d)*)?$/;
 const SPECIAL_TEXT = /^[+-]?(?:inf|infinity|nan)$/i;
