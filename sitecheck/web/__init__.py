@@ -254,6 +254,11 @@ def _log_request(response):
 def _security_headers(response):
     h = response.headers
     h.setdefault("X-Content-Type-Options", "nosniff")
+    if current_app.config["SESSION_COOKIE_SECURE"]:
+        # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
+        # so a phone on a site's open Wi-Fi is not talked down to plain HTTP. Every answer
+        # says so, whichever the browser happens to fetch first.
+        h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
     if request.path.startswith("/static/") or request.path == "/manifest.webmanifest":
         # A script, style sheet, icon or manifest is not a document: the policies below are
         # read from the page (and the service worker's own script) only, and on each of the
@@ -264,10 +269,6 @@ def _security_headers(response):
     h.setdefault("Referrer-Policy", "same-origin")
     h.setdefault("X-Frame-Options", "DENY")
     h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
-    if current_app.config["SESSION_COOKIE_SECURE"]:
-        # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
-        # so a phone on a site's open Wi-Fi is not talked down to plain HTTP.
-        h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
     if request.path == "/sw.js":
         return response
     # A view that deliberately marks its response private (content-addressed photos) keeps
