@@ -68,7 +68,7 @@ sys.path.insert(0, str(ROOT / "benchmarks"))
 
 from photo_memory import free_port, rss_mb  # noqa: E402
 
-from liveserver import Client  # noqa: E402
+from kit.client import Client  # noqa: E402
 
 SIZES = (10, 100, 1000, 10000)
 CACHE = Path(os.environ.get("SITECHECK_LARGE_CACHE") or "/tmp/sitecheck-large")

@@ -202,7 +202,7 @@ def through_a_server(site, work: Path) -> None:
     from large_site import PEOPLE, working_copy
     from photo_memory import free_port, rss_mb, start_server
 
-    from liveserver import Client
+    from kit.client import Client
 
     db_path = working_copy(site, work)
     port = free_port()

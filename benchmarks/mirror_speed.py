@@ -25,12 +25,13 @@ import threading
 from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
 from pathlib import Path
 
-from phone_browser import launch
 from playwright.sync_api import sync_playwright
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))  # devtools/ is not installed
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))  # kit/
 
 from devtools.vectors import DEFAULT_PATH, REWRITE, read_text  # noqa: E402
+from kit.chromium import launch  # noqa: E402
 
 ROOT = Path(__file__).resolve().parent.parent
 VECTORS = ROOT / DEFAULT_PATH

@@ -31,7 +31,8 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from phone_browser import launch, phone  # noqa: E402
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))  # kit/
+from kit.chromium import launch, phone  # noqa: E402
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 

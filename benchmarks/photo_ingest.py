@@ -53,7 +53,7 @@ sys.path.insert(0, str(ROOT / "benchmarks"))
 from photo_memory import free_port, start_server  # noqa: E402
 from photo_shrink import camera_like_jpeg  # noqa: E402
 
-from liveserver import Client  # noqa: E402
+from kit.client import Client  # noqa: E402
 
 TARGET_TIMES_BARE = 3.0
 PHONE_LONG_EDGE, PHONE_QUALITY = 1600, 85

@@ -44,7 +44,7 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "tests"))
 
-from liveserver import Client  # noqa: E402
+from kit.client import Client  # noqa: E402
 
 TARGET_PEAK_MB = 500
 TARGET_LOGIN_S = 1.0

@@ -33,7 +33,7 @@ sys.path.insert(0, str(ROOT / "benchmarks"))
 
 from photo_memory import free_port, start_server  # noqa: E402
 
-from liveserver import Client  # noqa: E402
+from kit.client import Client  # noqa: E402
 
 TARGET_LOGIN_S = 1.0
 

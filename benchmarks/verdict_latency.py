@@ -23,10 +23,11 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from phone_browser import launch, phone  # noqa: E402
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))  # kit/
 from playwright.sync_api import sync_playwright  # noqa: E402
 from werkzeug.serving import make_server  # noqa: E402
 
+from kit.chromium import launch, phone  # noqa: E402
 from sitecheck import store  # noqa: E402
 from sitecheck.demo import DEMO_PEOPLE, build_demo  # noqa: E402
 from sitecheck.web import create_app  # noqa: E402

@@ -2,8 +2,8 @@
 words of the settings page, which the site record (PDF) prints too, so the quality file
 reads as the screens do. Plain data, no Flask: the web forms and the report both import it.
 
-``tests/test_report.py`` holds every field of the code basis and of the review settings to a
-label here, so a new value cannot reach the record under its internal name.
+``tests/test_site_record_pdf.py`` holds every field of the code basis and of the review
+settings to a label here, so a new value cannot reach the record under its internal name.
 """
 
 from __future__ import annotations

@@ -7,14 +7,18 @@ tests/browser/conftest.py.
 from __future__ import annotations
 
 import re
+import uuid
 from dataclasses import dataclass
+from datetime import UTC, datetime
 
 import pytest
 
+from kit.photo_samples import make_test_jpeg
+from kit.web import PASSWORD, new_site
 from sitecheck import credentials, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
-from sitecheck.web import create_app
-from webkit import PASSWORD, new_site
+from sitecheck.photos import ingest_photo
+from sitecheck.web import create_app, photo_store
 
 
 @dataclass
@@ -113,9 +117,9 @@ def client_as(app, people):
 
 @pytest.fixture
 def live_client(people):
-    """live_client(server, "inspector") → a liveserver.Client logged in as that person on a
-    real server (tests/liveserver.py)."""
-    from liveserver import Client
+    """live_client(server, "inspector") → a kit.client.Client logged in as that person on a
+    real server (kit.servers)."""
+    from kit.client import Client
 
     def make(server, role: str) -> Client:
         client = Client(server.url)
@@ -123,3 +127,68 @@ def live_client(people):
         return client
 
     return make
+
+
+@pytest.fixture
+def route_values(app, db, site, people):
+    """A value for every variable of every route, with something behind each: a bearing with
+    an as-built record and a photo, an invitation, a person (tests/test_access.py walks every
+    route as every role with them, tests/test_json_shapes.py every JSON twin)."""
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    record_uuid = str(uuid.uuid4())
+    d = bearing["design_input"]
+    services.record_as_built(
+        db,
+        site=site,
+        bearing=bearing,
+        uuid=record_uuid,
+        measured_at=datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        design_revision=1,
+        measurements={
+            "bearing_length": d["beam"]["bearing_length"],
+            "padstone_present": True,
+            "padstone_length": 330.0,
+            "padstone_width": 215.0,
+            "padstone_depth": 140.0,
+            "wall_thickness": 215.0,
+            "masonry_group": 1,
+            "a1": d["wall"]["a1"],
+        },
+        checklist={},
+        notes="",
+        inspector_id=people["inspector"].id,
+    )
+    with app.app_context():
+        stored = services.store_photo(
+            db,
+            site=site,
+            record_uuid=record_uuid,
+            photo=ingest_photo(make_test_jpeg(400, 300)),
+            photos=photo_store(),
+            user_id=people["inspector"].id,
+        )
+    invitation = store.create_invitation(
+        db,
+        site_id=site["id"],
+        email=people["outsider"].email,
+        role="viewer",
+        invited_by=people["engineer"].id,
+        valid_s=3600,
+    )
+    return {
+        "invitation_id": invitation["id"],
+        "answer": "decline",  # accepting would put the outsider on the site mid-walk
+        "token": "not-a-link-token-at-all",
+        "site_id": site["id"],
+        "bearing_id": bearing["id"],
+        "record_uuid": record_uuid,
+        "photo_uuid": stored.row["uuid"],
+        "size": "thumb",
+        "user_id": people["viewer"].id,
+        "action": "new-password",
+        "filename": "app.css",
+        "kind": "csv",  # a data export: the site record's routes take its kind
+    }
+
+
+ROLES = ("engineer", "inspector", "contractor", "viewer", "outsider")

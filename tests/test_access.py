@@ -8,15 +8,11 @@ until it is classified here.
 from __future__ import annotations
 
 import hashlib
-import uuid
-from datetime import UTC, datetime
 
 import pytest
 
-from photo_samples import make_test_jpeg
-from sitecheck import services, store
-from sitecheck.photos import ingest_photo
-from sitecheck.web import photo_store
+from kit.web import ROLES
+from sitecheck import store
 
 # Endpoint → action needed on the site, or "public" / "login" for routes not on a site.
 # A (GET, POST) route may need a different action for each method: endpoint@METHOD.
@@ -115,68 +111,6 @@ MAY = {
     "outsider": set(),
 }
 
-ROLES = ("engineer", "inspector", "contractor", "viewer", "outsider")
-
-
-@pytest.fixture
-def world(app, db, site, people):
-    """A bearing with an as-built record and a photo, so every URL has something behind it."""
-    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
-    record_uuid = str(uuid.uuid4())
-    d = bearing["design_input"]
-    services.record_as_built(
-        db,
-        site=site,
-        bearing=bearing,
-        uuid=record_uuid,
-        measured_at=datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
-        design_revision=1,
-        measurements={
-            "bearing_length": d["beam"]["bearing_length"],
-            "padstone_present": True,
-            "padstone_length": 330.0,
-            "padstone_width": 215.0,
-            "padstone_depth": 140.0,
-            "wall_thickness": 215.0,
-            "masonry_group": 1,
-            "a1": d["wall"]["a1"],
-        },
-        checklist={},
-        notes="",
-        inspector_id=people["inspector"].id,
-    )
-    with app.app_context():
-        stored = services.store_photo(
-            db,
-            site=site,
-            record_uuid=record_uuid,
-            photo=ingest_photo(make_test_jpeg(400, 300)),
-            photos=photo_store(),
-            user_id=people["inspector"].id,
-        )
-    invitation = store.create_invitation(
-        db,
-        site_id=site["id"],
-        email=people["outsider"].email,
-        role="viewer",
-        invited_by=people["engineer"].id,
-        valid_s=3600,
-    )
-    return {
-        "invitation_id": invitation["id"],
-        "answer": "decline",  # accepting would put the outsider on the site mid-walk
-        "token": "not-a-link-token-at-all",
-        "site_id": site["id"],
-        "bearing_id": bearing["id"],
-        "record_uuid": record_uuid,
-        "photo_uuid": stored.row["uuid"],
-        "size": "thumb",
-        "user_id": people["viewer"].id,
-        "action": "new-password",
-        "filename": "app.css",
-        "kind": "csv",  # a data export: the site record's routes take its kind
-    }
-
 
 def _requests(app):
     """(key, endpoint, method, url path template) for every route."""
@@ -216,7 +150,7 @@ def _expected(rule_need: str, role: str, json: bool) -> set[int]:
 
 
 @pytest.mark.parametrize("role", [*ROLES, "anonymous"])
-def test_access_matrix(app, client_as, world, role):
+def test_access_matrix(app, client_as, route_values, role):
     client = app.test_client() if role == "anonymous" else client_as(role)
     token = client.get("/api/csrf").get_json()["token"]
     failures = []
@@ -227,7 +161,7 @@ def test_access_matrix(app, client_as, world, role):
     )
     for key, rule, method in requests:
         need = ROUTES[key]
-        url = rule.build(world, append_unknown=False)[1]
+        url = rule.build(route_values, append_unknown=False)[1]
         r = client.get(url) if method == "GET" else client.post(url, data={"csrf_token": token})
         r.close()
         expected = _expected(need, role, url.endswith(".json") or url.startswith("/api/"))
@@ -251,53 +185,55 @@ def _table_fingerprint(db) -> str:
 
 
 @pytest.mark.parametrize("role", ["engineer", "contractor"])
-def test_no_post_changes_anything_without_a_csrf_token(app, db, client_as, world, role):
+def test_no_post_changes_anything_without_a_csrf_token(app, db, client_as, route_values, role):
     client = client_as(role)
     before = _table_fingerprint(db)
     for key, rule, method in _requests(app):
         if method != "POST" or key in ("auth.login",):
             continue
-        r = client.post(rule.build(world, append_unknown=False)[1], data={})
+        r = client.post(rule.build(route_values, append_unknown=False)[1], data={})
         r.close()
         assert r.status_code == 400, f"POST {rule.rule} without a token: {r.status_code}"
     assert _table_fingerprint(db) == before
 
 
-def test_no_get_changes_anything(app, db, client_as, world):
+def test_no_get_changes_anything(app, db, client_as, route_values):
     before = _table_fingerprint(db)
     for role in ROLES:
         client = client_as(role)
         for _key, rule, method in _requests(app):
             if method == "GET":
-                client.get(rule.build(world, append_unknown=False)[1]).close()
+                client.get(rule.build(route_values, append_unknown=False)[1]).close()
     assert _table_fingerprint(db) == before
 
 
-def test_a_refused_action_is_written_to_the_audit_trail(app, db, client_as, world, people):
+def test_a_refused_action_is_written_to_the_audit_trail(app, db, client_as, route_values, people):
     client = client_as("inspector")
-    assert client.get(f"/sites/{world['site_id']}/settings").status_code == 403
-    refused = [e for e in store.events_for(db, site_id=world["site_id"]) if e["kind"] == "refused"]
+    assert client.get(f"/sites/{route_values['site_id']}/settings").status_code == 403
+    refused = [
+        e for e in store.events_for(db, site_id=route_values["site_id"]) if e["kind"] == "refused"
+    ]
     assert refused and refused[0]["user_id"] == people["inspector"].id
 
 
-def test_a_logged_out_cookie_stops_working_at_once(app, client_as, world):
+def test_a_logged_out_cookie_stops_working_at_once(app, client_as, route_values):
     client = client_as("engineer")
-    assert client.get(f"/sites/{world['site_id']}").status_code == 200
+    assert client.get(f"/sites/{route_values['site_id']}").status_code == 200
     cookie = client.get_cookie("sitecheck")
     token = client.get("/api/csrf").get_json()["token"]
     client.post("/logout", data={"csrf_token": token})
     replay = app.test_client()
     replay.set_cookie("sitecheck", cookie.value)
-    assert replay.get(f"/sites/{world['site_id']}").status_code == 302  # back to log-in
+    assert replay.get(f"/sites/{route_values['site_id']}").status_code == 302  # back to log-in
 
 
-def test_a_disabled_user_is_out_at_once(app, db, client_as, world, people):
+def test_a_disabled_user_is_out_at_once(app, db, client_as, route_values, people):
     client = client_as("inspector")
-    assert client.get(f"/sites/{world['site_id']}").status_code == 200
+    assert client.get(f"/sites/{route_values['site_id']}").status_code == 200
     store.set_disabled(
         db, user_id=people["inspector"].id, disabled=True, by_user_id=people["engineer"].id
     )
-    assert client.get(f"/sites/{world['site_id']}").status_code == 302
+    assert client.get(f"/sites/{route_values['site_id']}").status_code == 302
 
 
 def test_log_in_is_throttled_after_repeated_failures(app, people):

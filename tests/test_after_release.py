@@ -13,14 +13,14 @@ from datetime import UTC, datetime, timedelta
 
 import sqlite_utils
 from pypdf import PdfReader
-from test_web_release import STATEMENT, released, reopen_url
-from test_web_review import bearing_named, review_url, state_of
 
-from photo_samples import make_test_jpeg
+from kit.photo_samples import make_test_jpeg
+from kit.release_steps import STATEMENT, released, reopen_url
+from kit.review_steps import bearing_named, review_url, state_of
+from kit.web import csrf_token
 from sitecheck import services, store
 from sitecheck.report.collect import collect
 from sitecheck.report.pdf import pdf_bytes
-from webkit import csrf_token
 
 REFERENCE = "GF-B1-E"
 

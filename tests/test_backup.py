@@ -17,20 +17,15 @@ from pathlib import Path
 
 import pytest
 
-from served import (
-    PASSWORD,
-    SITECHECK,
-    Person,
-    Served,
-    as_built_record,
-    noisy_jpeg,
-    prepare_home,
-)
+from kit.client import Client
+from kit.data_folder import as_built_record, prepare_home
+from kit.photo_samples import noisy_jpeg
+from kit.servers import SITECHECK, Served
+from kit.web import PASSWORD, csrf_token
 from sitecheck import cli, store
 from sitecheck.backup import BackupError, backup, check_backup, restore
 from sitecheck.config import load_settings
 from sitecheck.photos import PhotoStore
-from webkit import csrf_token
 
 pytestmark = pytest.mark.timeout(240)
 
@@ -221,7 +216,7 @@ def test_the_drill_records_sent_while_a_backup_runs_are_all_there_when_restored(
     stop = threading.Event()
 
     def inspector(n: int) -> None:
-        person = Person(server.url)
+        person = Client(server.url)
         assert person.log_in(info["inspectors"][n], PASSWORD).status == 302
         token = person.token()
         i = 0
@@ -288,7 +283,7 @@ def test_the_drill_records_sent_while_a_backup_runs_are_all_there_when_restored(
     # The restored folder serves, and an inspector logs in as before.
     again = Served(restored)
     try:
-        person = Person(again.url)
+        person = Client(again.url)
         assert person.log_in(info["inspectors"][0], PASSWORD).status == 302
         assert person.get(f"/api/sites/{info['site_id']}/pack").status == 200
     finally:

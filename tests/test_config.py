@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 from flask import Flask
 
-from served import SITECHECK
+from kit.servers import SITECHECK
 from sitecheck import cli
 from sitecheck.config import SETTINGS, ConfigError, default_home, load_settings
 from sitecheck.web import create_app

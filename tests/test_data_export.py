@@ -19,13 +19,14 @@ from datetime import UTC, datetime
 
 import pytest
 
-from liveserver import Client, LiveServer
+from kit.client import Client
+from kit.servers import LiveServer
+from kit.web import PASSWORD
 from sitecheck import cli, services, store
 from sitecheck.photos import ingest_photo
 from sitecheck.report import export, jobs
 from sitecheck.report.collect import collect
 from sitecheck.web import photo_store
-from webkit import PASSWORD
 
 
 @pytest.fixture
@@ -33,7 +34,7 @@ def measured(app, db, site, people):
     """Every bearing measured once (as designed), one with a photo, one decided and one
     released, so every file of the export has rows."""
     now = datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
-    from photo_samples import make_test_jpeg
+    from kit.photo_samples import make_test_jpeg
 
     for n, bearing in enumerate(store.list_bearings(db, site_id=site["id"])):
         d = bearing["design_input"]

@@ -7,8 +7,7 @@ Real app, real SQLite file, a test client per person.
 
 from __future__ import annotations
 
-from test_web_review import bearing_named, record
-
+from kit.review_steps import bearing_named, record
 from sitecheck import services
 
 AGAIN = "The wall looks like 100 mm block, not 215 mm: measure it at the bearing itself."

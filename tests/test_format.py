@@ -9,7 +9,7 @@ import re
 from hypothesis import given
 from hypothesis import strategies as st
 
-from bearings import across_on_padstone
+from kit.bearing_inputs import across_on_padstone
 from sitecheck.bearing import check_bearing, ec6_uk_na
 from sitecheck.bearing.format import NO_CAPACITY, number, quantity, utilisation
 from sitecheck.bearing.serial import input_to_dict

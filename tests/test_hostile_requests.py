@@ -22,8 +22,8 @@ from pathlib import Path
 import flask
 import pytest
 
-from liveserver import LiveServer
-from photo_samples import make_test_jpeg
+from kit.photo_samples import make_test_jpeg
+from kit.servers import LiveServer
 from sitecheck import store
 from sitecheck.photos import PhotoStore, processing_slot
 from sitecheck.photos import ingest as photos_ingest

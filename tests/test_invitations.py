@@ -14,11 +14,12 @@ from datetime import timedelta
 
 import pytest
 
+from kit.servers import free_port
+from kit.smtp_server import LocalMailServer
+from kit.web import PASSWORD, csrf_token, new_site
 from sitecheck import credentials, mail, store
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
-from smtp_local import LocalMailServer, free_port
-from webkit import PASSWORD, csrf_token, new_site
 
 NEW = "nia.new@example.test"
 CHOSEN = "slate grey lintel over the porch"

@@ -2,7 +2,8 @@
 for that role, never the template's whole context. No e-mail addresses (except the members
 page for whoever may invite), no password hashes, tokens, paths or internal fields.
 
-Real app, real SQLite file, the same world as the access walk (a record with a photo).
+Real app, real SQLite file, the same values as the access walk (``route_values``: a record
+with a photo).
 """
 
 from __future__ import annotations
@@ -10,8 +11,8 @@ from __future__ import annotations
 import re
 
 import pytest
-from test_access import ROLES, world  # noqa: F401  (a fixture, used by name)
 
+from kit.web import ROLES
 from sitecheck import store
 from sitecheck.web.pages import render_page
 from sitecheck.web.shapes import SHAPES
@@ -83,7 +84,7 @@ def invited(db, site, people):
 def test_no_json_answer_carries_addresses_secrets_or_internal_fields(
     app,
     client_as,
-    world,  # noqa: F811  (the access walk's fixture)
+    route_values,
     invited,
     people,
     tmp_path,
@@ -93,7 +94,7 @@ def test_no_json_answer_carries_addresses_secrets_or_internal_fields(
     secrets = {client.get_cookie("sitecheck").value, client.get("/api/csrf").get_json()["token"]}
     found, answered = [], 0
     for rule in json_pages(app):
-        url = rule.build(world, append_unknown=False)[1]
+        url = rule.build(route_values, append_unknown=False)[1]
         r = client.get(url)
         if r.status_code != 200:
             assert r.status_code in (403, 404), f"{url} as {role}: {r.status_code}"

@@ -11,9 +11,9 @@ from urllib.parse import urljoin, urlsplit
 
 import pytest
 
+from kit.web import PASSWORD, csrf_token
 from sitecheck import credentials, store
 from sitecheck.web import create_app
-from webkit import PASSWORD, csrf_token
 
 HOST = "localhost"  # the test client's server name
 # Waits long enough that no test here depends on how fast the machine runs it.

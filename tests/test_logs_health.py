@@ -9,7 +9,10 @@ from pathlib import Path
 
 import pytest
 
-from served import PASSWORD, Person, Served, prepare_home
+from kit.client import Client
+from kit.data_folder import prepare_home
+from kit.servers import Served
+from kit.web import PASSWORD
 from sitecheck import logs
 from sitecheck.config import load_settings
 from sitecheck.report.jobs import RecordJobs
@@ -86,7 +89,7 @@ def test_a_line_carries_the_user_id_from_a_real_server(tmp_path):
     prepare_home(home)
     server = Served(home, env={"SITECHECK_LOG_JSON": "1"})
     try:
-        person = Person(server.url)
+        person = Client(server.url)
         person.get("/login")
         person.log_in("inspector0@example.test", PASSWORD)
         person.get("/")

@@ -11,10 +11,10 @@ from datetime import timedelta
 
 import pytest
 
+from kit.smtp_server import LocalMailServer, self_signed
 from sitecheck import credentials, mail, store
 from sitecheck.mail import MailSettings, MailSettingsError
 from sitecheck.web import create_app
-from smtp_local import LocalMailServer, self_signed
 
 NEW = "nia.new@example.test"
 

@@ -12,15 +12,11 @@ from datetime import timedelta
 
 import pytest
 
-from served import (
-    PASSWORD,
-    SITECHECK,
-    Person,
-    Served,
-    as_built_record,
-    noisy_jpeg,
-    prepare_home,
-)
+from kit.client import Client
+from kit.data_folder import as_built_record, prepare_home
+from kit.photo_samples import noisy_jpeg
+from kit.servers import SITECHECK, Served
+from kit.web import PASSWORD
 from sitecheck import store
 from sitecheck.photos import PhotoStore
 
@@ -47,7 +43,7 @@ def test_maintain_while_serving_keeps_what_is_named_and_removes_what_is_old(tmp_
     stop = threading.Event()
 
     def inspector() -> None:
-        person = Person(server.url)
+        person = Client(server.url)
         person.log_in(info["inspectors"][0], PASSWORD)
         token = person.token()
         i = 0

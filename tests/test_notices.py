@@ -14,15 +14,16 @@ from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
 import pytest
-from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
-from test_web_review import login as log_in_as
 
+from kit.review_steps import as_designed, bearing_named, decide_form, decision_url, record
+from kit.review_steps import login as log_in_as
+from kit.servers import free_port
+from kit.smtp_server import LocalMailServer
+from kit.web import PASSWORD, csrf_token, new_site
 from sitecheck import credentials, mail, notices, services, store
 from sitecheck.demo import schedule_csv
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
-from smtp_local import LocalMailServer, free_port
-from webkit import PASSWORD, csrf_token, new_site
 
 BASE = "http://sitecheck.firm.example"
 

@@ -1,6 +1,6 @@
 """The photo package: what it accepts, what it refuses and why, what it keeps, how it stores.
 
-All pictures are generated in code (tests/photo_samples.py); positions and times are invented.
+All pictures are generated in code (tests/kit/photo_samples.py); positions and times are invented.
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ import pytest
 from PIL import Image, ImageChops, ImageCms, ImageFile, ImageStat, TiffImagePlugin
 
 import sitecheck.photos as photos
-from photo_samples import (
+from kit.photo_samples import (
     DATETIME,
     DATETIME_ORIGINAL,
     EXIF_IFD,

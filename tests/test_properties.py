@@ -10,7 +10,7 @@ import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
-from bearings import bearings
+from kit.bearing_inputs import bearings
 from sitecheck.bearing import (
     ACROSS,
     IN_LINE,

@@ -7,74 +7,18 @@ Two real server processes on one SQLite file, as several workers of one deployme
 from __future__ import annotations
 
 import re
-import subprocess
-import sys
 import threading
 import time
-import urllib.error
-import urllib.request
 import uuid
 from datetime import UTC, datetime
-from pathlib import Path
 
 import pytest
 
-from liveserver import Client
+from kit.client import Client
+from kit.servers import Served
+from kit.web import csrf_token
 from sitecheck import store
 from sitecheck.demo import DEMO_PEOPLE, SITE_NAME, build_demo
-from webkit import csrf_token
-
-ROOT = Path(__file__).resolve().parent.parent
-
-
-def _free_port() -> int:
-    import socket
-
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
-class ServerProcess:
-    """`sitecheck serve` (waitress) in a process of its own."""
-
-    def __init__(self, db_path: Path, log: Path):
-        self.port = _free_port()
-        self.url = f"http://127.0.0.1:{self.port}"
-        code = "from sitecheck.cli import main; raise SystemExit(main())"
-        with open(log, "ab") as out:
-            self.proc = subprocess.Popen(
-                [
-                    sys.executable,
-                    "-c",
-                    code,
-                    "serve",
-                    "--db",
-                    str(db_path),
-                    "--port",
-                    str(self.port),
-                ],
-                stdout=out,
-                stderr=subprocess.STDOUT,
-                cwd=ROOT,
-            )
-        deadline = time.monotonic() + 60
-        while time.monotonic() < deadline:
-            assert self.proc.poll() is None, log.read_text()[-2000:]
-            try:
-                with urllib.request.urlopen(self.url + "/login", timeout=2):
-                    return
-            except (urllib.error.URLError, ConnectionError, TimeoutError):
-                time.sleep(0.1)
-        raise RuntimeError("the server did not start")
-
-    def stop(self) -> None:
-        self.proc.terminate()
-        try:
-            self.proc.wait(10)
-        except subprocess.TimeoutExpired:
-            self.proc.kill()
-            self.proc.wait(10)
 
 
 @pytest.fixture
@@ -90,9 +34,10 @@ def demo(tmp_path):
 
 
 @pytest.fixture
-def two_servers(demo, tmp_path):
+def two_servers(demo):
     db_path, _site = demo
-    servers = [ServerProcess(db_path, tmp_path / f"server-{n}.log") for n in (1, 2)]
+    # As a deployment runs it: `sitecheck serve` with a worker process per core, twice.
+    servers = [Served(database=db_path, workers=0) for _ in (1, 2)]
     yield servers
     for server in servers:
         server.stop()

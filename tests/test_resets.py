@@ -10,10 +10,12 @@ import subprocess
 
 import pytest
 
-from served import PASSWORD, SITECHECK, Person, Served, prepare_home
+from kit.client import Client
+from kit.data_folder import prepare_home
+from kit.servers import SITECHECK, Served
+from kit.smtp_server import LocalMailServer
+from kit.web import PASSWORD, csrf_token
 from sitecheck import resets, store
-from smtp_local import LocalMailServer
-from webkit import csrf_token
 
 pytestmark = pytest.mark.timeout(120)
 
@@ -34,7 +36,7 @@ def _reset(home, email, env=None) -> subprocess.CompletedProcess:
     )
 
 
-def _choose(person: Person, path: str, new: str, again: str | None = None):
+def _choose(person: Client, path: str, new: str, again: str | None = None):
     page = person.get(path)
     assert page.status == 200, page.text[:300]
     token = re.search(r'name="csrf_token" type="hidden" value="([^"]+)"', page.text).group(1)
@@ -51,7 +53,7 @@ def home(tmp_path):
 def test_from_the_command_line_without_mail_the_link_is_shown_once_and_works_once(home):
     server = Served(home, workers=2)
     try:
-        elsewhere = Person(server.url)  # the person's phone, still logged in
+        elsewhere = Client(server.url)  # the person's phone, still logged in
         assert elsewhere.log_in("inspector0@example.test", PASSWORD).status == 302
 
         done = _reset(home, "inspector0@example.test")
@@ -63,15 +65,15 @@ def test_from_the_command_line_without_mail_the_link_is_shown_once_and_works_onc
         assert PASSWORD not in done.stdout and "password:" not in done.stdout.lower()
         path = _path(links[0])
 
-        person = Person(server.url)
+        person = Client(server.url)
         assert _choose(person, path, CHOSEN, "another thing").status == 400  # nothing used yet
         answer = _choose(person, path, CHOSEN)
         assert answer.status == 302 and answer.headers["Location"] == "/"
         assert person.get("/").status == 200  # logged in with the new password's session
         assert person.get(path).status == 410  # once only
         assert elsewhere.get("/").status == 302  # every other session ended
-        assert Person(server.url).log_in("inspector0@example.test", PASSWORD).status == 401
-        assert Person(server.url).log_in("inspector0@example.test", CHOSEN).status == 302
+        assert Client(server.url).try_log_in("inspector0@example.test", PASSWORD).status == 401
+        assert Client(server.url).log_in("inspector0@example.test", CHOSEN).status == 302
     finally:
         server.stop()
 
@@ -98,7 +100,7 @@ def test_from_the_command_line_with_mail_the_link_goes_only_to_the_address(home)
     assert link.startswith("http://sitecheck.firm.example/new-password/")
     server = Served(home)
     try:
-        assert _choose(Person(server.url), _path(link), CHOSEN).status == 302
+        assert _choose(Client(server.url), _path(link), CHOSEN).status == 302
     finally:
         server.stop()
 
@@ -116,7 +118,7 @@ def test_a_newer_link_ends_the_older_and_a_disabled_account_is_refused(home):
     assert "inspector1@example.test is disabled; enable it first" in refused.stderr
     server = Served(home)
     try:
-        person = Person(server.url)
+        person = Client(server.url)
         assert person.get(_path(first)).status == 410
         assert person.get(_path(second)).status == 200
     finally:

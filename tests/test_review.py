@@ -10,7 +10,7 @@ from dataclasses import replace
 
 import pytest
 
-from bearings import across_on_padstone, brick_in_line_end
+from kit.bearing_inputs import across_on_padstone, brick_in_line_end
 from sitecheck.bearing import Load, Masonry, Padstone, bs5628, check_bearing, ec6_uk_na
 from sitecheck.bearing.errors import InputError
 from sitecheck.bearing.remedy import remedy

@@ -20,8 +20,8 @@ from pathlib import Path
 
 import pytest
 from markupsafe import escape
-from test_web_sites import post
 
+from kit.web import post
 from sitecheck import store
 from sitecheck.bearing import ec6_uk_na
 from sitecheck.schedule import parse_schedule, read_schedule, recheck_rows

@@ -11,8 +11,11 @@ import time
 
 import pytest
 
-from served import PASSWORD, Person, Served, prepare_home
-from smtp_local import LocalMailServer
+from kit.client import Client
+from kit.data_folder import prepare_home
+from kit.servers import Served
+from kit.smtp_server import LocalMailServer
+from kit.web import PASSWORD
 
 pytestmark = pytest.mark.timeout(120)
 
@@ -48,7 +51,7 @@ def _pids_serving(server: Served, path: str, status: int | None = None) -> set[i
     }
 
 
-def _until_two_workers_answer(person: Person, server: Served, path: str, status: int) -> None:
+def _until_two_workers_answer(person: Client, server: Served, path: str, status: int) -> None:
     """Ask again until two different worker processes have answered ``path`` with
     ``status`` (each request is a new connection; the workers take turns at random)."""
     for _ in range(200):
@@ -67,19 +70,19 @@ def test_serve_says_where_its_data_is_and_keeps_it_there(tmp_path, home, serve):
     assert f"database {home / 'sitecheck.db'}" in printed
     assert "2 worker processes" in printed
     assert "Caution" in printed
-    assert Person(server.url).get("/healthz").status == 200
+    assert Client(server.url).get("/healthz").status == 200
     assert (home / "secret_key").is_file()
     assert list(elsewhere.iterdir()) == []  # nothing relative to where it was started
 
 
 def test_two_workers_share_log_ins_and_log_outs(home, serve):
     server = serve(workers=2, env={"SITECHECK_LOG_JSON": "1"})
-    person = Person(server.url)
+    person = Client(server.url)
     assert person.log_in("inspector0@example.test", PASSWORD).status == 302
     _until_two_workers_answer(person, server, "/", 200)  # one log-in, honoured by both
 
     # The cookie as it was before logging out, sent again later: both workers must refuse it.
-    replayed = Person(server.url)
+    replayed = Client(server.url)
     for cookie in person.cookies:
         replayed.cookies.set_cookie(cookie)
     assert [c.name for c in replayed.cookies] == ["sitecheck"]
@@ -90,18 +93,18 @@ def test_two_workers_share_log_ins_and_log_outs(home, serve):
 
 def test_two_workers_share_the_log_in_throttle(home, serve):
     server = serve(workers=2, env={"SITECHECK_LOG_JSON": "1"})
-    guesser = Person(server.url)
+    guesser = Client(server.url)
     for _ in range(4):
-        assert guesser.log_in("inspector0@example.test", "not the password").status == 401
+        assert guesser.try_log_in("inspector0@example.test", "not the password").status == 401
     for _round in range(3):
-        assert guesser.log_in("inspector0@example.test", "not the password").status == 401
+        assert guesser.try_log_in("inspector0@example.test", "not the password").status == 401
         # Right after a failure past the fifth the account waits a moment from this address,
         # whichever worker is asked: ten tries at once with the right password, spread over
         # both workers (again after the wait, if one worker happened to take them all).
         answers: list[int] = []
 
         def try_once(answers=answers) -> None:
-            answers.append(guesser.log_in("inspector0@example.test", PASSWORD).status)
+            answers.append(guesser.try_log_in("inspector0@example.test", PASSWORD).status)
 
         tries = [threading.Thread(target=try_once) for _ in range(10)]
         for t in tries:
@@ -128,7 +131,7 @@ def test_of_two_workers_one_sends_the_mail_and_each_message_goes_once(home, serv
                 "SITECHECK_BASE_URL": "http://sitecheck.firm.example",
             },
         )
-        engineer = Person(server.url)
+        engineer = Client(server.url)
         assert engineer.log_in("engineer@example.test", PASSWORD).status == 302
         conn = sqlite3.connect(home / "sitecheck.db")
         (site_id,) = conn.execute("SELECT id FROM sites").fetchone()
@@ -161,7 +164,7 @@ def test_of_two_workers_one_sends_the_mail_and_each_message_goes_once(home, serv
 
 def test_waitress_serves_from_one_process_where_asked(home, serve):
     server = serve(args=("--server", "waitress"), env={"SITECHECK_LOG_JSON": "1"})
-    person = Person(server.url)
+    person = Client(server.url)
     assert person.log_in("inspector0@example.test", PASSWORD).status == 302
     assert person.get("/").status == 200
     assert "one process, 4 threads (waitress)" in server.printed()
@@ -171,7 +174,7 @@ def test_waitress_serves_from_one_process_where_asked(home, serve):
 
 def test_two_workers_asked_at_once_make_one_site_record(home, serve):
     server = serve(workers=2, env={"SITECHECK_LOG_JSON": "1"})
-    engineer = Person(server.url)
+    engineer = Client(server.url)
     assert engineer.log_in("engineer@example.test", PASSWORD).status == 302
     conn = sqlite3.connect(home / "sitecheck.db")
     (site_id,) = conn.execute("SELECT id FROM sites").fetchone()

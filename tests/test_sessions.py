@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import pytest
 
+from kit.web import PASSWORD
 from sitecheck import credentials, invitations, resets, sessions, store
-from webkit import PASSWORD
 
 RULES = (credentials.ACCOUNT_AT_ADDRESS, credentials.ANY_ACCOUNT_AT_ADDRESS)
 HOME = "192.0.2.10"  # a documentation address (RFC 5737)

@@ -7,8 +7,7 @@ Real app, real SQLite file, a test client per person.
 
 from __future__ import annotations
 
-from test_web_review import as_designed, bearing_named, decide_form, decision_url, record
-
+from kit.review_steps import as_designed, bearing_named, decide_form, decision_url, record
 from sitecheck import services
 
 

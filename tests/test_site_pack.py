@@ -13,8 +13,8 @@ from datetime import UTC, datetime
 
 import pytest
 
+from kit.web import csrf_token
 from sitecheck import services, store
-from webkit import csrf_token
 
 
 def _pack(client, site, since=None) -> dict:

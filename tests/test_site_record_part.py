@@ -17,10 +17,11 @@ from datetime import UTC, date, datetime
 import pytest
 from pypdf import PdfReader
 
-from liveserver import Client, LiveServer
+from kit.client import Client
+from kit.servers import LiveServer
+from kit.web import PASSWORD
 from sitecheck import services, store
 from sitecheck.store import Selection
-from webkit import PASSWORD
 
 EARLY, LATE = "2026-03-02T10:00:00Z", "2026-03-20T10:00:00Z"
 

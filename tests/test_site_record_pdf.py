@@ -18,9 +18,10 @@ from html import unescape
 import pytest
 from PIL import Image
 from pypdf import PdfReader
-from test_report import _finished, _start
-from test_web_review import bearing_named, decide_form, decision_url, fails_unmeasured, record
 
+from kit.review_steps import bearing_named, decide_form, decision_url, fails_unmeasured, record
+from kit.site_record import record_made, start_record
+from kit.web import csrf_token
 from sitecheck import services, store, workflow
 from sitecheck.bearing import SOURCES, CodeBasis
 from sitecheck.bearing.review import ReviewSettings
@@ -32,7 +33,6 @@ from sitecheck.settings_words import (
     REVIEW_LABELS,
     TABLE_TITLES,
 )
-from webkit import csrf_token
 
 SENTENCE = "The wall below is solid brick, checked by hand on site today."
 STATEMENT = "I have reviewed every bearing of this site record and the decisions in it."
@@ -46,8 +46,8 @@ def pages_of(data: bytes) -> list[str]:
 def the_pdf(client, site) -> bytes:
     """The site record as a person gets it: made in the background, then downloaded."""
     app = client.application
-    assert _start(client, site["id"]).status_code == 302
-    _finished(app, site["id"])
+    assert start_record(client, site["id"]).status_code == 302
+    record_made(app, site["id"])
     r = client.get(f"/sites/{site['id']}/record.pdf")
     data = r.data
     r.close()

@@ -5,8 +5,7 @@ vectors, so a symbol new to the core fails here until it has words."""
 
 from __future__ import annotations
 
-from mirror_compare import load_shared_vectors
-
+from kit.mirror_compare import load_shared_vectors
 from sitecheck.web.symbols import SYMBOL_WORDS, words_for
 
 

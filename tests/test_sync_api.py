@@ -15,13 +15,13 @@ from pathlib import Path
 
 import pytest
 
-from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
+from kit.photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
+from kit.web import csrf_token
 from sitecheck import services, store, workflow
 from sitecheck.web import sync
 from sitecheck.web.assets import shell_digest
 from sitecheck.web.inspect import survey_order
 from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
-from webkit import csrf_token
 
 SW = Path(__file__).resolve().parent.parent / "static" / "sw.js"
 

@@ -6,7 +6,7 @@ from dataclasses import replace
 
 import pytest
 
-from bearings import across_on_padstone, brick_in_line_end
+from kit.bearing_inputs import across_on_padstone, brick_in_line_end
 from sitecheck.bearing import (
     Beam,
     InputError,

@@ -14,9 +14,9 @@ from pathlib import Path
 import pytest
 from PIL import Image
 
-from photo_samples import encode, flood_png, jpeg_markers, make_test_jpeg
+from kit.photo_samples import encode, flood_png, jpeg_markers, make_test_jpeg
+from kit.web import csrf_token, new_site
 from sitecheck import services, store
-from webkit import csrf_token, new_site
 
 REFERENCE = "GF-B1-E"  # designed with a 440 × 215 × 140 padstone, utilisation 0.60
 
@@ -790,7 +790,7 @@ def test_a_form_sent_without_javascript_has_no_phone_verdict_to_compare(client_a
 
 
 def test_the_new_as_built_fields_show_what_was_designed():
-    from bearings import across_on_padstone
+    from kit.bearing_inputs import across_on_padstone
     from sitecheck.bearing.serial import input_to_dict
     from sitecheck.web.record_form import SPECS, designed_text
 

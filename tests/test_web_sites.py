@@ -18,6 +18,7 @@ from markupsafe import escape
 from werkzeug.datastructures import FileStorage
 from werkzeug.test import encode_multipart
 
+from kit.web import csrf_token, post
 from sitecheck import credentials, services, store, workflow
 from sitecheck.bearing import SOURCES, basis_from_dict
 from sitecheck.bearing.review import settings_from_dict
@@ -72,15 +73,6 @@ GOOD = {
 
 
 # --- helpers ------------------------------------------------------------------------------------
-
-
-def post(client, url, data=None, **kw):
-    return client.post(url, data={**(data or {}), "csrf_token": csrf_token(client)}, **kw)
-
-
-def csrf_token(client) -> str:
-    # Defined here: "conftest" names more than one module once the browser tests are collected.
-    return client.get("/api/csrf").get_json()["token"]
 
 
 def post_large(client, url, fields):

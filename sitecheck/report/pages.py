@@ -14,7 +14,7 @@ text reads "page 10001 of 10001" exactly, at any size.
 
 fpdf2 has no way to be given a page already compressed, so the content stream it makes of
 each page is replaced by one that takes a packed page as it is (and any other content as
-before). The document reads back whole (tests/test_report.py and tests/test_site_record
+before). The document reads back whole (tests/report/ and tests/test_site_record_*.py
 read every PDF they make), which is what would catch a change of fpdf2's inner workings.
 """
 

@@ -1,36 +1,19 @@
 """Browser fixtures: a real server on 127.0.0.1 over a demo database, and Debian's
-chromium driven by Playwright on a phone-sized, touch viewport.
-
-Playwright's own browser download does not work here; ``executable_path`` points at
-Debian's ``chromium`` (scripts/test installs it).
+chromium driven by Playwright on a phone-sized, touch viewport (kit/chromium.py).
 """
 
 from __future__ import annotations
 
-import os
-import shutil
-import threading
 from pathlib import Path
 
 import pytest
 from playwright.sync_api import expect
-from werkzeug.serving import make_server
 
+from kit.chromium import CHROMIUM, CHROMIUM_ARGS, phone
+from kit.servers import LiveServer
 from sitecheck.demo import build_demo
 from sitecheck.web import create_app
 
-CHROMIUM = os.environ.get("CHROMIUM_PATH") or shutil.which("chromium")
-CHROMIUM_ARGS = [
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-dev-shm-usage",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--disable-quic",
-    "--no-first-run",
-    "--no-default-browser-check",
-]
 ARTEFACTS = Path(__file__).resolve().parents[2] / "test-results"
 expect.set_options(timeout=10_000)  # 2-core CI under load
 
@@ -39,19 +22,6 @@ def pytest_collection_modifyitems(items):
     for item in items:
         if "tests/browser/" in str(item.fspath):
             item.add_marker(pytest.mark.browser)
-
-
-class LiveServer:
-    def __init__(self, app):
-        self.app = app
-        self._srv = make_server("127.0.0.1", 0, app, threaded=True)
-        self.url = f"http://127.0.0.1:{self._srv.server_port}"
-        self._thread = threading.Thread(target=self._srv.serve_forever, daemon=True)
-        self._thread.start()
-
-    def stop(self):
-        self._srv.shutdown()
-        self._thread.join(5)
 
 
 @pytest.fixture(scope="session")
@@ -83,9 +53,7 @@ def browser_type_launch_args(browser_type_launch_args):
 
 @pytest.fixture(scope="session")
 def browser_context_args(browser_context_args, playwright):
-    phone = dict(playwright.devices["Pixel 7"])
-    phone.pop("default_browser_type", None)
-    return {**browser_context_args, **phone}
+    return {**browser_context_args, **phone(playwright)}
 
 
 @pytest.fixture

@@ -16,7 +16,7 @@ import uuid as uuid_module
 
 from playwright.sync_api import Page, expect
 
-from phone import (
+from kit.phone import (
     DRAFTS,
     OUTBOX,
     REFUSED,
@@ -25,7 +25,7 @@ from phone import (
     log_in,
     open_record_form,
 )
-from photo_samples import make_test_jpeg
+from kit.photo_samples import make_test_jpeg
 from sitecheck.demo import BRICK_WING_NAME, SITE_NAME
 
 

@@ -18,8 +18,8 @@ import uuid as uuid_module
 import pytest
 from playwright.sync_api import Page, expect
 
-from phone import OUTBOX, REFUSED, fill_as_designed, log_in, open_record_form
-from photo_samples import make_test_jpeg
+from kit.phone import OUTBOX, REFUSED, fill_as_designed, log_in, open_record_form
+from kit.photo_samples import make_test_jpeg
 from sitecheck import store
 from sitecheck.demo import DEMO_PEOPLE, SITE_NAME
 

@@ -12,7 +12,7 @@ import sqlite3
 
 from playwright.sync_api import expect
 
-from phone import keep_site, log_in, open_site
+from kit.phone import keep_site, log_in, open_site
 from sitecheck.demo import SITE_NAME
 
 

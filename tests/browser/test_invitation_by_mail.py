@@ -6,18 +6,17 @@ link. Screenshots land in test-results/ to be looked at."""
 from __future__ import annotations
 
 import re
-import threading
 from pathlib import Path
 
 import pytest
 from playwright.sync_api import expect
-from werkzeug.serving import make_server
 
-from phone import log_in, open_site
+from kit.phone import log_in, open_site
+from kit.servers import LiveServer, free_port
+from kit.smtp_server import LocalMailServer
 from sitecheck.demo import SITE_NAME, build_demo
 from sitecheck.mail import MailSettings
 from sitecheck.web import create_app
-from smtp_local import LocalMailServer, free_port
 
 ARTEFACTS = Path(__file__).resolve().parents[2] / "test-results"
 NEWCOMER = "rosa.newcomer@example.test"
@@ -35,12 +34,9 @@ def mailed_server(tmp_path):
         host="127.0.0.1", port=smtp.port, sender="sitecheck@tanners-yard.example", base_url=url
     )
     app = create_app(db_path, MAIL=mail)
-    server = make_server("127.0.0.1", port, app, threaded=True)
-    thread = threading.Thread(target=server.serve_forever, daemon=True)
-    thread.start()
+    server = LiveServer(app, port=port)
     yield {"url": url, "smtp": smtp}
-    server.shutdown()
-    thread.join(5)
+    server.stop()
     app.extensions["mail_sender"].stop()
     smtp.stop()
 

@@ -12,7 +12,7 @@ from datetime import UTC, datetime
 import pytest
 from playwright.sync_api import Page, expect
 
-from phone import log_in_as, record_offline, wait_for_worker
+from kit.phone import log_in_as, record_offline, wait_for_worker
 from sitecheck import credentials, services, store
 from sitecheck.demo import schedule_csv
 from sitecheck.schedule import parse_schedule

@@ -1,7 +1,7 @@
 """The phone's mirror of the calculation core, held equal to Python in a real browser: every
 ``check`` and ``errors`` case of the shared vectors runs through static/js/bearing/ and what
 comes back must match what the Python core wrote, every figure within a relative 1e-9 and
-every word exactly (tests/mirror_compare.py).
+every word exactly (tests/kit/mirror_compare.py).
 
 The cases come from the committed file (tests/test_vectors.py keeps it equal to the core),
 so the phone is held to what the server gives.
@@ -13,8 +13,8 @@ import random
 import struct
 
 import pytest
-from mirror_compare import differences, load_shared_vectors
 
+from kit.mirror_compare import differences, load_shared_vectors
 from sitecheck.bearing.format import number, quantity, utilisation
 
 SHOWN = 20  # differences printed on a failure

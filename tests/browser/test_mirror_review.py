@@ -2,7 +2,7 @@
 Python core: every review and remedy case of the shared vectors is run in the browser
 through static/js/bearing/ (record.js's recheckRecord, remedy.js's remedy) and what comes
 back must match what the Python core wrote into the vectors, every figure within a relative
-1e-9 and every word exactly (tests/mirror_compare.py).
+1e-9 and every word exactly (tests/kit/mirror_compare.py).
 
 The cases come from the committed file, so the phone is held to what the server gives.
 """
@@ -10,8 +10,8 @@ The cases come from the committed file, so the phone is held to what the server 
 from __future__ import annotations
 
 import pytest
-from mirror_compare import differences, load_shared_vectors
 
+from kit.mirror_compare import differences, load_shared_vectors
 from sitecheck.bearing.review import settings_from_dict
 
 SHOWN = 20  # differences printed on a failure

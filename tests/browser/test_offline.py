@@ -18,8 +18,8 @@ from datetime import UTC, datetime, timedelta
 import pytest
 from playwright.sync_api import Page, expect
 
-from phone import OUTBOX, REFUSED, SW_CONTROLLED, keep_site, log_in_as, record_offline
-from photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
+from kit.phone import OUTBOX, REFUSED, SW_CONTROLLED, keep_site, log_in_as, record_offline
+from kit.photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from sitecheck import credentials, store, workflow
 from sitecheck.bearing.typed import NumberRefused, read_number
 from sitecheck.demo import BRICK_WING_NAME, DEMO_PEOPLE

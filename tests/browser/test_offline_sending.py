@@ -21,8 +21,9 @@ from pathlib import Path
 import pytest
 from playwright.sync_api import Page, expect
 
-from phone import OUTBOX, REFUSED, ServerProcess, keep_site, record_offline
-from photo_samples import make_test_jpeg
+from kit.phone import OUTBOX, REFUSED, keep_site, record_offline
+from kit.photo_samples import make_test_jpeg
+from kit.servers import ServerProcess
 from sitecheck.demo import BRICK_WING_NAME, SITE_NAME, build_demo
 
 # Bearings of the demo's Block C whose references no other reference contains, each with a

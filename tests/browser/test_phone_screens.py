@@ -17,10 +17,10 @@ import sqlite3
 from pathlib import Path
 
 import pytest
-from mirror_compare import load_shared_vectors
 from playwright.sync_api import Page, expect
 
-from phone import keep_site, log_in, open_record_form
+from kit.mirror_compare import load_shared_vectors
+from kit.phone import keep_site, log_in, open_record_form
 from sitecheck.demo import BRICK_WING_NAME, SITE_NAME
 from sitecheck.web.record_form import CORE_PATHS, SPECS
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from playwright.sync_api import expect
 
-from phone import log_in
+from kit.phone import log_in
 
 
 def test_log_in_on_a_phone_shows_the_sites(page, shoot):

@@ -11,7 +11,7 @@ import json
 
 from playwright.sync_api import Page, expect
 
-from phone import keep_site, log_in, open_site
+from kit.phone import keep_site, log_in, open_site
 from sitecheck import services, store
 from sitecheck.bearing.remedy import remedy
 from sitecheck.demo import SITE_NAME

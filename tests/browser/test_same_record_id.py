@@ -9,7 +9,7 @@ import sqlite3
 
 from playwright.sync_api import Page, expect
 
-from phone import OUTBOX, REFUSED, keep_site, record_offline
+from kit.phone import OUTBOX, REFUSED, keep_site, record_offline
 from sitecheck.demo import BRICK_WING_NAME
 
 

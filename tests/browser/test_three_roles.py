@@ -9,8 +9,8 @@ import sqlite3
 
 from playwright.sync_api import expect
 
-from phone import log_in, log_out, open_site
-from photo_samples import make_test_jpeg
+from kit.phone import log_in, log_out, open_site
+from kit.photo_samples import make_test_jpeg
 from sitecheck.demo import SITE_NAME
 
 

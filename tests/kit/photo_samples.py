@@ -6,6 +6,7 @@ Every position, time and payload here is invented for tests.
 from __future__ import annotations
 
 import io
+import random
 import struct
 import zlib
 from datetime import datetime
@@ -131,8 +132,6 @@ def make_wall_photo(width: int, height: int, *, seed: int = 3, quality: int = 85
     """An invented photo of a block wall as the phone sends it: blocks of uneven shade with
     pits, mortar joints, light falling off across the picture, a lens's softness and a
     little sensor noise. Edges, texture and noise, so that how a picture is shrunk shows."""
-    import random
-
     from PIL import ImageDraw, ImageFilter
 
     rng = random.Random(seed)
@@ -234,3 +233,13 @@ def jpeg_markers(jpeg: bytes) -> tuple[list[int], int]:
                     continue
                 break
     raise AssertionError("no end-of-image marker")
+
+
+def noisy_jpeg(seed: int, width: int = 640, height: int = 480, quality: int = 85) -> bytes:
+    """A real JPEG of seeded noise: each seed a different picture, and large for its size as
+    a site photo is (640 × 480 at quality 85 is about 300 KB)."""
+    rng = random.Random(seed)
+    image = Image.frombytes("RGB", (width, height), rng.randbytes(width * height * 3))
+    buffer = io.BytesIO()
+    image.save(buffer, "JPEG", quality=quality)
+    return buffer.getvalue()

@@ -1,8 +1,8 @@
-"""A real server on 127.0.0.1 and a plain HTTP client with its own cookies, for tests that
-send what a phone, a browser or an attacker would send, several at once.
+"""One person's browser reduced to cookies and requests, for tests that talk to a real
+server over HTTP (kit.servers): what a phone, a browser or an attacker would send.
 
-The server is werkzeug's threaded one over the real app and a real SQLite file; each
-client is one person's cookie jar, so threads can act as several people at the same time.
+Each ``Client`` is one cookie jar, so threads can act as several people at once.
+Redirects are not followed: a test looks at the redirect itself.
 """
 
 from __future__ import annotations
@@ -10,30 +10,11 @@ from __future__ import annotations
 import http.cookiejar
 import json
 import re
-import threading
 import urllib.error
 import urllib.parse
 import urllib.request
 import uuid
 from dataclasses import dataclass
-
-from werkzeug.serving import make_server
-
-
-class LiveServer:
-    def __init__(self, app):
-        self.app = app
-        self._srv = make_server("127.0.0.1", 0, app, threaded=True)
-        self.url = f"http://127.0.0.1:{self._srv.server_port}"
-        self._thread = threading.Thread(target=self._srv.serve_forever, daemon=True)
-        self._thread.start()
-
-    def stop(self) -> None:
-        if not self._thread.is_alive():
-            return
-        self._srv.shutdown()
-        self._srv.server_close()
-        self._thread.join(5)
 
 
 @dataclass
@@ -52,7 +33,7 @@ class Answer:
 
 class _NoRedirects(urllib.request.HTTPRedirectHandler):
     def redirect_request(self, *args, **kwargs):
-        return None  # a test looks at the redirect itself
+        return None
 
 
 class Client:
@@ -83,20 +64,25 @@ class Client:
     def token(self) -> str:
         return self.get("/api/csrf").json()["token"]
 
-    def log_in(self, email: str, password: str) -> None:
+    def try_log_in(self, email: str, password: str) -> Answer:
+        """The log-in form sent as typed; the answer says whether it worked."""
         page = self.get("/login").text
         token = re.search(r'name="csrf_token" type="hidden" value="([^"]+)"', page).group(1)
-        answer = self.post_form("/login", {"email": email, "password": password}, token=token)
+        return self.post_form("/login", {"email": email, "password": password}, token=token)
+
+    def log_in(self, email: str, password: str) -> Answer:
+        """Logged in, or the test fails here."""
+        answer = self.try_log_in(email, password)
         assert answer.status == 302, answer.text[:400]
+        return answer
 
     def post_form(self, path: str, fields: dict, *, token: str | None = None) -> Answer:
         data = dict(fields)
         data["csrf_token"] = token or self.token()
-        body = urllib.parse.urlencode(data).encode()
         return self.request(
             "POST",
             path,
-            body=body,
+            body=urllib.parse.urlencode(data).encode(),
             headers={"Content-Type": "application/x-www-form-urlencoded"},
         )
 

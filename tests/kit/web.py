@@ -4,10 +4,18 @@ from __future__ import annotations
 
 PASSWORD = "correct horse battery"  # the test accounts' password (tests only)
 
+# The people fixture's roles (tests/conftest.py), the one on no site last.
+ROLES = ("engineer", "inspector", "contractor", "viewer", "outsider")
+
 
 def csrf_token(client) -> str:
     """A fresh token for the client's session, as the phone gets one before sending."""
     return client.get("/api/csrf").get_json()["token"]
+
+
+def post(client, url, data=None, **kw):
+    """A form posted as the page would post it, with a fresh CSRF token."""
+    return client.post(url, data={**(data or {}), "csrf_token": csrf_token(client)}, **kw)
 
 
 def new_site(db, *, name: str, created_by: int, address: str = "") -> dict:

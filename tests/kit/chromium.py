@@ -1,8 +1,13 @@
-"""Debian's chromium as the benchmarks drive it: the same switches as the browser tests
-(tests/browser/conftest.py), on a Pixel 7-sized, touch viewport."""
+"""Debian's chromium as the browser tests and the benchmarks drive it: one set of switches,
+on a Pixel 7-sized, touch viewport. Playwright's own browser download does not work here;
+``executable_path`` points at Debian's ``chromium`` (scripts/test installs it)."""
 
 from __future__ import annotations
 
+import os
+import shutil
+
+CHROMIUM = os.environ.get("CHROMIUM_PATH") or shutil.which("chromium")
 CHROMIUM_ARGS = [
     "--no-sandbox",
     "--disable-gpu",
@@ -16,8 +21,8 @@ CHROMIUM_ARGS = [
 ]
 
 
-def launch(playwright, chromium: str):
-    return playwright.chromium.launch(executable_path=chromium, args=CHROMIUM_ARGS)
+def launch(playwright, chromium: str | None = None):
+    return playwright.chromium.launch(executable_path=chromium or CHROMIUM, args=CHROMIUM_ARGS)
 
 
 def phone(playwright) -> dict:

@@ -1,20 +1,8 @@
-"""What a person does on the phone, step by step, for the browser tests; and the server the
-phone talks to, as a process a test can kill and start again.
-
-Run as a script, this module is that server's process (see ``ServerProcess``).
+"""What a person does on the phone, step by step, for the browser tests. (The server the
+phone talks to, as a process a test can kill and start again, is kit.servers.ServerProcess.)
 """
 
 from __future__ import annotations
-
-import os
-import signal
-import socket
-import subprocess
-import sys
-import time
-import urllib.error
-import urllib.request
-from pathlib import Path
 
 from playwright.sync_api import Page, expect
 
@@ -138,111 +126,6 @@ def record_offline(
     )
     expect(form).to_be_hidden()
     return page.locator("body").get_attribute("data-last-saved")
-
-
-# --- a server process to kill ------------------------------------------------------------------
-
-
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
-class ServerProcess:
-    """The app in its own process (waitress, as ``sitecheck serve`` runs it) on one port and
-    one SQLite file, so a test can kill it hard (SIGKILL) and start it again where the phone
-    expects it: same origin, same cookie key (kept beside the database), same outbox.
-
-    ``die_after_acks=n`` makes the process kill itself once its n-th successful answer to a
-    POST under /api/ is ready but not yet sent: the record or photo is committed and the
-    phone never hears so (a lost acknowledgement, the hardest moment to die).
-    """
-
-    def __init__(self, db_path: Path, *, csrf_time_limit: int | None = None):
-        self.db_path = Path(db_path)
-        self.port = free_port()
-        self.url = f"http://127.0.0.1:{self.port}"
-        self.csrf_time_limit = csrf_time_limit
-        self.log = self.db_path.with_suffix(".log")
-        self.proc: subprocess.Popen | None = None
-
-    def start(self, *, die_after_acks: int = 0, timeout: float = 30) -> None:
-        args = [sys.executable, __file__, "serve", str(self.db_path), str(self.port)]
-        args += [str(die_after_acks), str(self.csrf_time_limit or 0)]
-        with open(self.log, "ab") as log:
-            self.proc = subprocess.Popen(args, stdout=log, stderr=subprocess.STDOUT)
-        deadline = time.monotonic() + timeout
-        while time.monotonic() < deadline:
-            if self.proc.poll() is not None:
-                raise RuntimeError(f"the server exited at start; see {self.log}")
-            try:
-                with urllib.request.urlopen(self.url + "/login", timeout=2) as r:
-                    if r.status == 200:
-                        return
-            except (urllib.error.URLError, ConnectionError, TimeoutError):
-                time.sleep(0.1)
-        raise RuntimeError(f"the server did not answer on {self.url} in {timeout} s")
-
-    @property
-    def alive(self) -> bool:
-        return self.proc is not None and self.proc.poll() is None
-
-    def wait_for_death(self, timeout: float = 30) -> int:
-        assert self.proc is not None
-        return self.proc.wait(timeout)
-
-    def kill(self) -> None:
-        if self.alive:
-            os.kill(self.proc.pid, signal.SIGKILL)  # only the process this object started
-            self.proc.wait(10)
-
-
-def _dying_after(app, acks: int):
-    """WSGI wrapper: SIGKILL this process after ``acks`` successful POST answers under /api/,
-    once each is built (committed) and before its bytes leave."""
-    import threading
-
-    lock = threading.Lock()
-    seen = [0]
-
-    def wsgi(environ, start_response):
-        status: list[str] = []
-
-        def capture(s, headers, exc_info=None):
-            status.append(s)
-            return start_response(s, headers, exc_info)
-
-        body = app(environ, capture)
-        counted = (
-            environ["REQUEST_METHOD"] == "POST"
-            and environ["PATH_INFO"].startswith("/api/")
-            and status
-            and status[0].startswith("2")
-        )
-        if counted:
-            with lock:
-                seen[0] += 1
-                if seen[0] == acks:
-                    os.kill(os.getpid(), signal.SIGKILL)
-        return body
-
-    return wsgi
-
-
-def _serve(db_path: str, port: int, die_after_acks: int, csrf_time_limit: int) -> None:
-    from waitress import serve
-
-    from sitecheck.web import create_app
-
-    config = {"WTF_CSRF_TIME_LIMIT": csrf_time_limit} if csrf_time_limit else {}
-    app = create_app(db_path, **config)
-    wsgi = _dying_after(app, die_after_acks) if die_after_acks else app
-    serve(wsgi, host="127.0.0.1", port=port, threads=4, ident="sitecheck-test")
-
-
-if __name__ == "__main__" and sys.argv[1:2] == ["serve"]:
-    _serve(sys.argv[2], int(sys.argv[3]), int(sys.argv[4]), int(sys.argv[5]))
 
 
 # --- the as-built form online, through the phone's outbox -----------------------------------------

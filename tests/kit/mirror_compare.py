@@ -15,7 +15,7 @@ import pytest
 
 from devtools.vectors import DEFAULT_PATH, REWRITE, read_text
 
-VECTORS = Path(__file__).resolve().parent.parent / DEFAULT_PATH
+VECTORS = Path(__file__).resolve().parents[2] / DEFAULT_PATH
 
 RELATIVE = 1e-9
 # Below this, two figures are both rounding noise around zero (a stress of 1e-13 N/mm²

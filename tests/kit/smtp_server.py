@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import email
-import socket
 import ssl
 import subprocess
 import threading
@@ -14,11 +13,7 @@ from pathlib import Path
 from aiosmtpd.controller import Controller
 from aiosmtpd.smtp import AuthResult
 
-
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
+from kit.servers import free_port
 
 
 class Inbox:
