@@ -9,13 +9,14 @@ from __future__ import annotations
 
 import contextlib
 import functools
-import json
 import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any, Protocol
+
+import orjson
 
 from sitecheck import store, workflow
 from sitecheck.bearing import (
@@ -102,26 +103,44 @@ def default_site_settings(basis_name: str | None = None) -> tuple[Row, Row]:
 def basis_for(site: Row) -> CodeBasis:
     if not site.get("code_basis"):
         return ec6_uk_na()
-    return _basis_from_text(json.dumps(site["code_basis"], sort_keys=True))
+    return _basis_from_text(_text_of(site["code_basis"]))
 
 
 def settings_for(site: Row) -> ReviewSettings:
     if not site.get("review_settings"):
         return ReviewSettings()
-    return _settings_from_text(json.dumps(site["review_settings"], sort_keys=True))
+    return _settings_from_text(_text_of(site["review_settings"]))
+
+
+def _text_of(value: dict[str, Any]) -> bytes:
+    """A JSON value as one text whatever its keys' order: what the caches below are keyed by,
+    so a changed value is a new key and never meets what was kept for the old one."""
+    return orjson.dumps(value, option=orjson.OPT_SORT_KEYS)
 
 
 # A site's basis and settings are read on every record its phones send; rebuilding them
 # from their dicts each time cost more than the text they are kept as. Both are frozen, so
 # one copy serves every thread; a refusal (InputError) is never kept.
 @functools.lru_cache(maxsize=64)
-def _basis_from_text(text: str) -> CodeBasis:
-    return basis_from_dict(json.loads(text))
+def _basis_from_text(text: bytes) -> CodeBasis:
+    return basis_from_dict(orjson.loads(text))
 
 
 @functools.lru_cache(maxsize=64)
-def _settings_from_text(text: str) -> ReviewSettings:
-    return settings_from_dict(json.loads(text))
+def _settings_from_text(text: bytes) -> ReviewSettings:
+    return settings_from_dict(orjson.loads(text))
+
+
+# The design's own check, beside which each record's as-built is reviewed: bearings of one
+# design share it (a schedule repeats its lintels and padstones), so it is kept per design
+# and basis, both by value. Frozen, like the basis, so one copy serves every thread.
+@functools.lru_cache(maxsize=128)
+def _design_checked(
+    design_text: bytes, basis_text: bytes | None
+) -> tuple[BearingInput, BearingResult]:
+    design = input_from_dict(orjson.loads(design_text))
+    basis = _basis_from_text(basis_text) if basis_text is not None else ec6_uk_na()
+    return design, check_bearing(design, basis)
 
 
 def mirror_settings(site: Row) -> Row:
@@ -278,15 +297,15 @@ def recheck(
     the design as it stands, with the core's could-not-measure review in place of the
     comparison: there is nothing built to compare."""
     basis = basis_for(site)
-    design = design_of(bearing)
+    basis_text = _text_of(site["code_basis"]) if site.get("code_basis") else None
+    design, design_result = _design_checked(_text_of(bearing["design_input"]), basis_text)
     m = measurements_from_dict(measurements)
     c = checklist_from_dict(checklist)
     if why_not_measured is not None:
         reasons = could_not_measure(why_not_measured, m, c, settings_for(site))
-        return Recheck(design, check_bearing(design, basis), reasons)
+        return Recheck(design, design_result, reasons)
     built = as_built_input(design, m)
     result = check_bearing(built, basis)
-    design_result = check_bearing(design, basis)
     reasons = review(design, design_result, m, c, built, result, basis, settings_for(site))
     return Recheck(built, result, reasons)
 

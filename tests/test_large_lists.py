@@ -15,7 +15,38 @@ import pytest
 
 from sitecheck import services, store
 from sitecheck.schedule import DESIGN_COLUMNS
-from sitecheck.web.inspect import matches, survey_order
+
+
+def natural_key(text: str) -> tuple:
+    """The survey list's order of references as it was first written (in Python, before the
+    store kept it in SQL): GF-B2 before GF-B10, digits as numbers, the rest without case."""
+    return tuple(
+        (1, int(part), "") if part.isdigit() else (0, 0, part.lower())
+        for part in re.split(r"(\d+)", text)
+        if part
+    )
+
+
+def survey_order(rows: list[dict]) -> list[dict]:
+    """The survey order as it was first written: to measure first (awaiting survey, then
+    remedial), then the rest, then bearings whose design fails; by reference within each.
+    ``rows`` by reference as the store lists them (ties keep that order)."""
+    ranks = {"awaiting survey": 0, "remedial": 1}
+    by_reference = sorted(rows, key=lambda b: natural_key(b["reference"]))
+    for n, b in enumerate(by_reference):
+        b["order"] = n
+    return sorted(
+        by_reference,
+        key=lambda b: (3 if not b["design_passed"] else ranks.get(b["state"], 2), b["order"]),
+    )
+
+
+def matches(bearing: dict, query: str) -> bool:
+    """The survey list's search as it was first written: every word in the reference or
+    the location, lowered as Python lowers text."""
+    text = f"{bearing['reference']} {bearing.get('location') or ''}".lower()
+    return all(word in text for word in query.lower().split())
+
 
 EXTRA = 230  # beside the demo schedule's 11: three pages of the schedule, five of the list
 

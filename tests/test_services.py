@@ -90,3 +90,65 @@ def test_a_refused_release_is_written_down(db, site, people):
         )
     kinds = [e["kind"] for e in store.events_for(db, site_id=site["id"], bearing_id=bearing["id"])]
     assert "release refused" in kinds
+
+
+def test_a_changed_code_basis_is_used_by_the_next_record_design_and_as_built_alike(
+    db, site, people
+):
+    # The design's check is kept per design and basis; a new basis must never meet the
+    # design's check under the old one. As designed, the as-built's utilisation is the
+    # design's under the same basis: nothing rose, whatever the basis.
+    from dataclasses import replace
+
+    from sitecheck.bearing.recheck import check_bearing
+
+    first, before = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    assert first.state == "within design"
+    basis = services.basis_for(site)
+    # γ_M at the top of what the settings accept (5.0) divides the masonry's strength by
+    # more: the same bearing is far more utilised under it.
+    harsher = replace(basis, gamma_M_ec6=tuple((k, 5.0) for k, _v in basis.gamma_M_ec6))
+    # A review that notices any rise at all.
+    keen = services.settings_for(site).as_dict() | {"rise_margin": 0.01}
+    store.update_site_settings(
+        db,
+        site_id=site["id"],
+        user_id=people["engineer"].id,
+        code_basis=harsher.to_dict(),
+        review_settings=keen,
+    )
+    site = store.get_site(db, site["id"])
+    assert services.basis_for(site) == harsher
+    second, rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC) + timedelta(minutes=1))
+    assert rc.result == check_bearing(rc.as_built, harsher)
+    # Against the design's check under the old basis it would have risen past the margin.
+    margin = services.settings_for(site).rise_margin
+    assert rc.result.utilisation > before.result.utilisation + margin
+    assert "utilisation-rise" not in [r.code for r in rc.reasons]
+
+
+def test_a_record_that_leaves_the_state_as_it_was_moves_only_the_latest_record(db, site, people):
+    first, _rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    bearing = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    second, _rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC) + timedelta(minutes=1))
+    after = store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
+    assert first.state == second.state == after["state"] == "within design"
+    assert after["state_changed_at"] == bearing["state_changed_at"]
+    assert after["latest_record_uuid"] == second.row["uuid"] != first.row["uuid"]
+    event = store.events_for(db, site_id=site["id"])[0]  # newest first
+    assert event["kind"] == "record received"
+    assert event["detail"]["before"]["latest_record_uuid"] == first.row["uuid"]
+    assert event["detail"]["after"] == {
+        "state": "within design",
+        "latest_record_uuid": second.row["uuid"],
+    }
+
+
+def test_a_new_record_is_answered_with_the_row_as_stored(db, site, people):
+    # The row comes back from the insert itself; it must be the row a later read gives.
+    stored, _rc = _record(db, site, people, "GF-B1-E", datetime.now(UTC))
+    assert stored.created
+    assert stored.row == store.record_line(db, site_id=site["id"], uuid=stored.row["uuid"])
+    assert stored.row["kind"] == "measured" and stored.row["older_revision"] is False
+    again, _rc = _record(db, site, people, "GF-B2-N", datetime.now(UTC))
+    assert again.row == store.record_line(db, site_id=site["id"], uuid=again.row["uuid"])

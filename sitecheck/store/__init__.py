@@ -178,6 +178,14 @@ from sitecheck.store.sites import (
     sites_named,
     update_site_settings,
 )
+from sitecheck.store.survey import (
+    SurveyCounts,
+    SurveyRanks,
+    reference_order_key,
+    survey_counts,
+    survey_lines,
+    survey_next,
+)
 from sitecheck.store.upkeep import (
     applied_migrations,
     copy_database,
@@ -323,6 +331,12 @@ __all__ = [
     "reopenings_for",
     "review_queue",
     "revise_bearing",
+    "SurveyCounts",
+    "SurveyRanks",
+    "reference_order_key",
+    "survey_counts",
+    "survey_lines",
+    "survey_next",
     "revoke_all_sessions_for_user",
     "revoke_session",
     "role_of",

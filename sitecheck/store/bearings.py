@@ -40,6 +40,7 @@ from sitecheck.store.base import (
 from sitecheck.store.errors import DuplicateReference, NotFound, StaleState
 from sitecheck.store.events import add_event
 from sitecheck.store.migrations import STATES
+from sitecheck.store.survey import reference_order_key
 
 RELEASED = "released"
 # Mirrors sitecheck.workflow.can_release (the store may not import the layer above it); a test
@@ -61,6 +62,22 @@ def known_state(state: str) -> str:
 
 def existing_bearing(db: sqlite_utils.Database, site_id: str, bearing_id: str) -> Row:
     bearing = get_bearing(db, site_id=site_id, bearing_id=bearing_id)
+    if bearing is None:
+        raise NotFound("No such bearing on this site")
+    return bearing
+
+
+def bearing_to_move(db: sqlite_utils.Database, site_id: str, bearing_id: str) -> Row:
+    """The bearing as a move reads it (state, revision, latest record), without its design:
+    a record's transaction reads it again, as it stands once the write lock is held."""
+    bearing = one(
+        db,
+        """
+        SELECT id, site_id, reference, revision, state, state_changed_at, latest_record_uuid
+        FROM bearings WHERE id = ? AND site_id = ?
+        """,
+        [bearing_id, site_id],
+    )
     if bearing is None:
         raise NotFound("No such bearing on this site")
     return bearing
@@ -93,14 +110,21 @@ def move_state(
 ) -> None:
     """Set state (and optionally the latest record) and write the event, inside a transaction."""
     latest = bearing["latest_record_uuid"] if latest_record_uuid is None else latest_record_uuid
-    changed = new_state != bearing["state"]
-    db.execute(
-        """
-        UPDATE bearings SET state = ?, state_changed_at = ?, latest_record_uuid = ?
-        WHERE id = ?
-        """,
-        [new_state, at if changed else bearing["state_changed_at"], latest, bearing["id"]],
-    )
+    if new_state != bearing["state"]:
+        db.execute(
+            """
+            UPDATE bearings SET state = ?, state_changed_at = ?, latest_record_uuid = ?
+            WHERE id = ?
+            """,
+            [new_state, at, latest, bearing["id"]],
+        )
+    else:
+        # A state left as it was is not written: the indexes and guards on the state (four
+        # indexes, the hold point's trigger) then have nothing to do, as most records
+        # leave the state where it was.
+        db.execute(
+            "UPDATE bearings SET latest_record_uuid = ? WHERE id = ?", [latest, bearing["id"]]
+        )
     add_event(
         db,
         kind=kind,
@@ -140,8 +164,8 @@ def add_bearing(
                 """
                 INSERT INTO bearings (id, site_id, reference, location, revision, design_input,
                     design_governing, design_governing_title, design_utilisation, design_passed,
-                    state, state_changed_at, created_by, created_at)
-                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?)
+                    state, state_changed_at, created_by, created_at, reference_key)
+                VALUES (?, ?, ?, ?, 1, ?, ?, ?, ?, ?, 'awaiting survey', ?, ?, ?, ?)
                 """,
                 [
                     bearing_id,
@@ -155,6 +179,7 @@ def add_bearing(
                     now,
                     user_id,
                     now,
+                    reference_order_key(reference),
                 ],
             )
         except sqlite3.IntegrityError as error:

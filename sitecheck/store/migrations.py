@@ -9,6 +9,7 @@ import sqlite_utils
 from sqlite_utils import Migrations
 
 from sitecheck.store.base import pack_json, transaction
+from sitecheck.store.survey import reference_order_key
 
 MIGRATIONS = Migrations("sitecheck")
 
@@ -777,3 +778,45 @@ def m016_record_job_kinds(db: sqlite_utils.Database) -> None:
     )
     db.execute("DROP INDEX record_jobs_site")
     db.execute("CREATE INDEX record_jobs_site ON record_jobs(site_id, kind, selection, created_at)")
+
+
+@MIGRATIONS()
+def m017_survey_order(db: sqlite_utils.Database) -> None:
+    """The survey list is ordered in SQL: each bearing keeps its reference as it sorts when
+    read as people read it (store.survey.reference_order_key: GF-B2 before GF-B10), and an
+    index gives a site's bearings in that order, so a page of the list reads only its own
+    lines. A released bearing is locked, so its lock is lifted for the fill alone, inside
+    this migration's transaction, and comes back with the new column among those it keeps."""
+    db.conn.create_function("sitecheck_reference_key", 1, reference_order_key, deterministic=True)
+    db.execute("DROP TRIGGER bearings_released_locked")
+    db.execute("ALTER TABLE bearings ADD COLUMN reference_key TEXT")
+    db.execute("UPDATE bearings SET reference_key = sitecheck_reference_key(reference)")
+    db.execute(
+        _released_lock_trigger(
+            (
+                "id",
+                "site_id",
+                "location",
+                "revision",
+                "design_input",
+                "design_governing",
+                "design_governing_title",
+                "design_utilisation",
+                "design_passed",
+                "created_by",
+                "created_at",
+                "reference_key",
+            )
+        )
+    )
+    db.execute(
+        "CREATE TRIGGER bearings_reference_key BEFORE INSERT ON bearings "
+        "WHEN NEW.reference_key IS NULL "
+        "BEGIN SELECT RAISE(ABORT, 'bearings.reference_key must be given'); END"
+    )
+    # Everything the list orders, ranks, searches and counts by, so none of it reads a
+    # bearing's row (with its design, about 1.4 KB): a page reads its own rows only.
+    db.execute(
+        "CREATE INDEX bearings_survey ON bearings("
+        "site_id, reference_key, reference, id, state, design_passed, location)"
+    )

@@ -57,7 +57,9 @@ def pack_rows(db: sqlite_utils.Database, *, site_id: str, since: str | None = No
         if changed is None:
             lines = many(
                 db,
-                f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? ORDER BY b.id",
+                # By reference, as every list of the site: the survey order breaks ties so.
+                f"SELECT {_PACK_LINE} FROM bearings b WHERE b.site_id = ? "
+                "ORDER BY b.reference, b.id",
                 [site_id],
             )
             removed: list[str] = []

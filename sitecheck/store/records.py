@@ -16,6 +16,7 @@ import sqlite_utils
 from sitecheck.store.base import (
     Row,
     canonical_uuid,
+    decode_row,
     many,
     one,
     pack_json,
@@ -31,7 +32,7 @@ from sitecheck.store.base import (
 from sitecheck.store.bearings import (
     NEWEST_FIRST,
     RELEASED,
-    existing_bearing,
+    bearing_to_move,
     known_state,
     move_state,
     newest_record_uuid,
@@ -97,7 +98,7 @@ def insert_record(
         "why_not_measured": why_not_measured,
     }
     with transaction(db):
-        bearing = existing_bearing(db, site_id, bearing_id)
+        bearing = bearing_to_move(db, site_id, bearing_id)
         _revision_exists(bearing, design_revision)
         received = timestamp(now or utc_now())
         late = bearing["state"] == RELEASED
@@ -114,7 +115,7 @@ def insert_record(
             "blocking": blocking,
             "late": int(late),
         }
-        if not _insert_once(db, sent, kept):
+        if (inserted := _insert_once(db, sent, kept)) is None:
             return _stored_already(db, site_id, uuid, bearing, inspector_id, sent)
         is_newest = newest_record_uuid(db, bearing_id) == uuid
         if late:
@@ -129,7 +130,14 @@ def insert_record(
             "blocking": blocking,
         }
         _record_received(db, bearing, state, detail, inspector_id, received)
-    return _as_stored(db, site_id, uuid, created=True, state=state)
+    return _as_inserted(inserted, site_id, design_revision < bearing["revision"], state)
+
+
+def _as_inserted(inserted: Row, site_id: str, older_revision: bool, state: str) -> RecordStored:
+    """A record just stored, as :func:`record_line` reads it, from the row its insert
+    returned."""
+    row = {**inserted, "site_id": site_id, "older_revision": older_revision}
+    return RecordStored(row=present(decode_row(row), "the record"), created=True, state=state)
 
 
 def _revision_exists(bearing: Row, design_revision: int) -> None:
@@ -140,8 +148,12 @@ def _revision_exists(bearing: Row, design_revision: int) -> None:
         )
 
 
-def _insert_once(db: sqlite_utils.Database, sent: dict[str, Any], kept: dict[str, Any]) -> bool:
-    """Insert the record unless its uuid is stored already; True if this call stored it."""
+def _insert_once(
+    db: sqlite_utils.Database, sent: dict[str, Any], kept: dict[str, Any]
+) -> Row | None:
+    """Insert the record unless its uuid is stored already: the row as stored (the columns
+    :func:`record_line` reads, undecoded), or None when the uuid was stored before. The row
+    comes back from the insert itself, so the answer needs no second read."""
     columns = {
         **sent,
         "measurements": to_json(sent["measurements"]),
@@ -150,10 +162,12 @@ def _insert_once(db: sqlite_utils.Database, sent: dict[str, Any], kept: dict[str
     }
     cursor = db.execute(
         f"INSERT INTO as_built_records ({', '.join(columns)}) "
-        f"VALUES ({placeholders(columns)}) ON CONFLICT (uuid) DO NOTHING",
+        f"VALUES ({placeholders(columns)}) ON CONFLICT (uuid) DO NOTHING "
+        f"RETURNING {', '.join(RECORD_LINE_KEYS)}",
         list(columns.values()),
     )
-    return cursor.rowcount == 1
+    found = cursor.fetchone()
+    return None if found is None else dict(zip(RECORD_LINE_KEYS, found, strict=True))
 
 
 def _stored_already(
@@ -258,11 +272,26 @@ RECORD_COLUMNS = """
 
 
 # A record without its packed result: what a list or an answer shows of it.
-RECORD_LINE = """
-    r.uuid, r.bearing_id, r.design_revision, r.inspector_id, r.measured_at, r.received_at,
-    r.measurements, r.checklist, r.notes, r.governing, r.reasons, r.utilisation, r.passed,
-    r.blocking, r.late, r.why_not_measured, r.kind
-"""
+RECORD_LINE_KEYS = (
+    "uuid",
+    "bearing_id",
+    "design_revision",
+    "inspector_id",
+    "measured_at",
+    "received_at",
+    "measurements",
+    "checklist",
+    "notes",
+    "governing",
+    "reasons",
+    "utilisation",
+    "passed",
+    "blocking",
+    "late",
+    "why_not_measured",
+    "kind",
+)
+RECORD_LINE = ", ".join(f"r.{key}" for key in RECORD_LINE_KEYS)
 
 
 def record_line(db: sqlite_utils.Database, *, site_id: str, uuid: str) -> Row | None:

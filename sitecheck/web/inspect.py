@@ -7,8 +7,6 @@ once per client-made UUID: a second send of the same form shows the first result
 
 from __future__ import annotations
 
-import re
-
 from flask import (
     Blueprint,
     Response,
@@ -82,28 +80,21 @@ def survey_rank(bearing: dict) -> int:
     return SURVEY_RANK.get(bearing["state"], OTHER_RANK)
 
 
-def natural_key(text: str) -> tuple:
-    """GF-B2 before GF-B10: digits compared as numbers, the rest without case."""
-    return tuple(
-        (1, int(part), "") if part.isdigit() else (0, 0, part.lower())
-        for part in re.split(r"(\d+)", text)
-        if part
-    )
+# The same ranks for SQL: the survey list is put in order and searched by the store.
+SURVEY_RANKS = store.SurveyRanks(
+    first=SURVEY_RANK, other=OTHER_RANK, design_fails=DESIGN_FAILS_RANK
+)
 
 
 def survey_order(rows: list[dict]) -> list[dict]:
     """The bearings in survey order, each with ``order``: its place by reference alone,
-    which the phone keeps to rank them again as states change."""
-    by_reference = sorted(rows, key=lambda b: natural_key(b["reference"]))
+    which the phone keeps to rank them again as states change. ``rows`` come by reference
+    (as the store lists them), so references that read alike keep that order, as they do in
+    the store's survey list (store.survey_page)."""
+    by_reference = sorted(rows, key=lambda b: store.reference_order_key(b["reference"]))
     for n, b in enumerate(by_reference):
         b["order"] = n
     return sorted(by_reference, key=lambda b: (survey_rank(b), b["order"]))
-
-
-def matches(bearing: dict, query: str) -> bool:
-    """Every word of the search is in the reference or the location (level, grid, room)."""
-    text = f"{bearing['reference']} {bearing.get('location') or ''}".lower()
-    return all(word in text for word in query.lower().split())
 
 
 SURVEY_PAGE = 50  # bearings the online survey list shows at once
@@ -113,12 +104,21 @@ SURVEY_PAGE = 50  # bearings the online survey list shows at once
 @login_required
 def bearings(site_id):
     site, _role = site_for(site_id, "record")
-    # Every bearing's line (no design, no trace), to put the whole site in survey order and
-    # search it; one page of the matches is shown. The phone's offline list has them all.
-    rows = survey_order(store.bearing_lines(get_db(), site_id=site["id"]))
-    query, _words = search_words()
-    found = [b for b in rows if matches(b, query)] if query else rows
-    page = listing(len(found), SURVEY_PAGE)
+    # One page of the matches, put in survey order and searched in SQL: the page reads its
+    # own lines only. The phone's offline list has them all (the site pack).
+    query, words = search_words()
+    db = get_db()
+    with store.read_snapshot(db):
+        counts = store.survey_counts(db, site_id=site["id"], ranks=SURVEY_RANKS, words=words)
+        page = listing(counts.found, SURVEY_PAGE)
+        lines = store.survey_lines(
+            db,
+            site_id=site["id"],
+            ranks=SURVEY_RANKS,
+            words=words,
+            limit=page.size,
+            offset=page.offset,
+        )
     items = [
         {
             "id": b["id"],
@@ -135,20 +135,19 @@ def bearings(site_id):
                 else None
             ),
         }
-        for b in found[page.offset : page.offset + page.size]
+        for b in lines
     ]
-    to_survey = sum(1 for b in rows if survey_rank(b) < OTHER_RANK)
     looked_now([site["id"]])
     return render_page(
         "inspect/bearings.html",
         site=_site_summary(site),
         bearings=items,
-        to_survey=to_survey,
+        to_survey=counts.to_survey,
         query=query,
-        shown=len(found),
-        total=len(rows),
+        shown=counts.found,
+        total=counts.total,
         listing=page,
-        design_fails=sum(1 for b in rows if not b["design_passed"]),
+        design_fails=counts.design_fails,
     )
 
 
@@ -335,8 +334,6 @@ def _form_page(site, bearing, form, *, general=(), status=200):
     # With nothing measured yet, the fields the review would call "not measured" are the
     # ones a record needs to go straight to 'within design'.
     needed = set(missing_measurements(design, Measurements(), services.settings_for(site)))
-    rows = survey_order(store.bearing_lines(get_db(), site_id=site["id"]))
-    here = next((n for n, b in enumerate(rows) if b["id"] == bearing["id"]), 0)
     # The next bearings to measure after this one, in survey order, for the phone to offer
     # once this record is kept (it skips any it already holds unsent).
     upcoming = [
@@ -345,9 +342,14 @@ def _form_page(site, bearing, form, *, general=(), status=200):
             "reference": b["reference"],
             "url": url_for("inspect.record_form", site_id=site["id"], bearing_id=b["id"]),
         }
-        for b in rows[here + 1 :] + rows[:here]
-        if survey_rank(b) < OTHER_RANK
-    ][:NEXT_OFFERED]
+        for b in store.survey_next(
+            get_db(),
+            site_id=site["id"],
+            bearing_id=bearing["id"],
+            ranks=SURVEY_RANKS,
+            limit=NEXT_OFFERED,
+        )
+    ]
     return render_page(
         "inspect/record_form.html",
         status=status,

@@ -28,7 +28,8 @@ export function surveyOrder(bearings) {
   return [...bearings].sort((a, b) => rank(a) - rank(b) || a.order - b.order);
 }
 
-// The server's matches(): every word of the search in the reference or the location.
+// The server's search (sitecheck/store/survey.py): every word of the search in the reference
+// or the location.
 export function matches(text, query) {
   const haystack = String(text).toLowerCase();
   return String(query).toLowerCase().split(/\s+/).filter(Boolean).every((w) => haystack.includes(w));

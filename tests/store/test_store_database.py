@@ -38,6 +38,7 @@ def test_first_open_applies_every_migration_in_order(db):
         "m014_sign_offs",
         "m015_results_stored_once",
         "m016_record_job_kinds",
+        "m017_survey_order",
     ]
     assert store.MIGRATIONS.pending(db) == []
 
