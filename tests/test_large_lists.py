@@ -13,6 +13,7 @@ from datetime import UTC, datetime
 
 import pytest
 
+from kit.schedule_rows import schedule_row
 from sitecheck import services, store
 from sitecheck.schedule import DESIGN_COLUMNS
 
@@ -56,25 +57,11 @@ def _row(n: int) -> dict[str, str]:
     # A level in the local language on some, to search text Python lowers and SQLite's
     # own lower() would not.
     where = f"Étage {level}" if level % 5 == 4 else f"Level {level}"
-    return {
-        "reference": f"L{level:02d}-B{n % 20:02d}",
-        "location": f"{where}, grid {n % 20}",
-        "reaction_kN": str(30 + n % 7),
-        "flange_width": "133",
-        "bearing_length": "150",
-        "padstone_length": "440",
-        "padstone_width": "215",
-        "padstone_depth": "140",
-        "padstone_concrete": "C25/30",
-        "wall_thickness": "215",
-        "height_to_bearing": "2475",
-        "unit_material": "aggregate concrete",
-        "unit_group": "1",
-        "unit_strength": "7.3",
-        "unit_height": "215",
-        "unit_width": "215",
-        "mortar": "M4",
-    }
+    return schedule_row(
+        f"L{level:02d}-B{n % 20:02d}",
+        location=f"{where}, grid {n % 20}",
+        reaction_kN=str(30 + n % 7),
+    )
 
 
 @pytest.fixture

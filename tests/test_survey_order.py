@@ -19,6 +19,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from kit.schedule_rows import schedule_row
 from sitecheck import services, store
 from sitecheck.schedule import DESIGN_COLUMNS
 from sitecheck.web.inspect import NEXT_OFFERED
@@ -71,25 +72,11 @@ def test_the_key_orders_any_references_as_the_first_python_order_did(references)
 
 
 def _row(reference: str, reaction_kN: float = 30) -> dict[str, str]:
-    return {
-        "reference": reference,
-        "location": f"Level {reference[-1]}, grid {len(reference)}",
-        "reaction_kN": str(reaction_kN),
-        "flange_width": "133",
-        "bearing_length": "150",
-        "padstone_length": "440",
-        "padstone_width": "215",
-        "padstone_depth": "140",
-        "padstone_concrete": "C25/30",
-        "wall_thickness": "215",
-        "height_to_bearing": "2475",
-        "unit_material": "aggregate concrete",
-        "unit_group": "1",
-        "unit_strength": "7.3",
-        "unit_height": "215",
-        "unit_width": "215",
-        "mortar": "M4",
-    }
+    return schedule_row(
+        reference,
+        location=f"Level {reference[-1]}, grid {len(reference)}",
+        reaction_kN=str(reaction_kN),
+    )
 
 
 # References that read alike in parts (B7, b07), accents, digits past nine, and a design

@@ -18,6 +18,7 @@ from markupsafe import escape
 from werkzeug.datastructures import FileStorage
 from werkzeug.test import encode_multipart
 
+from kit.schedule_rows import schedule_row
 from kit.web import csrf_token, post
 from sitecheck import credentials, services, store, workflow
 from sitecheck.bearing import SOURCES, basis_from_dict
@@ -110,29 +111,6 @@ def schedule_text(rows: list[dict[str, str]]) -> str:
     writer.writeheader()
     writer.writerows(rows)
     return out.getvalue()
-
-
-def schedule_row(reference: str, **over) -> dict[str, str]:
-    row = {
-        "reference": reference,
-        "location": "invented wall",
-        "reaction_kN": "40",
-        "flange_width": "133",
-        "bearing_length": "150",
-        "padstone_length": "440",
-        "padstone_width": "215",
-        "padstone_depth": "140",
-        "padstone_concrete": "C25/30",
-        "wall_thickness": "215",
-        "height_to_bearing": "2475",
-        "unit_material": "aggregate concrete",
-        "unit_group": "1",
-        "unit_strength": "7.3",
-        "unit_height": "215",
-        "unit_width": "215",
-        "mortar": "M4",
-    }
-    return row | over
 
 
 def measure_as_designed(db, site, bearing, inspector_id) -> None:
