@@ -8,11 +8,10 @@ from __future__ import annotations
 
 import dataclasses
 import sqlite3
-import uuid
-from datetime import UTC, datetime
 
 import pytest
 
+from kit.data_folder import as_built_record
 from kit.web import csrf_token
 from sitecheck import services, store
 
@@ -54,27 +53,9 @@ def _same_pack(kept: dict, fresh: dict) -> None:
 
 
 def _record(client, site, bearing, **measured) -> dict:
-    d = bearing["design_input"]
-    body = {
-        "uuid": str(uuid.uuid4()),
-        "site_id": site["id"],
-        "bearing_id": bearing["id"],
-        "design_revision": bearing["revision"],
-        "measured_at": datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
-        "measurements": {
-            "bearing_length": d["beam"]["bearing_length"],
-            "padstone_present": True,
-            "padstone_length": 440,
-            "padstone_width": 215,
-            "padstone_depth": 140,
-            "wall_thickness": 215,
-            "masonry_group": 1,
-            "a1": d["wall"]["a1"],
-            **measured,
-        },
-        "checklist": {"bedded": True, "packing": 0, "cracks": False, "cut_units": False},
-        "notes": "Sent for the site pack test.",
-    }
+    body = as_built_record(site["id"], bearing, **measured)
+    body["checklist"]["cut_units"] = False
+    body["notes"] = "Sent for the site pack test."
     r = client.post("/api/records", json=body, headers={"X-CSRFToken": csrf_token(client)})
     assert r.status_code == 201, r.data[:300]
     return r.get_json()

@@ -49,8 +49,9 @@ def prepare_home(home: Path, *, inspectors: int = 1) -> dict:
     }
 
 
-def as_built_record(site_id: str, bearing: dict) -> dict:
-    """An as-built record as the phone sends it: invented values close to the design."""
+def as_built_record(site_id: str, bearing: dict, **measured) -> dict:
+    """An as-built record as the phone sends it: invented values close to the design;
+    ``measured`` replaces any measurement."""
     d = bearing["design_input"]
     return {
         "uuid": str(uuid.uuid4()),
@@ -67,6 +68,7 @@ def as_built_record(site_id: str, bearing: dict) -> dict:
             "wall_thickness": 215,
             "masonry_group": 1,
             "a1": d["wall"]["a1"],
+            **measured,
         },
         "checklist": {"bedded": True, "packing": 0, "cracks": False},
         "notes": "Sent by a test inspector.",
