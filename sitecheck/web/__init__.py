@@ -15,7 +15,7 @@ import time
 from pathlib import Path
 
 from flask import Flask, current_app, g, request
-from flask_wtf.csrf import CSRFError, CSRFProtect
+from flask_wtf.csrf import CSRFError
 from werkzeug.middleware.proxy_fix import ProxyFix
 
 from sitecheck import credentials, logs, services, store
@@ -24,8 +24,9 @@ from sitecheck.mail import MailSender, MailSettings
 from sitecheck.photos import PhotoStore, return_picture_memory_to_the_system
 from sitecheck.web import compress, jsonbody
 from sitecheck.web.assets import STATIC_DIR, TEMPLATE_DIR
+from sitecheck.web.cookies import CheckedCookieSessions, CheckedTokens
 
-csrf = CSRFProtect()
+csrf = CheckedTokens()
 request_log = logging.getLogger(logs.REQUEST_LOGGER)
 
 CSP = (
@@ -64,6 +65,7 @@ def create_app(
         static_url_path="/static",
     )
     settings.database.parent.mkdir(parents=True, exist_ok=True)
+    app.session_interface = CheckedCookieSessions()
     app.extensions["settings"] = settings
     app.config.update(
         DATA_HOME=str(settings.home),
