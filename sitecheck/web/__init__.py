@@ -258,29 +258,45 @@ def _log_request(response):
 
 def _security_headers(response):
     h = response.headers
-    h.setdefault("X-Content-Type-Options", "nosniff")
+    # A view may have set one of these itself (a stricter referrer policy): it keeps its own.
+    # One look at what is there, not one per header: every answer passes here.
+    present = {name.lower() for name, _value in h.items()}
+
+    def add(name: str, value: str) -> None:
+        if name.lower() not in present:
+            h.add(name, value)
+
+    add("X-Content-Type-Options", "nosniff")
     if current_app.config["SESSION_COOKIE_SECURE"]:
         # Secure cookies mean the app is served over HTTPS: keep browsers to it for a year,
         # so a phone on a site's open Wi-Fi is not talked down to plain HTTP. Every answer
         # says so, whichever the browser happens to fetch first.
-        h.setdefault("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
-    if request.path.startswith("/static/") or request.path == "/manifest.webmanifest":
+        add("Strict-Transport-Security", f"max-age={HSTS_MAX_AGE_S}")
+    path = request.path
+    if path.startswith("/static/") or path == "/manifest.webmanifest":
         # A script, style sheet, icon or manifest is not a document: the policies below are
         # read from the page (and the service worker's own script) only, and on each of the
         # phone's thirty-odd first-load files they cost about 450 bytes of 150 KB.
-        h.pop("Content-Disposition", None)
+        if "content-disposition" in present:
+            del h["Content-Disposition"]
         return response
-    h.setdefault("Content-Security-Policy", CSP)
-    h.setdefault("Referrer-Policy", "same-origin")
-    h.setdefault("X-Frame-Options", "DENY")
-    h.setdefault("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()")
-    if request.path == "/sw.js":
+    for name, value in _DOCUMENT_HEADERS:
+        add(name, value)
+    if path == "/sw.js":
         return response
     # A view that deliberately marks its response private (content-addressed photos) keeps
     # its own caching; everything else a logged-in user sees is not stored.
     if getattr(g, "user", None) is not None and not response.cache_control.private:
         h["Cache-Control"] = "no-store"
     return response
+
+
+_DOCUMENT_HEADERS = (
+    ("Content-Security-Policy", CSP),
+    ("Referrer-Policy", "same-origin"),
+    ("X-Frame-Options", "DENY"),
+    ("Permissions-Policy", "camera=(self), geolocation=(self), microphone=()"),
+)
 
 
 def _wake_mail_sender(response):
