@@ -188,7 +188,9 @@ def decoded(row: Row) -> Row:
     out = dict(row)
     for key, value in out.items():
         if key in JSON_COLUMNS and isinstance(value, str):
-            out[key] = json.loads(value)
+            # orjson reads the same JSON about four times as fast (every text column here
+            # was written by to_json, which refuses NaN and infinity: neither reader needs them).
+            out[key] = orjson.loads(value)
         elif key in JSON_COLUMNS and isinstance(value, bytes):
             out[key] = unpack_json(value)
         elif key in BOOL_COLUMNS and value is not None:
