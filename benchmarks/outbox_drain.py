@@ -21,12 +21,9 @@ import argparse
 import json
 import shutil
 import sqlite3
-import subprocess
 import sys
 import tempfile
 import time
-import urllib.error
-import urllib.request
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
@@ -35,6 +32,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))  # kit
 from kit.chromium import launch, phone  # noqa: E402
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
+from photo_memory import free_port, start_server  # noqa: E402
 
 TARGET_S = 60.0
 # In the page: shrink the camera photo once with the phone's code, then keep N records, each
@@ -86,32 +84,6 @@ QUEUE = """async ({count, siteId, seed}) => {
 }"""
 
 DRAINED = "() => document.querySelector('[data-unsent-count]').textContent === '0'"
-
-
-def free_port() -> int:
-    import socket
-
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
-def start_server(db_path: Path, port: int, log: Path) -> subprocess.Popen:
-    code = "from sitecheck.cli import main; raise SystemExit(main())"
-    args = [sys.executable, "-c", code, "serve", "--db", str(db_path), "--port", str(port)]
-    with open(log, "ab") as out:
-        proc = subprocess.Popen(args, stdout=out, stderr=subprocess.STDOUT)
-    deadline = time.monotonic() + 30
-    while time.monotonic() < deadline:
-        if proc.poll() is not None:
-            raise RuntimeError(f"the server exited; see {log}")
-        try:
-            with urllib.request.urlopen(f"http://127.0.0.1:{port}/login", timeout=2):
-                return proc
-        except (urllib.error.URLError, ConnectionError, TimeoutError):
-            time.sleep(0.1)
-    proc.kill()
-    raise RuntimeError("the server did not start in 30 s")
 
 
 def main() -> int:
