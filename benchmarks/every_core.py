@@ -42,11 +42,13 @@ import urllib.parse
 import urllib.request
 import uuid
 from dataclasses import dataclass, field
-from datetime import UTC, datetime
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "tests"))
+
+from kit.data_folder import as_built_record  # noqa: E402
 
 PASSWORD = "benchmark inspector pass"  # invented accounts of a throwaway data folder
 WARM_UP_S = 3.0
@@ -273,26 +275,7 @@ class Inspector:
 
 
 def record_body(site_id: str, bearing: dict) -> dict:
-    d = bearing["design_input"]
-    return {
-        "uuid": str(uuid.uuid4()),
-        "site_id": site_id,
-        "bearing_id": bearing["id"],
-        "design_revision": bearing["revision"],
-        "measured_at": datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
-        "measurements": {
-            "bearing_length": d["beam"]["bearing_length"],
-            "padstone_present": True,
-            "padstone_length": 440,
-            "padstone_width": 215,
-            "padstone_depth": 140,
-            "wall_thickness": 215,
-            "masonry_group": 1,
-            "a1": d["wall"]["a1"],
-        },
-        "checklist": {"bedded": True, "packing": 0, "cracks": False},
-        "notes": "Benchmark record.",
-    }
+    return {**as_built_record(site_id, bearing), "notes": "Benchmark record."}
 
 
 def multipart(data: bytes) -> tuple[bytes, str]:
