@@ -6,7 +6,6 @@ tests/browser/conftest.py.
 
 from __future__ import annotations
 
-import re
 import uuid
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -14,6 +13,7 @@ from datetime import UTC, datetime
 import pytest
 
 from kit.photo_samples import make_test_jpeg
+from kit.review_steps import login as log_in_as
 from kit.web import PASSWORD, new_site
 from sitecheck import credentials, services, store
 from sitecheck.demo import SITE_ADDRESS, SITE_NAME, schedule_csv
@@ -93,14 +93,7 @@ def site(db, people) -> dict:
 
 
 def login(client, person: Person) -> None:
-    page = client.get("/login")
-    token = (
-        re.search(rb'name="csrf_token" type="hidden" value="([^"]+)"', page.data).group(1).decode()
-    )
-    r = client.post(
-        "/login", data={"email": person.email, "password": PASSWORD, "csrf_token": token}
-    )
-    assert r.status_code == 302, r.data[:400]
+    log_in_as(client, person.email, PASSWORD)
 
 
 @pytest.fixture
