@@ -7,26 +7,8 @@ from datetime import UTC, datetime, timedelta
 
 import pytest
 
+from kit.review_steps import as_designed
 from sitecheck import services, store, workflow
-
-
-def _as_designed(bearing: dict) -> dict:
-    d = bearing["design_input"]
-    m = {
-        "bearing_length": d["beam"]["bearing_length"],
-        "padstone_present": d["padstone"] is not None,
-        "wall_thickness": d["wall"]["thickness"],
-        "masonry_group": d["masonry"]["group"],
-    }
-    if d["padstone"]:
-        m |= {
-            "padstone_length": d["padstone"]["length"],
-            "padstone_width": d["padstone"]["width"],
-            "padstone_depth": d["padstone"]["depth"],
-        }
-    if d["wall"]["a1"] is not None:
-        m["a1"] = d["wall"]["a1"]
-    return m
 
 
 def _record(db, site, people, reference, measured_at, **changes):
@@ -38,7 +20,7 @@ def _record(db, site, people, reference, measured_at, **changes):
         uuid=str(uuid.uuid4()),
         measured_at=measured_at.strftime("%Y-%m-%dT%H:%M:%SZ"),
         design_revision=bearing["revision"],
-        measurements=_as_designed(bearing) | changes,
+        measurements=as_designed(bearing) | changes,
         checklist={
             "bedded": True,
             "packing": 0.0,
