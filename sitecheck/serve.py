@@ -98,7 +98,7 @@ class _Gunicorn:
                 options = {
                     "bind": f"{s.host}:{s.port}",
                     "workers": s.worker_count(),
-                    "worker_class": "gthread",
+                    "worker_class": _thread_worker_class(),
                     "threads": s.threads,
                     # A site record made inside its request can take tens of seconds.
                     "timeout": 120,
@@ -137,6 +137,20 @@ class _Gunicorn:
 
     def run(self) -> None:
         self._app.run()
+
+
+def _thread_worker_class():
+    """gunicorn's threaded worker, its requests handed to the thread that went idle last
+    (sitecheck.serve_threads says why)."""
+    from gunicorn.workers.gthread import ThreadWorker
+
+    from sitecheck.serve_threads import LastIdleFirstPool
+
+    class WarmThreadWorker(ThreadWorker):
+        def get_thread_pool(self):
+            return LastIdleFirstPool(max_workers=self.cfg.threads)
+
+    return WarmThreadWorker
 
 
 def _worker_logs(json_lines: bool):
