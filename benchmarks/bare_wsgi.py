@@ -2,8 +2,8 @@
 
 A WSGI app that does nothing but what any app must: read the body the phone sent, and
 answer with a JSON body and as many headers as sitecheck's answer to a record has (its
-content type and length, Vary, the security headers, Cache-Control). Served by gunicorn
-with sitecheck's own options (``gthread``, a worker per core, the same threads), it shows
+content type and length, Vary, the security headers, Cache-Control). Served by gunicorn's
+threaded worker with sitecheck's counts (a worker per core, the same threads), it shows
 what the server costs per request before sitecheck does anything.
 """
 

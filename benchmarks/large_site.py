@@ -26,8 +26,8 @@ copy, on 127.0.0.1, and clients that log in as the site's people:
 - writes: --records as-built records without photo sent one after another on one kept-open
   connection, as the phone's outbox sends them; the server's CPU per record over the whole
   run, and the median over batches of 25. Baselines: the same requests to the HTTP server
-  alone (gunicorn with sitecheck's options around benchmarks/bare_wsgi.py, which only reads
-  the body and answers), and bare sqlite-utils inserts of the same row into a table of the
+  alone (gunicorn's threaded worker with sitecheck's counts around benchmarks/bare_wsgi.py,
+  which only reads the body and answers), and bare sqlite-utils inserts of the same row into a table of the
   same columns, one transaction each, in this process.
 
 The server's CPU is that of all its processes; its peak memory (VmHWM, the largest of
@@ -348,8 +348,10 @@ def cpu_ns(pids: list[int]) -> int:
 
 
 class BareServer:
-    """gunicorn with sitecheck's serving options around benchmarks/bare_wsgi.py: what the
-    HTTP server costs per request before the app does anything."""
+    """gunicorn's threaded worker, with sitecheck's counts of workers and threads, around
+    benchmarks/bare_wsgi.py: what the HTTP server costs per request before the app does
+    anything. (sitecheck's own worker differs only in which idle thread takes a request,
+    which costs a body this small next to nothing.)"""
 
     def __init__(self, work: Path):
         from sitecheck.config import load_settings
