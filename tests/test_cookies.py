@@ -113,3 +113,26 @@ def test_over_https_a_kept_token_still_needs_the_sites_own_referrer(client_as, s
     assert inspector.post("/api/records", json=body, headers=elsewhere, **https).status_code == 400
     own = {**headers, "Referer": "https://localhost/sites"}
     assert inspector.post("/api/records", json=body, headers=own, **https).status_code == 201
+
+
+def test_a_token_kept_by_one_app_is_refused_by_an_app_of_another_key(tmp_path):
+    # One checker serves every app of a process; a token signed with one key says nothing
+    # to an app of another, even where both sessions hold the same raw token.
+    from itsdangerous import URLSafeTimedSerializer
+
+    from sitecheck.web import create_app
+
+    raw = "0123456789abcdef0123456789abcdef01234567"
+    apps = [create_app(tmp_path / f"{n}.db", SECRET_KEY=f"key {n} of this test") for n in (1, 2)]
+    clients = []
+    for app in apps:
+        client = app.test_client()
+        with client.session_transaction() as session:
+            session["csrf_token"] = raw
+        clients.append(client)
+    token = URLSafeTimedSerializer("key 1 of this test", salt="wtf-csrf-token").dumps(raw)
+    for _ in range(2):  # the second answer comes from what the checker kept
+        answer = clients[0].post("/api/records", json={}, headers={"X-CSRFToken": token})
+        assert answer.status_code == 401  # past the token: refused as nobody logged in
+    refused = clients[1].post("/api/records", json={}, headers={"X-CSRFToken": token})
+    assert refused.status_code == 400

@@ -14,6 +14,7 @@ from __future__ import annotations
 import hmac
 import threading
 import time
+from collections.abc import Hashable
 from typing import Any
 
 from flask import Flask, Request, current_app, g, request, session
@@ -29,13 +30,14 @@ KEPT_MAX = 4096
 
 
 class _Kept:
-    """Texts found good, by text: what each decoded to and when it was signed."""
+    """Texts found good, by text (with the key that signed it, where one checker serves
+    apps of several keys): what each decoded to and when it was signed."""
 
     def __init__(self) -> None:
-        self._kept: dict[str, tuple[Any, int]] = {}
+        self._kept: dict[Hashable, tuple[Any, int]] = {}
         self._lock = threading.Lock()
 
-    def get(self, text: str, max_age: float | None) -> Any | None:
+    def get(self, text: Hashable, max_age: float | None) -> Any | None:
         found = self._kept.get(text)
         if found is None:
             return None
@@ -44,7 +46,7 @@ class _Kept:
             return None  # too old now (or from the future): checked in full, and refused
         return value
 
-    def keep(self, text: str, value: Any, signed_at: int) -> None:
+    def keep(self, text: Hashable, value: Any, signed_at: int) -> None:
         with self._lock:
             if len(self._kept) >= KEPT_MAX:
                 self._kept.clear()
@@ -101,17 +103,19 @@ class CheckedTokens(CSRFProtect):
         field = config["WTF_CSRF_FIELD_NAME"]
         token = self._header_token()
         own = session.get(field)
+        # One checker serves every app of the process (tests make many, each its own key).
+        signed = (config.get("WTF_CSRF_SECRET_KEY") or current_app.secret_key, token)
         # Forms carry their token in a field, which flask-wtf reads first: those go its way.
         fast = request.mimetype not in _FORM_TYPES and config["WTF_CSRF_TIME_LIMIT"] is None
         if fast and token and isinstance(own, str):
-            kept = self._kept.get(token, None)
+            kept = self._kept.get(signed, None)
             if isinstance(kept, str) and hmac.compare_digest(kept, own) and self._referrer_ok():
                 g.csrf_valid = True
                 return
         super().protect(apply_exemptions)
         if fast and token and isinstance(own, str) and g.get("csrf_valid"):
             # flask-wtf found this token good for this session's own token.
-            self._kept.keep(token, own, int(time.time()))
+            self._kept.keep(signed, own, int(time.time()))
 
     @staticmethod
     def _header_token() -> str | None:
