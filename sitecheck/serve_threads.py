@@ -99,6 +99,10 @@ class LastIdleFirstPool:
     def thread_count(self) -> int:
         return len(self._threads)
 
+    @property
+    def idle_count(self) -> int:
+        return len(self._idle)
+
     def _work(self, task: _Task | None) -> None:
         idle = _Idle()
         while task is not None:

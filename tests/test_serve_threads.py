@@ -30,6 +30,13 @@ def _shut_down(pool: LastIdleFirstPool) -> None:
     assert not [t.name for t in _threads() if t.is_alive()]
 
 
+def _all_idle(pool: LastIdleFirstPool) -> None:
+    deadline = time.monotonic() + WAIT_S
+    while pool.idle_count < pool.thread_count:
+        assert time.monotonic() < deadline, "a thread never went idle"
+        time.sleep(0.001)
+
+
 def _threads() -> list[threading.Thread]:
     return [t for t in threading.enumerate() if t.name.startswith("sitecheck-request")]
 
@@ -52,7 +59,10 @@ def _fill(pool: LastIdleFirstPool, count: int) -> None:
 def test_work_one_after_another_stays_on_the_thread_that_went_idle_last(pool):
     _fill(pool, 4)
     assert pool.thread_count == 4
-    used = {pool.submit(threading.get_ident).result(WAIT_S) for _ in range(40)}
+    used = set()
+    for _ in range(40):
+        _all_idle(pool)  # as when a phone's next request arrives over the network
+        used.add(pool.submit(threading.get_ident).result(WAIT_S))
     assert len(used) == 1
 
 
