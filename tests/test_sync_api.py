@@ -10,11 +10,12 @@ import json
 import re
 import threading
 import uuid
-from datetime import UTC, datetime
+from datetime import datetime
 from pathlib import Path
 
 import pytest
 
+from kit.data_folder import as_built_record
 from kit.photo_samples import DATETIME_ORIGINAL, EXIF_IFD, OFFSET_TIME_ORIGINAL, make_test_jpeg
 from kit.web import csrf_token
 from sitecheck import services, store, workflow
@@ -26,10 +27,6 @@ from sitecheck.web.record_form import CHECKLIST_FIELDS, MEASUREMENT_FIELDS
 SW = Path(__file__).resolve().parent.parent / "static" / "sw.js"
 
 
-def _now() -> str:
-    return datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
-
-
 @pytest.fixture
 def bearing(db, site):
     return store.bearing_by_reference(db, site_id=site["id"], reference="GF-B1-E")
@@ -37,26 +34,8 @@ def bearing(db, site):
 
 def _record(site, bearing, **changes) -> dict:
     """An as-built record as the phone sends it: invented values close to the design."""
-    d = bearing["design_input"]
-    body = {
-        "uuid": str(uuid.uuid4()),
-        "site_id": site["id"],
-        "bearing_id": bearing["id"],
-        "design_revision": bearing["revision"],
-        "measured_at": _now(),
-        "measurements": {
-            "bearing_length": d["beam"]["bearing_length"],
-            "padstone_present": True,
-            "padstone_length": 440,
-            "padstone_width": 215,
-            "padstone_depth": 140,
-            "wall_thickness": 215,
-            "masonry_group": 1,
-            "a1": d["wall"]["a1"],
-        },
-        "checklist": {"bedded": True, "packing": 0, "cracks": False},
-        "notes": "Sent from the unsent outbox.",
-    }
+    body = as_built_record(site["id"], bearing)
+    body["notes"] = "Sent from the unsent outbox."
     body.update(changes)
     return body
 
